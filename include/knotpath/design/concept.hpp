@@ -1,0 +1,37 @@
+#pragma once
+/// \file design/concept.hpp
+/// \brief The narrow interface between the homotopy and the storage of the
+/// (prepared: centred, scaled, weighted) design.
+///
+/// The tracer never touches the matrix itself. It asks a design operator for
+///  - sizes: rows(), cols();
+///  - the response side: response_correlations(c) = Z^T y, response_squared_norm() = y^T y;
+///  - Gram entries: squared_norm(j) = z_j^T z_j and cross_products(j, A, out)
+///    with out(i) = z_{A_i}^T z_j (what the factor needs to add column j);
+///  - one product per knot: direction_correlations(A, d, a) with a = Z^T (Z_A d).
+/// Dense, sparse and sufficient-statistics (Gram) designs implement these
+/// without the homotopy changing.
+
+#include <concepts>
+#include <span>
+
+#include "../detail/scalar.hpp"
+
+namespace knotpath {
+
+/// A design operator over prepared columns z_0..z_{q-1} and a prepared response y.
+template <class D>
+concept DesignOperator = requires(const D& design, Index j, std::span<const Index> active,
+                                  const Vector<typename D::Scalar>& coefficients,
+                                  Vector<typename D::Scalar>& out) {
+  typename D::Scalar;
+  { design.rows() } -> std::convertible_to<Index>;
+  { design.cols() } -> std::convertible_to<Index>;
+  { design.squared_norm(j) } -> std::convertible_to<typename D::Scalar>;
+  { design.response_squared_norm() } -> std::convertible_to<typename D::Scalar>;
+  design.response_correlations(out);
+  design.cross_products(j, active, out);
+  design.direction_correlations(active, coefficients, out);
+};
+
+}  // namespace knotpath

@@ -1,0 +1,160 @@
+#pragma once
+/// \file factor.hpp
+/// \brief Incrementally updated Cholesky factor of the active Gram matrix.
+///
+/// References:
+///  - G. H. Golub & C. F. Van Loan, Matrix Computations (4th ed., 2013),
+///    section 6.5 (updating matrix factorizations: appending a column,
+///    deleting a column and restoring the triangle with Givens rotations).
+///  - B. Efron, T. Hastie, I. Johnstone & R. Tibshirani (2004), "Least angle
+///    regression", Ann. Statist. 32(2), 407-499, section 7 (the active-set
+///    Cholesky updated one column at a time).
+///
+/// Invariant: with k = size(), the leading k x k block R of `r_` is upper
+/// triangular with positive diagonal and R^T R = G_A + ridge * I, the Gram
+/// matrix of the active columns in the order they were added (removals keep
+/// the relative order of the others).
+
+#include <algorithm>
+#include <stdexcept>
+
+#include "detail/scalar.hpp"
+
+namespace knotpath {
+
+/// Health of the factor: figures that warn when the active Gram matrix is
+/// close to singular.
+struct FactorHealth {
+  double smallest_pivot_ratio = 1.0;  ///< min_i R_ii / max_i R_ii (1 when empty)
+  double condition_estimate = 1.0;    ///< (max_i R_ii / min_i R_ii)^2, a cheap lower
+                                      ///< bound on the 2-norm condition number of G_A
+};
+
+/// Outcome of CholeskyFactor::add.
+struct AddOutcome {
+  bool added = false;        ///< false: the column is numerically dependent on the active set
+  double squared_sine = 0;   ///< new squared pivot / squared column norm, in [0, 1]
+};
+
+/// Cholesky factor R (G = R^T R) of the Gram matrix of an ordered active set,
+/// updated in O(k^2) per added or removed column; never refactorized.
+template <class Scalar>
+class CholeskyFactor {
+ public:
+  CholeskyFactor() = default;
+  /// Reserves room for `capacity` columns (no allocation until it is exceeded).
+  explicit CholeskyFactor(Index capacity) { reserve(capacity); }
+
+  /// Number of columns currently factored.
+  Index size() const noexcept { return size_; }
+
+  /// Makes room for `capacity` columns, keeping the current factor.
+  void reserve(Index capacity) {
+    if (capacity <= r_.rows()) return;
+    Matrix<Scalar> grown = Matrix<Scalar>::Zero(capacity, capacity);
+    grown.topLeftCorner(size_, size_) = r_.topLeftCorner(size_, size_);
+    r_.swap(grown);
+    work_.resize(capacity);
+  }
+
+  /// Appends a column whose inner products with the active columns are
+  /// `cross` (length size(), in factor order) and whose squared norm is
+  /// `diagonal`. One triangular solve, O(k^2). The column is refused (and
+  /// the factor left unchanged) when its squared pivot is <= tolerance *
+  /// diagonal, i.e. it is numerically in the span of the active columns.
+  template <class CrossVector>
+  AddOutcome add(const CrossVector& cross, const Scalar& diagonal, const Scalar& tolerance) {
+    if (cross.size() != size_) throw std::invalid_argument("CholeskyFactor::add: size mismatch");
+    if (size_ + 1 > r_.rows()) reserve(std::max<Index>(2 * r_.rows(), size_ + 1));
+    AddOutcome outcome;
+    if (!(diagonal > Scalar(0))) return outcome;
+    // Solve R^T w = cross (forward substitution on the lower triangle R^T).
+    auto w = work_.head(size_);
+    for (Index i = 0; i < size_; ++i) {
+      Scalar s = cross(i);
+      for (Index m = 0; m < i; ++m) s -= r_(m, i) * w(m);
+      w(i) = s / r_(i, i);
+    }
+    Scalar pivot2 = diagonal - w.squaredNorm();
+    outcome.squared_sine = detail::to_double(Scalar(pivot2 / diagonal));
+    if (!(pivot2 > tolerance * diagonal)) return outcome;
+    r_.col(size_).head(size_) = w;
+    r_(size_, size_) = detail::square_root(pivot2);
+    for (Index i = 0; i < size_; ++i) r_(size_, i) = Scalar(0);
+    ++size_;
+    outcome.added = true;
+    return outcome;
+  }
+
+  /// Removes the column at `position` (0-based, factor order) and restores the
+  /// triangle with Givens rotations, O(k^2).
+  void remove(Index position) {
+    if (position < 0 || position >= size_)
+      throw std::out_of_range("CholeskyFactor::remove: position out of range");
+    const Index k = size_;
+    // Shift the later columns left: R becomes upper Hessenberg from `position`.
+    for (Index c = position; c + 1 < k; ++c) r_.col(c).head(k) = r_.col(c + 1).head(k);
+    for (Index m = position; m + 1 < k; ++m) {
+      // Rotate rows m and m+1 to annihilate the subdiagonal entry (m+1, m).
+      const Scalar a = r_(m, m);
+      const Scalar b = r_(m + 1, m);
+      const Scalar rad = detail::square_root(Scalar(a * a + b * b));
+      const Scalar c = a / rad;
+      const Scalar s = b / rad;
+      r_(m, m) = rad;
+      r_(m + 1, m) = Scalar(0);
+      for (Index col = m + 1; col + 1 < k; ++col) {
+        const Scalar top = r_(m, col);
+        const Scalar bottom = r_(m + 1, col);
+        r_(m, col) = c * top + s * bottom;
+        r_(m + 1, col) = c * bottom - s * top;
+      }
+    }
+    r_.col(k - 1).head(k).setZero();
+    r_.row(k - 1).head(k).setZero();
+    --size_;
+  }
+
+  /// Solves (R^T R) x = rhs for x (two triangular solves, O(k^2)). `rhs` and
+  /// `x` have length size() and may be the same object.
+  template <class In, class Out>
+  void solve(const In& rhs, Out& x) const {
+    auto z = work_.head(size_);
+    for (Index i = 0; i < size_; ++i) {
+      Scalar s = rhs(i);
+      for (Index m = 0; m < i; ++m) s -= r_(m, i) * z(m);
+      z(i) = s / r_(i, i);
+    }
+    for (Index i = size_ - 1; i >= 0; --i) {
+      Scalar s = z(i);
+      for (Index m = i + 1; m < size_; ++m) s -= r_(i, m) * x(m);
+      x(i) = s / r_(i, i);
+    }
+  }
+
+  /// The current triangle R (size() x size()).
+  Matrix<Scalar> triangle() const { return r_.topLeftCorner(size_, size_); }
+
+  /// Health figures of the current factor.
+  FactorHealth health() const {
+    FactorHealth h;
+    if (size_ == 0) return h;
+    double lo = detail::to_double(detail::abs_value(r_(0, 0)));
+    double hi = lo;
+    for (Index i = 1; i < size_; ++i) {
+      double v = detail::to_double(detail::abs_value(r_(i, i)));
+      lo = std::min(lo, v);
+      hi = std::max(hi, v);
+    }
+    h.smallest_pivot_ratio = hi > 0 ? lo / hi : 0.0;
+    h.condition_estimate = lo > 0 ? (hi / lo) * (hi / lo) : std::numeric_limits<double>::infinity();
+    return h;
+  }
+
+ private:
+  Matrix<Scalar> r_;               // capacity x capacity; leading size_ block is R
+  mutable Vector<Scalar> work_;    // scratch for the triangular solves
+  Index size_ = 0;                 // number of factored columns
+};
+
+}  // namespace knotpath

@@ -1,0 +1,126 @@
+#pragma once
+/// \file options.hpp
+/// \brief The options of a path trace: a plain struct with documented
+/// defaults, validated in exactly one place (TraceOptions::validate).
+
+#include <cmath>
+#include <cstddef>
+#include <limits>
+#include <stdexcept>
+#include <string>
+#include <vector>
+
+#include "errors.hpp"
+
+namespace knotpath {
+
+/// Which homotopy to follow.
+enum class Variant {
+  lasso,        ///< a coefficient that reaches zero leaves the active set (exact lasso path)
+  least_angle,  ///< least angle regression: predictors only enter, never leave
+};
+
+/// Sign constraint on one coefficient.
+enum class SignConstraint {
+  none,         ///< the coefficient may take either sign
+  nonnegative,  ///< b_j >= 0 (the predictor may only enter with a positive sign)
+  nonpositive,  ///< b_j <= 0
+};
+
+/// Options of a path trace. Every field has a documented default; call
+/// validate() (the entry points do) to check them.
+///
+/// The objective traced for every penalty lambda >= 0 is
+///
+///     0.5 * sum_i w_i (y_i - b0 - x_i^T b)^2 + lambda * sum_j f_j s_j |b_j|
+///                                          + 0.5 * ridge * sum_j (s_j b_j)^2
+///
+/// with s_j the column scale (root weighted sum of squares of the centred
+/// column when standardize is on, else 1) and f_j the penalty factors.
+struct TraceOptions {
+  /// Lasso (with leave events) or least angle regression.
+  Variant variant = Variant::lasso;
+  /// Fit an unpenalized intercept (columns and response are centred).
+  bool fit_intercept = true;
+  /// Scale columns to unit length before tracing; coefficients are always
+  /// reported on the original scale.
+  bool standardize = true;
+  /// Per-predictor penalty factors f_j >= 0 (empty: all 1). f_j = 0 leaves the
+  /// predictor unpenalized (in the model at every penalty); f_j = +infinity
+  /// keeps it out of the model.
+  std::vector<double> penalty_factors;
+  /// Per-predictor sign constraints (empty: none). A single entry applies to
+  /// every predictor. Requires the lasso variant.
+  std::vector<SignConstraint> sign_constraints;
+  /// Ridge weight alpha2 >= 0 of the elastic net (0: plain lasso). Applies to
+  /// the standardized coefficients s_j b_j (see the objective above).
+  double ridge = 0.0;
+  /// Stop after this many knots (rows of the knot table after the start);
+  /// 0 means no limit.
+  std::size_t max_knots = 0;
+  /// Stop when the penalty would fall below this value (>= 0).
+  double min_penalty = 0.0;
+  /// Stop before the active set would grow beyond this size; 0 means no limit.
+  std::size_t max_active = 0;
+  /// A candidate column is held out as linearly dependent on the active set
+  /// when its new squared pivot is <= this tolerance times its squared norm
+  /// (the squared sine of its angle to the active span). A negative value
+  /// means automatic: 1e4 * machine epsilon of the scalar type (0 for exact
+  /// rational arithmetic).
+  double collinearity_tolerance = -1.0;
+  /// Events whose penalties differ by at most this fraction of the current
+  /// penalty are treated as simultaneous (one knot). Negative: automatic,
+  /// 1e3 * machine epsilon (0 for exact arithmetic).
+  double tie_tolerance = -1.0;
+  /// Safety bound on homotopy steps; 0 means automatic (8 * (n + p) + 100).
+  /// Hitting it is recorded as the stop reason, never silent.
+  std::size_t max_steps = 0;
+
+  /// Checks every field against the number of predictors `p` and throws
+  /// invalid_option naming the first bad field.
+  void validate(std::size_t p) const {
+    if (!penalty_factors.empty()) {
+      if (penalty_factors.size() != p)
+        throw invalid_option("penalty_factors", "has " + std::to_string(penalty_factors.size()) +
+                                                    " entries, expected " + std::to_string(p));
+      for (std::size_t j = 0; j < p; ++j) {
+        double f = penalty_factors[j];
+        if (std::isnan(f) || f < 0.0)
+          throw invalid_option("penalty_factors",
+                               "entry " + std::to_string(j) + " must be >= 0 (got " +
+                                   std::to_string(f) + ")");
+      }
+    }
+    if (!sign_constraints.empty() && sign_constraints.size() != 1 && sign_constraints.size() != p)
+      throw invalid_option("sign_constraints", "needs 1 or " + std::to_string(p) +
+                                                   " entries, got " +
+                                                   std::to_string(sign_constraints.size()));
+    if (variant == Variant::least_angle) {
+      for (SignConstraint c : sign_constraints)
+        if (c != SignConstraint::none)
+          throw invalid_option("sign_constraints",
+                               "sign constraints need the lasso variant (a constrained "
+                               "coefficient must leave when it reaches zero)");
+    }
+    if (!std::isfinite(ridge) || ridge < 0.0)
+      throw invalid_option("ridge", "must be finite and >= 0");
+    if (!std::isfinite(min_penalty) || min_penalty < 0.0)
+      throw invalid_option("min_penalty", "must be finite and >= 0");
+    if (std::isnan(collinearity_tolerance) || collinearity_tolerance >= 1.0)
+      throw invalid_option("collinearity_tolerance", "must be < 1 (negative for automatic)");
+    if (std::isnan(tie_tolerance) || tie_tolerance >= 1.0)
+      throw invalid_option("tie_tolerance", "must be < 1 (negative for automatic)");
+  }
+
+  /// Penalty factor of predictor j (1 when none were given).
+  double penalty_factor(std::size_t j) const {
+    return penalty_factors.empty() ? 1.0 : penalty_factors[j];
+  }
+  /// Sign constraint of predictor j.
+  SignConstraint sign_constraint(std::size_t j) const {
+    if (sign_constraints.empty()) return SignConstraint::none;
+    return sign_constraints.size() == 1 ? sign_constraints[0] : sign_constraints[j];
+  }
+};
+
+}  // namespace knotpath

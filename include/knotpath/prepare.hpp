@@ -1,0 +1,210 @@
+#pragma once
+/// \file prepare.hpp
+/// \brief From the user's data to the prepared problem the homotopy traces:
+/// weighted centring, scaling to unit length, penalty factors and sign
+/// constraints per column, exclusion of columns that cannot enter, and the
+/// back-transformation to the original scale.
+///
+/// With weights w_i >= 0 (rows of weight 0 are ignored), means m_j and the
+/// response mean are weighted; the prepared column is
+///     z_ij = sqrt(w_i) (x_ij - m_j) / s_j,
+/// with s_j = sqrt(sum_i w_i (x_ij - m_j)^2) when standardizing, else 1, and
+/// the prepared response is sqrt(w_i) (y_i - ybar). A coefficient b_j of the
+/// prepared problem maps back to beta_j = b_j / s_j on the original scale and
+/// the intercept is ybar - sum_j m_j beta_j. Without an intercept m_j = 0 and
+/// ybar = 0.
+
+#include <cmath>
+#include <limits>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "design/dense.hpp"
+#include "detail/scalar.hpp"
+#include "errors.hpp"
+#include "options.hpp"
+
+namespace knotpath {
+
+/// A predictor left out of the trace before it starts, and why.
+struct ExcludedPredictor {
+  Index predictor = 0;  ///< 0-based index in the user's design
+  std::string reason;   ///< e.g. "constant column", "all-zero column"
+};
+
+/// What the preparation did, in the terms the path and its queries need.
+template <class Scalar>
+struct Preparation {
+  Index observations = 0;       ///< rows given
+  Index used_observations = 0;  ///< rows with positive weight
+  Index predictors = 0;         ///< predictors given (p)
+  bool intercept = true;        ///< an intercept is fitted
+  bool standardized = true;     ///< columns were scaled to unit length
+  Scalar weight_sum{0};         ///< sum of weights (the number of rows when unweighted)
+  Scalar response_mean{0};      ///< weighted mean of y (0 without intercept)
+  Scalar total_sum_of_squares{0};  ///< weighted sum of squares of the centred response
+  Vector<Scalar> means;         ///< per predictor (0 without intercept or when excluded)
+  Vector<Scalar> scales;        ///< per predictor s_j (1 when excluded)
+  std::vector<Index> columns;   ///< prepared column k holds predictor columns[k] (ascending)
+  std::vector<double> penalty_factors;      ///< per prepared column f
+  std::vector<SignConstraint> constraints;  ///< per prepared column
+  std::vector<ExcludedPredictor> excluded;  ///< predictors left out up front
+};
+
+namespace detail {
+
+template <class Scalar>
+bool is_finite_value(const Scalar& x) {
+  if constexpr (is_exact_v<Scalar>)
+    return true;
+  else {
+    Scalar d = x - x;  // NaN for NaN and +-Inf
+    return d == d;
+  }
+}
+
+/// Root of sum_i w_i v_i^2, scaled by the largest |v_i| so that squares of
+/// values near the top of the floating range do not overflow.
+template <class Scalar, class Column, class Weights>
+Scalar weighted_norm(const Column& v, const Weights& w) {
+  Scalar top(0);
+  for (Index i = 0; i < v.size(); ++i) top = std::max<Scalar>(top, abs_value<Scalar>(v(i)));
+  if (top == Scalar(0)) return Scalar(0);
+  Scalar sum(0);
+  for (Index i = 0; i < v.size(); ++i) {
+    Scalar t = v(i) / top;
+    sum += w(i) * t * t;
+  }
+  return top * square_root<Scalar>(sum);
+}
+
+}  // namespace detail
+
+/// A prepared dense problem: the design operator and the preparation record.
+template <class Scalar>
+struct PreparedDense {
+  DenseDesign<Scalar> design;
+  Preparation<Scalar> preparation;
+};
+
+/// Prepares a dense design for tracing. `weights` may be empty (all 1).
+/// Throws invalid_data or invalid_option. Cost O(n p); memory one copy of X.
+template <class Scalar>
+PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                    const TraceOptions& options,
+                                    const Vector<Scalar>& weights = Vector<Scalar>()) {
+  const Index n = x.rows();
+  const Index p = x.cols();
+  options.validate(static_cast<std::size_t>(p));
+  if (y.size() != n)
+    throw invalid_data("the response has " + std::to_string(y.size()) + " values but the design has " +
+                       std::to_string(n) + " rows");
+  if (n == 0) throw invalid_data("the data have no rows");
+  if (weights.size() != 0 && weights.size() != n)
+    throw invalid_data("there are " + std::to_string(weights.size()) + " weights for " +
+                       std::to_string(n) + " rows");
+  for (Index i = 0; i < n; ++i) {
+    if (!detail::is_finite_value(y(i)))
+      throw invalid_data("the response is not finite at row " + std::to_string(i));
+    for (Index j = 0; j < p; ++j)
+      if (!detail::is_finite_value(x(i, j)))
+        throw invalid_data("the design is not finite at row " + std::to_string(i) + ", column " +
+                           std::to_string(j));
+  }
+  Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
+  std::vector<Index> rows;
+  for (Index i = 0; i < n; ++i) {
+    if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
+      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
+    if (w(i) > Scalar(0)) rows.push_back(i);
+  }
+  if (rows.empty()) throw invalid_data("no observation has a positive weight");
+  const Index m = static_cast<Index>(rows.size());
+
+  Preparation<Scalar> prep;
+  prep.observations = n;
+  prep.used_observations = m;
+  prep.predictors = p;
+  prep.intercept = options.fit_intercept;
+  prep.standardized = options.standardize;
+  prep.means = Vector<Scalar>::Zero(p);
+  prep.scales = Vector<Scalar>::Ones(p);
+
+  Vector<Scalar> wk(m), sqrt_w(m);
+  for (Index r = 0; r < m; ++r) {
+    wk(r) = w(rows[r]);
+    sqrt_w(r) = detail::square_root<Scalar>(wk(r));
+  }
+  prep.weight_sum = wk.sum();
+
+  // Weighted mean with one correction pass (the second pass removes most of
+  // the rounding error of the first when the mean is large).
+  auto weighted_mean = [&](auto&& value_at) {
+    Scalar mean(0);
+    for (Index r = 0; r < m; ++r) mean += wk(r) * value_at(r);
+    mean /= prep.weight_sum;
+    Scalar correction(0);
+    for (Index r = 0; r < m; ++r) correction += wk(r) * (value_at(r) - mean);
+    return Scalar(mean + correction / prep.weight_sum);
+  };
+
+  Vector<Scalar> yc(m);
+  if (options.fit_intercept)
+    prep.response_mean = weighted_mean([&](Index r) { return y(rows[r]); });
+  for (Index r = 0; r < m; ++r) yc(r) = y(rows[r]) - prep.response_mean;
+  {
+    Scalar norm = detail::weighted_norm<Scalar>(yc, wk);
+    prep.total_sum_of_squares = norm * norm;
+    if (!detail::is_finite_value(prep.total_sum_of_squares))
+      throw invalid_data("the response's sum of squares overflows; rescale the response");
+  }
+  for (Index r = 0; r < m; ++r) yc(r) *= sqrt_w(r);
+
+  Matrix<Scalar> z(m, p);
+  Index kept = 0;
+  Vector<Scalar> column(m);
+  for (Index j = 0; j < p; ++j) {
+    const double factor = options.penalty_factor(static_cast<std::size_t>(j));
+    bool constant = true, all_zero = true;
+    for (Index r = 0; r < m; ++r) {
+      const Scalar& v = x(rows[r], j);
+      if (v != x(rows[0], j)) constant = false;
+      if (v != Scalar(0)) all_zero = false;
+    }
+    if (all_zero) {
+      prep.excluded.push_back({j, "all-zero column"});
+      continue;
+    }
+    if (options.fit_intercept && constant) {
+      prep.excluded.push_back({j, "constant column (absorbed by the intercept)"});
+      continue;
+    }
+    if (std::isinf(factor)) {
+      prep.excluded.push_back({j, "infinite penalty factor"});
+      continue;
+    }
+    Scalar mean(0);
+    if (options.fit_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
+    for (Index r = 0; r < m; ++r) column(r) = x(rows[r], j) - mean;
+    Scalar scale(1);
+    if (options.standardize) {
+      scale = detail::weighted_norm<Scalar>(column, wk);
+      if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
+        prep.excluded.push_back({j, "column scale is zero or not representable"});
+        continue;
+      }
+    }
+    for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / scale;
+    prep.means(j) = mean;
+    prep.scales(j) = scale;
+    prep.columns.push_back(j);
+    prep.penalty_factors.push_back(factor);
+    prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
+    ++kept;
+  }
+  z.conservativeResize(m, kept);
+  return {DenseDesign<Scalar>(std::move(z), std::move(yc)), std::move(prep)};
+}
+
+}  // namespace knotpath

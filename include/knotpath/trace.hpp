@@ -1,0 +1,353 @@
+#pragma once
+/// \file trace.hpp
+/// \brief The least-angle homotopy and its lasso modification: every knot of
+/// the regularization path from lambda_max down to 0.
+///
+/// References:
+///  - B. Efron, T. Hastie, I. Johnstone & R. Tibshirani (2004), "Least angle
+///    regression", Annals of Statistics 32(2), 407-499 (the least angle walk
+///    and the lasso modification, section 3.1).
+///  - M. R. Osborne, B. Presnell & B. A. Turlach (2000), "A new approach to
+///    variable selection in least squares problems", IMA Journal of
+///    Numerical Analysis 20, 389-403 (the homotopy for the lasso).
+///  - H. Zou & T. Hastie (2005), "Regularization and variable selection via
+///    the elastic net", JRSS B 67(2), 301-320 (the ridge term).
+///
+/// Problem on the prepared columns z_j (see prepare.hpp), with penalty
+/// factors f_j and ridge weight a2:
+///     minimize 0.5 ||y - Z b||^2 + lambda sum_j f_j |b_j| + 0.5 a2 ||b||^2.
+/// State between knots: active set A (in factor order) with signs s_A, the
+/// correlations c = Z^T (y - Z b) - a2 b. Invariants (KKT):
+///     c_j = lambda f_j s_j for j in A;  |c_j| <= lambda f_j for j not in A
+/// (one-sided for sign-constrained predictors). Unpenalized predictors
+/// (f_j = 0) are in A from the start with c_j = 0.
+/// While A is fixed the solution moves along d = (Z_A^T Z_A + a2 I)^{-1} f_A s_A:
+///     b_A(lambda - g) = b_A(lambda) + g d,   c(lambda - g) = c(lambda) - g a,
+/// with a = Z^T Z_A d (a_j + a2 d_j on A). The next knot is the smallest
+/// step g > 0 at which an inactive |c_j| reaches (lambda - g) f_j (enter) or,
+/// in the lasso variant, an active coefficient reaches 0 (leave).
+///
+/// Simultaneous events (steps within the tie tolerance of the smallest one)
+/// happen at one knot, in this documented order: all leave events by
+/// ascending predictor index, then all enter events by ascending predictor
+/// index. Each is its own row of the knot table with the same penalty.
+/// A predictor that just left cannot re-enter at the same knot, and one
+/// whose column is numerically in the span of the active columns is held out
+/// (recorded in Path::held_out()) until the active set loses a member.
+/// Held out columns stay on the boundary (their correlation is lambda times
+/// a constant while A is fixed), so the KKT conditions hold throughout.
+
+#include <algorithm>
+#include <span>
+#include <vector>
+
+#include "design/concept.hpp"
+#include "design/dense.hpp"
+#include "detail/scalar.hpp"
+#include "factor.hpp"
+#include "options.hpp"
+#include "path.hpp"
+#include "prepare.hpp"
+
+namespace knotpath {
+
+namespace detail {
+
+template <class Scalar>
+struct Candidate {
+  Scalar step;        // g: distance in penalty from the current knot
+  bool leave;         // leave (true) or enter (false)
+  Index column;       // prepared column
+  int sign;           // entering sign, or sign of the leaving coefficient
+};
+
+}  // namespace detail
+
+/// Traces the path of a prepared problem. `design` is any DesignOperator over
+/// the prepared columns described by `prep` (prep.columns[k] is the user's
+/// index of column k). Cost per knot: one design.direction_correlations (O(n q)
+/// dense) plus O(k^2) for the factor and O(q) for the step search.
+template <DesignOperator Design>
+Path<typename Design::Scalar> trace_design(const Design& design,
+                                           const Preparation<typename Design::Scalar>& prep,
+                                           const TraceOptions& options) {
+  using Scalar = typename Design::Scalar;
+  options.validate(static_cast<std::size_t>(prep.predictors));
+  const Index q = design.cols();
+  const bool lasso = options.variant == Variant::lasso;
+  const Scalar zero(0);
+  const Scalar ridge(options.ridge);
+  const Scalar collinear_tol = detail::resolve_tolerance<Scalar>(options.collinearity_tolerance, 1e4);
+  const Scalar tie_tol = detail::resolve_tolerance<Scalar>(options.tie_tolerance, 1e3);
+  const std::size_t step_limit =
+      options.max_steps ? options.max_steps
+                        : 8 * static_cast<std::size_t>(design.rows() + q) + 100;
+
+  Vector<Scalar> factor_of(q);
+  for (Index k = 0; k < q; ++k) factor_of(k) = Scalar(prep.penalty_factors[static_cast<std::size_t>(k)]);
+
+  Vector<Scalar> b = Vector<Scalar>::Zero(q);   // coefficients of the prepared problem
+  Vector<Scalar> c(q);                          // correlations with the residual (ridge-adjusted)
+  Vector<Scalar> a(q);                          // Z^T Z_A d
+  design.response_correlations(c);
+  std::vector<Index> active;                    // factor order
+  std::vector<int> sign(static_cast<std::size_t>(q), 0);
+  std::vector<char> is_active(static_cast<std::size_t>(q), 0);
+  std::vector<char> blocked(static_cast<std::size_t>(q), 0);      // held out until a leave
+  std::vector<int> just_left(static_cast<std::size_t>(q), 0);     // sign it left with, at the last knot
+  CholeskyFactor<Scalar> factor(std::min<Index>(q, design.rows() + 1));
+  Vector<Scalar> cross, d, rhs, active_c;
+  Scalar rss = design.response_squared_norm();
+  std::vector<Knot<Scalar>> knots;
+  std::vector<HeldOut<Scalar>> held_out;
+  StopReason reason = StopReason::completed;
+  const Index usable_rank = prep.used_observations - (prep.intercept ? 1 : 0);
+
+  auto try_add = [&](Index j, const Scalar& lambda, Index step) -> bool {
+    design.cross_products(j, std::span<const Index>(active), cross);
+    const Scalar diag = design.squared_norm(j) + ridge;
+    AddOutcome outcome = factor.add(cross, diag, collinear_tol);
+    if (!outcome.added) {
+      blocked[static_cast<std::size_t>(j)] = 1;
+      held_out.push_back({step, lambda, prep.columns[static_cast<std::size_t>(j)],
+                          outcome.squared_sine,
+                          static_cast<Index>(active.size()) >= usable_rank});
+      return false;
+    }
+    active.push_back(j);
+    is_active[static_cast<std::size_t>(j)] = 1;
+    return true;
+  };
+
+  auto penalized_active = [&]() {
+    Index count = 0;
+    for (Index j : active)
+      if (factor_of(j) != zero) ++count;
+    return count;
+  };
+
+  auto record = [&](EventKind kind, const Scalar& lambda, Index column, int s) {
+    Knot<Scalar> knot;
+    knot.step = static_cast<Index>(knots.size());
+    knot.penalty = lambda;
+    knot.event = kind;
+    knot.sign = s;
+    knot.active = static_cast<Index>(active.size());
+    knot.rss = rss < zero ? zero : rss;
+    Scalar l1(0), fitted_mean_shift(0);
+    for (Index k : active) {
+      if (b(k) == zero) continue;
+      const Index j = prep.columns[static_cast<std::size_t>(k)];
+      const Scalar beta = b(k) / prep.scales(j);
+      knot.coefficients.emplace_back(j, beta);
+      l1 += factor_of(k) * detail::abs_value<Scalar>(b(k));
+      fitted_mean_shift += prep.means(j) * beta;
+    }
+    std::sort(knot.coefficients.begin(), knot.coefficients.end(),
+              [](const auto& x, const auto& y) { return x.first < y.first; });
+    knot.l1_norm = l1;
+    knot.intercept = prep.intercept ? Scalar(prep.response_mean - fitted_mean_shift) : zero;
+    if (column >= 0) {
+      knot.predictor = prep.columns[static_cast<std::size_t>(column)];
+      const double denom = std::sqrt(detail::to_double(design.squared_norm(column)) *
+                                     detail::to_double(knot.rss));
+      knot.correlation = denom > 0 ? detail::to_double(c(column)) / denom : 0.0;
+    }
+    knot.condition_estimate = factor.health().condition_estimate;
+    knots.push_back(std::move(knot));
+  };
+
+  // Unpenalized predictors: fitted (with the intercept) before the path starts.
+  {
+    std::vector<Index> unpenalized;
+    for (Index k = 0; k < q; ++k)
+      if (factor_of(k) == zero && try_add(k, zero, 0)) unpenalized.push_back(k);
+    if (!unpenalized.empty()) {
+      const Index m = static_cast<Index>(unpenalized.size());
+      Vector<Scalar> c0(m), b0(m);
+      for (Index i = 0; i < m; ++i) c0(i) = c(unpenalized[static_cast<std::size_t>(i)]);
+      factor.solve(c0, b0);
+      for (Index i = 0; i < m; ++i) b(unpenalized[static_cast<std::size_t>(i)]) = b0(i);
+      // RSS after the fit: ||y||^2 - b.c0 - a2 ||b||^2 (normal equations).
+      rss -= b0.dot(c0) + ridge * b0.squaredNorm();
+      design.direction_correlations(std::span<const Index>(active), b0, a);
+      c -= a;
+      for (Index k : unpenalized) c(k) = zero;
+    }
+  }
+  // Held-out notes at the start carry penalty 0; fix them after lambda_max is known.
+  const std::size_t held_at_start = held_out.size();
+
+  auto may_enter_with = [&](Index k, int s) {
+    SignConstraint constraint = prep.constraints[static_cast<std::size_t>(k)];
+    if (constraint == SignConstraint::nonnegative) return s > 0;
+    if (constraint == SignConstraint::nonpositive) return s < 0;
+    return true;
+  };
+
+  Scalar lambda(0);
+  for (Index k = 0; k < q; ++k) {
+    if (is_active[static_cast<std::size_t>(k)] || blocked[static_cast<std::size_t>(k)]) continue;
+    for (int s : {+1, -1}) {
+      if (!may_enter_with(k, s)) continue;
+      const Scalar level = Scalar(s) * c(k) / factor_of(k);
+      if (level > lambda) lambda = level;
+    }
+  }
+  for (std::size_t i = 0; i < held_at_start; ++i) held_out[i].penalty = lambda;
+  record(EventKind::start, lambda, -1, 0);
+
+  std::vector<detail::Candidate<Scalar>> candidates;
+  std::size_t steps = 0;
+  while (true) {
+    if (++steps > step_limit) {
+      reason = StopReason::step_limit;
+      record(EventKind::stop, lambda, -1, 0);
+      break;
+    }
+    const Index k_active = static_cast<Index>(active.size());
+    rhs.resize(k_active);
+    d.resize(k_active);
+    for (Index i = 0; i < k_active; ++i) {
+      const Index j = active[static_cast<std::size_t>(i)];
+      rhs(i) = factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
+    }
+    factor.solve(rhs, d);
+    design.direction_correlations(std::span<const Index>(active), d, a);
+
+    // Candidate events at distance g below the current penalty.
+    candidates.clear();
+    for (Index k = 0; k < q; ++k) {
+      const auto ku = static_cast<std::size_t>(k);
+      if (is_active[ku] || blocked[ku]) continue;
+      for (int s : {+1, -1}) {
+        if (!may_enter_with(k, s)) continue;
+        // A predictor that just left moves strictly inside the boundary on the
+        // side it left from for the whole next segment (it left because its
+        // coefficient, not its correlation, reached zero), so only the opposite
+        // side can be reached there; skipping it avoids a rounding-level
+        // step straight back in.
+        if (just_left[ku] == s) continue;
+        // s (c_k - g a_k) = (lambda - g) f_k  =>  g = (lambda f_k - s c_k) / (f_k - s a_k);
+        // the boundary is approached only when f_k - s a_k > 0.
+        const Scalar denom = factor_of(k) - Scalar(s) * a(k);
+        if (!(denom > zero)) continue;
+        Scalar g = (lambda * factor_of(k) - Scalar(s) * c(k)) / denom;
+        if (g < zero) g = zero;  // already on the boundary (ties, rounding): enters now
+        if (g < lambda) candidates.push_back({g, false, k, s});
+      }
+    }
+    for (Index i = 0; i < k_active; ++i) {
+      const Index k = active[static_cast<std::size_t>(i)];
+      if (factor_of(k) == zero) continue;
+      const bool must_leave = lasso || prep.constraints[static_cast<std::size_t>(k)] != SignConstraint::none;
+      if (!must_leave) continue;
+      if (b(k) * d(i) < zero) {
+        const Scalar g = -b(k) / d(i);
+        if (g < lambda) candidates.push_back({g, true, k, detail::sign_of(b(k))});
+      }
+    }
+    std::fill(just_left.begin(), just_left.end(), 0);
+
+    Scalar g_min = lambda;
+    for (const auto& cand : candidates) g_min = std::min<Scalar>(g_min, cand.step);
+    const bool reaches_end = !(g_min < lambda - tie_tol * lambda) || candidates.empty();
+    Scalar g = reaches_end ? lambda : g_min;
+    bool stop_here = false;
+    if (lambda - g < Scalar(options.min_penalty)) {
+      g = lambda - Scalar(options.min_penalty);
+      if (g < zero) g = zero;  // lambda_max itself is below the minimum penalty
+      stop_here = true;
+    }
+
+    // Advance along the segment.
+    if (g > zero) {
+      active_c.resize(k_active);
+      for (Index i = 0; i < k_active; ++i) active_c(i) = c(active[static_cast<std::size_t>(i)]);
+      Vector<Scalar> b_active(k_active);
+      for (Index i = 0; i < k_active; ++i) b_active(i) = b(active[static_cast<std::size_t>(i)]);
+      // ||r - g u||^2 with u = Z_A d: u.r = d.(c_A + a2 b_A), u.u = d.rhs - a2 ||d||^2.
+      const Scalar u_dot_r = d.dot(active_c) + ridge * d.dot(b_active);
+      const Scalar u_dot_u = d.dot(rhs) - ridge * d.squaredNorm();
+      rss += g * (g * u_dot_u - Scalar(2) * u_dot_r);
+      for (Index i = 0; i < k_active; ++i) b(active[static_cast<std::size_t>(i)]) += g * d(i);
+      c -= g * a;
+      lambda -= g;
+      if (reaches_end && !stop_here) lambda = zero;
+      for (Index j : active)
+        c(j) = lambda * factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
+    }
+    if (stop_here) {
+      reason = StopReason::min_penalty;
+      record(EventKind::stop, lambda, -1, 0);
+      break;
+    }
+    if (reaches_end) {
+      lambda = zero;
+      record(EventKind::end, lambda, -1, 0);
+      break;
+    }
+
+    // Events at this knot: leaves (ascending index), then entries (ascending index).
+    std::vector<detail::Candidate<Scalar>> events;
+    for (const auto& cand : candidates)
+      if (cand.step <= g_min + tie_tol * (lambda + g_min)) events.push_back(cand);
+    std::sort(events.begin(), events.end(), [](const auto& x, const auto& y) {
+      if (x.leave != y.leave) return x.leave;
+      return x.column < y.column;
+    });
+    bool halted = false;
+    for (const auto& ev : events) {
+      const auto ku = static_cast<std::size_t>(ev.column);
+      if (ev.leave) {
+        auto pos = std::find(active.begin(), active.end(), ev.column);
+        factor.remove(static_cast<Index>(pos - active.begin()));
+        active.erase(pos);
+        is_active[ku] = 0;
+        b(ev.column) = zero;
+        just_left[ku] = ev.sign;
+        std::fill(blocked.begin(), blocked.end(), 0);  // the span shrank: retry held-out columns
+        record(EventKind::leave, lambda, ev.column, ev.sign);
+      } else {
+        if (is_active[ku] || blocked[ku]) continue;  // the other sign of the same column
+        if (options.max_active != 0 && factor_of(ev.column) != zero &&
+            static_cast<std::size_t>(penalized_active()) >= options.max_active) {
+          reason = StopReason::max_active;
+          record(EventKind::stop, lambda, -1, 0);
+          halted = true;
+          break;
+        }
+        if (try_add(ev.column, lambda, static_cast<Index>(knots.size()))) {
+          sign[ku] = ev.sign;
+          c(ev.column) = lambda * factor_of(ev.column) * Scalar(ev.sign);
+          record(EventKind::enter, lambda, ev.column, ev.sign);
+        }
+      }
+      if (options.max_knots != 0 && knots.size() - 1 >= options.max_knots) {
+        reason = StopReason::max_knots;
+        record(EventKind::stop, lambda, -1, 0);
+        halted = true;
+        break;
+      }
+    }
+    if (halted) break;
+  }
+
+  return Path<Scalar>(prep, options, std::move(knots), std::move(held_out), reason, ridge);
+}
+
+/// Traces the lasso (or least angle) path of y on the columns of x.
+///
+/// Objective at penalty lambda (see DESIGN notes and TraceOptions):
+///     0.5 sum_i w_i (y_i - b0 - x_i^T beta)^2 + lambda sum_j f_j s_j |beta_j|
+///                                              + 0.5 ridge sum_j (s_j beta_j)^2.
+/// `weights` may be empty (all 1). Throws invalid_option or invalid_data.
+/// Cost: about one least-squares fit, O(n p k) for k knots with a dense design.
+template <class Scalar>
+Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
+                   const Vector<Scalar>& weights = Vector<Scalar>()) {
+  PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, options, weights);
+  return trace_design(prepared.design, prepared.preparation, options);
+}
+
+}  // namespace knotpath
