@@ -217,13 +217,14 @@ inline Vector<double> coordinate_descent(const Matrix<double>& z, const Vector<d
 }
 
 /// Largest violation of the lasso KKT conditions on the prepared scale,
-/// relative to lambda (or to max |Z^T y| when lambda = 0):
+/// relative to lambda, floored at 1e-4 max_j |z_j^T y| (about 1e-4 lambda_max)
+/// so that the figure stays meaningful as lambda goes to 0:
 ///   active: z_j^T r - ridge b_j = lambda f_j sign(b_j);  inactive: |z_j^T r| <= lambda f_j.
 inline double kkt_violation(const Matrix<double>& z, const Vector<double>& y, const Vector<double>& b,
                             double lambda, const std::vector<double>& factors = {}, double ridge = 0.0,
                             const std::vector<int>& signs = {}) {
   Vector<double> c = z.transpose() * (y - z * b) - ridge * b;
-  const double scale = std::max(lambda, 1e-300 + (z.transpose() * y).cwiseAbs().maxCoeff() * 1e-12);
+  const double scale = std::max(lambda, 1e-300 + (z.transpose() * y).cwiseAbs().maxCoeff() * 1e-4);
   double worst = 0;
   for (Index j = 0; j < z.cols(); ++j) {
     if (z.col(j).squaredNorm() == 0) continue;
