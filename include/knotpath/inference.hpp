@@ -1,0 +1,404 @@
+#pragma once
+/// \file inference.hpp
+/// \brief Significance of each entry along the path: the covariance test
+/// statistic with its p-value, and the spacing test p-value of each
+/// least-angle step.
+///
+/// References:
+///  - R. Lockhart, J. Taylor, R. J. Tibshirani & R. Tibshirani (2014), "A
+///    significance test for the lasso", Annals of Statistics 42(2), 413-468
+///    (the covariance test; Exp(1) null limit, Theorem 1 for orthogonal
+///    designs and Theorem 3 in general; the F(2, n - p) reference when the
+///    noise variance is estimated from the full least-squares fit).
+///  - R. J. Tibshirani, J. Taylor, R. Lockhart & R. Tibshirani (2016), "Exact
+///    post-selection inference for sequential regression procedures", Journal
+///    of the American Statistical Association 111, 600-620 (the spacing test
+///    for least angle regression; exact at the first step).
+///
+/// What it computes. Both tests work on the prepared problem of the path
+/// (centred and, by default, unit-length columns z_j and centred response y).
+///
+/// Covariance test, for a predictor entering the lasso path at knot lambda_k
+/// with active set A just before it and next knot lambda_{k+1}:
+///     T_k = ( <y, Z b(lambda_{k+1})> - <y, Z_A bA(lambda_{k+1})> ) / sigma^2,
+/// where b is the lasso solution of the path and bA the lasso solution that
+/// uses only the predictors of A (traced here exactly, from the reduced
+/// problem's own path). With sigma^2 known, the p-value is P(Exp(1) > T_k) =
+/// exp(-T_k). With sigma^2 estimated by the full least-squares fit's residual
+/// variance on d = n - p - 1 (without intercept n - p) degrees of freedom,
+/// the p-value is P(F(2, d) > T_k) = (1 + 2 T_k / d)^(-d/2).
+///
+/// Spacing test, for least-angle step k (active set A_{k-1} -> A_k, signs s):
+/// with u_k = Z_A (Z_A^T Z_A)^{-1} s_A of the active set after step k and
+/// omega_k = || u_k - u_{k-1} ||, the knot is lambda_k = v^T y for a contrast
+/// v with ||v|| = 1/omega_k, and under the null (v^T E y = 0) the standardized
+/// knot lambda_k omega_k / sigma is a standard normal truncated to
+/// [lambda_{k+1} omega_k / sigma, lambda_{k-1} omega_k / sigma] (lambda_0 =
+/// +infinity). The p-value is its upper tail probability
+///     p_k = [Q(lambda_k w) - Q(lambda_{k-1} w)] / [Q(lambda_{k+1} w) - Q(lambda_{k-1} w)],
+/// w = omega_k / sigma, Q the standard normal upper tail. Q underflows beyond
+/// about 38, so every tail is evaluated as a logarithm (a continued fraction
+/// for the Mills ratio Q(x)/phi(x) for large x) and differences as
+/// log Q(a) + log(1 - exp(log Q(b) - log Q(a))): no 0/0.
+///
+/// Assumptions and limits. Both tests assume y = X beta + Gaussian noise of
+/// constant variance with a fixed design; the p-values are valid only under
+/// that model (exactly for the first spacing step, asymptotically
+/// otherwise), and only for the question each test asks (does the entering
+/// predictor improve on the current active set). Supported: the plain lasso
+/// (covariance test) and least-angle steps (spacing test: every step of a
+/// least-angle path; the steps of a lasso path before its first leave event,
+/// where the two paths agree), unweighted data, all penalty factors 1, no
+/// sign constraints, no ridge. Anything else throws invalid_option.
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <numbers>
+#include <span>
+#include <string>
+#include <vector>
+
+#include <Eigen/Cholesky>
+
+#include "design/concept.hpp"
+#include "detail/scalar.hpp"
+#include "errors.hpp"
+#include "options.hpp"
+#include "path.hpp"
+#include "prepare.hpp"
+#include "select.hpp"
+#include "trace.hpp"
+
+namespace knotpath {
+
+/// Options of entry_significance().
+struct InferenceOptions {
+  /// Noise variance sigma^2 > 0; negative: estimate it from the full
+  /// least-squares fit (needs more rows than predictors plus intercept).
+  double noise_variance = -1.0;
+
+  void validate() const {
+    if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
+      throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
+  }
+};
+
+/// Significance of one entry (an enter row of the knot table). Values that a
+/// test does not define for this entry are NaN, with the reason in `note`.
+struct EntrySignificance {
+  Index step = 0;                 ///< knot-table step of the enter row
+  Index predictor = 0;            ///< user's 0-based index
+  int sign = 0;                   ///< sign it entered with
+  double penalty = 0;             ///< lambda_k
+  double next_penalty = 0;        ///< lambda_{k+1} (NaN when the path stops first)
+  double covariance_statistic = std::numeric_limits<double>::quiet_NaN();  ///< T_k
+  double covariance_p_value = std::numeric_limits<double>::quiet_NaN();    ///< Exp(1) or F(2, d)
+  double spacing_p_value = std::numeric_limits<double>::quiet_NaN();       ///< p_k
+  double omega = std::numeric_limits<double>::quiet_NaN();                 ///< omega_k
+  std::string note;               ///< why a value is missing (empty when none is)
+};
+
+/// The tests along one path.
+struct Significance {
+  std::vector<EntrySignificance> entries;  ///< one per enter row, in path order
+  double noise_variance = 0;               ///< sigma^2 used
+  Index residual_df = 0;                   ///< d of the estimate; 0 when sigma^2 was given
+};
+
+namespace detail {
+
+/// log Q(x), Q the standard normal upper tail, accurate and finite for every
+/// finite x (no underflow: for x >= 5, log phi(x) + log of the Mills ratio
+/// by its continued fraction R(x) = 1/(x + 1/(x + 2/(x + 3/(x + ...))))).
+inline double log_upper_tail(double x) {
+  if (std::isnan(x)) return x;
+  if (x == std::numeric_limits<double>::infinity()) return -std::numeric_limits<double>::infinity();
+  if (x < 5.0) return std::log(0.5 * std::erfc(x / std::numbers::sqrt2));
+  // Backward evaluation of the continued fraction; 120 terms reach double
+  // precision at x = 5 and converge faster beyond.
+  double tail = x;
+  for (int k = 120; k >= 1; --k) tail = x + k / tail;
+  const double log_mills = -std::log(tail);
+  return -0.5 * x * x - 0.5 * std::log(2.0 * std::numbers::pi) + log_mills;
+}
+
+/// log(Q(a) - Q(b)) = log P(a < Z < b) for a < b (b may be +infinity);
+/// -infinity when a == b.
+inline double log_gaussian_interval(double a, double b) {
+  if (!(a < b)) return -std::numeric_limits<double>::infinity();
+  if (b <= 0.0) return log_gaussian_interval(-b, -a);  // symmetry: keep the tails small
+  if (a < 0.0) {
+    // The interval holds 0: Phi(b) - Phi(a) by erf has no cancellation.
+    const double bb = std::isinf(b) ? 1.0 : std::erf(b / std::numbers::sqrt2);
+    return std::log(0.5 * (bb - std::erf(a / std::numbers::sqrt2)));
+  }
+  const double la = log_upper_tail(a), lb = log_upper_tail(b);
+  return la + std::log(-std::expm1(lb - la));
+}
+
+/// P(Z > z | lower < Z < upper) for a standard normal Z (upper may be
+/// +infinity), as a ratio of logs of Gaussian interval probabilities.
+inline double truncated_gaussian_upper_tail(double z, double lower, double upper) {
+  if (!(lower < upper)) return std::numeric_limits<double>::quiet_NaN();
+  z = std::clamp(z, lower, upper);
+  const double numerator = log_gaussian_interval(z, upper);
+  const double denominator = log_gaussian_interval(lower, upper);
+  if (std::isinf(numerator) && numerator < 0) return 0.0;
+  return std::min(1.0, std::exp(numerator - denominator));
+}
+
+/// P(F(2, d) > t) = (1 + 2 t / d)^(-d/2), in logs for large d.
+inline double f2_upper_tail(double t, double d) {
+  if (t <= 0) return 1.0;
+  return std::exp(-0.5 * d * std::log1p(2.0 * t / d));
+}
+
+/// A view of some columns of a design operator (for the reduced problems).
+template <DesignOperator Base>
+class ColumnSubset {
+ public:
+  using Scalar = typename Base::Scalar;
+  ColumnSubset(const Base& base, std::vector<Index> columns) : base_(base), cols_(std::move(columns)) {}
+
+  Index rows() const { return base_.rows(); }
+  Index cols() const { return static_cast<Index>(cols_.size()); }
+  Scalar squared_norm(Index j) const { return base_.squared_norm(cols_[static_cast<std::size_t>(j)]); }
+  Scalar response_squared_norm() const { return base_.response_squared_norm(); }
+  void response_correlations(Vector<Scalar>& out) const {
+    base_.response_correlations(full_);
+    gather(out);
+  }
+  void cross_products(Index j, std::span<const Index> active, Vector<Scalar>& out) const {
+    map(active);
+    base_.cross_products(cols_[static_cast<std::size_t>(j)], std::span<const Index>(mapped_), out);
+  }
+  void direction_correlations(std::span<const Index> active, const Vector<Scalar>& d,
+                              Vector<Scalar>& out) const {
+    map(active);
+    base_.direction_correlations(std::span<const Index>(mapped_), d, full_);
+    gather(out);
+  }
+
+ private:
+  void map(std::span<const Index> active) const {
+    mapped_.clear();
+    for (Index a : active) mapped_.push_back(cols_[static_cast<std::size_t>(a)]);
+  }
+  void gather(Vector<Scalar>& out) const {
+    out.resize(cols());
+    for (Index i = 0; i < cols(); ++i) out(i) = full_(cols_[static_cast<std::size_t>(i)]);
+  }
+  const Base& base_;
+  std::vector<Index> cols_;
+  mutable std::vector<Index> mapped_;
+  mutable Vector<Scalar> full_;
+};
+
+}  // namespace detail
+
+/// Covariance and spacing tests for every entry of `path`, whose prepared
+/// problem is `design` (the operator the path was traced with, or one
+/// equivalent to it). `noise_variance` is sigma^2; `residual_df` > 0 says it
+/// was estimated on that many degrees of freedom (covariance p-values then
+/// use F(2, residual_df)); 0 says it is known. Throws invalid_option for an
+/// unsupported path (see the file comment). Cost: one reduced path of at
+/// most k columns per entry, O(k^3) for the spacing test's omega.
+template <DesignOperator Design>
+Significance entry_significance(const Design& design, const Path<typename Design::Scalar>& path,
+                                double noise_variance, Index residual_df = 0) {
+  using Scalar = typename Design::Scalar;
+  const TraceOptions& options = path.options();
+  const Preparation<Scalar>& prep = path.preparation();
+  if (!(noise_variance > 0.0) || !std::isfinite(noise_variance))
+    throw invalid_option("noise_variance", "must be finite and > 0");
+  if (options.ridge != 0.0)
+    throw invalid_option("ridge", "the significance tests are for the plain lasso (ridge = 0)");
+  for (double f : prep.penalty_factors)
+    if (f != 1.0)
+      throw invalid_option("penalty_factors",
+                           "the significance tests assume every predictor is penalized equally "
+                           "(all penalty factors 1)");
+  for (SignConstraint c : prep.constraints)
+    if (c != SignConstraint::none)
+      throw invalid_option("sign_constraints", "the significance tests assume no sign constraints");
+  if (design.cols() != static_cast<Index>(prep.columns.size()))
+    throw invalid_query("the design does not match the path's prepared columns");
+
+  const double sigma = std::sqrt(noise_variance);
+  const bool lasso = options.variant == Variant::lasso;
+  std::vector<Index> position(static_cast<std::size_t>(prep.predictors), -1);
+  for (std::size_t k = 0; k < prep.columns.size(); ++k)
+    position[static_cast<std::size_t>(prep.columns[k])] = static_cast<Index>(k);
+  Vector<Scalar> c0;
+  design.response_correlations(c0);
+  // <y, Z b> of an original-scale solution: sum_j c0_j s_j beta_j.
+  auto fitted_inner = [&](const Solution<Scalar>& s) {
+    Scalar sum(0);
+    for (Index j = 0; j < s.coefficients.size(); ++j)
+      if (s.coefficients(j) != Scalar(0))
+        sum += c0(position[static_cast<std::size_t>(j)]) * prep.scales(j) * s.coefficients(j);
+    return sum;
+  };
+
+  Significance out;
+  out.noise_variance = noise_variance;
+  out.residual_df = residual_df;
+  const auto& knots = path.knots();
+  const double inf = std::numeric_limits<double>::infinity();
+  std::vector<std::pair<Index, int>> active;  // prepared column and sign, in entry order
+  double previous_group = inf;                 // lambda_{k-1}
+  bool left_before = false;
+  std::size_t r = 0;
+  while (r < knots.size()) {
+    const auto is_event = [&](std::size_t i) {
+      return knots[i].event == EventKind::enter || knots[i].event == EventKind::leave;
+    };
+    if (!is_event(r)) {
+      ++r;
+      continue;
+    }
+    // The group of events at this knot.
+    std::size_t end = r;
+    while (end < knots.size() && is_event(end) && knots[end].penalty == knots[r].penalty) ++end;
+    const double lambda = detail::to_double(knots[r].penalty);
+    double next = std::numeric_limits<double>::quiet_NaN();
+    std::string next_note;
+    for (std::size_t i = end; i < knots.size(); ++i) {
+      if (knots[i].penalty == knots[r].penalty) continue;
+      if (knots[i].event == EventKind::stop)
+        next_note = "the path stopped before the next knot";
+      else
+        next = detail::to_double(knots[i].penalty);
+      break;
+    }
+    if (std::isnan(next) && next_note.empty()) next_note = "no knot follows";
+    const bool tied = end - r > 1;
+
+    for (std::size_t i = r; i < end; ++i) {
+      const Knot<Scalar>& row = knots[i];
+      if (row.event != EventKind::enter) continue;
+      EntrySignificance e;
+      e.step = row.step;
+      e.predictor = row.predictor;
+      e.sign = row.sign;
+      e.penalty = lambda;
+      e.next_penalty = next;
+      std::vector<std::string> notes;
+      if (tied) notes.push_back("several events at one knot");
+      if (!next_note.empty()) notes.push_back(next_note);
+      const bool usable = !tied && next_note.empty();
+
+      // Covariance test.
+      if (!lasso) {
+        notes.push_back("the covariance test is computed for the lasso variant");
+      } else if (usable) {
+        const Scalar next_s(next);
+        Scalar reduced(0);
+        if (!active.empty()) {
+          std::vector<Index> cols;
+          for (const auto& [col, s] : active) cols.push_back(col);
+          std::sort(cols.begin(), cols.end());
+          detail::ColumnSubset<Design> subset(design, cols);
+          Preparation<Scalar> sub = prep;
+          sub.columns.clear();
+          for (Index col : cols) sub.columns.push_back(prep.columns[static_cast<std::size_t>(col)]);
+          sub.penalty_factors.assign(cols.size(), 1.0);
+          sub.constraints.assign(cols.size(), SignConstraint::none);
+          TraceOptions reduced_options = options;
+          reduced_options.penalty_factors.clear();
+          reduced_options.sign_constraints.clear();
+          reduced_options.max_knots = 0;
+          reduced_options.max_active = 0;
+          reduced_options.min_penalty = next;
+          const Path<Scalar> reduced_path = trace_design(subset, sub, reduced_options);
+          reduced = fitted_inner(reduced_path.at_penalty(next_s));
+        }
+        const Scalar full = fitted_inner(path.at_penalty(next_s));
+        e.covariance_statistic = detail::to_double(Scalar(full - reduced)) / noise_variance;
+        e.covariance_p_value =
+            residual_df > 0
+                ? detail::f2_upper_tail(e.covariance_statistic, static_cast<double>(residual_df))
+                : std::exp(-std::max(0.0, e.covariance_statistic));
+      }
+
+      // Spacing test: omega from the Gram matrix of A_k (A_{k-1} first, then j).
+      if (left_before) {
+        notes.push_back("the spacing test covers least-angle steps (before the first leave event)");
+      } else if (usable) {
+        const Index col = position[static_cast<std::size_t>(row.predictor)];
+        std::vector<Index> cols;
+        Vector<Scalar> s(static_cast<Index>(active.size() + 1));
+        for (std::size_t a = 0; a < active.size(); ++a) {
+          cols.push_back(active[a].first);
+          s(static_cast<Index>(a)) = Scalar(active[a].second);
+        }
+        cols.push_back(col);
+        s(static_cast<Index>(active.size())) = Scalar(row.sign);
+        const Index m = static_cast<Index>(cols.size());
+        Matrix<Scalar> gram(m, m);
+        Vector<Scalar> cross;
+        for (Index a = 0; a < m; ++a) {
+          design.cross_products(cols[static_cast<std::size_t>(a)],
+                                std::span<const Index>(cols.data(), static_cast<std::size_t>(a)), cross);
+          for (Index b = 0; b < a; ++b) gram(a, b) = gram(b, a) = cross(b);
+          gram(a, a) = design.squared_norm(cols[static_cast<std::size_t>(a)]);
+        }
+        Vector<Scalar> delta = gram.ldlt().solve(s);
+        if (m > 1) delta.head(m - 1) -= gram.topLeftCorner(m - 1, m - 1).ldlt().solve(s.head(m - 1));
+        const double omega2 = detail::to_double(Scalar(delta.dot(gram * delta)));
+        e.omega = std::sqrt(std::max(0.0, omega2));
+        const double w = e.omega / sigma;
+        e.spacing_p_value = detail::truncated_gaussian_upper_tail(
+            lambda * w, next * w, std::isinf(previous_group) ? inf : previous_group * w);
+      }
+      for (std::size_t k = 0; k < notes.size(); ++k) e.note += (k ? "; " : "") + notes[k];
+      out.entries.push_back(std::move(e));
+    }
+    // Update the active set with the whole group.
+    for (std::size_t i = r; i < end; ++i) {
+      const Index col = position[static_cast<std::size_t>(knots[i].predictor)];
+      if (knots[i].event == EventKind::enter) {
+        active.emplace_back(col, knots[i].sign);
+      } else {
+        left_before = true;
+        active.erase(std::remove_if(active.begin(), active.end(),
+                                    [&](const auto& a) { return a.first == col; }),
+                     active.end());
+      }
+    }
+    previous_group = lambda;
+    r = end;
+  }
+  return out;
+}
+
+/// Covariance and spacing tests for every entry of a path traced (without
+/// weights) on x and y. sigma^2 is options.noise_variance, or the residual
+/// variance of the full least-squares fit on n - rank - 1 degrees of freedom
+/// (n - rank without intercept). Throws invalid_query when the data do not
+/// match the path (or the path was traced with weights) or when sigma^2
+/// cannot be estimated (too few rows: give it).
+template <class Scalar>
+Significance entry_significance(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
+                                const InferenceOptions& options = {}) {
+  options.validate();
+  PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, Vector<Scalar>());
+  double variance = options.noise_variance;
+  Index df = 0;
+  if (!(variance > 0)) {
+    const auto [rss, rank] = detail::least_squares_fit(prepared.design);
+    df = path.preparation().used_observations - rank - (path.preparation().intercept ? 1 : 0);
+    if (df <= 0)
+      throw invalid_query("the noise variance cannot be estimated by least squares with " +
+                          std::to_string(path.preparation().used_observations) + " rows and rank " +
+                          std::to_string(rank) + "; give InferenceOptions::noise_variance");
+    variance = detail::to_double(rss) / static_cast<double>(df);
+    if (!(variance > 0))
+      throw invalid_query("the least-squares fit is exact (zero residual variance); give "
+                          "InferenceOptions::noise_variance");
+  }
+  return entry_significance(prepared.design, path, variance, df);
+}
+
+}  // namespace knotpath

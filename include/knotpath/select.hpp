@@ -1,0 +1,729 @@
+#pragma once
+/// \file select.hpp
+/// \brief Choosing a point on the path: exact K-fold (or leave-one-out)
+/// cross-validation, and Mallows' Cp, AIC and BIC at every knot.
+///
+/// References:
+///  - T. Hastie, R. Tibshirani & J. Friedman, The Elements of Statistical
+///    Learning (2nd ed., 2009), section 7.10 (K-fold cross-validation, the
+///    standard error of the fold errors and the one-standard-error rule).
+///  - H. Zou, T. Hastie & R. Tibshirani (2007), "On the degrees of freedom of
+///    the lasso", Annals of Statistics 35(5), 2173-2192 (the number of nonzero
+///    coefficients is an unbiased estimate of the degrees of freedom of the
+///    lasso fit; Cp, AIC and BIC built on it).
+///  - C. L. Mallows (1973), "Some comments on C_p", Technometrics 15(4), 661-675.
+///  - S. Reid, R. Tibshirani & J. Friedman (2016), "A study of error variance
+///    estimation in lasso regression", Statistica Sinica 26, 35-67 (the
+///    residual-variance estimate RSS / (n - df) of a sparse lasso fit, used
+///    here only when the full least-squares fit leaves no residual degrees of
+///    freedom).
+///
+/// What it computes.
+///
+/// Size-free penalty. Folds have fewer rows than the whole data, and the
+/// penalty lambda of the objective 0.5 RSS + lambda sum_j f_j s_j |b_j| grows
+/// with the sample size, so folds are compared on the size-free penalty mu:
+/// the penalty of the per-observation objective (1/2n) RSS + mu sum_j f_j t_j
+/// |b_j| (n = sum of weights, t_j = standard deviation of column j when
+/// standardizing, else 1). Dividing the objective by n gives
+///     mu = lambda / sqrt(n)   when standardizing (s_j = sqrt(n) sd_j),
+///     mu = lambda / n         without standardization (s_j = 1).
+/// penalty_scale() returns that divisor. Without standardization a ridge
+/// weight is also rescaled per fold (ridge * n_fold / n) so every fold solves
+/// the same per-observation problem; with standardization it is already
+/// size-free.
+///
+/// Exact cross-validation. Each fold's path is traced on its training rows.
+/// Between two consecutive knots of that path every coefficient is affine in
+/// the fold's lambda, hence in mu, so the fold's held-out mean squared error
+///     e_k(mu) = sum_{i held out} w_i (y_i - yhat_i(mu))^2 / W_k
+/// is a quadratic in mu on each of its segments (W_k = held-out weight).
+/// Merging every fold's knots gives a grid on which the cross-validation
+/// error
+///     CV(mu) = sum_k W_k e_k(mu) / W    (the held-out error of all rows)
+/// is one quadratic per interval. Its exact global minimum is the least of
+/// the interval minima (a quadratic with nonnegative curvature: endpoint or
+/// stationary point). The standard error of the fold errors at mu is
+///     SE(mu) = sqrt( sum_k W_k (e_k - CV)^2 / W / (K - 1) ),
+/// which is the usual sd / sqrt(K) when the folds have equal weight.
+/// The "parsimonious" choice is the largest mu whose CV error does not exceed
+/// CV(mu_min) + SE(mu_min) (the one-standard-error rule of Hastie et al.),
+/// found exactly by solving the quadratic of each interval.
+///
+/// Information criteria. At each knot, with d = number of nonzero
+/// coefficients plus one for the intercept (Zou et al. 2007: an unbiased
+/// estimate of the degrees of freedom), RSS the (weighted) residual sum of
+/// squares, n the number of rows with positive weight and sigma^2 the noise
+/// variance:
+///     Mallows' Cp = RSS / sigma^2 - n + 2 d
+///     AIC         = RSS / (n sigma^2) + 2 d / n
+///     BIC         = RSS / (n sigma^2) + log(n) d / n
+/// (Cp and AIC have the same minimizer when sigma^2 is fixed.) Between two
+/// knots the set of nonzero coefficients is fixed and the RSS falls as the
+/// penalty falls, so each criterion's infimum over a segment is reached at
+/// its lower knot, where the knot table counts the segment's nonzero
+/// coefficients: minimizing over the knots is minimizing over the path.
+/// sigma^2 is, in order of preference: the value the user gives; the
+/// residual variance of the full least-squares fit, RSS / (n - rank - 1)
+/// (without intercept n - rank), when that leaves residual degrees of
+/// freedom; otherwise RSS_k / (n - d_k) at the knot with the most nonzero
+/// coefficients whose d_k is at most n / 2 (a rough estimate, flagged in the
+/// result; give a value when it matters).
+
+#include <algorithm>
+#include <cmath>
+#include <cstdint>
+#include <exception>
+#include <limits>
+#include <optional>
+#include <string>
+#include <thread>
+#include <utility>
+#include <vector>
+
+#include <Eigen/QR>
+
+#include "demo.hpp"
+#include "detail/scalar.hpp"
+#include "errors.hpp"
+#include "options.hpp"
+#include "path.hpp"
+#include "prepare.hpp"
+#include "trace.hpp"
+
+namespace knotpath {
+
+// ---------------------------------------------------------------------------
+// Size-free penalty
+
+/// The divisor that turns a penalty lambda of a data set into the size-free
+/// penalty mu = lambda / penalty_scale: sqrt(n) when the columns were
+/// standardized, n otherwise (n = sum of weights).
+template <class Scalar>
+Scalar penalty_scale(const Preparation<Scalar>& prep) {
+  return prep.standardized ? detail::square_root<Scalar>(prep.weight_sum) : prep.weight_sum;
+}
+
+/// mu = lambda / penalty_scale of the path's data.
+template <class Scalar>
+Scalar size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
+  return lambda / penalty_scale(path.preparation());
+}
+
+/// lambda = mu * penalty_scale of the path's data.
+template <class Scalar>
+Scalar penalty_from_size_free(const Path<Scalar>& path, const Scalar& mu) {
+  return mu * penalty_scale(path.preparation());
+}
+
+// ---------------------------------------------------------------------------
+// Cross-validation
+
+/// Options of a cross-validation. Plain struct; validate() checks it.
+struct CrossValidationOptions {
+  /// Number of folds K >= 2 for folds drawn from the seed. Ignored when
+  /// leave_one_out is set or fold_of is given.
+  std::size_t folds = 10;
+  /// Leave one out: every row with positive weight is its own fold.
+  bool leave_one_out = false;
+  /// Seed of the fold assignment (a balanced random permutation drawn with
+  /// SplitMix64, identical on every platform).
+  std::uint64_t seed = 20261201;
+  /// The user's folds, one entry per row: fold numbers 0..K-1, or a negative
+  /// number for a row that is never held out (always trained on). Empty: use
+  /// the seed. Every fold must hold a row with positive weight.
+  std::vector<long> fold_of;
+  /// Threads that trace folds in parallel (0: the hardware's count). The
+  /// results do not depend on it.
+  std::size_t threads = 1;
+
+  /// Checks the fields against the number of rows; throws invalid_option.
+  void validate(Index rows) const {
+    if (!fold_of.empty()) {
+      if (static_cast<Index>(fold_of.size()) != rows)
+        throw invalid_option("fold_of", "has " + std::to_string(fold_of.size()) +
+                                            " entries for " + std::to_string(rows) + " rows");
+      if (leave_one_out)
+        throw invalid_option("fold_of", "cannot be combined with leave_one_out");
+      long top = -1;
+      for (long f : fold_of) top = std::max(top, f);
+      if (top < 1) throw invalid_option("fold_of", "needs at least two folds (numbers 0 and 1)");
+    } else if (!leave_one_out && folds < 2) {
+      throw invalid_option("folds", "must be >= 2 (got " + std::to_string(folds) + ")");
+    }
+  }
+};
+
+/// One segment of a fold's path on the size-free axis: for mu in
+/// [mu_low, mu_high], with t = (mu - mu_low) / (mu_high - mu_low), the
+/// held-out mean squared error is (a - 2 b t + c t^2) / held_out_weight.
+template <class Scalar>
+struct FoldSegment {
+  Scalar mu_high{0};
+  Scalar mu_low{0};
+  Scalar a{0};  ///< sum w r^2 of the held-out residuals r at mu_low
+  Scalar b{0};  ///< sum w r d, d = change of the predictions from mu_low to mu_high
+  Scalar c{0};  ///< sum w d^2
+};
+
+/// One fold of a cross-validation.
+template <class Scalar>
+struct Fold {
+  std::vector<Index> held_out;       ///< rows held out (ascending)
+  Scalar training_weight{0};         ///< sum of the training rows' weights
+  Scalar held_out_weight{0};         ///< W_k
+  Scalar scale{0};                   ///< penalty_scale of the training data: lambda_fold = mu * scale
+  Path<Scalar> path;                 ///< path traced on the training rows
+  Scalar error_above{0};             ///< held-out MSE for mu >= the first knot (constant)
+  std::vector<FoldSegment<Scalar>> segments;  ///< descending in mu, no zero-length ones
+
+  /// The fold's first knot on the size-free axis.
+  Scalar mu_max() const { return path.lambda_max() / scale; }
+  /// The fold's last knot on the size-free axis (0 for a completed path).
+  Scalar mu_min() const { return path.knots().back().penalty / scale; }
+
+  /// Held-out mean squared error e_k(mu) for mu >= mu_min().
+  Scalar error_at(const Scalar& mu) const {
+    if (segments.empty() || mu >= segments.front().mu_high) return error_above;
+    // First segment whose lower end is <= mu (segments descend).
+    auto it = std::partition_point(segments.begin(), segments.end(),
+                                   [&](const FoldSegment<Scalar>& s) { return s.mu_low > mu; });
+    if (it == segments.end()) --it;
+    const Scalar t = (mu - it->mu_low) / (it->mu_high - it->mu_low);
+    return (it->a - Scalar(2) * it->b * t + it->c * t * t) / held_out_weight;
+  }
+};
+
+/// One interval of the merged grid: for mu = mu_low + s (mu_high - mu_low),
+/// s in [0, 1], the cross-validation error is constant + linear s + quadratic s^2.
+template <class Scalar>
+struct CurvePiece {
+  Scalar mu_high{0};
+  Scalar mu_low{0};
+  Scalar constant{0};
+  Scalar linear{0};
+  Scalar quadratic{0};  ///< >= 0 up to rounding (a sum of squares)
+
+  Scalar at(const Scalar& s) const { return constant + s * (linear + s * quadratic); }
+};
+
+/// A point of the cross-validation curve.
+template <class Scalar>
+struct CurvePoint {
+  Scalar mu{0};              ///< size-free penalty
+  Scalar lambda{0};          ///< the full data's penalty at this mu
+  Scalar error{0};           ///< CV(mu)
+  Scalar standard_error{0};  ///< SE(mu)
+};
+
+/// A penalty chosen by cross-validation.
+template <class Scalar>
+struct PenaltyChoice {
+  Scalar mu{0};              ///< size-free penalty
+  Scalar lambda{0};          ///< penalty of the full data's path
+  Scalar error{0};           ///< CV error there
+  Scalar standard_error{0};  ///< standard error of the fold errors there
+};
+
+/// The result of cross_validate(): the folds, the exact curve and the choices.
+template <class Scalar>
+struct CrossValidation {
+  std::vector<long> fold_of;           ///< fold of each row (-1: never held out)
+  std::vector<Fold<Scalar>> folds;     ///< in fold order
+  Path<Scalar> full_path;              ///< the path of all the data
+  Scalar full_scale{0};                ///< penalty_scale of all the data: lambda = mu * full_scale
+  Scalar total_weight{0};              ///< W = sum of the held-out weights of all folds
+  Scalar mu_high{0};                   ///< top of the curve's domain (every fit is empty above it)
+  Scalar mu_low{0};                    ///< bottom of the domain (0 unless a fold path stopped early)
+  std::vector<CurvePiece<Scalar>> pieces;  ///< the exact curve, descending in mu
+  PenaltyChoice<Scalar> minimum;       ///< exact global minimizer (the largest mu among ties)
+  PenaltyChoice<Scalar> parsimonious;  ///< largest mu with CV <= CV(min) + SE(min)
+
+  /// CV(mu) for mu >= mu_low (constant above mu_high). Throws invalid_query below the domain.
+  Scalar error_at(const Scalar& mu) const {
+    check(mu);
+    Scalar sum(0);
+    for (const auto& f : folds) sum += f.held_out_weight * f.error_at(mu);
+    return sum / total_weight;
+  }
+  /// Held-out mean squared error of each fold at mu.
+  std::vector<Scalar> fold_errors_at(const Scalar& mu) const {
+    check(mu);
+    std::vector<Scalar> out;
+    out.reserve(folds.size());
+    for (const auto& f : folds) out.push_back(f.error_at(mu));
+    return out;
+  }
+  /// SE(mu), the weighted standard error of the fold errors.
+  Scalar standard_error_at(const Scalar& mu) const {
+    const Scalar mean = error_at(mu);
+    Scalar sum(0);
+    for (const auto& f : folds) {
+      const Scalar d = f.error_at(mu) - mean;
+      sum += f.held_out_weight * d * d;
+    }
+    const Scalar k(static_cast<double>(folds.size()));
+    return detail::square_root<Scalar>(Scalar(sum / total_weight / (k - Scalar(1))));
+  }
+  /// The curve at the merged knots (descending mu): what a chart draws
+  /// between exact points.
+  std::vector<CurvePoint<Scalar>> knot_points() const {
+    std::vector<CurvePoint<Scalar>> out;
+    for (const auto& piece : pieces) out.push_back(point(piece.mu_high));
+    if (!pieces.empty()) out.push_back(point(pieces.back().mu_low));
+    return out;
+  }
+  /// The curve at one mu, as a choice.
+  PenaltyChoice<Scalar> point_choice(const Scalar& mu) const {
+    return {mu, Scalar(mu * full_scale), error_at(mu), standard_error_at(mu)};
+  }
+  /// The curve at one mu.
+  CurvePoint<Scalar> point(const Scalar& mu) const {
+    return {mu, Scalar(mu * full_scale), error_at(mu), standard_error_at(mu)};
+  }
+
+ private:
+  void check(const Scalar& mu) const {
+    if (!(mu >= mu_low))
+      throw invalid_query("the size-free penalty lies below the cross-validation curve's domain");
+  }
+};
+
+namespace detail {
+
+/// Seeded balanced folds over the rows with positive weight: a Fisher-Yates
+/// shuffle driven by SplitMix64, then fold = position mod K.
+inline std::vector<long> seeded_folds(const std::vector<Index>& usable, Index rows, std::size_t k,
+                                      std::uint64_t seed) {
+  std::vector<Index> order = usable;
+  demo::detail::SplitMix64 rng(seed);
+  for (std::size_t i = order.size(); i > 1; --i) {
+    // Uniform integer in [0, i) from the top 53 bits: portable and fully specified.
+    const auto j = static_cast<std::size_t>(static_cast<double>(rng.next() >> 11) *
+                                            (1.0 / 9007199254740992.0) * static_cast<double>(i));
+    std::swap(order[i - 1], order[std::min(j, i - 1)]);
+  }
+  std::vector<long> fold(static_cast<std::size_t>(rows), -1);
+  for (std::size_t pos = 0; pos < order.size(); ++pos)
+    fold[static_cast<std::size_t>(order[pos])] = static_cast<long>(pos % k);
+  return fold;
+}
+
+/// Traces one fold and builds its quadratic segments.
+template <class Scalar>
+Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
+                        const std::vector<long>& fold_of, long k, const TraceOptions& options,
+                        const Scalar& full_weight, const Scalar& full_scale) {
+  Fold<Scalar> fold;
+  const Index n = x.rows();
+  Vector<Scalar> training = w;
+  for (Index i = 0; i < n; ++i)
+    if (fold_of[static_cast<std::size_t>(i)] == k) {
+      training(i) = Scalar(0);
+      if (w(i) > Scalar(0)) {
+        fold.held_out.push_back(i);
+        fold.held_out_weight += w(i);
+      }
+    }
+  TraceOptions fold_options = options;
+  fold.training_weight = training.sum();
+  if (!(fold.training_weight > Scalar(0)))
+    throw invalid_data("fold " + std::to_string(k) + " leaves no training row with positive weight");
+  fold.scale = options.standardize ? square_root<Scalar>(fold.training_weight) : fold.training_weight;
+  if (!options.standardize && options.ridge != 0.0)
+    fold_options.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
+  if (options.min_penalty != 0.0)
+    fold_options.min_penalty = options.min_penalty * to_double(Scalar(fold.scale / full_scale));
+  fold.path = trace<Scalar>(x, y, fold_options, training);
+
+  // Held-out residuals at every knot.
+  const auto& knots = fold.path.knots();
+  const Index m = static_cast<Index>(fold.held_out.size());
+  Matrix<Scalar> xv(m, x.cols());
+  Vector<Scalar> yv(m), wv(m);
+  for (Index r = 0; r < m; ++r) {
+    const Index i = fold.held_out[static_cast<std::size_t>(r)];
+    xv.row(r) = x.row(i);
+    yv(r) = y(i);
+    wv(r) = w(i);
+  }
+  auto residual = [&](std::size_t knot) {
+    Vector<Scalar> r = yv - xv * fold.path.dense_coefficients(knot);
+    r.array() -= knots[knot].intercept;
+    return r;
+  };
+  Vector<Scalar> upper = residual(0);
+  fold.error_above = (wv.array() * upper.array().square()).sum() / fold.held_out_weight;
+  for (std::size_t j = 1; j < knots.size(); ++j) {
+    if (knots[j].penalty == knots[j - 1].penalty) {
+      upper = residual(j);  // a simultaneous event: same point, possibly new rounding
+      continue;
+    }
+    Vector<Scalar> lower = residual(j);
+    Vector<Scalar> change = lower - upper;  // prediction at mu_high minus prediction at mu_low
+    FoldSegment<Scalar> s;
+    s.mu_high = knots[j - 1].penalty / fold.scale;
+    s.mu_low = knots[j].penalty / fold.scale;
+    s.a = (wv.array() * lower.array().square()).sum();
+    s.b = (wv.array() * lower.array() * change.array()).sum();
+    s.c = (wv.array() * change.array().square()).sum();
+    fold.segments.push_back(s);
+    upper.swap(lower);
+  }
+  return fold;
+}
+
+/// Largest s in [0, 1] with q(s) <= threshold, if any.
+template <class Scalar>
+std::optional<Scalar> largest_at_most(const CurvePiece<Scalar>& q, const Scalar& threshold) {
+  if (q.at(Scalar(1)) <= threshold) return Scalar(1);
+  const Scalar c0 = q.constant - threshold, c1 = q.linear, c2 = q.quadratic;
+  std::optional<Scalar> root;
+  if (c2 > Scalar(0)) {
+    const Scalar disc = c1 * c1 - Scalar(4) * c2 * c0;
+    if (disc < Scalar(0)) return std::nullopt;
+    // Stable roots of c2 s^2 + c1 s + c0.
+    const Scalar sq = square_root<Scalar>(disc);
+    const Scalar h = Scalar(-0.5) * (c1 + (c1 >= Scalar(0) ? sq : Scalar(-sq)));
+    Scalar r1 = h / c2;
+    Scalar r2 = h != Scalar(0) ? Scalar(c0 / h) : r1;
+    root = std::max(r1, r2);
+  } else if (c1 > Scalar(0)) {
+    root = -c0 / c1;
+  } else {
+    return q.at(Scalar(0)) <= threshold ? std::optional<Scalar>(Scalar(0)) : std::nullopt;
+  }
+  if (*root < Scalar(0)) return q.at(Scalar(0)) <= threshold ? std::optional<Scalar>(Scalar(0)) : std::nullopt;
+  if (*root > Scalar(1)) root = Scalar(1);
+  return root;
+}
+
+}  // namespace detail
+
+/// The fold of each row that cross_validate() would use with these options
+/// (rows of weight 0 are never held out: -1).
+template <class Scalar>
+std::vector<long> make_folds(Index rows, const CrossValidationOptions& cv,
+                             const Vector<Scalar>& weights = Vector<Scalar>()) {
+  cv.validate(rows);
+  if (!cv.fold_of.empty()) return cv.fold_of;
+  std::vector<Index> usable;
+  for (Index i = 0; i < rows; ++i)
+    if (weights.size() == 0 || weights(i) > Scalar(0)) usable.push_back(i);
+  const std::size_t k = cv.leave_one_out ? usable.size() : cv.folds;
+  if (k > usable.size() || k < 2)
+    throw invalid_option(cv.leave_one_out ? "leave_one_out" : "folds",
+                         "needs between 2 and " + std::to_string(usable.size()) +
+                             " folds (the rows with positive weight), got " + std::to_string(k));
+  if (cv.leave_one_out) {
+    std::vector<long> fold(static_cast<std::size_t>(rows), -1);
+    for (std::size_t pos = 0; pos < usable.size(); ++pos)
+      fold[static_cast<std::size_t>(usable[pos])] = static_cast<long>(pos);
+    return fold;
+  }
+  return detail::seeded_folds(usable, rows, k, cv.seed);
+}
+
+/// Exact K-fold cross-validation of the path of y on x (see the file
+/// comment). Every fold is traced with `options` on its training rows
+/// (weights of held-out rows set to 0). Throws invalid_option, invalid_data.
+/// Cost: K path traces (in parallel with cv.threads) plus O(K^2 knots) for
+/// the merge; memory: the K paths.
+template <class Scalar>
+CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                       const TraceOptions& options, const CrossValidationOptions& cv,
+                                       const Vector<Scalar>& weights = Vector<Scalar>()) {
+  static_assert(!detail::is_exact_v<Scalar>,
+                "cross-validation needs square roots (the size-free penalty): use a floating type");
+  const Index n = x.rows();
+  if (weights.size() != 0 && weights.size() != n)
+    throw invalid_data("there are " + std::to_string(weights.size()) + " weights for " +
+                       std::to_string(n) + " rows");
+  CrossValidation<Scalar> result;
+  result.full_path = trace<Scalar>(x, y, options, weights);  // validates options and data
+  result.full_scale = penalty_scale(result.full_path.preparation());
+  result.fold_of = make_folds<Scalar>(n, cv, weights);
+  const Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
+
+  long top = -1;
+  for (long f : result.fold_of) top = std::max(top, f);
+  const std::size_t k = static_cast<std::size_t>(top + 1);
+  {
+    std::vector<char> seen(k, 0);
+    for (Index i = 0; i < n; ++i) {
+      const long f = result.fold_of[static_cast<std::size_t>(i)];
+      if (f >= 0 && w(i) > Scalar(0)) seen[static_cast<std::size_t>(f)] = 1;
+    }
+    for (std::size_t f = 0; f < k; ++f)
+      if (!seen[f])
+        throw invalid_option("fold_of", "fold " + std::to_string(f) +
+                                            " holds no row with positive weight");
+  }
+  const Scalar full_weight = result.full_path.preparation().weight_sum;
+
+  // Trace the folds; fold f is done by thread f mod T, so nothing depends on T.
+  result.folds.resize(k);
+  std::vector<std::exception_ptr> failure(k);
+  std::size_t threads = cv.threads == 0 ? std::max(1u, std::thread::hardware_concurrency()) : cv.threads;
+  threads = std::min(threads, k);
+  auto work = [&](std::size_t first) {
+    for (std::size_t f = first; f < k; f += threads) {
+      try {
+        result.folds[f] = detail::trace_fold<Scalar>(x, y, w, result.fold_of, static_cast<long>(f),
+                                                     options, full_weight, result.full_scale);
+      } catch (...) {
+        failure[f] = std::current_exception();
+      }
+    }
+  };
+  if (threads <= 1) {
+    work(0);
+  } else {
+    std::vector<std::thread> pool;
+    for (std::size_t t = 0; t < threads; ++t) pool.emplace_back(work, t);
+    for (auto& t : pool) t.join();
+  }
+  for (const auto& e : failure)
+    if (e) std::rethrow_exception(e);
+
+  // The domain and the merged grid.
+  result.total_weight = Scalar(0);
+  result.mu_high = result.full_path.lambda_max() / result.full_scale;
+  result.mu_low = Scalar(0);
+  for (const auto& f : result.folds) {
+    result.total_weight += f.held_out_weight;
+    result.mu_high = std::max<Scalar>(result.mu_high, f.mu_max());
+    result.mu_low = std::max<Scalar>(result.mu_low, f.mu_min());
+  }
+  std::vector<Scalar> grid{result.mu_high, result.mu_low};
+  for (const auto& f : result.folds)
+    for (const auto& s : f.segments)
+      for (const Scalar& m : {s.mu_high, s.mu_low})
+        if (m > result.mu_low && m < result.mu_high) grid.push_back(m);
+  std::sort(grid.begin(), grid.end(), [](const Scalar& a, const Scalar& b) { return a > b; });
+  grid.erase(std::unique(grid.begin(), grid.end()), grid.end());
+
+  // One quadratic per interval: sum over folds of (W_k / W) e_k, each e_k
+  // re-expressed in s = (mu - lo) / (hi - lo). A pointer per fold walks down
+  // its segments as the intervals descend.
+  std::vector<std::size_t> at(k, 0);
+  for (std::size_t g = 0; g + 1 < grid.size(); ++g) {
+    CurvePiece<Scalar> piece;
+    piece.mu_high = grid[g];
+    piece.mu_low = grid[g + 1];
+    const Scalar width = piece.mu_high - piece.mu_low;
+    for (std::size_t f = 0; f < k; ++f) {
+      const Fold<Scalar>& fold = result.folds[f];
+      const Scalar share = fold.held_out_weight / result.total_weight;
+      const auto& segs = fold.segments;
+      while (at[f] < segs.size() && segs[at[f]].mu_low >= piece.mu_high) ++at[f];
+      if (segs.empty() || (at[f] == 0 && piece.mu_low >= segs.front().mu_high)) {
+        piece.constant += share * fold.error_above;
+        continue;
+      }
+      const FoldSegment<Scalar>& s = segs[std::min(at[f], segs.size() - 1)];
+      const Scalar span = s.mu_high - s.mu_low;
+      const Scalar t0 = (piece.mu_low - s.mu_low) / span;
+      const Scalar dt = width / span;
+      const Scalar scale = share / fold.held_out_weight;
+      piece.constant += scale * (s.a - Scalar(2) * s.b * t0 + s.c * t0 * t0);
+      piece.linear += scale * Scalar(2) * dt * (s.c * t0 - s.b);
+      piece.quadratic += scale * s.c * dt * dt;
+    }
+    result.pieces.push_back(piece);
+  }
+
+  // Exact global minimum, scanning from the largest mu (ties keep the larger mu).
+  Scalar best_mu = result.mu_high, best = std::numeric_limits<Scalar>::infinity();
+  for (const auto& piece : result.pieces) {
+    auto consider = [&](const Scalar& s) {
+      const Scalar v = piece.at(s);
+      if (v < best) {
+        best = v;
+        best_mu = piece.mu_low + s * (piece.mu_high - piece.mu_low);
+      }
+    };
+    consider(Scalar(1));
+    if (piece.quadratic > Scalar(0)) {
+      const Scalar s = -piece.linear / (Scalar(2) * piece.quadratic);
+      if (s > Scalar(0) && s < Scalar(1)) consider(s);
+    }
+    consider(Scalar(0));
+  }
+  if (result.pieces.empty()) best = result.error_at(best_mu);  // a one-point domain
+  result.minimum = {best_mu, Scalar(best_mu * result.full_scale), best,
+                    result.standard_error_at(best_mu)};
+
+  // The parsimonious choice: the largest mu with CV(mu) <= CV(min) + SE(min).
+  const Scalar threshold = best + result.minimum.standard_error;
+  result.parsimonious = result.minimum;
+  for (const auto& piece : result.pieces) {
+    if (piece.mu_high < best_mu) break;
+    if (auto s = detail::largest_at_most(piece, threshold)) {
+      const Scalar mu = std::max<Scalar>(best_mu, piece.mu_low + *s * (piece.mu_high - piece.mu_low));
+      result.parsimonious = result.point_choice(mu);
+      break;
+    }
+  }
+  return result;
+}
+
+// ---------------------------------------------------------------------------
+// Information criteria
+
+/// Where the noise variance of the criteria came from.
+enum class NoiseVarianceSource {
+  given,          ///< the user's value
+  least_squares,  ///< residual variance of the full least-squares fit
+  sparse_fit,     ///< RSS / (n - d) of a lasso fit with d <= n/2 (rough; see the file comment)
+};
+
+/// Options of information_criteria().
+struct CriteriaOptions {
+  /// Noise variance sigma^2 > 0 (of a row of weight 1); negative: estimate it.
+  double noise_variance = -1.0;
+
+  void validate() const {
+    if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
+      throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
+  }
+};
+
+/// The criteria at one knot.
+template <class Scalar>
+struct KnotCriteria {
+  Index step = 0;         ///< knot-table step
+  Scalar penalty{0};      ///< lambda
+  Scalar mu{0};           ///< size-free penalty
+  Index nonzero = 0;      ///< nonzero coefficients
+  Index parameters = 0;   ///< d = nonzero + intercept
+  Scalar rss{0};          ///< weighted residual sum of squares
+  Scalar mallows_cp{0};
+  Scalar aic{0};
+  Scalar bic{0};
+};
+
+/// Cp, AIC and BIC along a path.
+template <class Scalar>
+struct InformationCriteria {
+  std::vector<KnotCriteria<Scalar>> knots;  ///< one per knot-table row
+  Scalar noise_variance{0};
+  NoiseVarianceSource source = NoiseVarianceSource::given;
+  Index residual_df = 0;           ///< degrees of freedom of the variance estimate (0 when given)
+  Index observations = 0;          ///< n: rows with positive weight
+  std::size_t best_cp = 0;         ///< index into knots of the minimum (the first, largest penalty, among ties)
+  std::size_t best_aic = 0;
+  std::size_t best_bic = 0;
+};
+
+namespace detail {
+
+/// Re-prepares the data a path was traced on and checks that they match it.
+template <class Scalar>
+PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
+                                  const Vector<Scalar>& weights) {
+  PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, path.options(), weights);
+  const auto& a = prepared.preparation;
+  const auto& b = path.preparation();
+  if (a.predictors != b.predictors || a.used_observations != b.used_observations ||
+      a.columns != b.columns || a.weight_sum != b.weight_sum || a.means != b.means ||
+      a.scales != b.scales || a.response_mean != b.response_mean)
+    throw invalid_query("the data (or weights) given do not match the data the path was traced on");
+  return prepared;
+}
+
+/// Residual sum of squares and rank of the least-squares fit of the prepared problem.
+template <class Scalar>
+std::pair<Scalar, Index> least_squares_fit(const DenseDesign<Scalar>& design) {
+  if (design.cols() == 0) return {design.response_squared_norm(), 0};
+  Eigen::ColPivHouseholderQR<Matrix<Scalar>> qr(design.columns());
+  const Vector<Scalar> b = qr.solve(design.response());
+  const Vector<Scalar> r = design.response() - design.columns() * b;
+  return {r.squaredNorm(), qr.rank()};
+}
+
+}  // namespace detail
+
+/// Mallows' Cp, AIC and BIC at every knot of a lasso path, and their
+/// minimizers (see the file comment for the formulas and the variance).
+/// `x`, `y`, `weights` are the data the path was traced on (checked).
+/// Throws invalid_option for a ridge (elastic net: the count of nonzero
+/// coefficients is not its degrees of freedom) or the least angle variant
+/// (its coefficients may cross zero inside a segment), invalid_query when the
+/// data do not match the path.
+template <class Scalar>
+InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                                 const Path<Scalar>& path, const CriteriaOptions& criteria = {},
+                                                 const Vector<Scalar>& weights = Vector<Scalar>()) {
+  using std::log;
+  criteria.validate();
+  const TraceOptions& options = path.options();
+  if (options.ridge != 0.0)
+    throw invalid_option("ridge", "information criteria need the plain lasso (ridge = 0): the "
+                                  "number of nonzero coefficients is not the elastic net's "
+                                  "degrees of freedom");
+  if (options.variant != Variant::lasso)
+    throw invalid_option("variant", "information criteria need the lasso variant (df = number "
+                                    "of nonzero coefficients holds for the lasso)");
+  PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, weights);
+  const Preparation<Scalar>& prep = path.preparation();
+
+  InformationCriteria<Scalar> out;
+  out.observations = prep.used_observations;
+  const Index n = prep.used_observations;
+  const Index intercept = prep.intercept ? 1 : 0;
+  const Scalar scale = penalty_scale(prep);
+  for (const auto& knot : path.knots()) {
+    KnotCriteria<Scalar> c;
+    c.step = knot.step;
+    c.penalty = knot.penalty;
+    c.mu = knot.penalty / scale;
+    c.nonzero = static_cast<Index>(knot.coefficients.size());
+    c.parameters = c.nonzero + intercept;
+    c.rss = knot.rss;
+    out.knots.push_back(c);
+  }
+
+  if (criteria.noise_variance > 0) {
+    out.noise_variance = Scalar(criteria.noise_variance);
+    out.source = NoiseVarianceSource::given;
+  } else {
+    const auto [rss, rank] = detail::least_squares_fit(prepared.design);
+    const Index df = n - rank - intercept;
+    if (df > 0) {
+      out.noise_variance = rss / Scalar(static_cast<double>(df));
+      out.source = NoiseVarianceSource::least_squares;
+      out.residual_df = df;
+    } else {
+      const KnotCriteria<Scalar>* pick = nullptr;
+      for (const auto& c : out.knots)
+        if (2 * c.parameters <= n && (!pick || c.parameters > pick->parameters)) pick = &c;
+      if (!pick || n - pick->parameters <= 0)
+        throw invalid_query("cannot estimate the noise variance from " + std::to_string(n) +
+                            " rows; give CriteriaOptions::noise_variance");
+      out.residual_df = n - pick->parameters;
+      out.noise_variance = pick->rss / Scalar(static_cast<double>(out.residual_df));
+      out.source = NoiseVarianceSource::sparse_fit;
+    }
+    if (!(out.noise_variance > Scalar(0)))
+      throw invalid_query("the estimated noise variance is 0 (the data are fitted exactly); give "
+                          "CriteriaOptions::noise_variance");
+  }
+
+  const Scalar nn(static_cast<double>(n));
+  const Scalar s2 = out.noise_variance;
+  for (auto& c : out.knots) {
+    const Scalar d(static_cast<double>(c.parameters));
+    c.mallows_cp = c.rss / s2 - nn + Scalar(2) * d;
+    c.aic = c.rss / (nn * s2) + Scalar(2) * d / nn;
+    c.bic = c.rss / (nn * s2) + Scalar(log(nn)) * d / nn;
+  }
+  for (std::size_t i = 1; i < out.knots.size(); ++i) {
+    if (out.knots[i].mallows_cp < out.knots[out.best_cp].mallows_cp) out.best_cp = i;
+    if (out.knots[i].aic < out.knots[out.best_aic].aic) out.best_aic = i;
+    if (out.knots[i].bic < out.knots[out.best_bic].bic) out.best_bic = i;
+  }
+  return out;
+}
+
+}  // namespace knotpath
