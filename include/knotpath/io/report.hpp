@@ -1,0 +1,81 @@
+#pragma once
+/// \file io/report.hpp
+/// \brief Reports of a traced path: the knot table (CSV, the contract fixed
+/// in DESIGN.md), the JSON document, the aligned audit text, the coefficient
+/// table of one point, and atomic file writing.
+
+#include <filesystem>
+#include <functional>
+#include <optional>
+#include <ostream>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "../path.hpp"
+
+namespace knotpath::io {
+
+/// What the reports say about where the data came from and how it was read.
+struct RunContext {
+  std::string source;                        ///< table file, "<stdin>" or "built-in demo"
+  std::string response;                      ///< response column name
+  std::vector<std::string> predictor_names;  ///< names of the path's predictors, in order
+  std::optional<std::string> weights;        ///< weights column, if any
+  std::size_t rows_read = 0;                 ///< data rows kept by the reader
+  std::size_t rows_dropped = 0;              ///< rows dropped for missing cells
+  std::vector<std::string> text_columns;     ///< text columns skipped by the reader
+  std::vector<std::string> unused_columns;   ///< numeric columns not used as predictors
+  std::string program_version;               ///< knotpath version
+};
+
+/// Formats a double with 17 significant digits (round-trips exactly);
+/// "nan"/"inf" never occur in a valid path.
+std::string round_trip(double value);
+
+/// mu = lambda / sqrt(n), n = sum of weights: the size-free penalty of
+/// DESIGN.md ("Comparing penalties"). 0 when n = 0.
+double size_free_penalty(const Path<double>& path, double lambda);
+
+/// R^2 = 1 - RSS / TSS of a knot; nullopt when TSS = 0.
+std::optional<double> r_squared(const Path<double>& path, double rss);
+
+/// Writes the knot table: header
+/// step,penalty,event,predictor,active,l1_norm,r_squared,intercept,<names>
+/// then one row per knot (see DESIGN.md). The last row's event is
+/// to_string(path.stop_reason()) ("end" or "stop-..."). An undefined R^2
+/// (constant response) is an empty cell.
+void write_knot_table(std::ostream& out, const Path<double>& path,
+                      const std::vector<std::string>& names);
+
+/// The JSON document of a path (schema in README.md, "format" =
+/// "knotpath-path", "format_version" = 1).
+nlohmann::ordered_json path_document(const Path<double>& path, const RunContext& context);
+
+/// The aligned audit: a short heading, one line per knot (step, penalty, mu,
+/// event, predictor, active count, L1 norm, R^2), then notes on the stop
+/// reason, excluded and held-out predictors.
+std::string audit_text(const Path<double>& path, const RunContext& context);
+
+/// The coefficients of one solution on the original scale, intercept first:
+/// an aligned table, or with `csv` a "predictor,coefficient" header and one
+/// line per term (17 significant digits).
+std::string coefficient_table(const Solution<double>& solution, const Path<double>& path,
+                              const std::vector<std::string>& names, bool csv);
+
+/// Writes a file atomically: `write` fills a temporary file in the same
+/// directory, which is flushed and renamed over `target` only when `write`
+/// returns normally and every byte was written. On any failure the
+/// temporary file is removed, `target` is untouched, and the exception
+/// propagates (std::runtime_error with the file name for I/O failures).
+void write_atomically(const std::filesystem::path& target,
+                      const std::function<void(std::ostream&)>& write);
+
+/// Thrown by write_atomically when the file system refuses.
+class output_error : public std::runtime_error {
+ public:
+  using std::runtime_error::runtime_error;
+};
+
+}  // namespace knotpath::io

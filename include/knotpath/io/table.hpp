@@ -1,0 +1,136 @@
+#pragma once
+/// \file io/table.hpp
+/// \brief Streaming reader of delimited text tables (a header row of names,
+/// then one row per observation) into numeric columns.
+///
+/// Format accepted (RFC 4180 with common extensions, "common practice"):
+///  - fields separated by comma, semicolon or tab: detected from the header
+///    row (the most frequent of the three outside quotes; comma on a tie) or
+///    given;
+///  - fields may be quoted with '"'; a doubled quote inside a quoted field is
+///    one quote; quoted fields may hold delimiters and line breaks;
+///  - line ends LF, CRLF or CR; a UTF-8 byte order mark is skipped; blank
+///    lines are ignored;
+///  - numeric cells are decimal numbers (optional sign, exponent; spaces
+///    around them are ignored). NaN and infinite values are rejected.
+///
+/// Column kinds: a column whose first data cell is not a number is a text
+/// column; text columns are skipped (listed in Table::text_columns) unless
+/// they are required, which is an error naming them. A later non-numeric
+/// cell in a numeric column is an error with file, line and column.
+///
+/// Memory: one pass; numeric values are stored in fixed-size blocks per
+/// column (no reallocation copies), so the table needs its numeric size plus
+/// a few blocks. Table::take_matrix moves the values into an Eigen matrix
+/// block by block, so the peak stays near one copy.
+
+#include <cstddef>
+#include <functional>
+#include <istream>
+#include <memory>
+#include <stdexcept>
+#include <string>
+#include <vector>
+
+#include "../detail/scalar.hpp"
+
+namespace knotpath::io {
+
+/// What to do with a row that has an empty (or "NA") cell in a column read.
+enum class MissingCells {
+  error,  ///< stop with an error naming the cell (default)
+  drop,   ///< drop the row and count it (Table::dropped_rows)
+};
+
+/// Options of read_table.
+struct TableReadOptions {
+  /// Field delimiter: ',', ';' or '\t'; 0 detects it from the header row.
+  char delimiter = 0;
+  /// Handling of empty / "NA" cells.
+  MissingCells missing = MissingCells::error;
+  /// Columns that must exist and be numeric (response, weights, listed
+  /// predictors). A missing one is an "unknown column" error; a text one is
+  /// an error naming it.
+  std::vector<std::string> required;
+  /// When non-empty, only these columns (plus `required`) are read; every
+  /// other column is skipped unchecked.
+  std::vector<std::string> only;
+  /// Columns skipped unchecked (takes precedence over `only`).
+  std::vector<std::string> skip;
+  /// Keep the exact decimal text of every numeric cell read (trimmed), for
+  /// exact rational parsing later. Costs the text's memory.
+  bool keep_decimal_text = false;
+  /// Called now and then with (bytes consumed, data rows read); may be empty.
+  std::function<void(std::size_t, std::size_t)> progress;
+};
+
+/// A reading error with its location. line and column are 1-based; 0 when
+/// they do not apply (e.g. an empty file has no column). what() reads
+/// "SOURCE, line L, column C: message".
+class table_error : public std::runtime_error {
+ public:
+  /// content: the text is not a valid table; input_output: it cannot be read.
+  enum class Kind { content, input_output };
+  table_error(Kind kind, std::string source, std::size_t line, std::size_t column,
+              const std::string& message);
+  Kind kind() const noexcept { return kind_; }
+  /// File name, or "<stdin>".
+  const std::string& source() const noexcept { return source_; }
+  std::size_t line() const noexcept { return line_; }
+  std::size_t column() const noexcept { return column_; }
+  /// The message without the location.
+  const std::string& message() const noexcept { return message_; }
+
+ private:
+  Kind kind_;
+  std::string source_;
+  std::size_t line_;
+  std::size_t column_;
+  std::string message_;
+};
+
+/// Values of one numeric column, stored in fixed-size blocks.
+class NumericColumn {
+ public:
+  static constexpr std::size_t block_size = 1u << 15;  ///< values per block
+  void push_back(double value);
+  /// Removes the last value (used when a row turns out to be dropped).
+  void pop_back();
+  std::size_t size() const noexcept { return size_; }
+  double operator[](std::size_t i) const { return blocks_[i / block_size][i % block_size]; }
+  /// Copies the values to out[0 .. size) and frees the blocks as it goes.
+  void move_into(double* out);
+
+ private:
+  std::vector<std::unique_ptr<double[]>> blocks_;
+  std::size_t size_ = 0;
+};
+
+/// A table read from text: its numeric columns, in file order.
+struct Table {
+  std::string source;                       ///< file name or "<stdin>"
+  char delimiter = ',';                     ///< delimiter used
+  std::vector<std::string> names;           ///< numeric columns read, file order
+  std::vector<NumericColumn> columns;       ///< values, one per name
+  std::vector<std::vector<std::string>> decimal_text;  ///< per column when keep_decimal_text
+  std::vector<std::string> text_columns;    ///< text columns skipped
+  std::vector<std::string> skipped_columns; ///< columns skipped by `only` / `skip`
+  std::size_t rows = 0;                     ///< data rows kept
+  std::size_t dropped_rows = 0;             ///< rows dropped for missing cells
+  std::size_t last_line = 0;                ///< physical lines consumed
+
+  /// Index of a numeric column by name, or -1.
+  Index find(const std::string& name) const;
+  /// The values of one column as an Eigen vector (copy).
+  Vector<double> column_vector(Index j) const;
+  /// Moves the listed columns into an n x k matrix, freeing their blocks.
+  Matrix<double> take_matrix(const std::vector<Index>& which);
+};
+
+/// Reads a table from a file; "-" reads standard input. Throws table_error
+/// (kind content for a bad table, input_output for an unreadable file).
+Table read_table(const std::string& path, const TableReadOptions& options = {});
+/// Reads a table from a stream; `source` names it in error messages.
+Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options = {});
+
+}  // namespace knotpath::io

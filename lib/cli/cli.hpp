@@ -1,0 +1,110 @@
+#pragma once
+// Internals of the knotpath command-line program (not installed, not API).
+
+#include <atomic>
+#include <condition_variable>
+#include <cstddef>
+#include <mutex>
+#include <optional>
+#include <stdexcept>
+#include <string>
+#include <thread>
+#include <vector>
+
+#include <CLI/CLI.hpp>
+
+#include <knotpath/io/report.hpp>
+#include <knotpath/io/table.hpp>
+#include <knotpath/knotpath.hpp>
+
+namespace knotpath::cli {
+
+/// Exit codes (documented in README.md).
+enum ExitCode : int {
+  exit_ok = 0,
+  exit_internal = 1,   ///< unexpected failure (a bug, or out of memory)
+  exit_usage = 2,      ///< bad command line or contradictory options
+  exit_bad_input = 3,  ///< the table cannot be used (format, values, names)
+  exit_numerical = 4,  ///< numerical trouble while tracing (path incomplete)
+  exit_io = 5,         ///< a file cannot be read or written
+};
+
+/// An error the program reports with a message and an exit code.
+class failure : public std::runtime_error {
+ public:
+  failure(ExitCode code, const std::string& message) : std::runtime_error(message), code_(code) {}
+  ExitCode code() const noexcept { return code_; }
+
+ private:
+  ExitCode code_;
+};
+
+/// Settings shared by every command.
+struct Global {
+  bool quiet = false;
+  int status = 0;  ///< exit status set by the command that ran
+};
+
+/// Options that shape the model and how the table is read.
+struct ModelArgs {
+  std::string response;
+  std::string variant = "lasso";
+  bool no_intercept = false;
+  bool no_standardize = false;
+  std::string weights;
+  std::vector<std::string> penalty_factors;  // NAME=VALUE
+  std::vector<std::string> nonnegative;      // names, or "all"
+  std::vector<std::string> nonpositive;
+  double ridge = 0.0;
+  std::vector<std::string> use;
+  std::vector<std::string> drop;
+  std::size_t max_knots = 0;
+  double min_penalty = 0.0;
+  std::size_t max_active = 0;
+  std::string delimiter = "auto";
+  std::string missing = "error";
+};
+
+/// Adds the table-reading and model options to a command.
+void add_model_options(CLI::App& command, ModelArgs& args);
+
+/// A traced table: the path and what the reports need to describe it.
+struct TracedTable {
+  Path<double> path;
+  io::RunContext context;
+};
+
+/// Reads the table and traces its path (progress on stderr when enabled).
+TracedTable trace_table(const std::string& table, const ModelArgs& args, const Global& global);
+
+/// A progress line on stderr: shown only when stderr is a terminal, the
+/// program is not quiet, and the work has lasted more than about a second.
+class Progress {
+ public:
+  explicit Progress(bool enabled);
+  ~Progress();
+  Progress(const Progress&) = delete;
+  Progress& operator=(const Progress&) = delete;
+  /// Sets the text of the line (thread-safe).
+  void status(std::string text);
+
+ private:
+  void run();
+  bool enabled_;
+  std::mutex mutex_;
+  std::condition_variable wake_;
+  std::string text_;
+  bool done_ = false;
+  bool shown_ = false;
+  std::thread worker_;
+};
+
+/// The program version (PROJECT_VERSION).
+std::string version();
+
+/// Command registration; each returns the CLI11 subcommand.
+CLI::App* add_trace_command(CLI::App& app, Global& global);
+CLI::App* add_at_command(CLI::App& app, Global& global);
+CLI::App* add_demo_command(CLI::App& app, Global& global);
+
+}  // namespace knotpath::cli

@@ -1,0 +1,280 @@
+// Shared pieces of the command-line program: model options, reading and
+// tracing a table, the progress line.
+
+#include <unistd.h>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <iostream>
+
+#include <fmt/format.h>
+
+#include "cli.hpp"
+
+#ifndef KNOTPATH_VERSION
+#error "KNOTPATH_VERSION must be defined by the build (PROJECT_VERSION)"
+#endif
+
+namespace knotpath::cli {
+
+std::string version() { return KNOTPATH_VERSION; }
+
+void add_model_options(CLI::App& command, ModelArgs& args) {
+  command.add_option("--response", args.response, "Name of the response column")
+      ->required()
+      ->group("Model");
+  command.add_option("--variant", args.variant,
+                     "lasso (predictors may leave) or least-angle (they only enter)")
+      ->check(CLI::IsMember({"lasso", "least-angle"}))
+      ->default_str("lasso")
+      ->group("Model");
+  command.add_flag("--no-intercept", args.no_intercept,
+                   "Fit no intercept (columns and response are not centred)")
+      ->group("Model");
+  command.add_flag("--no-standardize", args.no_standardize,
+                   "Penalize coefficients on the columns' own scale instead of unit-length columns")
+      ->group("Model");
+  command.add_option("--weights", args.weights, "Column of observation weights (>= 0)")
+      ->group("Model");
+  command.add_option("--penalty-factor", args.penalty_factors,
+                     "NAME=VALUE: penalty factor of a predictor (0 = never penalized, inf = left "
+                     "out); repeat or separate with commas")
+      ->delimiter(',')
+      ->group("Model");
+  command.add_option("--nonnegative", args.nonnegative,
+                     "Predictors whose coefficient must be >= 0 (names, or all)")
+      ->delimiter(',')
+      ->group("Model");
+  command.add_option("--nonpositive", args.nonpositive,
+                     "Predictors whose coefficient must be <= 0 (names, or all)")
+      ->delimiter(',')
+      ->group("Model");
+  command.add_option("--ridge", args.ridge, "Ridge weight (elastic net); 0 = plain lasso")
+      ->check(CLI::NonNegativeNumber)
+      ->group("Model");
+  command.add_option("--use", args.use, "Use only these predictors (names, comma separated)")
+      ->delimiter(',')
+      ->group("Model");
+  command.add_option("--drop", args.drop, "Do not use these columns (names, comma separated)")
+      ->delimiter(',')
+      ->group("Model");
+  command.add_option("--max-knots", args.max_knots, "Stop after this many knots (0 = no limit)")
+      ->group("Stopping");
+  command.add_option("--min-penalty", args.min_penalty,
+                     "Stop when the penalty would fall below this value")
+      ->check(CLI::NonNegativeNumber)
+      ->group("Stopping");
+  command.add_option("--max-active", args.max_active,
+                     "Stop before more than this many predictors are active (0 = no limit)")
+      ->group("Stopping");
+  command.add_option("--delimiter", args.delimiter, "Field delimiter: auto, comma, semicolon, tab")
+      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab"}))
+      ->default_str("auto")
+      ->group("Table");
+  command.add_option("--missing", args.missing,
+                     "Empty or NA cells: error (stop) or drop (drop the row and count it)")
+      ->check(CLI::IsMember({"error", "drop"}))
+      ->default_str("error")
+      ->group("Table");
+}
+
+Progress::Progress(bool enabled) : enabled_(enabled && ::isatty(STDERR_FILENO) == 1) {
+  if (enabled_) worker_ = std::thread([this] { run(); });
+}
+
+Progress::~Progress() {
+  if (!enabled_) return;
+  {
+    std::lock_guard<std::mutex> lock(mutex_);
+    done_ = true;
+  }
+  wake_.notify_all();
+  worker_.join();
+}
+
+void Progress::status(std::string text) {
+  if (!enabled_) return;
+  std::lock_guard<std::mutex> lock(mutex_);
+  text_ = std::move(text);
+}
+
+void Progress::run() {
+  using clock = std::chrono::steady_clock;
+  const auto start = clock::now();
+  std::unique_lock<std::mutex> lock(mutex_);
+  // Nothing for the first second: quick runs print no progress at all.
+  if (wake_.wait_until(lock, start + std::chrono::seconds(1), [this] { return done_; })) return;
+  while (!done_) {
+    const double seconds = std::chrono::duration<double>(clock::now() - start).count();
+    std::fprintf(stderr, "\r\033[K%s (%.0f s)", text_.c_str(), seconds);
+    std::fflush(stderr);
+    shown_ = true;
+    wake_.wait_for(lock, std::chrono::milliseconds(250), [this] { return done_; });
+  }
+  if (shown_) {
+    std::fprintf(stderr, "\r\033[K");
+    std::fflush(stderr);
+  }
+}
+
+namespace {
+
+bool contains(const std::vector<std::string>& list, const std::string& name) {
+  return std::find(list.begin(), list.end(), name) != list.end();
+}
+
+char delimiter_char(const std::string& name) {
+  if (name == "comma") return ',';
+  if (name == "semicolon") return ';';
+  if (name == "tab") return '\t';
+  return 0;
+}
+
+std::pair<std::string, double> parse_factor(const std::string& item) {
+  const auto eq = item.rfind('=');
+  if (eq == std::string::npos || eq == 0 || eq + 1 == item.size())
+    throw failure(exit_usage, "--penalty-factor expects NAME=VALUE, got \"" + item + "\"");
+  const std::string name = item.substr(0, eq), text = item.substr(eq + 1);
+  double value = 0;
+  try {
+    std::size_t used = 0;
+    value = std::stod(text, &used);
+    if (used != text.size()) throw std::invalid_argument(text);
+  } catch (const std::exception&) {
+    throw failure(exit_usage, "--penalty-factor " + item + ": \"" + text + "\" is not a number");
+  }
+  if (std::isnan(value) || value < 0)
+    throw failure(exit_usage, "--penalty-factor " + item + ": the factor must be >= 0 (or inf)");
+  return {name, value};
+}
+
+}  // namespace
+
+TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
+                        const Global& global) {
+  // Names the options mention must be columns (checked by the reader).
+  std::vector<std::pair<std::string, double>> factors;
+  for (const auto& item : args.penalty_factors) factors.push_back(parse_factor(item));
+  if (contains(args.drop, args.response))
+    throw failure(exit_usage, "the response \"" + args.response + "\" is also listed in --drop");
+  if (!args.weights.empty() && args.weights == args.response)
+    throw failure(exit_usage, "the weights column cannot be the response");
+  if (contains(args.use, args.response))
+    throw failure(exit_usage, "the response \"" + args.response + "\" is also listed in --use");
+  for (const auto& name : args.nonnegative)
+    if (contains(args.nonpositive, name))
+      throw failure(exit_usage, "\"" + name + "\" is listed in both --nonnegative and --nonpositive");
+  const bool all_nonnegative = contains(args.nonnegative, "all");
+  const bool all_nonpositive = contains(args.nonpositive, "all");
+  if ((all_nonnegative && args.nonnegative.size() > 1) ||
+      (all_nonpositive && args.nonpositive.size() > 1) ||
+      (all_nonnegative && !args.nonpositive.empty()) ||
+      (all_nonpositive && !args.nonnegative.empty()))
+    throw failure(exit_usage, "\"all\" in --nonnegative/--nonpositive cannot be combined with names");
+
+  io::TableReadOptions read;
+  read.delimiter = delimiter_char(args.delimiter);
+  read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
+  read.required.push_back(args.response);
+  if (!args.weights.empty()) read.required.push_back(args.weights);
+  for (const auto& [name, value] : factors) read.required.push_back(name);
+  for (const auto& name : args.nonnegative)
+    if (name != "all") read.required.push_back(name);
+  for (const auto& name : args.nonpositive)
+    if (name != "all") read.required.push_back(name);
+  for (const auto& name : args.use) read.required.push_back(name);
+  read.only = args.use;
+  if (!read.only.empty()) {
+    read.only.push_back(args.response);
+    if (!args.weights.empty()) read.only.push_back(args.weights);
+  }
+  read.skip = args.drop;
+  for (const auto& name : read.required)
+    if (contains(args.drop, name))
+      throw failure(exit_usage, "\"" + name + "\" is listed in --drop and used by another option");
+
+  Progress progress(!global.quiet);
+  const std::string shown_name = table_path == "-" ? "<stdin>" : table_path;
+  progress.status("reading " + shown_name);
+  read.progress = [&](std::size_t bytes, std::size_t rows) {
+    progress.status(fmt::format("reading {}: {:.1f} MB, {} rows", shown_name,
+                                static_cast<double>(bytes) / 1e6, rows));
+  };
+  io::Table table = io::read_table(table_path, read);
+
+  TracedTable out;
+  io::RunContext& context = out.context;
+  context.source = table.source;
+  context.response = args.response;
+  context.rows_read = table.rows;
+  context.rows_dropped = table.dropped_rows;
+  context.text_columns = table.text_columns;
+  context.unused_columns = table.skipped_columns;
+  context.program_version = version();
+  if (!args.weights.empty()) context.weights = args.weights;
+
+  std::vector<Index> predictor_columns;
+  for (std::size_t j = 0; j < table.names.size(); ++j) {
+    const std::string& name = table.names[j];
+    if (name == args.response || name == args.weights) continue;
+    predictor_columns.push_back(static_cast<Index>(j));
+    context.predictor_names.push_back(name);
+  }
+  if (predictor_columns.empty())
+    throw failure(exit_bad_input, table.source + ": no numeric predictor columns besides the response");
+  const std::size_t p = predictor_columns.size();
+  auto predictor_index = [&](const std::string& name) {
+    for (std::size_t j = 0; j < p; ++j)
+      if (context.predictor_names[j] == name) return j;
+    throw failure(exit_usage, "\"" + name + "\" is not a predictor (it is the response or the weights)");
+  };
+
+  TraceOptions options;
+  options.variant = args.variant == "least-angle" ? Variant::least_angle : Variant::lasso;
+  options.fit_intercept = !args.no_intercept;
+  options.standardize = !args.no_standardize;
+  options.ridge = args.ridge;
+  options.max_knots = args.max_knots;
+  options.min_penalty = args.min_penalty;
+  options.max_active = args.max_active;
+  if (!factors.empty()) {
+    options.penalty_factors.assign(p, 1.0);
+    for (const auto& [name, value] : factors) options.penalty_factors[predictor_index(name)] = value;
+  }
+  if (all_nonnegative) {
+    options.sign_constraints = {SignConstraint::nonnegative};
+  } else if (all_nonpositive) {
+    options.sign_constraints = {SignConstraint::nonpositive};
+  } else if (!args.nonnegative.empty() || !args.nonpositive.empty()) {
+    options.sign_constraints.assign(p, SignConstraint::none);
+    for (const auto& name : args.nonnegative)
+      options.sign_constraints[predictor_index(name)] = SignConstraint::nonnegative;
+    for (const auto& name : args.nonpositive)
+      options.sign_constraints[predictor_index(name)] = SignConstraint::nonpositive;
+  }
+  try {
+    options.validate(p);
+  } catch (const invalid_option& e) {
+    throw failure(exit_usage, e.what());
+  }
+
+  const Vector<double> y = table.column_vector(table.find(args.response));
+  Vector<double> w;
+  if (!args.weights.empty()) w = table.column_vector(table.find(args.weights));
+  const Matrix<double> x = table.take_matrix(predictor_columns);
+  table = io::Table();  // free what is left before the trace copies the design
+
+  progress.status(fmt::format("tracing the path ({} rows, {} predictors)", x.rows(), x.cols()));
+  try {
+    out.path = trace<double>(x, y, options, w);
+  } catch (const invalid_option& e) {
+    throw failure(exit_usage, e.what());
+  } catch (const invalid_data& e) {
+    throw failure(exit_bad_input, shown_name + ": " + e.what());
+  }
+  return out;
+}
+
+}  // namespace knotpath::cli
