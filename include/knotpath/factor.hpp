@@ -9,14 +9,23 @@
 ///  - B. Efron, T. Hastie, I. Johnstone & R. Tibshirani (2004), "Least angle
 ///    regression", Ann. Statist. 32(2), 407-499, section 7 (the active-set
 ///    Cholesky updated one column at a time).
+///  - P. E. Gill, G. H. Golub, W. Murray & M. A. Saunders (1974), "Methods for
+///    modifying matrix factorizations", Mathematics of Computation 28(126),
+///    505-535, method C1 (square-root-free rank-one update of L D L^T, used by
+///    LdltFactor to delete a column exactly in rational arithmetic).
 ///
-/// Invariant: with k = size(), the leading k x k block R of `r_` is upper
-/// triangular with positive diagonal and R^T R = G_A + ridge * I, the Gram
-/// matrix of the active columns in the order they were added (removals keep
-/// the relative order of the others).
+/// CholeskyFactor invariant: with k = size(), the leading k x k block R of
+/// `r_` is upper triangular with positive diagonal and R^T R = G_A (+ ridge I),
+/// the Gram matrix of the active columns in the order they were added
+/// (removals keep the relative order of the others).
+/// LdltFactor invariant: L unit lower triangular, D > 0 diagonal, L D L^T = G_A;
+/// no square roots, so every entry is a rational function of the data.
 
 #include <algorithm>
+#include <cmath>
+#include <limits>
 #include <stdexcept>
+#include <type_traits>
 
 #include "detail/scalar.hpp"
 
@@ -156,5 +165,138 @@ class CholeskyFactor {
   mutable Vector<Scalar> work_;    // scratch for the triangular solves
   Index size_ = 0;                 // number of factored columns
 };
+
+/// Square-root-free factor L D L^T of the active Gram matrix, with the same
+/// interface as CholeskyFactor: add is one unit-triangular solve, O(k^2);
+/// remove deletes the row and column and restores the trailing block by a
+/// rank-one update (Gill, Golub, Murray & Saunders 1974, method C1), O(k^2).
+/// With exact rational scalars every quantity stays exact.
+template <class Scalar>
+class LdltFactor {
+ public:
+  LdltFactor() = default;
+  explicit LdltFactor(Index capacity) { reserve(capacity); }
+
+  Index size() const noexcept { return size_; }
+
+  void reserve(Index capacity) {
+    if (capacity <= l_.rows()) return;
+    Matrix<Scalar> grown = Matrix<Scalar>::Zero(capacity, capacity);
+    grown.topLeftCorner(size_, size_) = l_.topLeftCorner(size_, size_);
+    l_.swap(grown);
+    Vector<Scalar> d = Vector<Scalar>::Zero(capacity);
+    d.head(size_) = d_.head(size_);
+    d_.swap(d);
+    work_.resize(capacity);
+  }
+
+  template <class CrossVector>
+  AddOutcome add(const CrossVector& cross, const Scalar& diagonal, const Scalar& tolerance) {
+    if (cross.size() != size_) throw std::invalid_argument("LdltFactor::add: size mismatch");
+    if (size_ + 1 > l_.rows()) reserve(std::max<Index>(2 * l_.rows(), size_ + 1));
+    AddOutcome outcome;
+    if (!(diagonal > Scalar(0))) return outcome;
+    // L z = cross (unit lower), new row of L is w = D^{-1} z, pivot diag - z.w.
+    auto z = work_.head(size_);
+    for (Index i = 0; i < size_; ++i) {
+      Scalar s = cross(i);
+      for (Index m = 0; m < i; ++m) s -= l_(i, m) * z(m);
+      z(i) = s;
+    }
+    Scalar pivot = diagonal;
+    for (Index i = 0; i < size_; ++i) pivot -= z(i) * z(i) / d_(i);
+    outcome.squared_sine = detail::to_double(Scalar(pivot / diagonal));
+    if (!(pivot > tolerance * diagonal)) return outcome;
+    for (Index i = 0; i < size_; ++i) {
+      l_(size_, i) = z(i) / d_(i);
+      l_(i, size_) = Scalar(0);
+    }
+    l_(size_, size_) = Scalar(1);
+    d_(size_) = pivot;
+    ++size_;
+    outcome.added = true;
+    return outcome;
+  }
+
+  void remove(Index position) {
+    if (position < 0 || position >= size_)
+      throw std::out_of_range("LdltFactor::remove: position out of range");
+    const Index k = size_;
+    // Trailing block gains d_i v v^T with v = L(position+1:, position).
+    Scalar alpha = d_(position);
+    Vector<Scalar> v = l_.col(position).segment(position + 1, k - position - 1);
+    for (Index j = position + 1; j < k; ++j) {
+      const Index vj = j - position - 1;
+      const Scalar p = v(vj);
+      const Scalar d_new = d_(j) + alpha * p * p;
+      const Scalar beta = p * alpha / d_new;
+      alpha = alpha * d_(j) / d_new;
+      d_(j) = d_new;
+      for (Index r = j + 1; r < k; ++r) {
+        v(r - position - 1) -= p * l_(r, j);
+        l_(r, j) += beta * v(r - position - 1);
+      }
+    }
+    // Delete row and column `position`.
+    for (Index r = position; r + 1 < k; ++r) {
+      l_.row(r).head(k) = l_.row(r + 1).head(k);
+      d_(r) = d_(r + 1);
+    }
+    for (Index c = position; c + 1 < k; ++c) l_.col(c).head(k) = l_.col(c + 1).head(k);
+    l_.row(k - 1).head(k).setZero();
+    l_.col(k - 1).head(k).setZero();
+    d_(k - 1) = Scalar(0);
+    --size_;
+  }
+
+  template <class In, class Out>
+  void solve(const In& rhs, Out& x) const {
+    auto z = work_.head(size_);
+    for (Index i = 0; i < size_; ++i) {
+      Scalar s = rhs(i);
+      for (Index m = 0; m < i; ++m) s -= l_(i, m) * z(m);
+      z(i) = s;
+    }
+    for (Index i = 0; i < size_; ++i) z(i) /= d_(i);
+    for (Index i = size_ - 1; i >= 0; --i) {
+      Scalar s = z(i);
+      for (Index m = i + 1; m < size_; ++m) s -= l_(m, i) * x(m);
+      x(i) = s;
+    }
+  }
+
+  /// L (size() x size(), unit lower triangular).
+  Matrix<Scalar> unit_lower() const { return l_.topLeftCorner(size_, size_); }
+  /// The diagonal D.
+  Vector<Scalar> diagonal() const { return d_.head(size_); }
+
+  /// Health figures; pivots are sqrt(D) so the figures match CholeskyFactor's.
+  FactorHealth health() const {
+    FactorHealth h;
+    if (size_ == 0) return h;
+    double lo = detail::to_double(d_(0)), hi = lo;
+    for (Index i = 1; i < size_; ++i) {
+      lo = std::min(lo, detail::to_double(d_(i)));
+      hi = std::max(hi, detail::to_double(d_(i)));
+    }
+    h.smallest_pivot_ratio = hi > 0 ? std::sqrt(lo / hi) : 0.0;
+    h.condition_estimate = lo > 0 ? hi / lo : std::numeric_limits<double>::infinity();
+    return h;
+  }
+
+ private:
+  Matrix<Scalar> l_;             // capacity x capacity; leading size_ block is L
+  Vector<Scalar> d_;             // D
+  mutable Vector<Scalar> work_;  // scratch
+  Index size_ = 0;
+};
+
+namespace detail {
+/// The active-set factor the tracer uses for a scalar type: Cholesky with
+/// Givens deletions for floating types, square-root-free L D L^T for exact ones.
+template <class Scalar>
+using active_factor_t =
+    std::conditional_t<is_exact_v<Scalar>, LdltFactor<Scalar>, CholeskyFactor<Scalar>>;
+}  // namespace detail
 
 }  // namespace knotpath

@@ -75,6 +75,11 @@ struct TraceOptions {
   /// Safety bound on homotopy steps; 0 means automatic (8 * (n + p) + 100).
   /// Hitting it is recorded as the stop reason, never silent.
   std::size_t max_steps = 0;
+  /// A knot is marked suspect when its estimated relative error (factor
+  /// condition estimate times unit roundoff, or the measured drift of the
+  /// active correlations relative to lambda_max) exceeds this; default 1e-6,
+  /// i.e. fewer than about six trustworthy digits.
+  double suspect_threshold = 1e-6;
 
   /// Checks every field against the number of predictors `p` and throws
   /// invalid_option naming the first bad field.
@@ -108,6 +113,8 @@ struct TraceOptions {
       throw invalid_option("min_penalty", "must be finite and >= 0");
     if (std::isnan(collinearity_tolerance) || collinearity_tolerance >= 1.0)
       throw invalid_option("collinearity_tolerance", "must be < 1 (negative for automatic)");
+    if (!(suspect_threshold > 0.0))
+      throw invalid_option("suspect_threshold", "must be > 0");
     if (std::isnan(tie_tolerance) || tie_tolerance >= 1.0)
       throw invalid_option("tie_tolerance", "must be < 1 (negative for automatic)");
   }

@@ -80,6 +80,9 @@ struct Knot {
   Scalar intercept{0};        ///< on the original scale (0 without intercept)
   std::vector<std::pair<Index, Scalar>> coefficients;  ///< nonzero beta_j, ascending j, original scale
   double condition_estimate = 1;  ///< factor health after the event (see FactorHealth)
+  double estimated_error = 0;  ///< max(condition_estimate * unit roundoff, correlation drift / lambda_max)
+  bool suspect = false;        ///< estimated_error > TraceOptions::suspect_threshold: cross-check
+                               ///< with a higher precision (knotpath verify) before trusting it
 };
 
 /// A predictor that reached the boundary but was not added because its
@@ -143,10 +146,39 @@ class Path {
   const std::vector<HeldOut<Scalar>>& held_out() const noexcept { return held_out_; }
   /// Predictors excluded before the trace (constant, all-zero, infinite factor).
   const std::vector<ExcludedPredictor>& excluded() const noexcept { return prep_.excluded; }
+  /// Step of the first knot at which the active set saturated: as many
+  /// active predictors as usable rows (rows of positive weight, minus one
+  /// with an intercept), the largest rank the centred design can have. From
+  /// there on no predictor can enter unless one leaves (attempts are held out
+  /// with HeldOut::saturated set). nullopt when the path never saturated; a
+  /// design whose rank is below that bound shows its dependencies as held-out
+  /// columns instead.
+  std::optional<Index> saturation_step() const {
+    const Index rank_bound = prep_.used_observations - (prep_.intercept ? 1 : 0);
+    for (const auto& k : knots_)
+      if (rank_bound > 0 && k.active >= rank_bound) return k.step;
+    return std::nullopt;
+  }
+
   /// Largest factor condition estimate seen along the path.
   double worst_condition_estimate() const {
     double worst = 1;
     for (const auto& k : knots_) worst = std::max(worst, k.condition_estimate);
+    return worst;
+  }
+
+  /// True when any knot is suspect: double precision may not be enough for
+  /// this design; run the high-precision cross-check (cross_check(), or the
+  /// `knotpath verify` command) before relying on the path.
+  bool suspect() const {
+    for (const auto& k : knots_)
+      if (k.suspect) return true;
+    return false;
+  }
+  /// Largest estimated relative error over the knots.
+  double worst_estimated_error() const {
+    double worst = 0;
+    for (const auto& k : knots_) worst = std::max(worst, k.estimated_error);
     return worst;
   }
 

@@ -120,6 +120,20 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
     if (w(i) > Scalar(0)) rows.push_back(i);
   }
   if (rows.empty()) throw invalid_data("no observation has a positive weight");
+  if constexpr (detail::is_exact_v<Scalar>) {
+    // Exact rational arithmetic has no square roots: unit-length scaling and
+    // sqrt(w) row scaling are unavailable there (documented in precision.hpp).
+    if (options.standardize)
+      throw invalid_option("standardize",
+                           "exact rational arithmetic cannot take the square roots that scaling "
+                           "columns to unit length needs; trace with standardize = false (the "
+                           "penalty then applies to the coefficients on the original scale) or "
+                           "use a 50-digit float");
+    for (Index i : rows)
+      if (w(i) != Scalar(1))
+        throw invalid_data("exact rational arithmetic supports weights 0 and 1 only (row " +
+                           std::to_string(i) + ")");
+  }
   const Index m = static_cast<Index>(rows.size());
 
   Preparation<Scalar> prep;
@@ -134,7 +148,10 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
   Vector<Scalar> wk(m), sqrt_w(m);
   for (Index r = 0; r < m; ++r) {
     wk(r) = w(rows[r]);
-    sqrt_w(r) = detail::square_root<Scalar>(wk(r));
+    if constexpr (detail::is_exact_v<Scalar>)
+      sqrt_w(r) = wk(r);  // weights are 0/1 here (checked above)
+    else
+      sqrt_w(r) = detail::square_root<Scalar>(wk(r));
   }
   prep.weight_sum = wk.sum();
 
@@ -154,8 +171,13 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
     prep.response_mean = weighted_mean([&](Index r) { return y(rows[r]); });
   for (Index r = 0; r < m; ++r) yc(r) = y(rows[r]) - prep.response_mean;
   {
-    Scalar norm = detail::weighted_norm<Scalar>(yc, wk);
-    prep.total_sum_of_squares = norm * norm;
+    if constexpr (detail::is_exact_v<Scalar>) {
+      prep.total_sum_of_squares = Scalar(0);
+      for (Index r = 0; r < m; ++r) prep.total_sum_of_squares += wk(r) * yc(r) * yc(r);
+    } else {
+      Scalar norm = detail::weighted_norm<Scalar>(yc, wk);
+      prep.total_sum_of_squares = norm * norm;
+    }
     if (!detail::is_finite_value(prep.total_sum_of_squares))
       throw invalid_data("the response's sum of squares overflows; rescale the response");
   }

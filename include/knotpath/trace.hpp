@@ -95,13 +95,16 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   std::vector<char> is_active(static_cast<std::size_t>(q), 0);
   std::vector<char> blocked(static_cast<std::size_t>(q), 0);      // held out until a leave
   std::vector<int> just_left(static_cast<std::size_t>(q), 0);     // sign it left with, at the last knot
-  CholeskyFactor<Scalar> factor(std::min<Index>(q, design.rows() + 1));
+  detail::active_factor_t<Scalar> factor(std::min<Index>(q, design.rows() + 1));
   Vector<Scalar> cross, d, rhs, active_c;
   Scalar rss = design.response_squared_norm();
   std::vector<Knot<Scalar>> knots;
   std::vector<HeldOut<Scalar>> held_out;
   StopReason reason = StopReason::completed;
   const Index usable_rank = prep.used_observations - (prep.intercept ? 1 : 0);
+  const double eps = detail::to_double(detail::epsilon<Scalar>());
+  double drift = 0;  // largest |c_j - lambda f_j s_j| on A before the exact reset, absolute
+  double lambda_scale = 0;  // lambda_max (for relative figures)
 
   auto try_add = [&](Index j, const Scalar& lambda, Index step) -> bool {
     design.cross_products(j, std::span<const Index>(active), cross);
@@ -154,6 +157,12 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       knot.correlation = denom > 0 ? detail::to_double(c(column)) / denom : 0.0;
     }
     knot.condition_estimate = factor.health().condition_estimate;
+    // Estimated relative error of this knot: the factor's condition times the
+    // unit roundoff (error of the direction), or the measured drift of the
+    // updated correlations of the active set, whichever is larger.
+    knot.estimated_error =
+        std::max(knot.condition_estimate * eps, lambda_scale > 0 ? drift / lambda_scale : 0.0);
+    knot.suspect = knot.estimated_error > options.suspect_threshold;
     knots.push_back(std::move(knot));
   };
 
@@ -195,6 +204,7 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     }
   }
   for (std::size_t i = 0; i < held_at_start; ++i) held_out[i].penalty = lambda;
+  lambda_scale = detail::to_double(lambda);
   record(EventKind::start, lambda, -1, 0);
 
   std::vector<detail::Candidate<Scalar>> candidates;
@@ -274,8 +284,11 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       c -= g * a;
       lambda -= g;
       if (reaches_end && !stop_here) lambda = zero;
-      for (Index j : active)
-        c(j) = lambda * factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
+      for (Index j : active) {
+        const Scalar exact = lambda * factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
+        drift = std::max(drift, detail::to_double(detail::abs_value<Scalar>(Scalar(c(j) - exact))));
+        c(j) = exact;
+      }
     }
     if (stop_here) {
       reason = StopReason::min_penalty;

@@ -76,6 +76,29 @@ inline CsvTable read_csv(const std::filesystem::path& path) {
   return t;
 }
 
+/// The same table kept as text, so that high-precision and rational types can
+/// parse every decimal exactly (never through double).
+struct CsvText {
+  std::vector<std::string> names;
+  std::vector<std::vector<std::string>> rows;
+};
+
+inline CsvText read_csv_text(const std::filesystem::path& path) {
+  std::ifstream in(path);
+  if (!in) throw std::runtime_error("cannot open " + path.string());
+  CsvText t;
+  std::string line, cell;
+  std::getline(in, line);
+  for (std::stringstream ss(line); std::getline(ss, cell, ',');) t.names.push_back(cell);
+  while (std::getline(in, line)) {
+    if (line.empty() || line[0] == '#') continue;
+    std::vector<std::string> row;
+    for (std::stringstream ss(line); std::getline(ss, cell, ',');) row.push_back(cell);
+    t.rows.push_back(std::move(row));
+  }
+  return t;
+}
+
 /// "name,value[,...]" lines of a .certified / .reference file (comments skipped).
 inline std::map<std::string, double> read_reference_values(const std::filesystem::path& path) {
   std::ifstream in(path);

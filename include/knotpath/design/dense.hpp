@@ -4,6 +4,7 @@
 /// columns and the prepared response, held by value.
 
 #include <span>
+#include <type_traits>
 #include <utility>
 
 #include "../detail/scalar.hpp"
@@ -33,7 +34,10 @@ class DenseDesign {
   Scalar squared_norm(Index j) const { return z_.col(j).squaredNorm(); }
   Scalar response_squared_norm() const { return y_.squaredNorm(); }
 
-  void response_correlations(Vector<Scalar>& out) const { out.noalias() = z_.transpose() * y_; }
+  void response_correlations(Vector<Scalar>& out) const {
+    out.resize(z_.cols());
+    for (Index j = 0; j < z_.cols(); ++j) out(j) = z_.col(j).dot(y_);
+  }
 
   void cross_products(Index j, std::span<const Index> active, Vector<Scalar>& out) const {
     out.resize(static_cast<Index>(active.size()));
@@ -45,9 +49,17 @@ class DenseDesign {
   void direction_correlations(std::span<const Index> active, const Vector<Scalar>& d,
                               Vector<Scalar>& out) const {
     work_.setZero();
-    for (std::size_t i = 0; i < active.size(); ++i)
-      work_.noalias() += d(static_cast<Index>(i)) * z_.col(active[i]);
-    out.noalias() = z_.transpose() * work_;
+    for (std::size_t i = 0; i < active.size(); ++i) {
+      const Scalar coefficient = d(static_cast<Index>(i));
+      const auto column = z_.col(active[i]);
+      for (Index r = 0; r < z_.rows(); ++r) work_(r) += coefficient * column(r);
+    }
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      out.noalias() = z_.transpose() * work_;  // blocked, vectorized product for hardware types
+    } else {
+      out.resize(z_.cols());
+      for (Index j = 0; j < z_.cols(); ++j) out(j) = z_.col(j).dot(work_);
+    }
   }
 
   /// The prepared columns (for tests and diagnostics).

@@ -4,6 +4,7 @@
 
 #include <cmath>
 #include <limits>
+#include <stdexcept>
 #include <type_traits>
 
 #include <Eigen/Core>
@@ -52,10 +53,16 @@ Scalar abs_value(const Scalar& x) {
   return x < Scalar(0) ? Scalar(-x) : x;
 }
 
+/// Square root; exact (rational) types have none: callers check up front and
+/// this throws std::domain_error if one is reached anyway.
 template <class Scalar>
 Scalar square_root(const Scalar& x) {
-  using std::sqrt;
-  return Scalar(sqrt(x));
+  if constexpr (is_exact_v<Scalar>) {
+    throw std::domain_error("knotpath: square root requested in exact rational arithmetic");
+  } else {
+    using std::sqrt;
+    return Scalar(sqrt(x));
+  }
 }
 
 /// -1, 0 or +1.
