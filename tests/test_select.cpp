@@ -1,0 +1,404 @@
+// Tests of select.hpp: the exact cross-validation curve, its minimizer and
+// the parsimonious (one-standard-error) choice, the size-free penalty,
+// thread independence, and Cp/AIC/BIC along the path; plus the published
+// degrees-of-freedom theorem of the lasso as an external check.
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <vector>
+
+#include <knotpath/select.hpp>
+
+#include "test_support.hpp"
+
+namespace kp = knotpath;
+using kp::Index;
+using kp::Matrix;
+using kp::Vector;
+
+namespace {
+
+/// Rows of x (and entries of y) picked by a predicate on the fold.
+struct Split {
+  Matrix<double> x_train, x_test;
+  Vector<double> y_train, y_test;
+};
+
+Split split(const Matrix<double>& x, const Vector<double>& y, const std::vector<long>& fold_of, long k) {
+  std::vector<Index> train, test;
+  for (Index i = 0; i < x.rows(); ++i) (fold_of[static_cast<std::size_t>(i)] == k ? test : train).push_back(i);
+  Split s;
+  s.x_train.resize(static_cast<Index>(train.size()), x.cols());
+  s.y_train.resize(static_cast<Index>(train.size()));
+  s.x_test.resize(static_cast<Index>(test.size()), x.cols());
+  s.y_test.resize(static_cast<Index>(test.size()));
+  for (std::size_t r = 0; r < train.size(); ++r) {
+    s.x_train.row(static_cast<Index>(r)) = x.row(train[r]);
+    s.y_train(static_cast<Index>(r)) = y(train[r]);
+  }
+  for (std::size_t r = 0; r < test.size(); ++r) {
+    s.x_test.row(static_cast<Index>(r)) = x.row(test[r]);
+    s.y_test(static_cast<Index>(r)) = y(test[r]);
+  }
+  return s;
+}
+
+/// Direct cross-validation error from separately traced fold paths: each
+/// fold's path is traced here on a copy of its training rows (not through
+/// zero weights, as the library does), queried at lambda_k = mu * sqrt(n_k),
+/// and its held-out squared errors are summed.
+struct DirectCv {
+  std::vector<Split> splits;
+  std::vector<kp::Path<double>> paths;
+  double n = 0;
+
+  DirectCv(const Matrix<double>& x, const Vector<double>& y, const std::vector<long>& fold_of,
+           const kp::TraceOptions& options) {
+    long top = *std::max_element(fold_of.begin(), fold_of.end());
+    for (long k = 0; k <= top; ++k) {
+      splits.push_back(split(x, y, fold_of, k));
+      paths.push_back(kp::trace<double>(splits.back().x_train, splits.back().y_train, options));
+    }
+    n = static_cast<double>(x.rows());
+  }
+  std::vector<double> fold_errors(double mu) const {
+    std::vector<double> out;
+    for (std::size_t k = 0; k < splits.size(); ++k) {
+      const double lambda = mu * std::sqrt(static_cast<double>(splits[k].x_train.rows()));
+      const Vector<double> pred = paths[k].predict(splits[k].x_test, lambda);
+      out.push_back((splits[k].y_test - pred).squaredNorm() / static_cast<double>(splits[k].y_test.size()));
+    }
+    return out;
+  }
+  double error(double mu) const {
+    const auto e = fold_errors(mu);
+    double sum = 0;
+    for (std::size_t k = 0; k < e.size(); ++k) sum += e[k] * static_cast<double>(splits[k].y_test.size());
+    return sum / n;
+  }
+};
+
+}  // namespace
+
+// The exact minimizer must be at least as good as every point of a fine
+// grid (the grid cannot beat an exact minimum), and the grid's best value
+// can only exceed it by what the curve can rise over half a grid step.
+TEST(CrossValidation, ExactMinimumIsNeverAboveAFineGridAndWithinItsResolution) {
+  const auto prob = kp::testing::ar1_problem(60, 8, 0.5, 11, 3, 2.0);
+  kp::CrossValidationOptions cv;
+  cv.folds = 5;
+  cv.seed = 7;
+  const auto result = kp::cross_validate<double>(prob.x, prob.y, {}, cv);
+  const DirectCv direct(prob.x, prob.y, result.fold_of, {});
+
+  const int points = 100000;
+  const double lo = result.mu_low, hi = result.mu_high;
+  const double h = (hi - lo) / (points - 1);
+  double grid_min = std::numeric_limits<double>::infinity(), slope = 0, previous = 0;
+  for (int g = 0; g < points; ++g) {
+    const double mu = lo + h * g;
+    const double e = direct.error(mu);
+    grid_min = std::min(grid_min, e);
+    if (g > 0) slope = std::max(slope, std::abs(e - previous) / h);
+    previous = e;
+  }
+  const double exact = result.minimum.error;
+  // The exact value agrees with a direct evaluation at its own mu: both sum
+  // about 60 squared residuals of size ~4, so 1e-10 relative is generous
+  // against double rounding (~1e-14).
+  EXPECT_NEAR(direct.error(result.minimum.mu), exact, 1e-10 * exact);
+  // Never above the grid minimum (up to the same rounding allowance).
+  EXPECT_LE(exact, grid_min + 1e-10 * exact);
+  // Within grid resolution: the nearest grid point is at most h/2 away and
+  // the curve's slope is at most `slope` (largest secant slope on the grid;
+  // the curve is piecewise quadratic, so doubling it covers the true
+  // derivative between grid points).
+  EXPECT_LE(grid_min - exact, 2.0 * slope * h / 2.0 + 1e-10 * exact);
+  EXPECT_GT(result.pieces.size(), 10u);  // a real merged curve, not a trivial one
+}
+
+// The parsimonious choice: the largest mu whose error is within one
+// standard error of the minimum (Hastie, Tibshirani & Friedman, The
+// Elements of Statistical Learning, section 7.10).
+TEST(CrossValidation, ParsimoniousChoiceIsTheLargestPenaltyWithinOneStandardError) {
+  const auto prob = kp::testing::ar1_problem(80, 10, 0.3, 5, 4, 3.0);
+  kp::CrossValidationOptions cv;
+  cv.folds = 8;
+  const auto result = kp::cross_validate<double>(prob.x, prob.y, {}, cv);
+  const DirectCv direct(prob.x, prob.y, result.fold_of, {});
+
+  // The standard error equals sd / sqrt(K) of the fold errors here (equal
+  // fold sizes: 80 / 8), computed directly.
+  const auto e = direct.fold_errors(result.minimum.mu);
+  double mean = 0, ss = 0;
+  for (double v : e) mean += v / static_cast<double>(e.size());
+  for (double v : e) ss += (v - mean) * (v - mean);
+  const double se = std::sqrt(ss / static_cast<double>(e.size() - 1) / static_cast<double>(e.size()));
+  EXPECT_NEAR(result.minimum.standard_error, se, 1e-9 * se);  // rounding of 8 sums
+
+  const double threshold = result.minimum.error + result.minimum.standard_error;
+  const double tol = 1e-10 * threshold;  // rounding of the direct sums
+  EXPECT_GE(result.parsimonious.mu, result.minimum.mu);
+  EXPECT_LE(direct.error(result.parsimonious.mu), threshold + tol);
+  // Every larger penalty (checked on a fine grid above the choice) is worse than the threshold.
+  if (result.parsimonious.mu < result.mu_high) {
+    const double step = (result.mu_high - result.parsimonious.mu) / 20000.0;
+    for (int g = 1; g <= 20000; ++g)
+      ASSERT_GT(direct.error(result.parsimonious.mu + g * step), threshold - tol) << "grid point " << g;
+  }
+  EXPECT_NEAR(result.parsimonious.lambda, result.parsimonious.mu * std::sqrt(80.0),
+              1e-14 * result.parsimonious.lambda);
+}
+
+// Leave-one-out equals refitting each fold with an independent solver
+// (coordinate descent from the test support, sharing no code with the
+// tracer), at penalties mu * sqrt(n - 1) (standardized) or mu * (n - 1)
+// (not standardized): the size-free penalty of DESIGN.md.
+TEST(CrossValidation, LeaveOneOutEqualsDirectRefits) {
+  const auto prob = kp::testing::ar1_problem(25, 4, 0.4, 3, 2, 1.0);
+  const Index n = prob.x.rows();
+  for (bool standardize : {true, false}) {
+    kp::TraceOptions options;
+    options.standardize = standardize;
+    kp::CrossValidationOptions cv;
+    cv.leave_one_out = true;
+    const auto result = kp::cross_validate<double>(prob.x, prob.y, options, cv);
+    ASSERT_EQ(result.folds.size(), static_cast<std::size_t>(n));
+    for (double fraction : {0.9, 0.5, 0.2, 0.05, 0.0}) {
+      const double mu = fraction * result.mu_high;
+      std::vector<double> errors;
+      for (Index i = 0; i < n; ++i) {
+        std::vector<long> fold_of(static_cast<std::size_t>(n), 0);
+        fold_of[static_cast<std::size_t>(i)] = 1;
+        const Split s = split(prob.x, prob.y, fold_of, 1);
+        const auto c = kp::testing::centre(s.x_train, s.y_train, true, standardize);
+        const double m = static_cast<double>(n - 1);
+        const double lambda = mu * (standardize ? std::sqrt(m) : m);
+        const Vector<double> b = kp::testing::coordinate_descent(c.z, c.y, lambda);
+        const Vector<double> beta = b.cwiseQuotient(c.scale);
+        const double intercept = c.ymean - c.mean.dot(beta);
+        const double r = s.y_test(0) - intercept - s.x_test.row(0).dot(beta);
+        errors.push_back(r * r);
+      }
+      double mean = 0, ss = 0;
+      for (double e : errors) mean += e / static_cast<double>(n);
+      for (double e : errors) ss += (e - mean) * (e - mean);
+      const double se = std::sqrt(ss / static_cast<double>(n - 1) / static_cast<double>(n));
+      // Coordinate descent stops at a relative change of 1e-13; predictions
+      // then agree to ~1e-11, so 1e-8 relative leaves a wide margin.
+      EXPECT_NEAR(result.error_at(mu), mean, 1e-8 * mean) << "standardize " << standardize << " mu " << mu;
+      EXPECT_NEAR(result.standard_error_at(mu), se, 1e-8 * mean) << "standardize " << standardize;
+      const auto folds = result.fold_errors_at(mu);
+      for (Index i = 0; i < n; ++i)
+        EXPECT_NEAR(folds[static_cast<std::size_t>(i)], errors[static_cast<std::size_t>(i)], 1e-8 * mean);
+    }
+  }
+}
+
+// The size-free penalty makes the curve a property of the per-observation
+// problem: doubling every weight doubles n but leaves (1/2n) RSS and the
+// fits at each mu unchanged, so the curve must be the same function of mu,
+// with and without standardization (DESIGN.md, "Comparing penalties across
+// data sets of different size").
+TEST(CrossValidation, CurveOnTheSizeFreeAxisIgnoresAUniformWeightScale) {
+  const auto prob = kp::testing::ar1_problem(40, 6, 0.5, 21, 3, 1.5);
+  for (bool standardize : {true, false}) {
+    kp::TraceOptions options;
+    options.standardize = standardize;
+    kp::CrossValidationOptions cv;
+    cv.folds = 4;
+    const auto plain = kp::cross_validate<double>(prob.x, prob.y, options, cv);
+    const Vector<double> twos = Vector<double>::Constant(40, 2.0);
+    const auto doubled = kp::cross_validate<double>(prob.x, prob.y, options, cv, twos);
+    ASSERT_EQ(plain.fold_of, doubled.fold_of);
+    // Relative rounding of the two computations: ~1e-13; allow 1e-9.
+    EXPECT_NEAR(plain.mu_high, doubled.mu_high, 1e-9 * plain.mu_high);
+    EXPECT_NEAR(plain.minimum.mu, doubled.minimum.mu, 1e-9 * plain.mu_high);
+    EXPECT_NEAR(plain.minimum.error, doubled.minimum.error, 1e-9 * plain.minimum.error);
+    for (double fraction : {0.8, 0.4, 0.1, 0.01})
+      EXPECT_NEAR(plain.error_at(fraction * plain.mu_high), doubled.error_at(fraction * plain.mu_high),
+                  1e-9 * plain.minimum.error);
+    // The full-data penalty scales: lambda = mu * sqrt(n) or mu * n.
+    EXPECT_NEAR(doubled.minimum.lambda / plain.minimum.lambda, standardize ? std::sqrt(2.0) : 2.0, 1e-9);
+  }
+}
+
+TEST(CrossValidation, ResultsAreIdenticalWithOneAndTwoThreads) {
+  const auto prob = kp::testing::ar1_problem(70, 9, 0.6, 4, 4, 2.0);
+  kp::CrossValidationOptions cv;
+  cv.folds = 7;
+  cv.threads = 1;
+  const auto one = kp::cross_validate<double>(prob.x, prob.y, {}, cv);
+  cv.threads = 2;
+  const auto two = kp::cross_validate<double>(prob.x, prob.y, {}, cv);
+  ASSERT_EQ(one.pieces.size(), two.pieces.size());
+  for (std::size_t i = 0; i < one.pieces.size(); ++i) {
+    // Bitwise equality: each fold is computed by the same code on the same
+    // data whichever thread runs it, and the merge is sequential.
+    EXPECT_EQ(one.pieces[i].mu_high, two.pieces[i].mu_high);
+    EXPECT_EQ(one.pieces[i].constant, two.pieces[i].constant);
+    EXPECT_EQ(one.pieces[i].linear, two.pieces[i].linear);
+    EXPECT_EQ(one.pieces[i].quadratic, two.pieces[i].quadratic);
+  }
+  EXPECT_EQ(one.minimum.mu, two.minimum.mu);
+  EXPECT_EQ(one.minimum.error, two.minimum.error);
+  EXPECT_EQ(one.parsimonious.mu, two.parsimonious.mu);
+}
+
+TEST(CrossValidation, FoldsFromSeedAreBalancedAndReproducibleAndUserFoldsAreHonoured) {
+  kp::CrossValidationOptions cv;
+  cv.folds = 4;
+  cv.seed = 99;
+  const auto a = kp::make_folds<double>(103, cv);
+  const auto b = kp::make_folds<double>(103, cv);
+  EXPECT_EQ(a, b);
+  std::vector<int> count(4, 0);
+  for (long f : a) ++count[static_cast<std::size_t>(f)];
+  for (int c : count) EXPECT_TRUE(c == 25 || c == 26);  // 103 = 4 * 25 + 3
+  cv.seed = 100;
+  EXPECT_NE(a, kp::make_folds<double>(103, cv));
+
+  // Rows of weight 0 are never held out.
+  Vector<double> w = Vector<double>::Ones(10);
+  w(3) = 0;
+  cv.folds = 3;
+  EXPECT_EQ(kp::make_folds<double>(10, cv, w)[3], -1);
+
+  // A user's fold column is used as given; -1 rows are always trained on.
+  const auto prob = kp::testing::ar1_problem(30, 4, 0.2, 8, 2, 1.0);
+  kp::CrossValidationOptions user;
+  user.fold_of.resize(30);
+  for (std::size_t i = 0; i < 30; ++i) user.fold_of[i] = i < 5 ? -1 : static_cast<long>(i % 3);
+  const auto result = kp::cross_validate<double>(prob.x, prob.y, {}, user);
+  EXPECT_EQ(result.fold_of, user.fold_of);
+  ASSERT_EQ(result.folds.size(), 3u);
+  for (const auto& f : result.folds)
+    for (Index i : f.held_out) EXPECT_GE(i, 5);
+
+  // Invalid folds are refused with the field named.
+  user.fold_of.assign(30, 0);
+  EXPECT_THROW(kp::cross_validate<double>(prob.x, prob.y, {}, user), kp::invalid_option);
+  user.fold_of.assign(30, 0);
+  user.fold_of[0] = 2;  // fold 1 is empty
+  EXPECT_THROW(kp::cross_validate<double>(prob.x, prob.y, {}, user), kp::invalid_option);
+  kp::CrossValidationOptions bad;
+  bad.folds = 1;
+  EXPECT_THROW(kp::cross_validate<double>(prob.x, prob.y, {}, bad), kp::invalid_option);
+  bad.folds = 31;
+  EXPECT_THROW(kp::cross_validate<double>(prob.x, prob.y, {}, bad), kp::invalid_option);
+  EXPECT_THROW(result.error_at(-1.0), kp::invalid_query);
+}
+
+// Cp, AIC and BIC at every knot recomputed from the residuals of each
+// knot's coefficients, with sigma^2 from an independent least-squares fit.
+TEST(InformationCriteria, ValuesAtKnotsEqualDirectComputationFromResiduals) {
+  const auto prob = kp::testing::ar1_problem(50, 6, 0.5, 17, 3, 1.5);
+  const auto path = kp::trace<double>(prob.x, prob.y);
+  const auto ic = kp::information_criteria<double>(prob.x, prob.y, path);
+  const Index n = 50;
+
+  Matrix<double> with_one(n, 7);
+  with_one.col(0).setOnes();
+  with_one.rightCols(6) = prob.x;
+  const Vector<double> ls = with_one.colPivHouseholderQr().solve(prob.y);
+  const double sigma2 = (prob.y - with_one * ls).squaredNorm() / static_cast<double>(n - 7);
+  EXPECT_EQ(ic.source, kp::NoiseVarianceSource::least_squares);
+  EXPECT_EQ(ic.residual_df, n - 7);
+  EXPECT_NEAR(ic.noise_variance, sigma2, 1e-10 * sigma2);  // two QR solves, rounding ~1e-14
+
+  ASSERT_EQ(ic.knots.size(), path.knots().size());
+  double best_cp = 1e300, best_aic = 1e300, best_bic = 1e300;
+  for (std::size_t k = 0; k < ic.knots.size(); ++k) {
+    const Vector<double> beta = path.dense_coefficients(k);
+    const Vector<double> r = prob.y - prob.x * beta - Vector<double>::Constant(n, path.knots()[k].intercept);
+    const double rss = r.squaredNorm();
+    int nonzero = 0;
+    for (Index j = 0; j < beta.size(); ++j) nonzero += beta(j) != 0.0;
+    const double d = nonzero + 1.0;  // + intercept
+    const double cp = rss / sigma2 - n + 2 * d;
+    const double aic = rss / (n * sigma2) + 2 * d / n;
+    const double bic = rss / (n * sigma2) + std::log(static_cast<double>(n)) * d / n;
+    // The path's RSS is updated along the homotopy and the direct one is
+    // summed from residuals: they agree to ~1e-12 relative; 1e-8 of the
+    // value's scale leaves a wide margin.
+    EXPECT_NEAR(ic.knots[k].rss, rss, 1e-9 * rss);
+    EXPECT_NEAR(ic.knots[k].mallows_cp, cp, 1e-8 * (std::abs(cp) + n));
+    EXPECT_NEAR(ic.knots[k].aic, aic, 1e-8 * aic);
+    EXPECT_NEAR(ic.knots[k].bic, bic, 1e-8 * bic);
+    EXPECT_EQ(ic.knots[k].parameters, nonzero + 1);
+    best_cp = std::min(best_cp, cp);
+    best_aic = std::min(best_aic, aic);
+    best_bic = std::min(best_bic, bic);
+  }
+  EXPECT_NEAR(ic.knots[ic.best_cp].mallows_cp, best_cp, 1e-8 * (std::abs(best_cp) + n));
+  EXPECT_NEAR(ic.knots[ic.best_aic].aic, best_aic, 1e-8 * best_aic);
+  EXPECT_NEAR(ic.knots[ic.best_bic].bic, best_bic, 1e-8 * best_bic);
+  // With sigma^2 fixed, Cp = n * AIC - n: the same minimizer.
+  EXPECT_EQ(ic.best_cp, ic.best_aic);
+  // BIC penalizes each parameter more (log 50 > 2): never a larger model.
+  EXPECT_LE(ic.knots[ic.best_bic].parameters, ic.knots[ic.best_aic].parameters);
+}
+
+TEST(InformationCriteria, NoiseVarianceWhenPredictorsOutnumberRowsAndUnsupportedPaths) {
+  const auto prob = kp::testing::ar1_problem(12, 20, 0.3, 9, 2, 0.5);
+  const auto path = kp::trace<double>(prob.x, prob.y);
+  const auto ic = kp::information_criteria<double>(prob.x, prob.y, path);
+  EXPECT_EQ(ic.source, kp::NoiseVarianceSource::sparse_fit);
+  EXPECT_GT(ic.noise_variance, 0.0);
+  kp::CriteriaOptions given;
+  given.noise_variance = 0.25;
+  const auto ic2 = kp::information_criteria<double>(prob.x, prob.y, path, given);
+  EXPECT_EQ(ic2.source, kp::NoiseVarianceSource::given);
+  EXPECT_EQ(ic2.noise_variance, 0.25);
+
+  kp::TraceOptions ridge;
+  ridge.ridge = 0.5;
+  EXPECT_THROW(kp::information_criteria<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, ridge)),
+               kp::invalid_option);
+  kp::TraceOptions lar;
+  lar.variant = kp::Variant::least_angle;
+  EXPECT_THROW(kp::information_criteria<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, lar)),
+               kp::invalid_option);
+  // Data that are not the path's are refused.
+  Vector<double> other = prob.y;
+  other(0) += 1.0;
+  EXPECT_THROW(kp::information_criteria<double>(prob.x, other, path), kp::invalid_query);
+}
+
+// Zou, Hastie & Tibshirani (2007), Ann. Statist. 35(5), Theorem 1: at a
+// fixed penalty the number of nonzero lasso coefficients is an unbiased
+// estimate of the degrees of freedom sum_i cov(yhat_i, y_i) / sigma^2 (plus
+// one for the fitted intercept). Monte Carlo with a fixed seed.
+TEST(InformationCriteria, NonzeroCountIsUnbiasedForTheDegreesOfFreedom) {
+  const auto base = kp::testing::ar1_problem(20, 5, 0.5, 31, 2, 0.0);  // noise 0: the mean
+  const Vector<double> mean = base.y;
+  const double sigma = 1.0, lambda = 1.2;  // fixed penalty, chosen to leave 2-4 predictors active
+  kp::demo::detail::SplitMix64 rng(2007);
+  const int reps = 4000;
+  std::vector<double> gap(reps);
+  double count_mean = 0;
+  for (int r = 0; r < reps; ++r) {
+    Vector<double> noise(20);
+    for (Index i = 0; i < 20; ++i) noise(i) = sigma * rng.normal();
+    const Vector<double> y = mean + noise;
+    const auto path = kp::trace<double>(base.x, y);
+    const auto at = path.at_penalty(lambda);
+    const Vector<double> fit = (base.x * at.coefficients).array() + at.intercept;
+    int nonzero = 0;
+    for (Index j = 0; j < 5; ++j) nonzero += at.coefficients(j) != 0.0;
+    // E[(yhat_i - m_i) eps_i] = cov(yhat_i, y_i): the per-replicate Stein sum.
+    const double stein = (fit - mean).dot(noise) / (sigma * sigma);
+    gap[static_cast<std::size_t>(r)] = stein - (nonzero + 1.0);
+    count_mean += (nonzero + 1.0) / reps;
+  }
+  double m = 0, ss = 0;
+  for (double g : gap) m += g / reps;
+  for (double g : gap) ss += (g - m) * (g - m);
+  const double se = std::sqrt(ss / (reps - 1) / reps);
+  // Four Monte Carlo standard errors: a false alarm has probability ~6e-5.
+  EXPECT_LT(std::abs(m), 4.0 * se) << "mean df " << count_mean << ", gap " << m << " +- " << se;
+  EXPECT_GT(count_mean, 2.0);  // the penalty leaves a nontrivial model
+  EXPECT_LT(count_mean, 6.0);
+}
