@@ -1,0 +1,255 @@
+#pragma once
+/// \file charts.hpp
+/// \brief Charts of a traced path, drawn as SVG 1.1 text by knotpath itself
+/// (no plotting dependency), and a one-page offline HTML report.
+///
+/// Four pictures:
+///  1. activity lanes: one lane per predictor that is ever active, ordered
+///     by first entry, with bars over the penalty intervals where it is
+///     active (tone and hatching give the sign: colour-blind safe), entry
+///     and leave markers;
+///  2. coefficient traces against the penalty (log or linear, either
+///     direction) or against the L1 budget, with knots marked and names
+///     placed without overlap (leader lines when a label had to move);
+///  3. the selection curve: cross-validated error with its standard-error
+///     band, the minimizer and the one-standard-error choice, information
+///     criteria on a second panel;
+///  4. an XHTML-compatible report that embeds 1-3 and the audit of events,
+///     with no external scripts, fonts or images.
+///
+/// The charts read plain double data (ChartPath, SelectionCurve), so the
+/// compiled library (target knotpath_charts) does not depend on the scalar
+/// type of the trace; chart_path() takes the snapshot of any Path<Scalar>.
+///
+/// Axis ticks use the "nice numbers" rule of P. S. Heckbert, "Nice numbers
+/// for graph labels", Graphics Gems (1990): steps of 1, 2 or 5 times a power
+/// of ten. Colours are from the palette of M. Okabe & K. Ito, "Color
+/// Universal Design" (2002, 2008), which stays distinguishable under the
+/// common colour-vision deficiencies; the sign is also carried by a hatch
+/// pattern so the lanes read in grey print too.
+
+#include <cmath>
+#include <cstddef>
+#include <filesystem>
+#include <limits>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "../detail/scalar.hpp"
+#include "../path.hpp"
+
+namespace knotpath::charts {
+
+/// One knot of the path, in doubles.
+struct ChartKnot {
+  double penalty = 0;       ///< lambda at this knot
+  EventKind event = EventKind::start;
+  Index predictor = -1;     ///< predictor of an enter/leave event, else -1
+  int sign = 0;             ///< sign of the entering (or leaving) coefficient
+  Index active = 0;         ///< active predictors after the event
+  double l1_norm = 0;       ///< sum_j f_j s_j |beta_j|
+  double r_squared = 0;     ///< 1 - RSS / TSS (0 when TSS is 0)
+  std::vector<std::pair<Index, double>> coefficients;  ///< nonzero beta_j, original scale
+};
+
+/// A path as the charts see it: names, knots and what the labels need.
+struct ChartPath {
+  std::vector<std::string> names;    ///< one per predictor (p)
+  std::vector<ChartKnot> knots;      ///< penalties non-increasing
+  std::vector<double> predictor_sd;  ///< per predictor (1/n weighted) standard deviation; empty
+                                     ///< when unknown (then coefficients are drawn as given)
+  double weight_sum = 0;             ///< n (sum of weights), for mu = lambda / sqrt(n)
+  std::string response_name = "response";
+  std::string variant = "lasso";     ///< "lasso" or "least angle"
+  std::string end = "end";           ///< how the path ended: "end" or "stop-..."
+  std::vector<std::string> notes;    ///< excluded and held-out predictors, one line each
+
+  /// Checks sizes and ordering; throws invalid_option naming the problem.
+  void validate() const;
+};
+
+/// Snapshot of a traced path for the charts. `names` must have one entry per
+/// predictor (empty: x1, x2, ...).
+template <class Scalar>
+ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = {},
+                     std::string response_name = "response") {
+  using knotpath::detail::to_double;
+  ChartPath out;
+  const Index p = path.predictors();
+  if (names.empty())
+    for (Index j = 0; j < p; ++j) names.push_back("x" + std::to_string(j + 1));
+  out.names = std::move(names);
+  out.response_name = std::move(response_name);
+  const auto& prep = path.preparation();
+  out.weight_sum = to_double(prep.weight_sum);
+  // s_j is the root weighted sum of squares of the centred column when the
+  // columns are standardized with an intercept, so s_j / sqrt(n) is the
+  // (1/n) standard deviation; in other set-ups the charts show raw slopes.
+  if (prep.standardized && prep.intercept && out.weight_sum > 0) {
+    out.predictor_sd.resize(static_cast<std::size_t>(p), 0.0);
+    for (Index j = 0; j < p; ++j)
+      out.predictor_sd[static_cast<std::size_t>(j)] = to_double(prep.scales(j)) / std::sqrt(out.weight_sum);
+    for (const auto& e : prep.excluded) out.predictor_sd[static_cast<std::size_t>(e.predictor)] = 0.0;
+  }
+  out.variant = path.options().variant == Variant::lasso ? "lasso" : "least angle";
+  out.end = to_string(path.stop_reason());
+  const double tss = to_double(prep.total_sum_of_squares);
+  for (const auto& k : path.knots()) {
+    ChartKnot c;
+    c.penalty = to_double(k.penalty);
+    c.event = k.event;
+    c.predictor = k.predictor;
+    c.sign = k.sign;
+    c.active = k.active;
+    c.l1_norm = to_double(k.l1_norm);
+    c.r_squared = tss > 0 ? 1.0 - to_double(k.rss) / tss : 0.0;
+    for (const auto& [j, b] : k.coefficients) c.coefficients.emplace_back(j, to_double(b));
+    out.knots.push_back(std::move(c));
+  }
+  auto name_of = [&](Index j) {
+    return j >= 0 && static_cast<std::size_t>(j) < out.names.size() ? out.names[static_cast<std::size_t>(j)]
+                                                                     : std::to_string(j);
+  };
+  for (const auto& e : prep.excluded) out.notes.push_back(name_of(e.predictor) + " excluded: " + e.reason);
+  for (const auto& h : path.held_out())
+    out.notes.push_back(name_of(h.predictor) + " held out as collinear at step " + std::to_string(h.step));
+  return out;
+}
+
+/// What the horizontal axis of the path charts measures.
+enum class HorizontalAxis {
+  penalty,    ///< the penalty (lambda, or mu = lambda / sqrt(n))
+  l1_budget,  ///< the penalized L1 norm sum_j f_j s_j |beta_j| of the solution
+};
+
+/// Which penalty the axis shows.
+enum class PenaltyUnit {
+  lambda,  ///< lambda of the objective 0.5 RSS + lambda sum f_j s_j |b_j|
+  mu,      ///< the size-free mu = lambda / sqrt(n) (see DESIGN notes)
+};
+
+/// How coefficient traces are scaled.
+enum class CoefficientScale {
+  per_sd,    ///< beta_j times the standard deviation of x_j: response units per SD of x_j,
+             ///< comparable across predictors (needs ChartPath::predictor_sd)
+  original,  ///< beta_j as fitted: response units per unit of x_j
+};
+
+/// Options of the path charts. Plain data with documented defaults; the
+/// chart functions call validate().
+struct ChartOptions {
+  /// Width of the drawing in SVG user units (pixels); the height follows.
+  double width = 880;
+  /// Predictors that get a lane and a labelled trace: the first this many
+  /// to enter. The rest are counted in a note (and drawn grey, unlabelled,
+  /// in the traces). Must be >= 1.
+  std::size_t max_predictors = 25;
+  /// Penalty or L1 budget along the horizontal axis.
+  HorizontalAxis axis = HorizontalAxis::penalty;
+  /// Log scale for the penalty (ignored for the L1 budget). The end of the
+  /// path at penalty 0 then sits beyond a break in the axis, labelled 0.
+  bool log_penalty = true;
+  /// true: strong penalty on the left, so the model grows from left to
+  /// right; false: penalty increasing from left to right. Either way the
+  /// axis title says which.
+  bool decreasing_penalty_left_to_right = true;
+  /// lambda or mu on the penalty axis.
+  PenaltyUnit penalty_unit = PenaltyUnit::lambda;
+  /// Scale of the traced coefficients.
+  CoefficientScale coefficient_scale = CoefficientScale::per_sd;
+  /// Prefix of every id inside the SVG, so several charts can share one page.
+  /// Letters, digits, '-' and '_' only, starting with a letter.
+  std::string id_prefix = "kp";
+  /// Title above the chart; empty gives a default.
+  std::string title;
+
+  /// Throws invalid_option naming the first bad field.
+  void validate() const;
+};
+
+/// One point of a cross-validation curve.
+struct SelectionPoint {
+  double penalty = 0;         ///< mu (or lambda) of this point
+  double mean_error = 0;      ///< mean over folds of the held-out error
+  double standard_error = 0;  ///< its standard error (>= 0)
+};
+
+/// An information criterion along the path.
+struct CriterionCurve {
+  std::string name;                               ///< e.g. "AIC", "BIC", "Mallows' Cp"
+  std::vector<std::pair<double, double>> values;  ///< (penalty, criterion value)
+};
+
+/// A selection curve as the chart sees it; the selection code fills it.
+struct SelectionCurve {
+  std::string penalty_name = "mu";   ///< "mu" or "lambda": what `penalty` holds
+  std::string error_name = "mean squared prediction error";
+  std::string error_unit;            ///< e.g. "(kg/m2)^2"; empty: "response units squared"
+  std::size_t folds = 0;             ///< cross-validation folds (0: unknown)
+  std::vector<SelectionPoint> points;  ///< the curve, any order (sorted when drawn)
+  double minimizer = std::numeric_limits<double>::quiet_NaN();  ///< penalty of least mean error
+  double minimum_error = std::numeric_limits<double>::quiet_NaN();  ///< the least mean error
+  double one_se = std::numeric_limits<double>::quiet_NaN();  ///< one-standard-error choice
+  std::vector<CriterionCurve> criteria;  ///< drawn on the second panel (may be empty)
+
+  /// Throws invalid_option naming the first problem.
+  void validate() const;
+};
+
+/// Chart 1: activity lanes (SVG 1.1 document text).
+std::string activity_lanes_svg(const ChartPath& path, const ChartOptions& options = {});
+/// Chart 2: coefficient traces (SVG 1.1 document text).
+std::string coefficient_traces_svg(const ChartPath& path, const ChartOptions& options = {});
+/// Chart 3: selection curve (SVG 1.1 document text). The horizontal axis
+/// follows options.log_penalty and options.decreasing_penalty_left_to_right.
+std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions& options = {});
+
+/// Options of the HTML report.
+struct ReportOptions {
+  std::string title = "knotpath report";
+  /// Lines of the summary box, (label, value), e.g. ("data", "demo.csv").
+  std::vector<std::pair<std::string, std::string>> summary;
+  /// Options of the embedded charts (ids are prefixed per chart).
+  ChartOptions charts;
+  /// Also draw the traces against the L1 budget.
+  bool include_budget_traces = true;
+};
+
+/// Chart 4: the one-page report as XHTML-compatible HTML text: summary,
+/// the charts inline as SVG, and the audit table of events. `selection`
+/// may be null (no selection section).
+std::string report_html(const ChartPath& path, const ReportOptions& options = {},
+                        const SelectionCurve* selection = nullptr);
+
+/// Writes `dir`/report.html and the charts as separate files
+/// (`dir`/activity.svg, traces.svg, budget.svg when asked, selection.svg
+/// when `selection` is given), creating `dir` if needed. Returns the files
+/// written. Throws std::runtime_error when a file cannot be written.
+std::vector<std::filesystem::path> write_report(const std::filesystem::path& dir,
+                                                const ChartPath& path,
+                                                const ReportOptions& options = {},
+                                                const SelectionCurve* selection = nullptr);
+
+namespace detail {
+
+/// Ticks of a linear axis covering [lo, hi]: steps of 1, 2 or 5 x 10^k,
+/// about `target` of them, ascending, all inside [lo, hi] (up to rounding).
+std::vector<double> linear_ticks(double lo, double hi, int target = 6);
+/// Ticks of a log axis over [lo, hi] (0 < lo < hi): powers of ten, with 2
+/// and 5 between them when the range is short; ascending, inside [lo, hi].
+std::vector<double> log_ticks(double lo, double hi);
+/// Tick label: the shortest of %g-style forms that reads back as `value`
+/// rounded to `step`/1000 (no 0.30000000000000004).
+std::string tick_label(double value, double step);
+/// Positions for labels wanted at `wanted` (any order) so that neighbours
+/// are at least `gap` apart and all lie in [lo, hi] (as far as they fit);
+/// each output moves its own input as little as the constraints allow
+/// (pool-adjacent-violators on the sorted order). Same order as `wanted`.
+std::vector<double> spread_labels(const std::vector<double>& wanted, double gap, double lo, double hi);
+/// Escapes &, <, >, " and ' for XML text and attributes.
+std::string xml_escape(const std::string& text);
+
+}  // namespace detail
+
+}  // namespace knotpath::charts

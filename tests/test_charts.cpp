@@ -1,0 +1,597 @@
+// Tests of the charts (include/knotpath/io/charts.hpp): every SVG and the
+// HTML report parse as XML with tinyxml2 (an independent parser from
+// Debian's libtinyxml2-dev), have the structure the path implies, keep their
+// coordinates inside the view box, and render to a non-blank PNG with
+// rsvg-convert (Debian librsvg2-bin), decoded with libpng.
+#include <gtest/gtest.h>
+#include <png.h>
+#include <tinyxml2.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <functional>
+#include <set>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <knotpath/io/charts.hpp>
+#include <knotpath/knotpath.hpp>
+
+#include "test_support.hpp"
+
+namespace {
+
+namespace kc = knotpath::charts;
+using knotpath::Index;
+
+// ---------------------------------------------------------------- helpers
+
+struct Parsed {
+  tinyxml2::XMLDocument doc;
+  tinyxml2::XMLError error = tinyxml2::XML_SUCCESS;
+};
+
+std::unique_ptr<Parsed> parse(const std::string& text) {
+  auto p = std::make_unique<Parsed>();
+  p->error = p->doc.Parse(text.c_str(), text.size());
+  return p;
+}
+
+bool has_class(const tinyxml2::XMLElement* e, const std::string& cls) {
+  const char* c = e->Attribute("class");
+  if (!c) return false;
+  std::istringstream words(c);
+  std::string w;
+  while (words >> w)
+    if (w == cls) return true;
+  return false;
+}
+
+void walk(const tinyxml2::XMLElement* e, const std::function<void(const tinyxml2::XMLElement*)>& f) {
+  for (; e; e = e->NextSiblingElement()) {
+    f(e);
+    walk(e->FirstChildElement(), f);
+  }
+}
+
+std::vector<const tinyxml2::XMLElement*> with_class(const tinyxml2::XMLElement* root, const std::string& cls) {
+  std::vector<const tinyxml2::XMLElement*> out;
+  walk(root, [&](const tinyxml2::XMLElement* e) {
+    if (has_class(e, cls)) out.push_back(e);
+  });
+  return out;
+}
+
+std::string text_of(const tinyxml2::XMLElement* e) {
+  const tinyxml2::XMLElement* t = e->FirstChildElement("text");
+  return t && t->GetText() ? t->GetText() : "";
+}
+
+std::string title_of(const tinyxml2::XMLElement* e) {
+  const tinyxml2::XMLElement* t = e->FirstChildElement("title");
+  return t && t->GetText() ? t->GetText() : "";
+}
+
+// Every drawing coordinate outside <defs> lies in the view box (to 0.01, the
+// rounding of the writer).
+void expect_inside_view_box(const tinyxml2::XMLElement* svg) {
+  double vx = 0, vy = 0, vw = 0, vh = 0;
+  ASSERT_NE(svg->Attribute("viewBox"), nullptr);
+  std::istringstream(svg->Attribute("viewBox")) >> vx >> vy >> vw >> vh;
+  ASSERT_GT(vw, 0);
+  ASSERT_GT(vh, 0);
+  const double tol = 0.011;  // coordinates are written to 0.01
+  std::size_t checked = 0;
+  std::function<void(const tinyxml2::XMLElement*)> visit = [&](const tinyxml2::XMLElement* e) {
+    for (; e; e = e->NextSiblingElement()) {
+      if (std::string(e->Name()) == "defs") continue;  // pattern tiles have their own space
+      for (const char* a : {"x", "x1", "x2", "cx"})
+        if (const char* v = e->Attribute(a)) {
+          const double x = std::atof(v);
+          EXPECT_GE(x, vx - tol) << e->Name() << " " << a;
+          EXPECT_LE(x, vx + vw + tol) << e->Name() << " " << a;
+          ++checked;
+        }
+      for (const char* a : {"y", "y1", "y2", "cy"})
+        if (const char* v = e->Attribute(a)) {
+          const double y = std::atof(v);
+          EXPECT_GE(y, vy - tol) << e->Name() << " " << a;
+          EXPECT_LE(y, vy + vh + tol) << e->Name() << " " << a;
+          ++checked;
+        }
+      if (std::string(e->Name()) == "rect") {
+        EXPECT_LE(e->DoubleAttribute("x") + e->DoubleAttribute("width"), vx + vw + tol);
+        EXPECT_LE(e->DoubleAttribute("y") + e->DoubleAttribute("height"), vy + vh + tol);
+      }
+      if (const char* pts = e->Attribute("points")) {
+        std::string s(pts);
+        std::replace(s.begin(), s.end(), ',', ' ');
+        std::istringstream in(s);
+        double x, y;
+        while (in >> x >> y) {
+          EXPECT_GE(x, vx - tol);
+          EXPECT_LE(x, vx + vw + tol);
+          EXPECT_GE(y, vy - tol);
+          EXPECT_LE(y, vy + vh + tol);
+          ++checked;
+        }
+      }
+      visit(e->FirstChildElement());
+    }
+  };
+  visit(svg->FirstChildElement());
+  EXPECT_GT(checked, 20u);  // the walk really saw the drawing
+}
+
+// (position, value) of the labelled penalty-axis ticks, left to right.
+std::vector<std::pair<double, double>> x_ticks(const tinyxml2::XMLElement* svg) {
+  std::vector<std::pair<double, double>> out;
+  for (const auto* g : with_class(svg, "x-tick")) {
+    const auto* line = g->FirstChildElement("line");
+    std::string label = text_of(g);
+    if (label.empty()) label = title_of(g);
+    if (!line || label.empty()) continue;
+    out.emplace_back(line->DoubleAttribute("x1"), std::strtod(label.c_str(), nullptr));
+  }
+  std::sort(out.begin(), out.end());
+  return out;
+}
+
+// Predictors ever active, in order of first entry, computed from the path
+// itself (independently of the chart code).
+std::vector<Index> entry_order(const knotpath::Path<double>& path) {
+  std::vector<Index> order;
+  for (std::size_t k = 0; k < path.knots().size(); ++k) {
+    const auto& knot = path.knots()[k];
+    if (knot.event == knotpath::EventKind::enter &&
+        std::find(order.begin(), order.end(), knot.predictor) == order.end())
+      order.push_back(knot.predictor);
+  }
+  return order;
+}
+
+struct Demo {
+  knotpath::demo::DemoData data = knotpath::demo::greenhouse();
+  knotpath::Path<double> path = knotpath::trace<double>(data.x, data.y);
+  kc::ChartPath chart = kc::chart_path(path, data.predictor_names, data.response_name);
+};
+
+const Demo& demo() {
+  static const Demo d;
+  return d;
+}
+
+// A wide problem: 130 predictors, AR(1) correlated columns (test_support).
+struct Wide {
+  knotpath::testing::Problem problem = knotpath::testing::ar1_problem(90, 130, 0.5, 7u, 12);
+  knotpath::Path<double> path = knotpath::trace<double>(problem.x, problem.y);
+  kc::ChartPath chart = kc::chart_path(path);
+};
+
+const Wide& wide() {
+  static const Wide w;
+  return w;
+}
+
+kc::SelectionCurve small_curve() {
+  kc::SelectionCurve c;
+  c.penalty_name = "mu";
+  c.folds = 5;
+  // An invented U-shaped curve: error (mu - 0.1)^2 + 1 on a log grid.
+  for (int i = 0; i <= 40; ++i) {
+    const double mu = std::pow(10.0, -3.0 + 3.0 * i / 40.0);
+    c.points.push_back({mu, 1 + (mu - 0.1) * (mu - 0.1), 0.05 + 0.02 * mu});
+  }
+  c.minimizer = 0.1;
+  c.minimum_error = 1;
+  c.one_se = 0.3;
+  c.criteria.push_back({"AIC", {{1.0, 50}, {0.3, 20}, {0.1, 12}, {0.01, 15}, {0.0, 18}}});
+  c.criteria.push_back({"BIC", {{1.0, 60}, {0.3, 25}, {0.1, 24}, {0.01, 30}, {0.0, 40}}});
+  return c;
+}
+
+// ------------------------------------------------------------ axis helpers
+
+// Ticks follow Heckbert's "nice numbers" (Graphics Gems, 1990): a step of 1,
+// 2 or 5 times a power of ten, inside the range, ascending.
+TEST(ChartTicks, LinearTicksAreRoundAscendingAndInsideTheRange) {
+  const std::vector<std::pair<double, double>> ranges = {
+      {0, 1}, {-0.58, 1.26}, {0.153, 1.27}, {0, 46.3}, {-3e-5, 7e-5}, {12, 12345}, {-1, -0.2}};
+  for (auto [lo, hi] : ranges) {
+    const auto t = kc::detail::linear_ticks(lo, hi, 6);
+    ASSERT_GE(t.size(), 3u) << lo << " " << hi;
+    const double step = t[1] - t[0];
+    const double mantissa = step / std::pow(10.0, std::floor(std::log10(step)));
+    // 1e-9 relative: the step is a difference of two rounded multiples.
+    EXPECT_TRUE(std::abs(mantissa - 1) < 1e-9 || std::abs(mantissa - 2) < 1e-9 || std::abs(mantissa - 5) < 1e-9 ||
+                std::abs(mantissa - 10) < 1e-9)
+        << "step " << step;
+    for (std::size_t i = 0; i < t.size(); ++i) {
+      EXPECT_GE(t[i], lo - step * 1e-6);
+      EXPECT_LE(t[i], hi + step * 1e-6);
+      if (i) {
+        EXPECT_NEAR(t[i] - t[i - 1], step, step * 1e-9);  // equal spacing up to rounding
+      }
+      // Each tick is an integer multiple of the step (round numbers).
+      EXPECT_NEAR(t[i] / step, std::round(t[i] / step), 1e-6);
+    }
+  }
+}
+
+TEST(ChartTicks, LogTicksArePowersOfTenOrTheir2And5Multiples) {
+  for (auto [lo, hi] : std::vector<std::pair<double, double>>{{0.034, 16.3}, {1e-4, 50}, {0.5, 8}, {1e-12, 1}}) {
+    const auto t = kc::detail::log_ticks(lo, hi);
+    ASSERT_GE(t.size(), 2u);
+    for (std::size_t i = 0; i < t.size(); ++i) {
+      EXPECT_GE(t[i], lo * (1 - 1e-9));
+      EXPECT_LE(t[i], hi * (1 + 1e-9));
+      if (i) {
+        EXPECT_GT(t[i], t[i - 1]);
+      }
+      const double m = t[i] / std::pow(10.0, std::floor(std::log10(t[i]) + 1e-12));
+      EXPECT_TRUE(std::abs(m - 1) < 1e-9 || std::abs(m - 2) < 1e-9 || std::abs(m - 5) < 1e-9) << t[i];
+    }
+  }
+}
+
+TEST(ChartTicks, LabelsAreShortAndReadBack) {
+  EXPECT_EQ(kc::detail::tick_label(0.1 + 0.2, 0.1), "0.3");
+  EXPECT_EQ(kc::detail::tick_label(-0.5, 0.5), "-0.5");
+  EXPECT_EQ(kc::detail::tick_label(20, 10), "20");
+  EXPECT_EQ(kc::detail::tick_label(0.005, 0.005), "0.005");
+  // Outside [1e-4, 1e7) the exponent form; it must read back to the value
+  // to 1e-3 relative (three significant digits are plenty for a tick).
+  const std::string small = kc::detail::tick_label(2e-7, 2e-7);
+  EXPECT_NEAR(std::strtod(small.c_str(), nullptr), 2e-7, 2e-10);
+  EXPECT_LE(small.size(), 6u);
+}
+
+TEST(ChartLabels, SpreadKeepsTheGapTheBoundsAndTheOrder) {
+  const std::vector<double> wanted = {100, 101, 102, 50, 103, 300, 299.5, 10};
+  const double gap = 13, lo = 20, hi = 320;
+  const auto z = kc::detail::spread_labels(wanted, gap, lo, hi);
+  ASSERT_EQ(z.size(), wanted.size());
+  std::vector<std::size_t> order(wanted.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::stable_sort(order.begin(), order.end(), [&](auto a, auto b) { return wanted[a] < wanted[b]; });
+  for (std::size_t i = 0; i < order.size(); ++i) {
+    EXPECT_GE(z[order[i]], lo - 1e-9);
+    EXPECT_LE(z[order[i]], hi + 1e-9);
+    if (i) {
+      EXPECT_GE(z[order[i]] - z[order[i - 1]], gap - 1e-9);  // 1e-9: floating sums of the gap
+    }
+  }
+  // Labels already apart stay where they were wanted.
+  const auto same = kc::detail::spread_labels({40, 80, 120}, 13, 0, 200);
+  EXPECT_NEAR(same[0], 40, 1e-12);
+  EXPECT_NEAR(same[1], 80, 1e-12);
+  EXPECT_NEAR(same[2], 120, 1e-12);
+  // Two labels on top of each other move symmetrically (least squares).
+  const auto pair = kc::detail::spread_labels({100, 100}, 10, 0, 200);
+  EXPECT_NEAR(std::min(pair[0], pair[1]), 95, 1e-12);
+  EXPECT_NEAR(std::max(pair[0], pair[1]), 105, 1e-12);
+}
+
+// ----------------------------------------------------------- chart 1: lanes
+
+TEST(ActivityLanes, OneLanePerActivePredictorInOrderOfEntry) {
+  const auto& d = demo();
+  const std::string svg = kc::activity_lanes_svg(d.chart);
+  auto p = parse(svg);
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+  const auto* root = p->doc.RootElement();
+  EXPECT_STREQ(root->Name(), "svg");
+  EXPECT_STREQ(root->Attribute("version"), "1.1");
+  EXPECT_STREQ(root->Attribute("xmlns"), "http://www.w3.org/2000/svg");
+  const auto order = entry_order(d.path);
+  ASSERT_FALSE(order.empty());
+  const auto lanes = with_class(root, "lane");
+  ASSERT_EQ(lanes.size(), order.size());
+  for (std::size_t i = 0; i < lanes.size(); ++i)
+    EXPECT_EQ(title_of(lanes[i]), d.data.predictor_names[static_cast<std::size_t>(order[i])]);
+  // Every lane has a bar and one entry marker per enter event of its predictor.
+  for (std::size_t i = 0; i < lanes.size(); ++i) {
+    EXPECT_FALSE(with_class(lanes[i]->FirstChildElement(), "bar").empty());
+    std::size_t enters = 0;
+    for (const auto& k : d.path.knots()) enters += k.event == knotpath::EventKind::enter && k.predictor == order[i];
+    EXPECT_EQ(with_class(lanes[i]->FirstChildElement(), "enter").size(), enters);
+  }
+  expect_inside_view_box(root);
+}
+
+TEST(ActivityLanes, NegativeCoefficientsAreHatchedPositiveOnesSolid) {
+  const auto& d = demo();
+  auto p = parse(kc::activity_lanes_svg(d.chart));
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS);
+  // The demo's truth has shading_pct working against the yield (demo.hpp):
+  // its lane carries negative bars only; light_hours positive only.
+  for (const auto* lane : with_class(p->doc.RootElement(), "lane")) {
+    const std::string name = title_of(lane);
+    const auto neg = with_class(lane->FirstChildElement(), "negative");
+    const auto pos = with_class(lane->FirstChildElement(), "positive");
+    if (name == "shading_pct") {
+      EXPECT_FALSE(neg.empty());
+      EXPECT_TRUE(pos.empty());
+      for (const auto* bar : neg) EXPECT_NE(std::string(bar->Attribute("fill")).find("url(#"), std::string::npos);
+    }
+    if (name == "light_hours") {
+      EXPECT_TRUE(neg.empty());
+      EXPECT_FALSE(pos.empty());
+    }
+  }
+}
+
+TEST(ActivityLanes, PenaltyAxisTicksAreMonotoneInTheChosenDirection) {
+  const auto& d = demo();
+  for (bool log : {true, false})
+    for (bool decreasing : {true, false}) {
+      kc::ChartOptions o;
+      o.log_penalty = log;
+      o.decreasing_penalty_left_to_right = decreasing;
+      auto p = parse(kc::activity_lanes_svg(d.chart, o));
+      ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS);
+      const auto ticks = x_ticks(p->doc.RootElement());
+      ASSERT_GE(ticks.size(), 3u);
+      for (std::size_t i = 1; i < ticks.size(); ++i) {
+        if (decreasing)
+          EXPECT_LT(ticks[i].second, ticks[i - 1].second) << "log=" << log;
+        else
+          EXPECT_GT(ticks[i].second, ticks[i - 1].second) << "log=" << log;
+      }
+      // A completed path on a log axis shows penalty 0 beyond a break.
+      EXPECT_EQ(!with_class(p->doc.RootElement(), "zero").empty(), log);
+      // The axis title says which way the penalty runs.
+      EXPECT_NE(std::string(kc::activity_lanes_svg(d.chart, o))
+                    .find(decreasing ? "decreasing to the right" : "increasing to the right"),
+                std::string::npos);
+      expect_inside_view_box(p->doc.RootElement());
+    }
+}
+
+TEST(ActivityLanes, ManyPredictorsShowTheFirstNAndCountTheRest) {
+  const auto& w = wide();
+  const auto order = entry_order(w.path);
+  ASSERT_GT(order.size(), 30u) << "the wide problem should activate many predictors";
+  kc::ChartOptions o;
+  o.max_predictors = 25;
+  const std::string svg = kc::activity_lanes_svg(w.chart, o);
+  auto p = parse(svg);
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS);
+  const auto lanes = with_class(p->doc.RootElement(), "lane");
+  ASSERT_EQ(lanes.size(), 25u);
+  for (std::size_t i = 0; i < lanes.size(); ++i) EXPECT_EQ(title_of(lanes[i]), "x" + std::to_string(order[i] + 1));
+  EXPECT_NE(svg.find(std::to_string(order.size() - 25) + " later entrants hidden"), std::string::npos);
+  expect_inside_view_box(p->doc.RootElement());
+}
+
+// ---------------------------------------------------------- chart 2: traces
+
+TEST(CoefficientTraces, OneLabelledTracePerShownPredictorWithoutOverlap) {
+  const auto& w = wide();
+  const auto order = entry_order(w.path);
+  for (kc::HorizontalAxis axis : {kc::HorizontalAxis::penalty, kc::HorizontalAxis::l1_budget}) {
+    kc::ChartOptions o;
+    o.max_predictors = 40;
+    o.axis = axis;
+    auto p = parse(kc::coefficient_traces_svg(w.chart, o));
+    ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+    const auto* root = p->doc.RootElement();
+    const auto traces = with_class(root, "trace");
+    ASSERT_EQ(traces.size(), std::min<std::size_t>(40, order.size()));
+    // Labels: at least 12 units apart vertically (font size 11; the
+    // spreading keeps 13, minus 0.01 rounding of the written coordinates).
+    std::vector<double> ys;
+    for (const auto* t : traces) ys.push_back(t->FirstChildElement("text")->DoubleAttribute("y"));
+    std::sort(ys.begin(), ys.end());
+    for (std::size_t i = 1; i < ys.size(); ++i) EXPECT_GE(ys[i] - ys[i - 1], 12.0);
+    // The hidden entrants are drawn grey, unlabelled.
+    const auto hidden = with_class(root, "hidden-traces");
+    ASSERT_EQ(hidden.size(), 1u);
+    std::size_t grey = 0;
+    for (const auto* e = hidden[0]->FirstChildElement("polyline"); e; e = e->NextSiblingElement("polyline")) ++grey;
+    EXPECT_EQ(grey, order.size() - 40);
+    expect_inside_view_box(root);
+  }
+}
+
+TEST(CoefficientTraces, KnotsAreMarkedAndTheEndValuesMatchThePath) {
+  const auto& d = demo();
+  kc::ChartOptions o;
+  o.coefficient_scale = kc::CoefficientScale::original;
+  o.log_penalty = false;
+  auto p = parse(kc::coefficient_traces_svg(d.chart, o));
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS);
+  const auto* root = p->doc.RootElement();
+  // One knot line per distinct knot penalty (the demo path has no ties at
+  // pixel resolution: its knots are at least a pixel apart on a linear axis
+  // except near 0, so count at least half of them).
+  EXPECT_GE(with_class(root, "knot").size(), d.path.knots().size() / 2);
+  // Entry markers: one per enter event of the shown predictors.
+  std::size_t enters = 0;
+  for (const auto& k : d.path.knots()) enters += k.event == knotpath::EventKind::enter;
+  EXPECT_EQ(with_class(root, "enter").size(), enters);
+  expect_inside_view_box(root);
+}
+
+// --------------------------------------------------------- chart 3: selection
+
+TEST(SelectionChart, MarksMinimizerAndOneSeChoiceInPenaltyOrder) {
+  const kc::SelectionCurve curve = small_curve();
+  for (bool decreasing : {true, false}) {
+    kc::ChartOptions o;
+    o.decreasing_penalty_left_to_right = decreasing;
+    auto p = parse(kc::selection_curve_svg(curve, o));
+    ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+    const auto* root = p->doc.RootElement();
+    const auto mins = with_class(root, "minimizer");
+    const auto ones = with_class(root, "one-se");
+    ASSERT_EQ(mins.size(), 1u);
+    ASSERT_EQ(ones.size(), 1u);
+    const double xm = mins[0]->FirstChildElement("line")->DoubleAttribute("x1");
+    const double xo = ones[0]->FirstChildElement("line")->DoubleAttribute("x1");
+    // one_se (0.3) is a larger penalty than the minimizer (0.1).
+    if (decreasing)
+      EXPECT_LT(xo, xm);
+    else
+      EXPECT_GT(xo, xm);
+    EXPECT_EQ(with_class(root, "se-band").size(), 1u);
+    EXPECT_EQ(with_class(root, "criterion").size(), 2u);
+    const auto ticks = x_ticks(root);
+    ASSERT_GE(ticks.size(), 3u);
+    for (std::size_t i = 1; i < ticks.size(); ++i)
+      EXPECT_TRUE(decreasing ? ticks[i].second < ticks[i - 1].second : ticks[i].second > ticks[i - 1].second);
+    expect_inside_view_box(root);
+  }
+}
+
+TEST(SelectionChart, RejectsBrokenInput) {
+  kc::SelectionCurve empty;
+  EXPECT_THROW(kc::selection_curve_svg(empty), knotpath::invalid_option);
+  kc::SelectionCurve nan = small_curve();
+  nan.points[3].mean_error = std::nan("");
+  EXPECT_THROW(kc::selection_curve_svg(nan), knotpath::invalid_option);
+  kc::ChartOptions o;
+  o.id_prefix = "1bad";
+  EXPECT_THROW(kc::activity_lanes_svg(demo().chart, o), knotpath::invalid_option);
+  o = {};
+  o.width = 10;
+  EXPECT_THROW(kc::coefficient_traces_svg(demo().chart, o), knotpath::invalid_option);
+}
+
+// ------------------------------------------------------------ chart 4: report
+
+TEST(Report, ParsesEmbedsEveryChartAndReferencesNothingOutside) {
+  const auto& d = demo();
+  const kc::SelectionCurve curve = small_curve();
+  kc::ReportOptions ro;
+  ro.title = "demo <report> & test";  // must be escaped
+  ro.summary = {{"data", "demo"}};
+  const std::string html = kc::report_html(d.chart, ro, &curve);
+  ASSERT_EQ(html.rfind("<!DOCTYPE html>", 0), 0u);
+  auto p = parse(html);
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+  const auto* root = p->doc.RootElement();
+  EXPECT_STREQ(root->Name(), "html");
+  std::size_t svgs = 0, audit_rows = 0;
+  std::set<std::string> ids;
+  walk(root, [&](const tinyxml2::XMLElement* e) {
+    const std::string name = e->Name();
+    svgs += name == "svg";
+    // No scripts, external style sheets, frames, images or objects.
+    for (const char* banned : {"script", "link", "img", "iframe", "object", "embed", "image", "use"})
+      EXPECT_NE(name, banned);
+    for (const auto* a = e->FirstAttribute(); a; a = a->Next()) {
+      const std::string an = a->Name(), av = a->Value();
+      if (an == "href" || an == "xlink:href" || an == "src") {
+        EXPECT_EQ(av.rfind("#", 0), 0u) << av;
+      }
+      if (an.rfind("on", 0) == 0) ADD_FAILURE() << "event handler attribute " << an;
+      if (av.find("url(") != std::string::npos) {
+        EXPECT_NE(av.find("url(#"), std::string::npos) << av;
+      }
+      if (an == "id") {
+        EXPECT_TRUE(ids.insert(av).second) << "duplicate id " << av;
+      }
+    }
+    if (name == "style" && e->GetText()) {
+      const std::string css = e->GetText();
+      EXPECT_EQ(css.find("@import"), std::string::npos);
+      EXPECT_EQ(css.find("@font-face"), std::string::npos);
+      EXPECT_EQ(css.find("url("), std::string::npos);
+    }
+    if (name == "table" && has_class(e, "audit")) {
+      const auto* body = e->FirstChildElement("tbody");
+      for (const auto* r = body->FirstChildElement("tr"); r; r = r->NextSiblingElement("tr")) ++audit_rows;
+    }
+  });
+  EXPECT_EQ(svgs, 4u);  // activity, traces, budget traces, selection
+  EXPECT_EQ(audit_rows, d.path.knots().size());
+  EXPECT_STREQ(root->FirstChildElement("head")->FirstChildElement("title")->GetText(), "demo <report> & test");
+}
+
+TEST(Report, WriteReportWritesEveryFile) {
+  const auto dir = std::filesystem::temp_directory_path() / "knotpath_test_charts_report";
+  std::filesystem::remove_all(dir);
+  const kc::SelectionCurve curve = small_curve();
+  const auto files = kc::write_report(dir, demo().chart, {}, &curve);
+  ASSERT_EQ(files.size(), 5u);
+  for (const auto& f : files) {
+    ASSERT_TRUE(std::filesystem::exists(f)) << f;
+    std::ifstream in(f);
+    std::stringstream text;
+    text << in.rdbuf();
+    auto p = parse(text.str());
+    EXPECT_EQ(p->error, tinyxml2::XML_SUCCESS) << f << ": " << p->doc.ErrorStr();
+  }
+  std::filesystem::remove_all(dir);
+}
+
+// ------------------------------------------------------------- render check
+
+bool have_rsvg() { return std::system("command -v rsvg-convert >/dev/null 2>&1") == 0; }
+
+// Grey levels of a PNG, via libpng's simplified reading interface.
+std::vector<unsigned char> read_grey_png(const std::filesystem::path& file, unsigned& width, unsigned& height) {
+  png_image image{};
+  image.version = PNG_IMAGE_VERSION;
+  if (!png_image_begin_read_from_file(&image, file.c_str())) return {};
+  image.format = PNG_FORMAT_GRAY;
+  std::vector<unsigned char> pixels(PNG_IMAGE_SIZE(image));
+  if (!png_image_finish_read(&image, nullptr, pixels.data(), 0, nullptr)) return {};
+  width = image.width;
+  height = image.height;
+  return pixels;
+}
+
+TEST(RenderCheck, EveryChartRendersToANonBlankPng) {
+  if (!have_rsvg()) GTEST_SKIP() << "rsvg-convert not found (Debian package librsvg2-bin); render check skipped";
+  const auto dir = std::filesystem::temp_directory_path() / "knotpath_test_charts_render";
+  std::filesystem::remove_all(dir);
+  std::filesystem::create_directories(dir);
+  const kc::SelectionCurve curve = small_curve();
+  kc::ChartOptions wide_options;
+  wide_options.max_predictors = 30;
+  const std::vector<std::pair<std::string, std::string>> charts = {
+      {"activity", kc::activity_lanes_svg(demo().chart)},
+      {"traces", kc::coefficient_traces_svg(demo().chart)},
+      {"wide_activity", kc::activity_lanes_svg(wide().chart, wide_options)},
+      {"wide_traces", kc::coefficient_traces_svg(wide().chart, wide_options)},
+      {"selection", kc::selection_curve_svg(curve)},
+  };
+  for (const auto& [name, svg] : charts) {
+    const auto in = dir / (name + ".svg"), out = dir / (name + ".png");
+    std::ofstream(in) << svg;
+    const std::string cmd = "rsvg-convert -o '" + out.string() + "' '" + in.string() + "'";
+    ASSERT_EQ(std::system(cmd.c_str()), 0) << cmd;
+    unsigned w = 0, h = 0;
+    const auto grey = read_grey_png(out, w, h);
+    ASSERT_FALSE(grey.empty()) << "libpng could not decode " << out;
+    auto p = parse(svg);
+    // rsvg-convert renders at the SVG's width and height (1 px per unit).
+    EXPECT_EQ(w, static_cast<unsigned>(std::lround(p->doc.RootElement()->DoubleAttribute("width"))));
+    double mean = 0;
+    std::size_t dark = 0;
+    for (unsigned char g : grey) {
+      mean += g;
+      dark += g < 128;
+    }
+    mean /= static_cast<double>(grey.size());
+    double var = 0;
+    for (unsigned char g : grey) var += (g - mean) * (g - mean);
+    var /= static_cast<double>(grey.size());
+    // A blank (all white) render has variance 0 and no dark pixel. Text,
+    // bars and lines darken a few percent of the area; 0.5% dark pixels and
+    // a standard deviation of 10 grey levels are far below any real chart
+    // (common practice for a smoke test; the demo charts measure several
+    // times more) and far above a blank or near-blank picture.
+    EXPECT_GT(std::sqrt(var), 10.0) << name;
+    EXPECT_GT(static_cast<double>(dark) / static_cast<double>(grey.size()), 0.005) << name;
+  }
+  std::filesystem::remove_all(dir);
+}
+
+}  // namespace
