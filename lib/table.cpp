@@ -372,7 +372,7 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
     ++data_rows_seen;
     const std::size_t line = reader.record_line();
     if (count != width)
-      throw table_error(Kind::content, source, line, std::min(count, width) + (count > width),
+      throw table_error(Kind::content, source, line, std::min(count, width) + 1,
                         "this row has " + std::to_string(count) + " fields but the header has " +
                             std::to_string(width) + " (ragged row)");
     bool drop = false;

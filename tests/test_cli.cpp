@@ -1,0 +1,439 @@
+// End-to-end tests of the knotpath program: they run the built executable
+// (KNOTPATH_CLI_PATH) on small tables and compare what it prints and writes
+// with the library's own answers, check every documented bad-input case
+// (message, exit code, no output file), the demo, and the published lasso
+// sequence of the diabetes data.
+
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
+#include <knotpath/demo.hpp>
+#include <knotpath/io/report.hpp>
+
+#include "test_support.hpp"
+
+namespace {
+
+namespace fs = std::filesystem;
+using knotpath::Index;
+using knotpath::Matrix;
+using knotpath::Vector;
+
+struct Outcome {
+  int code = -1;
+  std::string out, err;
+};
+
+std::string slurp(const fs::path& file) {
+  std::ifstream in(file, std::ios::binary);
+  std::stringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+void spit(const fs::path& file, const std::string& text) {
+  std::ofstream out(file, std::ios::binary);
+  out << text;
+}
+
+// Each test works in its own scratch folder.
+class Cli : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
+    dir_ = fs::temp_directory_path() /
+           fmt::format("knotpath-cli-{}-{}-{}", info->test_suite_name(), info->name(), ::getpid());
+    fs::remove_all(dir_);
+    fs::create_directories(dir_);
+  }
+  void TearDown() override {
+    if (!HasFailure()) fs::remove_all(dir_);
+  }
+
+  fs::path file(const std::string& name) const { return dir_ / name; }
+
+  // Runs the program with `args` (already quoted as needed) in the scratch folder.
+  Outcome run(const std::string& args, const std::string& stdin_file = "/dev/null") const {
+    const fs::path out = dir_ / ".stdout", err = dir_ / ".stderr";
+    const std::string command = fmt::format("cd '{}' && '{}' {} <'{}' >'{}' 2>'{}'", dir_.string(),
+                                            KNOTPATH_CLI_PATH, args, stdin_file, out.string(),
+                                            err.string());
+    const int status = std::system(command.c_str());
+    Outcome r;
+    r.code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+    r.out = slurp(out);
+    r.err = slurp(err);
+    fs::remove(out);
+    fs::remove(err);
+    return r;
+  }
+
+  // Files in the scratch folder (temporary files of failed writes would show here).
+  std::vector<std::string> listing() const {
+    std::vector<std::string> names;
+    for (const auto& entry : fs::directory_iterator(dir_)) names.push_back(entry.path().filename());
+    std::sort(names.begin(), names.end());
+    return names;
+  }
+
+  fs::path dir_;
+};
+
+// A small table: the problem's predictors, the response y and a weights column w.
+void write_problem(const fs::path& file, const knotpath::testing::Problem& p, const Vector<double>& w) {
+  std::ofstream out(file);
+  for (const auto& name : p.names) out << name << ',';
+  out << "y,w\n";
+  for (Index i = 0; i < p.x.rows(); ++i) {
+    for (Index j = 0; j < p.x.cols(); ++j) out << knotpath::io::round_trip(p.x(i, j)) << ',';
+    out << knotpath::io::round_trip(p.y(i)) << ',' << knotpath::io::round_trip(w(i)) << '\n';
+  }
+}
+
+struct KnotTable {
+  std::vector<std::string> header;
+  std::vector<std::vector<std::string>> rows;
+};
+
+std::vector<std::string> split(const std::string& line) {
+  std::vector<std::string> cells;
+  std::stringstream s(line);
+  std::string cell;
+  while (std::getline(s, cell, ',')) cells.push_back(cell);
+  if (!line.empty() && line.back() == ',') cells.emplace_back();
+  return cells;
+}
+
+KnotTable read_knots(const std::string& text) {
+  KnotTable t;
+  std::stringstream s(text);
+  std::string line;
+  std::getline(s, line);
+  t.header = split(line);
+  while (std::getline(s, line)) t.rows.push_back(split(line));
+  return t;
+}
+
+// The CLI parses the 17-significant-digit table back into the very doubles
+// the library is given here (17 digits round-trip, IEEE 754-2008 section 5.12.2),
+// and runs the same code: results agree to rounding noise. 1e-12 relative
+// leaves room for different inlining/vectorisation between the two builds.
+constexpr double kSameComputation = 1e-12;
+
+bool close(double a, double b) { return std::abs(a - b) <= kSameComputation * (1.0 + std::abs(b)); }
+
+// Compares a knot table printed by the program with the library's path.
+void expect_same_path(const KnotTable& table, const knotpath::Path<double>& path,
+                      const std::vector<std::string>& names) {
+  std::vector<std::string> header{"step",    "penalty",   "event",     "predictor",
+                                  "active",  "l1_norm",   "r_squared", "intercept"};
+  header.insert(header.end(), names.begin(), names.end());
+  ASSERT_EQ(table.header, header);
+  ASSERT_EQ(table.rows.size(), path.knots().size());
+  for (std::size_t k = 0; k < path.knots().size(); ++k) {
+    const auto& knot = path.knots()[k];
+    const auto& row = table.rows[k];
+    ASSERT_EQ(row.size(), header.size());
+    EXPECT_EQ(std::stol(row[0]), knot.step);
+    EXPECT_TRUE(close(std::stod(row[1]), knot.penalty)) << row[1] << " vs " << knot.penalty;
+    const std::string event = (knot.event == knotpath::EventKind::end ||
+                               knot.event == knotpath::EventKind::stop)
+                                  ? knotpath::to_string(path.stop_reason())
+                                  : knotpath::to_string(knot.event);
+    EXPECT_EQ(row[2], event);
+    EXPECT_EQ(row[3], knot.predictor >= 0 ? names[static_cast<std::size_t>(knot.predictor)] : "");
+    EXPECT_EQ(std::stol(row[4]), knot.active);
+    EXPECT_TRUE(close(std::stod(row[5]), knot.l1_norm));
+    const double r2 = 1.0 - knot.rss / path.preparation().total_sum_of_squares;
+    EXPECT_TRUE(close(std::stod(row[6]), r2));
+    EXPECT_TRUE(close(std::stod(row[7]), knot.intercept));
+    const Vector<double> beta = path.dense_coefficients(k);
+    for (Index j = 0; j < beta.size(); ++j)
+      EXPECT_TRUE(close(std::stod(row[8 + static_cast<std::size_t>(j)]), beta(j)))
+          << "step " << k << " predictor " << j;
+  }
+}
+
+knotpath::testing::Problem small_problem() {
+  return knotpath::testing::ar1_problem(60, 6, 0.5, 11, 3, 1.0);
+}
+
+Vector<double> small_weights(Index n) {
+  Vector<double> w(n);
+  for (Index i = 0; i < n; ++i) w(i) = 0.5 + static_cast<double>(i % 4) * 0.25;
+  return w;
+}
+
+TEST_F(Cli, TraceOfASmallTableMatchesTheLibraryPath) {
+  const auto p = small_problem();
+  write_problem(file("t.csv"), p, small_weights(p.x.rows()));
+  Outcome r = run("trace t.csv --response y --drop w --knots knots.csv --json path.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_EQ(r.err, "") << "no progress line when stderr is not a terminal";
+  const auto path = knotpath::trace<double>(p.x, p.y);
+  expect_same_path(read_knots(slurp(file("knots.csv"))), path, p.names);
+  // The audit has one line per knot, after the heading and column titles.
+  EXPECT_NE(r.out.find("step"), std::string::npos);
+  EXPECT_NE(r.out.find("stop: end"), std::string::npos);
+  EXPECT_NE(r.out.find("wrote knots.csv"), std::string::npos);
+
+  const auto doc = nlohmann::json::parse(slurp(file("path.json")));
+  EXPECT_EQ(doc["format"], "knotpath-path");
+  ASSERT_EQ(doc["knots"].size(), path.knots().size());
+  EXPECT_EQ(doc["events"].size(), path.events().size());
+  EXPECT_EQ(doc["stop_reason"], "end");
+  EXPECT_EQ(doc["data"]["columns_not_used"], nlohmann::json::array({"w"}));
+  EXPECT_TRUE(close(doc["lambda_max"].get<double>(), path.lambda_max()));
+  // mu = lambda / sqrt(n) (DESIGN.md, "Comparing penalties"), n = 60 rows.
+  EXPECT_TRUE(close(doc["mu_max"].get<double>(), path.lambda_max() / std::sqrt(60.0)));
+}
+
+TEST_F(Cli, ModelOptionsReachTheLibrary) {
+  const auto p = small_problem();
+  const Vector<double> w = small_weights(p.x.rows());
+  write_problem(file("t.csv"), p, w);
+  {
+    Outcome r = run("trace t.csv --response y --weights w --variant least-angle --no-standardize "
+                "--penalty-factor x1=0.5,x3=2 --ridge 0.1 --max-knots 4 --knots k.csv --json k.json");
+    ASSERT_EQ(r.code, 0) << r.err;
+    knotpath::TraceOptions o;
+    o.variant = knotpath::Variant::least_angle;
+    o.standardize = false;
+    o.penalty_factors = {1, 0.5, 1, 2, 1, 1};
+    o.ridge = 0.1;
+    o.max_knots = 4;
+    const auto path = knotpath::trace<double>(p.x, p.y, o, w);
+    EXPECT_EQ(path.stop_reason(), knotpath::StopReason::max_knots);
+    expect_same_path(read_knots(slurp(file("k.csv"))), path, p.names);
+    const auto doc = nlohmann::json::parse(slurp(file("k.json")));
+    EXPECT_EQ(doc["options"]["variant"], "least-angle");
+    EXPECT_EQ(doc["options"]["penalty_factors"]["x3"], 2.0);
+    EXPECT_EQ(doc["data"]["weights"], "w");
+  }
+  {
+    Outcome r = run("trace t.csv --response y --drop w,x5 --nonnegative all --no-intercept "
+                "--min-penalty 1.5 --knots k2.csv");
+    ASSERT_EQ(r.code, 0) << r.err;
+    knotpath::TraceOptions o;
+    o.sign_constraints = {knotpath::SignConstraint::nonnegative};
+    o.fit_intercept = false;
+    o.min_penalty = 1.5;
+    const Matrix<double> x = p.x.leftCols(5);
+    const auto path = knotpath::trace<double>(x, p.y, o);
+    std::vector<std::string> names(p.names.begin(), p.names.begin() + 5);
+    expect_same_path(read_knots(slurp(file("k2.csv"))), path, names);
+  }
+  {
+    Outcome r = run("trace t.csv --response y --use x0,x2,x4 --nonpositive x2 --max-active 2 "
+                "--knots k3.csv");
+    ASSERT_EQ(r.code, 0) << r.err;
+    knotpath::TraceOptions o;
+    o.sign_constraints = {knotpath::SignConstraint::none, knotpath::SignConstraint::nonpositive,
+                          knotpath::SignConstraint::none};
+    o.max_active = 2;
+    Matrix<double> x(p.x.rows(), 3);
+    x << p.x.col(0), p.x.col(2), p.x.col(4);
+    const auto path = knotpath::trace<double>(x, p.y, o);
+    expect_same_path(read_knots(slurp(file("k3.csv"))), path, {"x0", "x2", "x4"});
+  }
+}
+
+TEST_F(Cli, AtAgreesWithTheLibraryQueries) {
+  const auto p = small_problem();
+  write_problem(file("t.csv"), p, small_weights(p.x.rows()));
+  const auto path = knotpath::trace<double>(p.x, p.y);
+  const double lambda = 0.3 * path.lambda_max();
+  const double budget = 0.4 * path.knots().back().l1_norm;
+  struct Query {
+    std::string option;
+    knotpath::Solution<double> expected;
+  };
+  const std::vector<Query> queries = {
+      {fmt::format("--penalty {:.17g}", lambda), path.at_penalty(lambda)},
+      {fmt::format("--mu {:.17g}", lambda / std::sqrt(60.0)), path.at_penalty(lambda)},
+      {fmt::format("--budget {:.17g}", budget), path.at_budget(budget)},
+      {"--fraction 0.5", path.at_fraction(0.5)},
+  };
+  for (const auto& q : queries) {
+    Outcome r = run("at t.csv --response y --drop w --csv " + q.option);
+    ASSERT_EQ(r.code, 0) << r.err;
+    std::stringstream s(r.out);
+    std::string line;
+    std::getline(s, line);
+    EXPECT_EQ(line, "predictor,coefficient");
+    std::getline(s, line);
+    auto cells = split(line);
+    ASSERT_EQ(cells.size(), 2u);
+    EXPECT_EQ(cells[0], "(intercept)");
+    // The mu query goes through lambda = mu * sqrt(n), one rounding more.
+    EXPECT_TRUE(close(std::stod(cells[1]), q.expected.intercept)) << q.option;
+    for (Index j = 0; j < p.x.cols(); ++j) {
+      ASSERT_TRUE(std::getline(s, line));
+      cells = split(line);
+      EXPECT_EQ(cells[0], p.names[static_cast<std::size_t>(j)]);
+      EXPECT_TRUE(close(std::stod(cells[1]), q.expected.coefficients(j)))
+          << q.option << " " << cells[0] << " " << cells[1] << " vs " << q.expected.coefficients(j);
+    }
+    EXPECT_FALSE(std::getline(s, line)) << "one line per term only";
+  }
+  // The aligned form names the point with its penalty and mu.
+  Outcome r = run("at t.csv --response y --drop w --fraction 0.5");
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_NE(r.out.find("(mu "), std::string::npos);
+  EXPECT_NE(r.out.find("(intercept)"), std::string::npos);
+}
+
+TEST_F(Cli, ReadsStandardInputWithDash) {
+  const auto p = small_problem();
+  write_problem(file("t.csv"), p, small_weights(p.x.rows()));
+  ASSERT_EQ(run("trace t.csv --response y --drop w --knots a.csv").code, 0);
+  Outcome r = run("trace - --response y --drop w --knots b.csv", file("t.csv").string());
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_NE(r.out.find("<stdin>"), std::string::npos);
+  EXPECT_EQ(slurp(file("a.csv")), slurp(file("b.csv")));
+}
+
+TEST_F(Cli, BadInputGivesItsMessageExitCodeAndNoOutput) {
+  struct Case {
+    std::string name, text, message;
+  };
+  // Messages as documented in README.md ("Exit codes" and the reader's errors).
+  const std::vector<Case> cases = {
+      {"empty file", "", "bad.csv, line 1: the table is empty (no header row)"},
+      {"header only", "a,b,y\n", "bad.csv, line 2: the table has a header but no data rows"},
+      {"non-numeric cell", "a,b,y\n1,2,3\n4,x,5\n",
+       "bad.csv, line 3, column 2: cell \"x\" in numeric column \"b\" is not a number"},
+      {"empty cell", "a,b,y\n1,,3\n4,5,6\n", "bad.csv, line 2, column 2: empty cell in column \"b\""},
+      {"NaN", "a,b,y\n1,NaN,3\n4,5,6\n", "bad.csv, line 2, column 2: cell \"NaN\" in column \"b\" is not a finite number"},
+      {"Inf", "a,b,y\n1,2,3\n4,5,-Inf\n", "bad.csv, line 3, column 3: cell \"-Inf\" in column \"y\" is not a finite number"},
+      {"ragged row", "a,b,y\n1,2,3\n4,5\n", "bad.csv, line 3, column 3: this row has 2 fields but the header has 3 (ragged row)"},
+      {"duplicate names", "a,b,a,y\n1,2,3,4\n", "bad.csv, line 1, column 3: duplicate column name \"a\""},
+      {"unknown response", "a,b,z\n1,2,3\n", "bad.csv, line 1: unknown column \"y\" (the header has: a, b, z)"},
+      {"unterminated quote", "a,b,y\n1,\"2,3\n", "bad.csv, line 2, column 2: unterminated quoted field"},
+      {"text response", "a,b,y\nx,2,high\n", "bad.csv, line 2, column 3: column \"y\" is a text column"},
+  };
+  for (const auto& c : cases) {
+    SCOPED_TRACE(c.name);
+    spit(file("bad.csv"), c.text);
+    spit(file("old.csv"), "previous content\n");
+    Outcome r = run("trace bad.csv --response y --knots out.csv --json out.json");
+    EXPECT_EQ(r.code, 3);
+    EXPECT_EQ(r.out, "");
+    EXPECT_NE(r.err.find("knotpath: " + c.message), std::string::npos) << r.err;
+    Outcome again = run("trace bad.csv --response y --knots old.csv");
+    EXPECT_EQ(again.code, 3);
+    EXPECT_EQ(slurp(file("old.csv")), "previous content\n") << "existing file replaced on error";
+    EXPECT_EQ(listing(), (std::vector<std::string>{"bad.csv", "old.csv"})) << "stray output";
+  }
+  // The text column that is not asked for is skipped, and said so.
+  spit(file("mixed.csv"), "city,a,y\nOslo,1,2\nBergen,2,1\nTromso,3,5\n");
+  Outcome r = run("trace mixed.csv --response y");
+  EXPECT_EQ(r.code, 0) << r.err;
+  EXPECT_NE(r.out.find("text columns skipped: city"), std::string::npos);
+}
+
+TEST_F(Cli, MissingDropReportsDroppedRows) {
+  spit(file("m.csv"), "a,b,y\n1,2,3\n2,,5\n3,1,4\n4,3,NA\n5,4,9\n6,1,2\n");
+  Outcome strict = run("trace m.csv --response y");
+  EXPECT_EQ(strict.code, 3);
+  Outcome r = run("trace m.csv --response y --missing drop --json m.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_NE(r.out.find("rows dropped for missing cells: 2"), std::string::npos) << r.out;
+  const auto doc = nlohmann::json::parse(slurp(file("m.json")));
+  EXPECT_EQ(doc["data"]["rows_dropped_missing"], 2);
+  EXPECT_EQ(doc["data"]["rows_used"], 4);
+}
+
+TEST_F(Cli, UsageAndOutputErrorsHaveTheirExitCodes) {
+  spit(file("t.csv"), "a,b,y\n1,2,3\n2,1,5\n3,5,4\n");
+  EXPECT_EQ(run("").code, 2);                                        // no command
+  EXPECT_EQ(run("trace t.csv").code, 2);                             // no --response
+  EXPECT_EQ(run("trace t.csv --response y --colour red").code, 2);   // unknown option
+  EXPECT_EQ(run("trace t.csv --response y --variant other").code, 2);
+  EXPECT_EQ(run("at t.csv --response y").code, 2);                   // no point given
+  EXPECT_EQ(run("at t.csv --response y --penalty 1 --fraction 0.5").code, 2);
+  EXPECT_EQ(run("at t.csv --response y --fraction 1.5").code, 2);
+  EXPECT_EQ(run("trace t.csv --response y --penalty-factor a").code, 2);
+  // Sign constraints need the lasso variant (TraceOptions::validate).
+  Outcome sign = run("trace t.csv --response y --variant least-angle --nonnegative a");
+  EXPECT_EQ(sign.code, 2);
+  EXPECT_NE(sign.err.find("sign_constraints"), std::string::npos) << sign.err;
+  Outcome io = run("trace t.csv --response y --knots no-such-folder/k.csv");
+  EXPECT_EQ(io.code, 5);
+  EXPECT_NE(io.err.find("cannot write no-such-folder/k.csv"), std::string::npos) << io.err;
+  EXPECT_EQ(run("trace missing.csv --response y").code, 5);
+  // A successful run replaces an existing output file.
+  spit(file("k.csv"), "previous content\n");
+  ASSERT_EQ(run("trace t.csv --response y --knots k.csv").code, 0);
+  EXPECT_EQ(slurp(file("k.csv")).rfind("step,penalty,event,", 0), 0u);
+}
+
+TEST_F(Cli, HelpForEveryCommandHasAnExampleAndVersionIsProjectVersion) {
+  for (const std::string command : {"", "trace ", "at ", "demo "}) {
+    Outcome r = run(command + "--help");
+    EXPECT_EQ(r.code, 0) << command;
+    EXPECT_NE(r.out.find("Example"), std::string::npos) << command << r.out;
+  }
+  Outcome v = run("--version");
+  EXPECT_EQ(v.code, 0);
+  EXPECT_NE(v.out.find(KNOTPATH_EXPECTED_VERSION), std::string::npos) << v.out;
+}
+
+TEST_F(Cli, DemoRunsAndItsOutputsParse) {
+  Outcome r = run("demo --out demo-out");
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_NE(r.out.find("wrote demo-out/knots.csv"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("wrote demo-out/path.json"), std::string::npos) << r.out;
+  const auto data = knotpath::demo::greenhouse();
+  const KnotTable table = read_knots(slurp(file("demo-out/knots.csv")));
+  // The header fixed in DESIGN.md ("Contracts other code relies on").
+  std::vector<std::string> header{"step",   "penalty", "event",     "predictor",
+                                  "active", "l1_norm", "r_squared", "intercept"};
+  header.insert(header.end(), data.predictor_names.begin(), data.predictor_names.end());
+  EXPECT_EQ(table.header, header);
+  const auto doc = nlohmann::json::parse(slurp(file("demo-out/path.json")));
+  EXPECT_EQ(doc["knots"].size(), table.rows.size());
+  EXPECT_EQ(doc["data"]["response"], data.response_name);
+  // The demo traces its own table; the library on the in-memory data must
+  // give the same path (the table round-trips the doubles).
+  expect_same_path(table, knotpath::trace<double>(data.x, data.y), data.predictor_names);
+  EXPECT_EQ(table.rows.back()[2], "end");
+}
+
+TEST_F(Cli, DiabetesKnotTableHasThePublishedLassoSequence) {
+  KNOTPATH_REQUIRE_REFERENCE(diabetes, "open/diabetes.csv");
+  Outcome r = run(fmt::format("trace '{}' --response progression --knots k.csv", diabetes.string()));
+  ASSERT_EQ(r.code, 0) << r.err;
+  const KnotTable table = read_knots(slurp(file("k.csv")));
+  // Efron, Hastie, Johnstone & Tibshirani (2004), "Least angle regression",
+  // Ann. Statist. 32(2), 407-499: the lasso path of these data enters
+  // bmi, s5, bp, s3, sex, s6, s1, s4, s2, age; s3 then leaves (step 11) and
+  // re-enters (step 12) before the least-squares end.
+  const std::vector<std::pair<std::string, std::string>> expected = {
+      {"start", ""},    {"enter", "bmi"}, {"enter", "s5"}, {"enter", "bp"},  {"enter", "s3"},
+      {"enter", "sex"}, {"enter", "s6"},  {"enter", "s1"}, {"enter", "s4"},  {"enter", "s2"},
+      {"enter", "age"}, {"leave", "s3"},  {"enter", "s3"}, {"end", ""}};
+  ASSERT_EQ(table.rows.size(), expected.size());
+  for (std::size_t k = 0; k < expected.size(); ++k) {
+    EXPECT_EQ(table.rows[k][0], std::to_string(k));
+    EXPECT_EQ(table.rows[k][2], expected[k].first) << "step " << k;
+    EXPECT_EQ(table.rows[k][3], expected[k].second) << "step " << k;
+  }
+  // The end of the path is the least-squares fit; its R^2 on these data is
+  // 0.5177 to four places (from memory); 5e-5 is half a unit in the last place.
+  EXPECT_NEAR(std::stod(table.rows.back()[6]), 0.5177, 5e-5);
+}
+
+}  // namespace
