@@ -625,9 +625,24 @@ PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>&
   PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, path.options(), weights);
   const auto& a = prepared.preparation;
   const auto& b = path.preparation();
-  if (a.predictors != b.predictors || a.used_observations != b.used_observations ||
-      a.columns != b.columns || a.weight_sum != b.weight_sum || a.means != b.means ||
-      a.scales != b.scales || a.response_mean != b.response_mean)
+  // The path may have been prepared another way (e.g. from sufficient
+  // statistics), so the figures agree to rounding, not bit for bit.
+  const Scalar tol = Scalar(1e-9);
+  auto close = [&](const Scalar& u, const Scalar& v, const Scalar& size) {
+    return abs_value<Scalar>(Scalar(u - v)) <= tol * size;
+  };
+  bool same = a.predictors == b.predictors && a.used_observations == b.used_observations &&
+              a.columns == b.columns && a.intercept == b.intercept &&
+              close(a.weight_sum, b.weight_sum, b.weight_sum) &&
+              close(a.response_mean, b.response_mean,
+                    abs_value<Scalar>(b.response_mean) + square_root<Scalar>(b.total_sum_of_squares)) &&
+              close(a.total_sum_of_squares, b.total_sum_of_squares, b.total_sum_of_squares);
+  for (Index j = 0; same && j < b.predictors; ++j) {
+    const Scalar spread = b.standardized ? b.scales(j) : Scalar(1);
+    same = close(a.scales(j), b.scales(j), b.scales(j)) &&
+           close(a.means(j), b.means(j), abs_value<Scalar>(b.means(j)) + spread);
+  }
+  if (!same)
     throw invalid_query("the data (or weights) given do not match the data the path was traced on");
   return prepared;
 }
