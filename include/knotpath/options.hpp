@@ -107,6 +107,14 @@ struct TraceOptions {
                                "sign constraints need the lasso variant (a constrained "
                                "coefficient must leave when it reaches zero)");
     }
+    if (!sign_constraints.empty() && !penalty_factors.empty())
+      for (std::size_t j = 0; j < p; ++j)
+        if (penalty_factors[j] == 0.0 && sign_constraint(j) != SignConstraint::none)
+          throw invalid_option("sign_constraints",
+                               "predictor " + std::to_string(j) +
+                                   " is unpenalized (penalty factor 0) and is fitted by "
+                                   "unconstrained least squares before the path; it cannot "
+                                   "carry a sign constraint");
     if (!std::isfinite(ridge) || ridge < 0.0)
       throw invalid_option("ridge", "must be finite and >= 0");
     if (!std::isfinite(min_penalty) || min_penalty < 0.0)
