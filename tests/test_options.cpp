@@ -535,6 +535,18 @@ TEST(Validation, EachBadOptionNamesItsField) {
     o.min_penalty = m;
     EXPECT_EQ(bad_field(o), "min_penalty") << m;
   }
+  // An unpenalized predictor is fitted by unconstrained least squares before
+  // the path starts, so it cannot carry a sign constraint (neither one of its
+  // own nor the single all-predictor entry).
+  o = {};
+  o.penalty_factors = {1.0, 0.0, 1.0};
+  o.sign_constraints = {SignConstraint::nonnegative};
+  EXPECT_EQ(bad_field(o), "sign_constraints");
+  o.sign_constraints = {SignConstraint::none, SignConstraint::nonpositive, SignConstraint::none};
+  EXPECT_EQ(bad_field(o), "sign_constraints");
+  o.sign_constraints = {SignConstraint::nonnegative, SignConstraint::none, SignConstraint::nonpositive};
+  EXPECT_EQ(bad_field(o), "(no exception)");
+
   o = {};
   o.collinearity_tolerance = 1.0;
   EXPECT_EQ(bad_field(o), "collinearity_tolerance");
