@@ -99,7 +99,7 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
       ->group("Output");
   command->footer(
       "Example:\n"
-      "  knotpath trace patients.csv --response progression --knots knots.csv --json path.json");
+      "  knotpath trace patients.csv --response progression --knots knots.csv --json path.json\n");
   command->callback([args, &global] {
     TracedTable traced = trace_table(args->table, args->model, global);
     require_finite(traced.path);
@@ -138,7 +138,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
       ->group("Output");
   command->footer(
       "Example:\n"
-      "  knotpath at patients.csv --response progression --fraction 0.5 --csv");
+      "  knotpath at patients.csv --response progression --fraction 0.5 --csv\n");
   command->callback([args, &global] {
     if (!args->penalty && !args->mu && !args->budget && !args->fraction)
       throw failure(exit_usage, "at: give one of --penalty, --mu, --budget or --fraction");
@@ -187,7 +187,7 @@ CLI::App* add_demo_command(CLI::App& app, Global& global) {
       "Run the whole job on built-in invented data (greenhouse yields with a known sparse truth)");
   command->add_option("--out", args->out, "Folder for the demo's outputs")
       ->default_str("knotpath-demo");
-  command->footer("Example:\n  knotpath demo --out /tmp/knotpath-demo");
+  command->footer("Example:\n  knotpath demo --out /tmp/knotpath-demo\n");
   command->callback([args, &global] {
     const demo::DemoData data = demo::greenhouse();
     const std::filesystem::path folder(args->out);

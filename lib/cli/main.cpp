@@ -21,7 +21,7 @@ int main(int argc, char** argv) {
       "  knotpath demo\n"
       "  knotpath trace data.csv --response y --knots knots.csv\n"
       "  knotpath at data.csv --response y --penalty 2.5\n"
-      "Run 'knotpath COMMAND --help' for the options of one command.");
+      "Run 'knotpath COMMAND --help' for the options of one command.\n");
   add_trace_command(app, global);
   add_at_command(app, global);
   add_demo_command(app, global);
