@@ -243,6 +243,7 @@ TEST(ChartTicks, LabelsAreShortAndReadBack) {
   EXPECT_EQ(kc::detail::tick_label(-0.5, 0.5), "-0.5");
   EXPECT_EQ(kc::detail::tick_label(20, 10), "20");
   EXPECT_EQ(kc::detail::tick_label(0.005, 0.005), "0.005");
+  EXPECT_EQ(kc::detail::tick_label(0.75, 0.25), "0.75");  // not rounded to the step's first digit
   // Outside [1e-4, 1e7) the exponent form; it must read back to the value
   // to 1e-3 relative (three significant digits are plenty for a tick).
   const std::string small = kc::detail::tick_label(2e-7, 2e-7);

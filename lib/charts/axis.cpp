@@ -83,7 +83,12 @@ std::string tick_label(double value, double step) {
     // Enough decimals to show the step, no trailing zeros.
     int decimals = 0;
     if (step > 0 && std::isfinite(step)) decimals = std::max(0, static_cast<int>(std::ceil(-std::log10(step) - 1e-9)));
-    decimals = std::min(decimals, 12);
+    // More decimals while the text does not read back as the value (a step
+    // of 0.25 needs two although its size suggests one).
+    for (; decimals < 12; ++decimals) {
+      std::snprintf(buf, sizeof buf, "%.*f", decimals, value);
+      if (std::abs(std::strtod(buf, nullptr) - value) <= std::abs(step) * 1e-6) break;
+    }
     std::snprintf(buf, sizeof buf, "%.*f", decimals, value);
     std::string s = buf;
     if (s.find('.') != std::string::npos) {

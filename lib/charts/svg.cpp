@@ -26,6 +26,8 @@ using detail::xml_escape;
 // on white: blue, vermillion, bluish green, reddish purple, orange, sky blue, black.
 const char* const kPalette[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000"};
 constexpr int kPaletteSize = 7;
+// The same hues darkened for text on white (contrast of labels).
+const char* const kTextPalette[] = {"#005A8C", "#B34700", "#007A5A", "#A0507F", "#8F6200", "#2A7DB0", "#000000"};
 // Dash patterns that tell apart lines sharing a colour (every 7th line).
 const char* const kDashes[] = {"", "7 3", "2 2.5", "9 3 2 3"};
 constexpr int kDashCount = 4;
@@ -567,7 +569,8 @@ std::string coefficient_traces_svg(const ChartPath& p, const ChartOptions& o) {
   const std::string what = per_sd ? "coefficient \xC3\x97 SD of its predictor" : "coefficient as fitted";
   c.text(16, 43,
          p.variant + " path of " + p.response_name + "; " + what +
-             "; dots mark knots, rings mark entries (filled) and exits (open)",
+             (p.knots.size() <= 40 ? "; dots mark knots" : "; ticks above the plot mark knots") +
+             "; rings mark entries (filled) and exits (open)",
          "start", 12, "fill=\"" + std::string(kMuted) + "\"");
 
   // Frame, horizontal grid and the vertical axis.
@@ -592,11 +595,17 @@ std::string coefficient_traces_svg(const ChartPath& p, const ChartOptions& o) {
            "font-weight=\"bold\" transform=\"rotate(" + std::string(labels_right ? "-90 " : "90 ") + num(tx) + " " +
                num(ty) + ")\"");
   }
-  // Knots: faint vertical lines.
+  // Knots: a rug of ticks along the top edge, and faint vertical lines
+  // (and dots on the traces) while there are few enough to stay readable.
+  const bool few_knots = p.knots.size() <= 40;
   std::set<long long> seen;
   for (double x : axis.knot_x)
-    if (seen.insert(std::llround(x * 2)).second)
-      c.line(x, top, x, bottom, "class=\"knot\" stroke=\"#D0D4DA\" stroke-width=\"0.7\" stroke-dasharray=\"2 3\"");
+    if (seen.insert(std::llround(x * 2)).second) {
+      c.line(x, top - 6, x, top, "class=\"knot\" stroke=\"" + std::string(kMuted) + "\" stroke-width=\"0.8\"");
+      if (few_knots) c.line(x, top, x, bottom, "stroke=\"#D0D4DA\" stroke-width=\"0.7\" stroke-dasharray=\"2 3\"");
+    }
+  c.text(labels_right ? left : right, top - 9, "knots", labels_right ? "start" : "end", 9,
+         "fill=\"" + std::string(kMuted) + "\"");
 
   // One trace: the points of predictor j from its first entry to the end.
   auto trace_points = [&](Index j) {
@@ -654,7 +663,7 @@ std::string coefficient_traces_svg(const ChartPath& p, const ChartOptions& o) {
         c.circle(x, y, 4, "class=\"enter\" fill=\"" + colour + "\" stroke=\"#FFFFFF\" stroke-width=\"1.2\"");
       else if (knot.predictor == j && knot.event == EventKind::leave)
         c.circle(x, y, 4, "class=\"leave\" fill=\"#FFFFFF\" stroke=\"" + colour + "\" stroke-width=\"1.8\"");
-      else
+      else if (few_knots)
         c.circle(x, y, 1.9, "fill=\"" + colour + "\"");
     }
     // Leader from the end of the trace to its label.
@@ -663,7 +672,8 @@ std::string coefficient_traces_svg(const ChartPath& p, const ChartOptions& o) {
     const double stub = labels_right ? right + 6 : left - 6;
     c.polyline({{ex, ey}, {stub, ey}, {lx - (labels_right ? 4 : -4), ly}},
                "class=\"leader\" stroke=\"" + colour + "\" stroke-width=\"0.8\" opacity=\"0.8\"");
-    c.text(lx, ly + 4, shorten(name, 24), labels_right ? "start" : "end", 11, "fill=\"" + colour + "\"");
+    c.text(lx, ly + 4, shorten(name, 24), labels_right ? "start" : "end", 11,
+           "fill=\"" + std::string(kTextPalette[ii % kPaletteSize]) + "\"");
     c.close_group();
   }
 
@@ -793,20 +803,13 @@ std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions&
     marker(curve.one_se, curve.minimizer, "#009E73", "6 4", "one-SE choice " + sym + " = " + format_value(curve.one_se), 1, "one-se");
   for (auto& draw : pending) draw();
 
-  // Lower panel: each criterion minus its own minimum, so different scales share an axis.
+  // Lower panel: each criterion rescaled to its own range on the path (0 at
+  // its least value, 1 at its largest), since Cp, AIC and BIC are measured
+  // on different scales; only where each is least matters for the choice.
   if (has_criteria) {
-    double cmax = 0;
-    for (const auto& cc : curve.criteria) {
-      double m = std::numeric_limits<double>::infinity();
-      for (const auto& [x, v] : cc.values) m = std::min(m, v);
-      for (const auto& [x, v] : cc.values) cmax = std::max(cmax, v - m);
-    }
-    if (!(cmax > 0)) cmax = 1;
-    cmax *= 1.2;  // headroom for the legend row
-    std::vector<double> ct = detail::linear_ticks(0, cmax, 4);
-    const double cstep = ct.size() > 1 ? ct[1] - ct[0] : 1;
-    const double c_hi = std::ceil(cmax / cstep - 1e-9) * cstep;
-    ct = detail::linear_ticks(0, c_hi, 4);
+    const double c_hi = 1.2;  // headroom for the legend row
+    const std::vector<double> ct = {0, 0.25, 0.5, 0.75, 1};
+    const double cstep = 0.25;
     auto CY = [&](double v) { return crit_top + crit_h - v / c_hi * crit_h; };
     c.rect(left, crit_top, right - left, crit_h, "fill=\"#FBFBFC\" stroke=\"" + std::string(kGrid) + "\"");
     c.open_group("class=\"y-axis criteria\"");
@@ -818,7 +821,7 @@ std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions&
     c.close_group();
     {
       const double tx = 18, ty = crit_top + crit_h / 2;
-      c.text(tx, ty, "criterion \xE2\x88\x92 its minimum", "middle", 12,
+      c.text(tx, ty, "criterion, 0 = least, 1 = largest", "middle", 11,
              "font-weight=\"bold\" transform=\"rotate(-90 " + num(tx) + " " + num(ty) + ")\"");
     }
     double legend_x = left + 8;
@@ -826,16 +829,19 @@ std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions&
       const CriterionCurve& cc = curve.criteria[i];
       std::vector<std::pair<double, double>> values = cc.values;
       std::sort(values.begin(), values.end(), [](const auto& a, const auto& b) { return a.first > b.first; });
-      double m = std::numeric_limits<double>::infinity(), at = 0;
-      for (const auto& [x, v] : values)
+      double m = std::numeric_limits<double>::infinity(), at = 0, top_value = -m;
+      for (const auto& [x, v] : values) {
         if (v < m) {
           m = v;
           at = x;
         }
+        top_value = std::max(top_value, v);
+      }
+      const double range = top_value > m ? top_value - m : 1.0;
       const std::string colour = kPalette[(i + 2) % kPaletteSize];
       const std::string dash = kDashes[(i + 1) % kDashCount];
       std::vector<std::pair<double, double>> pl;
-      for (const auto& [x, v] : values) pl.emplace_back(s(x), CY(v - m));
+      for (const auto& [x, v] : values) pl.emplace_back(s(x), CY((v - m) / range));
       c.open_group("class=\"criterion\"");
       c.title(cc.name);
       c.polyline(pl, "stroke=\"" + colour + "\" stroke-width=\"1.8\" stroke-dasharray=\"" + dash + "\"");

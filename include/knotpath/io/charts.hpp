@@ -38,6 +38,7 @@
 
 #include "../detail/scalar.hpp"
 #include "../path.hpp"
+#include "../select.hpp"
 
 namespace knotpath::charts {
 
@@ -196,6 +197,52 @@ struct SelectionCurve {
   /// Throws invalid_option naming the first problem.
   void validate() const;
 };
+
+/// The selection curve of an exact cross-validation (select.hpp) on the
+/// size-free axis mu: the curve at every merged knot plus
+/// `samples_per_piece` points inside each piece (the curve is quadratic in
+/// mu there), the exact minimizer and the one-standard-error choice, and,
+/// when `criteria` is given, Mallows' Cp, AIC and BIC at the path's knots.
+template <class Scalar>
+SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
+                               const InformationCriteria<Scalar>* criteria = nullptr,
+                               int samples_per_piece = 6) {
+  using knotpath::detail::to_double;
+  SelectionCurve out;
+  out.penalty_name = "mu";
+  out.folds = cv.folds.size();
+  auto add = [&](const Scalar& mu) {
+    const CurvePoint<Scalar> q = cv.point(mu);
+    out.points.push_back({to_double(q.mu), to_double(q.error), to_double(q.standard_error)});
+  };
+  for (const auto& piece : cv.pieces) {
+    add(piece.mu_high);
+    const double hi = to_double(piece.mu_high), lo = to_double(piece.mu_low);
+    for (int i = 1; i < samples_per_piece; ++i) {
+      const double t = static_cast<double>(i) / samples_per_piece;
+      // Geometric spacing suits the log axis; linear when the piece reaches 0.
+      const double mu = lo > 0 ? hi * std::pow(lo / hi, t) : hi + t * (lo - hi);
+      add(Scalar(mu));
+    }
+  }
+  if (!cv.pieces.empty()) add(cv.pieces.back().mu_low);
+  add(cv.minimum.mu);
+  add(cv.parsimonious.mu);
+  out.minimizer = to_double(cv.minimum.mu);
+  out.minimum_error = to_double(cv.minimum.error);
+  out.one_se = to_double(cv.parsimonious.mu);
+  if (criteria) {
+    CriterionCurve cp{"Mallows' Cp", {}}, aic{"AIC", {}}, bic{"BIC", {}};
+    for (const auto& k : criteria->knots) {
+      const double mu = to_double(k.mu);
+      cp.values.emplace_back(mu, to_double(k.mallows_cp));
+      aic.values.emplace_back(mu, to_double(k.aic));
+      bic.values.emplace_back(mu, to_double(k.bic));
+    }
+    out.criteria = {cp, aic, bic};
+  }
+  return out;
+}
 
 /// Chart 1: activity lanes (SVG 1.1 document text).
 std::string activity_lanes_svg(const ChartPath& path, const ChartOptions& options = {});
