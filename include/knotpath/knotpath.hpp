@@ -11,6 +11,8 @@
 #include "demo.hpp"
 #include "design/concept.hpp"
 #include "design/dense.hpp"
+#include "design/gram.hpp"
+#include "design/sparse.hpp"
 #include "errors.hpp"
 #include "factor.hpp"
 #include "options.hpp"

@@ -20,6 +20,13 @@ enum class Variant {
   least_angle,  ///< least angle regression: predictors only enter, never leave
 };
 
+/// How a dense design is handed to the homotopy (see trace()).
+enum class Storage {
+  automatic,  ///< Gram mode when n >= 2 p and p <= 5000, else the dense operator
+  dense,      ///< operator mode: one X^T v per knot, O(n p)
+  gram,       ///< sufficient statistics: X^T X formed once, O(p k) per knot
+};
+
 /// Sign constraint on one coefficient.
 enum class SignConstraint {
   none,         ///< the coefficient may take either sign
@@ -40,6 +47,8 @@ enum class SignConstraint {
 struct TraceOptions {
   /// Lasso (with leave events) or least angle regression.
   Variant variant = Variant::lasso;
+  /// Storage of a dense design during the trace (results agree to rounding).
+  Storage storage = Storage::automatic;
   /// Fit an unpenalized intercept (columns and response are centred).
   bool fit_intercept = true;
   /// Scale columns to unit length before tracing; coefficients are always

@@ -81,6 +81,31 @@ Scalar weighted_norm(const Column& v, const Weights& w) {
 
 }  // namespace detail
 
+namespace detail {
+/// Checks sizes and finiteness of user data; throws invalid_data naming the place.
+template <class Scalar>
+void check_data(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+  const Index n = x.rows();
+  if (y.size() != n)
+    throw invalid_data("the response has " + std::to_string(y.size()) + " values but the design has " +
+                       std::to_string(n) + " rows");
+  if (n == 0) throw invalid_data("the data have no rows");
+  if (weights.size() != 0 && weights.size() != n)
+    throw invalid_data("there are " + std::to_string(weights.size()) + " weights for " +
+                       std::to_string(n) + " rows");
+  for (Index i = 0; i < n; ++i) {
+    if (!is_finite_value(y(i))) throw invalid_data("the response is not finite at row " + std::to_string(i));
+    if (weights.size() != 0 && (!is_finite_value(weights(i)) || weights(i) < Scalar(0)))
+      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
+  }
+  for (Index j = 0; j < x.cols(); ++j)
+    for (Index i = 0; i < n; ++i)
+      if (!is_finite_value(x(i, j)))
+        throw invalid_data("the design is not finite at row " + std::to_string(i) + ", column " +
+                           std::to_string(j));
+}
+}  // namespace detail
+
 /// A prepared dense problem: the design operator and the preparation record.
 template <class Scalar>
 struct PreparedDense {
@@ -97,21 +122,7 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
   const Index n = x.rows();
   const Index p = x.cols();
   options.validate(static_cast<std::size_t>(p));
-  if (y.size() != n)
-    throw invalid_data("the response has " + std::to_string(y.size()) + " values but the design has " +
-                       std::to_string(n) + " rows");
-  if (n == 0) throw invalid_data("the data have no rows");
-  if (weights.size() != 0 && weights.size() != n)
-    throw invalid_data("there are " + std::to_string(weights.size()) + " weights for " +
-                       std::to_string(n) + " rows");
-  for (Index i = 0; i < n; ++i) {
-    if (!detail::is_finite_value(y(i)))
-      throw invalid_data("the response is not finite at row " + std::to_string(i));
-    for (Index j = 0; j < p; ++j)
-      if (!detail::is_finite_value(x(i, j)))
-        throw invalid_data("the design is not finite at row " + std::to_string(i) + ", column " +
-                           std::to_string(j));
-  }
+  detail::check_data(x, y, weights);
   Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
   std::vector<Index> rows;
   for (Index i = 0; i < n; ++i) {
@@ -131,8 +142,9 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
                            "use a 50-digit float");
     for (Index i : rows)
       if (w(i) != Scalar(1))
-        throw invalid_data("exact rational arithmetic supports weights 0 and 1 only (row " +
-                           std::to_string(i) + ")");
+        throw invalid_data("exact rational arithmetic with a dense design supports weights 0 and 1 "
+                           "only (row " + std::to_string(i) + "); TraceOptions::storage = gram "
+                           "handles any rational weights exactly");
   }
   const Index m = static_cast<Index>(rows.size());
 

@@ -43,6 +43,8 @@
 
 #include "design/concept.hpp"
 #include "design/dense.hpp"
+#include "design/gram.hpp"
+#include "design/sparse.hpp"
 #include "detail/scalar.hpp"
 #include "factor.hpp"
 #include "options.hpp"
@@ -96,7 +98,10 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   std::vector<char> blocked(static_cast<std::size_t>(q), 0);      // held out until a leave
   std::vector<int> just_left(static_cast<std::size_t>(q), 0);     // sign it left with, at the last knot
   detail::active_factor_t<Scalar> factor(std::min<Index>(q, design.rows() + 1));
-  Vector<Scalar> cross, d, rhs, active_c;
+  // Work buffers sized once (the active set never exceeds q columns): the loop
+  // below allocates nothing per knot except the knot's own record.
+  Vector<Scalar> cross_buf(q + 1), d_buf(q + 1), rhs_buf(q + 1), active_c_buf(q + 1), b_active_buf(q + 1);
+  a.setZero();
   Scalar rss = design.response_squared_norm();
   std::vector<Knot<Scalar>> knots;
   std::vector<HeldOut<Scalar>> held_out;
@@ -107,6 +112,7 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   double lambda_scale = 0;  // lambda_max (for relative figures)
 
   auto try_add = [&](Index j, const Scalar& lambda, Index step) -> bool {
+    auto cross = cross_buf.head(static_cast<Index>(active.size()));
     design.cross_products(j, std::span<const Index>(active), cross);
     const Scalar diag = design.squared_norm(j) + ridge;
     AddOutcome outcome = factor.add(cross, diag, collinear_tol);
@@ -173,7 +179,7 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       if (factor_of(k) == zero && try_add(k, zero, 0)) unpenalized.push_back(k);
     if (!unpenalized.empty()) {
       const Index m = static_cast<Index>(unpenalized.size());
-      Vector<Scalar> c0(m), b0(m);
+      Vector<Scalar> c0(m), b0(m);  // once, before the loop
       for (Index i = 0; i < m; ++i) c0(i) = c(unpenalized[static_cast<std::size_t>(i)]);
       factor.solve(c0, b0);
       for (Index i = 0; i < m; ++i) b(unpenalized[static_cast<std::size_t>(i)]) = b0(i);
@@ -207,7 +213,9 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   lambda_scale = detail::to_double(lambda);
   record(EventKind::start, lambda, -1, 0);
 
-  std::vector<detail::Candidate<Scalar>> candidates;
+  std::vector<detail::Candidate<Scalar>> candidates, events;
+  candidates.reserve(2 * static_cast<std::size_t>(q) + 2);
+  events.reserve(2 * static_cast<std::size_t>(q) + 2);
   std::size_t steps = 0;
   while (true) {
     if (++steps > step_limit) {
@@ -216,8 +224,8 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       break;
     }
     const Index k_active = static_cast<Index>(active.size());
-    rhs.resize(k_active);
-    d.resize(k_active);
+    auto rhs = rhs_buf.head(k_active);
+    auto d = d_buf.head(k_active);
     for (Index i = 0; i < k_active; ++i) {
       const Index j = active[static_cast<std::size_t>(i)];
       rhs(i) = factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
@@ -272,9 +280,9 @@ Path<typename Design::Scalar> trace_design(const Design& design,
 
     // Advance along the segment.
     if (g > zero) {
-      active_c.resize(k_active);
+      auto active_c = active_c_buf.head(k_active);
       for (Index i = 0; i < k_active; ++i) active_c(i) = c(active[static_cast<std::size_t>(i)]);
-      Vector<Scalar> b_active(k_active);
+      auto b_active = b_active_buf.head(k_active);
       for (Index i = 0; i < k_active; ++i) b_active(i) = b(active[static_cast<std::size_t>(i)]);
       // ||r - g u||^2 with u = Z_A d: u.r = d.(c_A + a2 b_A), u.u = d.rhs - a2 ||d||^2.
       const Scalar u_dot_r = d.dot(active_c) + ridge * d.dot(b_active);
@@ -302,7 +310,7 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     }
 
     // Events at this knot: leaves (ascending index), then entries (ascending index).
-    std::vector<detail::Candidate<Scalar>> events;
+    events.clear();
     for (const auto& cand : candidates)
       if (cand.step <= g_min + tie_tol * (lambda + g_min)) events.push_back(cand);
     std::sort(events.begin(), events.end(), [](const auto& x, const auto& y) {
@@ -356,10 +364,41 @@ Path<typename Design::Scalar> trace_design(const Design& design,
 ///                                              + 0.5 ridge sum_j (s_j beta_j)^2.
 /// `weights` may be empty (all 1). Throws invalid_option or invalid_data.
 /// Cost: about one least-squares fit, O(n p k) for k knots with a dense design.
+/// Storage: TraceOptions::storage; automatic picks Gram mode (sufficient
+/// statistics, O(n p^2) once then O(p k) per knot) when n >= 2 p and
+/// p <= 5000 (the p x p Gram matrix then costs at most 200 MB and is cheaper
+/// than one X^T v per knot over a full path), else the dense operator.
 template <class Scalar>
 Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
                    const Vector<Scalar>& weights = Vector<Scalar>()) {
+  options.validate(static_cast<std::size_t>(x.cols()));
+  const bool gram = options.storage == Storage::gram ||
+                    (options.storage == Storage::automatic && x.rows() >= 2 * x.cols() && x.cols() <= 5000);
+  if (gram) {
+    detail::check_data(x, y, weights);
+    PreparedGram<Scalar> prepared = prepare_gram(SufficientStatistics<Scalar>::from_rows(x, y, weights), options);
+    prepared.preparation.observations = x.rows();
+    return trace_design(prepared.design, prepared.preparation, options);
+  }
   PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, options, weights);
+  return trace_design(prepared.design, prepared.preparation, options);
+}
+
+/// Traces the path of a sparse design (compressed columns, referenced, never
+/// densified; centring and scaling applied implicitly). Same objective and
+/// exceptions as trace(). Cost per knot O(nnz(X) + n) plus the factor.
+template <class Scalar>
+Path<Scalar> trace_sparse(const SparseMatrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
+                          const Vector<Scalar>& weights = Vector<Scalar>()) {
+  PreparedSparse<Scalar> prepared = prepare_sparse<Scalar>(x, y, options, weights);
+  return trace_design(prepared.design, prepared.preparation, options);
+}
+
+/// Traces the path from sufficient statistics computed elsewhere (possibly
+/// merged across row blocks or machines). Same objective as trace().
+template <class Scalar>
+Path<Scalar> trace_statistics(const SufficientStatistics<Scalar>& statistics, const TraceOptions& options = {}) {
+  PreparedGram<Scalar> prepared = prepare_gram(statistics, options);
   return trace_design(prepared.design, prepared.preparation, options);
 }
 

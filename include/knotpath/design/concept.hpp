@@ -8,7 +8,11 @@
 ///  - the response side: response_correlations(c) = Z^T y, response_squared_norm() = y^T y;
 ///  - Gram entries: squared_norm(j) = z_j^T z_j and cross_products(j, A, out)
 ///    with out(i) = z_{A_i}^T z_j (what the factor needs to add column j);
-///  - one product per knot: direction_correlations(A, d, a) with a = Z^T (Z_A d).
+///    `out` is an Eigen::Ref of length |A| that the caller owns;
+///  - one product per knot: direction_correlations(A, d, a) with a = Z^T (Z_A d),
+///    `d` an Eigen::Ref of length |A| and `a` of length q (never resized).
+/// None of these may allocate per call after construction (the hot loop
+/// allocates nothing per knot beyond the knot's own record).
 /// Dense, sparse and sufficient-statistics (Gram) designs implement these
 /// without the homotopy changing.
 

@@ -39,14 +39,13 @@ class DenseDesign {
     for (Index j = 0; j < z_.cols(); ++j) out(j) = z_.col(j).dot(y_);
   }
 
-  void cross_products(Index j, std::span<const Index> active, Vector<Scalar>& out) const {
-    out.resize(static_cast<Index>(active.size()));
+  void cross_products(Index j, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
     for (std::size_t i = 0; i < active.size(); ++i)
       out(static_cast<Index>(i)) = z_.col(active[i]).dot(z_.col(j));
   }
 
   /// a = Z^T (Z_A d): one pass to form u = Z_A d, one product Z^T u.
-  void direction_correlations(std::span<const Index> active, const Vector<Scalar>& d,
+  void direction_correlations(std::span<const Index> active, const Eigen::Ref<const Vector<Scalar>>& d,
                               Vector<Scalar>& out) const {
     work_.setZero();
     for (std::size_t i = 0; i < active.size(); ++i) {

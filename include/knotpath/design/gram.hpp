@@ -1,0 +1,290 @@
+#pragma once
+/// \file design/gram.hpp
+/// \brief Sufficient statistics (weighted means and centred co-moments of the
+/// predictors and the response) and the Gram design operator built on them.
+///
+/// References:
+///  - T. F. Chan, G. H. Golub & R. J. LeVeque (1979), "Updating formulae and
+///    a pairwise algorithm for computing sample variances", Stanford CS report
+///    STAN-CS-79-773 (pairwise merge of means and co-moments).
+///  - B. P. Welford (1962), "Note on a method for calculating corrected sums
+///    of squares and products", Technometrics 4(3), 419-420.
+///
+/// Statistics of a block of rows are computed two-pass inside the block
+/// (block means, then the centred cross-products with one matrix product) and
+/// blocks are merged with Chan et al.'s update
+///     n = na + nb,  delta = mean_b - mean_a,
+///     mean = mean_a + delta * nb / n,
+///     C = C_a + C_b + (na nb / n) delta delta^T,
+/// which never forms raw sums of squares, so large means do not cancel the
+/// spread. Any engine that can add these records across machines can feed the
+/// tracer. Once the statistics exist the path costs O(p k) per knot,
+/// independent of n.
+
+#include <algorithm>
+#include <span>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "../detail/scalar.hpp"
+#include "../errors.hpp"
+#include "../options.hpp"
+#include "../prepare.hpp"
+#include "concept.hpp"
+
+namespace knotpath {
+
+/// Weighted sufficient statistics of (X, y): everything the Gram design needs.
+/// Mergeable: statistics of disjoint row blocks combine exactly as if the
+/// rows had been processed together.
+template <class Scalar>
+struct SufficientStatistics {
+  Scalar weight_sum{0};        ///< sum of weights of the rows seen
+  Index rows = 0;              ///< rows with positive weight
+  Vector<Scalar> means;        ///< weighted predictor means (p)
+  Scalar response_mean{0};     ///< weighted response mean
+  Matrix<Scalar> comoments;    ///< sum_i w_i (x_i - mean)(x_i - mean)^T (p x p)
+  Vector<Scalar> cross;        ///< sum_i w_i (x_i - mean)(y_i - ybar) (p)
+  Scalar response_comoment{0}; ///< sum_i w_i (y_i - ybar)^2
+  Vector<Scalar> minimum, maximum;  ///< per predictor, over rows with positive weight
+
+  /// Number of predictors.
+  Index predictors() const noexcept { return means.size(); }
+
+  /// Statistics of the rows of (x, y) with weights (empty: all 1), computed
+  /// in blocks of `block_rows` rows. One pass over the data; O(n p^2).
+  static SufficientStatistics from_rows(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                        const Vector<Scalar>& weights = Vector<Scalar>(),
+                                        Index block_rows = 512) {
+    if (y.size() != x.rows()) throw invalid_data("response length differs from the design's rows");
+    if (weights.size() != 0 && weights.size() != x.rows())
+      throw invalid_data("weights length differs from the design's rows");
+    SufficientStatistics total = empty(x.cols());
+    for (Index start = 0; start < x.rows(); start += block_rows) {
+      const Index len = std::min(block_rows, x.rows() - start);
+      total.merge(block(x.middleRows(start, len), y.segment(start, len),
+                        weights.size() ? Vector<Scalar>(weights.segment(start, len))
+                                       : Vector<Scalar>(Vector<Scalar>::Ones(len))));
+    }
+    return total;
+  }
+
+  /// Statistics with no rows yet.
+  static SufficientStatistics empty(Index p) {
+    SufficientStatistics s;
+    s.means = Vector<Scalar>::Zero(p);
+    s.comoments = Matrix<Scalar>::Zero(p, p);
+    s.cross = Vector<Scalar>::Zero(p);
+    s.minimum = Vector<Scalar>::Zero(p);
+    s.maximum = Vector<Scalar>::Zero(p);
+    return s;
+  }
+
+  /// Adds the statistics of other rows (Chan, Golub & LeVeque 1979).
+  void merge(const SufficientStatistics& other) {
+    if (other.predictors() != predictors()) throw invalid_data("merging statistics of different widths");
+    if (other.weight_sum == Scalar(0)) return;
+    if (weight_sum == Scalar(0)) {
+      *this = other;
+      return;
+    }
+    const Scalar n = weight_sum + other.weight_sum;
+    const Scalar factor = weight_sum * other.weight_sum / n;
+    const Vector<Scalar> dx = other.means - means;
+    const Scalar dy = other.response_mean - response_mean;
+    for (Index j = 0; j < predictors(); ++j)
+      for (Index i = 0; i < predictors(); ++i)
+        comoments(i, j) += other.comoments(i, j) + factor * dx(i) * dx(j);
+    for (Index j = 0; j < predictors(); ++j) cross(j) += other.cross(j) + factor * dx(j) * dy;
+    response_comoment += other.response_comoment + factor * dy * dy;
+    for (Index j = 0; j < predictors(); ++j) means(j) += dx(j) * other.weight_sum / n;
+    response_mean += dy * other.weight_sum / n;
+    for (Index j = 0; j < predictors(); ++j) {
+      minimum(j) = std::min<Scalar>(minimum(j), other.minimum(j));
+      maximum(j) = std::max<Scalar>(maximum(j), other.maximum(j));
+    }
+    weight_sum = n;
+    rows += other.rows;
+  }
+
+ private:
+  template <class XBlock, class YBlock>
+  static SufficientStatistics block(const XBlock& x, const YBlock& y, const Vector<Scalar>& w) {
+    const Index p = x.cols();
+    SufficientStatistics s = empty(p);
+    std::vector<Index> used;
+    for (Index i = 0; i < x.rows(); ++i) {
+      if (!(w(i) >= Scalar(0))) throw invalid_data("a weight is negative or not a number");
+      if (w(i) > Scalar(0)) used.push_back(i);
+    }
+    if (used.empty()) return s;
+    const Index m = static_cast<Index>(used.size());
+    Matrix<Scalar> xb(m, p);
+    Vector<Scalar> yb(m), wb(m);
+    for (Index r = 0; r < m; ++r) {
+      xb.row(r) = x.row(used[static_cast<std::size_t>(r)]);
+      yb(r) = y(used[static_cast<std::size_t>(r)]);
+      wb(r) = w(used[static_cast<std::size_t>(r)]);
+    }
+    s.rows = m;
+    s.weight_sum = wb.sum();
+    for (Index j = 0; j < p; ++j) {
+      s.means(j) = xb.col(j).dot(wb) / s.weight_sum;
+      s.minimum(j) = xb.col(j).minCoeff();
+      s.maximum(j) = xb.col(j).maxCoeff();
+    }
+    s.response_mean = yb.dot(wb) / s.weight_sum;
+    // Centre, then scale rows by sqrt(w) through the weights on one side.
+    for (Index j = 0; j < p; ++j) xb.col(j).array() -= s.means(j);
+    yb.array() -= s.response_mean;
+    Matrix<Scalar> weighted = xb;
+    for (Index r = 0; r < m; ++r) weighted.row(r) *= wb(r);
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      s.comoments.noalias() = weighted.transpose() * xb;
+      s.cross.noalias() = weighted.transpose() * yb;
+    } else {
+      for (Index j = 0; j < p; ++j) {
+        for (Index i = 0; i <= j; ++i) s.comoments(i, j) = s.comoments(j, i) = weighted.col(i).dot(xb.col(j));
+        s.cross(j) = weighted.col(j).dot(yb);
+      }
+    }
+    for (Index r = 0; r < m; ++r) s.response_comoment += wb(r) * yb(r) * yb(r);
+    return s;
+  }
+};
+
+/// Gram design operator: prepared Gram matrix G = Z^T Z (q x q), Z^T y and
+/// y^T y. Per knot: O(q k) for the direction correlations; Gram entries O(1).
+template <class ScalarT>
+class GramDesign {
+ public:
+  using Scalar = ScalarT;
+
+  GramDesign() = default;
+  GramDesign(Matrix<Scalar> gram, Vector<Scalar> response_cross, Scalar response_norm2, Index rows)
+      : g_(std::move(gram)), c_(std::move(response_cross)), yy_(std::move(response_norm2)), rows_(rows) {}
+
+  Index rows() const noexcept { return rows_; }
+  Index cols() const noexcept { return g_.cols(); }
+  Scalar squared_norm(Index j) const { return g_(j, j); }
+  Scalar response_squared_norm() const { return yy_; }
+  void response_correlations(Vector<Scalar>& out) const { out = c_; }
+  void cross_products(Index j, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
+    for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = g_(active[i], j);
+  }
+  /// a = G[:, A] d.
+  void direction_correlations(std::span<const Index> active, const Eigen::Ref<const Vector<Scalar>>& d,
+                              Vector<Scalar>& out) const {
+    out.setZero(g_.cols());
+    for (std::size_t i = 0; i < active.size(); ++i) {
+      const Scalar coefficient = d(static_cast<Index>(i));
+      if constexpr (std::is_floating_point_v<Scalar>) {
+        out.noalias() += coefficient * g_.col(active[i]);
+      } else {
+        for (Index r = 0; r < g_.rows(); ++r) out(r) += coefficient * g_(r, active[i]);
+      }
+    }
+  }
+  /// The prepared Gram matrix.
+  const Matrix<Scalar>& gram() const noexcept { return g_; }
+
+ private:
+  Matrix<Scalar> g_;   // Z^T Z of the prepared columns
+  Vector<Scalar> c_;   // Z^T y
+  Scalar yy_{0};       // y^T y (centred, weighted)
+  Index rows_ = 0;     // rows with positive weight
+};
+
+/// A prepared Gram problem.
+template <class Scalar>
+struct PreparedGram {
+  GramDesign<Scalar> design;
+  Preparation<Scalar> preparation;
+};
+
+/// Prepares a Gram problem from sufficient statistics, applying the same
+/// centring, scaling and exclusions as prepare_dense (see prepare.hpp).
+/// Without an intercept the raw (uncentred) cross-products are rebuilt from
+/// the centred ones: C + n m m^T.
+template <class Scalar>
+PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, const TraceOptions& options) {
+  const Index p = stats.predictors();
+  options.validate(static_cast<std::size_t>(p));
+  if (stats.rows == 0) throw invalid_data("no observation has a positive weight");
+  if constexpr (detail::is_exact_v<Scalar>) {
+    if (options.standardize)
+      throw invalid_option("standardize",
+                           "exact rational arithmetic cannot take the square roots that scaling "
+                           "columns to unit length needs; trace with standardize = false");
+  }
+  Preparation<Scalar> prep;
+  prep.observations = stats.rows;
+  prep.used_observations = stats.rows;
+  prep.predictors = p;
+  prep.intercept = options.fit_intercept;
+  prep.standardized = options.standardize;
+  prep.weight_sum = stats.weight_sum;
+  prep.means = Vector<Scalar>::Zero(p);
+  prep.scales = Vector<Scalar>::Ones(p);
+  const Scalar n = stats.weight_sum;
+  // Second moments about the centre in use (the means, or 0 without intercept).
+  auto moment = [&](Index i, Index j) -> Scalar {
+    if (options.fit_intercept) return stats.comoments(i, j);
+    return stats.comoments(i, j) + n * stats.means(i) * stats.means(j);
+  };
+  auto moment_y = [&](Index j) -> Scalar {
+    if (options.fit_intercept) return stats.cross(j);
+    return stats.cross(j) + n * stats.means(j) * stats.response_mean;
+  };
+  prep.response_mean = options.fit_intercept ? stats.response_mean : Scalar(0);
+  prep.total_sum_of_squares = options.fit_intercept
+                                  ? stats.response_comoment
+                                  : Scalar(stats.response_comoment + n * stats.response_mean * stats.response_mean);
+  for (Index j = 0; j < p; ++j) {
+    const double factor = options.penalty_factor(static_cast<std::size_t>(j));
+    const bool constant = stats.minimum(j) == stats.maximum(j);
+    const bool all_zero = constant && stats.minimum(j) == Scalar(0);
+    if (all_zero) {
+      prep.excluded.push_back({j, "all-zero column"});
+      continue;
+    }
+    if (options.fit_intercept && constant) {
+      prep.excluded.push_back({j, "constant column (absorbed by the intercept)"});
+      continue;
+    }
+    if (std::isinf(factor)) {
+      prep.excluded.push_back({j, "infinite penalty factor"});
+      continue;
+    }
+    Scalar scale(1);
+    if (options.standardize) {
+      const Scalar m2 = moment(j, j);
+      if (!(m2 > Scalar(0))) {
+        prep.excluded.push_back({j, "column scale is zero or not representable"});
+        continue;
+      }
+      scale = detail::square_root<Scalar>(m2);
+    }
+    if (options.fit_intercept) prep.means(j) = stats.means(j);
+    prep.scales(j) = scale;
+    prep.columns.push_back(j);
+    prep.penalty_factors.push_back(factor);
+    prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
+  }
+  const Index q = static_cast<Index>(prep.columns.size());
+  Matrix<Scalar> g(q, q);
+  Vector<Scalar> c(q);
+  for (Index b = 0; b < q; ++b) {
+    const Index jb = prep.columns[static_cast<std::size_t>(b)];
+    for (Index a = 0; a < q; ++a) {
+      const Index ja = prep.columns[static_cast<std::size_t>(a)];
+      g(a, b) = moment(ja, jb) / (prep.scales(ja) * prep.scales(jb));
+    }
+    c(b) = moment_y(jb) / prep.scales(jb);
+  }
+  return {GramDesign<Scalar>(std::move(g), std::move(c), prep.total_sum_of_squares, stats.rows),
+          std::move(prep)};
+}
+
+}  // namespace knotpath
