@@ -64,13 +64,17 @@ class IdentityDesign {
   double squared_norm(Index) const { return 1.0; }
   double response_squared_norm() const { return y_.squaredNorm(); }
   void response_correlations(Vector<double>& out) const { out = y_; }
-  void cross_products(Index j, std::span<const Index> active, Vector<double>& out) const {
-    out.resize(static_cast<Index>(active.size()));
+  // Templates on the output types: the tracer may pass plain vectors or
+  // Eigen::Ref views (sized by the caller).
+  template <class Out>
+  void cross_products(Index j, std::span<const Index> active, Out&& out) const {
+    kp::detail::fit_size(out, static_cast<Index>(active.size()));
     for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = active[i] == j ? 1.0 : 0.0;
   }
-  void direction_correlations(std::span<const Index> active, const Vector<double>& d,
-                              Vector<double>& out) const {
-    out.setZero(y_.size());
+  template <class Coefficients, class Out>
+  void direction_correlations(std::span<const Index> active, const Coefficients& d, Out&& out) const {
+    kp::detail::fit_size(out, y_.size());
+    out.setZero();
     for (std::size_t i = 0; i < active.size(); ++i) out(active[i]) = d(static_cast<Index>(i));
   }
 

@@ -57,6 +57,7 @@
 #include <numbers>
 #include <span>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include <Eigen/Cholesky>
@@ -154,27 +155,42 @@ inline double f2_upper_tail(double t, double d) {
   return std::exp(-0.5 * d * std::log1p(2.0 * t / d));
 }
 
+/// Resizes a plain vector to n; a fixed-size view (Eigen::Ref, a block) is
+/// left alone (the caller sized it).
+template <class Out>
+void fit_size(Out& out, Index n) {
+  if constexpr (requires { out.conservativeResize(n); })
+    out.resize(n);
+}
+
 /// A view of some columns of a design operator (for the reduced problems).
+/// Output arguments are templates so that the view follows whichever vector
+/// types (plain vectors or Eigen::Ref views) the tracer passes.
 template <DesignOperator Base>
 class ColumnSubset {
  public:
   using Scalar = typename Base::Scalar;
-  ColumnSubset(const Base& base, std::vector<Index> columns) : base_(base), cols_(std::move(columns)) {}
+  ColumnSubset(const Base& base, std::vector<Index> columns)
+      : base_(base), cols_(std::move(columns)), full_(Vector<Scalar>::Zero(base.cols())) {}
 
   Index rows() const { return base_.rows(); }
   Index cols() const { return static_cast<Index>(cols_.size()); }
   Scalar squared_norm(Index j) const { return base_.squared_norm(cols_[static_cast<std::size_t>(j)]); }
   Scalar response_squared_norm() const { return base_.response_squared_norm(); }
-  void response_correlations(Vector<Scalar>& out) const {
+  template <class Out>
+  void response_correlations(Out&& out) const {
     base_.response_correlations(full_);
     gather(out);
   }
-  void cross_products(Index j, std::span<const Index> active, Vector<Scalar>& out) const {
+  template <class Out>
+  void cross_products(Index j, std::span<const Index> active, Out&& out) const {
     map(active);
-    base_.cross_products(cols_[static_cast<std::size_t>(j)], std::span<const Index>(mapped_), out);
+    fit_size(out, static_cast<Index>(active.size()));
+    base_.cross_products(cols_[static_cast<std::size_t>(j)], std::span<const Index>(mapped_),
+                         std::forward<Out>(out));
   }
-  void direction_correlations(std::span<const Index> active, const Vector<Scalar>& d,
-                              Vector<Scalar>& out) const {
+  template <class Coefficients, class Out>
+  void direction_correlations(std::span<const Index> active, const Coefficients& d, Out&& out) const {
     map(active);
     base_.direction_correlations(std::span<const Index>(mapped_), d, full_);
     gather(out);
@@ -185,14 +201,15 @@ class ColumnSubset {
     mapped_.clear();
     for (Index a : active) mapped_.push_back(cols_[static_cast<std::size_t>(a)]);
   }
-  void gather(Vector<Scalar>& out) const {
-    out.resize(cols());
+  template <class Out>
+  void gather(Out& out) const {
+    fit_size(out, cols());
     for (Index i = 0; i < cols(); ++i) out(i) = full_(cols_[static_cast<std::size_t>(i)]);
   }
   const Base& base_;
   std::vector<Index> cols_;
   mutable std::vector<Index> mapped_;
-  mutable Vector<Scalar> full_;
+  mutable Vector<Scalar> full_;  // length base.cols()
 };
 
 }  // namespace detail
@@ -264,15 +281,23 @@ Significance entry_significance(const Design& design, const Path<typename Design
     const double lambda = detail::to_double(knots[r].penalty);
     double next = std::numeric_limits<double>::quiet_NaN();
     std::string next_note;
+    std::size_t next_row = knots.size();
     for (std::size_t i = end; i < knots.size(); ++i) {
       if (knots[i].penalty == knots[r].penalty) continue;
-      if (knots[i].event == EventKind::stop)
+      if (knots[i].event == EventKind::stop) {
         next_note = "the path stopped before the next knot";
-      else
+      } else {
         next = detail::to_double(knots[i].penalty);
+        next_row = i;
+      }
       break;
     }
     if (std::isnan(next) && next_note.empty()) next_note = "no knot follows";
+    // On a lasso path a leave at the next knot means the least-angle path
+    // would have had a different next knot.
+    bool next_is_leave = false;
+    for (std::size_t i = next_row; i < knots.size() && knots[i].penalty == knots[next_row].penalty; ++i)
+      if (knots[i].event == EventKind::leave) next_is_leave = true;
     const bool tied = end - r > 1;
 
     for (std::size_t i = r; i < end; ++i) {
@@ -293,7 +318,7 @@ Significance entry_significance(const Design& design, const Path<typename Design
       if (!lasso) {
         notes.push_back("the covariance test is computed for the lasso variant");
       } else if (usable) {
-        const Scalar next_s(next);
+        const Scalar next_s = knots[next_row].penalty;
         Scalar reduced(0);
         if (!active.empty()) {
           std::vector<Index> cols;
@@ -323,7 +348,7 @@ Significance entry_significance(const Design& design, const Path<typename Design
       }
 
       // Spacing test: omega from the Gram matrix of A_k (A_{k-1} first, then j).
-      if (left_before) {
+      if (left_before || next_is_leave) {
         notes.push_back("the spacing test covers least-angle steps (before the first leave event)");
       } else if (usable) {
         const Index col = position[static_cast<std::size_t>(row.predictor)];
@@ -339,6 +364,7 @@ Significance entry_significance(const Design& design, const Path<typename Design
         Matrix<Scalar> gram(m, m);
         Vector<Scalar> cross;
         for (Index a = 0; a < m; ++a) {
+          cross.resize(a);
           design.cross_products(cols[static_cast<std::size_t>(a)],
                                 std::span<const Index>(cols.data(), static_cast<std::size_t>(a)), cross);
           for (Index b = 0; b < a; ++b) gram(a, b) = gram(b, a) = cross(b);
