@@ -124,6 +124,8 @@ Scalar parse_decimal(std::string_view text) {
     using boost::multiprecision::cpp_int;
     if (exponent > 4000 || exponent < -4000)
       throw invalid_data("'" + std::string(text) + "' has an exponent out of range");
+    // Leading zeros dropped: cpp_int reads "025" as octal.
+    digits.erase(0, std::min(digits.find_first_not_of('0'), digits.size()));
     cpp_int mantissa(digits.empty() ? std::string("0") : digits);
     cpp_int power = boost::multiprecision::pow(cpp_int(10), static_cast<unsigned>(std::llabs(exponent)));
     Scalar value = exponent >= 0 ? Scalar(mantissa * power) : Scalar(mantissa) / Scalar(power);
