@@ -369,6 +369,42 @@ TEST(ActivityLanes, ManyPredictorsShowTheFirstNAndCountTheRest) {
   expect_inside_view_box(p->doc.RootElement());
 }
 
+TEST(ActivityLanes, StoppedAndLeastAnglePathsAreDrawnHonestly) {
+  const auto& d = demo();
+  knotpath::TraceOptions stop;
+  stop.max_knots = 5;
+  const auto stopped = knotpath::trace<double>(d.data.x, d.data.y, stop);
+  ASSERT_TRUE(stopped.stopped_early());
+  const std::string svg = kc::activity_lanes_svg(kc::chart_path(stopped, d.data.predictor_names));
+  auto p = parse(svg);
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS);
+  EXPECT_EQ(with_class(p->doc.RootElement(), "lane").size(), entry_order(stopped).size());
+  // No penalty-0 slot for a path that never reached 0, and the note says why it ended.
+  EXPECT_TRUE(with_class(p->doc.RootElement(), "zero").empty());
+  EXPECT_NE(svg.find("stopped early (stop-max-knots)"), std::string::npos);
+  expect_inside_view_box(p->doc.RootElement());
+
+  knotpath::TraceOptions lar;
+  lar.variant = knotpath::Variant::least_angle;
+  const auto angle = knotpath::trace<double>(wide().problem.x, wide().problem.y, lar);
+  kc::ChartOptions o;
+  o.max_predictors = 200;
+  auto q = parse(kc::activity_lanes_svg(kc::chart_path(angle), o));
+  ASSERT_EQ(q->error, tinyxml2::XML_SUCCESS);
+  EXPECT_EQ(with_class(q->doc.RootElement(), "lane").size(), entry_order(angle).size());
+  EXPECT_TRUE(with_class(q->doc.RootElement(), "leave").empty());  // least angle: no exits
+  expect_inside_view_box(q->doc.RootElement());
+}
+
+TEST(ActivityLanes, RejectsAPathWhoseNamesDoNotCoverItsPredictors) {
+  kc::ChartPath bad = demo().chart;
+  bad.names.resize(2);
+  EXPECT_THROW(kc::activity_lanes_svg(bad), knotpath::invalid_option);
+  bad = demo().chart;
+  std::swap(bad.knots[1], bad.knots[2]);  // penalties no longer non-increasing
+  EXPECT_THROW(kc::coefficient_traces_svg(bad), knotpath::invalid_option);
+}
+
 // ---------------------------------------------------------- chart 2: traces
 
 TEST(CoefficientTraces, OneLabelledTracePerShownPredictorWithoutOverlap) {

@@ -36,6 +36,7 @@ table.audit td.text, table.audit th.text { text-align: left; }
 table.audit tr.leave td { background: #FFF4E0; }
 figure { margin: 12px 0; overflow-x: auto; }
 figure svg { max-width: 100%; height: auto; }
+figcaption { color: #5A5A5A; font-size: 13px; }
 ul.notes { color: #5A5A5A; font-size: 13px; }
 footer { margin-top: 32px; color: #5A5A5A; font-size: 12px; }
 )";
