@@ -402,3 +402,22 @@ TEST(InformationCriteria, NonzeroCountIsUnbiasedForTheDegreesOfFreedom) {
   EXPECT_GT(count_mean, 2.0);  // the penalty leaves a nontrivial model
   EXPECT_LT(count_mean, 6.0);
 }
+
+// A path that stops early (here after 3 knots) says nothing below its last
+// knot: the curve's domain ends there and the choices stay inside it.
+TEST(CrossValidation, PathsThatStopEarlyLimitTheDomain) {
+  const auto prob = kp::testing::ar1_problem(50, 8, 0.4, 6, 4, 1.0);
+  kp::TraceOptions options;
+  options.max_knots = 3;
+  kp::CrossValidationOptions cv;
+  cv.folds = 5;
+  const auto result = kp::cross_validate<double>(prob.x, prob.y, options, cv);
+  EXPECT_GT(result.mu_low, 0.0);
+  double lowest = 0;
+  for (const auto& f : result.folds) lowest = std::max(lowest, f.mu_min());
+  lowest = std::max(lowest, result.full_path.knots().back().penalty / std::sqrt(50.0));
+  EXPECT_EQ(result.mu_low, lowest);
+  EXPECT_GE(result.minimum.mu, result.mu_low);
+  EXPECT_FALSE(result.full_path.at_penalty(result.minimum.lambda).beyond_path);
+  EXPECT_THROW(result.error_at(0.5 * result.mu_low), kp::invalid_query);
+}

@@ -234,7 +234,7 @@ struct CrossValidation {
   Scalar full_scale{0};                ///< penalty_scale of all the data: lambda = mu * full_scale
   Scalar total_weight{0};              ///< W = sum of the held-out weights of all folds
   Scalar mu_high{0};                   ///< top of the curve's domain (every fit is empty above it)
-  Scalar mu_low{0};                    ///< bottom of the domain (0 unless a fold path stopped early)
+  Scalar mu_low{0};                    ///< bottom of the domain (0 unless a path stopped early)
   std::vector<CurvePiece<Scalar>> pieces;  ///< the exact curve, descending in mu
   PenaltyChoice<Scalar> minimum;       ///< exact global minimizer (the largest mu among ties)
   PenaltyChoice<Scalar> parsimonious;  ///< largest mu with CV <= CV(min) + SE(min)
@@ -489,7 +489,10 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
   // The domain and the merged grid.
   result.total_weight = Scalar(0);
   result.mu_high = result.full_path.lambda_max() / result.full_scale;
-  result.mu_low = Scalar(0);
+  // Below the last knot of a path that stopped early nothing is known.
+  result.mu_low = result.full_path.stopped_early()
+                      ? Scalar(result.full_path.knots().back().penalty / result.full_scale)
+                      : Scalar(0);
   for (const auto& f : result.folds) {
     result.total_weight += f.held_out_weight;
     result.mu_high = std::max<Scalar>(result.mu_high, f.mu_max());
