@@ -9,7 +9,7 @@ packages=(
   libeigen3-dev libboost-dev libgmp-dev libmpfr-dev
   libgtest-dev libbenchmark-dev
   libcli11-dev libfmt-dev nlohmann-json3-dev
-  libtinyxml2-dev librsvg2-bin
+  libtinyxml2-dev libpng-dev librsvg2-bin pkg-config
   python3 python3-cvxopt python3-numpy
 )
 

@@ -1,0 +1,48 @@
+# Installation: headers (plus the generated version header), the compiled
+# extras, the command-line program, a CMake package with exported targets and
+# a pkg-config file for the header-only core.
+include(GNUInstallDirs)
+include(CMakePackageConfigHelpers)
+
+set(KNOTPATH_CMAKE_DIR ${CMAKE_INSTALL_LIBDIR}/cmake/knotpath)
+
+install(DIRECTORY ${PROJECT_SOURCE_DIR}/include/knotpath DESTINATION ${CMAKE_INSTALL_INCLUDEDIR})
+install(FILES ${KNOTPATH_GENERATED_INCLUDE}/knotpath/version.hpp
+        DESTINATION ${CMAKE_INSTALL_INCLUDEDIR}/knotpath)
+
+set(_knotpath_export_targets knotpath knotpath_warnings)
+if(TARGET knotpath_io)
+  set_target_properties(knotpath_io PROPERTIES EXPORT_NAME io)
+  list(APPEND _knotpath_export_targets knotpath_io)
+endif()
+if(TARGET knotpath_charts)
+  set_target_properties(knotpath_charts PROPERTIES EXPORT_NAME charts)
+  list(APPEND _knotpath_export_targets knotpath_charts)
+endif()
+install(TARGETS ${_knotpath_export_targets} EXPORT knotpathTargets
+        ARCHIVE DESTINATION ${CMAKE_INSTALL_LIBDIR}
+        LIBRARY DESTINATION ${CMAKE_INSTALL_LIBDIR}
+        INCLUDES DESTINATION ${CMAKE_INSTALL_INCLUDEDIR})
+install(EXPORT knotpathTargets NAMESPACE knotpath:: DESTINATION ${KNOTPATH_CMAKE_DIR})
+
+configure_package_config_file(${PROJECT_SOURCE_DIR}/cmake/knotpathConfig.cmake.in
+  ${PROJECT_BINARY_DIR}/knotpathConfig.cmake INSTALL_DESTINATION ${KNOTPATH_CMAKE_DIR})
+write_basic_package_version_file(${PROJECT_BINARY_DIR}/knotpathConfigVersion.cmake
+  VERSION ${PROJECT_VERSION} COMPATIBILITY SameMinorVersion ARCH_INDEPENDENT)
+install(FILES ${PROJECT_BINARY_DIR}/knotpathConfig.cmake ${PROJECT_BINARY_DIR}/knotpathConfigVersion.cmake
+        DESTINATION ${KNOTPATH_CMAKE_DIR})
+
+set(KNOTPATH_PC_DEFINES "")
+set(KNOTPATH_PC_LIBS "")
+if(KNOTPATH_HAVE_GMP)
+  string(APPEND KNOTPATH_PC_DEFINES " -DKNOTPATH_HAVE_GMP")
+  string(APPEND KNOTPATH_PC_LIBS " -lgmp")
+endif()
+if(KNOTPATH_HAVE_MPFR)
+  string(APPEND KNOTPATH_PC_DEFINES " -DKNOTPATH_HAVE_MPFR")
+  string(PREPEND KNOTPATH_PC_LIBS "-lmpfr ")
+endif()
+# Path from <prefix>/<libdir>/pkgconfig back up to <prefix>.
+file(RELATIVE_PATH KNOTPATH_PC_UP "/root/${CMAKE_INSTALL_LIBDIR}/pkgconfig" "/root")
+configure_file(${PROJECT_SOURCE_DIR}/cmake/knotpath.pc.in ${PROJECT_BINARY_DIR}/knotpath.pc @ONLY)
+install(FILES ${PROJECT_BINARY_DIR}/knotpath.pc DESTINATION ${CMAKE_INSTALL_LIBDIR}/pkgconfig)
