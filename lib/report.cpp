@@ -2,6 +2,8 @@
 
 #include "knotpath/io/report.hpp"
 
+#include "knotpath/precision.hpp"
+
 #include <fcntl.h>
 #include <unistd.h>
 
@@ -10,6 +12,8 @@
 #include <cerrno>
 #include <cmath>
 #include <cstring>
+#include <limits>
+#include <type_traits>
 #include <sstream>
 
 #include <fmt/format.h>
@@ -18,15 +22,88 @@ namespace knotpath::io {
 
 std::string round_trip(double value) { return fmt::format("{:.17g}", value); }
 
-double size_free_penalty(const Path<double>& path, double lambda) {
-  const double n = path.preparation().weight_sum;
-  return n > 0 ? lambda / std::sqrt(n) : 0.0;
+namespace {
+
+template <class Scalar>
+constexpr bool is_double_v = std::is_same_v<Scalar, double>;
+
+#ifdef KNOTPATH_HAVE_MPFR
+template <class Scalar>
+constexpr bool is_mpfr_v = std::is_same_v<Scalar, mpfr_float>;
+#else
+template <class Scalar>
+constexpr bool is_mpfr_v = false;
+#endif
+
+// Boost.Multiprecision text in the shortest of fixed/scientific ("%g" style).
+template <class Scalar>
+std::string multiprecision_text(const Scalar& value, int digits) {
+  return value.str(digits, std::ios_base::fmtflags(0));
 }
 
-std::optional<double> r_squared(const Path<double>& path, double rss) {
-  const double tss = path.preparation().total_sum_of_squares;
-  if (!(tss > 0)) return std::nullopt;
-  return 1.0 - rss / tss;
+}  // namespace
+
+template <class Scalar>
+std::string number_text(const Scalar& value) {
+  if constexpr (is_double_v<Scalar>) {
+    return round_trip(value);
+  } else if constexpr (std::is_same_v<Scalar, long double>) {
+    return fmt::format("{:.21g}", value);  // max_digits10 of the x87 64-bit significand
+  } else if constexpr (detail::is_exact_v<Scalar>) {
+    using boost::multiprecision::denominator;
+    using boost::multiprecision::numerator;
+    return numerator(value).str() + "/" + denominator(value).str();
+  } else if constexpr (is_mpfr_v<Scalar>) {
+    return multiprecision_text(value, static_cast<int>(value.precision()) + 2);
+  } else {
+    return multiprecision_text(value, std::numeric_limits<Scalar>::max_digits10);
+  }
+}
+
+template <class Scalar>
+double nearest_double(const Scalar& value) {
+  if constexpr (detail::is_exact_v<Scalar>) {
+    // Through 50 digits: rounds to the nearest double (a direct mpq
+    // conversion truncates).
+    using boost::multiprecision::denominator;
+    using boost::multiprecision::numerator;
+    const float50 q = float50(numerator(value).str()) / float50(denominator(value).str());
+    return static_cast<double>(q);
+  } else {
+    return static_cast<double>(value);
+  }
+}
+
+template <class Scalar>
+std::string arithmetic_name() {
+  if constexpr (is_double_v<Scalar>)
+    return "double";
+  else if constexpr (std::is_same_v<Scalar, long double>)
+    return "long double";
+  else if constexpr (detail::is_exact_v<Scalar>)
+    return "exact rational";
+  else if constexpr (is_mpfr_v<Scalar>)
+    return fmt::format("MPFR, {} significant digits", Scalar::default_precision());
+  else
+    return fmt::format("{} significant digits", std::numeric_limits<Scalar>::digits10);
+}
+
+template <class Scalar>
+double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
+  if constexpr (is_double_v<Scalar>) {
+    const double n = path.preparation().weight_sum;
+    return n > 0 ? lambda / std::sqrt(n) : 0.0;
+  } else {
+    const double n = nearest_double(path.preparation().weight_sum);
+    return n > 0 ? nearest_double(lambda) / std::sqrt(n) : 0.0;
+  }
+}
+
+template <class Scalar>
+std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss) {
+  const Scalar& tss = path.preparation().total_sum_of_squares;
+  if (!(tss > Scalar(0))) return std::nullopt;
+  return Scalar(Scalar(1) - rss / tss);
 }
 
 namespace {
@@ -42,7 +119,8 @@ std::string csv_field(const std::string& s) {
   return out + "\"";
 }
 
-std::string event_name(const Path<double>& path, const Knot<double>& knot) {
+template <class Scalar>
+std::string event_name(const Path<Scalar>& path, const Knot<Scalar>& knot) {
   if (knot.event == EventKind::end || knot.event == EventKind::stop)
     return to_string(path.stop_reason());
   return to_string(knot.event);
@@ -76,51 +154,138 @@ std::string stop_explanation(StopReason reason) {
   return "?";
 }
 
+using json = nlohmann::ordered_json;
+
+// Writes scalar numbers into JSON objects: plain numbers for double; beyond
+// double the full text, with the nearest doubles collected for the object's
+// "decimal" member (added by finish, so it comes last).
+template <class Scalar>
+class JsonNumbers {
+ public:
+  void put(json& object, const char* key, const Scalar& value) {
+    if constexpr (is_double_v<Scalar>) {
+      object[key] = value;
+    } else {
+      object[key] = number_text(value);
+      decimal_[key] = nearest_double(value);
+    }
+  }
+  void put_null(json& object, const char* key) {
+    object[key] = nullptr;
+    if constexpr (!is_double_v<Scalar>) decimal_[key] = nullptr;
+  }
+  void put_coefficients(json& object, const json& exact, const json& decimal) {
+    object["coefficients"] = exact;
+    if constexpr (!is_double_v<Scalar>) decimal_["coefficients"] = decimal;
+  }
+  void finish(json& object) {
+    if constexpr (!is_double_v<Scalar>) object["decimal"] = decimal_;
+    decimal_ = json::object();
+  }
+
+ private:
+  json decimal_ = json::object();
+};
+
+// Advice for a suspect path, by arithmetic.
+template <class Scalar>
+std::string suspect_advice(const RunContext& context) {
+  if constexpr (is_double_v<Scalar>)
+    return fmt::format(
+        "double precision may not be enough for this design: the order of entry, the knots and "
+        "the coefficients may be wrong. Check it with 'knotpath verify {} --response {}' (same "
+        "model options), or trace it with --precision 50 or --precision exact.",
+        context.source, context.response);
+  else
+    return "this arithmetic may not be enough for this design: trace it with more digits "
+           "(--precision mpfr --digits N) or with --precision exact.";
+}
+
+template <class Scalar>
+std::size_t suspect_count(const Path<Scalar>& path) {
+  std::size_t count = 0;
+  for (const auto& k : path.knots()) count += k.suspect ? 1 : 0;
+  return count;
+}
+
 }  // namespace
 
-void write_knot_table(std::ostream& out, const Path<double>& path,
+template <class Scalar>
+void write_knot_table(std::ostream& out, const Path<Scalar>& path,
                       const std::vector<std::string>& names) {
+  constexpr bool exact = detail::is_exact_v<Scalar>;
   out << "step,penalty,event,predictor,active,l1_norm,r_squared,intercept";
   for (const auto& name : names) out << ',' << csv_field(name);
+  if constexpr (exact) {
+    out << ",decimal:penalty,decimal:l1_norm,decimal:r_squared,decimal:intercept";
+    for (const auto& name : names) out << ',' << csv_field("decimal:" + name);
+  }
   out << '\n';
   const auto p = static_cast<std::size_t>(path.predictors());
-  std::vector<double> beta(p);
+  std::vector<Scalar> beta(p);
   for (const auto& knot : path.knots()) {
-    std::fill(beta.begin(), beta.end(), 0.0);
+    std::fill(beta.begin(), beta.end(), Scalar(0));
     for (const auto& [j, value] : knot.coefficients) beta[static_cast<std::size_t>(j)] = value;
     const auto r2 = r_squared(path, knot.rss);
-    out << knot.step << ',' << round_trip(knot.penalty) << ',' << event_name(path, knot) << ','
+    out << knot.step << ',' << number_text(knot.penalty) << ',' << event_name(path, knot) << ','
         << csv_field(name_of(names, knot.predictor)) << ',' << knot.active << ','
-        << round_trip(knot.l1_norm) << ',' << (r2 ? round_trip(*r2) : std::string()) << ','
-        << round_trip(knot.intercept);
-    for (double b : beta) out << ',' << round_trip(b);
+        << number_text(knot.l1_norm) << ',' << (r2 ? number_text(*r2) : std::string()) << ','
+        << number_text(knot.intercept);
+    for (const Scalar& b : beta) out << ',' << number_text(b);
+    if constexpr (exact) {
+      out << ',' << round_trip(nearest_double(knot.penalty)) << ','
+          << round_trip(nearest_double(knot.l1_norm)) << ','
+          << (r2 ? round_trip(nearest_double(*r2)) : std::string()) << ','
+          << round_trip(nearest_double(knot.intercept));
+      for (const Scalar& b : beta) out << ',' << round_trip(nearest_double(b));
+    }
     out << '\n';
   }
 }
 
-nlohmann::ordered_json path_document(const Path<double>& path, const RunContext& context) {
-  using json = nlohmann::ordered_json;
+template <class Scalar>
+nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext& context) {
   const auto& names = context.predictor_names;
   const auto& prep = path.preparation();
   const auto& options = path.options();
+  JsonNumbers<Scalar> numbers;  // for the top-level members
   json doc;
   doc["format"] = "knotpath-path";
   doc["format_version"] = 1;
   doc["program"] = {{"name", "knotpath"}, {"version", context.program_version}};
+  if constexpr (!is_double_v<Scalar>) {
+    json precision;
+    precision["arithmetic"] = arithmetic_name<Scalar>();
+    if constexpr (detail::is_exact_v<Scalar>)
+      precision["digits"] = nullptr;
+    else if constexpr (is_mpfr_v<Scalar>)
+      precision["digits"] = Scalar::default_precision();
+    else
+      precision["digits"] = std::numeric_limits<Scalar>::digits10;
+    precision["exact"] = detail::is_exact_v<Scalar>;
+    precision["numbers"] = detail::is_exact_v<Scalar>
+                               ? "strings holding exact fractions p/q; \"decimal\" members hold "
+                                 "the nearest doubles"
+                               : "strings holding every digit of the arithmetic; \"decimal\" "
+                                 "members hold the nearest doubles";
+    doc["precision"] = precision;
+  }
 
   json data;
+  JsonNumbers<Scalar> data_numbers;
   data["source"] = context.source;
   data["response"] = context.response;
   data["weights"] = context.weights ? json(*context.weights) : json(nullptr);
   data["rows_read"] = context.rows_read;
   data["rows_dropped_missing"] = context.rows_dropped;
   data["rows_used"] = prep.used_observations;
-  data["weight_sum"] = prep.weight_sum;
+  data_numbers.put(data, "weight_sum", prep.weight_sum);
   data["predictors"] = names;
   data["text_columns_skipped"] = context.text_columns;
   data["columns_not_used"] = context.unused_columns;
-  data["response_mean"] = prep.response_mean;
-  data["total_sum_of_squares"] = prep.total_sum_of_squares;
+  data_numbers.put(data, "response_mean", prep.response_mean);
+  data_numbers.put(data, "total_sum_of_squares", prep.total_sum_of_squares);
+  data_numbers.finish(data);
   doc["data"] = data;
 
   json opts;
@@ -141,38 +306,67 @@ nlohmann::ordered_json path_document(const Path<double>& path, const RunContext&
   opts["max_active"] = options.max_active;
   doc["options"] = opts;
 
-  doc["lambda_max"] = path.lambda_max();
+  numbers.put(doc, "lambda_max", path.lambda_max());
   doc["mu_max"] = size_free_penalty(path, path.lambda_max());
   doc["stop_reason"] = to_string(path.stop_reason());
   doc["stop_explanation"] = stop_explanation(path.stop_reason());
   doc["worst_condition_estimate"] = path.worst_condition_estimate();
+  if (!is_double_v<Scalar> || path.suspect()) {
+    json health;
+    health["suspect"] = path.suspect();
+    health["worst_estimated_error"] = path.worst_estimated_error();
+    health["suspect_threshold"] = options.suspect_threshold;
+    json steps = json::array();
+    for (const auto& k : path.knots())
+      if (k.suspect) steps.push_back(k.step);
+    health["suspect_steps"] = steps;
+    health["advice"] = path.suspect() ? json(suspect_advice<Scalar>(context)) : json(nullptr);
+    doc["health"] = health;
+  }
 
   json knots = json::array();
   json events = json::array();
   for (const auto& knot : path.knots()) {
     json k;
+    JsonNumbers<Scalar> knot_numbers;
     k["step"] = knot.step;
-    k["penalty"] = knot.penalty;
+    knot_numbers.put(k, "penalty", knot.penalty);
     k["mu"] = size_free_penalty(path, knot.penalty);
     k["event"] = event_name(path, knot);
     k["predictor"] = knot.predictor >= 0 ? json(name_of(names, knot.predictor)) : json(nullptr);
     k["active"] = knot.active;
-    k["l1_norm"] = knot.l1_norm;
+    knot_numbers.put(k, "l1_norm", knot.l1_norm);
     const auto r2 = r_squared(path, knot.rss);
-    k["r_squared"] = r2 ? json(*r2) : json(nullptr);
-    k["rss"] = knot.rss;
-    k["intercept"] = knot.intercept;
+    if (r2)
+      knot_numbers.put(k, "r_squared", *r2);
+    else
+      knot_numbers.put_null(k, "r_squared");
+    knot_numbers.put(k, "rss", knot.rss);
+    knot_numbers.put(k, "intercept", knot.intercept);
     json coefficients = json::object();
-    for (const auto& [j, value] : knot.coefficients) coefficients[name_of(names, j)] = value;
-    k["coefficients"] = coefficients;
+    json decimal_coefficients = json::object();
+    for (const auto& [j, value] : knot.coefficients) {
+      if constexpr (is_double_v<Scalar>) {
+        coefficients[name_of(names, j)] = value;
+      } else {
+        coefficients[name_of(names, j)] = number_text(value);
+        decimal_coefficients[name_of(names, j)] = nearest_double(value);
+      }
+    }
+    knot_numbers.put_coefficients(k, coefficients, decimal_coefficients);
+    knot_numbers.finish(k);
     knots.push_back(k);
     if (knot.event == EventKind::enter || knot.event == EventKind::leave) {
-      events.push_back({{"step", knot.step},
-                        {"penalty", knot.penalty},
-                        {"mu", size_free_penalty(path, knot.penalty)},
-                        {"event", to_string(knot.event)},
-                        {"predictor", name_of(names, knot.predictor)},
-                        {"sign", knot.sign}});
+      json e;
+      JsonNumbers<Scalar> event_numbers;
+      e["step"] = knot.step;
+      event_numbers.put(e, "penalty", knot.penalty);
+      e["mu"] = size_free_penalty(path, knot.penalty);
+      e["event"] = to_string(knot.event);
+      e["predictor"] = name_of(names, knot.predictor);
+      e["sign"] = knot.sign;
+      event_numbers.finish(e);
+      events.push_back(e);
     }
   }
   doc["knots"] = knots;
@@ -183,43 +377,60 @@ nlohmann::ordered_json path_document(const Path<double>& path, const RunContext&
     excluded.push_back({{"predictor", name_of(names, e.predictor)}, {"reason", e.reason}});
   doc["excluded"] = excluded;
   json held = json::array();
-  for (const auto& h : path.held_out())
-    held.push_back({{"predictor", name_of(names, h.predictor)},
-                    {"step", h.step},
-                    {"penalty", h.penalty},
-                    {"squared_sine", h.squared_sine},
-                    {"saturated", h.saturated}});
+  for (const auto& h : path.held_out()) {
+    json o;
+    JsonNumbers<Scalar> held_numbers;
+    o["predictor"] = name_of(names, h.predictor);
+    o["step"] = h.step;
+    held_numbers.put(o, "penalty", h.penalty);
+    o["squared_sine"] = h.squared_sine;
+    o["saturated"] = h.saturated;
+    held_numbers.finish(o);
+    held.push_back(o);
+  }
   doc["held_out"] = held;
+  if constexpr (!is_double_v<Scalar>) numbers.finish(doc);
   return doc;
 }
 
-std::string audit_text(const Path<double>& path, const RunContext& context) {
+template <class Scalar>
+std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   const auto& names = context.predictor_names;
+  const bool suspect = path.suspect();
   std::string out = fmt::format(
       "{} path of {} on {} predictors, {} rows used ({})\n",
       path.options().variant == Variant::lasso ? "lasso" : "least-angle", context.response,
       names.size(), path.preparation().used_observations, context.source);
+  if constexpr (!is_double_v<Scalar>)
+    out += fmt::format("arithmetic: {} (numbers below are rounded for display)\n",
+                       arithmetic_name<Scalar>());
   struct Row {
-    std::string cells[8];
+    std::string cells[9];
   };
+  // The health column appears only on a suspect path (clean paths keep the
+  // eight columns of format_version 1).
+  const int columns = suspect ? 9 : 8;
   std::vector<Row> rows;
-  rows.push_back({{"step", "penalty", "mu", "event", "predictor", "active", "l1_norm", "R^2"}});
+  rows.push_back({{"step", "penalty", "mu", "event", "predictor", "active", "l1_norm", "R^2",
+                   "health"}});
   for (const auto& knot : path.knots()) {
     const auto r2 = r_squared(path, knot.rss);
-    rows.push_back({{fmt::format("{}", knot.step), fmt::format("{:.6g}", knot.penalty),
+    rows.push_back({{fmt::format("{}", knot.step), fmt::format("{:.6g}", nearest_double(knot.penalty)),
                      fmt::format("{:.6g}", size_free_penalty(path, knot.penalty)),
                      event_name(path, knot), name_of(names, knot.predictor),
-                     fmt::format("{}", knot.active), fmt::format("{:.6g}", knot.l1_norm),
-                     r2 ? fmt::format("{:.4f}", *r2) : std::string("-")}});
+                     fmt::format("{}", knot.active),
+                     fmt::format("{:.6g}", nearest_double(knot.l1_norm)),
+                     r2 ? fmt::format("{:.4f}", nearest_double(*r2)) : std::string("-"),
+                     knot.suspect ? "suspect" : ""}});
   }
-  std::size_t width[8] = {};
+  std::size_t width[9] = {};
   for (const auto& r : rows)
-    for (int c = 0; c < 8; ++c) width[c] = std::max(width[c], r.cells[c].size());
+    for (int c = 0; c < columns; ++c) width[c] = std::max(width[c], r.cells[c].size());
   // Numbers right-aligned, words left-aligned.
-  const bool right[8] = {true, true, true, false, false, true, true, true};
+  const bool right[9] = {true, true, true, false, false, true, true, true, false};
   for (const auto& r : rows) {
     std::string line;
-    for (int c = 0; c < 8; ++c) {
+    for (int c = 0; c < columns; ++c) {
       if (c) line += "  ";
       line += right[c] ? fmt::format("{:>{}}", r.cells[c], width[c])
                        : fmt::format("{:<{}}", r.cells[c], width[c]);
@@ -235,7 +446,7 @@ std::string audit_text(const Path<double>& path, const RunContext& context) {
     out += fmt::format("excluded: {} ({})\n", name_of(names, e.predictor), e.reason);
   for (const auto& h : path.held_out())
     out += fmt::format("held out: {} at step {} (penalty {:.6g}): {}\n", name_of(names, h.predictor),
-                       h.step, h.penalty,
+                       h.step, nearest_double(h.penalty),
                        h.saturated ? "the active set already had as many columns as usable rows"
                                    : "its column is numerically in the span of the active columns");
   if (!context.text_columns.empty()) {
@@ -243,29 +454,77 @@ std::string audit_text(const Path<double>& path, const RunContext& context) {
     for (const auto& t : context.text_columns) list += (list.empty() ? "" : ", ") + t;
     out += "text columns skipped: " + list + "\n";
   }
+  if (suspect)
+    out += fmt::format(
+        "WARNING: SUSPECT PATH. The health check estimates a relative error up to {:.2g} "
+        "(threshold {:.2g}) at {} of {} knots (marked suspect above; worst condition estimate "
+        "{:.2g}).\nWARNING: {}\n",
+        path.worst_estimated_error(), path.options().suspect_threshold, suspect_count(path),
+        path.knots().size(), path.worst_condition_estimate(), suspect_advice<Scalar>(context));
   return out;
 }
 
-std::string coefficient_table(const Solution<double>& solution, const Path<double>& path,
+template <class Scalar>
+std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scalar>& path,
                               const std::vector<std::string>& names, bool csv) {
   (void)path;
-  std::vector<std::pair<std::string, double>> terms;
+  constexpr bool exact = detail::is_exact_v<Scalar>;
+  std::vector<std::pair<std::string, Scalar>> terms;
   terms.emplace_back("(intercept)", solution.intercept);
   for (Index j = 0; j < solution.coefficients.size(); ++j)
     terms.emplace_back(name_of(names, j), solution.coefficients(j));
   std::string out;
   if (csv) {
-    out = "predictor,coefficient\n";
-    for (const auto& [name, value] : terms) out += csv_field(name) + "," + round_trip(value) + "\n";
+    out = exact ? "predictor,coefficient,decimal:coefficient\n" : "predictor,coefficient\n";
+    for (const auto& [name, value] : terms) {
+      out += csv_field(name) + "," + number_text(value);
+      if constexpr (exact) out += "," + round_trip(nearest_double(value));
+      out += "\n";
+    }
     return out;
   }
   std::size_t width = std::string("predictor").size();
   for (const auto& t : terms) width = std::max(width, t.first.size());
-  out += fmt::format("{:<{}}  {:>14}\n", "predictor", width, "coefficient");
-  for (const auto& [name, value] : terms)
-    out += fmt::format("{:<{}}  {:>14.8g}\n", name, width, value);
+  if constexpr (is_double_v<Scalar>) {
+    out += fmt::format("{:<{}}  {:>14}\n", "predictor", width, "coefficient");
+    for (const auto& [name, value] : terms)
+      out += fmt::format("{:<{}}  {:>14.8g}\n", name, width, value);
+  } else {
+    // Every digit of the arithmetic (exact: the fraction, then its decimal).
+    std::size_t value_width = std::string("coefficient").size();
+    for (const auto& t : terms) value_width = std::max(value_width, number_text(t.second).size());
+    out += fmt::format("{:<{}}  {:>{}}", "predictor", width, "coefficient", value_width);
+    out += exact ? fmt::format("  {:>14}\n", "decimal") : std::string("\n");
+    for (const auto& [name, value] : terms) {
+      out += fmt::format("{:<{}}  {:>{}}", name, width, number_text(value), value_width);
+      out += exact ? fmt::format("  {:>14.8g}\n", nearest_double(value)) : std::string("\n");
+    }
+  }
   return out;
 }
+
+// The scalar types the reports are compiled for (see report.hpp).
+#define KNOTPATH_REPORTS_FOR(Scalar)                                                            \
+  template std::string number_text<Scalar>(const Scalar&);                                      \
+  template double nearest_double<Scalar>(const Scalar&);                                        \
+  template std::string arithmetic_name<Scalar>();                                               \
+  template double size_free_penalty<Scalar>(const Path<Scalar>&, const Scalar&);                \
+  template std::optional<Scalar> r_squared<Scalar>(const Path<Scalar>&, const Scalar&);         \
+  template void write_knot_table<Scalar>(std::ostream&, const Path<Scalar>&,                    \
+                                         const std::vector<std::string>&);                      \
+  template nlohmann::ordered_json path_document<Scalar>(const Path<Scalar>&, const RunContext&); \
+  template std::string audit_text<Scalar>(const Path<Scalar>&, const RunContext&);              \
+  template std::string coefficient_table<Scalar>(const Solution<Scalar>&, const Path<Scalar>&,  \
+                                                 const std::vector<std::string>&, bool);
+
+KNOTPATH_REPORTS_FOR(double)
+KNOTPATH_REPORTS_FOR(long double)
+KNOTPATH_REPORTS_FOR(float50)
+KNOTPATH_REPORTS_FOR(rational)
+#ifdef KNOTPATH_HAVE_MPFR
+KNOTPATH_REPORTS_FOR(mpfr_float)
+#endif
+#undef KNOTPATH_REPORTS_FOR
 
 void write_atomically(const std::filesystem::path& target,
                       const std::function<void(std::ostream&)>& write) {

@@ -4,6 +4,7 @@
 #include <atomic>
 #include <condition_variable>
 #include <cstddef>
+#include <memory>
 #include <mutex>
 #include <optional>
 #include <stdexcept>
@@ -27,6 +28,8 @@ enum ExitCode : int {
   exit_bad_input = 3,  ///< the table cannot be used (format, values, names)
   exit_numerical = 4,  ///< numerical trouble while tracing (path incomplete)
   exit_io = 5,         ///< a file cannot be read or written
+  exit_degraded = 6,   ///< verify: same events, but the double path lost digits
+  exit_wrong = 7,      ///< verify: the double path is wrong (events or coefficients)
 };
 
 /// An error the program reports with a message and an exit code.
@@ -77,6 +80,49 @@ struct TracedTable {
 /// Reads the table and traces its path (progress on stderr when enabled).
 TracedTable trace_table(const std::string& table, const ModelArgs& args, const Global& global);
 
+class Progress;
+
+/// A table read and checked against the model options, not yet traced: the
+/// arithmetic is chosen afterwards (trace_loaded in typed_trace.hpp).
+struct LoadedTable {
+  io::Table table;                       ///< numeric columns (with decimal text when kept)
+  TraceOptions options;                  ///< validated for the predictors below
+  std::vector<Index> predictor_columns;  ///< table columns used as predictors, in order
+  io::RunContext context;                ///< what the reports say about the data
+  std::string shown_name;                ///< file name or "<stdin>"
+  std::shared_ptr<Progress> progress;    ///< the progress line, kept for the trace
+};
+
+/// Reads the table and builds the trace options; keep_decimal_text keeps
+/// each cell's decimal text for exact parsing into other arithmetics.
+LoadedTable load_table(const std::string& table, const ModelArgs& args, const Global& global,
+                       bool keep_decimal_text);
+
+/// --precision and --digits of trace and at.
+struct PrecisionArgs {
+  std::string precision = "double";  ///< double, long-double, 50, mpfr (with MPFR), exact
+  unsigned digits = 0;               ///< decimal digits of mpfr (0: 50)
+};
+
+/// Adds --precision and --digits to a command.
+void add_precision_options(CLI::App& command, PrecisionArgs& args);
+
+/// Where `at` evaluates the path; each given value keeps its command-line
+/// text so that it is parsed exactly in the chosen arithmetic.
+struct PointArgs {
+  std::optional<double> penalty, mu, budget, fraction;
+  std::string penalty_text, mu_text, budget_text, fraction_text;
+};
+
+/// trace and at in an arithmetic other than double (lib/cli/precision.cpp);
+/// each returns the exit status.
+int trace_with_precision(const std::string& table, const ModelArgs& model,
+                         const PrecisionArgs& precision, const std::string& knots_file,
+                         const std::string& json_file, const Global& global);
+int at_with_precision(const std::string& table, const ModelArgs& model,
+                      const PrecisionArgs& precision, const PointArgs& point, bool csv,
+                      const Global& global);
+
 /// A progress line on stderr: shown only when stderr is a terminal, the
 /// program is not quiet, and the work has lasted more than about a second.
 class Progress {
@@ -106,5 +152,6 @@ std::string version();
 CLI::App* add_trace_command(CLI::App& app, Global& global);
 CLI::App* add_at_command(CLI::App& app, Global& global);
 CLI::App* add_demo_command(CLI::App& app, Global& global);
+CLI::App* add_verify_command(CLI::App& app, Global& global);
 
 }  // namespace knotpath::cli

@@ -69,6 +69,7 @@ int finish(const Path<double>& path) {
 struct TraceArgs {
   std::string table;
   ModelArgs model;
+  PrecisionArgs precision;
   std::string knots_file;
   std::string json_file;
 };
@@ -76,7 +77,12 @@ struct TraceArgs {
 struct AtArgs {
   std::string table;
   ModelArgs model;
-  std::optional<double> penalty, mu, budget, fraction;
+  PrecisionArgs precision;
+  PointArgs point;  // the point's values with their command-line text
+  std::optional<double>& penalty = point.penalty;
+  std::optional<double>& mu = point.mu;
+  std::optional<double>& budget = point.budget;
+  std::optional<double>& fraction = point.fraction;
   bool csv = false;
 };
 
@@ -93,6 +99,7 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
   command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
       ->required();
   add_model_options(*command, args->model);
+  add_precision_options(*command, args->precision);
   command->add_option("--knots", args->knots_file, "Write the knot table (CSV) to this file")
       ->group("Output");
   command->add_option("--json", args->json_file, "Write the path as a JSON document to this file")
@@ -101,6 +108,11 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
       "Example:\n"
       "  knotpath trace patients.csv --response progression --knots knots.csv --json path.json\n");
   command->callback([args, &global] {
+    if (args->precision.precision != "double" || args->precision.digits != 0) {
+      global.status = trace_with_precision(args->table, args->model, args->precision,
+                                           args->knots_file, args->json_file, global);
+      return;
+    }
     TracedTable traced = trace_table(args->table, args->model, global);
     require_finite(traced.path);
     std::cout << io::audit_text(traced.path, traced.context);
@@ -120,16 +132,22 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
   command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
       ->required();
   add_model_options(*command, args->model);
+  add_precision_options(*command, args->precision);
+  auto keep = [](std::string& text) { return [&text](const std::string& s) { text = s; }; };
   auto* penalty = command->add_option("--penalty", args->penalty, "Penalty lambda (>= 0)")
+                      ->each(keep(args->point.penalty_text))
                       ->group("Point");
   auto* mu = command->add_option("--mu", args->mu,
                                  "Size-free penalty mu = lambda / sqrt(n) (n = sum of weights)")
+                 ->each(keep(args->point.mu_text))
                  ->group("Point");
   auto* budget = command->add_option("--budget", args->budget,
                                      "L1 budget: sum of f_j s_j |b_j| (>= 0)")
+                     ->each(keep(args->point.budget_text))
                      ->group("Point");
   auto* fraction = command->add_option("--fraction", args->fraction,
                                        "Fraction in [0, 1] of the final L1 norm")
+                       ->each(keep(args->point.fraction_text))
                        ->group("Point");
   penalty->excludes(mu)->excludes(budget)->excludes(fraction);
   mu->excludes(budget)->excludes(fraction);
@@ -142,6 +160,11 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
   command->callback([args, &global] {
     if (!args->penalty && !args->mu && !args->budget && !args->fraction)
       throw failure(exit_usage, "at: give one of --penalty, --mu, --budget or --fraction");
+    if (args->precision.precision != "double" || args->precision.digits != 0) {
+      global.status = at_with_precision(args->table, args->model, args->precision, args->point,
+                                        args->csv, global);
+      return;
+    }
     TracedTable traced = trace_table(args->table, args->model, global);
     require_finite(traced.path);
     const Path<double>& path = traced.path;

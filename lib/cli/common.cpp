@@ -152,8 +152,8 @@ std::pair<std::string, double> parse_factor(const std::string& item) {
 
 }  // namespace
 
-TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
-                        const Global& global) {
+LoadedTable load_table(const std::string& table_path, const ModelArgs& args, const Global& global,
+                       bool keep_decimal_text) {
   // Names the options mention must be columns (checked by the reader).
   std::vector<std::pair<std::string, double>> factors;
   for (const auto& item : args.penalty_factors) factors.push_back(parse_factor(item));
@@ -195,16 +195,20 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
     if (contains(args.drop, name))
       throw failure(exit_usage, "\"" + name + "\" is listed in --drop and used by another option");
 
-  Progress progress(!global.quiet);
+  read.keep_decimal_text = keep_decimal_text;
+  LoadedTable out;
+  out.progress = std::make_shared<Progress>(!global.quiet);
+  Progress& progress = *out.progress;
   const std::string shown_name = table_path == "-" ? "<stdin>" : table_path;
+  out.shown_name = shown_name;
   progress.status("reading " + shown_name);
   read.progress = [&](std::size_t bytes, std::size_t rows) {
     progress.status(fmt::format("reading {}: {:.1f} MB, {} rows", shown_name,
                                 static_cast<double>(bytes) / 1e6, rows));
   };
-  io::Table table = io::read_table(table_path, read);
+  out.table = io::read_table(table_path, read);
+  io::Table& table = out.table;
 
-  TracedTable out;
   io::RunContext& context = out.context;
   context.source = table.source;
   context.response = args.response;
@@ -215,7 +219,7 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   context.program_version = version();
   if (!args.weights.empty()) context.weights = args.weights;
 
-  std::vector<Index> predictor_columns;
+  std::vector<Index>& predictor_columns = out.predictor_columns;
   for (std::size_t j = 0; j < table.names.size(); ++j) {
     const std::string& name = table.names[j];
     if (name == args.response || name == args.weights) continue;
@@ -231,7 +235,7 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
     throw failure(exit_usage, "\"" + name + "\" is not a predictor (it is the response or the weights)");
   };
 
-  TraceOptions options;
+  TraceOptions& options = out.options;
   options.variant = args.variant == "least-angle" ? Variant::least_angle : Variant::lasso;
   options.fit_intercept = !args.no_intercept;
   options.standardize = !args.no_standardize;
@@ -259,11 +263,23 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   }
+  return out;
+}
+
+TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
+                        const Global& global) {
+  LoadedTable loaded = load_table(table_path, args, global, false);
+  io::Table& table = loaded.table;
+  const std::string& shown_name = loaded.shown_name;
+  Progress& progress = *loaded.progress;
+  const TraceOptions& options = loaded.options;
+  TracedTable out;
+  out.context = std::move(loaded.context);
 
   const Vector<double> y = table.column_vector(table.find(args.response));
   Vector<double> w;
   if (!args.weights.empty()) w = table.column_vector(table.find(args.weights));
-  const Matrix<double> x = table.take_matrix(predictor_columns);
+  const Matrix<double> x = table.take_matrix(loaded.predictor_columns);
   table = io::Table();  // free what is left before the trace copies the design
 
   progress.status(fmt::format("tracing the path ({} rows, {} predictors)", x.rows(), x.cols()));

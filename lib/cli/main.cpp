@@ -21,10 +21,12 @@ int main(int argc, char** argv) {
       "  knotpath demo\n"
       "  knotpath trace data.csv --response y --knots knots.csv\n"
       "  knotpath at data.csv --response y --penalty 2.5\n"
+      "  knotpath verify data.csv --response y\n"
       "Run 'knotpath COMMAND --help' for the options of one command.\n");
   add_trace_command(app, global);
   add_at_command(app, global);
   add_demo_command(app, global);
+  add_verify_command(app, global);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

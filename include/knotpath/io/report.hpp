@@ -34,34 +34,74 @@ struct RunContext {
 /// "nan"/"inf" never occur in a valid path.
 std::string round_trip(double value);
 
+// The reports below are templates on the path's scalar type, compiled in
+// lib/report.cpp for double, long double, knotpath::float50,
+// knotpath::rational and (with MPFR) knotpath::mpfr_float (precision.hpp).
+// Numbers are written with every digit their type holds (number_text):
+//  - double: 17 significant digits; long double: 21; float50: 53; MPFR:
+//    its decimal precision + 2 (each reads back to the same value);
+//  - rational: the exact fraction "p/q" in lowest terms, q >= 1 (integers
+//    too: "3/1"), beside a decimal approximation (nearest double).
+// For double the outputs are those of format_version 1 unchanged. For the
+// other types: the knot table appends "decimal:<column>" columns (exact
+// mode only) and the JSON document writes scalar numbers as strings, with a
+// "decimal" member in the same object holding them as JSON numbers.
+
+/// A number as text with every digit of its type (see above).
+template <class Scalar>
+std::string number_text(const Scalar& value);
+
+/// The nearest double (for approximations and display).
+template <class Scalar>
+double nearest_double(const Scalar& value);
+
+/// The arithmetic of a path type, for reports: "double", "long double",
+/// "50 significant digits", "MPFR, N significant digits", "exact rational".
+template <class Scalar>
+std::string arithmetic_name();
+
 /// mu = lambda / sqrt(n), n = sum of weights: the size-free penalty of
-/// DESIGN.md ("Comparing penalties"). 0 when n = 0.
-double size_free_penalty(const Path<double>& path, double lambda);
+/// DESIGN.md ("Comparing penalties"). 0 when n = 0. (In double: square roots
+/// are irrational, so exact mode shows mu as a decimal only.)
+template <class Scalar>
+double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda);
 
 /// R^2 = 1 - RSS / TSS of a knot; nullopt when TSS = 0.
-std::optional<double> r_squared(const Path<double>& path, double rss);
+template <class Scalar>
+std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss);
 
 /// Writes the knot table: header
 /// step,penalty,event,predictor,active,l1_norm,r_squared,intercept,<names>
 /// then one row per knot (see DESIGN.md). The last row's event is
 /// to_string(path.stop_reason()) ("end" or "stop-..."). An undefined R^2
-/// (constant response) is an empty cell.
-void write_knot_table(std::ostream& out, const Path<double>& path,
+/// (constant response) is an empty cell. Exact mode appends the columns
+/// decimal:penalty, decimal:l1_norm, decimal:r_squared, decimal:intercept,
+/// decimal:<name>... (nearest doubles, 17 significant digits).
+template <class Scalar>
+void write_knot_table(std::ostream& out, const Path<Scalar>& path,
                       const std::vector<std::string>& names);
 
 /// The JSON document of a path (schema in README.md, "format" =
-/// "knotpath-path", "format_version" = 1).
-nlohmann::ordered_json path_document(const Path<double>& path, const RunContext& context);
+/// "knotpath-path", "format_version" = 1). Beyond double it also holds
+/// "precision" {arithmetic, digits, exact, numbers}; a "health" member
+/// appears whenever the path is suspect (and always beyond double).
+template <class Scalar>
+nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext& context);
 
 /// The aligned audit: a short heading, one line per knot (step, penalty, mu,
 /// event, predictor, active count, L1 norm, R^2), then notes on the stop
-/// reason, excluded and held-out predictors.
-std::string audit_text(const Path<double>& path, const RunContext& context);
+/// reason, excluded and held-out predictors. A suspect path gets a "health"
+/// column marking its suspect knots and a warning paragraph that points to
+/// `knotpath verify`; it is never presented as clean.
+template <class Scalar>
+std::string audit_text(const Path<Scalar>& path, const RunContext& context);
 
 /// The coefficients of one solution on the original scale, intercept first:
 /// an aligned table, or with `csv` a "predictor,coefficient" header and one
-/// line per term (17 significant digits).
-std::string coefficient_table(const Solution<double>& solution, const Path<double>& path,
+/// line per term (number_text digits; exact mode adds a third column,
+/// decimal:coefficient, and a decimal column in the aligned table).
+template <class Scalar>
+std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scalar>& path,
                               const std::vector<std::string>& names, bool csv);
 
 /// Writes a file atomically: `write` fills a temporary file in the same

@@ -1,0 +1,191 @@
+// trace and at in arithmetics beyond double (--precision, --digits).
+
+#include <iostream>
+#include <limits>
+
+#include <fmt/format.h>
+
+#include "typed_trace.hpp"
+
+namespace knotpath::cli {
+
+void add_precision_options(CLI::App& command, PrecisionArgs& args) {
+  std::vector<std::string> words{"double", "long-double", "50", "exact"};
+#ifdef KNOTPATH_HAVE_MPFR
+  words.insert(words.begin() + 3, "mpfr");
+  const char* help =
+      "Arithmetic of the trace: double (default), long-double, 50 (50 significant digits), "
+      "mpfr (--digits N significant digits) or exact (rational numbers; needs "
+      "--no-standardize). Table cells are parsed exactly from their decimal text";
+#else
+  const char* help =
+      "Arithmetic of the trace: double (default), long-double, 50 (50 significant digits) or "
+      "exact (rational numbers; needs --no-standardize). Table cells are parsed exactly from "
+      "their decimal text (this build has no MPFR, so no --precision mpfr)";
+#endif
+  command.add_option("--precision", args.precision, help)
+      ->check(CLI::IsMember(words))
+      ->default_str("double")
+      ->group("Arithmetic");
+  command.add_option("--digits", args.digits,
+                     "Significant decimal digits of --precision mpfr (default 50)")
+      ->check(CLI::Range(10u, 100000u))
+      ->group("Arithmetic");
+}
+
+namespace {
+
+// Checks the combination of --precision and --digits and the model options
+// it needs, and sets the MPFR precision.
+void check_precision(const PrecisionArgs& precision, const ModelArgs& model) {
+  const Arithmetic arithmetic = arithmetic_of(precision);
+  if (precision.digits != 0 && arithmetic != Arithmetic::mpfr)
+    throw failure(exit_usage, "--digits applies to --precision mpfr only");
+  if (arithmetic == Arithmetic::exact && !model.no_standardize)
+    throw failure(exit_usage,
+                  "--precision exact needs --no-standardize: scaling columns to unit length takes "
+                  "square roots, which have no exact rational value (the penalty then applies "
+                  "to the coefficients on the columns' own scale)");
+#ifdef KNOTPATH_HAVE_MPFR
+  if (arithmetic == Arithmetic::mpfr) set_mpfr_digits(precision.digits ? precision.digits : 50);
+#endif
+}
+
+// Calls f(Scalar{}) with the scalar type of the arithmetic.
+template <class F>
+int with_arithmetic(Arithmetic arithmetic, F&& f) {
+  switch (arithmetic) {
+    case Arithmetic::long_double: return f(static_cast<long double>(0));
+    case Arithmetic::fifty_digits: return f(float50(0));
+    case Arithmetic::exact: return f(rational(0));
+    case Arithmetic::mpfr:
+#ifdef KNOTPATH_HAVE_MPFR
+      return f(mpfr_float(0));
+#else
+      break;
+#endif
+    case Arithmetic::double_precision: return f(0.0);
+  }
+  throw failure(exit_usage, "this build has no MPFR: --precision mpfr is unavailable");
+}
+
+template <class Scalar>
+int trace_in(LoadedTable& loaded, const ModelArgs& model, const std::string& knots_file,
+             const std::string& json_file) {
+  const Path<Scalar> path = trace_loaded<Scalar>(loaded, model);
+  loaded.progress.reset();  // the progress line ends before the audit is printed
+  require_finite_path(path);
+  std::cout << io::audit_text(path, loaded.context);
+  std::vector<std::string> written;
+  if (!knots_file.empty()) {
+    write_report_file(knots_file, [&](std::ostream& out) {
+      io::write_knot_table(out, path, loaded.context.predictor_names);
+    });
+    written.push_back(knots_file);
+  }
+  if (!json_file.empty()) {
+    write_report_file(json_file, [&](std::ostream& out) {
+      out << io::path_document(path, loaded.context).dump(2) << '\n';
+    });
+    written.push_back(json_file);
+  }
+  for (const auto& file : written) std::cout << "wrote " << file << '\n';
+  std::cout.flush();
+  return finished_status(path);
+}
+
+template <class Scalar>
+Scalar parse_point(const std::string& text, const char* option) {
+  try {
+    return parse_decimal<Scalar>(text);
+  } catch (const invalid_data&) {
+    throw failure(exit_usage, fmt::format("{} {}: not a decimal number", option, text));
+  }
+}
+
+template <class Scalar>
+int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, bool csv) {
+  const Path<Scalar> path = trace_loaded<Scalar>(loaded, model);
+  loaded.progress.reset();
+  require_finite_path(path);
+  Solution<Scalar> solution;
+  std::string asked;
+  try {
+    if (point.penalty) {
+      solution = path.at_penalty(parse_point<Scalar>(point.penalty_text, "--penalty"));
+      asked = "penalty " + point.penalty_text;
+    } else if (point.mu) {
+      if constexpr (detail::is_exact_v<Scalar>) {
+        throw failure(exit_usage,
+                      "--mu is unavailable with --precision exact (lambda = mu * sqrt(n) is "
+                      "irrational in general); give --penalty, --budget or --fraction");
+      } else {
+        const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
+        if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
+        using std::sqrt;
+        const Scalar lambda = Scalar(mu * Scalar(sqrt(path.preparation().weight_sum)));
+        solution = path.at_penalty(lambda);
+        asked = "mu " + point.mu_text;
+      }
+    } else if (point.budget) {
+      solution = path.at_budget(parse_point<Scalar>(point.budget_text, "--budget"));
+      asked = "L1 budget " + point.budget_text;
+    } else {
+      const Scalar fraction = parse_point<Scalar>(point.fraction_text, "--fraction");
+      if (!(fraction >= Scalar(0) && fraction <= Scalar(1)))
+        throw invalid_query("the fraction must lie in [0, 1]");
+      if (path.knots().empty()) throw invalid_query("the path is empty");
+      // The fraction itself is parsed exactly (at_fraction takes a double).
+      solution = fraction == Scalar(1)
+                     ? path.at_fraction(1.0)
+                     : path.at_budget(Scalar(fraction * path.knots().back().l1_norm));
+      asked = "fraction " + point.fraction_text + " of the final L1 norm";
+    }
+  } catch (const invalid_query& e) {
+    throw failure(exit_usage, e.what());
+  }
+  if (solution.beyond_path)
+    std::cerr << "knotpath: note: the point asked for lies beyond the traced path ("
+              << to_string(path.stop_reason()) << "); showing the last knot\n";
+  if (!csv) {
+    std::cout << fmt::format("{}: penalty {} (mu {:.10g}), L1 norm {}\n", asked,
+                             io::number_text(solution.penalty),
+                             io::size_free_penalty(path, solution.penalty),
+                             io::number_text(solution.l1_norm));
+    std::cout << "arithmetic: " << io::arithmetic_name<Scalar>() << '\n';
+  }
+  std::cout << io::coefficient_table(solution, path, loaded.context.predictor_names, csv);
+  if (!csv && path.suspect())
+    std::cout << fmt::format(
+        "WARNING: the path is SUSPECT in this arithmetic (estimated relative error up to "
+        "{:.2g}); trace it with more digits or --precision exact\n",
+        path.worst_estimated_error());
+  std::cout.flush();
+  return finished_status(path);
+}
+
+}  // namespace
+
+int trace_with_precision(const std::string& table, const ModelArgs& model,
+                         const PrecisionArgs& precision, const std::string& knots_file,
+                         const std::string& json_file, const Global& global) {
+  check_precision(precision, model);
+  LoadedTable loaded = load_table(table, model, global, true);
+  return with_arithmetic(arithmetic_of(precision), [&](auto zero) {
+    using Scalar = decltype(zero);
+    return trace_in<Scalar>(loaded, model, knots_file, json_file);
+  });
+}
+
+int at_with_precision(const std::string& table, const ModelArgs& model,
+                      const PrecisionArgs& precision, const PointArgs& point, bool csv,
+                      const Global& global) {
+  check_precision(precision, model);
+  LoadedTable loaded = load_table(table, model, global, true);
+  return with_arithmetic(arithmetic_of(precision), [&](auto zero) {
+    using Scalar = decltype(zero);
+    return at_in<Scalar>(loaded, model, point, csv);
+  });
+}
+
+}  // namespace knotpath::cli

@@ -1,0 +1,225 @@
+// knotpath verify: traces a table in double and in a high precision (50
+// significant digits by default), compares the two paths with
+// knotpath::compare_paths (precision.hpp) and reports the verdict; the exit
+// status is the verdict (0 trustworthy, 6 degraded, 7 wrong).
+
+#include <iostream>
+#include <limits>
+
+#include <fmt/format.h>
+
+#include "typed_trace.hpp"
+
+namespace knotpath::cli {
+
+namespace {
+
+struct VerifyArgs {
+  std::string table;
+  ModelArgs model;
+  unsigned digits = 50;
+  std::string json_file;
+};
+
+// The verdict thresholds of compare_paths, stated in precision.hpp; the
+// tests check that reported verdicts obey them.
+constexpr double wrong_coefficient = 1e-3;
+constexpr double degraded_knot = 1e-9;
+constexpr double degraded_coefficient = 1e-6;
+
+const char* const thresholds_text =
+    "wrong: the event sequences differ, or a coefficient differs by more than 1e-3 (relative); "
+    "degraded: same events, but a knot penalty differs by more than 1e-9 or a coefficient by "
+    "more than 1e-6 (relative); trustworthy: otherwise";
+
+int status_of(Verdict verdict) {
+  switch (verdict) {
+    case Verdict::trustworthy: return exit_ok;
+    case Verdict::degraded: return exit_degraded;
+    case Verdict::wrong: return exit_wrong;
+  }
+  return exit_wrong;
+}
+
+std::string predictor_name(const std::vector<std::string>& names, Index j) {
+  return j >= 0 && static_cast<std::size_t>(j) < names.size() ? names[static_cast<std::size_t>(j)]
+                                                              : std::string();
+}
+
+// "enter x7 at penalty 1.25", "end at penalty 0", "no knot".
+std::string event_text(const std::string& event, const std::string& predictor, double penalty) {
+  if (event == "(none)") return "no knot (the path already ended)";
+  return fmt::format("{}{}{} at penalty {:.12g}", event, predictor.empty() ? "" : " ", predictor,
+                     penalty);
+}
+
+template <class High>
+int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
+  // The high-precision path first: it reads the decimal text; the double
+  // trace then moves the reader's doubles out of the table.
+  const Path<High> high = trace_loaded<High>(loaded, args.model);
+  const Path<double> low = trace_loaded<double>(loaded, args.model);
+  loaded.progress.reset();
+  const std::string high_name = io::arithmetic_name<High>();
+  const auto& names = loaded.context.predictor_names;
+
+  CrossCheck check = compare_paths(low, high);
+  // A double path with values that are not finite compares as NaN, which
+  // no threshold catches: it is wrong.
+  bool low_finite = true;
+  try {
+    require_finite_path(low);
+  } catch (const failure&) {
+    low_finite = false;
+    check.verdict = Verdict::wrong;
+  }
+  const int status = status_of(check.verdict);
+
+  std::string out = fmt::format(
+      "{} path of {} on {} predictors, {} rows used ({})\n"
+      "traced in double and in {}; the table's decimals were parsed exactly into both\n\n",
+      low.options().variant == Variant::lasso ? "lasso" : "least-angle", loaded.context.response,
+      names.size(), low.preparation().used_observations, loaded.context.source, high_name);
+  out += fmt::format("knots:                          double {}, {} {}\n", check.double_knots,
+                     high_name, check.high_knots);
+  if (check.same_events) {
+    out += "event sequences:                identical\n";
+  } else {
+    const Divergence& d = *check.first_difference;
+    out += fmt::format(
+        "event sequences:                DIFFER from step {}\n"
+        "  double has:                   {}\n"
+        "  {:<29} {}\n",
+        d.step, event_text(d.low_event, predictor_name(names, d.low_predictor), d.low_penalty),
+        high_name + " has:",
+        event_text(d.high_event, predictor_name(names, d.high_predictor), d.high_penalty));
+  }
+  out += fmt::format(
+      "largest knot-penalty difference: {:.3g} (relative to lambda_max, over the {} common "
+      "knots)\n",
+      check.max_relative_knot_difference,
+      check.first_difference ? static_cast<std::size_t>(check.first_difference->step)
+                             : check.double_knots);
+  out += fmt::format(
+      "largest coefficient difference: {:.3g} (relative to the largest high-precision "
+      "coefficient there, at every knot of both paths)\n",
+      check.max_coefficient_difference);
+  out += fmt::format("condition estimate (double):    {:.3g} (worst along the path)\n",
+                     check.condition_estimate);
+  out += fmt::format(
+      "double health check:            {} (estimated relative error up to {:.2g}, threshold "
+      "{:.2g})\n",
+      check.double_suspect ? "SUSPECT" : "clean", low.worst_estimated_error(),
+      low.options().suspect_threshold);
+  if (!low_finite) out += "the double path holds values that are not finite\n";
+  out += fmt::format("verdict:                        {}\n", to_string(check.verdict));
+  out += fmt::format("thresholds: {}\n", thresholds_text);
+  switch (check.verdict) {
+    case Verdict::trustworthy:
+      out += "the double path of this table can be used as it is\n";
+      break;
+    case Verdict::degraded:
+      out += "the double path has the right events but has lost digits; for figures beyond "
+             "about 6 significant digits use knotpath trace --precision 50\n";
+      break;
+    case Verdict::wrong:
+      out += "do not use the double path of this table: trace it with --precision 50 (or "
+             "--precision exact with --no-standardize)\n";
+      break;
+  }
+  std::cout << out;
+
+  if (!args.json_file.empty()) {
+    using json = nlohmann::ordered_json;
+    json doc;
+    doc["format"] = "knotpath-verify";
+    doc["format_version"] = 1;
+    doc["program"] = {{"name", "knotpath"}, {"version", loaded.context.program_version}};
+    doc["source"] = loaded.context.source;
+    doc["response"] = loaded.context.response;
+    doc["predictors"] = names;
+    doc["rows_used"] = low.preparation().used_observations;
+    doc["variant"] = low.options().variant == Variant::lasso ? "lasso" : "least-angle";
+    doc["intercept"] = low.options().fit_intercept;
+    doc["standardize"] = low.options().standardize;
+    doc["high_precision"] = {{"arithmetic", high_name}, {"digits", args.digits}};
+    doc["double_knots"] = check.double_knots;
+    doc["high_knots"] = check.high_knots;
+    doc["same_events"] = check.same_events;
+    if (check.first_difference) {
+      const Divergence& d = *check.first_difference;
+      auto side = [&](const std::string& event, Index predictor, double penalty) {
+        json s;
+        s["event"] = event;
+        s["predictor"] =
+            predictor >= 0 ? json(predictor_name(names, predictor)) : json(nullptr);
+        s["penalty"] = event == "(none)" ? json(nullptr) : json(penalty);
+        return s;
+      };
+      doc["first_difference"] = {{"step", d.step},
+                                 {"double", side(d.low_event, d.low_predictor, d.low_penalty)},
+                                 {"high", side(d.high_event, d.high_predictor, d.high_penalty)}};
+    } else {
+      doc["first_difference"] = nullptr;
+    }
+    doc["max_relative_knot_difference"] = check.max_relative_knot_difference;
+    doc["max_coefficient_difference"] = check.max_coefficient_difference;
+    doc["condition_estimate"] = check.condition_estimate;
+    doc["double_suspect"] = check.double_suspect;
+    doc["double_worst_estimated_error"] = low.worst_estimated_error();
+    doc["suspect_threshold"] = low.options().suspect_threshold;
+    doc["double_finite"] = low_finite;
+    doc["verdict"] = to_string(check.verdict);
+    doc["thresholds"] = {{"wrong_coefficient", wrong_coefficient},
+                         {"degraded_knot", degraded_knot},
+                         {"degraded_coefficient", degraded_coefficient},
+                         {"rule", thresholds_text}};
+    doc["exit_status"] = status;
+    write_report_file(args.json_file,
+                      [&](std::ostream& o) { o << doc.dump(2) << '\n'; });
+    std::cout << "wrote " << args.json_file << '\n';
+  }
+  std::cout.flush();
+  return status;
+}
+
+}  // namespace
+
+CLI::App* add_verify_command(CLI::App& app, Global& global) {
+  auto args = std::make_shared<VerifyArgs>();
+  CLI::App* command = app.add_subcommand(
+      "verify",
+      "Trace in double and in high precision and say whether the double path can be trusted "
+      "(exit status 0 trustworthy, 6 degraded, 7 wrong)");
+  command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
+      ->required();
+  add_model_options(*command, args->model);
+  command
+      ->add_option("--digits", args->digits,
+                   "Significant decimal digits of the high-precision trace (default 50; other "
+                   "values need MPFR)")
+      ->check(CLI::Range(20u, 100000u))
+      ->default_str("50")
+      ->group("Arithmetic");
+  command->add_option("--json", args->json_file, "Write the report as a JSON document to this file")
+      ->group("Output");
+  command->footer(
+      "Example:\n"
+      "  knotpath verify mixtures.csv --response hardness --json check.json\n");
+  command->callback([args, &global] {
+    LoadedTable loaded = load_table(args->table, args->model, global, true);
+    if (args->digits == 50) {
+      global.status = run_verify<float50>(loaded, *args);
+      return;
+    }
+#ifdef KNOTPATH_HAVE_MPFR
+    set_mpfr_digits(args->digits);
+    global.status = run_verify<mpfr_float>(loaded, *args);
+#else
+    throw failure(exit_usage, "this build has no MPFR: verify runs at --digits 50 only");
+#endif
+  });
+  return command;
+}
+
+}  // namespace knotpath::cli
