@@ -52,22 +52,113 @@ struct SufficientStatistics {
   /// Number of predictors.
   Index predictors() const noexcept { return means.size(); }
 
-  /// Statistics of the rows of (x, y) with weights (empty: all 1), computed
-  /// in blocks of `block_rows` rows. One pass over the data; O(n p^2).
+  /// Statistics of the rows of (x, y) with weights (empty: all 1). One pass
+  /// over the data in blocks of `block_rows` rows, O(n p^2) with a symmetric
+  /// rank update per block (half the flops of a general product) into one
+  /// accumulator; buffers are allocated once. Rows are shifted by the
+  /// weighted means of the first block before their products are summed and
+  /// the shift is removed at the end (the shifted-data algorithm: with a shift
+  /// close to the mean the correction is tiny, so large means do not cancel
+  /// the spread; Chan, Golub & LeVeque 1979, section 3).
   static SufficientStatistics from_rows(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                         const Vector<Scalar>& weights = Vector<Scalar>(),
-                                        Index block_rows = 512) {
+                                        Index block_rows = 1024) {
     if (y.size() != x.rows()) throw invalid_data("response length differs from the design's rows");
     if (weights.size() != 0 && weights.size() != x.rows())
       throw invalid_data("weights length differs from the design's rows");
-    SufficientStatistics total = empty(x.cols());
-    for (Index start = 0; start < x.rows(); start += block_rows) {
-      const Index len = std::min(block_rows, x.rows() - start);
-      total.merge(block(x.middleRows(start, len), y.segment(start, len),
-                        weights.size() ? Vector<Scalar>(weights.segment(start, len))
-                                       : Vector<Scalar>(Vector<Scalar>::Ones(len))));
+    const Index n = x.rows(), p = x.cols();
+    const bool weighted = weights.size() != 0;
+    for (Index i = 0; weighted && i < n; ++i)
+      if (!(weights(i) >= Scalar(0))) throw invalid_data("a weight is negative or not a number");
+    SufficientStatistics s = empty(p);
+    block_rows = std::max<Index>(1, std::min(block_rows, n));
+    Matrix<Scalar> xb(block_rows, p);              // shifted (and sqrt(w)-scaled) rows of a block
+    Vector<Scalar> yb(block_rows), wb(block_rows);
+    Vector<Scalar> shift = Vector<Scalar>::Zero(p);  // K: weighted means of the first used rows
+    Scalar shift_y(0);
+    Vector<Scalar> sum_x = Vector<Scalar>::Zero(p);  // sum w (x - K)
+    Scalar sum_y(0), sum_yy(0);
+    bool have_shift = false;
+    std::vector<Index> used;
+    used.reserve(static_cast<std::size_t>(block_rows));
+    for (Index start = 0; start < n; start += block_rows) {
+      const Index len = std::min(block_rows, n - start);
+      used.clear();
+      for (Index i = 0; i < len; ++i)
+        if (!weighted || weights(start + i) > Scalar(0)) used.push_back(start + i);
+      const Index m = static_cast<Index>(used.size());
+      if (m == 0) continue;
+      if (m == len) {
+        xb.topRows(m) = x.middleRows(start, m);
+        yb.head(m) = y.segment(start, m);
+        if (weighted) wb.head(m) = weights.segment(start, m); else wb.head(m).setOnes();
+      } else {
+        for (Index r = 0; r < m; ++r) {
+          const Index i = used[static_cast<std::size_t>(r)];
+          xb.row(r) = x.row(i);
+          yb(r) = y(i);
+          wb(r) = weights(i);
+        }
+      }
+      auto xm = xb.topRows(m);
+      auto ym = yb.head(m);
+      auto wm = wb.head(m);
+      for (Index j = 0; j < p; ++j) {
+        const Scalar lo = xm.col(j).minCoeff(), hi = xm.col(j).maxCoeff();
+        s.minimum(j) = s.rows == 0 ? lo : std::min<Scalar>(s.minimum(j), lo);
+        s.maximum(j) = s.rows == 0 ? hi : std::max<Scalar>(s.maximum(j), hi);
+      }
+      if (!have_shift) {
+        const Scalar wsum = wm.sum();
+        for (Index j = 0; j < p; ++j) shift(j) = xm.col(j).dot(wm) / wsum;
+        shift_y = ym.dot(wm) / wsum;
+        have_shift = true;
+      }
+      for (Index j = 0; j < p; ++j) xm.col(j).array() -= shift(j);
+      ym.array() -= shift_y;
+      s.rows += m;
+      s.weight_sum += wm.sum();
+      for (Index j = 0; j < p; ++j) sum_x(j) += xm.col(j).dot(wm);
+      sum_y += ym.dot(wm);
+      for (Index r = 0; r < m; ++r) sum_yy += wm(r) * ym(r) * ym(r);
+      if constexpr (std::is_floating_point_v<Scalar>) {
+        if (weighted) {
+          for (Index r = 0; r < m; ++r) {
+            const Scalar root = std::sqrt(wm(r));
+            xm.row(r) *= root;
+            ym(r) *= root;
+          }
+        }
+        s.comoments.template selfadjointView<Eigen::Lower>().rankUpdate(xm.transpose());
+        s.cross.noalias() += xm.transpose() * ym;
+      } else {
+        for (Index j = 0; j < p; ++j) {
+          for (Index i = j; i < p; ++i) {
+            Scalar acc(0);
+            for (Index r = 0; r < m; ++r) acc += wm(r) * xm(r, i) * xm(r, j);
+            s.comoments(i, j) += acc;
+          }
+          Scalar acc(0);
+          for (Index r = 0; r < m; ++r) acc += wm(r) * xm(r, j) * ym(r);
+          s.cross(j) += acc;
+        }
+      }
     }
-    return total;
+    if (s.rows == 0) return s;
+    // Remove the shift: C = S - sum_x sum_x^T / W, mean = K + sum_x / W.
+    const Scalar wsum = s.weight_sum;
+    for (Index j = 0; j < p; ++j)
+      for (Index i = j; i < p; ++i) {
+        s.comoments(i, j) -= sum_x(i) * sum_x(j) / wsum;
+        s.comoments(j, i) = s.comoments(i, j);
+      }
+    for (Index j = 0; j < p; ++j) {
+      s.cross(j) -= sum_x(j) * sum_y / wsum;
+      s.means(j) = shift(j) + sum_x(j) / wsum;
+    }
+    s.response_comoment = sum_yy - sum_y * sum_y / wsum;
+    s.response_mean = shift_y + sum_y / wsum;
+    return s;
   }
 
   /// Statistics with no rows yet.
@@ -108,55 +199,6 @@ struct SufficientStatistics {
     rows += other.rows;
   }
 
- private:
-  template <class XBlock, class YBlock>
-  static SufficientStatistics block(const XBlock& x, const YBlock& y, const Vector<Scalar>& w) {
-    const Index p = x.cols();
-    SufficientStatistics s = empty(p);
-    std::vector<Index> used;
-    for (Index i = 0; i < x.rows(); ++i) {
-      if (!(w(i) >= Scalar(0))) throw invalid_data("a weight is negative or not a number");
-      if (w(i) > Scalar(0)) used.push_back(i);
-    }
-    if (used.empty()) return s;
-    const Index m = static_cast<Index>(used.size());
-    Matrix<Scalar> xb(m, p);
-    Vector<Scalar> yb(m), wb(m);
-    for (Index r = 0; r < m; ++r) {
-      xb.row(r) = x.row(used[static_cast<std::size_t>(r)]);
-      yb(r) = y(used[static_cast<std::size_t>(r)]);
-      wb(r) = w(used[static_cast<std::size_t>(r)]);
-    }
-    s.rows = m;
-    s.weight_sum = wb.sum();
-    for (Index j = 0; j < p; ++j) {
-      s.means(j) = xb.col(j).dot(wb) / s.weight_sum;
-      s.minimum(j) = xb.col(j).minCoeff();
-      s.maximum(j) = xb.col(j).maxCoeff();
-    }
-    s.response_mean = yb.dot(wb) / s.weight_sum;
-    // Centre, then scale rows by sqrt(w) through the weights on one side.
-    for (Index j = 0; j < p; ++j) xb.col(j).array() -= s.means(j);
-    yb.array() -= s.response_mean;
-    if constexpr (std::is_floating_point_v<Scalar>) {
-      // C = (sqrt(w) X_c)^T (sqrt(w) X_c) as one symmetric rank-m update of
-      // the lower triangle (half the flops of a general product), mirrored.
-      for (Index r = 0; r < m; ++r) xb.row(r) *= std::sqrt(wb(r));
-      s.comoments.template selfadjointView<Eigen::Lower>().rankUpdate(xb.transpose());
-      for (Index j = 1; j < p; ++j)
-        for (Index i = 0; i < j; ++i) s.comoments(i, j) = s.comoments(j, i);
-      s.cross.noalias() = xb.transpose() * yb.cwiseProduct(wb.cwiseSqrt());
-    } else {
-      Matrix<Scalar> weighted = xb;
-      for (Index r = 0; r < m; ++r) weighted.row(r) *= wb(r);
-      for (Index j = 0; j < p; ++j) {
-        for (Index i = 0; i <= j; ++i) s.comoments(i, j) = s.comoments(j, i) = weighted.col(i).dot(xb.col(j));
-        s.cross(j) = weighted.col(j).dot(yb);
-      }
-    }
-    for (Index r = 0; r < m; ++r) s.response_comoment += wb(r) * yb(r) * yb(r);
-    return s;
-  }
 };
 
 /// Gram design operator: prepared Gram matrix G = Z^T Z (q x q), Z^T y and
