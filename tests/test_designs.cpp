@@ -44,7 +44,7 @@ kp::SparseMatrix<double> sparsify(kp::Matrix<double>& x, double keep, unsigned s
 
 }  // namespace
 
-TEST(DesignOperators, DenseGramAndSparseGiveTheSamePath) {
+TEST(DesignOperators, DenseGramSparseAndViewGiveTheSamePath) {
   // The three operators compute the same inner products in different orders,
   // so knots agree to rounding: 1e-10 relative, as the issue asks. Designs
   // are mildly correlated (AR(1) 0.5), with and without weights, intercept
@@ -74,11 +74,14 @@ TEST(DesignOperators, DenseGramAndSparseGiveTheSamePath) {
     opt.storage = kp::Storage::gram;
     const auto gram = kp::trace<double>(prob.x, prob.y, opt, w);
     const auto sp = kp::trace_sparse<double>(sparse, prob.y, opt, w);
+    opt.storage = kp::Storage::view;
+    const auto view = kp::trace<double>(prob.x, prob.y, opt, w);
     const std::string what = "n=" + std::to_string(cs.n) + " p=" + std::to_string(cs.p) +
                              (cs.weighted ? " weighted" : "") + (cs.intercept ? " intercept" : "") +
                              (cs.standardize ? " standardized" : "");
     expect_same_path(dense, gram, 1e-10, "gram " + what);
     expect_same_path(dense, sp, 1e-10, "sparse " + what);
+    expect_same_path(dense, view, 1e-10, "view " + what);
   }
 }
 

@@ -11,6 +11,7 @@
 #include "demo.hpp"
 #include "design/concept.hpp"
 #include "design/dense.hpp"
+#include "design/dense_view.hpp"
 #include "design/gram.hpp"
 #include "design/sparse.hpp"
 #include "errors.hpp"

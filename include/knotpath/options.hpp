@@ -22,9 +22,12 @@ enum class Variant {
 
 /// How a dense design is handed to the homotopy (see trace()).
 enum class Storage {
-  automatic,  ///< Gram mode when n >= 2 p and p <= 5000, else the dense operator
-  dense,      ///< operator mode: one X^T v per knot, O(n p)
+  automatic,  ///< Gram mode when n >= 2 p and p <= 5000; else the view when p > n and
+              ///< n p > 4e6 (a copy would cost more than 32 MB); else the dense copy
+  dense,      ///< operator mode on a centred, scaled copy of X: one X^T v per knot, O(n p)
   gram,       ///< sufficient statistics: X^T X formed once, O(p k) per knot
+  view,       ///< operator mode on the user's X itself (no copy; centring implicit,
+              ///< see design/dense_view.hpp for its accuracy note)
 };
 
 /// Sign constraint on one coefficient.

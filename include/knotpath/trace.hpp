@@ -43,6 +43,7 @@
 
 #include "design/concept.hpp"
 #include "design/dense.hpp"
+#include "design/dense_view.hpp"
 #include "design/gram.hpp"
 #include "design/sparse.hpp"
 #include "detail/scalar.hpp"
@@ -367,13 +368,28 @@ Path<typename Design::Scalar> trace_design(const Design& design,
 /// Storage: TraceOptions::storage; automatic picks Gram mode (sufficient
 /// statistics, O(n p^2) once then O(p k) per knot) when n >= 2 p and
 /// p <= 5000 (the p x p Gram matrix then costs at most 200 MB and is cheaper
-/// than one X^T v per knot over a full path), else the dense operator.
+/// than one X^T v per knot over a full path); for wide designs (p > n) with
+/// more than 4e6 entries the view of the user's matrix (no copy); else the
+/// dense operator on a centred, scaled copy. Exact types never use the view.
 template <class Scalar>
 Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
                    const Vector<Scalar>& weights = Vector<Scalar>()) {
   options.validate(static_cast<std::size_t>(x.cols()));
   const bool gram = options.storage == Storage::gram ||
                     (options.storage == Storage::automatic && x.rows() >= 2 * x.cols() && x.cols() <= 5000);
+  const bool view = options.storage == Storage::view ||
+                    (options.storage == Storage::automatic && !gram && x.cols() > x.rows() &&
+                     static_cast<double>(x.rows()) * static_cast<double>(x.cols()) > 4e6);
+  if constexpr (detail::is_exact_v<Scalar>) {
+    if (options.storage == Storage::view)
+      throw invalid_option("storage", "the view of the user's matrix needs a floating scalar type "
+                                      "(its implicit scaling takes square roots)");
+  } else {
+    if (view && !gram) {
+      PreparedView<Scalar> prepared = prepare_view<Scalar>(x, y, options, weights);
+      return trace_design(prepared.design, prepared.preparation, options);
+    }
+  }
   if (gram) {
     detail::check_data(x, y, weights);
     PreparedGram<Scalar> prepared = prepare_gram(SufficientStatistics<Scalar>::from_rows(x, y, weights), options);

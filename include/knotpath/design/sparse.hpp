@@ -49,6 +49,8 @@ class SparseDesign {
         sqrt_w_(std::move(sqrt_weights)),
         y_(std::move(response)) {
     weight_sum_ = sqrt_w_.squaredNorm();
+    weights_ = sqrt_w_.cwiseAbs2();
+    weighted_ = (weights_.array() != Scalar(1)).any();
     rows_used_ = 0;
     for (Index i = 0; i < sqrt_w_.size(); ++i) rows_used_ += sqrt_w_(i) > Scalar(0);
     scratch_.resize(x.rows());
@@ -61,7 +63,11 @@ class SparseDesign {
   Scalar squared_norm(Index k) const { return norms_(k); }
   Scalar response_squared_norm() const { return y_.squaredNorm(); }
 
-  void response_correlations(Vector<Scalar>& out) const { transpose_times(y_, out); }
+  void response_correlations(Vector<Scalar>& out) const {
+    // y_ is already sqrt(w)-scaled; one more sqrt(w) gives w o y for the product.
+    for (Index r = 0; r < y_.size(); ++r) scratch_(r) = weighted_ ? Scalar(sqrt_w_(r) * y_(r)) : y_(r);
+    weighted_transpose_times(scratch_, out);
+  }
 
   void cross_products(Index k, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
     for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = raw_cross(active[i], k);
@@ -79,21 +85,24 @@ class SparseDesign {
       shift += means_(k) * t;
       for (typename SparseMatrix<Scalar>::InnerIterator it(*x_, j); it; ++it) scratch_(it.row()) += t * it.value();
     }
-    for (Index r = 0; r < scratch_.size(); ++r) scratch_(r) = sqrt_w_(r) * (scratch_(r) - shift);
-    transpose_times(scratch_, out);
+    // u = sqrt(w) o (X_A t - shift); the product below needs sqrt(w) o u = w o (...).
+    if (weighted_) {
+      for (Index r = 0; r < scratch_.size(); ++r) scratch_(r) = weights_(r) * (scratch_(r) - shift);
+    } else {
+      scratch_.array() -= shift;
+    }
+    weighted_transpose_times(scratch_, out);
   }
 
  private:
-  // out = Z^T v.
-  void transpose_times(const Vector<Scalar>& v, Vector<Scalar>& out) const {
-    out.resize(cols());
-    Scalar total(0);
-    for (Index r = 0; r < v.size(); ++r) total += sqrt_w_(r) * v(r);
+  // out = Z^T v given vw = sqrt(w) o v: S^{-1} (X^T vw - m (1^T vw)). One
+  // read of each stored entry and one gather per entry.
+  void weighted_transpose_times(const Vector<Scalar>& vw, Vector<Scalar>& out) const {
+    const Scalar total = vw.sum();
     for (Index k = 0; k < cols(); ++k) {
       const Index j = columns_[static_cast<std::size_t>(k)];
       Scalar s(0);
-      for (typename SparseMatrix<Scalar>::InnerIterator it(*x_, j); it; ++it)
-        s += it.value() * sqrt_w_(it.row()) * v(it.row());
+      for (typename SparseMatrix<Scalar>::InnerIterator it(*x_, j); it; ++it) s += it.value() * vw(it.row());
       out(k) = (s - means_(k) * total) / scales_(k);
     }
   }
@@ -124,6 +133,8 @@ class SparseDesign {
   Vector<Scalar> sqrt_w_;           // sqrt of the row weights (0 drops a row)
   Vector<Scalar> y_;                // prepared response (dense)
   Vector<Scalar> norms_;            // z_k^T z_k
+  Vector<Scalar> weights_;          // w
+  bool weighted_ = false;           // any weight differs from 1
   Scalar weight_sum_{0};
   Index rows_used_ = 0;
   mutable Vector<Scalar> scratch_;  // u = Z_A d, reused at every knot

@@ -1,0 +1,215 @@
+#pragma once
+/// \file design/dense_view.hpp
+/// \brief Dense design operator over the user's own matrix, without a copy:
+/// centring, scaling and weights are applied implicitly, so memory beyond X
+/// is O(n + p). Chosen for wide designs (see Storage::view in options.hpp).
+///
+/// The prepared column is z_j = sqrt(w) o (x_j - m_j 1) / s_j. With
+/// v' = sqrt(w) o v:
+///     Z^T v = S^{-1} (X^T v' - m (1^T v')),        one dense X^T v' per knot,
+///     Z_A d = sqrt(w) o (sum_i (d_i / s_i) (x_i - m_i 1)),   O(n k),
+///     z_a^T z_b = sum_r w_r (x_ra - m_a)(x_rb - m_b) / (s_a s_b),   O(n), centred on the fly.
+/// Accuracy: the vectors v the tracer multiplies are combinations of centred
+/// columns, so 1^T v' is at rounding level and X^T v' carries a rounding
+/// error of order eps |m_j| ||v'||_1 against a true value of order
+/// s_j ||v'||: columns whose mean is many times their spread lose that factor
+/// in the correlation updates (the path's drift figure measures it). Use the
+/// copying dense design (Storage::dense) or Gram mode for such data.
+
+#include <span>
+#include <vector>
+
+#include "../detail/scalar.hpp"
+#include "../errors.hpp"
+#include "../options.hpp"
+#include "../prepare.hpp"
+#include "concept.hpp"
+
+namespace knotpath {
+
+/// Dense view design: references the user's matrix (it must outlive the design).
+template <class ScalarT>
+class DenseViewDesign {
+ public:
+  using Scalar = ScalarT;
+
+  DenseViewDesign(const Matrix<Scalar>& x, std::vector<Index> columns, Vector<Scalar> means,
+                  Vector<Scalar> scales, Vector<Scalar> sqrt_weights, Vector<Scalar> response, bool weighted)
+      : x_(&x),
+        columns_(std::move(columns)),
+        means_(std::move(means)),
+        scales_(std::move(scales)),
+        sqrt_w_(std::move(sqrt_weights)),
+        y_(std::move(response)),
+        weighted_(weighted) {
+    rows_used_ = 0;
+    for (Index r = 0; r < sqrt_w_.size(); ++r) rows_used_ += sqrt_w_(r) > Scalar(0);
+    u_.resize(x.rows());
+    full_.resize(x.cols());
+    norms_.resize(cols());
+    for (Index k = 0; k < cols(); ++k) norms_(k) = centred_cross(k, k);
+  }
+
+  Index rows() const noexcept { return rows_used_; }
+  Index cols() const noexcept { return static_cast<Index>(columns_.size()); }
+  Scalar squared_norm(Index k) const { return norms_(k); }
+  Scalar response_squared_norm() const { return y_.squaredNorm(); }
+  void response_correlations(Vector<Scalar>& out) const {
+    u_ = y_;
+    transpose_times_u(out);
+  }
+  void cross_products(Index k, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
+    for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = centred_cross(active[i], k);
+  }
+  void direction_correlations(std::span<const Index> active, const Eigen::Ref<const Vector<Scalar>>& d,
+                              Vector<Scalar>& out) const {
+    u_.setZero();
+    Scalar shift(0);
+    for (std::size_t i = 0; i < active.size(); ++i) {
+      const Index k = active[i];
+      const Scalar t = d(static_cast<Index>(i)) / scales_(k);
+      shift += t * means_(k);
+      u_.noalias() += t * x_->col(columns_[static_cast<std::size_t>(k)]);
+    }
+    u_.array() -= shift;
+    if (weighted_) u_.array() *= sqrt_w_.array();
+    transpose_times_u(out);
+  }
+
+ private:
+  // out = Z^T u_ (u_ holds v on entry; it is overwritten).
+  void transpose_times_u(Vector<Scalar>& out) const {
+    if (weighted_) u_.array() *= sqrt_w_.array();
+    const Scalar total = u_.sum();
+    full_.noalias() = x_->transpose() * u_;  // the one product per knot
+    for (Index k = 0; k < cols(); ++k)
+      out(k) = (full_(columns_[static_cast<std::size_t>(k)]) - means_(k) * total) / scales_(k);
+  }
+
+  Scalar centred_cross(Index a, Index b) const {
+    const auto xa = x_->col(columns_[static_cast<std::size_t>(a)]);
+    const auto xb = x_->col(columns_[static_cast<std::size_t>(b)]);
+    const Scalar ma = means_(a), mb = means_(b);
+    Scalar sum(0);
+    if (weighted_) {
+      for (Index r = 0; r < xa.size(); ++r) sum += sqrt_w_(r) * sqrt_w_(r) * (xa(r) - ma) * (xb(r) - mb);
+    } else {
+      for (Index r = 0; r < xa.size(); ++r) sum += (xa(r) - ma) * (xb(r) - mb);
+    }
+    return sum / (scales_(a) * scales_(b));
+  }
+
+  const Matrix<Scalar>* x_;       // the user's matrix (not owned)
+  std::vector<Index> columns_;    // design column k -> user column
+  Vector<Scalar> means_;          // m per design column
+  Vector<Scalar> scales_;         // s per design column
+  Vector<Scalar> sqrt_w_;         // sqrt of row weights
+  Vector<Scalar> y_;              // prepared response (n)
+  Vector<Scalar> norms_;          // z_k^T z_k
+  bool weighted_ = false;         // any weight differs from 1
+  Index rows_used_ = 0;
+  mutable Vector<Scalar> u_;      // n-vector work space
+  mutable Vector<Scalar> full_;   // X^T v' for all user columns
+};
+
+/// A prepared view problem.
+template <class Scalar>
+struct PreparedView {
+  DenseViewDesign<Scalar> design;
+  Preparation<Scalar> preparation;
+};
+
+/// Prepares a view of a dense design: the same centring, scaling and
+/// exclusions as prepare_dense, computed column by column without copying X.
+/// Floating scalar types only.
+template <class Scalar>
+PreparedView<Scalar> prepare_view(const Matrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options,
+                                  const Vector<Scalar>& weights = Vector<Scalar>()) {
+  static_assert(!detail::is_exact_v<Scalar>, "the view design needs a floating scalar type");
+  const Index n = x.rows(), p = x.cols();
+  options.validate(static_cast<std::size_t>(p));
+  detail::check_data(x, y, weights);
+  const bool weighted = weights.size() != 0 && (weights.array() != Scalar(1)).any();
+  Vector<Scalar> w = weights.size() ? weights : Vector<Scalar>(Vector<Scalar>::Ones(n));
+  Index used = 0;
+  Index first = -1;
+  for (Index i = 0; i < n; ++i)
+    if (w(i) > Scalar(0)) {
+      ++used;
+      if (first < 0) first = i;
+    }
+  if (used == 0) throw invalid_data("no observation has a positive weight");
+  Preparation<Scalar> prep;
+  prep.observations = n;
+  prep.used_observations = used;
+  prep.predictors = p;
+  prep.intercept = options.fit_intercept;
+  prep.standardized = options.standardize;
+  prep.weight_sum = w.sum();
+  prep.means = Vector<Scalar>::Zero(p);
+  prep.scales = Vector<Scalar>::Ones(p);
+  const Scalar wsum = prep.weight_sum;
+  auto weighted_mean = [&](const auto& v) {
+    Scalar m = v.dot(w) / wsum;
+    return Scalar(m + (v.array() - m).matrix().dot(w) / wsum);  // one correction pass
+  };
+  if (options.fit_intercept) prep.response_mean = weighted_mean(y);
+  Vector<Scalar> sqrt_w = w.cwiseSqrt();
+  Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
+  prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
+  if (!detail::is_finite_value(prep.total_sum_of_squares))
+    throw invalid_data("the response's sum of squares overflows; rescale the response");
+  yc = yc.cwiseProduct(sqrt_w);
+  std::vector<Index> columns;
+  std::vector<Scalar> means, scales;
+  for (Index j = 0; j < p; ++j) {
+    const double factor = options.penalty_factor(static_cast<std::size_t>(j));
+    const auto col = x.col(j);
+    bool constant = true, all_zero = true;
+    for (Index i = 0; i < n; ++i) {
+      if (w(i) == Scalar(0)) continue;
+      if (col(i) != col(first)) constant = false;
+      if (col(i) != Scalar(0)) all_zero = false;
+    }
+    if (all_zero) {
+      prep.excluded.push_back({j, "all-zero column"});
+      continue;
+    }
+    if (options.fit_intercept && constant) {
+      prep.excluded.push_back({j, "constant column (absorbed by the intercept)"});
+      continue;
+    }
+    if (std::isinf(factor)) {
+      prep.excluded.push_back({j, "infinite penalty factor"});
+      continue;
+    }
+    const Scalar mean = options.fit_intercept ? weighted_mean(col) : Scalar(0);
+    Scalar scale(1);
+    if (options.standardize) {
+      scale = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
+      if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
+        prep.excluded.push_back({j, "column scale is zero or not representable"});
+        continue;
+      }
+    }
+    prep.means(j) = mean;
+    prep.scales(j) = scale;
+    prep.columns.push_back(j);
+    prep.penalty_factors.push_back(factor);
+    prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
+    columns.push_back(j);
+    means.push_back(mean);
+    scales.push_back(scale);
+  }
+  const Index q = static_cast<Index>(columns.size());
+  Vector<Scalar> m(q), s(q);
+  for (Index k = 0; k < q; ++k) {
+    m(k) = means[static_cast<std::size_t>(k)];
+    s(k) = scales[static_cast<std::size_t>(k)];
+  }
+  return {DenseViewDesign<Scalar>(x, std::move(columns), std::move(m), std::move(s), std::move(sqrt_w),
+                                  std::move(yc), weighted),
+          std::move(prep)};
+}
+
+}  // namespace knotpath
