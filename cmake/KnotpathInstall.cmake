@@ -46,3 +46,21 @@ endif()
 file(RELATIVE_PATH KNOTPATH_PC_UP "/root/${CMAKE_INSTALL_LIBDIR}/pkgconfig" "/root")
 configure_file(${PROJECT_SOURCE_DIR}/cmake/knotpath.pc.in ${PROJECT_BINARY_DIR}/knotpath.pc @ONLY)
 install(FILES ${PROJECT_BINARY_DIR}/knotpath.pc DESTINATION ${CMAKE_INSTALL_LIBDIR}/pkgconfig)
+
+# API documentation (Doxygen, Debian package doxygen): `cmake --build <dir> --target docs`.
+# Undocumented public names are warnings, and warnings fail the target.
+find_package(Doxygen QUIET)
+if(DOXYGEN_FOUND)
+  set(KNOTPATH_DOCS_OUTPUT ${PROJECT_BINARY_DIR}/docs)
+  configure_file(${PROJECT_SOURCE_DIR}/docs/Doxyfile.in ${PROJECT_BINARY_DIR}/Doxyfile @ONLY)
+  add_custom_target(docs
+    COMMAND ${CMAKE_COMMAND} -E make_directory ${KNOTPATH_DOCS_OUTPUT}
+    COMMAND ${DOXYGEN_EXECUTABLE} ${PROJECT_BINARY_DIR}/Doxyfile
+    WORKING_DIRECTORY ${PROJECT_BINARY_DIR}
+    COMMENT "Building the API documentation with Doxygen (warnings are errors)"
+    VERBATIM)
+endif()
+if(DOXYGEN_FOUND AND KNOTPATH_BUILD_TESTS)
+  add_test(NAME api_docs_build_without_warnings
+           COMMAND ${CMAKE_COMMAND} --build ${PROJECT_BINARY_DIR} --target docs)
+endif()

@@ -10,7 +10,7 @@ packages=(
   libgtest-dev libbenchmark-dev
   libcli11-dev libfmt-dev nlohmann-json3-dev
   libtinyxml2-dev libpng-dev librsvg2-bin pkg-config
-  python3 python3-cvxopt python3-numpy
+  python3 python3-cvxopt python3-numpy doxygen
 )
 
 missing=()
