@@ -8,9 +8,13 @@
 
 namespace knotpath {
 
-/// An option is invalid; field() names it.
+/// An option is invalid; field() names it. Thrown by the validate() member
+/// of every options struct, which each entry point calls before any work.
 class invalid_option : public std::invalid_argument {
  public:
+  /// \param field name of the offending option field (as spelled in the struct)
+  /// \param why   what is wrong with its value; what() reads
+  ///              "knotpath: option 'FIELD': WHY"
   invalid_option(const std::string& field, const std::string& why)
       : std::invalid_argument("knotpath: option '" + field + "': " + why), field_(field) {}
   /// Name of the offending field.
@@ -24,6 +28,7 @@ class invalid_option : public std::invalid_argument {
 /// weights, no observation with positive weight, values that overflow).
 class invalid_data : public std::invalid_argument {
  public:
+  /// \param why what is wrong and where (row, column); what() prefixes "knotpath: "
   explicit invalid_data(const std::string& why) : std::invalid_argument("knotpath: " + why) {}
 };
 
@@ -31,6 +36,7 @@ class invalid_data : public std::invalid_argument {
 /// fraction outside [0, 1], new rows of the wrong width).
 class invalid_query : public std::invalid_argument {
  public:
+  /// \param why which argument is out of its domain; what() prefixes "knotpath: "
   explicit invalid_query(const std::string& why) : std::invalid_argument("knotpath: " + why) {}
 };
 

@@ -47,9 +47,14 @@ struct AddOutcome {
 
 /// Cholesky factor R (G = R^T R) of the Gram matrix of an ordered active set,
 /// updated in O(k^2) per added or removed column; never refactorized.
+/// Memory: one capacity x capacity matrix, grown by doubling when needed.
+///
+/// Thread safety: solve() is const but writes a mutable scratch vector, so a
+/// factor must not be shared between concurrent traces (each trace owns one).
 template <class Scalar>
 class CholeskyFactor {
  public:
+  /// An empty factor with no reserved room.
   CholeskyFactor() = default;
   /// Reserves room for `capacity` columns (no allocation until it is exceeded).
   explicit CholeskyFactor(Index capacity) { reserve(capacity); }
@@ -71,6 +76,7 @@ class CholeskyFactor {
   /// `diagonal`. One triangular solve, O(k^2). The column is refused (and
   /// the factor left unchanged) when its squared pivot is <= tolerance *
   /// diagonal, i.e. it is numerically in the span of the active columns.
+  /// Throws std::invalid_argument when `cross.size() != size()`.
   template <class CrossVector>
   AddOutcome add(const CrossVector& cross, const Scalar& diagonal, const Scalar& tolerance) {
     if (cross.size() != size_) throw std::invalid_argument("CholeskyFactor::add: size mismatch");
@@ -96,7 +102,8 @@ class CholeskyFactor {
   }
 
   /// Removes the column at `position` (0-based, factor order) and restores the
-  /// triangle with Givens rotations, O(k^2).
+  /// triangle with Givens rotations, O(k^2). Throws std::out_of_range when
+  /// `position` is not in [0, size()).
   void remove(Index position) {
     if (position < 0 || position >= size_)
       throw std::out_of_range("CholeskyFactor::remove: position out of range");
@@ -174,11 +181,15 @@ class CholeskyFactor {
 template <class Scalar>
 class LdltFactor {
  public:
+  /// An empty factor with no reserved room.
   LdltFactor() = default;
+  /// Reserves room for `capacity` columns (no allocation until it is exceeded).
   explicit LdltFactor(Index capacity) { reserve(capacity); }
 
+  /// Number of columns currently factored.
   Index size() const noexcept { return size_; }
 
+  /// Makes room for `capacity` columns, keeping the current factor.
   void reserve(Index capacity) {
     if (capacity <= l_.rows()) return;
     Matrix<Scalar> grown = Matrix<Scalar>::Zero(capacity, capacity);
@@ -190,6 +201,12 @@ class LdltFactor {
     work_.resize(capacity);
   }
 
+  /// Appends a column whose inner products with the active columns are
+  /// `cross` (length size(), factor order) and whose squared norm is
+  /// `diagonal`: one unit-triangular solve, O(k^2). The column is refused
+  /// (factor unchanged) when its new pivot D_kk is <= tolerance * diagonal;
+  /// AddOutcome::squared_sine is D_kk / diagonal. Throws
+  /// std::invalid_argument when `cross.size() != size()`.
   template <class CrossVector>
   AddOutcome add(const CrossVector& cross, const Scalar& diagonal, const Scalar& tolerance) {
     if (cross.size() != size_) throw std::invalid_argument("LdltFactor::add: size mismatch");
@@ -218,6 +235,10 @@ class LdltFactor {
     return outcome;
   }
 
+  /// Removes the column at `position` (0-based, factor order) and restores
+  /// L D L^T of the remaining columns by a rank-one update, O(k^2); exact in
+  /// rational arithmetic. Throws std::out_of_range when `position` is not in
+  /// [0, size()).
   void remove(Index position) {
     if (position < 0 || position >= size_)
       throw std::out_of_range("LdltFactor::remove: position out of range");
@@ -249,6 +270,9 @@ class LdltFactor {
     --size_;
   }
 
+  /// Solves (L D L^T) x = rhs (two unit-triangular solves and a diagonal
+  /// scaling, O(k^2)). `rhs` and `x` have length size() and may be the same
+  /// object. Writes the mutable scratch vector: not for concurrent use.
   template <class In, class Out>
   void solve(const In& rhs, Out& x) const {
     auto z = work_.head(size_);

@@ -79,6 +79,7 @@ struct InferenceOptions {
   /// least-squares fit (needs more rows than predictors plus intercept).
   double noise_variance = -1.0;
 
+  /// Throws invalid_option("noise_variance") when it is 0, NaN or infinite.
   void validate() const {
     if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
       throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");

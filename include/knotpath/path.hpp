@@ -8,6 +8,13 @@
 /// affine function of the penalty, so linear interpolation between the two
 /// surrounding knots is exact. Coefficients are on the original scale of the
 /// data; the L1 norm is the penalized one, sum_j f_j s_j |beta_j|.
+///
+/// Penalty units: lambda is the penalty of the objective (TraceOptions)
+///     0.5 sum_i w_i (y_i - b0 - x_i^T b)^2 + lambda sum_j f_j s_j |b_j|,
+/// with s_j the column scale (standardization: root weighted sum of squares
+/// of the centred column, so s_j b_j and lambda are in response units and
+/// lambda grows like sqrt(n); otherwise s_j = 1). The size-free penalty of
+/// select.hpp is mu = lambda / sqrt(n) (lambda / n without standardization).
 
 #include <algorithm>
 #include <optional>
@@ -70,7 +77,7 @@ template <class Scalar>
 struct Knot {
   Index step = 0;             ///< 0 for the start, then 1, 2, ... per row
   Scalar penalty{0};          ///< lambda at this knot
-  EventKind event = EventKind::start;
+  EventKind event = EventKind::start;  ///< what happened at this row
   Index predictor = -1;       ///< predictor of an enter/leave event (user's 0-based index), else -1
   int sign = 0;               ///< +1/-1: sign of the entering coefficient, or of the leaving one before it left
   double correlation = 0;     ///< enter/leave: correlation of the (prepared) predictor with the residual
@@ -101,18 +108,25 @@ template <class Scalar>
 struct Solution {
   Scalar penalty{0};         ///< lambda of this point
   Scalar l1_norm{0};         ///< sum_j f_j s_j |beta_j|
-  Scalar intercept{0};
+  Scalar intercept{0};       ///< b0 on the original scale (0 without intercept)
   Vector<Scalar> coefficients;  ///< length p (user's predictors; excluded ones are 0)
   bool beyond_path = false;  ///< asked below the last knot of a path that stopped early (or for
                              ///< a budget it never reached): this is the last knot's solution
 };
 
 /// A traced path. Built by trace(); immutable afterwards and safe to query
-/// from several threads at once.
+/// from several threads at once (every member is const and uses no shared
+/// scratch space). K below is the number of knots, p the number of
+/// predictors. Queries on an empty (default-constructed) path throw
+/// invalid_query.
 template <class Scalar>
 class Path {
  public:
+  /// An empty path (no knots); queries throw invalid_query.
   Path() = default;
+  /// Assembles a path from the tracer's results (used by trace_design();
+  /// users normally do not call it). `knots` must have non-increasing
+  /// penalties; `ridge` is the ridge weight the path was traced with.
   Path(Preparation<Scalar> preparation, TraceOptions options, std::vector<Knot<Scalar>> knots,
        std::vector<HeldOut<Scalar>> held_out, StopReason reason, Scalar ridge)
       : prep_(std::move(preparation)),
@@ -262,7 +276,8 @@ class Path {
   }
 
   /// Solution at a fraction f in [0, 1] of the last knot's L1 norm
-  /// (f = 0: the start; f = 1: the end of the path).
+  /// (f = 0: the start; f = 1: the end of the path). O(K p). Throws
+  /// invalid_query for f outside [0, 1] (or NaN).
   Solution<Scalar> at_fraction(double fraction) const {
     if (!(fraction >= 0.0 && fraction <= 1.0))
       throw invalid_query("the fraction must lie in [0, 1]");
@@ -271,7 +286,8 @@ class Path {
     return at_budget(Scalar(fraction) * knots_.back().l1_norm);
   }
 
-  /// Predictors with a nonzero coefficient at penalty lambda (ascending).
+  /// Predictors with a nonzero coefficient at penalty lambda (ascending user
+  /// indices). O(log K + p). Throws invalid_query as at_penalty().
   std::vector<Index> active_at(const Scalar& lambda) const {
     Solution<Scalar> s = at_penalty(lambda);
     std::vector<Index> out;
@@ -280,7 +296,9 @@ class Path {
     return out;
   }
 
-  /// Predictions intercept + X_new beta(lambda) for new rows (original scale).
+  /// Predictions intercept + X_new beta(lambda) for new rows (original
+  /// scale, one row per observation, p columns). O(log K + m p) for m rows.
+  /// Throws invalid_query when the width is not p or lambda is negative/NaN.
   Vector<Scalar> predict(const Matrix<Scalar>& new_rows, const Scalar& lambda) const {
     if (new_rows.cols() != prep_.predictors)
       throw invalid_query("new rows have " + std::to_string(new_rows.cols()) +
@@ -291,21 +309,23 @@ class Path {
     return out;
   }
 
-  /// Dense coefficient vector (length p) of knot k.
+  /// Dense coefficient vector (length p) of knot k, O(p). Throws
+  /// std::out_of_range when k >= knots().size().
   Vector<Scalar> dense_coefficients(std::size_t k) const {
     Vector<Scalar> v = Vector<Scalar>::Zero(prep_.predictors);
     for (const auto& [j, value] : knots_.at(k).coefficients) v(j) = value;
     return v;
   }
 
-  /// The penalized L1 norm sum_j f_j s_j |beta_j| of an original-scale vector.
+  /// The penalized L1 norm sum_j f_j s_j |beta_j| of an original-scale vector
+  /// of length p (excluded predictors weigh 0). O(p).
   Scalar weighted_l1(const Vector<Scalar>& beta) const {
     Scalar sum(0);
     for (Index j = 0; j < beta.size(); ++j) sum += l1_weight_(j) * detail::abs_value<Scalar>(beta(j));
     return sum;
   }
 
-  /// The ridge weight the path was traced with.
+  /// The ridge weight the path was traced with (TraceOptions::ridge).
   const Scalar& ridge() const noexcept { return ridge_; }
 
  private:

@@ -151,6 +151,7 @@ enum class Verdict {
   wrong,        ///< the event sequence differs or coefficients are off by > 1e-3 relative
 };
 
+/// The spelling of a verdict: "trustworthy", "degraded" or "wrong".
 inline std::string to_string(Verdict v) {
   switch (v) {
     case Verdict::trustworthy: return "trustworthy";
@@ -167,23 +168,27 @@ struct Divergence {
   Index low_predictor = -1;       ///< its predictor (-1 for none)
   double low_penalty = 0;         ///< its penalty
   std::string high_event;         ///< the same for the high-precision path
-  Index high_predictor = -1;
-  double high_penalty = 0;
+  Index high_predictor = -1;      ///< its predictor (-1 for none)
+  double high_penalty = 0;        ///< its penalty (rounded to double)
 };
 
 /// Result of the cross-check.
 struct CrossCheck {
   bool same_events = true;                 ///< identical event sequences (kind and predictor)
   std::optional<Divergence> first_difference;  ///< when they differ
-  double max_relative_knot_difference = 0; ///< over the common prefix of the sequences
+  double max_relative_knot_difference = 0; ///< over the common prefix, relative to the high lambda_max
   double max_coefficient_difference = 0;   ///< relative, at the union of the knot penalties
   double condition_estimate = 1;           ///< worst factor condition estimate of the double path
   bool double_suspect = false;             ///< the double path's own health check flagged it
-  std::size_t double_knots = 0, high_knots = 0;
-  Verdict verdict = Verdict::trustworthy;
+  std::size_t double_knots = 0;            ///< rows of the double path's knot table
+  std::size_t high_knots = 0;              ///< rows of the high-precision path's knot table
+  Verdict verdict = Verdict::trustworthy;  ///< summary by the thresholds in the file comment
 };
 
-/// Compares a double path with a high-precision path of the same problem.
+/// Compares a double path with a high-precision path of the same problem
+/// (fills every field of CrossCheck; thresholds in the file comment).
+/// O(K (log K + p)) with K the knots of both paths. Throws invalid_query when
+/// either path is empty.
 template <class High>
 CrossCheck compare_paths(const Path<double>& low, const Path<High>& high) {
   CrossCheck out;
@@ -256,6 +261,7 @@ CrossCheck compare_paths(const Path<double>& low, const Path<High>& high) {
 /// Traces (x, y) in double and in `High` precision (50 digits by default,
 /// data converted exactly) and compares the two paths. Cost: the high
 /// precision trace dominates (roughly 50-200 times the double trace).
+/// Throws what trace() throws (invalid_option, invalid_data).
 template <class High = float50>
 CrossCheck cross_check(const Matrix<double>& x, const Vector<double>& y, const TraceOptions& options = {},
                        const Vector<double>& weights = Vector<double>()) {

@@ -159,8 +159,8 @@ struct CrossValidationOptions {
 /// held-out mean squared error is (a - 2 b t + c t^2) / held_out_weight.
 template <class Scalar>
 struct FoldSegment {
-  Scalar mu_high{0};
-  Scalar mu_low{0};
+  Scalar mu_high{0};  ///< upper end of the segment (size-free penalty of the upper knot)
+  Scalar mu_low{0};   ///< lower end (the lower knot), < mu_high
   Scalar a{0};  ///< sum w r^2 of the held-out residuals r at mu_low
   Scalar b{0};  ///< sum w r d, d = change of the predictions from mu_low to mu_high
   Scalar c{0};  ///< sum w d^2
@@ -198,12 +198,13 @@ struct Fold {
 /// s in [0, 1], the cross-validation error is constant + linear s + quadratic s^2.
 template <class Scalar>
 struct CurvePiece {
-  Scalar mu_high{0};
-  Scalar mu_low{0};
-  Scalar constant{0};
-  Scalar linear{0};
-  Scalar quadratic{0};  ///< >= 0 up to rounding (a sum of squares)
+  Scalar mu_high{0};    ///< upper end of the interval (s = 1)
+  Scalar mu_low{0};     ///< lower end of the interval (s = 0), < mu_high
+  Scalar constant{0};   ///< CV(mu_low)
+  Scalar linear{0};     ///< coefficient of s
+  Scalar quadratic{0};  ///< coefficient of s^2; >= 0 up to rounding (a sum of squares)
 
+  /// CV error at mu = mu_low + s (mu_high - mu_low), s in [0, 1]; O(1).
   Scalar at(const Scalar& s) const { return constant + s * (linear + s * quadratic); }
 };
 
@@ -586,6 +587,7 @@ struct CriteriaOptions {
   /// Noise variance sigma^2 > 0 (of a row of weight 1); negative: estimate it.
   double noise_variance = -1.0;
 
+  /// Throws invalid_option("noise_variance") when it is 0, NaN or infinite.
   void validate() const {
     if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
       throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
@@ -601,22 +603,22 @@ struct KnotCriteria {
   Index nonzero = 0;      ///< nonzero coefficients
   Index parameters = 0;   ///< d = nonzero + intercept
   Scalar rss{0};          ///< weighted residual sum of squares
-  Scalar mallows_cp{0};
-  Scalar aic{0};
-  Scalar bic{0};
+  Scalar mallows_cp{0};   ///< RSS / sigma^2 - n + 2 d
+  Scalar aic{0};          ///< RSS / (n sigma^2) + 2 d / n
+  Scalar bic{0};          ///< RSS / (n sigma^2) + log(n) d / n
 };
 
 /// Cp, AIC and BIC along a path.
 template <class Scalar>
 struct InformationCriteria {
   std::vector<KnotCriteria<Scalar>> knots;  ///< one per knot-table row
-  Scalar noise_variance{0};
-  NoiseVarianceSource source = NoiseVarianceSource::given;
+  Scalar noise_variance{0};        ///< sigma^2 used by all three criteria
+  NoiseVarianceSource source = NoiseVarianceSource::given;  ///< where sigma^2 came from
   Index residual_df = 0;           ///< degrees of freedom of the variance estimate (0 when given)
   Index observations = 0;          ///< n: rows with positive weight
   std::size_t best_cp = 0;         ///< index into knots of the minimum (the first, largest penalty, among ties)
-  std::size_t best_aic = 0;
-  std::size_t best_bic = 0;
+  std::size_t best_aic = 0;        ///< index into knots of the AIC minimum (first among ties)
+  std::size_t best_bic = 0;        ///< index into knots of the BIC minimum (first among ties)
 };
 
 namespace detail {

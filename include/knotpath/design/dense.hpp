@@ -12,15 +12,23 @@
 
 namespace knotpath {
 
-/// Dense prepared design Z (n x q) and response y (n). Products cost O(n q)
-/// per knot; Gram entries are computed on demand, O(n) each.
+/// Dense prepared design Z (n x q) and response y (n), a DesignOperator.
+/// Products cost O(n q) per knot; Gram entries are computed on demand, O(n)
+/// each. Memory: the copy of Z and y plus one n-vector of scratch space.
+///
+/// Thread safety: direction_correlations() writes a mutable scratch vector,
+/// so one design object must not be used by two concurrent traces; the const
+/// accessors are safe to call concurrently with each other.
 template <class ScalarT>
 class DenseDesign {
  public:
+  /// The arithmetic type of the prepared columns (double, a 50-digit float, a rational).
   using Scalar = ScalarT;
 
+  /// An empty design (0 x 0); assign a constructed one before use.
   DenseDesign() = default;
-  /// Takes ownership of the prepared columns and response.
+  /// Takes ownership of the prepared columns and response. Throws
+  /// std::invalid_argument when `columns.rows() != response.size()`.
   DenseDesign(Matrix<Scalar> columns, Vector<Scalar> response)
       : z_(std::move(columns)), y_(std::move(response)) {
     if (z_.rows() != y_.size())
@@ -28,23 +36,32 @@ class DenseDesign {
     work_.resize(z_.rows());
   }
 
+  /// Number of rows n of Z.
   Index rows() const noexcept { return z_.rows(); }
+  /// Number of prepared columns q.
   Index cols() const noexcept { return z_.cols(); }
 
+  /// z_j^T z_j for prepared column j in [0, q); O(n).
   Scalar squared_norm(Index j) const { return z_.col(j).squaredNorm(); }
+  /// y^T y of the prepared response; O(n).
   Scalar response_squared_norm() const { return y_.squaredNorm(); }
 
+  /// out = Z^T y (resized to q); O(n q).
   void response_correlations(Vector<Scalar>& out) const {
     out.resize(z_.cols());
     for (Index j = 0; j < z_.cols(); ++j) out(j) = z_.col(j).dot(y_);
   }
 
+  /// out(i) = z_{active[i]}^T z_j for i < |active| (`out` is the caller's,
+  /// of length >= |active|, not resized); O(n |active|).
   void cross_products(Index j, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
     for (std::size_t i = 0; i < active.size(); ++i)
       out(static_cast<Index>(i)) = z_.col(active[i]).dot(z_.col(j));
   }
 
-  /// a = Z^T (Z_A d): one pass to form u = Z_A d, one product Z^T u.
+  /// out = Z^T (Z_A d) with A = `active` and d of length |A|: one pass to
+  /// form u = Z_A d (O(n |A|)), one product Z^T u (O(n q)). Uses the scratch
+  /// vector (see the class note on thread safety).
   void direction_correlations(std::span<const Index> active, const Eigen::Ref<const Vector<Scalar>>& d,
                               Vector<Scalar>& out) const {
     work_.setZero();

@@ -27,12 +27,27 @@
 
 namespace knotpath {
 
-/// Dense view design: references the user's matrix (it must outlive the design).
+/// Dense view design, a DesignOperator: references the user's matrix (it
+/// must outlive the design) and applies centring, scaling and weights on the
+/// fly. Usually built by prepare_view(). Per knot: one X^T v (O(n p) over
+/// all user columns) plus O(n |A|); each Gram entry O(n).
+///
+/// Thread safety: the products write mutable scratch vectors (length n and
+/// p), so one design object must not be used by two concurrent traces.
 template <class ScalarT>
 class DenseViewDesign {
  public:
+  /// The arithmetic type (a floating type; see prepare_view()).
   using Scalar = ScalarT;
 
+  /// \param x            the user's n x p matrix, referenced (not copied)
+  /// \param columns      user column of each design column k (the included predictors)
+  /// \param means        m_k per design column (0 without intercept)
+  /// \param scales       s_k > 0 per design column (1 without standardization)
+  /// \param sqrt_weights sqrt(w_r) per row (length n; 0 drops a row)
+  /// \param response     the prepared response sqrt(w) o (y - ybar), length n
+  /// \param weighted     true when some weight differs from 1
+  /// Computes the q squared column norms, O(n q).
   DenseViewDesign(const Matrix<Scalar>& x, std::vector<Index> columns, Vector<Scalar> means,
                   Vector<Scalar> scales, Vector<Scalar> sqrt_weights, Vector<Scalar> response, bool weighted)
       : x_(&x),
@@ -50,17 +65,26 @@ class DenseViewDesign {
     for (Index k = 0; k < cols(); ++k) norms_(k) = centred_cross(k, k);
   }
 
+  /// Number of rows with positive weight (rows of weight 0 do not count).
   Index rows() const noexcept { return rows_used_; }
+  /// Number of design columns q (included predictors).
   Index cols() const noexcept { return static_cast<Index>(columns_.size()); }
+  /// z_k^T z_k, precomputed; O(1).
   Scalar squared_norm(Index k) const { return norms_(k); }
+  /// y^T y of the prepared response; O(n).
   Scalar response_squared_norm() const { return y_.squaredNorm(); }
+  /// out = Z^T y (`out` must have length q); O(n p). Uses the scratch space.
   void response_correlations(Vector<Scalar>& out) const {
     u_ = y_;
     transpose_times_u(out);
   }
+  /// out(i) = z_{active[i]}^T z_k for i < |active|, centred on the fly;
+  /// O(n |active|).
   void cross_products(Index k, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
     for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = centred_cross(active[i], k);
   }
+  /// out = Z^T (Z_A d) with A = `active` (`out` of length q): O(n |A|) to form
+  /// Z_A d, then one dense X^T v', O(n p). Uses the scratch space.
   void direction_correlations(std::span<const Index> active, const Eigen::Ref<const Vector<Scalar>>& d,
                               Vector<Scalar>& out) const {
     u_.setZero();
@@ -112,16 +136,20 @@ class DenseViewDesign {
   mutable Vector<Scalar> full_;   // X^T v' for all user columns
 };
 
-/// A prepared view problem.
+/// A prepared view problem: the operator to hand to trace_design() and the
+/// record of what the preparation did (means, scales, exclusions).
 template <class Scalar>
 struct PreparedView {
-  DenseViewDesign<Scalar> design;
-  Preparation<Scalar> preparation;
+  DenseViewDesign<Scalar> design;   ///< references the user's matrix: keep it alive while tracing
+  Preparation<Scalar> preparation;  ///< means, scales, exclusions; pass to trace_design()
 };
 
 /// Prepares a view of a dense design: the same centring, scaling and
 /// exclusions as prepare_dense, computed column by column without copying X.
-/// Floating scalar types only.
+/// Floating scalar types only. `x` must outlive the returned design. `weights`
+/// empty means all 1. O(n p) time, O(n + p) memory beyond X.
+/// Throws invalid_option (bad options), invalid_data (sizes disagree,
+/// non-finite values, negative weights, no positive weight, overflowing sums).
 template <class Scalar>
 PreparedView<Scalar> prepare_view(const Matrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options,
                                   const Vector<Scalar>& weights = Vector<Scalar>()) {

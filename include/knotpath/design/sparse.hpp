@@ -33,13 +33,23 @@ namespace knotpath {
 template <class Scalar>
 using SparseMatrix = Eigen::SparseMatrix<Scalar, Eigen::ColMajor, Index>;
 
-/// Sparse design operator over the included columns of a user's matrix.
+/// Sparse design operator (a DesignOperator) over the included columns of a
+/// user's matrix; usually built by prepare_sparse(). Each product costs
+/// O(nnz + n) per knot, each Gram entry O(nnz of the two columns).
+///
+/// Thread safety: the products write a mutable n-vector of scratch space, so
+/// one design object must not be used by two concurrent traces.
 template <class ScalarT>
 class SparseDesign {
  public:
+  /// The arithmetic type (a floating type; see prepare_sparse()).
   using Scalar = ScalarT;
 
-  /// `x` is referenced, not copied: it must outlive the design.
+  /// `x` is referenced, not copied: it must outlive the design. `columns`
+  /// maps design column k to the user's column; `means` and `scales` are m_k
+  /// and s_k per design column; `sqrt_weights` holds sqrt(w_r) per row (0
+  /// drops a row); `response` is the prepared response sqrt(w) o (y - ybar).
+  /// Computes the q squared column norms, O(nnz).
   SparseDesign(const SparseMatrix<Scalar>& x, std::vector<Index> columns, Vector<Scalar> means,
                Vector<Scalar> scales, Vector<Scalar> sqrt_weights, Vector<Scalar> response)
       : x_(&x),
@@ -58,21 +68,30 @@ class SparseDesign {
     for (Index k = 0; k < norms_.size(); ++k) norms_(k) = raw_cross(k, k);
   }
 
+  /// Number of rows with positive weight (rows of weight 0 do not count).
   Index rows() const noexcept { return rows_used_; }
+  /// Number of design columns q (included predictors).
   Index cols() const noexcept { return static_cast<Index>(columns_.size()); }
+  /// z_k^T z_k, precomputed; O(1).
   Scalar squared_norm(Index k) const { return norms_(k); }
+  /// y^T y of the prepared response; O(n).
   Scalar response_squared_norm() const { return y_.squaredNorm(); }
 
+  /// out = Z^T y (`out` of length q); O(nnz + n). Uses the scratch space.
   void response_correlations(Vector<Scalar>& out) const {
     // y_ is already sqrt(w)-scaled; one more sqrt(w) gives w o y for the product.
     for (Index r = 0; r < y_.size(); ++r) scratch_(r) = weighted_ ? Scalar(sqrt_w_(r) * y_(r)) : y_(r);
     weighted_transpose_times(scratch_, out);
   }
 
+  /// out(i) = z_{active[i]}^T z_k for i < |active| (merge of the two
+  /// columns' stored entries; see the file comment on accuracy).
   void cross_products(Index k, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
     for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = raw_cross(active[i], k);
   }
 
+  /// out = Z^T (Z_A d) with A = `active` (`out` of length q); O(nnz + n).
+  /// Uses the scratch space.
   void direction_correlations(std::span<const Index> active, const Eigen::Ref<const Vector<Scalar>>& d,
                               Vector<Scalar>& out) const {
     // u = Z_A d, built in scratch_ (length n).
@@ -143,13 +162,16 @@ class SparseDesign {
 /// A prepared sparse problem (the design references the user's matrix).
 template <class Scalar>
 struct PreparedSparse {
-  SparseDesign<Scalar> design;
-  Preparation<Scalar> preparation;
+  SparseDesign<Scalar> design;      ///< references the user's matrix: keep it alive while tracing
+  Preparation<Scalar> preparation;  ///< means, scales, exclusions; pass to trace_design()
 };
 
 /// Prepares a sparse design: weighted means and scales from the stored
 /// entries (implicit zeros included), exclusions as in prepare_dense.
-/// Floating scalar types only (the row scaling needs square roots).
+/// Floating scalar types only (the row scaling needs square roots). `x`
+/// must outlive the returned design; `weights` empty means all 1.
+/// O(n + p + nnz) time. Throws invalid_option (bad options) and invalid_data
+/// (sizes disagree, non-finite values, negative weights, no positive weight).
 template <class Scalar>
 PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vector<Scalar>& y,
                                       const TraceOptions& options,

@@ -62,7 +62,9 @@ std::string arithmetic_name();
 
 /// mu = lambda / sqrt(n), n = sum of weights: the size-free penalty of
 /// DESIGN.md ("Comparing penalties"). 0 when n = 0. (In double: square roots
-/// are irrational, so exact mode shows mu as a decimal only.)
+/// are irrational, so exact mode shows mu as a decimal only.) Always divides
+/// by sqrt(n), also for a path traced without standardization, where
+/// knotpath::size_free_penalty() (select.hpp) divides by n instead.
 template <class Scalar>
 double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda);
 
@@ -71,12 +73,12 @@ template <class Scalar>
 std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss);
 
 /// Writes the knot table: header
-/// step,penalty,event,predictor,active,l1_norm,r_squared,intercept,<names>
+/// `step,penalty,event,predictor,active,l1_norm,r_squared,intercept,NAMES...`
 /// then one row per knot (see DESIGN.md). The last row's event is
 /// to_string(path.stop_reason()) ("end" or "stop-..."). An undefined R^2
 /// (constant response) is an empty cell. Exact mode appends the columns
 /// decimal:penalty, decimal:l1_norm, decimal:r_squared, decimal:intercept,
-/// decimal:<name>... (nearest doubles, 17 significant digits).
+/// `decimal:NAME`... (nearest doubles, 17 significant digits).
 template <class Scalar>
 void write_knot_table(std::ostream& out, const Path<Scalar>& path,
                       const std::vector<std::string>& names);
