@@ -47,7 +47,8 @@ struct SufficientStatistics {
   Matrix<Scalar> comoments;    ///< sum_i w_i (x_i - mean)(x_i - mean)^T (p x p)
   Vector<Scalar> cross;        ///< sum_i w_i (x_i - mean)(y_i - ybar) (p)
   Scalar response_comoment{0}; ///< sum_i w_i (y_i - ybar)^2
-  Vector<Scalar> minimum, maximum;  ///< per predictor, over rows with positive weight
+  Vector<Scalar> minimum;      ///< smallest value per predictor, over rows with positive weight (p)
+  Vector<Scalar> maximum;      ///< largest value per predictor, over rows with positive weight (p)
 
   /// Number of predictors.
   Index predictors() const noexcept { return means.size(); }
@@ -201,26 +202,41 @@ struct SufficientStatistics {
 
 };
 
-/// Gram design operator: prepared Gram matrix G = Z^T Z (q x q), Z^T y and
-/// y^T y. Per knot: O(q k) for the direction correlations; Gram entries O(1).
+/// Gram design operator (a DesignOperator): prepared Gram matrix G = Z^T Z
+/// (q x q), Z^T y and y^T y. Per knot: O(q k) for the direction
+/// correlations; Gram entries O(1); memory O(q^2), independent of n. Usually
+/// built by prepare_gram(). Holds no scratch space, so one object may serve
+/// several concurrent traces.
 template <class ScalarT>
 class GramDesign {
  public:
+  /// The arithmetic type of the statistics.
   using Scalar = ScalarT;
 
+  /// An empty design (q = 0); assign a constructed one before use.
   GramDesign() = default;
+  /// \param gram           G = Z^T Z of the prepared columns (q x q, symmetric)
+  /// \param response_cross Z^T y (q)
+  /// \param response_norm2 y^T y of the prepared (centred, weighted) response
+  /// \param rows           number of rows with positive weight behind the statistics
   GramDesign(Matrix<Scalar> gram, Vector<Scalar> response_cross, Scalar response_norm2, Index rows)
       : g_(std::move(gram)), c_(std::move(response_cross)), yy_(std::move(response_norm2)), rows_(rows) {}
 
+  /// Number of rows with positive weight the statistics summarize.
   Index rows() const noexcept { return rows_; }
+  /// Number of prepared columns q.
   Index cols() const noexcept { return g_.cols(); }
+  /// G_jj = z_j^T z_j; O(1).
   Scalar squared_norm(Index j) const { return g_(j, j); }
+  /// y^T y of the prepared response; O(1).
   Scalar response_squared_norm() const { return yy_; }
+  /// out = Z^T y (a copy of the stored vector); O(q).
   void response_correlations(Vector<Scalar>& out) const { out = c_; }
+  /// out(i) = G(active[i], j) for i < |active|; O(|active|).
   void cross_products(Index j, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
     for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = g_(active[i], j);
   }
-  /// a = G[:, A] d.
+  /// out = G[:, A] d = Z^T (Z_A d) with A = `active`; O(q |A|).
   void direction_correlations(std::span<const Index> active, const Eigen::Ref<const Vector<Scalar>>& d,
                               Vector<Scalar>& out) const {
     out.setZero(g_.cols());
@@ -246,14 +262,17 @@ class GramDesign {
 /// A prepared Gram problem.
 template <class Scalar>
 struct PreparedGram {
-  GramDesign<Scalar> design;
-  Preparation<Scalar> preparation;
+  GramDesign<Scalar> design;        ///< owns the prepared statistics (no reference to the data)
+  Preparation<Scalar> preparation;  ///< means, scales, exclusions; pass to trace_design()
 };
 
 /// Prepares a Gram problem from sufficient statistics, applying the same
 /// centring, scaling and exclusions as prepare_dense (see prepare.hpp).
 /// Without an intercept the raw (uncentred) cross-products are rebuilt from
-/// the centred ones: C + n m m^T.
+/// the centred ones: C + n m m^T. O(p^2) time and memory. Throws
+/// invalid_option (bad options; standardize with an exact rational type)
+/// and invalid_data (no row with positive weight, statistics that are not
+/// finite).
 template <class Scalar>
 PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, const TraceOptions& options) {
   const Index p = stats.predictors();
