@@ -109,12 +109,17 @@ void check_data(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<S
 /// A prepared dense problem: the design operator and the preparation record.
 template <class Scalar>
 struct PreparedDense {
-  DenseDesign<Scalar> design;
-  Preparation<Scalar> preparation;
+  DenseDesign<Scalar> design;       ///< a copy of the prepared columns (rows of weight 0 dropped)
+  Preparation<Scalar> preparation;  ///< means, scales, exclusions; pass to trace_design()
 };
 
-/// Prepares a dense design for tracing. `weights` may be empty (all 1).
-/// Throws invalid_data or invalid_option. Cost O(n p); memory one copy of X.
+/// Prepares a dense design for tracing: centres, scales and weights the
+/// columns as in the file comment and excludes all-zero, constant (with an
+/// intercept) and infinite-factor columns. `weights` may be empty (all 1).
+/// Throws invalid_option (bad options; standardize with an exact rational
+/// type) or invalid_data (sizes disagree, NaN/Inf, negative weights, no
+/// positive weight, overflowing sums, exact type with weights other than 0
+/// and 1). Cost O(n p); memory one copy of X.
 template <class Scalar>
 PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                     const TraceOptions& options,
