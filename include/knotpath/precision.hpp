@@ -176,7 +176,9 @@ struct Divergence {
 struct CrossCheck {
   bool same_events = true;                 ///< identical event sequences (kind and predictor)
   std::optional<Divergence> first_difference;  ///< when they differ
-  double max_relative_knot_difference = 0; ///< over the common prefix, relative to the high lambda_max
+  /// Largest knot-penalty difference over the common prefix, relative to
+  /// the high-precision lambda_max.
+  double max_relative_knot_difference = 0;
   double max_coefficient_difference = 0;   ///< relative, at the union of the knot penalties
   double condition_estimate = 1;           ///< worst factor condition estimate of the double path
   bool double_suspect = false;             ///< the double path's own health check flagged it

@@ -45,7 +45,7 @@ namespace knotpath::charts {
 /// One knot of the path, in doubles.
 struct ChartKnot {
   double penalty = 0;       ///< lambda at this knot
-  EventKind event = EventKind::start;
+  EventKind event = EventKind::start;  ///< what happened at this knot
   Index predictor = -1;     ///< predictor of an enter/leave event, else -1
   int sign = 0;             ///< sign of the entering (or leaving) coefficient
   Index active = 0;         ///< active predictors after the event
@@ -61,6 +61,7 @@ struct ChartPath {
   std::vector<double> predictor_sd;  ///< per predictor (1/n weighted) standard deviation; empty
                                      ///< when unknown (then coefficients are drawn as given)
   double weight_sum = 0;             ///< n (sum of weights), for mu = lambda / sqrt(n)
+  /// Name of the response, used in titles and labels.
   std::string response_name = "response";
   std::string variant = "lasso";     ///< "lasso" or "least angle"
   std::string end = "end";           ///< how the path ended: "end" or "stop-..."
@@ -185,6 +186,7 @@ struct CriterionCurve {
 /// A selection curve as the chart sees it; the selection code fills it.
 struct SelectionCurve {
   std::string penalty_name = "mu";   ///< "mu" or "lambda": what `penalty` holds
+  /// Name of the error measure, shown on the chart.
   std::string error_name = "mean squared prediction error";
   std::string error_unit;            ///< e.g. "(kg/m2)^2"; empty: "response units squared"
   std::size_t folds = 0;             ///< cross-validation folds (0: unknown)
@@ -254,6 +256,7 @@ std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions&
 
 /// Options of the HTML report.
 struct ReportOptions {
+  /// Title of the page (HTML title and heading).
   std::string title = "knotpath report";
   /// Lines of the summary box, (label, value), e.g. ("data", "demo.csv").
   std::vector<std::pair<std::string, std::string>> summary;

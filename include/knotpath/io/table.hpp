@@ -44,7 +44,7 @@ enum class MissingCells {
 
 /// Options of read_table.
 struct TableReadOptions {
-  /// Field delimiter: ',', ';' or '\t'; 0 detects it from the header row.
+  /// Field delimiter: ',', ';' or TAB ('\\t'); 0 detects it from the header row.
   char delimiter = 0;
   /// Handling of empty / "NA" cells.
   MissingCells missing = MissingCells::error;
@@ -71,12 +71,16 @@ class table_error : public std::runtime_error {
  public:
   /// content: the text is not a valid table; input_output: it cannot be read.
   enum class Kind { content, input_output };
+  /// Records the location and builds what() as described above.
   table_error(Kind kind, std::string source, std::size_t line, std::size_t column,
               const std::string& message);
+  /// Whether the content was bad or the input could not be read.
   Kind kind() const noexcept { return kind_; }
   /// File name, or "<stdin>".
   const std::string& source() const noexcept { return source_; }
+  /// 1-based line of the error (0: not applicable).
   std::size_t line() const noexcept { return line_; }
+  /// 1-based column (field) of the error (0: not applicable).
   std::size_t column() const noexcept { return column_; }
   /// The message without the location.
   const std::string& message() const noexcept { return message_; }
@@ -93,10 +97,13 @@ class table_error : public std::runtime_error {
 class NumericColumn {
  public:
   static constexpr std::size_t block_size = 1u << 15;  ///< values per block
+  /// Appends a value (allocates a new block every block_size values).
   void push_back(double value);
   /// Removes the last value (used when a row turns out to be dropped).
   void pop_back();
+  /// Number of values stored.
   std::size_t size() const noexcept { return size_; }
+  /// Value i (0-based, unchecked: i must be < size() and the blocks not yet moved out).
   double operator[](std::size_t i) const { return blocks_[i / block_size][i % block_size]; }
   /// Copies the values to out[0 .. size) and frees the blocks as it goes.
   void move_into(double* out);
