@@ -70,6 +70,10 @@ struct Candidate {
 /// the prepared columns described by `prep` (prep.columns[k] is the user's
 /// index of column k). Cost per knot: one design.direction_correlations (O(n q)
 /// dense) plus O(k^2) for the factor and O(q) for the step search.
+/// Throws invalid_option (options.validate()). Thread safety: the dense, view
+/// and sparse operators write scratch space during the trace, so one design
+/// object must not be traced by two threads at once (a GramDesign holds none
+/// and may be shared); the returned Path is immutable.
 template <DesignOperator Design>
 Path<typename Design::Scalar> trace_design(const Design& design,
                                            const Preparation<typename Design::Scalar>& prep,
@@ -363,7 +367,12 @@ Path<typename Design::Scalar> trace_design(const Design& design,
 /// Objective at penalty lambda (see DESIGN notes and TraceOptions):
 ///     0.5 sum_i w_i (y_i - b0 - x_i^T beta)^2 + lambda sum_j f_j s_j |beta_j|
 ///                                              + 0.5 ridge sum_j (s_j beta_j)^2.
+/// Units: with standardize (the default) s_j is the root weighted sum of
+/// squares of the centred column, so lambda is in response units and grows
+/// like sqrt(n); lambda / sqrt(n) is the size-free penalty (select.hpp).
 /// `weights` may be empty (all 1). Throws invalid_option or invalid_data.
+/// Thread safety: each call owns its design and factor and only reads x, y
+/// and weights, so concurrent calls are safe.
 /// Cost: about one least-squares fit, O(n p k) for k knots with a dense design.
 /// Storage: TraceOptions::storage; automatic picks Gram mode (sufficient
 /// statistics, O(n p^2) once then O(p k) per knot) when n >= 2 p and
@@ -412,6 +421,8 @@ Path<Scalar> trace_sparse(const SparseMatrix<Scalar>& x, const Vector<Scalar>& y
 
 /// Traces the path from sufficient statistics computed elsewhere (possibly
 /// merged across row blocks or machines). Same objective as trace().
+/// Cost O(p^2) to prepare, then O(p k) per knot, independent of n. Throws
+/// invalid_option or invalid_data (see prepare_gram()).
 template <class Scalar>
 Path<Scalar> trace_statistics(const SufficientStatistics<Scalar>& statistics, const TraceOptions& options = {}) {
   PreparedGram<Scalar> prepared = prepare_gram(statistics, options);
