@@ -221,7 +221,9 @@ class ColumnSubset {
 /// was estimated on that many degrees of freedom (covariance p-values then
 /// use F(2, residual_df)); 0 says it is known. Throws invalid_option for an
 /// unsupported path (see the file comment). Cost: one reduced path of at
-/// most k columns per entry, O(k^3) for the spacing test's omega.
+/// most k columns per entry, O(k^3) for the spacing test's omega. The
+/// reduced traces use `design`'s scratch space: do not use the same design
+/// object in another thread meanwhile.
 template <DesignOperator Design>
 Significance entry_significance(const Design& design, const Path<typename Design::Scalar>& path,
                                 double noise_variance, Index residual_df = 0) {
