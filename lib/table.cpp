@@ -10,6 +10,7 @@
 #include <fstream>
 #include <iostream>
 #include <set>
+#include <unordered_map>
 #include <utility>
 
 namespace knotpath::io {
@@ -144,7 +145,12 @@ class RecordReader {
   RecordReader(CharSource& source, std::string name, char delimiter)
       : in_(source), name_(std::move(name)), delimiter_(delimiter) {}
 
-  // Reads the next non-blank record into fields[0 .. count); false at the end.
+  // Fields past this many are parsed and counted but not kept (their text
+  // goes to one scratch field), so a huge row costs no memory per field.
+  void keep_at_most(std::size_t fields) { keep_ = fields; }
+
+  // Reads the next non-blank record into fields[0 .. min(count, keep)); false
+  // at the end. count is the record's full number of fields.
   bool next(std::vector<Field>& fields, std::size_t& count) {
     count = 0;
     for (;;) {  // skip blank lines
@@ -161,8 +167,8 @@ class RecordReader {
     }
     record_line_ = line_;
     for (;;) {
-      if (count == fields.size()) fields.emplace_back();
-      Field& f = fields[count];
+      if (count < keep_ && count == fields.size()) fields.emplace_back();
+      Field& f = count < keep_ ? fields[count] : scratch_;
       f.text.clear();
       f.quoted = false;
       f.line = line_;
@@ -243,6 +249,8 @@ class RecordReader {
   char delimiter_;
   std::size_t line_ = 1;
   std::size_t record_line_ = 1;
+  std::size_t keep_ = static_cast<std::size_t>(-1);
+  Field scratch_;
 };
 
 std::string_view trim(std::string_view s) {
@@ -289,7 +297,40 @@ char detect_delimiter(std::string_view head) {
   return ',';
 }
 
-std::string quoted_name(const std::string& s) { return "\"" + s + "\""; }
+// Text of a cell or name as shown in a message: control bytes and bytes that
+// are not well-formed UTF-8 escaped as \xNN, and cut to 60 bytes (a message never quotes megabytes).
+std::string shown(std::string_view s) {
+  constexpr std::size_t limit = 60;
+  std::string out;
+  for (std::size_t i = 0; i < s.size() && i < limit; ++i) {
+    const auto c = static_cast<unsigned char>(s[i]);
+    // A well-formed UTF-8 sequence is kept whole (names may be in any script).
+    const std::size_t extra = c >= 0xC2 && c <= 0xDF ? 1 : c >= 0xE0 && c <= 0xEF ? 2
+                              : c >= 0xF0 && c <= 0xF4 ? 3 : 0;
+    if (extra > 0 && i + extra < s.size()) {
+      bool well_formed = true;
+      for (std::size_t k = 1; k <= extra; ++k)
+        well_formed = well_formed && (static_cast<unsigned char>(s[i + k]) & 0xC0) == 0x80;
+      if (well_formed) {
+        out.append(s.substr(i, extra + 1));
+        i += extra;
+        continue;
+      }
+    }
+    if (c < 0x20 || c >= 0x7F) {
+      static const char hex[] = "0123456789ABCDEF";
+      out += "\\x";
+      out += hex[c >> 4];
+      out += hex[c & 15];
+    } else {
+      out += static_cast<char>(c);
+    }
+  }
+  if (s.size() > limit) out += "... (" + std::to_string(s.size()) + " bytes)";
+  return out;
+}
+
+std::string quoted_name(const std::string& s) { return "\"" + shown(s) + "\""; }
 
 enum class ColumnState { skipped, pending, numeric, text };
 
@@ -314,6 +355,7 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
     table.delimiter = detect_delimiter(std::string_view(data, size));
   }
   RecordReader reader(chars, source, table.delimiter);
+  reader.keep_at_most(options.max_columns);
   std::vector<Field> fields;
   std::size_t count = 0;
   if (!reader.next(fields, count))
@@ -321,23 +363,29 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
 
   // Header.
   const std::size_t width = count;
+  if (width > options.max_columns)
+    throw table_error(Kind::content, source, reader.record_line(), 0,
+                      "the header has " + std::to_string(width) + " columns, more than the limit of " +
+                          std::to_string(options.max_columns) + " (raise it with --max-columns)");
   std::vector<std::string> header(width);
+  std::unordered_map<std::string, std::size_t> header_position;  // name -> first position
   for (std::size_t j = 0; j < width; ++j) {
     header[j] = std::string(trim(fields[j].text));
     if (header[j].empty())
       throw table_error(Kind::content, source, reader.record_line(), j + 1,
                         "the header has an empty column name");
-    for (std::size_t k = 0; k < j; ++k)
-      if (header[k] == header[j])
-        throw table_error(Kind::content, source, reader.record_line(), j + 1,
-                          "duplicate column name " + quoted_name(header[j]) + " (also column " +
-                              std::to_string(k + 1) + ")");
+    const auto [at, fresh] = header_position.emplace(header[j], j);
+    if (!fresh)
+      throw table_error(Kind::content, source, reader.record_line(), j + 1,
+                        "duplicate column name " + quoted_name(header[j]) + " (also column " +
+                            std::to_string(at->second + 1) + ")");
   }
+  reader.keep_at_most(width);
   auto position = [&](const std::string& name) -> std::size_t {
-    for (std::size_t j = 0; j < width; ++j)
-      if (header[j] == name) return j;
+    if (const auto at = header_position.find(name); at != header_position.end()) return at->second;
     std::string list;
-    for (std::size_t j = 0; j < width; ++j) list += (j ? ", " : "") + header[j];
+    for (std::size_t j = 0; j < width && j < 20; ++j) list += (j ? ", " : "") + shown(header[j]);
+    if (width > 20) list += ", ... (" + std::to_string(width) + " columns)";
     throw table_error(Kind::content, source, reader.record_line(), 0,
                       "unknown column " + quoted_name(name) + " (the header has: " + list + ")");
   };
@@ -397,12 +445,12 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
           break;
         case Parse::not_finite:
           throw table_error(Kind::content, source, cell_line, j + 1,
-                            "cell \"" + std::string(cell) + "\" in column " +
+                            "cell \"" + shown(cell) + "\" in column " +
                                 quoted_name(header[j]) + " is not a finite number (NaN and infinite "
                                 "values are not accepted)");
         case Parse::overflow:
           throw table_error(Kind::content, source, cell_line, j + 1,
-                            "cell \"" + std::string(cell) + "\" in column " +
+                            "cell \"" + shown(cell) + "\" in column " +
                                 quoted_name(header[j]) + " is too large for a double");
         case Parse::text:
           if (state[j] == ColumnState::pending) {
@@ -410,13 +458,13 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
               throw table_error(Kind::content, source, cell_line, j + 1,
                                 "column " + quoted_name(header[j]) +
                                     " is a text column (its first data cell is \"" +
-                                    std::string(cell) + "\") but it was asked for as a number");
+                                    shown(cell) + "\") but it was asked for as a number");
             state[j] = ColumnState::text;
             table.text_columns.push_back(header[j]);
             break;
           }
           throw table_error(Kind::content, source, cell_line, j + 1,
-                            "cell \"" + std::string(cell) + "\" in numeric column " +
+                            "cell \"" + shown(cell) + "\" in numeric column " +
                                 quoted_name(header[j]) + " is not a number");
       }
     }

@@ -15,8 +15,10 @@
 /// ybar = 0.
 
 #include <cmath>
+#include <cstdio>
 #include <limits>
 #include <string>
+#include <type_traits>
 #include <utility>
 #include <vector>
 
@@ -82,6 +84,44 @@ Scalar weighted_norm(const Column& v, const Weights& w) {
 }  // namespace detail
 
 namespace detail {
+/// Refuses data whose squares would leave the normal floating range. For a
+/// built-in floating type with largest binary exponent E (1024 for double),
+/// the largest |value| of every predictor column, of the response and of the
+/// weights must lie in [2^-0.44E, 2^0.44E] (about 1e-135 to 1e135 for
+/// double) unless it is 0: then squares, cross-products and their sums over
+/// up to 2^0.1E rows stay finite and normal in every storage (the Gram
+/// statistics form products directly). Outside it the trace would overflow
+/// to Inf/NaN or lose every digit to underflow; invalid_data says which
+/// column to rescale. Other scalar types (50-digit floats, rationals) have a
+/// far wider range than any double input and are not limited.
+template <class Scalar>
+void check_magnitudes(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+  if constexpr (std::is_floating_point_v<Scalar>) {
+    const int bound_exponent = static_cast<int>(0.44 * std::numeric_limits<Scalar>::max_exponent);
+    const Scalar high = std::ldexp(Scalar(1), bound_exponent), low = std::ldexp(Scalar(1), -bound_exponent);
+    auto shown = [](Scalar v) {
+      char text[32];
+      std::snprintf(text, sizeof text, "%.3g", static_cast<double>(v));
+      return std::string(text);
+    };
+    auto check = [&](Scalar top, const std::string& what) {
+      if (top > high)
+        throw invalid_data(what + " holds values as large as " + shown(top) +
+                           ": their squares would overflow double precision; divide it by a power "
+                           "of ten (largest accepted magnitude 2^" + std::to_string(bound_exponent) + ")");
+      if (top != Scalar(0) && top < low)
+        throw invalid_data(what + " holds no value larger in magnitude than " + shown(top) +
+                           ": their squares would underflow (lose every digit); multiply it by a "
+                           "power of ten (smallest accepted largest magnitude 2^-" +
+                           std::to_string(bound_exponent) + ")");
+    };
+    for (Index j = 0; j < x.cols(); ++j)
+      if (x.rows() > 0) check(x.col(j).cwiseAbs().maxCoeff(), "predictor column " + std::to_string(j));
+    if (y.size() > 0) check(y.cwiseAbs().maxCoeff(), "the response");
+    if (weights.size() > 0) check(weights.cwiseAbs().maxCoeff(), "the weight vector");
+  }
+}
+
 /// Checks sizes and finiteness of user data; throws invalid_data naming the place.
 template <class Scalar>
 void check_data(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
@@ -103,6 +143,7 @@ void check_data(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<S
       if (!is_finite_value(x(i, j)))
         throw invalid_data("the design is not finite at row " + std::to_string(i) + ", column " +
                            std::to_string(j));
+  check_magnitudes(x, y, weights);
 }
 }  // namespace detail
 

@@ -349,6 +349,16 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
     }
     c(b) = moment_y(jb) / prep.scales(jb);
   }
+  // Statistics formed from values near the ends of the floating range hold
+  // Inf/NaN (products overflow); refuse them rather than trace garbage.
+  bool finite = detail::is_finite_value(prep.total_sum_of_squares);
+  for (Index b = 0; b < q && finite; ++b) {
+    finite = detail::is_finite_value(c(b)) && detail::is_finite_value(prep.scales(prep.columns[static_cast<std::size_t>(b)]));
+    for (Index a = 0; a < q && finite; ++a) finite = detail::is_finite_value(g(a, b));
+  }
+  if (!finite)
+    throw invalid_data("the sufficient statistics are not finite (squares or cross-products of the "
+                       "data overflow double precision); rescale the predictors and the response");
   return {GramDesign<Scalar>(std::move(g), std::move(c), prep.total_sum_of_squares, stats.rows),
           std::move(prep)};
 }

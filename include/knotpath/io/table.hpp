@@ -60,6 +60,11 @@ struct TableReadOptions {
   /// Keep the exact decimal text of every numeric cell read (trimmed), for
   /// exact rational parsing later. Costs the text's memory.
   bool keep_decimal_text = false;
+  /// Largest number of columns accepted; a header with more is an error (a
+  /// guard against binary or run-together input: a 10 MB line without line
+  /// breaks is read in O(its length) time and O(max_columns) memory). Data
+  /// rows are never stored beyond the header's width.
+  std::size_t max_columns = 100000;
   /// Called now and then with (bytes consumed, data rows read); may be empty.
   std::function<void(std::size_t, std::size_t)> progress;
 };
