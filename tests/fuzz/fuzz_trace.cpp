@@ -1,0 +1,191 @@
+// libFuzzer target: the tracer on small designs decoded from the input bytes
+// (n <= 12 rows, p <= 10 predictors, options, weights). The trace must either
+// throw a documented exception (knotpath::invalid_option / invalid_data /
+// invalid_query, errors.hpp) or return a path whose every knot satisfies the
+// KKT conditions of the traced objective (trace.hpp, "Invariants (KKT)"),
+// checked here independently on the prepared columns:
+//   lasso:        c_j = lambda f_j sign(b_j) where b_j != 0, |c_j| <= lambda f_j elsewhere
+//   least angle:  |c_j| = lambda f_j on active columns, |c_j| <= lambda f_j elsewhere
+//   (one-sided for sign-constrained predictors), c = Z^T (y - Z b) - ridge b.
+// Knots flagged suspect (Knot::suspect: estimated relative error above
+// 1e-6, i.e. double precision may not carry this design) are skipped: for
+// them the library itself says "cross-check before trusting", which is the
+// documented behaviour, not a bug. Columns held out as numerically collinear
+// get the extra allowance their recorded angle implies (see below).
+//
+// Tolerance (absolute, on the prepared scale), from the error model of a
+// backward-stable solve: a computed knot is the exact knot of data perturbed
+// by O(eps) relative, so its correlations are off by about
+//   eps * kappa * zmax * (||y|| + zmax ||b||_1)
+// with kappa the active factor's condition estimate (Knot::condition_estimate)
+// and zmax the largest prepared column norm; the path's own error estimate
+// (Knot::estimated_error, which includes the measured correlation drift)
+// times lambda_max bounds what accumulates over the knots. Both get a
+// factor 1e3 for the growth constants of n, p <= 12 and the up to a hundred
+// updates of one path (Higham, Accuracy and Stability of Numerical
+// Algorithms, 2nd ed., ch. 10: Cholesky backward error c n eps).
+
+#include <cmath>
+#include <cstddef>
+#include <cstdint>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <limits>
+#include <vector>
+
+#include <knotpath/knotpath.hpp>
+
+namespace {
+
+namespace kp = knotpath;
+using kp::Index;
+
+struct Bytes {
+  const std::uint8_t* data;
+  std::size_t size, pos = 0;
+  std::uint8_t next() { return pos < size ? data[pos++] : 0; }
+  double value(int mode) {
+    switch (mode) {
+      case 0: return static_cast<double>(static_cast<int>(next() % 7) - 3);  // ties, duplicates
+      case 1: {
+        const int v = static_cast<int>(next()) | (static_cast<int>(next()) << 8);
+        return static_cast<double>(v - 32768) / 256.0;
+      }
+      case 2: {  // spread over many magnitudes
+        const int m = static_cast<int>(next()) - 128;
+        const int e = static_cast<int>(next() % 64) - 32;
+        return std::ldexp(static_cast<double>(m), e);
+      }
+      default: {  // raw bytes: any double, NaN and Inf included
+        double d = 0;
+        std::uint8_t raw[8];
+        for (auto& b : raw) b = next();
+        std::memcpy(&d, raw, 8);
+        return d;
+      }
+    }
+  }
+};
+
+[[noreturn]] void fail(const char* what, int step, double violation, double allowed) {
+  std::fprintf(stderr, "fuzz_trace: %s at knot %d: violation %.3g > allowed %.3g\n", what, step,
+               violation, allowed);
+  std::abort();
+}
+
+}  // namespace
+
+extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
+  Bytes in{data, size};
+  const Index n = 1 + in.next() % 12;
+  const Index p = 1 + in.next() % 10;
+  const std::uint8_t flags = in.next();
+  const std::uint8_t more = in.next();
+  const int mode = more & 3;
+  kp::TraceOptions o;
+  o.variant = (flags & 1) ? kp::Variant::least_angle : kp::Variant::lasso;
+  o.fit_intercept = (flags & 2) == 0;
+  o.standardize = (flags & 4) == 0;
+  o.storage = static_cast<kp::Storage>((flags >> 3) % 3);
+  if (flags & 32) o.ridge = static_cast<double>(in.next()) / 64.0;
+  if (flags & 64) {
+    o.penalty_factors.resize(static_cast<std::size_t>(p));
+    for (auto& f : o.penalty_factors) {
+      const std::uint8_t b = in.next();
+      f = b == 255 ? std::numeric_limits<double>::infinity() : static_cast<double>(b % 8) / 2.0;
+    }
+  }
+  if (flags & 128) {
+    const std::uint8_t b = in.next();
+    o.sign_constraints = {static_cast<kp::SignConstraint>(b % 3)};
+  }
+  if (more & 4) o.max_knots = in.next() % 16;
+  if (more & 8) o.max_active = in.next() % 6;
+  kp::Matrix<double> x(n, p);
+  kp::Vector<double> y(n), w;
+  for (Index j = 0; j < p; ++j)
+    for (Index i = 0; i < n; ++i) x(i, j) = in.value(mode);
+  if (more & 16)  // a duplicated column
+    x.col(p - 1) = x.col(0);
+  for (Index i = 0; i < n; ++i) y(i) = in.value(mode);
+  if (more & 32) {
+    w.resize(n);
+    for (Index i = 0; i < n; ++i) w(i) = static_cast<double>(in.next() % 4) / 2.0;
+  }
+
+  kp::Path<double> path;
+  try {
+    path = kp::trace<double>(x, y, o, w);
+  } catch (const kp::invalid_option&) {
+    return 0;
+  } catch (const kp::invalid_data&) {
+    return 0;
+  } catch (const kp::invalid_query&) {
+    return 0;
+  }
+  // Anything else propagates: libFuzzer reports an uncaught exception as a crash.
+
+  // Independent preparation (prepare.hpp's documented formulas).
+  const auto& prep = path.preparation();
+  const kp::Vector<double> wt = w.size() ? w : kp::Vector<double>(kp::Vector<double>::Ones(n));
+  const double wsum = wt.sum();
+  const std::size_t q = prep.columns.size();
+  const double ymean = o.fit_intercept ? wt.dot(y) / wsum : 0.0;
+  const kp::Vector<double> yz = ((y.array() - ymean) * wt.array().sqrt()).matrix();
+  kp::Matrix<double> z(n, static_cast<Index>(q));
+  std::vector<double> scale(q);
+  for (std::size_t k = 0; k < q; ++k) {
+    const Index j = prep.columns[k];
+    const double m = o.fit_intercept ? wt.dot(x.col(j)) / wsum : 0.0;
+    kp::Vector<double> col = ((x.col(j).array() - m) * wt.array().sqrt()).matrix();
+    scale[k] = o.standardize ? col.norm() : 1.0;
+    z.col(static_cast<Index>(k)) = col / scale[k];
+  }
+  const double eps = std::numeric_limits<double>::epsilon();
+  double zmax = 0;
+  for (std::size_t k = 0; k < q; ++k) zmax = std::max(zmax, z.col(static_cast<Index>(k)).norm());
+  const double lambda_max = path.lambda_max();
+  for (const auto& knot : path.knots()) {
+    if (!std::isfinite(knot.penalty) || !std::isfinite(knot.rss) || !std::isfinite(knot.intercept))
+      fail("non-finite knot", static_cast<int>(knot.step), 0, 0);
+    for (const auto& [j, v] : knot.coefficients)
+      if (!std::isfinite(v)) fail("non-finite coefficient", static_cast<int>(knot.step), 0, 0);
+    if (knot.suspect) continue;
+    kp::Vector<double> b = kp::Vector<double>::Zero(static_cast<Index>(q));
+    const kp::Vector<double> beta = path.dense_coefficients(static_cast<std::size_t>(knot.step));
+    for (std::size_t k = 0; k < q; ++k) b(static_cast<Index>(k)) = beta(prep.columns[k]) * scale[k];
+    const kp::Vector<double> r = yz - z * b;
+    const kp::Vector<double> c = z.transpose() * r - o.ridge * b;
+    const double lambda = knot.penalty;
+    const double kappa = std::max(1.0, knot.condition_estimate);
+    const double allowed = 1e3 * eps * kappa * zmax * (yz.norm() + zmax * b.lpNorm<1>()) +
+                           1e3 * knot.estimated_error * lambda_max;
+    for (std::size_t k = 0; k < q; ++k) {
+      const Index kk = static_cast<Index>(k);
+      const double f = prep.penalty_factors[k];
+      const kp::SignConstraint s = prep.constraints[k];
+      double v;
+      if (b(kk) != 0 && o.variant == kp::Variant::lasso)
+        v = std::abs(c(kk) - lambda * f * (b(kk) > 0 ? 1.0 : -1.0));
+      else if (b(kk) != 0)
+        v = std::abs(std::abs(c(kk)) - lambda * f);
+      else if (s == kp::SignConstraint::nonnegative)
+        v = std::max(0.0, c(kk) - lambda * f);
+      else if (s == kp::SignConstraint::nonpositive)
+        v = std::max(0.0, -c(kk) - lambda * f);
+      else
+        v = std::max(0.0, std::abs(c(kk)) - lambda * f);
+      // A column held out as numerically dependent on the active ones
+      // (squared sine to their span below TraceOptions::collinearity_tolerance,
+      // Path::held_out()) is not added, by design: its correlation may then
+      // exceed the boundary by up to sine * ||r|| * ||z_k||.
+      double sine2 = 0;
+      for (const auto& h : path.held_out())
+        if (h.predictor == prep.columns[k] && h.step <= knot.step) sine2 = std::max(sine2, h.squared_sine);
+      const double held = std::sqrt(sine2) * r.norm() * z.col(kk).norm();
+      if (v > allowed + held) fail("KKT violation", static_cast<int>(knot.step), v, allowed + held);
+    }
+  }
+  return 0;
+}

@@ -1,0 +1,36 @@
+#!/usr/bin/env bash
+# Builds the test suite and the knotpath program with AddressSanitizer and
+# UndefinedBehaviorSanitizer in a separate build folder and runs every CTest
+# case. Any sanitizer report fails the run (halt_on_error, no recovery).
+#
+# usage: tools/sanitize.sh [BUILD_DIR]     (default: build/asan)
+# environment: CXX (compiler, default c++: gcc or clang both work),
+#              JOBS (parallel jobs, default 2).
+#
+# -O1 keeps the instrumented build and run within the CI budget; assertions
+# (Eigen's bounds checks included) stay on. Benchmarks and examples are left
+# out: they run the same library code the tests cover.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+build="${1:-build/asan}"
+jobs="${JOBS:-2}"
+flags="-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
+start=$(date +%s)
+
+cmake -S . -B "$build" \
+  -DCMAKE_BUILD_TYPE=Debug \
+  -DCMAKE_CXX_FLAGS_DEBUG="-O1 -g" \
+  -DCMAKE_CXX_FLAGS="$flags" \
+  -DCMAKE_EXE_LINKER_FLAGS="-fsanitize=address,undefined" \
+  -DKNOTPATH_WARNINGS_AS_ERRORS=ON \
+  -DKNOTPATH_BUILD_BENCHMARKS=OFF \
+  -DKNOTPATH_BUILD_EXAMPLES=OFF \
+  -DKNOTPATH_BUILD_TESTS=ON
+cmake --build "$build" -j "$jobs"
+built=$(date +%s)
+
+export ASAN_OPTIONS="detect_leaks=1:abort_on_error=1:strict_string_checks=1"
+export UBSAN_OPTIONS="halt_on_error=1:print_stacktrace=1"
+ctest --test-dir "$build" --output-on-failure -j "$jobs" --timeout 900
+done_at=$(date +%s)
+echo "sanitize.sh: build $((built - start)) s, tests $((done_at - built)) s; no sanitizer reports"
