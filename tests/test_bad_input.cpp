@@ -155,7 +155,7 @@ TEST_F(BadInput, MoreColumnsThanTheLimitIsRefused) {
 TEST_F(BadInput, ValuesAtTheEndsOfTheDoubleRangeAreRefusedByName) {
   // Squares of 1e308 overflow and squares of 1e-308 underflow (IEEE 754
   // binary64 normal range about 2.2e-308 .. 1.8e308); the library refuses
-  // largest magnitudes outside [2^-450, 2^450] and the program names the column.
+  // largest magnitudes outside [2^-256, 2^256] and the program names the column.
   expect_refused("a,b,y\n1e308,1,2\n-1e308,2,3\n5e307,3,1\n",
                  "bad.csv: predictor \"a\" holds values as large as 1e+308");
   expect_refused("a,b,y\n1,1,2e307\n2,2,-1e308\n3,7,1\n",

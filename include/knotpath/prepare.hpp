@@ -87,17 +87,19 @@ namespace detail {
 /// Refuses data whose squares would leave the normal floating range. For a
 /// built-in floating type with largest binary exponent E (1024 for double),
 /// the largest |value| of every predictor column, of the response and of the
-/// weights must lie in [2^-0.44E, 2^0.44E] (about 1e-135 to 1e135 for
-/// double) unless it is 0: then squares, cross-products and their sums over
-/// up to 2^0.1E rows stay finite and normal in every storage (the Gram
-/// statistics form products directly). Outside it the trace would overflow
-/// to Inf/NaN or lose every digit to underflow; invalid_data says which
-/// column to rescale. Other scalar types (50-digit floats, rationals) have a
+/// weights must lie in [2^-E/4, 2^E/4] (about 1e-77 to 1e77 for double)
+/// unless it is 0: then squares, cross-products and their sums stay finite
+/// and normal in every storage (the Gram statistics form products directly),
+/// with 2^E/2 of headroom for the growth of the homotopy's intermediate
+/// quantities on ill-conditioned designs (a fuzzed design with a response
+/// near 1e132 and a wider bound overflowed the residual sum of squares).
+/// Outside it the trace would overflow to Inf/NaN or lose every digit to
+/// underflow; invalid_data says which column to rescale. Other scalar types (50-digit floats, rationals) have a
 /// far wider range than any double input and are not limited.
 template <class Scalar>
 void check_magnitudes(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
   if constexpr (std::is_floating_point_v<Scalar>) {
-    const int bound_exponent = static_cast<int>(0.44 * std::numeric_limits<Scalar>::max_exponent);
+    const int bound_exponent = std::numeric_limits<Scalar>::max_exponent / 4;
     const Scalar high = std::ldexp(Scalar(1), bound_exponent), low = std::ldexp(Scalar(1), -bound_exponent);
     auto shown = [](Scalar v) {
       char text[32];

@@ -326,6 +326,10 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
     Scalar scale(1);
     if (options.standardize) {
       const Scalar m2 = moment(j, j);
+      if (!detail::is_finite_value(m2))
+        throw invalid_data("predictor column " + std::to_string(j) +
+                           ": its sum of squares is not finite in the sufficient statistics "
+                           "(the data overflow double precision); rescale it");
       if (!(m2 > Scalar(0))) {
         prep.excluded.push_back({j, "column scale is zero or not representable"});
         continue;

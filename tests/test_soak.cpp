@@ -1,0 +1,247 @@
+// Numerical soak: thousands of random designs of varied shape (n from 2 to
+// 200, p from 1 to 300), correlation (independent to AR(1) rho = 0.999),
+// column scales (norms from about 1e-6 to 1e6), duplicated columns and tied
+// integer-valued columns. Every path is checked
+//  - for the KKT conditions of its objective at every knot and at random
+//    penalties between knots (trace.hpp, "Invariants (KKT)"), on columns
+//    prepared independently here (test_support.hpp, centre());
+//  - against the independent coordinate-descent solver (test_support.hpp) at
+//    random penalties, by fitted values Z b: the lasso fit is unique even
+//    when the coefficients are not (p > n, duplicates): Tibshirani (2013),
+//    "The lasso problem and uniqueness", Electron. J. Statist. 7, 1456-1490,
+//    Lemma 1;
+//  - for a clean stop (never the step_limit safety bound) and finite values.
+// It prints the worst KKT violation and the worst disagreement seen, and the
+// number of knots the library itself flagged suspect.
+//
+// Tolerances (absolute, prepared scale). A computed knot is the exact knot of
+// slightly perturbed data (backward-stable Cholesky updates, Higham, Accuracy
+// and Stability of Numerical Algorithms, 2nd ed., ch. 10), so its
+// correlations are off by about eps * kappa * (||y|| + ||b||_1) with kappa
+// the active factor's condition estimate (Knot::condition_estimate), plus
+// what the updates accumulate, which the path measures itself
+// (Knot::estimated_error, relative to lambda_max). The allowance is
+//   kTolFactor * (eps * kappa * (||y|| + ||b||_1) + estimated_error * lambda_max)
+// with kTolFactor = 1e3 for the growth constants of p <= 300 and hundreds of
+// updates. Suspect knots (estimated_error > 1e-6) use the same formula; the
+// allowance simply grows with the error the library admits to. A wrong
+// event or sign gives a violation of order lambda, far outside.
+// Coordinate descent is compared only where it converged (its own KKT
+// violation below 1e-9 lambda_max, measured, same formula otherwise); the
+// fits then agree to about the sum of both solvers' KKT errors divided by
+// the smallest singular value of the active columns, bounded here by
+// kFitTol * ||y|| with kFitTol = 1e-6 (a wrong path is off by O(1)).
+
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <random>
+#include <vector>
+
+#include <knotpath/knotpath.hpp>
+
+#include "test_support.hpp"
+
+namespace {
+
+namespace kp = knotpath;
+namespace kt = knotpath::testing;
+using kp::Index;
+using kp::Matrix;
+using kp::Vector;
+
+constexpr int kDesigns = 2000;
+constexpr double kTolFactor = 1e3;
+constexpr double kFitTol = 1e-6;
+constexpr double kEps = 2.220446049250313e-16;  // IEEE 754 binary64 epsilon
+
+struct Design {
+  Matrix<double> x;
+  Vector<double> y;
+  kp::TraceOptions options;
+  std::string summary;
+};
+
+Design random_design(unsigned seed) {
+  std::mt19937_64 gen(seed);
+  std::uniform_real_distribution<double> u(0.0, 1.0);
+  std::normal_distribution<double> normal(0.0, 1.0);
+  Design d;
+  // Log-uniform sizes: most designs small, some near the bounds.
+  const Index n = std::clamp<Index>(static_cast<Index>(std::exp(u(gen) * std::log(201.0))) + 1, 2, 200);
+  const Index p = std::clamp<Index>(static_cast<Index>(std::exp(u(gen) * std::log(301.0))), 1, 300);
+  const double rhos[] = {0.0, 0.0, 0.5, 0.9, 0.99, 0.999};
+  const double rho = rhos[gen() % 6];
+  const int kind = static_cast<int>(gen() % 8);  // 0..4 Gaussian AR(1), 5 ties, 6 duplicates, 7 both
+  d.x.resize(n, p);
+  const double tail = std::sqrt(1.0 - rho * rho);
+  for (Index i = 0; i < n; ++i) {
+    double prev = normal(gen);
+    for (Index j = 0; j < p; ++j) {
+      if (j > 0) prev = rho * prev + tail * normal(gen);
+      d.x(i, j) = prev;
+    }
+  }
+  if (kind == 5 || kind == 7)  // tied, integer-valued columns
+    for (Index j = 0; j < p; j += 2)
+      for (Index i = 0; i < n; ++i) d.x(i, j) = static_cast<double>(gen() % 3);
+  if ((kind == 6 || kind == 7) && p >= 2)  // duplicated (possibly rescaled) columns
+    for (Index j = 1; j < p; j += 3) d.x.col(j) = d.x.col(gen() % static_cast<std::size_t>(j)) * (gen() % 2 ? 1.0 : -2.5);
+  // Column scales 10^U(-6, 6): norms from about 1e-6 to 1e6 times sqrt(n).
+  for (Index j = 0; j < p; ++j) d.x.col(j) *= std::pow(10.0, -6.0 + 12.0 * u(gen));
+  Vector<double> beta = Vector<double>::Zero(p);
+  for (Index k = 0; k < std::min<Index>(p, 5); ++k) {
+    const Index j = static_cast<Index>(gen() % static_cast<std::size_t>(p));
+    const double norm = d.x.col(j).norm();  // 0 for an all-zero tied column
+    if (norm > 0) beta(j) = normal(gen) / norm * std::sqrt(double(n));
+  }
+  d.y = d.x * beta;
+  const double noise = u(gen) < 0.2 ? 0.0 : 1.0;
+  for (Index i = 0; i < n; ++i) d.y(i) += noise * normal(gen) + 2.0;
+  if (kind == 5) d.y = d.y.array().round();  // tied response values
+  const int options = static_cast<int>(gen() % 10);
+  d.options.variant = options == 0 ? kp::Variant::least_angle : kp::Variant::lasso;
+  d.options.fit_intercept = options != 1;
+  d.options.standardize = options != 2;
+  if (options == 3) d.options.ridge = 0.05 + u(gen);
+  d.options.storage = static_cast<kp::Storage>(gen() % 3);
+  char text[200];
+  std::snprintf(text, sizeof text, "seed %u: n %ld p %ld rho %g kind %d options %d storage %d", seed,
+                static_cast<long>(n), static_cast<long>(p), rho, kind, options,
+                static_cast<int>(d.options.storage));
+  d.summary = text;
+  return d;
+}
+
+struct Figures {
+  long paths = 0, knots = 0, suspect_knots = 0, penalties = 0, compared = 0, cd_unconverged = 0;
+  double worst_kkt = 0;          // violation / allowance ratio, all points
+  double worst_kkt_relative = 0;  // violation / lambda_max, non-suspect points
+  double worst_fit = 0;          // ||Z (b - b_cd)|| / ||y||
+  std::string worst_kkt_design, worst_fit_design;
+};
+
+// KKT violation of b at lambda on prepared columns z (largest over columns).
+double violation(const Matrix<double>& z, const Vector<double>& y, const Vector<double>& b, double lambda,
+                 const kp::TraceOptions& o, const std::vector<double>& f) {
+  const Vector<double> c = z.transpose() * (y - z * b) - o.ridge * b;
+  double worst = 0;
+  for (Index j = 0; j < z.cols(); ++j) {
+    const double fj = f[static_cast<std::size_t>(j)];
+    double v;
+    if (b(j) != 0 && o.variant == kp::Variant::lasso)
+      v = std::abs(c(j) - lambda * fj * (b(j) > 0 ? 1.0 : -1.0));
+    else if (b(j) != 0)
+      v = std::abs(std::abs(c(j)) - lambda * fj);  // least angle: equal correlations
+    else
+      v = std::max(0.0, std::abs(c(j)) - lambda * fj);
+    worst = std::max(worst, v);
+  }
+  return worst;
+}
+
+TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
+  const auto started = std::chrono::steady_clock::now();
+  Figures fig;
+  std::mt19937_64 gen(99);
+  std::uniform_real_distribution<double> u(0.0, 1.0);
+  for (int s = 0; s < kDesigns; ++s) {
+    const Design d = random_design(1000u + static_cast<unsigned>(s));
+    SCOPED_TRACE(d.summary);
+    kp::Path<double> path;
+    try {
+      path = kp::trace<double>(d.x, d.y, d.options);
+    } catch (const std::exception& e) {
+      ADD_FAILURE() << "trace threw " << e.what();
+      continue;
+    }
+    ++fig.paths;
+    EXPECT_NE(path.stop_reason(), kp::StopReason::step_limit) << "safety bound hit";
+    const auto& prep = path.preparation();
+    if (prep.columns.empty()) continue;
+    Matrix<double> xs(d.x.rows(), static_cast<Index>(prep.columns.size()));
+    for (std::size_t k = 0; k < prep.columns.size(); ++k) xs.col(static_cast<Index>(k)) = d.x.col(prep.columns[k]);
+    const kt::Centred c = kt::centre(xs, d.y, d.options.fit_intercept, d.options.standardize);
+    const double ynorm = c.y.norm();
+    const double lambda_max = path.lambda_max();
+    auto prepared = [&](const Vector<double>& beta) {
+      Vector<double> b(xs.cols());
+      for (std::size_t k = 0; k < prep.columns.size(); ++k)
+        b(static_cast<Index>(k)) = beta(prep.columns[k]) * c.scale(static_cast<Index>(k));
+      return b;
+    };
+    // Columns held out as numerically dependent on the active ones (squared
+    // sine to their span below TraceOptions::collinearity_tolerance) are not
+    // added, by design; their correlation may exceed the boundary by up to
+    // sine * ||r|| (unit columns). The largest recorded angle of the path is
+    // allowed that much.
+    double held_sine = 0;
+    for (const auto& h : path.held_out()) held_sine = std::max(held_sine, std::sqrt(h.squared_sine));
+    auto check = [&](const Vector<double>& b, double lambda, double kappa, double error, bool suspect) {
+      const double v = violation(c.z, c.y, b, lambda, d.options, prep.penalty_factors);
+      const double zmax = c.z.colwise().norm().maxCoeff();
+      const double allowed = kTolFactor * (kEps * std::max(1.0, kappa) * zmax * (ynorm + zmax * b.lpNorm<1>()) +
+                                           error * lambda_max) +
+                             held_sine * (c.y - c.z * b).norm() * zmax + 1e-300;
+      if (v / allowed > fig.worst_kkt) {
+        fig.worst_kkt = v / allowed;
+        fig.worst_kkt_design = d.summary;
+      }
+      if (!suspect && lambda_max > 0) fig.worst_kkt_relative = std::max(fig.worst_kkt_relative, v / lambda_max);
+      EXPECT_LE(v, allowed) << "lambda " << lambda << " kappa " << kappa << " error " << error;
+    };
+    const auto& knots = path.knots();
+    for (std::size_t k = 0; k < knots.size(); ++k) {
+      const auto& knot = knots[k];
+      ++fig.knots;
+      fig.suspect_knots += knot.suspect;
+      check(prepared(path.dense_coefficients(k)), knot.penalty, knot.condition_estimate, knot.estimated_error,
+            knot.suspect);
+    }
+    // Random penalties inside the path: the interpolated solution is exact.
+    const double last = knots.back().penalty;
+    for (int r = 0; r < 3 && lambda_max > last; ++r) {
+      const double lambda = last + (lambda_max - last) * u(gen) * u(gen);
+      std::size_t lower = 0;
+      while (lower < knots.size() && knots[lower].penalty >= lambda) ++lower;
+      const std::size_t upper = lower == 0 ? 0 : lower - 1;
+      lower = std::min(lower, knots.size() - 1);
+      const double kappa = std::max(knots[upper].condition_estimate, knots[lower].condition_estimate);
+      const double error = std::max(knots[upper].estimated_error, knots[lower].estimated_error);
+      const bool suspect = knots[upper].suspect || knots[lower].suspect;
+      const Vector<double> b = prepared(path.at_penalty(lambda).coefficients);
+      ++fig.penalties;
+      check(b, lambda, kappa, error, suspect);
+      // Coordinate descent (lasso / elastic net only), when it converges.
+      if (d.options.variant != kp::Variant::lasso || r > 0 || suspect) continue;
+      const int sweeps = static_cast<int>(std::min<long>(2000, 4000000 / (xs.rows() * xs.cols() + 1)));
+      const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, prep.penalty_factors, d.options.ridge,
+                                                       {}, 1e-14, sweeps);
+      if (violation(c.z, c.y, cd, lambda, d.options, prep.penalty_factors) > 1e-9 * lambda_max) {
+        ++fig.cd_unconverged;
+        continue;
+      }
+      ++fig.compared;
+      const double fit = (c.z * (b - cd)).norm() / std::max(ynorm, 1e-300);
+      if (fit > fig.worst_fit) {
+        fig.worst_fit = fit;
+        fig.worst_fit_design = d.summary;
+      }
+      EXPECT_LE(fit, kFitTol) << "fit differs from coordinate descent at lambda " << lambda;
+    }
+  }
+  const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  std::printf("soak: %ld paths, %ld knots (%ld suspect), %ld random penalties, %ld compared with coordinate "
+              "descent (%ld where it had not converged skipped), %.1f s\n",
+              fig.paths, fig.knots, fig.suspect_knots, fig.penalties, fig.compared, fig.cd_unconverged, seconds);
+  std::printf("soak: worst KKT violation / allowance %.3g (%s)\n", fig.worst_kkt, fig.worst_kkt_design.c_str());
+  std::printf("soak: worst KKT violation / lambda_max at non-suspect points %.3g\n", fig.worst_kkt_relative);
+  std::printf("soak: worst fit disagreement with coordinate descent ||Z(b - b_cd)|| / ||y|| %.3g (%s)\n",
+              fig.worst_fit, fig.worst_fit_design.c_str());
+  EXPECT_EQ(fig.paths, kDesigns);
+}
+
+}  // namespace
