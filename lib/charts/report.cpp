@@ -38,6 +38,8 @@ figure { margin: 12px 0; overflow-x: auto; }
 figure svg { max-width: 100%; height: auto; }
 figcaption { color: #5A5A5A; font-size: 13px; }
 ul.notes { color: #5A5A5A; font-size: 13px; }
+div.cautions { border-left: 4px solid #E69F00; padding: 2px 12px; margin: 12px 0; }
+div.cautions h2 { font-size: 15px; margin: 6px 0; }
 footer { margin-top: 32px; color: #5A5A5A; font-size: 12px; }
 )";
 
@@ -75,6 +77,11 @@ std::string report_html(const ChartPath& path, const ReportOptions& options, con
   for (const auto& [label, value] : summary)
     out << "<tr><td class=\"label\">" << xml_escape(label) << "</td><td>" << xml_escape(value) << "</td></tr>\n";
   out << "</table>\n";
+  if (!options.cautions.empty()) {
+    out << "<div class=\"cautions\">\n<h2>Cautions</h2>\n<ul>\n";
+    for (const auto& c : options.cautions) out << "<li>" << xml_escape(c) << "</li>\n";
+    out << "</ul>\n</div>\n";
+  }
 
   ChartOptions co = options.charts;
   const std::string prefix = co.id_prefix;

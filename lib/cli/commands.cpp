@@ -11,6 +11,7 @@
 #include <knotpath/demo.hpp>
 
 #include "cli.hpp"
+#include "select_command.hpp"
 
 namespace knotpath::cli {
 
@@ -72,6 +73,7 @@ struct TraceArgs {
   PrecisionArgs precision;
   std::string knots_file;
   std::string json_file;
+  std::string report_dir;
 };
 
 struct AtArgs {
@@ -88,6 +90,7 @@ struct AtArgs {
 
 struct DemoArgs {
   std::string out = "knotpath-demo";
+  std::string report_dir;  // empty: OUT/report
 };
 
 }  // namespace
@@ -104,11 +107,16 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
       ->group("Output");
   command->add_option("--json", args->json_file, "Write the path as a JSON document to this file")
       ->group("Output");
+  command->add_option("--report", args->report_dir,
+                      "Write an HTML report with charts (report.html and SVG files) into this folder")
+      ->group("Output");
   command->footer(
       "Example:\n"
       "  knotpath trace patients.csv --response progression --knots knots.csv --json path.json\n");
   command->callback([args, &global] {
     if (args->precision.precision != "double" || args->precision.digits != 0) {
+      if (!args->report_dir.empty())
+        throw failure(exit_usage, "--report draws the double path: it cannot be combined with --precision");
       global.status = trace_with_precision(args->table, args->model, args->precision,
                                            args->knots_file, args->json_file, global);
       return;
@@ -118,6 +126,8 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
     std::cout << io::audit_text(traced.path, traced.context);
     std::vector<std::string> written;
     write_reports(traced, args->knots_file, args->json_file, written);
+    if (!args->report_dir.empty())
+      written.push_back(write_report_dir(args->report_dir, traced.path, traced.context, nullptr).front());
     for (const auto& file : written) std::cout << "wrote " << file << '\n';
     std::cout.flush();
     global.status = finish(traced.path);
@@ -210,6 +220,8 @@ CLI::App* add_demo_command(CLI::App& app, Global& global) {
       "Run the whole job on built-in invented data (greenhouse yields with a known sparse truth)");
   command->add_option("--out", args->out, "Folder for the demo's outputs")
       ->default_str("knotpath-demo");
+  command->add_option("--report", args->report_dir,
+                      "Folder of the HTML report with charts (default: OUT/report)");
   command->footer("Example:\n  knotpath demo --out /tmp/knotpath-demo\n");
   command->callback([args, &global] {
     const demo::DemoData data = demo::greenhouse();
@@ -255,12 +267,17 @@ CLI::App* add_demo_command(CLI::App& app, Global& global) {
     }
     std::cout << "generating model uses:     " << truth << '\n';
     std::cout << "first " << true_count << " to enter the path: " << first << "\n\n";
+    const charts::SelectionCurve selection = demo_selection(data, table_file.string(), std::cout);
 
     std::vector<std::string> written{table_file.string()};
     write_reports(traced, knots_file.string(), json_file.string(), written);
     std::cout << "wrote " << written[0] << " (the invented data)\n";
     std::cout << "wrote " << written[1] << " (knot table)\n";
     std::cout << "wrote " << written[2] << " (JSON document)\n";
+    const std::filesystem::path report_dir =
+        args->report_dir.empty() ? folder / "report" : std::filesystem::path(args->report_dir);
+    std::cout << "wrote " << write_report_dir(report_dir, traced.path, traced.context, &selection).front()
+              << " (HTML report with charts; open it in a browser)\n";
     std::cout << "next: knotpath at " << table_file.string() << " --response "
               << data.response_name << " --fraction 0.5\n";
     std::cout.flush();

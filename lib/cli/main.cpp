@@ -5,6 +5,7 @@
 #include <new>
 
 #include "cli.hpp"
+#include "select_command.hpp"
 
 int main(int argc, char** argv) {
   using namespace knotpath::cli;
@@ -22,11 +23,13 @@ int main(int argc, char** argv) {
       "  knotpath trace data.csv --response y --knots knots.csv\n"
       "  knotpath at data.csv --response y --penalty 2.5\n"
       "  knotpath verify data.csv --response y\n"
+      "  knotpath select data.csv --response y --report report\n"
       "Run 'knotpath COMMAND --help' for the options of one command.\n");
   add_trace_command(app, global);
   add_at_command(app, global);
   add_demo_command(app, global);
   add_verify_command(app, global);
+  add_select_command(app, global);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

@@ -264,6 +264,9 @@ struct ReportOptions {
   ChartOptions charts;
   /// Also draw the traces against the L1 budget.
   bool include_budget_traces = true;
+  /// Cautions shown in a box below the summary, one item each (e.g. the
+  /// assumptions behind p-values); empty: no box.
+  std::vector<std::string> cautions;
 };
 
 /// Chart 4: the one-page report as XHTML-compatible HTML text: summary,

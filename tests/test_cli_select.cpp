@@ -1,0 +1,482 @@
+// End-to-end tests of `knotpath select` and of the --report DIR option of
+// trace, select and demo: they run the built executable (KNOTPATH_CLI_PATH)
+// on small tables and check what it prints and writes against the library
+// (cross_validate, information_criteria, entry_significance), against an
+// independent coordinate-descent refit of every fold, and against published
+// formulas; the reports are parsed with tinyxml2 (Debian libtinyxml2-dev).
+
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+#include <tinyxml2.h>
+
+#include <Eigen/QR>
+
+#include <knotpath/demo.hpp>
+#include <knotpath/inference.hpp>
+#include <knotpath/io/charts.hpp>
+#include <knotpath/io/report.hpp>
+#include <knotpath/select.hpp>
+
+#include "test_support.hpp"
+
+namespace {
+
+namespace fs = std::filesystem;
+using knotpath::Index;
+using knotpath::Matrix;
+using knotpath::Vector;
+using json = nlohmann::json;
+
+struct Outcome {
+  int code = -1;
+  std::string out, err;
+};
+
+std::string slurp(const fs::path& file) {
+  std::ifstream in(file, std::ios::binary);
+  std::stringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+class Select : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
+    dir_ = fs::temp_directory_path() / fmt::format("knotpath-select-{}-{}", info->name(), ::getpid());
+    fs::remove_all(dir_);
+    fs::create_directories(dir_);
+  }
+  void TearDown() override {
+    if (!HasFailure()) fs::remove_all(dir_);
+  }
+  fs::path file(const std::string& name) const { return dir_ / name; }
+
+  Outcome run(const std::string& args) const {
+    const fs::path out = dir_ / ".stdout", err = dir_ / ".stderr";
+    const std::string command = fmt::format("cd '{}' && '{}' --quiet {} </dev/null >'{}' 2>'{}'", dir_.string(),
+                                            KNOTPATH_CLI_PATH, args, out.string(), err.string());
+    const int status = std::system(command.c_str());
+    Outcome r;
+    r.code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+    r.out = slurp(out);
+    r.err = slurp(err);
+    fs::remove(out);
+    fs::remove(err);
+    return r;
+  }
+
+  std::vector<std::string> listing() const {
+    std::vector<std::string> names;
+    for (const auto& entry : fs::directory_iterator(dir_)) names.push_back(entry.path().filename());
+    std::sort(names.begin(), names.end());
+    return names;
+  }
+
+  fs::path dir_;
+};
+
+// The problem as a table (x0..x{p-1}, y, and a fold label column when given).
+void write_table(const fs::path& file, const knotpath::testing::Problem& p, const std::vector<int>& labels = {}) {
+  std::ofstream out(file);
+  for (const auto& name : p.names) out << name << ',';
+  out << 'y' << (labels.empty() ? "" : ",part") << '\n';
+  for (Index i = 0; i < p.x.rows(); ++i) {
+    for (Index j = 0; j < p.x.cols(); ++j) out << knotpath::io::round_trip(p.x(i, j)) << ',';
+    out << knotpath::io::round_trip(p.y(i));
+    if (!labels.empty()) out << ',' << labels[static_cast<std::size_t>(i)];
+    out << '\n';
+  }
+}
+
+double relative(double a, double b) { return std::abs(a - b) / std::max({std::abs(a), std::abs(b), 1e-300}); }
+
+// Held-out squared error of all rows at the size-free penalty mu, every fold
+// refitted by the independent coordinate-descent solver of test_support.hpp
+// on its training rows (intercept, standardized columns): the K-fold
+// cross-validation estimate of Hastie, Tibshirani & Friedman, The Elements of
+// Statistical Learning (2nd ed.), section 7.10.1. With standardized columns
+// the fold's own penalty is lambda = mu * sqrt(n_train) (the size-free
+// penalty documented in select.hpp and the README).
+double refit_cv_error(const Matrix<double>& x, const Vector<double>& y, const std::vector<int>& fold, int k,
+                      double mu) {
+  double sse = 0;
+  for (int f = 0; f < k; ++f) {
+    std::vector<Index> train, test;
+    for (Index i = 0; i < x.rows(); ++i) (fold[static_cast<std::size_t>(i)] == f ? test : train).push_back(i);
+    Matrix<double> xt(static_cast<Index>(train.size()), x.cols());
+    Vector<double> yt(static_cast<Index>(train.size()));
+    for (std::size_t r = 0; r < train.size(); ++r) {
+      xt.row(static_cast<Index>(r)) = x.row(train[r]);
+      yt(static_cast<Index>(r)) = y(train[r]);
+    }
+    const auto c = knotpath::testing::centre(xt, yt, true, true);
+    const double lambda = mu * std::sqrt(static_cast<double>(train.size()));
+    const Vector<double> b = knotpath::testing::coordinate_descent(c.z, c.y, lambda);
+    const Vector<double> beta = b.cwiseQuotient(c.scale);
+    const double intercept = c.ymean - c.mean.dot(beta);
+    for (Index i : test) {
+      const double r = y(i) - intercept - x.row(i).dot(beta);
+      sse += r * r;
+    }
+  }
+  return sse / static_cast<double>(x.rows());
+}
+
+struct ParsedXml {
+  tinyxml2::XMLDocument doc;
+  tinyxml2::XMLError error = tinyxml2::XML_SUCCESS;
+};
+
+std::unique_ptr<ParsedXml> parse_xml(const fs::path& file) {
+  auto p = std::make_unique<ParsedXml>();
+  const std::string text = slurp(file);
+  p->error = p->doc.Parse(text.c_str(), text.size());
+  return p;
+}
+
+// Every attribute that could fetch something (src, href, xlink:href) points
+// inside the document (#id) or nowhere: the report must be readable offline.
+void expect_only_embedded(const tinyxml2::XMLElement* e, const std::string& file) {
+  for (; e; e = e->NextSiblingElement()) {
+    for (const char* name : {"src", "href", "xlink:href"})
+      if (const char* v = e->Attribute(name)) {
+        EXPECT_EQ(v[0], '#') << file << ": " << e->Name() << ' ' << name << '=' << v;
+      }
+    EXPECT_STRNE(e->Name(), "script") << file;
+    expect_only_embedded(e->FirstChildElement(), file);
+  }
+}
+
+// Checks a report folder: the files, each parsing as XML, only embedded content.
+void expect_report(const fs::path& dir, bool with_selection) {
+  std::vector<std::string> want{"activity.svg", "budget.svg", "report.html", "traces.svg"};
+  if (with_selection) want.push_back("selection.svg");
+  std::sort(want.begin(), want.end());
+  std::vector<std::string> have;
+  for (const auto& entry : fs::directory_iterator(dir)) have.push_back(entry.path().filename());
+  std::sort(have.begin(), have.end());
+  EXPECT_EQ(have, want) << dir;
+  for (const auto& name : want) {
+    const auto parsed = parse_xml(dir / name);
+    ASSERT_EQ(parsed->error, tinyxml2::XML_SUCCESS) << name << ": " << parsed->doc.ErrorStr();
+    const tinyxml2::XMLElement* root = parsed->doc.RootElement();
+    ASSERT_NE(root, nullptr) << name;
+    EXPECT_STREQ(root->Name(), name == "report.html" ? "html" : "svg") << name;
+    expect_only_embedded(root, name);
+  }
+  const std::string html = slurp(dir / "report.html");
+  // The caution box (ReportOptions::cautions) with the usual caution.
+  EXPECT_NE(html.find("<div class=\"cautions\">"), std::string::npos);
+  EXPECT_NE(html.find("sole basis for decisions with consequences for people"), std::string::npos);
+  EXPECT_EQ(html.find("p-values are valid only under the model") != std::string::npos, with_selection);
+  EXPECT_EQ(html.find("<h2>Selection</h2>") != std::string::npos, with_selection);
+}
+
+// A small problem with a sparse truth and fold labels 1..4 (user's numbering).
+struct Fixture {
+  knotpath::testing::Problem p = knotpath::testing::ar1_problem(64, 8, 0.4, 20261207u, 3, 1.5);
+  std::vector<int> labels;
+  Fixture() {
+    for (Index i = 0; i < p.x.rows(); ++i) labels.push_back(1 + static_cast<int>((i * 5) % 4));
+  }
+};
+
+// ------------------------------------------------------------------------------------------
+
+TEST_F(Select, AgreesWithTheLibraryOnSeededFolds) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  Outcome r = run("select t.csv --response y --folds 5 --seed 11 --threads 2 --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+
+  knotpath::CrossValidationOptions cv;
+  cv.folds = 5;
+  cv.seed = 11;
+  const auto lib = knotpath::cross_validate<double>(fx.p.x, fx.p.y, knotpath::TraceOptions{}, cv);
+  // The table holds 17 significant digits, so the program reads the same
+  // doubles and runs the same code: agreement to rounding. 1e-12 relative
+  // leaves room for different floating-point contraction between the two
+  // builds (the task's tolerance).
+  const auto& c = doc["cross_validation"];
+  EXPECT_EQ(c["folds"]["from"], "seed");
+  EXPECT_EQ(c["folds"]["count"], 5);
+  EXPECT_LE(relative(c["minimum"]["lambda"].get<double>(), lib.minimum.lambda), 1e-12);
+  EXPECT_LE(relative(c["minimum"]["mu"].get<double>(), lib.minimum.mu), 1e-12);
+  EXPECT_LE(relative(c["minimum"]["cv_error"].get<double>(), lib.minimum.error), 1e-12);
+  EXPECT_LE(relative(c["minimum"]["standard_error"].get<double>(), lib.minimum.standard_error), 1e-12);
+  EXPECT_LE(relative(c["parsimonious"]["lambda"].get<double>(), lib.parsimonious.lambda), 1e-12);
+  EXPECT_LE(relative(c["parsimonious"]["cv_error"].get<double>(), lib.parsimonious.error), 1e-12);
+  EXPECT_EQ(c["pieces"].get<std::size_t>(), lib.pieces.size());
+  EXPECT_EQ(c["curve_at_knots"].size(), lib.knot_points().size());
+
+  // Coefficients at the choices: the library's path queried there.
+  const auto at = lib.full_path.at_penalty(lib.minimum.lambda);
+  EXPECT_LE(relative(c["minimum"]["intercept"].get<double>(), at.intercept), 1e-12);
+  for (Index j = 0; j < at.coefficients.size(); ++j)
+    EXPECT_NEAR(c["minimum"]["coefficients"][fx.p.names[static_cast<std::size_t>(j)]].get<double>(),
+                at.coefficients(j), 1e-12 * (1 + std::abs(at.coefficients(j))));
+
+  const auto ic = knotpath::information_criteria<double>(fx.p.x, fx.p.y, lib.full_path);
+  const auto& d = doc["information_criteria"];
+  EXPECT_EQ(d["noise_variance_source"], "least-squares");
+  EXPECT_LE(relative(d["noise_variance"].get<double>(), ic.noise_variance), 1e-12);
+  EXPECT_EQ(d["best_mallows_cp"]["step"].get<Index>(), ic.knots[ic.best_cp].step);
+  EXPECT_EQ(d["best_aic"]["step"].get<Index>(), ic.knots[ic.best_aic].step);
+  EXPECT_EQ(d["best_bic"]["step"].get<Index>(), ic.knots[ic.best_bic].step);
+
+  const auto sig = knotpath::entry_significance<double>(fx.p.x, fx.p.y, lib.full_path);
+  const auto& e = doc["significance"]["entries"];
+  ASSERT_EQ(e.size(), sig.entries.size());
+  for (std::size_t k = 0; k < e.size(); ++k) {
+    EXPECT_EQ(e[k]["step"].get<Index>(), sig.entries[k].step);
+    if (std::isfinite(sig.entries[k].covariance_p_value)) {
+      EXPECT_LE(relative(e[k]["covariance_p_value"].get<double>(), sig.entries[k].covariance_p_value), 1e-9);
+    } else {
+      EXPECT_TRUE(e[k]["covariance_p_value"].is_null());
+    }
+    if (std::isfinite(sig.entries[k].spacing_p_value)) {
+      EXPECT_LE(relative(e[k]["spacing_p_value"].get<double>(), sig.entries[k].spacing_p_value), 1e-9);
+    }
+  }
+
+  // The printed text: both choices, the criteria, coefficients, cautions.
+  EXPECT_NE(r.out.find(fmt::format("{:.7g}", lib.minimum.lambda)), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find(fmt::format("{:.7g}", lib.parsimonious.lambda)), std::string::npos) << r.out;
+  for (const char* needle : {"least CV error (exact)", "parsimonious (within 1 SE)", "Mallows' Cp", "AIC", "BIC",
+                             "(intercept)", "p(spacing)", "caution: the p-values are valid only under",
+                             "selection effects", "sole basis for decisions with consequences for people",
+                             "wrote s.json"})
+    EXPECT_NE(r.out.find(needle), std::string::npos) << needle << '\n' << r.out;
+
+  // The thread count does not change the result (select.hpp's promise).
+  Outcome one = run("select t.csv --response y --folds 5 --seed 11 --threads 1 --json s1.json");
+  ASSERT_EQ(one.code, 0) << one.err;
+  EXPECT_EQ(json::parse(slurp(file("s1.json")))["cross_validation"], c);
+}
+
+TEST_F(Select, FoldColumnMatchesAnIndependentRefitAndThePublishedFormulas) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p, fx.labels);
+  Outcome r = run("select t.csv --response y --fold-column part --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  const auto& c = doc["cross_validation"];
+  EXPECT_EQ(c["folds"]["from"], "column");
+  EXPECT_EQ(c["folds"]["count"], 4);
+  // The fold column is no predictor.
+  EXPECT_FALSE(c["minimum"]["coefficients"].contains("part"));
+  EXPECT_EQ(c["minimum"]["coefficients"].size(), 8u);
+
+  // Labels 1..4 are folds 0..3 in ascending order of the label.
+  std::vector<int> fold;
+  for (int l : fx.labels) fold.push_back(l - 1);
+  const double mu = c["minimum"]["mu"].get<double>();
+  const double error = c["minimum"]["cv_error"].get<double>();
+  // Coordinate descent converges to 1e-13 relative change, so each refit's
+  // predictions carry errors near 1e-11 of their size; 1e-8 relative is ample.
+  EXPECT_LE(relative(refit_cv_error(fx.p.x, fx.p.y, fold, 4, mu), error), 1e-8);
+  EXPECT_LE(relative(refit_cv_error(fx.p.x, fx.p.y, fold, 4, c["parsimonious"]["mu"].get<double>()),
+                     c["parsimonious"]["cv_error"].get<double>()),
+            1e-8);
+  // The exact minimum is never above the refitted error at any grid point
+  // (80 log-spaced penalties over the curve's domain); the 1e-9 slack covers
+  // the refits' own convergence error.
+  const double hi = c["mu_high"].get<double>(), lo = std::max(c["mu_low"].get<double>(), hi * 1e-4);
+  for (int g = 0; g <= 80; ++g) {
+    const double m = hi * std::pow(lo / hi, g / 80.0);
+    EXPECT_LE(error, refit_cv_error(fx.p.x, fx.p.y, fold, 4, m) * (1 + 1e-9)) << "mu " << m;
+  }
+
+  // Mallows' Cp at each knot: RSS / sigma^2 - n + 2 d, with sigma^2 the
+  // residual variance of the full least-squares fit on n - p - 1 df and
+  // d = nonzero + 1 (Mallows 1973, Technometrics 15(4); df of the lasso:
+  // Zou, Hastie & Tibshirani 2007, Ann. Statist. 35(5), Theorem 1).
+  const Index n = fx.p.x.rows(), p = fx.p.x.cols();
+  Matrix<double> design(n, p + 1);
+  design << Vector<double>::Ones(n), fx.p.x;
+  const Vector<double> beta = design.colPivHouseholderQr().solve(fx.p.y);
+  const double sigma2 = (fx.p.y - design * beta).squaredNorm() / static_cast<double>(n - p - 1);
+  const auto& d = doc["information_criteria"];
+  // Two least-squares solves in double on a well-conditioned design: 1e-10.
+  EXPECT_LE(relative(d["noise_variance"].get<double>(), sigma2), 1e-10);
+  std::size_t best = 0;
+  std::vector<double> cp;
+  for (const auto& k : d["knots"]) {
+    cp.push_back(k["rss"].get<double>() / sigma2 - static_cast<double>(n) + 2.0 * (k["nonzero"].get<double>() + 1));
+    // Cp is O(n); the rss is recomputed by the library, so 1e-9 absolute on this scale.
+    EXPECT_NEAR(k["mallows_cp"].get<double>(), cp.back(), 1e-9 * n);
+    if (cp.back() < cp[best]) best = cp.size() - 1;
+  }
+  EXPECT_EQ(d["best_mallows_cp"]["step"], d["knots"][best]["step"]);
+
+  // Covariance statistic of the first entry: with unit-length columns the
+  // active set before it is empty and b(lambda_2) = s (lambda_1 - lambda_2) on
+  // that column, so T_1 = lambda_1 (lambda_1 - lambda_2) / sigma^2 (Lockhart,
+  // Taylor, Tibshirani & Tibshirani 2014, Ann. Statist. 42(2), section 2; the
+  // form is from memory and re-derived here). p-value with the F(2, n-p-1)
+  // reference: (1 + 2T/d)^(-d/2) (same paper, section 4 -- from memory).
+  const auto& first = doc["significance"]["entries"][0];
+  const double l1 = first["lambda"].get<double>();
+  double l2 = 0;
+  for (const auto& k : doc["path"]["knots"])
+    if (k["penalty"].get<double>() < l1) {
+      l2 = k["penalty"].get<double>();
+      break;
+    }
+  const double t1 = l1 * (l1 - l2) / sigma2;
+  // Both sides are O(1) sums of a few products: 1e-9 relative.
+  EXPECT_LE(relative(first["covariance_statistic"].get<double>(), t1), 1e-9);
+  const double df = static_cast<double>(n - p - 1);
+  EXPECT_LE(relative(first["covariance_p_value"].get<double>(), std::pow(1 + 2 * t1 / df, -df / 2)), 1e-9);
+}
+
+TEST_F(Select, JsonHasTheDocumentedFields) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  Outcome r = run("select t.csv --response y --leave-one-out --noise-variance 2.25 --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  EXPECT_EQ(doc["format"], "knotpath-selection");
+  for (const char* key : {"program", "cross_validation", "information_criteria", "significance", "cautions", "path"})
+    EXPECT_TRUE(doc.contains(key)) << key;
+  const auto& c = doc["cross_validation"];
+  EXPECT_EQ(c["folds"]["from"], "leave-one-out");
+  EXPECT_EQ(c["folds"]["count"].get<Index>(), fx.p.x.rows());
+  for (const char* key : {"lambda", "mu", "cv_error", "standard_error", "active", "intercept", "coefficients"}) {
+    EXPECT_TRUE(c["minimum"].contains(key)) << key;
+    EXPECT_TRUE(c["parsimonious"].contains(key)) << key;
+  }
+  // The one-standard-error choice is never below the minimizer.
+  EXPECT_GE(c["parsimonious"]["mu"].get<double>(), c["minimum"]["mu"].get<double>());
+  EXPECT_EQ(doc["information_criteria"]["noise_variance_source"], "given");
+  EXPECT_EQ(doc["information_criteria"]["noise_variance"], 2.25);
+  EXPECT_EQ(doc["significance"]["noise_variance"], 2.25);
+  EXPECT_EQ(doc["significance"]["covariance_reference"], "Exp(1)");
+  // Known sigma^2: the Exp(1) p-value exp(-T) (Lockhart et al. 2014, Theorem 1).
+  // Both sides are exp of the same printed double (17 digits), a value in
+  // [0, 1]: 1e-12 absolute is far above the rounding of one exp.
+  for (const auto& e : doc["significance"]["entries"])
+    if (!e["covariance_statistic"].is_null()) {
+      EXPECT_NEAR(e["covariance_p_value"].get<double>(), std::exp(-e["covariance_statistic"].get<double>()), 1e-12);
+    }
+  EXPECT_EQ(doc["path"]["knots"].size(), doc["information_criteria"]["knots"].size());
+}
+
+TEST_F(Select, ReportParsesAndNothingIsLeftOnError) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  Outcome r = run("select t.csv --response y --folds 4 --report rep");
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_NE(r.out.find("wrote rep/report.html"), std::string::npos) << r.out;
+  expect_report(file("rep"), true);
+
+  Outcome t = run("trace t.csv --response y --report trace-rep");
+  ASSERT_EQ(t.code, 0) << t.err;
+  EXPECT_NE(t.out.find("wrote trace-rep/report.html"), std::string::npos) << t.out;
+  expect_report(file("trace-rep"), false);
+
+  // Bad input: exit 3 (documented), no JSON, no report folder, no temporary folder.
+  const auto before = listing();
+  std::ofstream(file("bad.csv")) << "a,b,y\n1,2,3\n4,oops,6\n7,8,9\n";
+  Outcome bad = run("select bad.csv --response y --folds 2 --json bad.json --report bad-rep");
+  EXPECT_EQ(bad.code, 3) << bad.err;
+  EXPECT_NE(bad.err.find("oops"), std::string::npos) << bad.err;
+  auto after = listing();
+  after.erase(std::remove(after.begin(), after.end(), "bad.csv"), after.end());
+  EXPECT_EQ(after, before);
+
+  // The report cannot be written (its parent is a file): exit 5, and no
+  // partial report anywhere.
+  std::ofstream(file("blocker")) << "x";
+  Outcome io = run("select t.csv --response y --folds 4 --report blocker/rep");
+  EXPECT_EQ(io.code, 5) << io.err;
+  EXPECT_TRUE(fs::is_regular_file(file("blocker")));
+  after = listing();
+  after.erase(std::remove(after.begin(), after.end(), "bad.csv"), after.end());
+  after.erase(std::remove(after.begin(), after.end(), "blocker"), after.end());
+  EXPECT_EQ(after, before);
+
+  // An existing report is replaced file by file.
+  const std::string old = slurp(file("rep/report.html"));
+  Outcome again = run("select t.csv --response y --folds 5 --report rep");
+  ASSERT_EQ(again.code, 0) << again.err;
+  EXPECT_NE(slurp(file("rep/report.html")), old);
+  expect_report(file("rep"), true);
+}
+
+TEST_F(Select, UsageAndInputErrorsHaveTheirCodes) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p, fx.labels);
+  // Documented exit codes: 2 usage, 3 bad input.
+  EXPECT_EQ(run("select t.csv --response y --folds 1").code, 2);
+  EXPECT_EQ(run("select t.csv --response y --folds 5 --leave-one-out").code, 2);
+  EXPECT_EQ(run("select t.csv --response y --fold-column part --seed 3").code, 2);
+  EXPECT_EQ(run("select t.csv --response y --noise-variance -1").code, 2);
+  EXPECT_EQ(run("select t.csv --response y --fold-column y").code, 2);
+  EXPECT_EQ(run("select t.csv --response y --fold-column nothere").code, 3);
+  std::ofstream(file("frac.csv")) << "a,b,y,part\n1,2,3,0.5\n4,1,6,1\n7,8,2,0\n2,2,2,1\n";
+  Outcome frac = run("select frac.csv --response y --fold-column part");
+  EXPECT_EQ(frac.code, 3) << frac.err;
+  EXPECT_NE(frac.err.find("not a whole number"), std::string::npos) << frac.err;
+  Outcome help = run("select --help");
+  EXPECT_EQ(help.code, 0);
+  EXPECT_NE(help.out.find("Example"), std::string::npos) << help.out;
+  EXPECT_NE(help.out.find("--fold-column"), std::string::npos) << help.out;
+}
+
+TEST_F(Select, DemoRunsTheSelectionAndWritesItsReport) {
+  Outcome r = run("demo --out demo-out");
+  ASSERT_EQ(r.code, 0) << r.err;
+  // The demo's earlier lines are kept (test_cli checks them too).
+  EXPECT_NE(r.out.find("wrote demo-out/knots.csv"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("wrote demo-out/report/report.html"), std::string::npos) << r.out;
+  expect_report(file("demo-out/report"), true);
+
+  // The selection section shows the library's exact choices on the demo data
+  // (10 folds, default seed), printed with 6 significant digits.
+  const auto data = knotpath::demo::greenhouse();
+  const auto cv = knotpath::cross_validate<double>(data.x, data.y, knotpath::TraceOptions{},
+                                                   knotpath::CrossValidationOptions{});
+  EXPECT_NE(r.out.find(fmt::format("least CV error:             lambda {:.6g}", cv.minimum.lambda)),
+            std::string::npos)
+      << r.out;
+  EXPECT_NE(r.out.find(fmt::format("parsimonious (within 1 SE): lambda {:.6g}", cv.parsimonious.lambda)),
+            std::string::npos)
+      << r.out;
+
+  // --report moves the report elsewhere.
+  Outcome moved = run("demo --out demo2 --report elsewhere");
+  ASSERT_EQ(moved.code, 0) << moved.err;
+  EXPECT_NE(moved.out.find("wrote elsewhere/report.html"), std::string::npos) << moved.out;
+  EXPECT_FALSE(fs::exists(file("demo2/report")));
+  expect_report(file("elsewhere"), true);
+}
+
+TEST(ReportCautions, AreEscapedAndShownOnlyWhenGiven) {
+  const auto data = knotpath::demo::greenhouse();
+  const auto path = knotpath::trace<double>(data.x, data.y);
+  const auto chart = knotpath::charts::chart_path(path, data.predictor_names, data.response_name);
+  knotpath::charts::ReportOptions ro;
+  EXPECT_EQ(knotpath::charts::report_html(chart, ro).find("class=\"cautions\""), std::string::npos);
+  ro.cautions = {"p < 0.05 & \"selection\" effects"};
+  const std::string html = knotpath::charts::report_html(chart, ro);
+  EXPECT_NE(html.find("<li>p &lt; 0.05 &amp; &quot;selection&quot; effects</li>"), std::string::npos);
+  tinyxml2::XMLDocument doc;
+  EXPECT_EQ(doc.Parse(html.c_str(), html.size()), tinyxml2::XML_SUCCESS) << doc.ErrorStr();
+}
+
+}  // namespace
