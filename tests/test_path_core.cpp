@@ -279,3 +279,26 @@ TEST(PathCore, EarlyStopIsFlaggedBelowTheLastKnot) {
   const auto above = path.at_penalty(path.knots().back().penalty * 1.0000001);
   EXPECT_FALSE(above.beyond_path);
 }
+
+TEST(PathCore, TiedEntriesWhoseJointDirectionBreaksASignStayOut) {
+  // Found by the tracer fuzzer (tests/fuzz): x0 and x3 reach the boundary at
+  // the same knot; adding both gives x0 a direction against its sign, so the
+  // lasso path must keep x0 out (it enters later with the other sign). Before
+  // the fix both entered and KKT failed by 3.86 at the next knot. Integer
+  // data: every knot is a ratio of small integers, so 1e-12 is rounding room.
+  kp::Matrix<double> x(10, 4);
+  x << -3, -3, -3, 1, -1, 0, -2, 0, 2, 2, -1, -1, 3, -2, -2, -2, 3, 1, -1, -1, 3, 1, -1, -3, -1, -2, -1, 2,
+      -2, -2, 1, 0, 0, -3, -3, 1, -1, -2, -3, 1;
+  const Vec y = Vec::Ones(10);
+  kp::TraceOptions opt;
+  opt.fit_intercept = false;
+  opt.standardize = false;
+  for (kp::Storage storage : {kp::Storage::dense, kp::Storage::gram}) {
+    opt.storage = storage;
+    const kp::Path<double> path = kp::trace<double>(x, y, opt);
+    for (std::size_t k = 0; k < path.knots().size(); ++k)
+      EXPECT_LE(kt::kkt_violation(x, y, path.dense_coefficients(k), path.knots()[k].penalty), 1e-12) << "knot " << k;
+    for (double lambda : random_penalties(path.lambda_max(), 3, 30))
+      EXPECT_LE(kt::kkt_violation(x, y, path.at_penalty(lambda).coefficients, lambda), 1e-12);
+  }
+}

@@ -140,13 +140,13 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     return count;
   };
 
-  auto record = [&](EventKind kind, const Scalar& lambda, Index column, int s) {
+  auto record = [&](EventKind kind, const Scalar& lambda, Index column, int s, Index active_count = -1) {
     Knot<Scalar> knot;
     knot.step = static_cast<Index>(knots.size());
     knot.penalty = lambda;
     knot.event = kind;
     knot.sign = s;
-    knot.active = static_cast<Index>(active.size());
+    knot.active = active_count >= 0 ? active_count : static_cast<Index>(active.size());
     knot.rss = rss < zero ? zero : rss;
     Scalar l1(0), fitted_mean_shift(0);
     for (Index k : active) {
@@ -219,6 +219,8 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   record(EventKind::start, lambda, -1, 0);
 
   std::vector<detail::Candidate<Scalar>> candidates, events;
+  std::vector<Index> entered;  // predictors added at the current knot, not yet recorded
+  entered.reserve(static_cast<std::size_t>(q));
   candidates.reserve(2 * static_cast<std::size_t>(q) + 2);
   events.reserve(2 * static_cast<std::size_t>(q) + 2);
   std::size_t steps = 0;
@@ -322,6 +324,58 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       if (x.leave != y.leave) return x.leave;
       return x.column < y.column;
     });
+    // Entries of this knot are added first and recorded afterwards: when
+    // several predictors reach the boundary together, adding all of them can
+    // give one a direction against its sign (s_j d_j < 0). Such a predictor
+    // would leave again at once; for a single one, s_j d_j < 0 holds exactly
+    // when its correlation moves inside the boundary without it (Schur
+    // complement: s_j d_j = (f_j - s_j a_j) / pivot), so it stays out, on the
+    // side it reached, for the next segment. The most negative one is dropped
+    // first and the direction recomputed until every new entry agrees.
+    entered.clear();
+    auto flush_entries = [&]() -> bool {
+      if (entered.empty()) return false;
+      while (lasso) {
+        const Index k_now = static_cast<Index>(active.size());
+        auto rhs_now = rhs_buf.head(k_now);
+        auto d_now = d_buf.head(k_now);
+        for (Index i = 0; i < k_now; ++i) {
+          const Index j = active[static_cast<std::size_t>(i)];
+          rhs_now(i) = factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
+        }
+        factor.solve(rhs_now, d_now);
+        Index worst_pos = -1;
+        Scalar worst(0);
+        for (Index i = 0; i < k_now; ++i) {
+          const Index j = active[static_cast<std::size_t>(i)];
+          if (std::find(entered.begin(), entered.end(), j) == entered.end()) continue;
+          const Scalar agreement = Scalar(sign[static_cast<std::size_t>(j)]) * d_now(i);
+          if (agreement < worst) {
+            worst = agreement;
+            worst_pos = i;
+          }
+        }
+        if (worst_pos < 0) break;
+        const Index j = active[static_cast<std::size_t>(worst_pos)];
+        factor.remove(worst_pos);
+        active.erase(active.begin() + worst_pos);
+        is_active[static_cast<std::size_t>(j)] = 0;
+        just_left[static_cast<std::size_t>(j)] = sign[static_cast<std::size_t>(j)];
+        entered.erase(std::find(entered.begin(), entered.end(), j));
+      }
+      const Index before = static_cast<Index>(active.size() - entered.size());
+      for (std::size_t i = 0; i < entered.size(); ++i) {
+        const Index j = entered[i];
+        record(EventKind::enter, lambda, j, sign[static_cast<std::size_t>(j)], before + static_cast<Index>(i) + 1);
+        if (options.max_knots != 0 && knots.size() - 1 >= options.max_knots) {
+          reason = StopReason::max_knots;
+          record(EventKind::stop, lambda, -1, 0);
+          return true;
+        }
+      }
+      entered.clear();
+      return false;
+    };
     bool halted = false;
     for (const auto& ev : events) {
       const auto ku = static_cast<std::size_t>(ev.column);
@@ -338,16 +392,18 @@ Path<typename Design::Scalar> trace_design(const Design& design,
         if (is_active[ku] || blocked[ku]) continue;  // the other sign of the same column
         if (options.max_active != 0 && factor_of(ev.column) != zero &&
             static_cast<std::size_t>(penalized_active()) >= options.max_active) {
+          halted = true;
+          if (flush_entries()) break;
           reason = StopReason::max_active;
           record(EventKind::stop, lambda, -1, 0);
-          halted = true;
           break;
         }
-        if (try_add(ev.column, lambda, static_cast<Index>(knots.size()))) {
+        if (try_add(ev.column, lambda, static_cast<Index>(knots.size() + entered.size()))) {
           sign[ku] = ev.sign;
           c(ev.column) = lambda * factor_of(ev.column) * Scalar(ev.sign);
-          record(EventKind::enter, lambda, ev.column, ev.sign);
+          entered.push_back(ev.column);
         }
+        continue;  // entries are recorded by flush_entries()
       }
       if (options.max_knots != 0 && knots.size() - 1 >= options.max_knots) {
         reason = StopReason::max_knots;
@@ -356,6 +412,7 @@ Path<typename Design::Scalar> trace_design(const Design& design,
         break;
       }
     }
+    if (!halted) halted = flush_entries();
     if (halted) break;
   }
 
