@@ -90,13 +90,12 @@ std::string arithmetic_name() {
 
 template <class Scalar>
 double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
-  if constexpr (is_double_v<Scalar>) {
-    const double n = path.preparation().weight_sum;
-    return n > 0 ? lambda / std::sqrt(n) : 0.0;
-  } else {
-    const double n = nearest_double(path.preparation().weight_sum);
-    return n > 0 ? nearest_double(lambda) / std::sqrt(n) : 0.0;
-  }
+  // The same convention as knotpath::size_free_penalty (select.hpp): unit-length
+  // columns grow like sqrt(n), columns on their own scale like n.
+  const double n = nearest_double(path.preparation().weight_sum);
+  if (!(n > 0)) return 0.0;
+  const double divisor = path.preparation().standardized ? std::sqrt(n) : n;
+  return nearest_double(lambda) / divisor;
 }
 
 template <class Scalar>

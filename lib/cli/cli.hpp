@@ -66,6 +66,7 @@ struct ModelArgs {
   std::size_t max_active = 0;
   std::string delimiter = "auto";
   std::string missing = "error";
+  std::size_t max_columns = 100000;  // reader's limit on header width
 };
 
 /// Adds the table-reading and model options to a command.

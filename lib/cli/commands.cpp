@@ -186,7 +186,8 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
         asked = fmt::format("penalty {:.17g}", *args->penalty);
       } else if (args->mu) {
         if (!(*args->mu >= 0)) throw invalid_query("mu must be >= 0");
-        const double lambda = *args->mu * std::sqrt(path.preparation().weight_sum);
+        const double n = path.preparation().weight_sum;  // mu = lambda / sqrt(n), or lambda / n unstandardized
+        const double lambda = *args->mu * (path.preparation().standardized ? std::sqrt(n) : n);
         solution = path.at_penalty(lambda);
         asked = fmt::format("mu {:.17g}", *args->mu);
       } else if (args->budget) {

@@ -4,6 +4,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <cctype>
 #include <chrono>
 #include <cmath>
 #include <cstdio>
@@ -77,6 +78,11 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
                      "Empty or NA cells: error (stop) or drop (drop the row and count it)")
       ->check(CLI::IsMember({"error", "drop"}))
       ->default_str("error")
+      ->group("Table");
+  command.add_option("--max-columns", args.max_columns,
+                     "Refuse a table whose header has more columns than this")
+      ->check(CLI::PositiveNumber)
+      ->default_str("100000")
       ->group("Table");
 }
 
@@ -177,6 +183,7 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
   io::TableReadOptions read;
   read.delimiter = delimiter_char(args.delimiter);
   read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
+  read.max_columns = args.max_columns;
   read.required.push_back(args.response);
   if (!args.weights.empty()) read.required.push_back(args.weights);
   for (const auto& [name, value] : factors) read.required.push_back(name);
@@ -275,6 +282,7 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   const TraceOptions& options = loaded.options;
   TracedTable out;
   out.context = std::move(loaded.context);
+  const io::RunContext& context = out.context;
 
   const Vector<double> y = table.column_vector(table.find(args.response));
   Vector<double> w;
@@ -282,13 +290,59 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   const Matrix<double> x = table.take_matrix(loaded.predictor_columns);
   table = io::Table();  // free what is left before the trace copies the design
 
+  // Data with nothing to trace are refused (the library returns a one-knot
+  // path for them; a user of the program almost surely gave the wrong table).
+  if (options.fit_intercept) {
+    Index used = 0;
+    double first = 0;
+    bool constant = true;
+    for (Index i = 0; i < y.size(); ++i) {
+      if (w.size() != 0 && !(w(i) > 0)) continue;
+      if (used++ == 0) first = y(i);
+      else if (y(i) != first) constant = false;
+    }
+    if (used == 1)
+      throw failure(exit_bad_input, shown_name + ": only one row" +
+                                        (w.size() ? " has a positive weight" : " of data") +
+                                        "; with an intercept every column is constant there, so "
+                                        "there is no path to trace (at least 2 rows are needed)");
+    if (used > 1 && constant)
+      throw failure(exit_bad_input, fmt::format("{}: the response \"{}\" is constant (every row "
+                                                "holds {:.17g}); there is no path to trace",
+                                                shown_name, args.response, first));
+  }
+
   progress.status(fmt::format("tracing the path ({} rows, {} predictors)", x.rows(), x.cols()));
   try {
     out.path = trace<double>(x, y, options, w);
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
-    throw failure(exit_bad_input, shown_name + ": " + e.what());
+    // "knotpath: predictor column K ..." -> "predictor "NAME" ...": the
+    // library counts predictors from 0, the user knows them by name.
+    std::string why = e.what();
+    if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
+    const std::string column = "predictor column ";
+    if (why.rfind(column, 0) == 0) {
+      std::size_t end = column.size(), k = 0;
+      while (end < why.size() && std::isdigit(static_cast<unsigned char>(why[end])))
+        k = 10 * k + static_cast<std::size_t>(why[end++] - '0');
+      if (end > column.size() && k < context.predictor_names.size())
+        why = "predictor \"" + context.predictor_names[k] + "\"" + why.substr(end);
+    }
+    throw failure(exit_bad_input, shown_name + ": " + why);
+  }
+  if (out.path.preparation().columns.empty()) {
+    std::string list;
+    const auto& excluded = out.path.excluded();
+    for (std::size_t k = 0; k < excluded.size() && k < 10; ++k) {
+      const auto& ex = excluded[k];
+      list += fmt::format("{}\"{}\" ({})", list.empty() ? "" : ", ",
+                          context.predictor_names[static_cast<std::size_t>(ex.predictor)], ex.reason);
+    }
+    if (excluded.size() > 10) list += fmt::format(" and {} more", excluded.size() - 10);
+    throw failure(exit_bad_input,
+                  shown_name + ": no predictor can enter the path; every one was left out: " + list);
   }
   return out;
 }

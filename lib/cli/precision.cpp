@@ -123,7 +123,8 @@ int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, b
         const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
         if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
         using std::sqrt;
-        const Scalar lambda = Scalar(mu * Scalar(sqrt(path.preparation().weight_sum)));
+        const Scalar n = path.preparation().weight_sum;  // mu = lambda / sqrt(n), or lambda / n unstandardized
+        const Scalar lambda = Scalar(mu * (path.preparation().standardized ? Scalar(sqrt(n)) : n));
         solution = path.at_penalty(lambda);
         asked = "mu " + point.mu_text;
       }

@@ -60,11 +60,11 @@ double nearest_double(const Scalar& value);
 template <class Scalar>
 std::string arithmetic_name();
 
-/// mu = lambda / sqrt(n), n = sum of weights: the size-free penalty of
-/// DESIGN.md ("Comparing penalties"). 0 when n = 0. (In double: square roots
-/// are irrational, so exact mode shows mu as a decimal only.) Always divides
-/// by sqrt(n), also for a path traced without standardization, where
-/// knotpath::size_free_penalty() (select.hpp) divides by n instead.
+/// The size-free penalty of DESIGN.md ("Comparing penalties"), as a double:
+/// mu = lambda / sqrt(n) for standardized paths and lambda / n for paths
+/// traced on the columns' own scale (n = sum of weights), the same
+/// convention as knotpath::size_free_penalty() in select.hpp. 0 when n = 0.
+/// (Square roots are irrational, so exact mode shows mu as a decimal only.)
 template <class Scalar>
 double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda);
 
