@@ -11,6 +11,7 @@ packages=(
   libcli11-dev libfmt-dev nlohmann-json3-dev
   libtinyxml2-dev libpng-dev librsvg2-bin pkg-config
   python3 python3-cvxopt python3-numpy doxygen
+  clang libclang-rt-14-dev
 )
 
 missing=()
