@@ -151,12 +151,15 @@ double one_product(const X& x, int repeats) {
   return median(times);
 }
 
-// wide: operator mode, first K knots / (K x one dense X^T v).
+// wide: operator mode, first K knots / (K x one dense X^T v). Arguments n,
+// p, K, threads (TraceOptions::threads; the reference product always runs
+// on one thread, so a ratio below 1 with 2 threads is the threads' gain).
 void wide(benchmark::State& state) {
   const Dense d = ar1(state.range(0), state.range(1), 0.5, 12);
   kp::TraceOptions options;
   options.storage = kp::Storage::view;  // what automatic picks for this shape: no copy of X
   options.max_knots = static_cast<std::size_t>(state.range(2));
+  options.threads = static_cast<std::size_t>(state.range(3));
   RatioLog log;
   std::size_t knots = 0;
   for (auto _ : state) {
@@ -169,11 +172,13 @@ void wide(benchmark::State& state) {
   state.counters["knots"] = static_cast<double>(knots);
 }
 
-// sparse: first K knots / (K x one sparse X^T v).
+// sparse: first K knots / (K x one sparse X^T v). Arguments n, p, density
+// in units of 1e-4, K, threads (the reference product runs on one thread).
 void sparse(benchmark::State& state) {
   const Sparse s = sparse_design(state.range(0), state.range(1), 1e-4 * static_cast<double>(state.range(2)), 13);
   kp::TraceOptions options;
   options.max_knots = static_cast<std::size_t>(state.range(3));
+  options.threads = static_cast<std::size_t>(state.range(4));
   RatioLog log;
   std::size_t knots = 0;
   for (auto _ : state) {
@@ -404,12 +409,16 @@ void memory_wide(benchmark::State& state) {
 // Sizes: quick (CI, a few seconds in all) and full (the table).
 BENCHMARK(tall)->Name("tall/quick")->Args({2000, 50})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(tall)->Name("tall/full")->Args({20000, 500})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
-BENCHMARK(wide)->Name("wide/quick")->Args({200, 2000, 50})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
-BENCHMARK(wide)->Name("wide/full")->Args({1000, 20000, 300})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(wide)->Name("wide/quick")->Args({200, 2000, 50, 1})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(wide)->Name("wide/full")->Args({1000, 20000, 300, 1})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(wide)->Name("wide_2threads/quick")->Args({200, 2000, 50, 2})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(wide)->Name("wide_2threads/full")->Args({1000, 20000, 300, 2})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(memory_wide)->Name("memory_wide/quick")->Args({200, 2000, 50})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(memory_wide)->Name("memory_wide/full")->Args({1000, 20000, 300})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
-BENCHMARK(sparse)->Name("sparse/quick")->Args({5000, 2000, 20, 50})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
-BENCHMARK(sparse)->Name("sparse/full")->Args({100000, 20000, 20, 300})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(sparse)->Name("sparse/quick")->Args({5000, 2000, 20, 50, 1})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(sparse)->Name("sparse/full")->Args({100000, 20000, 20, 300, 1})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(sparse)->Name("sparse_2threads/quick")->Args({5000, 2000, 20, 50, 2})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(sparse)->Name("sparse_2threads/full")->Args({100000, 20000, 20, 300, 2})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(grid)->Name("grid_tall/quick")->Args({500, 20})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(grid)->Name("grid_tall/full")->Args({5000, 200})->Iterations(5)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(grid)->Name("grid_wide/quick")->Args({50, 200})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);

@@ -92,6 +92,12 @@ struct TraceOptions {
   /// active correlations relative to lambda_max) exceeds this; default 1e-6,
   /// i.e. fewer than about six trustworthy digits.
   double suspect_threshold = 1e-6;
+  /// Threads for the one product per knot of the dense copy, the view and
+  /// the sparse design (0: all hardware threads). The product's columns are
+  /// cut into blocks of fixed width, so the path is bitwise the same for any
+  /// thread count. Gram mode and the software scalar types (multiprecision,
+  /// rational) run on one thread.
+  std::size_t threads = 1;
 
   /// Checks every field against the number of predictors `p` and throws
   /// invalid_option naming the first bad field.

@@ -467,11 +467,13 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
   std::vector<std::exception_ptr> failure(k);
   std::size_t threads = cv.threads == 0 ? std::max(1u, std::thread::hardware_concurrency()) : cv.threads;
   threads = std::min(threads, k);
+  TraceOptions fold_options = options;
+  if (threads > 1) fold_options.threads = 1;  // folds in parallel: no threads inside a fold
   auto work = [&](std::size_t first) {
     for (std::size_t f = first; f < k; f += threads) {
       try {
         result.folds[f] = detail::trace_fold<Scalar>(x, y, w, result.fold_of, static_cast<long>(f),
-                                                     options, full_weight, result.full_scale);
+                                                     fold_options, full_weight, result.full_scale);
       } catch (...) {
         failure[f] = std::current_exception();
       }

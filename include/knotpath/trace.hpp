@@ -431,6 +431,9 @@ Path<typename Design::Scalar> trace_design(const Design& design,
 /// Thread safety: each call owns its design and factor and only reads x, y
 /// and weights, so concurrent calls are safe.
 /// Cost: about one least-squares fit, O(n p k) for k knots with a dense design.
+/// Threads: TraceOptions::threads spreads the one product per knot of the
+/// dense copy, the view and the sparse design over column blocks of fixed
+/// width; the path is bitwise the same for every thread count.
 /// Storage: TraceOptions::storage; automatic picks Gram mode (sufficient
 /// statistics, O(n p^2) once then O(p k) per knot) when n >= 2 p and
 /// p <= 5000 (the p x p Gram matrix then costs at most 200 MB and is cheaper
@@ -453,6 +456,7 @@ Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Trace
   } else {
     if (view && !gram) {
       PreparedView<Scalar> prepared = prepare_view<Scalar>(x, y, options, weights);
+      prepared.design.set_threads(options.threads);
       return trace_design(prepared.design, prepared.preparation, options);
     }
   }
@@ -463,6 +467,7 @@ Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Trace
     return trace_design(prepared.design, prepared.preparation, options);
   }
   PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, options, weights);
+  prepared.design.set_threads(options.threads);
   return trace_design(prepared.design, prepared.preparation, options);
 }
 
@@ -473,6 +478,7 @@ template <class Scalar>
 Path<Scalar> trace_sparse(const SparseMatrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
                           const Vector<Scalar>& weights = Vector<Scalar>()) {
   PreparedSparse<Scalar> prepared = prepare_sparse<Scalar>(x, y, options, weights);
+  prepared.design.set_threads(options.threads);
   return trace_design(prepared.design, prepared.preparation, options);
 }
 

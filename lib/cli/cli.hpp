@@ -67,6 +67,7 @@ struct ModelArgs {
   std::string delimiter = "auto";
   std::string missing = "error";
   std::size_t max_columns = 100000;  // reader's limit on header width
+  std::size_t threads = 1;           // TraceOptions::threads (select: also the folds)
 };
 
 /// Adds the table-reading and model options to a command.

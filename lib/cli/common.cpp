@@ -84,6 +84,12 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
       ->check(CLI::PositiveNumber)
       ->default_str("100000")
       ->group("Table");
+  command.add_option("--threads", args.threads,
+                     "Threads for the products of large designs (0: all cores); the results are "
+                     "the same for any count")
+      ->check(CLI::Range(std::size_t{0}, std::size_t{1024}))
+      ->default_str("1")
+      ->group("Performance");
 }
 
 Progress::Progress(bool enabled) : enabled_(enabled && ::isatty(STDERR_FILENO) == 1) {
@@ -250,6 +256,7 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
   options.max_knots = args.max_knots;
   options.min_penalty = args.min_penalty;
   options.max_active = args.max_active;
+  options.threads = args.threads;
   if (!factors.empty()) {
     options.penalty_factors.assign(p, 1.0);
     for (const auto& [name, value] : factors) options.penalty_factors[predictor_index(name)] = value;

@@ -38,7 +38,6 @@ struct SelectArgs {
   bool leave_one_out = false;
   std::uint64_t seed = CrossValidationOptions{}.seed;
   std::string fold_column;
-  std::size_t threads = 1;
   std::optional<double> noise_variance;
   std::string json_file;
   std::string report_dir;
@@ -585,9 +584,6 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
                                      "Column of fold labels (whole numbers; each label >= 0 is a fold, a "
                                      "negative label keeps the row in every training set); not a predictor")
                      ->group("Cross-validation");
-  command->add_option("--threads", args->threads, "Threads that trace the folds (0: all cores); same result")
-      ->default_str("1")
-      ->group("Cross-validation");
   folds->excludes(loo)->excludes(column);
   loo->excludes(column)->excludes(seed);
   column->excludes(seed);
@@ -611,7 +607,7 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     cv.leave_one_out = args->leave_one_out;
     cv.seed = args->seed;
     cv.fold_of = data.fold_of;
-    cv.threads = args->threads;
+    cv.threads = args->model.threads;  // --threads: the folds in parallel
     Selection s = run_selection(data, cv, args->noise_variance);
     require_finite(s.cv.full_path);
     std::ostringstream text;

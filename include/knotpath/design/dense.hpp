@@ -7,6 +7,7 @@
 #include <type_traits>
 #include <utility>
 
+#include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
 #include "concept.hpp"
 
@@ -16,6 +17,8 @@ namespace knotpath {
 /// Products cost O(n q) per knot; Gram entries are computed on demand, O(n)
 /// each. Memory: the copy of Z and y plus one n-vector of scratch space.
 ///
+/// Threads: set_threads() spreads the product over column blocks of fixed
+/// width (detail/parallel.hpp), so results do not depend on the count.
 /// Thread safety: direction_correlations() writes a mutable scratch vector,
 /// so one design object must not be used by two concurrent traces; the const
 /// accessors are safe to call concurrently with each other.
@@ -34,6 +37,13 @@ class DenseDesign {
     if (z_.rows() != y_.size())
       throw std::invalid_argument("DenseDesign: design rows and response length differ");
     work_.resize(z_.rows());
+  }
+
+  /// Threads for the product Z^T u of direction_correlations() (1 by
+  /// default; 0: all hardware threads). The result does not depend on it.
+  void set_threads(std::size_t threads) {
+    // Software types (multiprecision, rational) keep per-thread state: one thread.
+    threads_ = std::is_floating_point_v<Scalar> ? detail::resolve_threads(threads) : 1;
   }
 
   /// Number of rows n of Z.
@@ -70,12 +80,16 @@ class DenseDesign {
       const auto column = z_.col(active[i]);
       for (Index r = 0; r < z_.rows(); ++r) work_(r) += coefficient * column(r);
     }
-    if constexpr (std::is_floating_point_v<Scalar>) {
-      out.noalias() = z_.transpose() * work_;  // blocked, vectorized product for hardware types
-    } else {
-      out.resize(z_.cols());
-      for (Index j = 0; j < z_.cols(); ++j) out(j) = z_.col(j).dot(work_);
-    }
+    out.resize(z_.cols());
+    const double entries = static_cast<double>(z_.rows()) * static_cast<double>(z_.cols());
+    detail::for_each_column_block(threads_, z_.cols(), entries, [&](Index begin, Index end) {
+      if constexpr (std::is_floating_point_v<Scalar>) {
+        // blocked, vectorized product for hardware types
+        out.segment(begin, end - begin).noalias() = z_.middleCols(begin, end - begin).transpose() * work_;
+      } else {
+        for (Index j = begin; j < end; ++j) out(j) = z_.col(j).dot(work_);
+      }
+    });
   }
 
   /// The prepared columns (for tests and diagnostics).
@@ -87,6 +101,7 @@ class DenseDesign {
   Matrix<Scalar> z_;               // prepared columns
   Vector<Scalar> y_;               // prepared response
   mutable Vector<Scalar> work_;    // u = Z_A d, reused at every knot
+  std::size_t threads_ = 1;        // threads for Z^T u
 };
 
 }  // namespace knotpath

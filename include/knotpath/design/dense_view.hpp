@@ -17,8 +17,10 @@
 /// copying dense design (Storage::dense) or Gram mode for such data.
 
 #include <span>
+#include <type_traits>
 #include <vector>
 
+#include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
 #include "../errors.hpp"
 #include "../options.hpp"
@@ -65,6 +67,13 @@ class DenseViewDesign {
     for (Index k = 0; k < cols(); ++k) norms_(k) = centred_cross(k, k);
   }
 
+  /// Threads for the one X^T v per knot (1 by default; 0: all hardware
+  /// threads). Fixed column blocks: the result does not depend on it.
+  void set_threads(std::size_t threads) {
+    // Software types (multiprecision, rational) keep per-thread state: one thread.
+    threads_ = std::is_floating_point_v<Scalar> ? detail::resolve_threads(threads) : 1;
+  }
+
   /// Number of rows with positive weight (rows of weight 0 do not count).
   Index rows() const noexcept { return rows_used_; }
   /// Number of design columns q (included predictors).
@@ -105,7 +114,11 @@ class DenseViewDesign {
   void transpose_times_u(Vector<Scalar>& out) const {
     if (weighted_) u_.array() *= sqrt_w_.array();
     const Scalar total = u_.sum();
-    full_.noalias() = x_->transpose() * u_;  // the one product per knot
+    // the one product per knot, in fixed column blocks (see set_threads())
+    const double entries = static_cast<double>(x_->rows()) * static_cast<double>(x_->cols());
+    detail::for_each_column_block(threads_, x_->cols(), entries, [&](Index begin, Index end) {
+      full_.segment(begin, end - begin).noalias() = x_->middleCols(begin, end - begin).transpose() * u_;
+    });
     for (Index k = 0; k < cols(); ++k)
       out(k) = (full_(columns_[static_cast<std::size_t>(k)]) - means_(k) * total) / scales_(k);
   }
@@ -132,6 +145,7 @@ class DenseViewDesign {
   Vector<Scalar> norms_;          // z_k^T z_k
   bool weighted_ = false;         // any weight differs from 1
   Index rows_used_ = 0;
+  std::size_t threads_ = 1;       // threads for X^T v'
   mutable Vector<Scalar> u_;      // n-vector work space
   mutable Vector<Scalar> full_;   // X^T v' for all user columns
 };

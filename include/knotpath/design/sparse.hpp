@@ -17,10 +17,12 @@
 
 #include <Eigen/SparseCore>
 #include <span>
+#include <type_traits>
 #include <string>
 #include <utility>
 #include <vector>
 
+#include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
 #include "../errors.hpp"
 #include "../options.hpp"
@@ -66,6 +68,14 @@ class SparseDesign {
     scratch_.resize(x.rows());
     norms_.resize(static_cast<Index>(columns_.size()));
     for (Index k = 0; k < norms_.size(); ++k) norms_(k) = raw_cross(k, k);
+  }
+
+  /// Threads for the one X^T v per knot (1 by default; 0: all hardware
+  /// threads). Each column's sum is formed in the same order on any thread:
+  /// the result does not depend on it.
+  void set_threads(std::size_t threads) {
+    // Software types (multiprecision, rational) keep per-thread state: one thread.
+    threads_ = std::is_floating_point_v<Scalar> ? detail::resolve_threads(threads) : 1;
   }
 
   /// Number of rows with positive weight (rows of weight 0 do not count).
@@ -118,12 +128,14 @@ class SparseDesign {
   // read of each stored entry and one gather per entry.
   void weighted_transpose_times(const Vector<Scalar>& vw, Vector<Scalar>& out) const {
     const Scalar total = vw.sum();
-    for (Index k = 0; k < cols(); ++k) {
-      const Index j = columns_[static_cast<std::size_t>(k)];
-      Scalar s(0);
-      for (typename SparseMatrix<Scalar>::InnerIterator it(*x_, j); it; ++it) s += it.value() * vw(it.row());
-      out(k) = (s - means_(k) * total) / scales_(k);
-    }
+    detail::for_each_column_block(threads_, cols(), static_cast<double>(x_->nonZeros()), [&](Index begin, Index end) {
+      for (Index k = begin; k < end; ++k) {
+        const Index j = columns_[static_cast<std::size_t>(k)];
+        Scalar s(0);
+        for (typename SparseMatrix<Scalar>::InnerIterator it(*x_, j); it; ++it) s += it.value() * vw(it.row());
+        out(k) = (s - means_(k) * total) / scales_(k);
+      }
+    });
   }
 
   // z_a^T z_b from the sparse columns (merge of two sorted index lists).
@@ -156,6 +168,7 @@ class SparseDesign {
   bool weighted_ = false;           // any weight differs from 1
   Scalar weight_sum_{0};
   Index rows_used_ = 0;
+  std::size_t threads_ = 1;         // threads for X^T v
   mutable Vector<Scalar> scratch_;  // u = Z_A d, reused at every knot
 };
 
