@@ -310,6 +310,57 @@ TEST(FuzzRegression, NearlyDuplicateColumnIsHeldOutWithinItsRecordedAngle) {
   }
 }
 
+// Regression from fuzzing (2026-12-02, 60 s run after the tied-entry fix):
+// in Gram mode a column that is an indicator of row 2 and another column
+// dominated by a 4.9e10 entry in row 2 are collinear to about 3e-10. The
+// factor computed the held-out column's squared sine as 1 - ||l||^2 =
+// -6.7e-16 (rounding) and recorded it negative; the fuzzer's KKT check
+// then allowed the held-out column no slack. The recorded value is now
+// clamped at 0, and the held-out column's correlation is bounded by the
+// collinearity rule's guarantee (squared sine <= 1e4 eps, options.hpp).
+TEST(FuzzRegression, HeldOutSquaredSineIsNeverNegativeAndBoundsTheCorrelation) {
+  Matrix<double> x(10, 4);
+  x << -1.8160790205001831e-08, 201326592, -5.5789947509765625e-05, -5.5789947509765625e-05,
+       -3.528594970703125e-05, 415236096, -5.5789947509765625e-05, -5.5789947509765625e-05,
+       49392123904, 5.7220458984375e-06, -4.3392181396484375e-05, -5.5789947509765625e-05,
+       -5.0663948059082031e-07, -5.5789947509765625e-05, -5.5789947509765625e-05, -5.5789947509765625e-05,
+       -2.9569491744041443e-08, -5.5789947509765625e-05, -5.5789947509765625e-05, -5.5789947509765625e-05,
+       -2.9802322387695312e-08, -5.5789947509765625e-05, -5.5789947509765625e-05, -6.2584877014160156e-07,
+       -2.9802322387695312e-08, -5.5789947509765625e-05, -5.5789947509765625e-05, 0.05908203125,
+       -1.1920928955078125e-07, -5.5789947509765625e-05, -5.5789947509765625e-05, -0.09765625,
+       13.75, -5.5789947509765625e-05, -5.5789947509765625e-05, -3833856,
+       0.013916015625, -5.5789947509765625e-05, -5.5789947509765625e-05, -10616832;
+  Vector<double> y(10);
+  y << 1174405120, -0.390625, 1671168, 22548578304, -2048, -2.765655517578125e-05, -614400, 520093696,
+      52224, -2818572288;
+  const double tolerance = 1e4 * std::numeric_limits<double>::epsilon();
+  for (kp::Storage s : {kp::Storage::dense, kp::Storage::gram, kp::Storage::view}) {
+    SCOPED_TRACE(static_cast<int>(s));
+    const auto path = kp::trace<double>(x, y, with_storage(s));
+    expect_finite_path(path);
+    EXPECT_EQ(path.knots().back().penalty, 0.0);
+    const kp::testing::Centred c = kp::testing::centre(x, y, true, true);
+    const Vector<double> b = kp::testing::to_prepared(c, path.dense_coefficients(path.knots().size() - 1));
+    const Vector<double> r = c.y - c.z * b;
+    const Vector<double> corr = c.z.transpose() * r;
+    for (const auto& held : path.held_out()) {
+      EXPECT_GE(held.squared_sine, 0.0);
+      EXPECT_LE(held.squared_sine, tolerance);
+      // common practice: the correlation of a column at angle theta to the
+      // span of the fitted ones is at most sin(theta) ||r|| ||z||.
+      EXPECT_LE(std::abs(corr(held.predictor)), std::sqrt(tolerance) * r.norm() * c.z.col(held.predictor).norm())
+          << held.predictor;
+    }
+    for (Index j = 0; j < 4; ++j) {
+      bool held = false;
+      for (const auto& h : path.held_out()) held = held || h.predictor == j;
+      if (!held) {
+        EXPECT_LE(std::abs(corr(j)), 1e-9 * path.lambda_max()) << j;
+      }
+    }
+  }
+}
+
 // Regression from fuzzing (second 60 s run): a nearly singular 4 x 3 design
 // with subnormal entries and a response near 1.2e132 passed the first
 // magnitude bound (2^450) and the homotopy's residual sum of squares

@@ -16,7 +16,7 @@ build="${2:-build/fuzz}"
 jobs="${JOBS:-1}"
 cxx="${FUZZ_CXX:-clang++}"
 mkdir -p "$build"
-flags=(-std=c++20 -O1 -g -fno-omit-frame-pointer
+flags=(-std=c++20 -O1 -g1 -fno-omit-frame-pointer
        -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=undefined
        -Iinclude -isystem /usr/include/eigen3)
 

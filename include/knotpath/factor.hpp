@@ -71,7 +71,8 @@ double hager_inverse_norm1(Index k, Solver&& solve) {
 /// Outcome of CholeskyFactor::add.
 struct AddOutcome {
   bool added = false;        ///< false: the column is numerically dependent on the active set
-  double squared_sine = 0;   ///< new squared pivot / squared column norm, in [0, 1]
+  double squared_sine = 0;   ///< new squared pivot / squared column norm, clamped at 0 (computed: its
+                             ///< absolute error is about eps times the condition of the active set)
 };
 
 /// Cholesky factor R (G = R^T R) of the Gram matrix of an ordered active set,
@@ -120,7 +121,7 @@ class CholeskyFactor {
       w(i) = s / r_(i, i);
     }
     Scalar pivot2 = diagonal - w.squaredNorm();
-    outcome.squared_sine = detail::to_double(Scalar(pivot2 / diagonal));
+    outcome.squared_sine = std::max(0.0, detail::to_double(Scalar(pivot2 / diagonal)));  // rounding can dip below 0
     if (!(pivot2 > tolerance * diagonal)) return outcome;
     r_.col(size_).head(size_) = w;
     r_(size_, size_) = detail::square_root(pivot2);
@@ -206,7 +207,7 @@ class CholeskyFactor {
         col_max = std::max(col_max, col);
         row_max = std::max(row_max, row);
       }
-      const double inverse = detail::hager_inverse_norm1<Scalar>(size_, [this](const auto& in, auto& out) { solve(in, out); });
+      const double inverse = detail::hager_inverse_norm1<Scalar>(size_, [&](const auto& in, auto& out) { this->solve(in, out); });
       h.condition_estimate = std::max(h.condition_estimate, col_max * row_max * inverse);
     }
     return h;
@@ -267,7 +268,7 @@ class LdltFactor {
     }
     Scalar pivot = diagonal;
     for (Index i = 0; i < size_; ++i) pivot -= z(i) * z(i) / d_(i);
-    outcome.squared_sine = detail::to_double(Scalar(pivot / diagonal));
+    outcome.squared_sine = std::max(0.0, detail::to_double(Scalar(pivot / diagonal)));
     if (!(pivot > tolerance * diagonal)) return outcome;
     for (Index i = 0; i < size_; ++i) {
       l_(size_, i) = z(i) / d_(i);

@@ -99,7 +99,8 @@ struct HeldOut {
   Index step = 0;           ///< knot-table step at which it happened
   Scalar penalty{0};        ///< penalty at which it happened
   Index predictor = 0;      ///< user's 0-based index
-  double squared_sine = 0;  ///< squared sine of its angle to the active span
+  double squared_sine = 0;  ///< squared sine of its angle to the active span (computed, >= 0; values
+                            ///< near rounding level only say "below the collinearity tolerance")
   bool saturated = false;   ///< the active set had as many columns as usable rows
 };
 

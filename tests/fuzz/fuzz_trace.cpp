@@ -87,7 +87,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   o.variant = (flags & 1) ? kp::Variant::least_angle : kp::Variant::lasso;
   o.fit_intercept = (flags & 2) == 0;
   o.standardize = (flags & 4) == 0;
-  o.storage = static_cast<kp::Storage>((flags >> 3) % 3);
+  o.storage = static_cast<kp::Storage>((flags >> 3) % 4);  // automatic, dense, gram, view
   if (flags & 32) o.ridge = static_cast<double>(in.next()) / 64.0;
   if (flags & 64) {
     o.penalty_factors.resize(static_cast<std::size_t>(p));
@@ -179,11 +179,20 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
       // A column held out as numerically dependent on the active ones
       // (squared sine to their span below TraceOptions::collinearity_tolerance,
       // Path::held_out()) is not added, by design: its correlation may then
-      // exceed the boundary by up to sine * ||r|| * ||z_k||.
+      // exceed the boundary by up to sine * ||r|| * ||z_k|| (common practice:
+      // Cauchy-Schwarz on the component outside the active span). The recorded
+      // sine is computed (in Gram mode as 1 - ||l||^2, absolute error about
+      // eps times the condition), so the bound uses the larger of it and the
+      // tolerance the rule guarantees (automatic: 1e4 eps, options.hpp).
       double sine2 = 0;
       for (const auto& h : path.held_out())
-        if (h.predictor == prep.columns[k] && h.step <= knot.step) sine2 = std::max(sine2, h.squared_sine);
-      const double held = std::sqrt(sine2) * r.norm() * z.col(kk).norm();
+        if (h.predictor == prep.columns[k] && h.step <= knot.step)
+          sine2 = std::max({sine2, h.squared_sine, 1e4 * eps});
+      // With a ridge the angle and the bound live in the augmented problem
+      // (Z stacked on sqrt(ridge) I, y on 0): residual (r, -sqrt(ridge) b),
+      // column (z_k, sqrt(ridge) e_k); c above is exactly its correlation.
+      const double held = std::sqrt(sine2) * std::sqrt(r.squaredNorm() + o.ridge * b.squaredNorm()) *
+                          std::sqrt(z.col(kk).squaredNorm() + o.ridge);
       if (v > allowed + held) fail("KKT violation", static_cast<int>(knot.step), v, allowed + held);
     }
   }
