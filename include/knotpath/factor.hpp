@@ -46,10 +46,15 @@ namespace detail {
 /// SIAM J. Sci. Stat. Comput. 5(2); N. J. Higham 1988, ACM TOMS 14(4),
 /// algorithm 4.1). At most five solve pairs, O(k^2) each; a lower bound that
 /// is usually within a factor 3 of the true norm.
-template <class Scalar, class Solver>
-double hager_inverse_norm1(Index k, Solver&& solve) {
+template <class Scalar, class Solver, class Work>
+double hager_inverse_norm1(Index k, Solver&& solve, Work& work) {
   if (k == 0) return 0.0;
-  Vector<Scalar> x = Vector<Scalar>::Constant(k, Scalar(1) / Scalar(k)), y(k), z(k), xi(k);
+  // work: at least 4 columns of length >= k (caller-owned: no allocation per call).
+  auto x = work.col(0).head(k);
+  auto y = work.col(1).head(k);
+  auto z = work.col(2).head(k);
+  auto xi = work.col(3).head(k);
+  x.setConstant(Scalar(1) / Scalar(k));
   double estimate = 0;
   Index last = -1;
   for (int iteration = 0; iteration < 5; ++iteration) {
@@ -99,6 +104,7 @@ class CholeskyFactor {
     grown.topLeftCorner(size_, size_) = r_.topLeftCorner(size_, size_);
     r_.swap(grown);
     work_.resize(capacity);
+    if constexpr (std::is_floating_point_v<Scalar>) health_work_.resize(capacity, 5);
   }
 
   /// Appends a column whose inner products with the active columns are
@@ -165,6 +171,17 @@ class CholeskyFactor {
   /// `x` have length size() and may be the same object.
   template <class In, class Out>
   void solve(const In& rhs, Out& x) const {
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      // Eigen's blocked triangular solves: R^T is read row by row as R's
+      // contiguous columns, R column by column (no strided access).
+      auto z = work_.head(size_);
+      z = rhs;
+      const auto r = r_.topLeftCorner(size_, size_);
+      r.template triangularView<Eigen::Upper>().transpose().solveInPlace(z);
+      r.template triangularView<Eigen::Upper>().solveInPlace(z);
+      x = z;
+      return;
+    }
     auto z = work_.head(size_);
     for (Index i = 0; i < size_; ++i) {
       Scalar s = rhs(i);
@@ -199,15 +216,19 @@ class CholeskyFactor {
       // for hardware floats also estimate ||G||_1 ||G^{-1}||_1: ||G||_1 <=
       // ||R||_1 ||R||_inf (G = R^T R) and Hager's estimator for ||G^{-1}||_1
       // (a few solves, O(k^2)). The larger of the two estimates is reported.
-      double col_max = 0, row_max = 0;
+      // One pass down R's columns (contiguous): column sums, and row sums
+      // accumulated in the fifth work column.
+      auto rows = health_work_.col(4).head(size_);
+      rows.setZero();
+      double col_max = 0;
       for (Index i = 0; i < size_; ++i) {
-        double col = 0, row = 0;
-        for (Index m = 0; m <= i; ++m) col += std::abs(static_cast<double>(r_(m, i)));
-        for (Index m = i; m < size_; ++m) row += std::abs(static_cast<double>(r_(i, m)));
-        col_max = std::max(col_max, col);
-        row_max = std::max(row_max, row);
+        const auto column = r_.col(i).head(i + 1).cwiseAbs();
+        col_max = std::max(col_max, static_cast<double>(column.sum()));
+        rows.head(i + 1) += column;
       }
-      const double inverse = detail::hager_inverse_norm1<Scalar>(size_, [&](const auto& in, auto& out) { this->solve(in, out); });
+      const double row_max = static_cast<double>(rows.maxCoeff());
+      const double inverse = detail::hager_inverse_norm1<Scalar>(
+          size_, [&](const auto& in, auto& out) { this->solve(in, out); }, health_work_);
       h.condition_estimate = std::max(h.condition_estimate, col_max * row_max * inverse);
     }
     return h;
@@ -216,6 +237,7 @@ class CholeskyFactor {
  private:
   Matrix<Scalar> r_;               // capacity x capacity; leading size_ block is R
   mutable Vector<Scalar> work_;    // scratch for the triangular solves
+  mutable Matrix<Scalar> health_work_;  // capacity x 5 scratch of health() (hardware floats)
   Index size_ = 0;                 // number of factored columns
 };
 

@@ -54,7 +54,10 @@ struct SufficientStatistics {
   Index predictors() const noexcept { return means.size(); }
 
   /// Statistics of the rows of (x, y) with weights (empty: all 1). One pass
-  /// over the data in blocks of `block_rows` rows, O(n p^2) with a symmetric
+  /// over the data in blocks of `block_rows` rows (0: automatic, about 2^20
+  /// entries per block and at least 1024 rows: 8 MB of doubles, few enough
+  /// blocks that the per-block cost of the product stays small; measured in
+  /// bench/README.md), O(n p^2) with a symmetric
   /// rank update per block (half the flops of a general product) into one
   /// accumulator; buffers are allocated once. Rows are shifted by the
   /// weighted means of the first block before their products are summed and
@@ -63,7 +66,7 @@ struct SufficientStatistics {
   /// the spread; Chan, Golub & LeVeque 1979, section 3).
   static SufficientStatistics from_rows(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                         const Vector<Scalar>& weights = Vector<Scalar>(),
-                                        Index block_rows = 1024) {
+                                        Index block_rows = 0) {
     if (y.size() != x.rows()) throw invalid_data("response length differs from the design's rows");
     if (weights.size() != 0 && weights.size() != x.rows())
       throw invalid_data("weights length differs from the design's rows");
@@ -72,6 +75,7 @@ struct SufficientStatistics {
     for (Index i = 0; weighted && i < n; ++i)
       if (!(weights(i) >= Scalar(0))) throw invalid_data("a weight is negative or not a number");
     SufficientStatistics s = empty(p);
+    if (block_rows <= 0) block_rows = std::max<Index>(1024, (Index(1) << 20) / std::max<Index>(p, 1));
     block_rows = std::max<Index>(1, std::min(block_rows, n));
     Matrix<Scalar> xb(block_rows, p);              // shifted (and sqrt(w)-scaled) rows of a block
     Vector<Scalar> yb(block_rows), wb(block_rows);
