@@ -361,6 +361,151 @@ TEST(FuzzRegression, HeldOutSquaredSineIsNeverNegativeAndBoundsTheCorrelation) {
   }
 }
 
+// Regression from fuzzing (2026-12-02, the first CI run that drew the view
+// storage): an 11 x 6 design whose columns 1-3 are 127.996 in all but one
+// or two rows (mean / spread about 5e3). The view design centres
+// implicitly, so its products lose that factor (dense_view.hpp); the KKT
+// residual at knot 2 was 2.1e-10 while the knot's estimated error said
+// 2.7e-16 relative. Each knot's estimated error now includes the design's
+// centring amplification, and the KKT residual stays within it.
+TEST(FuzzRegression, ViewDesignReportsItsCentringAmplification) {
+  Matrix<double> x(11, 6);
+  x << -126.84375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 52.984375,
+       127.0078125, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -51.8828125,
+       127.015625, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 61.35546875,
+       127.99609375, 127.99609375, 127.99609375, 127.96875, 0.00390625, -64.09375,
+       127.99609375, 127.99609375, 127.99609375, 127.99609375, 122.86328125, -55.78515625,
+       127.99609375, 127.99609375, 127.99609375, 127.99609375, -127.84765625, 87.66015625,
+       127.99609375, 127.99609375, 127.99609375, 127.99609375, -79, -32.40234375,
+       127.99609375, 127.99609375, 127.99609375, 127.99609375, 60.74609375, 118.9140625,
+       127.99609375, 127.99609375, 127.99609375, 127.99609375, 23.8984375, -37.37890625,
+       127.99609375, 127.99609375, 127.99609375, 127.99609375, -105.47265625, -73.86328125,
+       127.99609375, 51.99609375, -127.00390625, 127.99609375, -69.32421875, -35.76953125;
+  Vector<double> y(11);
+  y << 55.78125, 8.19921875, 68.5390625, -58.89453125, 117.08203125, -1.4609375, 42.70703125, 101.8046875,
+      52.13671875, -70.0078125, 10.30078125;
+  kp::TraceOptions o = with_storage(kp::Storage::view);
+  o.variant = kp::Variant::least_angle;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  // Column 3: mean 127.994, centred norm 0.026 over 11 rows: amplification
+  // |m| sqrt(n) / ||x - m|| about 1.6e4 (computed here independently).
+  const double mean = x.col(3).mean();
+  const double amplification = std::abs(mean) * std::sqrt(11.0) / (x.col(3).array() - mean).matrix().norm();
+  ASSERT_GT(amplification, 1e4);
+  const double eps = std::numeric_limits<double>::epsilon();
+  const kp::testing::Centred c = kp::testing::centre(x, y, true, true);
+  for (std::size_t k = 1; k < path.knots().size(); ++k) {
+    const auto& knot = path.knots()[k];
+    EXPECT_GE(knot.estimated_error, 0.99 * amplification * eps) << "knot " << k;
+    const Vector<double> b = kp::testing::to_prepared(c, path.dense_coefficients(k));
+    const Vector<double> corr = c.z.transpose() * (c.y - c.z * b);
+    // Least angle: active correlations equal lambda in size; others below.
+    for (Index j = 0; j < 6; ++j)
+      EXPECT_LE(std::abs(corr(j)) - knot.penalty, 1e3 * knot.estimated_error * path.lambda_max())
+          << "knot " << k << " column " << j;
+  }
+}
+
+// Regression from fuzzing (2026-12-02): no intercept, no scaling, ridge
+// 1.75, columns 0 and 2 nearly equal (2.7e11 in all but one row each) enter
+// at one tied knot; predictor 2 stays at exactly 0 while 0 moves, and after
+// the next entry the direction takes it negative against its entry sign.
+// The leave test looked only for b_j d_j < 0, which is false at b_j = 0, so
+// predictor 2 went negative with its correlation still +lambda (KKT broken
+// by 2 lambda). A coefficient at 0 whose direction opposes its sign now
+// leaves at once.
+TEST(FuzzRegression, ActiveCoefficientStillAtZeroLeavesWhenTheDirectionOpposesItsSign) {
+  const double big = 272730423296;
+  Matrix<double> x = Matrix<double>::Constant(10, 10, big);
+  x.col(5) << 254, 254, -1.4901161193847656e-07, -1.0430812835693359e-07, -4.4237822294235229e-09, -14336,
+      -0.015625, 23, 14811136, 14811136;
+  x(0, 5) = big;
+  x(0, 1) = -2.9802322387695312e-08;
+  x(9, 0) = -2.9569491744041443e-08;
+  x.col(6) << 14811136, 14811136, 14811136, 14811136, -344064, -344064, -344064, -344064,
+      -8.0108642578125e-05, -344064;
+  x.col(7) << -344064, -344064, -344064, -344064, -344064, -344064, -344064, -344064, 14811136, 14811136;
+  x(0, 8) = 242665652224;
+  x(9, 8) = 14811136;
+  x.col(9).setConstant(14811136);
+  x(9, 9) = 12058624;
+  Vector<double> y(10);
+  y << 14811136, 14811136, 14811136, 14811136, 14811136, 14811136, 14811136, -2.9569491744041443e-08,
+      -2.9802322387695312e-08, -2.9802322387695312e-08;
+  kp::TraceOptions o = with_storage(kp::Storage::dense);
+  o.fit_intercept = false;
+  o.standardize = false;
+  o.ridge = 1.75;
+  o.max_active = 3;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  // Lasso KKT with the ridge (DESIGN objective, unscaled columns): at every
+  // knot c = X^T (y - X b) - ridge b equals lambda sign(b_j) where b_j != 0
+  // and is at most lambda in size elsewhere (Efron et al. 2004, lemma 8).
+  for (std::size_t k = 0; k < path.knots().size(); ++k) {
+    const auto& knot = path.knots()[k];
+    const Vector<double> b = path.dense_coefficients(k);
+    const Vector<double> c = x.transpose() * (y - x * b) - o.ridge * b;
+    const double slack = 1e-9 * path.lambda_max();
+    for (Index j = 0; j < 10; ++j) {
+      if (b(j) != 0)
+        EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
+      else
+        EXPECT_LE(std::abs(c(j)), knot.penalty + slack) << "knot " << k << " column " << j;
+    }
+  }
+}
+
+// Regression from fuzzing (2026-12-02): four columns tie at lambda_max
+// (columns 1 and 3 are both constant -128, columns 2 and 6 differ from them
+// in the last row only; no intercept, no scaling). Entering them together
+// held column 6 out as collinear with {1, 2}; then column 1 was kept out
+// (its joint direction broke its sign), but column 6 stayed held out
+// against a span that no longer contained column 1, and its correlation
+// passed lambda by 9.5 at the next knot. Keeping an entry out now retries
+// the held-out columns, as a leave does.
+TEST(FuzzRegression, ColumnHeldOutBehindAKeptOutEntryIsRetried) {
+  Matrix<double> x = Matrix<double>::Constant(12, 9, -128);
+  x.col(0) << 82.00390625, -117.69921875, 90.5859375, 94.828125, 94.8359375, 94.6171875, 94.15234375, 94.8671875,
+      84.1875, 30.8671875, -127.1328125, -128;
+  x(11, 2) = -124;
+  x.col(4) << 94.6796875, 94.8671875, -128, -128, -124.75, -77.1875, -77.1875, -125.6875, 127.8671875,
+      127.99609375, 127.99609375, 127.99609375;
+  x.col(5) << 119.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375,
+      127.99609375, 127.99609375, -126.00390625, -128, -128;
+  x(11, 6) = 127.99609375;
+  x.col(7) << 127.99609375, 127.99609375, 127.99609375, 24.99609375, -37.36328125, -33.2734375, 61.625, -26.9375,
+      127.58203125, 127.99609375, 127.99609375, 127.99609375;
+  x.col(8).setConstant(127.99609375);
+  x(2, 8) = 127.96484375;
+  x(11, 8) = -127.99609375;
+  Vector<double> y = Vector<double>::Constant(12, -128);
+  y(11) = 0;
+  kp::TraceOptions o = with_storage(kp::Storage::dense);
+  o.fit_intercept = false;
+  o.standardize = false;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  // Lasso KKT at every knot (Efron et al. 2004, lemma 8; unscaled columns).
+  for (std::size_t k = 0; k < path.knots().size(); ++k) {
+    const auto& knot = path.knots()[k];
+    const Vector<double> b = path.dense_coefficients(k);
+    const Vector<double> c = x.transpose() * (y - x * b);
+    const double slack = 1e-9 * path.lambda_max();
+    for (Index j = 0; j < 9; ++j) {
+      if (b(j) != 0)
+        EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
+      else
+        EXPECT_LE(std::abs(c(j)), knot.penalty + slack) << "knot " << k << " column " << j;
+    }
+  }
+  // y = -128 * 1 + 128 e_12 lies in the span of the tied columns: the path
+  // ends with a perfect fit (common practice: least squares on a response
+  // in the column span leaves no residual).
+  EXPECT_LE(path.knots().back().rss, 1e-12 * y.squaredNorm());
+}
+
 // Regression from fuzzing (second 60 s run): a nearly singular 4 x 3 design
 // with subnormal entries and a response near 1.2e132 passed the first
 // magnitude bound (2^450) and the homotopy's residual sum of squares

@@ -115,6 +115,9 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   const double eps = detail::to_double(detail::epsilon<Scalar>());
   double drift = 0;  // largest |c_j - lambda f_j s_j| on A before the exact reset, absolute
   double lambda_scale = 0;  // lambda_max (for relative figures)
+  double centring_amplification = 1;
+  if constexpr (requires { design.centring_amplification(); })
+    centring_amplification = design.centring_amplification();
 
   auto try_add = [&](Index j, const Scalar& lambda, Index step) -> bool {
     auto cross = cross_buf.head(static_cast<Index>(active.size()));
@@ -171,8 +174,10 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     // Estimated relative error of this knot: the factor's condition times the
     // unit roundoff (error of the direction), or the measured drift of the
     // updated correlations of the active set, whichever is larger.
-    knot.estimated_error =
-        std::max(knot.condition_estimate * eps, lambda_scale > 0 ? drift / lambda_scale : 0.0);
+    // Designs that centre implicitly (view, sparse) add their centring
+    // amplification (max |m_j| / spread_j): their products lose that factor.
+    knot.estimated_error = std::max({knot.condition_estimate * eps, centring_amplification * eps,
+                                     lambda_scale > 0 ? drift / lambda_scale : 0.0});
     knot.suspect = knot.estimated_error > options.suspect_threshold;
     knots.push_back(std::move(knot));
   };
@@ -270,6 +275,11 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       if (b(k) * d(i) < zero) {
         const Scalar g = -b(k) / d(i);
         if (g < lambda) candidates.push_back({g, true, k, detail::sign_of(b(k))});
+      } else if (b(k) == zero && Scalar(sign[static_cast<std::size_t>(k)]) * d(i) < zero) {
+        // Still at zero (it entered and has not moved, e.g. after a tie) and
+        // the new direction takes it against its sign: it leaves now, or the
+        // next segment would break its KKT condition (fuzz finding).
+        candidates.push_back({zero, true, k, sign[static_cast<std::size_t>(k)]});
       }
     }
     std::fill(just_left.begin(), just_left.end(), 0);
@@ -362,6 +372,10 @@ Path<typename Design::Scalar> trace_design(const Design& design,
         is_active[static_cast<std::size_t>(j)] = 0;
         just_left[static_cast<std::size_t>(j)] = sign[static_cast<std::size_t>(j)];
         entered.erase(std::find(entered.begin(), entered.end(), j));
+        // The span shrank: columns held out as collinear with it (possibly
+        // at this very knot) are tried again (fuzz finding: a column held out
+        // against a tied entry that was then kept out never came back).
+        std::fill(blocked.begin(), blocked.end(), 0);
       }
       const Index before = static_cast<Index>(active.size() - entered.size());
       for (std::size_t i = 0; i < entered.size(); ++i) {

@@ -13,9 +13,12 @@
 /// columns, so 1^T v' is at rounding level and X^T v' carries a rounding
 /// error of order eps |m_j| ||v'||_1 against a true value of order
 /// s_j ||v'||: columns whose mean is many times their spread lose that factor
-/// in the correlation updates (the path's drift figure measures it). Use the
+/// in the correlation updates; each knot's estimated error includes that
+/// factor (centring_amplification()) and the measured drift. Use the
 /// copying dense design (Storage::dense) or Gram mode for such data.
 
+#include <algorithm>
+#include <cmath>
 #include <span>
 #include <type_traits>
 #include <vector>
@@ -65,7 +68,18 @@ class DenseViewDesign {
     full_.resize(x.cols());
     norms_.resize(cols());
     for (Index k = 0; k < cols(); ++k) norms_(k) = centred_cross(k, k);
+    const double root_weight = std::sqrt(detail::to_double(sqrt_w_.squaredNorm()));
+    for (Index k = 0; k < cols(); ++k) {
+      const double centred = std::sqrt(detail::to_double(norms_(k))) * detail::to_double(scales_(k));
+      if (centred > 0)
+        amplification_ = std::max(amplification_, std::abs(detail::to_double(means_(k))) * root_weight / centred);
+    }
   }
+
+  /// max_k |m_k| sqrt(W) / ||sqrt(w) o (x_k - m_k)||: the factor by which
+  /// the implicit centring can magnify rounding in the products (see the
+  /// file comment); the tracer adds it to each knot's estimated error.
+  double centring_amplification() const noexcept { return amplification_; }
 
   /// Threads for the one X^T v per knot (1 by default; 0: all hardware
   /// threads). Fixed column blocks: the result does not depend on it.
@@ -145,6 +159,7 @@ class DenseViewDesign {
   Vector<Scalar> norms_;          // z_k^T z_k
   bool weighted_ = false;         // any weight differs from 1
   Index rows_used_ = 0;
+  double amplification_ = 1;      // see centring_amplification()
   std::size_t threads_ = 1;       // threads for X^T v'
   mutable Vector<Scalar> u_;      // n-vector work space
   mutable Vector<Scalar> full_;   // X^T v' for all user columns

@@ -16,6 +16,8 @@
 /// data; centre dense-looking columns with the dense or Gram designs instead.
 
 #include <Eigen/SparseCore>
+#include <algorithm>
+#include <cmath>
 #include <span>
 #include <type_traits>
 #include <string>
@@ -68,7 +70,18 @@ class SparseDesign {
     scratch_.resize(x.rows());
     norms_.resize(static_cast<Index>(columns_.size()));
     for (Index k = 0; k < norms_.size(); ++k) norms_(k) = raw_cross(k, k);
+    const double root_weight = std::sqrt(detail::to_double(weight_sum_));
+    for (Index k = 0; k < norms_.size(); ++k) {
+      const double centred = std::sqrt(std::max(0.0, detail::to_double(norms_(k)))) * detail::to_double(scales_(k));
+      if (centred > 0)
+        amplification_ = std::max(amplification_, std::abs(detail::to_double(means_(k))) * root_weight / centred);
+    }
   }
+
+  /// max_k |m_k| sqrt(W) / ||sqrt(w) o (x_k - m_k)||: the factor by which
+  /// the implicit centring can magnify rounding (see the file comment); the
+  /// tracer adds it to each knot's estimated error.
+  double centring_amplification() const noexcept { return amplification_; }
 
   /// Threads for the one X^T v per knot (1 by default; 0: all hardware
   /// threads). Each column's sum is formed in the same order on any thread:
@@ -168,6 +181,7 @@ class SparseDesign {
   bool weighted_ = false;           // any weight differs from 1
   Scalar weight_sum_{0};
   Index rows_used_ = 0;
+  double amplification_ = 1;        // see centring_amplification()
   std::size_t threads_ = 1;         // threads for X^T v
   mutable Vector<Scalar> scratch_;  // u = Z_A d, reused at every knot
 };
