@@ -442,7 +442,8 @@ TEST(FuzzRegression, ActiveCoefficientStillAtZeroLeavesWhenTheDirectionOpposesIt
   expect_finite_path(path);
   // Lasso KKT with the ridge (DESIGN objective, unscaled columns): at every
   // knot c = X^T (y - X b) - ridge b equals lambda sign(b_j) where b_j != 0
-  // and is at most lambda in size elsewhere (Efron et al. 2004, lemma 8).
+  // and is at most lambda in size elsewhere (the lasso optimality conditions;
+  // Efron et al. 2004, Ann. Statist. 32(2), section 3; section from memory).
   for (std::size_t k = 0; k < path.knots().size(); ++k) {
     const auto& knot = path.knots()[k];
     const Vector<double> b = path.dense_coefficients(k);
@@ -487,7 +488,8 @@ TEST(FuzzRegression, ColumnHeldOutBehindAKeptOutEntryIsRetried) {
   o.standardize = false;
   const auto path = kp::trace<double>(x, y, o);
   expect_finite_path(path);
-  // Lasso KKT at every knot (Efron et al. 2004, lemma 8; unscaled columns).
+  // Lasso KKT at every knot (unscaled columns; Efron et al. 2004, Ann.
+  // Statist. 32(2), section 3; section from memory).
   for (std::size_t k = 0; k < path.knots().size(); ++k) {
     const auto& knot = path.knots()[k];
     const Vector<double> b = path.dense_coefficients(k);
