@@ -540,5 +540,110 @@ TEST(FuzzRegression, ResponseNear1e132IsRefused) {
   expect_finite_path(kp::trace<double>(xs, Vector<double>(y * 1e-130), o));
 }
 
+// Lasso KKT (c = X^T (y - X b) - ridge b equals lambda sign(b_j) where
+// b_j != 0 and is at most lambda in size elsewhere; Efron et al. 2004, Ann.
+// Statist. 32(2), section 3; section from memory) at every knot the path
+// itself does not flag suspect, within a slack of 1e-10 lambda_max plus the
+// knot's own estimate (Knot::estimated_error, relative to lambda_max) with the
+// growth factor 1e3 the fuzz oracle uses (Higham, Accuracy and Stability of
+// Numerical Algorithms, 2nd ed., ch. 10). Returns the number of knots checked.
+int expect_kkt_within_own_estimate(const kp::Path<double>& path, const Matrix<double>& x, const Vector<double>& y,
+                                   double ridge) {
+  int checked = 0;
+  for (std::size_t k = 0; k < path.knots().size(); ++k) {
+    const auto& knot = path.knots()[k];
+    if (knot.suspect) continue;
+    ++checked;
+    const Vector<double> b = path.dense_coefficients(k);
+    const Vector<double> c = x.transpose() * (y - x * b) - ridge * b;
+    const double slack = (1e-10 + 1e3 * knot.estimated_error) * path.lambda_max();
+    for (Index j = 0; j < x.cols(); ++j) {
+      if (b(j) != 0)
+        EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
+      else
+        EXPECT_LE(std::abs(c(j)), knot.penalty + slack) << "knot " << k << " column " << j;
+    }
+  }
+  return checked;
+}
+
+// Regression from fuzzing (2026-12-02, third run): columns 2, 3 and 4 are
+// the same constant and nearly collinear with column 6 (no intercept, no
+// scaling). Column 2 entered with a condition estimate near 1e18 (knots
+// flagged suspect), left again four knots later, and the factor recovered
+// (condition 240); the later knots were no longer flagged, yet the errors of
+// the ill-conditioned stretch stayed in their state: column 5's correlation
+// was 4.9e-4 with lambda 1.1e-7. The estimated error is now carried forward.
+TEST(FuzzRegression, EstimatedErrorIsCarriedPastAnIllConditionedStretch) {
+  Matrix<double> x(12, 9);
+  x << 82.00390625, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, -33.1328125,
+      -117.69921875, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, -127.1328125,
+      90.5859375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, -128,
+      -128, -82.00390625, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, -64,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, 80.01171875,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, 80.1953125,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, -47.3046875,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -119.99609375, -128, -127.984375, -97.9921875,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -83, -128, -128, -97.8828125,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, -127.9375, -97.8828125,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -128, -128, -97.8828125,
+      -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -127.984375, 46, -97.8828125;
+  Vector<double> y = Vector<double>::Constant(12, -97.8828125);
+  y(3) = -101.8828125;
+  kp::TraceOptions o = with_storage(kp::Storage::dense);
+  o.fit_intercept = false;
+  o.standardize = false;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  EXPECT_TRUE(path.suspect());
+  // Every knot inherits its state from the earlier ones (common practice:
+  // a homotopy's errors accumulate, nothing resets them), so the estimate
+  // never falls along the path and no knot after a suspect one is clean.
+  for (std::size_t k = 1; k < path.knots().size(); ++k)
+    EXPECT_GE(path.knots()[k].estimated_error, path.knots()[k - 1].estimated_error) << "knot " << k;
+  EXPECT_GT(expect_kkt_within_own_estimate(path, x, y, 0.0), 0);
+}
+
+// Regression from fuzzing (2026-12-02, third run): columns 1 and 7 share
+// their first five entries (2.7e11) and tie at lambda_max (ridge 1.75, no
+// intercept, no scaling, at most three active). Entered together, their
+// 2 x 2 factor has condition 1.7e9 and its direction kept column 1 out;
+// the margin of that decision is below the factor's resolution, column 1's
+// correlation then drifted 6.5e9 (1.6e-9 lambda_max) past the boundary over
+// the next segment, while the knot's estimate said 1e-13. The condition of
+// the factor that decides which tied entries stay out now joins the estimate.
+TEST(FuzzRegression, TieDecisionOnAnIllConditionedFactorCountsInTheEstimate) {
+  Matrix<double> x(10, 10);
+  x << 272730423296, 272730423296, 14811136, -2.9802322387695312e-08, -0.0029296875, -31675383808, 462848,
+      272730423296, 1104, 14811136,
+      272730423296, 272730423296, 462848, 5.6810677051544189e-08, -7.9721212387084961e-07,
+      -6.3329935073852539e-08, -278528, 272730423296, -1.1548399925231934e-07, 14811136,
+      272730423296, 272730423296, -344064, -1835008, 0.0007781982421875, 1.484375, -344064, 272730423296,
+      -2.9802322387695312e-08, 14811136,
+      272730423296, 272730423296, -8.0108642578125e-05, -1.4156103134155273e-06, -40960, 6.4820051193237305e-07,
+      -344064, 272730423296, -2.9802322387695312e-08, 14811136,
+      272730423296, 272730423296, -344064, 4.1723251342773438e-07, -0.0008697509765625, 208896, 14811136,
+      272730423296, -2.9802322387695312e-08, 14811136,
+      272730423296, 520192, -344064, -36, -5760, -344064, 14811136, 14811136, -1048576, 462848,
+      272730423296, -344064, -344064, 58720256, -319488, -344064, 242665652224, 14811136, -2048, 272730423296,
+      272730423296, 0.037109375, -344064, 0.0001430511474609375, 0.000244140625, -344064, 272730423296, 14811136,
+      -2.0256265997886658e-08, 272730423296,
+      7.5697898864746094e-06, -4194304, -344064, -1.9073486328125e-05, -65, -11010048, 272730423296, 113,
+      0.037109375, 272730423296,
+      -274877906944, 14811136, -4.507601261138916e-07, 2.1159648895263672e-06, 0.0072021484375, 14811136,
+      272730423296, -126976, -4194304, -12189696;
+  Vector<double> y = Vector<double>::Constant(10, -2.9802322387695312e-08);
+  y(0) = 14811136;
+  y(1) = 2.6309862732887268e-08;
+  kp::TraceOptions o = with_storage(kp::Storage::dense);
+  o.fit_intercept = false;
+  o.standardize = false;
+  o.ridge = 1.75;
+  o.max_active = 3;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  expect_kkt_within_own_estimate(path, x, y, o.ridge);
+}
+
 }  // namespace
 

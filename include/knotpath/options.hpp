@@ -89,8 +89,9 @@ struct TraceOptions {
   std::size_t max_steps = 0;
   /// A knot is marked suspect when its estimated relative error (factor
   /// condition estimate times unit roundoff, or the measured drift of the
-  /// active correlations relative to lambda_max) exceeds this; default 1e-6,
-  /// i.e. fewer than about six trustworthy digits.
+  /// active correlations relative to lambda_max; carried forward along the
+  /// path, so every knot after a suspect one is suspect too) exceeds this;
+  /// default 1e-6, i.e. fewer than about six trustworthy digits.
   double suspect_threshold = 1e-6;
   /// Threads for the one product per knot of the dense copy, the view and
   /// the sparse design (0: all hardware threads). The product's columns are

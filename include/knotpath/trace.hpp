@@ -116,6 +116,7 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   double drift = 0;  // largest |c_j - lambda f_j s_j| on A before the exact reset, absolute
   double lambda_scale = 0;  // lambda_max (for relative figures)
   double centring_amplification = 1;
+  double carried_error = 0;  // largest estimated error of the knots recorded so far
   if constexpr (requires { design.centring_amplification(); })
     centring_amplification = design.centring_amplification();
 
@@ -176,8 +177,14 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     // updated correlations of the active set, whichever is larger.
     // Designs that centre implicitly (view, sparse) add their centring
     // amplification (max |m_j| / spread_j): their products lose that factor.
+    // The estimate is carried forward: a knot inherits the state (b, c) of
+    // the knots before it, so an error made on an ill-conditioned stretch
+    // stays in the path after the factor recovers (fuzz finding: a nearly
+    // duplicate column entered with condition 1e18 and left again; the
+    // later knots, well conditioned, were 5e3 lambda off in one correlation).
     knot.estimated_error = std::max({knot.condition_estimate * eps, centring_amplification * eps,
-                                     lambda_scale > 0 ? drift / lambda_scale : 0.0});
+                                     lambda_scale > 0 ? drift / lambda_scale : 0.0, carried_error});
+    carried_error = knot.estimated_error;
     knot.suspect = knot.estimated_error > options.suspect_threshold;
     knots.push_back(std::move(knot));
   };
@@ -366,6 +373,13 @@ Path<typename Design::Scalar> trace_design(const Design& design,
           }
         }
         if (worst_pos < 0) break;
+        // Which tied entry stays out is decided by the signs of a direction
+        // solved with all of them in the factor; near-collinear ties make
+        // that factor ill-conditioned, the decision is then only as good as
+        // its condition times the unit roundoff, and a wrong one shows later
+        // as a kept-out correlation drifting past the boundary (fuzz
+        // finding). That error joins the carried estimate.
+        carried_error = std::max(carried_error, factor.health().condition_estimate * eps);
         const Index j = active[static_cast<std::size_t>(worst_pos)];
         factor.remove(worst_pos);
         active.erase(active.begin() + worst_pos);
