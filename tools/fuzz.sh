@@ -8,7 +8,7 @@
 #   JOBS=2 tools/fuzz.sh 3600
 # A crash leaves its input as BUILD_DIR/crash-<target>-*; reproduce it with
 #   BUILD_DIR/<target> BUILD_DIR/crash-<target>-...
-# and turn it into a regression test (tests/test_fuzz_regressions.cpp).
+# and turn it into a regression test (FuzzRegression in tests/test_bad_input_api.cpp).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 seconds="${1:-60}"

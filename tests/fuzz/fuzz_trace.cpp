@@ -20,7 +20,8 @@
 // with kappa the active factor's condition estimate (Knot::condition_estimate)
 // and zmax the largest prepared column norm; the path's own error estimate
 // (Knot::estimated_error, which includes the measured correlation drift)
-// times lambda_max bounds what accumulates over the knots. Both get a
+// times lambda_max (times the largest penalty factor, see below) bounds
+// what accumulates over the knots. Both get a
 // factor 1e3 for the growth constants of n, p <= 12 and the up to a hundred
 // updates of one path (Higham, Accuracy and Stability of Numerical
 // Algorithms, 2nd ed., ch. 10: Cholesky backward error c n eps).
@@ -146,6 +147,14 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   double zmax = 0;
   for (std::size_t k = 0; k < q; ++k) zmax = std::max(zmax, z.col(static_cast<Index>(k)).norm());
   const double lambda_max = path.lambda_max();
+  // Column j's boundary is lambda f_j: an error of the path in lambda (ties
+  // merged within TraceOptions::tie_tolerance, relative to lambda, and the
+  // estimated error, relative to lambda_max) is f_j times larger in its
+  // correlation, so that term is scaled by the largest finite factor, at
+  // least 1 (common practice: first-order error propagation).
+  double fmax = 1;
+  for (double f : prep.penalty_factors)
+    if (std::isfinite(f)) fmax = std::max(fmax, f);
   for (const auto& knot : path.knots()) {
     if (!std::isfinite(knot.penalty) || !std::isfinite(knot.rss) || !std::isfinite(knot.intercept))
       fail("non-finite knot", static_cast<int>(knot.step), 0, 0);
@@ -160,7 +169,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     const double lambda = knot.penalty;
     const double kappa = std::max(1.0, knot.condition_estimate);
     const double allowed = 1e3 * eps * kappa * zmax * (yz.norm() + zmax * b.lpNorm<1>()) +
-                           1e3 * knot.estimated_error * lambda_max;
+                           1e3 * knot.estimated_error * lambda_max * fmax;
     for (std::size_t k = 0; k < q; ++k) {
       const Index kk = static_cast<Index>(k);
       const double f = prep.penalty_factors[k];
