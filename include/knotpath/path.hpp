@@ -87,10 +87,12 @@ struct Knot {
   Scalar intercept{0};        ///< on the original scale (0 without intercept)
   std::vector<std::pair<Index, Scalar>> coefficients;  ///< nonzero beta_j, ascending j, original scale
   double condition_estimate = 1;  ///< factor health after the event (see FactorHealth)
-  /// max(condition_estimate * unit roundoff, correlation drift / lambda_max,
-  /// the design's centring amplification * unit roundoff, the estimate of the
-  /// previous knot): carried forward, since each knot inherits its state
-  /// from the ones before it.
+  /// Estimated relative error: the largest of condition_estimate * unit
+  /// roundoff, the correlation drift / lambda_max, the design's centring
+  /// amplification * unit roundoff, the condition of any factor that decided
+  /// which tied entries stay out * unit roundoff, and the previous knot's
+  /// estimate (carried forward: each knot inherits the state of the ones
+  /// before it).
   double estimated_error = 0;
   bool suspect = false;        ///< estimated_error > TraceOptions::suspect_threshold: cross-check
                                ///< with a higher precision (knotpath verify) before trusting it

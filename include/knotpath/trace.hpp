@@ -137,6 +137,19 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     return true;
   };
 
+  // The direction of the current active set, d = (Z_A^T Z_A + a2 I)^{-1} f_A s_A,
+  // into d_buf (right-hand side f_A s_A in rhs_buf), both in factor order.
+  auto solve_direction = [&]() {
+    const Index k_now = static_cast<Index>(active.size());
+    auto rhs_now = rhs_buf.head(k_now);
+    auto d_now = d_buf.head(k_now);
+    for (Index i = 0; i < k_now; ++i) {
+      const Index j = active[static_cast<std::size_t>(i)];
+      rhs_now(i) = factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
+    }
+    factor.solve(rhs_now, d_now);
+  };
+
   auto penalized_active = [&]() {
     Index count = 0;
     for (Index j : active)
@@ -174,7 +187,8 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     knot.condition_estimate = factor.health().condition_estimate;
     // Estimated relative error of this knot: the factor's condition times the
     // unit roundoff (error of the direction), or the measured drift of the
-    // updated correlations of the active set, whichever is larger.
+    // updated correlations of the active set, whichever is larger (and see
+    // the two further terms below and in flush_entries()).
     // Designs that centre implicitly (view, sparse) add their centring
     // amplification (max |m_j| / spread_j): their products lose that factor.
     // The estimate is carried forward: a knot inherits the state (b, c) of
@@ -243,13 +257,9 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       break;
     }
     const Index k_active = static_cast<Index>(active.size());
+    solve_direction();
     auto rhs = rhs_buf.head(k_active);
     auto d = d_buf.head(k_active);
-    for (Index i = 0; i < k_active; ++i) {
-      const Index j = active[static_cast<std::size_t>(i)];
-      rhs(i) = factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
-    }
-    factor.solve(rhs, d);
     design.direction_correlations(std::span<const Index>(active), d, a);
 
     // Candidate events at distance g below the current penalty.
@@ -354,13 +364,8 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       if (entered.empty()) return false;
       while (lasso) {
         const Index k_now = static_cast<Index>(active.size());
-        auto rhs_now = rhs_buf.head(k_now);
+        solve_direction();
         auto d_now = d_buf.head(k_now);
-        for (Index i = 0; i < k_now; ++i) {
-          const Index j = active[static_cast<std::size_t>(i)];
-          rhs_now(i) = factor_of(j) * Scalar(sign[static_cast<std::size_t>(j)]);
-        }
-        factor.solve(rhs_now, d_now);
         Index worst_pos = -1;
         Scalar worst(0);
         for (Index i = 0; i < k_now; ++i) {

@@ -42,8 +42,7 @@ class DenseDesign {
   /// Threads for the product Z^T u of direction_correlations() (1 by
   /// default; 0: all hardware threads). The result does not depend on it.
   void set_threads(std::size_t threads) {
-    // Software types (multiprecision, rational) keep per-thread state: one thread.
-    threads_ = std::is_floating_point_v<Scalar> ? detail::resolve_threads(threads) : 1;
+    threads_ = detail::threads_for<Scalar>(threads);
   }
 
   /// Number of rows n of Z.

@@ -23,6 +23,7 @@
 #include <type_traits>
 #include <vector>
 
+#include "../detail/centring.hpp"
 #include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
 #include "../errors.hpp"
@@ -68,12 +69,7 @@ class DenseViewDesign {
     full_.resize(x.cols());
     norms_.resize(cols());
     for (Index k = 0; k < cols(); ++k) norms_(k) = centred_cross(k, k);
-    const double root_weight = std::sqrt(detail::to_double(sqrt_w_.squaredNorm()));
-    for (Index k = 0; k < cols(); ++k) {
-      const double centred = std::sqrt(detail::to_double(norms_(k))) * detail::to_double(scales_(k));
-      if (centred > 0)
-        amplification_ = std::max(amplification_, std::abs(detail::to_double(means_(k))) * root_weight / centred);
-    }
+    amplification_ = detail::centring_amplification(means_, scales_, norms_, Scalar(sqrt_w_.squaredNorm()));
   }
 
   /// max_k |m_k| sqrt(W) / ||sqrt(w) o (x_k - m_k)||: the factor by which
@@ -84,8 +80,7 @@ class DenseViewDesign {
   /// Threads for the one X^T v per knot (1 by default; 0: all hardware
   /// threads). Fixed column blocks: the result does not depend on it.
   void set_threads(std::size_t threads) {
-    // Software types (multiprecision, rational) keep per-thread state: one thread.
-    threads_ = std::is_floating_point_v<Scalar> ? detail::resolve_threads(threads) : 1;
+    threads_ = detail::threads_for<Scalar>(threads);
   }
 
   /// Number of rows with positive weight (rows of weight 0 do not count).

@@ -24,6 +24,7 @@
 #include <utility>
 #include <vector>
 
+#include "../detail/centring.hpp"
 #include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
 #include "../errors.hpp"
@@ -70,12 +71,7 @@ class SparseDesign {
     scratch_.resize(x.rows());
     norms_.resize(static_cast<Index>(columns_.size()));
     for (Index k = 0; k < norms_.size(); ++k) norms_(k) = raw_cross(k, k);
-    const double root_weight = std::sqrt(detail::to_double(weight_sum_));
-    for (Index k = 0; k < norms_.size(); ++k) {
-      const double centred = std::sqrt(std::max(0.0, detail::to_double(norms_(k)))) * detail::to_double(scales_(k));
-      if (centred > 0)
-        amplification_ = std::max(amplification_, std::abs(detail::to_double(means_(k))) * root_weight / centred);
-    }
+    amplification_ = detail::centring_amplification(means_, scales_, norms_, weight_sum_);
   }
 
   /// max_k |m_k| sqrt(W) / ||sqrt(w) o (x_k - m_k)||: the factor by which
@@ -87,8 +83,7 @@ class SparseDesign {
   /// threads). Each column's sum is formed in the same order on any thread:
   /// the result does not depend on it.
   void set_threads(std::size_t threads) {
-    // Software types (multiprecision, rational) keep per-thread state: one thread.
-    threads_ = std::is_floating_point_v<Scalar> ? detail::resolve_threads(threads) : 1;
+    threads_ = detail::threads_for<Scalar>(threads);
   }
 
   /// Number of rows with positive weight (rows of weight 0 do not count).

@@ -12,6 +12,7 @@
 #include <atomic>
 #include <cstddef>
 #include <thread>
+#include <type_traits>
 #include <vector>
 
 #include "scalar.hpp"
@@ -30,6 +31,13 @@ inline std::size_t resolve_threads(std::size_t requested) {
   if (requested != 0) return requested;
   const unsigned hardware = std::thread::hardware_concurrency();
   return hardware == 0 ? 1 : hardware;
+}
+
+/// Threads a design over Scalar uses for a request: software types
+/// (multiprecision, rational) keep per-thread state, so they get one.
+template <class Scalar>
+std::size_t threads_for(std::size_t requested) {
+  return std::is_floating_point_v<Scalar> ? resolve_threads(requested) : 1;
 }
 
 /// Calls body(begin, end) for the blocks [b * column_block, min(count, (b + 1)
