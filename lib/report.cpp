@@ -576,4 +576,6 @@ void write_atomically(const std::filesystem::path& target,
   }
 }
 
+std::string suspect_advice_text(const RunContext& context) { return suspect_advice<double>(context); }
+
 }  // namespace knotpath::io

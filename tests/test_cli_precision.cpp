@@ -22,26 +22,20 @@
 
 #include <knotpath/precision.hpp>
 
+#include "cli_runner.hpp"
 #include "test_support.hpp"
 
 namespace {
+
+using knotpath::testing::Outcome;
+using knotpath::testing::slurp;
 
 namespace fs = std::filesystem;
 namespace kp = knotpath;
 using boost::multiprecision::cpp_int;
 using json = nlohmann::json;
 
-struct Outcome {
-  int code = -1;
-  std::string out, err;
-};
 
-std::string slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
 void spit(const fs::path& file, const std::string& text) {
   std::ofstream out(file, std::ios::binary);
@@ -164,36 +158,9 @@ void write_resin_table(const fs::path& target) {
   }
 }
 
-class CliPrecision : public ::testing::Test {
+class CliPrecision : public knotpath::testing::ProgramTest {
  protected:
-  void SetUp() override {
-    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    dir_ = fs::temp_directory_path() /
-           fmt::format("knotpath-prec-{}-{}-{}", info->test_suite_name(), info->name(), ::getpid());
-    fs::remove_all(dir_);
-    fs::create_directories(dir_);
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
-  fs::path file(const std::string& name) const { return dir_ / name; }
-
-  Outcome run(const std::string& args) const {
-    const fs::path out = dir_ / ".stdout", err = dir_ / ".stderr";
-    const std::string command = fmt::format("cd '{}' && '{}' --quiet {} </dev/null >'{}' 2>'{}'",
-                                            dir_.string(), KNOTPATH_CLI_PATH, args, out.string(),
-                                            err.string());
-    const int status = std::system(command.c_str());
-    Outcome r;
-    r.code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-    r.out = slurp(out);
-    r.err = slurp(err);
-    fs::remove(out);
-    fs::remove(err);
-    return r;
-  }
-
-  fs::path dir_;
+  CliPrecision() : ProgramTest("prec", "--quiet") {}
 };
 
 TEST(DecimalPower, IsExact) {
@@ -423,6 +390,22 @@ TEST_F(CliPrecision, VerifyOnTheInventedResinTableIsNotTrustworthy) {
   EXPECT_TRUE(r.code == 6 || r.code == 7) << r.code << "\n" << r.out << r.err;
   const json doc = json::parse(slurp(file("v.json")));
   EXPECT_EQ(doc["verdict"], verdict_from_figures(doc));
+}
+
+// `at` in double says when the point it answers lies on a suspect stretch of
+// the path (the invented resin table: nearly collinear compositional
+// columns, flagged suspect by the path's own health check), and stays quiet
+// at the start of the path, where no factor has been formed yet (common
+// practice: the all-zero solution at lambda_max needs no solve).
+TEST_F(CliPrecision, AtWarnsWhereTheDoublePathIsSuspect) {
+  write_resin_table(file("resin.csv"));
+  const Outcome end = run("at resin.csv --response hardness --fraction 1");
+  ASSERT_EQ(end.code, 0) << end.err;
+  EXPECT_NE(end.err.find("WARNING: SUSPECT POINT"), std::string::npos) << end.err;
+  EXPECT_NE(end.err.find("knotpath verify resin.csv --response hardness"), std::string::npos) << end.err;
+  const Outcome start = run("at resin.csv --response hardness --fraction 0");
+  ASSERT_EQ(start.code, 0) << start.err;
+  EXPECT_EQ(start.err.find("SUSPECT"), std::string::npos) << start.err;
 }
 
 }  // namespace

@@ -203,6 +203,21 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     if (solution.beyond_path)
       std::cerr << "knotpath: note: the point asked for lies beyond the traced path ("
                 << to_string(path.stop_reason()) << "); showing the last knot\n";
+    if (path.suspect()) {
+      // The point lies on the segment after the last knot at or above its
+      // penalty; that knot's estimate (carried forward along the path) is
+      // the point's.
+      const Knot<double>* upper = &path.knots().front();
+      for (const auto& knot : path.knots()) {
+        if (knot.penalty < solution.penalty) break;
+        upper = &knot;
+      }
+      if (upper->suspect)
+        std::cerr << fmt::format(
+            "knotpath: WARNING: SUSPECT POINT: the estimated relative error of the double path here "
+            "is {:.2g} (threshold {:.2g}); {}\n",
+            upper->estimated_error, path.options().suspect_threshold, io::suspect_advice_text(traced.context));
+    }
     if (!args->csv)
       std::cout << fmt::format("{}: penalty {:.10g} (mu {:.10g}), L1 norm {:.10g}\n", asked,
                                solution.penalty,

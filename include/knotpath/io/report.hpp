@@ -30,6 +30,10 @@ struct RunContext {
   std::string program_version;               ///< knotpath version
 };
 
+/// What to do about a suspect double path: names the `knotpath verify`
+/// command for this table and the higher-precision options.
+std::string suspect_advice_text(const RunContext& context);
+
 /// Formats a double with 17 significant digits (round-trips exactly);
 /// "nan"/"inf" never occur in a valid path.
 std::string round_trip(double value);
