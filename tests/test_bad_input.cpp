@@ -24,61 +24,25 @@
 #include <fmt/format.h>
 #include <gtest/gtest.h>
 
+#include "cli_runner.hpp"
+
 namespace {
+
+using knotpath::testing::Outcome;
+using knotpath::testing::slurp;
 
 namespace fs = std::filesystem;
 
-struct Outcome {
-  int code = -1;
-  std::string out, err;
-};
 
-std::string slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
 void spit(const fs::path& file, const std::string& text) {
   std::ofstream out(file, std::ios::binary);
   out << text;
 }
 
-class BadInput : public ::testing::Test {
+class BadInput : public knotpath::testing::ProgramTest {
  protected:
-  void SetUp() override {
-    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    dir_ = fs::temp_directory_path() /
-           fmt::format("knotpath-bad-{}-{}-{}", info->test_suite_name(), info->name(), ::getpid());
-    fs::remove_all(dir_);
-    fs::create_directories(dir_);
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
-  fs::path file(const std::string& name) const { return dir_ / name; }
-
-  Outcome run(const std::string& args) const {
-    const fs::path out = dir_ / ".stdout", err = dir_ / ".stderr";
-    const std::string command = fmt::format("cd '{}' && '{}' {} </dev/null >'{}' 2>'{}'", dir_.string(),
-                                            KNOTPATH_CLI_PATH, args, out.string(), err.string());
-    const int status = std::system(command.c_str());
-    Outcome r;
-    r.code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-    r.out = slurp(out);
-    r.err = slurp(err);
-    fs::remove(out);
-    fs::remove(err);
-    return r;
-  }
-
-  std::vector<std::string> listing() const {
-    std::vector<std::string> names;
-    for (const auto& entry : fs::directory_iterator(dir_)) names.push_back(entry.path().filename());
-    std::sort(names.begin(), names.end());
-    return names;
-  }
+  BadInput() : ProgramTest("bad") {}
 
   // Runs `trace` on bad.csv holding `text` (plus `extra` options) and checks
   // the documented failure: exit 3, the message, nothing written or replaced.
@@ -99,8 +63,6 @@ class BadInput : public ::testing::Test {
     EXPECT_EQ(slurp(file("old.csv")), "previous content\n") << "existing file replaced on error";
     EXPECT_EQ(listing(), (std::vector<std::string>{"bad.csv", "old.csv"})) << "stray output";
   }
-
-  fs::path dir_;
 };
 
 TEST_F(BadInput, DataWithNothingToTraceIsRefused) {

@@ -22,26 +22,20 @@
 #include <knotpath/demo.hpp>
 #include <knotpath/io/report.hpp>
 
+#include "cli_runner.hpp"
 #include "test_support.hpp"
 
 namespace {
+
+using knotpath::testing::Outcome;
+using knotpath::testing::slurp;
 
 namespace fs = std::filesystem;
 using knotpath::Index;
 using knotpath::Matrix;
 using knotpath::Vector;
 
-struct Outcome {
-  int code = -1;
-  std::string out, err;
-};
 
-std::string slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
 void spit(const fs::path& file, const std::string& text) {
   std::ofstream out(file, std::ios::binary);
@@ -49,46 +43,9 @@ void spit(const fs::path& file, const std::string& text) {
 }
 
 // Each test works in its own scratch folder.
-class Cli : public ::testing::Test {
+class Cli : public knotpath::testing::ProgramTest {
  protected:
-  void SetUp() override {
-    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    dir_ = fs::temp_directory_path() /
-           fmt::format("knotpath-cli-{}-{}-{}", info->test_suite_name(), info->name(), ::getpid());
-    fs::remove_all(dir_);
-    fs::create_directories(dir_);
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
-
-  fs::path file(const std::string& name) const { return dir_ / name; }
-
-  // Runs the program with `args` (already quoted as needed) in the scratch folder.
-  Outcome run(const std::string& args, const std::string& stdin_file = "/dev/null") const {
-    const fs::path out = dir_ / ".stdout", err = dir_ / ".stderr";
-    const std::string command = fmt::format("cd '{}' && '{}' {} <'{}' >'{}' 2>'{}'", dir_.string(),
-                                            KNOTPATH_CLI_PATH, args, stdin_file, out.string(),
-                                            err.string());
-    const int status = std::system(command.c_str());
-    Outcome r;
-    r.code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-    r.out = slurp(out);
-    r.err = slurp(err);
-    fs::remove(out);
-    fs::remove(err);
-    return r;
-  }
-
-  // Files in the scratch folder (temporary files of failed writes would show here).
-  std::vector<std::string> listing() const {
-    std::vector<std::string> names;
-    for (const auto& entry : fs::directory_iterator(dir_)) names.push_back(entry.path().filename());
-    std::sort(names.begin(), names.end());
-    return names;
-  }
-
-  fs::path dir_;
+  Cli() : ProgramTest("cli") {}
 };
 
 // A small table: the problem's predictors, the response y and a weights column w.

@@ -29,9 +29,13 @@
 #include <knotpath/io/report.hpp>
 #include <knotpath/select.hpp>
 
+#include "cli_runner.hpp"
 #include "test_support.hpp"
 
 namespace {
+
+using knotpath::testing::Outcome;
+using knotpath::testing::slurp;
 
 namespace fs = std::filesystem;
 using knotpath::Index;
@@ -39,53 +43,11 @@ using knotpath::Matrix;
 using knotpath::Vector;
 using json = nlohmann::json;
 
-struct Outcome {
-  int code = -1;
-  std::string out, err;
-};
 
-std::string slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
-class Select : public ::testing::Test {
+class Select : public knotpath::testing::ProgramTest {
  protected:
-  void SetUp() override {
-    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    dir_ = fs::temp_directory_path() / fmt::format("knotpath-select-{}-{}", info->name(), ::getpid());
-    fs::remove_all(dir_);
-    fs::create_directories(dir_);
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
-  fs::path file(const std::string& name) const { return dir_ / name; }
-
-  Outcome run(const std::string& args) const {
-    const fs::path out = dir_ / ".stdout", err = dir_ / ".stderr";
-    const std::string command = fmt::format("cd '{}' && '{}' --quiet {} </dev/null >'{}' 2>'{}'", dir_.string(),
-                                            KNOTPATH_CLI_PATH, args, out.string(), err.string());
-    const int status = std::system(command.c_str());
-    Outcome r;
-    r.code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-    r.out = slurp(out);
-    r.err = slurp(err);
-    fs::remove(out);
-    fs::remove(err);
-    return r;
-  }
-
-  std::vector<std::string> listing() const {
-    std::vector<std::string> names;
-    for (const auto& entry : fs::directory_iterator(dir_)) names.push_back(entry.path().filename());
-    std::sort(names.begin(), names.end());
-    return names;
-  }
-
-  fs::path dir_;
+  Select() : ProgramTest("select", "--quiet") {}
 };
 
 // The problem as a table (x0..x{p-1}, y, and a fold label column when given).

@@ -27,32 +27,22 @@
 #include <knotpath/io/report.hpp>
 #include <knotpath/knotpath.hpp>
 
+#include "cli_runner.hpp"
 #include "test_support.hpp"
 
 namespace {
 
+using knotpath::testing::slurp;
+
 namespace fs = std::filesystem;
 namespace kp = knotpath;
 
-std::string slurp(const fs::path& file) {
-  std::ifstream in(file, std::ios::binary);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-class Determinism : public ::testing::Test {
+class Determinism : public knotpath::testing::ProgramTest {
  protected:
-  void SetUp() override {
-    dir_ = fs::temp_directory_path() / fmt::format("knotpath-determinism-{}", ::getpid());
-    fs::remove_all(dir_);
-    fs::create_directories(dir_);
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
+  Determinism() : ProgramTest("determinism") {}
+
   // Runs trace on t.csv with an environment prefix; returns knots + JSON bytes.
-  std::pair<std::string, std::string> run(const std::string& environment, const std::string& options) {
+  std::pair<std::string, std::string> trace_bytes(const std::string& environment, const std::string& options) {
     const std::string command =
         fmt::format("cd '{}' && env {} '{}' trace t.csv --response y {} --knots k.csv --json p.json "
                     ">/dev/null 2>&1",
@@ -64,7 +54,6 @@ class Determinism : public ::testing::Test {
     fs::remove(dir_ / "p.json");
     return out;
   }
-  fs::path dir_;
 };
 
 TEST_F(Determinism, RepeatedRunsAndThreadCountsGiveIdenticalBytes) {
@@ -84,12 +73,12 @@ TEST_F(Determinism, RepeatedRunsAndThreadCountsGiveIdenticalBytes) {
   }
   for (const std::string options : {"", "--variant least-angle", "--ridge 0.5 --no-standardize"}) {
     SCOPED_TRACE(options);
-    const auto first = run("", options);
+    const auto first = trace_bytes("", options);
     ASSERT_FALSE(first.first.empty());
     ASSERT_FALSE(first.second.empty());
-    EXPECT_EQ(run("", options), first) << "second run differs";
-    EXPECT_EQ(run("OMP_NUM_THREADS=1 EIGEN_NUM_THREADS=1", options), first) << "1 thread differs";
-    EXPECT_EQ(run("OMP_NUM_THREADS=2 EIGEN_NUM_THREADS=2", options), first) << "2 threads differ";
+    EXPECT_EQ(trace_bytes("", options), first) << "second run differs";
+    EXPECT_EQ(trace_bytes("OMP_NUM_THREADS=1 EIGEN_NUM_THREADS=1", options), first) << "1 thread differs";
+    EXPECT_EQ(trace_bytes("OMP_NUM_THREADS=2 EIGEN_NUM_THREADS=2", options), first) << "2 threads differ";
   }
 }
 
@@ -125,10 +114,10 @@ TEST_F(Determinism, ThreadsOptionGivesIdenticalBytes) {
       out << kp::io::round_trip(prob.y(i)) << '\n';
     }
   }
-  const auto first = run("", "--threads 1 --max-knots 40");
+  const auto first = trace_bytes("", "--threads 1 --max-knots 40");
   ASSERT_FALSE(first.first.empty());
-  EXPECT_EQ(run("", "--threads 2 --max-knots 40"), first) << "--threads 2 differs from --threads 1";
-  EXPECT_EQ(run("", "--threads 0 --max-knots 40"), first) << "--threads 0 (all cores) differs";
+  EXPECT_EQ(trace_bytes("", "--threads 2 --max-knots 40"), first) << "--threads 2 differs from --threads 1";
+  EXPECT_EQ(trace_bytes("", "--threads 0 --max-knots 40"), first) << "--threads 0 (all cores) differs";
 }
 
 TEST(DeterminismLibrary, ThreadCountDoesNotChangeAnyBitInEveryStorage) {
