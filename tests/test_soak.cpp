@@ -107,7 +107,7 @@ Design random_design(unsigned seed) {
   d.options.fit_intercept = options != 1;
   d.options.standardize = options != 2;
   if (options == 3) d.options.ridge = 0.05 + u(gen);
-  d.options.storage = static_cast<kp::Storage>(gen() % 3);
+  d.options.storage = static_cast<kp::Storage>(gen() % 4);  // automatic, dense copy, Gram, view
   char text[200];
   std::snprintf(text, sizeof text, "seed %u: n %ld p %ld rho %g kind %d options %d storage %d", seed,
                 static_cast<long>(n), static_cast<long>(p), rho, kind, options,
