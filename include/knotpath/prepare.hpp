@@ -147,6 +147,47 @@ void check_data(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<S
                            std::to_string(j));
   check_magnitudes(x, y, weights);
 }
+
+/// Why column j is left out before the path starts, in the documented order
+/// (all zero, then constant under an intercept, then an infinite penalty
+/// factor), or nullptr when it may enter. Shared by every storage's
+/// preparation so that all of them exclude the same columns for the same
+/// reasons.
+inline const char* exclusion_reason(bool all_zero, bool constant, const TraceOptions& options, Index j) {
+  if (all_zero) return "all-zero column";
+  if (options.fit_intercept && constant) return "constant column (absorbed by the intercept)";
+  if (std::isinf(options.penalty_factor(static_cast<std::size_t>(j)))) return "infinite penalty factor";
+  return nullptr;
+}
+
+/// Reason recorded for a column whose scale is zero or not finite.
+inline constexpr const char* unscalable_column = "column scale is zero or not representable";
+
+/// Records column j as traced: its mean and scale, penalty factor and sign
+/// constraint.
+template <class Scalar>
+void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j, const Scalar& mean,
+                 const Scalar& scale) {
+  prep.means(j) = mean;
+  prep.scales(j) = scale;
+  prep.columns.push_back(j);
+  prep.penalty_factors.push_back(options.penalty_factor(static_cast<std::size_t>(j)));
+  prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
+}
+
+/// Means and scales of the traced columns in design order (entry k belongs
+/// to prep.columns[k]), for designs that centre and scale implicitly.
+template <class Scalar>
+std::pair<Vector<Scalar>, Vector<Scalar>> traced_means_and_scales(const Preparation<Scalar>& prep) {
+  const Index q = static_cast<Index>(prep.columns.size());
+  Vector<Scalar> means(q), scales(q);
+  for (Index k = 0; k < q; ++k) {
+    const Index j = prep.columns[static_cast<std::size_t>(k)];
+    means(k) = prep.means(j);
+    scales(k) = prep.scales(j);
+  }
+  return {std::move(means), std::move(scales)};
+}
 }  // namespace detail
 
 /// A prepared dense problem: the design operator and the preparation record.
@@ -247,23 +288,14 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
   Index kept = 0;
   Vector<Scalar> column(m);
   for (Index j = 0; j < p; ++j) {
-    const double factor = options.penalty_factor(static_cast<std::size_t>(j));
     bool constant = true, all_zero = true;
     for (Index r = 0; r < m; ++r) {
       const Scalar& v = x(rows[r], j);
       if (v != x(rows[0], j)) constant = false;
       if (v != Scalar(0)) all_zero = false;
     }
-    if (all_zero) {
-      prep.excluded.push_back({j, "all-zero column"});
-      continue;
-    }
-    if (options.fit_intercept && constant) {
-      prep.excluded.push_back({j, "constant column (absorbed by the intercept)"});
-      continue;
-    }
-    if (std::isinf(factor)) {
-      prep.excluded.push_back({j, "infinite penalty factor"});
+    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
+      prep.excluded.push_back({j, reason});
       continue;
     }
     Scalar mean(0);
@@ -273,16 +305,12 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
     if (options.standardize) {
       scale = detail::weighted_norm<Scalar>(column, wk);
       if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
-        prep.excluded.push_back({j, "column scale is zero or not representable"});
+        prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
     }
     for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / scale;
-    prep.means(j) = mean;
-    prep.scales(j) = scale;
-    prep.columns.push_back(j);
-    prep.penalty_factors.push_back(factor);
-    prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
+    detail::keep_column(prep, options, j, mean, scale);
     ++kept;
   }
   z.conservativeResize(m, kept);

@@ -212,10 +212,7 @@ PreparedView<Scalar> prepare_view(const Matrix<Scalar>& x, const Vector<Scalar>&
   if (!detail::is_finite_value(prep.total_sum_of_squares))
     throw invalid_data("the response's sum of squares overflows; rescale the response");
   yc = yc.cwiseProduct(sqrt_w);
-  std::vector<Index> columns;
-  std::vector<Scalar> means, scales;
   for (Index j = 0; j < p; ++j) {
-    const double factor = options.penalty_factor(static_cast<std::size_t>(j));
     const auto col = x.col(j);
     bool constant = true, all_zero = true;
     for (Index i = 0; i < n; ++i) {
@@ -223,16 +220,8 @@ PreparedView<Scalar> prepare_view(const Matrix<Scalar>& x, const Vector<Scalar>&
       if (col(i) != col(first)) constant = false;
       if (col(i) != Scalar(0)) all_zero = false;
     }
-    if (all_zero) {
-      prep.excluded.push_back({j, "all-zero column"});
-      continue;
-    }
-    if (options.fit_intercept && constant) {
-      prep.excluded.push_back({j, "constant column (absorbed by the intercept)"});
-      continue;
-    }
-    if (std::isinf(factor)) {
-      prep.excluded.push_back({j, "infinite penalty factor"});
+    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
+      prep.excluded.push_back({j, reason});
       continue;
     }
     const Scalar mean = options.fit_intercept ? weighted_mean(col) : Scalar(0);
@@ -240,28 +229,16 @@ PreparedView<Scalar> prepare_view(const Matrix<Scalar>& x, const Vector<Scalar>&
     if (options.standardize) {
       scale = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
       if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
-        prep.excluded.push_back({j, "column scale is zero or not representable"});
+        prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
     }
-    prep.means(j) = mean;
-    prep.scales(j) = scale;
-    prep.columns.push_back(j);
-    prep.penalty_factors.push_back(factor);
-    prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
-    columns.push_back(j);
-    means.push_back(mean);
-    scales.push_back(scale);
+    detail::keep_column(prep, options, j, mean, scale);
   }
-  const Index q = static_cast<Index>(columns.size());
-  Vector<Scalar> m(q), s(q);
-  for (Index k = 0; k < q; ++k) {
-    m(k) = means[static_cast<std::size_t>(k)];
-    s(k) = scales[static_cast<std::size_t>(k)];
-  }
-  return {DenseViewDesign<Scalar>(x, std::move(columns), std::move(m), std::move(s), std::move(sqrt_w),
-                                  std::move(yc), weighted),
-          std::move(prep)};
+  auto [m, s] = detail::traced_means_and_scales(prep);
+  DenseViewDesign<Scalar> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc),
+                                 weighted);
+  return {std::move(design), std::move(prep)};
 }
 
 }  // namespace knotpath

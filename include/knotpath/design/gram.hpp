@@ -312,19 +312,10 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
                                   ? stats.response_comoment
                                   : Scalar(stats.response_comoment + n * stats.response_mean * stats.response_mean);
   for (Index j = 0; j < p; ++j) {
-    const double factor = options.penalty_factor(static_cast<std::size_t>(j));
     const bool constant = stats.minimum(j) == stats.maximum(j);
     const bool all_zero = constant && stats.minimum(j) == Scalar(0);
-    if (all_zero) {
-      prep.excluded.push_back({j, "all-zero column"});
-      continue;
-    }
-    if (options.fit_intercept && constant) {
-      prep.excluded.push_back({j, "constant column (absorbed by the intercept)"});
-      continue;
-    }
-    if (std::isinf(factor)) {
-      prep.excluded.push_back({j, "infinite penalty factor"});
+    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
+      prep.excluded.push_back({j, reason});
       continue;
     }
     Scalar scale(1);
@@ -335,16 +326,12 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
                            ": its sum of squares is not finite in the sufficient statistics "
                            "(the data overflow double precision); rescale it");
       if (!(m2 > Scalar(0))) {
-        prep.excluded.push_back({j, "column scale is zero or not representable"});
+        prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
       scale = detail::square_root<Scalar>(m2);
     }
-    if (options.fit_intercept) prep.means(j) = stats.means(j);
-    prep.scales(j) = scale;
-    prep.columns.push_back(j);
-    prep.penalty_factors.push_back(factor);
-    prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
+    detail::keep_column(prep, options, j, options.fit_intercept ? stats.means(j) : Scalar(0), scale);
   }
   const Index q = static_cast<Index>(prep.columns.size());
   Matrix<Scalar> g(q, q);

@@ -228,10 +228,7 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
   prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
   yc = yc.cwiseProduct(sqrt_w);
 
-  std::vector<Index> columns;
-  std::vector<Scalar> means, scales;
   for (Index j = 0; j < p; ++j) {
-    const double factor = options.penalty_factor(static_cast<std::size_t>(j));
     Scalar sum(0), stored_weight(0);
     Index stored_used = 0;
     bool any_nonzero = false, varies = false;
@@ -256,16 +253,8 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
     // Rows not stored hold zeros; they make the column vary when it has
     // stored nonzeros and some used rows are implicit.
     if (stored_used < used && any_nonzero) varies = true;
-    if (!any_nonzero) {
-      prep.excluded.push_back({j, "all-zero column"});
-      continue;
-    }
-    if (options.fit_intercept && !varies) {
-      prep.excluded.push_back({j, "constant column (absorbed by the intercept)"});
-      continue;
-    }
-    if (std::isinf(factor)) {
-      prep.excluded.push_back({j, "infinite penalty factor"});
+    if (const char* reason = detail::exclusion_reason(!any_nonzero, !varies, options, j)) {
+      prep.excluded.push_back({j, reason});
       continue;
     }
     const Scalar mean = options.fit_intercept ? Scalar(sum / wsum) : Scalar(0);
@@ -280,27 +269,15 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
       ss += (wsum - stored_weight) * mean * mean;
       scale = detail::square_root<Scalar>(ss);
       if (!(scale > Scalar(0))) {
-        prep.excluded.push_back({j, "column scale is zero or not representable"});
+        prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
     }
-    prep.means(j) = mean;
-    prep.scales(j) = scale;
-    prep.columns.push_back(j);
-    prep.penalty_factors.push_back(factor);
-    prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
-    columns.push_back(j);
-    means.push_back(mean);
-    scales.push_back(scale);
+    detail::keep_column(prep, options, j, mean, scale);
   }
-  const Index q = static_cast<Index>(columns.size());
-  Vector<Scalar> m(q), s(q);
-  for (Index k = 0; k < q; ++k) {
-    m(k) = means[static_cast<std::size_t>(k)];
-    s(k) = scales[static_cast<std::size_t>(k)];
-  }
-  return {SparseDesign<Scalar>(x, std::move(columns), std::move(m), std::move(s), std::move(sqrt_w), std::move(yc)),
-          std::move(prep)};
+  auto [m, s] = detail::traced_means_and_scales(prep);
+  SparseDesign<Scalar> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc));
+  return {std::move(design), std::move(prep)};
 }
 
 }  // namespace knotpath
