@@ -144,6 +144,13 @@ Eigen::Matrix<To, Rows, Cols> convert(const Eigen::Matrix<From, Rows, Cols>& m) 
   return out;
 }
 
+/// The verdict thresholds of compare_paths() (file comment), relative.
+struct VerdictThresholds {
+  static constexpr double wrong_coefficient = 1e-3;     ///< above: wrong
+  static constexpr double degraded_knot = 1e-9;         ///< above (same events): degraded
+  static constexpr double degraded_coefficient = 1e-6;  ///< above (same events): degraded
+};
+
 /// Verdict of the cross-check.
 enum class Verdict {
   trustworthy,  ///< double agrees with the high precision within the documented thresholds
@@ -251,9 +258,10 @@ CrossCheck compare_paths(const Path<double>& low, const Path<High>& high) {
     out.max_coefficient_difference =
         std::max(out.max_coefficient_difference, top > 0 ? diff / top : diff);
   }
-  if (!out.same_events || out.max_coefficient_difference > 1e-3)
+  if (!out.same_events || out.max_coefficient_difference > VerdictThresholds::wrong_coefficient)
     out.verdict = Verdict::wrong;
-  else if (out.max_relative_knot_difference > 1e-9 || out.max_coefficient_difference > 1e-6)
+  else if (out.max_relative_knot_difference > VerdictThresholds::degraded_knot ||
+           out.max_coefficient_difference > VerdictThresholds::degraded_coefficient)
     out.verdict = Verdict::degraded;
   else
     out.verdict = Verdict::trustworthy;

@@ -3,6 +3,7 @@
 // knotpath::compare_paths (precision.hpp) and reports the verdict; the exit
 // status is the verdict (0 trustworthy, 6 degraded, 7 wrong).
 
+#include <cmath>
 #include <iostream>
 #include <limits>
 
@@ -21,16 +22,22 @@ struct VerifyArgs {
   std::string json_file;
 };
 
-// The verdict thresholds of compare_paths, stated in precision.hpp; the
-// tests check that reported verdicts obey them.
-constexpr double wrong_coefficient = 1e-3;
-constexpr double degraded_knot = 1e-9;
-constexpr double degraded_coefficient = 1e-6;
+// "1e-3" for a power of ten, else the shortest decimal form.
+std::string threshold_text(double x) {
+  const int e = static_cast<int>(std::lround(std::log10(x)));
+  return std::pow(10.0, e) == x ? fmt::format("1e{}", e) : fmt::format("{:g}", x);
+}
 
-const char* const thresholds_text =
-    "wrong: the event sequences differ, or a coefficient differs by more than 1e-3 (relative); "
-    "degraded: same events, but a knot penalty differs by more than 1e-9 or a coefficient by "
-    "more than 1e-6 (relative); trustworthy: otherwise";
+// The verdict thresholds of compare_paths (precision.hpp), in words; the
+// tests check that reported verdicts obey them.
+std::string thresholds_text() {
+  return fmt::format(
+      "wrong: the event sequences differ, or a coefficient differs by more than {} (relative); "
+      "degraded: same events, but a knot penalty differs by more than {} or a coefficient by "
+      "more than {} (relative); trustworthy: otherwise",
+      threshold_text(VerdictThresholds::wrong_coefficient), threshold_text(VerdictThresholds::degraded_knot),
+      threshold_text(VerdictThresholds::degraded_coefficient));
+}
 
 int status_of(Verdict verdict) {
   switch (verdict) {
@@ -113,7 +120,7 @@ int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
       low.options().suspect_threshold);
   if (!low_finite) out += "the double path holds values that are not finite\n";
   out += fmt::format("verdict:                        {}\n", to_string(check.verdict));
-  out += fmt::format("thresholds: {}\n", thresholds_text);
+  out += fmt::format("thresholds: {}\n", thresholds_text());
   switch (check.verdict) {
     case Verdict::trustworthy:
       out += "the double path of this table can be used as it is\n";
@@ -170,10 +177,10 @@ int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
     doc["suspect_threshold"] = low.options().suspect_threshold;
     doc["double_finite"] = low_finite;
     doc["verdict"] = to_string(check.verdict);
-    doc["thresholds"] = {{"wrong_coefficient", wrong_coefficient},
-                         {"degraded_knot", degraded_knot},
-                         {"degraded_coefficient", degraded_coefficient},
-                         {"rule", thresholds_text}};
+    doc["thresholds"] = {{"wrong_coefficient", VerdictThresholds::wrong_coefficient},
+                         {"degraded_knot", VerdictThresholds::degraded_knot},
+                         {"degraded_coefficient", VerdictThresholds::degraded_coefficient},
+                         {"rule", thresholds_text()}};
     doc["exit_status"] = status;
     write_report_file(args.json_file,
                       [&](std::ostream& o) { o << doc.dump(2) << '\n'; });
