@@ -645,5 +645,41 @@ TEST(FuzzRegression, TieDecisionOnAnIllConditionedFactorCountsInTheEstimate) {
   expect_kkt_within_own_estimate(path, x, y, o.ridge);
 }
 
+// Regression from fuzzing (2026-12-02, ten-minute run): seven columns tie
+// at lambda_max (entries 2.7e11, no intercept, no scaling). Five entered
+// together with coefficients still at 0; the next direction opposed the
+// signs of two of them (columns 0 and 6), both left at once, and with both
+// out column 0's correlation moved outward, passing lambda by 1% at the next
+// knot. Such columns now leave one per knot row, the most negative first,
+// with the direction recomputed in between (a single one's Schur complement
+// guarantees it moves inside once out): here only column 6 leaves.
+TEST(FuzzRegression, ActiveColumnsStuckAtZeroLeaveOneAtATime) {
+  const double big = 272730423296, tiny = -2.9802322387695312e-08;
+  Matrix<double> x(10, 10);
+  x << big, 5.9138983488082886e-08, big, -11945377792, 7.343292236328125e-05, big, big, big, big, big,
+      big, tiny, big, tiny, -5898240, big, big, big, big, big,
+      big, -1.1920928955078125e-07, big, tiny, 1056964608, big, big, big, big, big,
+      1.1827796697616577e-07, -5.9604644775390625e-08, -8.0108642578125e-05, 268435456, 210453397504,
+      1.1827796697616577e-07, big, big, big, big,
+      tiny, -4.7311186790466309e-07, -293601280, 39321600, big, tiny, big, big, big, big,
+      tiny, -274877906944, 0.1328125, 88064, -2.9569491744041443e-08, tiny, big, big, big, big,
+      -274877906944, tiny, -0.00506591796875, 1073741824, tiny, -274877906944, big, big, 65024, big,
+      big, big, -1572864, 169984, tiny, big, big, big, big, big,
+      -3.9581209421157837e-08, -big, -37, -0.01123046875, tiny, -3.9581209421157837e-08, big, big, big, big,
+      -274877906944, big, 2.375, 0.00090789794921875, 2.9569491744041443e-08, big, big, big, big, 32512;
+  Vector<double> y = Vector<double>::Constant(10, 2.384185791015625e-06);
+  y.head(3).setConstant(big);
+  kp::TraceOptions o = with_storage(kp::Storage::dense);
+  o.fit_intercept = false;
+  o.standardize = false;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  EXPECT_GT(expect_kkt_within_own_estimate(path, x, y, 0.0), 0);
+  int leaves_at_start = 0;
+  for (const auto& knot : path.knots())
+    if (knot.event == kp::EventKind::leave && knot.penalty == path.lambda_max()) ++leaves_at_start;
+  EXPECT_EQ(leaves_at_start, 1);
+}
+
 }  // namespace
 

@@ -31,7 +31,11 @@
 /// happen at one knot, in this documented order: all leave events by
 /// ascending predictor index, then all enter events by ascending predictor
 /// index. Each is its own row of the knot table with the same penalty.
-/// A predictor that just left cannot re-enter at the same knot, and one
+/// Active predictors still at zero whose direction opposes their sign (after
+/// a tie) leave one per row, the most negative first, the direction being
+/// recomputed in between. A predictor that just left re-enters at the same
+/// knot only when a later change of the active set there turns its
+/// correlation clearly outward again, and one
 /// whose column is numerically in the span of the active columns is held out
 /// (recorded in Path::held_out()) until the active set loses a member.
 /// Held out columns stay on the boundary (their correlation is lambda times
@@ -269,21 +273,28 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       if (is_active[ku] || blocked[ku]) continue;
       for (int s : {+1, -1}) {
         if (!may_enter_with(k, s)) continue;
-        // A predictor that just left moves strictly inside the boundary on the
-        // side it left from for the whole next segment (it left because its
-        // coefficient, not its correlation, reached zero), so only the opposite
-        // side can be reached there; skipping it avoids a rounding-level
-        // step straight back in.
-        if (just_left[ku] == s) continue;
         // s (c_k - g a_k) = (lambda - g) f_k  =>  g = (lambda f_k - s c_k) / (f_k - s a_k);
         // the boundary is approached only when f_k - s a_k > 0.
         const Scalar denom = factor_of(k) - Scalar(s) * a(k);
         if (!(denom > zero)) continue;
+        // A predictor that just left (or was kept out at a tie) moves inside
+        // the boundary on the side it left from (it left because its
+        // coefficient, not its correlation, reached zero; Schur complement:
+        // s_k d_k < 0 in the old set means f_k - s_k a_k < 0 without it), so
+        // a rate f_k - s a_k at rounding level there is noise: skipping it
+        // avoids a step straight back in. A clearly positive rate means the
+        // active set changed again at the same knot (several left or were
+        // kept out), the guarantee is gone, and it may enter (fuzz finding).
+        if (just_left[ku] == s &&
+            denom <= tie_tol * (factor_of(k) + detail::abs_value<Scalar>(a(k))))
+          continue;
         Scalar g = (lambda * factor_of(k) - Scalar(s) * c(k)) / denom;
         if (g < zero) g = zero;  // already on the boundary (ties, rounding): enters now
         if (g < lambda) candidates.push_back({g, false, k, s});
       }
     }
+    Index stuck = -1;  // active, still at zero, direction against its sign (most negative s_k d_k)
+    Scalar stuck_agreement(0);
     for (Index i = 0; i < k_active; ++i) {
       const Index k = active[static_cast<std::size_t>(i)];
       if (factor_of(k) == zero) continue;
@@ -292,13 +303,21 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       if (b(k) * d(i) < zero) {
         const Scalar g = -b(k) / d(i);
         if (g < lambda) candidates.push_back({g, true, k, detail::sign_of(b(k))});
-      } else if (b(k) == zero && Scalar(sign[static_cast<std::size_t>(k)]) * d(i) < zero) {
-        // Still at zero (it entered and has not moved, e.g. after a tie) and
-        // the new direction takes it against its sign: it leaves now, or the
-        // next segment would break its KKT condition (fuzz finding).
-        candidates.push_back({zero, true, k, sign[static_cast<std::size_t>(k)]});
+      } else if (b(k) == zero && Scalar(sign[static_cast<std::size_t>(k)]) * d(i) < stuck_agreement) {
+        stuck_agreement = Scalar(sign[static_cast<std::size_t>(k)]) * d(i);
+        stuck = k;
       }
     }
+    // Still at zero (it entered and has not moved, e.g. after a tie) and the
+    // new direction takes it against its sign: it leaves now, or the next
+    // segment would break its KKT condition (fuzz finding). One per knot
+    // row, the most negative first, as flush_entries() keeps entries out:
+    // for a single column s_k d_k < 0 is exactly "its correlation moves
+    // inside once it is out" (Schur complement), which is what lets it stay
+    // out; leaving several at once gives no such guarantee (fuzz finding:
+    // two left together and one's correlation passed lambda by 1%). The
+    // others are looked at again with the direction that follows.
+    if (stuck >= 0) candidates.push_back({zero, true, stuck, sign[static_cast<std::size_t>(stuck)]});
     std::fill(just_left.begin(), just_left.end(), 0);
 
     Scalar g_min = lambda;
