@@ -681,5 +681,32 @@ TEST(FuzzRegression, ActiveColumnsStuckAtZeroLeaveOneAtATime) {
   EXPECT_EQ(leaves_at_start, 1);
 }
 
+// Regression from fuzzing (2026-12-02, eighteen-minute run): two active
+// coefficients (columns 4 and 6) reach zero at one knot (no intercept, no
+// scaling). The row of the first leave showed the second at -1.1e-19, past
+// zero with the wrong sign while its correlation was +lambda. Every leaving
+// coefficient is now zero before any row of the knot is recorded.
+TEST(FuzzRegression, CoefficientsLeavingAtOneKnotAreZeroInEveryRowOfIt) {
+  Matrix<double> x(9, 9);
+  x << 82.00390625, -128, -128, -58.62109375, -128, -97.8828125, -128, -84.00390625, 127.99609375,
+      -117.69921875, -128, -128, -17.5703125, -128, -97.8828125, -128, 127.99609375, 127.99609375,
+      -46.4140625, -128, -128, -17.5703125, -127.1328125, -97.8828125, -128, 127.99609375, 127.99609375,
+      -31.4765625, -128, -128, -17.5703125, -127.0390625, -97.8828125, -128, 127.99609375, 127.99609375,
+      127.609375, -128, -127.81640625, -17.5703125, -128, -97.8828125, -128, 127.99609375, 127.99609375,
+      127.99609375, -128, -128, -128, -128, -97.8828125, -128, 127.99609375, 127.99609375,
+      -8.00390625, -128, -128, -126.984375, -128, -97.8828125, 127, 127.99609375, 127.99609375,
+      -127.6953125, -128, -128, -128, -48, -101.8828125, 127.99609375, 127.99609375, -128,
+      -128, -128, -11.62109375, -128, -97.8671875, -127.8828125, 127.99609375, 127.99609375, -128;
+  Vector<double> y = Vector<double>::Constant(9, -97.8828125);
+  y(0) = -128;
+  y(1) = -93.6875;
+  kp::TraceOptions o = with_storage(kp::Storage::dense);
+  o.fit_intercept = false;
+  o.standardize = false;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  EXPECT_GT(expect_kkt_within_own_estimate(path, x, y, 0.0), 0);
+}
+
 }  // namespace
 

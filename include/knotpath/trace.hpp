@@ -428,6 +428,13 @@ Path<typename Design::Scalar> trace_design(const Design& design,
       entered.clear();
       return false;
     };
+    // Every leaving coefficient is zero at this knot (each reached zero
+    // within the tie tolerance of g), so all are set to zero before any row
+    // is recorded; otherwise the first leave row would show the later ones
+    // at rounding level, possibly with the wrong sign (fuzz finding: -1e-19
+    // on a coefficient whose correlation was +lambda).
+    for (const auto& ev : events)
+      if (ev.leave) b(ev.column) = zero;
     bool halted = false;
     for (const auto& ev : events) {
       const auto ku = static_cast<std::size_t>(ev.column);
