@@ -53,7 +53,8 @@ void expect_finite_path(const kp::Path<double>& path) {
   }
 }
 
-const kp::Storage kStorages[] = {kp::Storage::automatic, kp::Storage::dense, kp::Storage::gram};
+const kp::Storage kStorages[] = {kp::Storage::automatic, kp::Storage::dense, kp::Storage::gram,
+                                 kp::Storage::view};
 
 kp::TraceOptions with_storage(kp::Storage s) {
   kp::TraceOptions o;
@@ -191,6 +192,30 @@ TEST(BadInputApi, ExtremeMagnitudesAreRefusedInEveryStorage) {
     }
     EXPECT_THROW(kp::trace<double>(p.x, Vector<double>(p.y * 1e300), o), kp::invalid_data);
     EXPECT_THROW(kp::trace<double>(p.x, Vector<double>(p.y * 1e-300), o), kp::invalid_data);
+  }
+  // Sparse designs apply the same rule (design/sparse.hpp, prepare_sparse).
+  {
+    Matrix<double> big = p.x;
+    big.col(2) *= 1e307;
+    try {
+      kp::trace_sparse<double>(Eigen::SparseMatrix<double>(big.sparseView()), p.y);
+      ADD_FAILURE() << "no exception for sparse values near 1e308";
+    } catch (const kp::invalid_data& e) {
+      EXPECT_NE(std::string(e.what()).find("predictor column 2 holds values as large as"), std::string::npos)
+          << e.what();
+    }
+    Matrix<double> tiny = p.x;
+    tiny.col(4) *= 1e-307;
+    try {
+      kp::trace_sparse<double>(Eigen::SparseMatrix<double>(tiny.sparseView()), p.y);
+      ADD_FAILURE() << "no exception for sparse values near 1e-308";
+    } catch (const kp::invalid_data& e) {
+      EXPECT_NE(std::string(e.what()).find("predictor column 4 holds no value larger"), std::string::npos)
+          << e.what();
+    }
+    const Eigen::SparseMatrix<double> sx = p.x.sparseView();
+    EXPECT_THROW(kp::trace_sparse<double>(sx, Vector<double>(p.y * 1e300)), kp::invalid_data);
+    EXPECT_THROW(kp::trace_sparse<double>(sx, Vector<double>(p.y * 1e-300)), kp::invalid_data);
   }
   // Statistics merged elsewhere that overflowed are refused by trace_statistics.
   Matrix<double> big = p.x;
@@ -708,5 +733,80 @@ TEST(FuzzRegression, CoefficientsLeavingAtOneKnotAreZeroInEveryRowOfIt) {
   EXPECT_GT(expect_kkt_within_own_estimate(path, x, y, 0.0), 0);
 }
 
-}  // namespace
+// Regression from fuzzing (the clean-clone CI run's 60 s step): a 3 x 1
+// design whose rows of weight 0 hold 5e54 and whose only weighted row holds
+// a subnormal response (9e-320). The magnitude check counted every row, so
+// the data passed, the fitted coefficient underflowed to 0 and the end knot
+// kept a correlation of 7e-265 against an allowance of 2e-277. The lower
+// bound now counts the rows of positive weight only (prepare.hpp,
+// check_magnitude): the response is refused in every storage.
+TEST(FuzzRegression, SubnormalResponseOnTheWeightedRowsIsRefused) {
+  Matrix<double> x(3, 1);
+  x << 5.2285141982483265e54, 5.2285141982483265e54, 5.228513787200991e54;
+  Vector<double> y(3), w(3);
+  y << 5.2285141982483265e54, 5.2285141982483265e54, 9.2701537129193089e-320;
+  w << 0, 0, 1.5;
+  kp::TraceOptions o;
+  o.variant = kp::Variant::least_angle;
+  o.fit_intercept = false;
+  o.standardize = false;
+  o.ridge = 3.984375;
+  auto expect_refused = [&](auto&& run) {
+    try {
+      run();
+      ADD_FAILURE() << "no exception";
+    } catch (const kp::invalid_data& e) {
+      EXPECT_NE(std::string(e.what()).find(
+                    "the response holds no value larger in magnitude than 9.27e-320 on the rows of positive weight"),
+                std::string::npos)
+          << e.what();
+    }
+  };
+  for (kp::Storage s : kStorages) {
+    SCOPED_TRACE(static_cast<int>(s));
+    o.storage = s;
+    expect_refused([&] { kp::trace<double>(x, y, o, w); });
+  }
+  o.storage = kp::Storage::automatic;
+  expect_refused([&] { kp::trace_sparse<double>(Eigen::SparseMatrix<double>(x.sparseView()), y, o, w); });
+}
 
+// Rows of weight 0 take no part in the weighted least-squares objective
+// (common practice), so appending rows of weight 0 with values far larger
+// than the others (inside the accepted 2^256) must leave the path as it is,
+// in every storage: they may neither set the scale of a column nor leak
+// into sums as 0 * overflow = NaN. (A guard of the magnitude rule's upper
+// bound, which still counts these rows; it passed before the fix above too.)
+TEST(BadInputApi, RowsOfWeightZeroTakeNoPartInEveryStorage) {
+  const auto p = kp::testing::ar1_problem(30, 4, 0.5, 21);
+  const Index n = p.x.rows(), extra = 3;
+  Matrix<double> x(n + extra, p.x.cols());
+  Vector<double> y(n + extra), w = Vector<double>::Ones(n + extra);
+  x.topRows(n) = p.x;
+  y.head(n) = p.y;
+  x.bottomRows(extra).setConstant(1e76);
+  x(n + 1, 2) = -9e76;
+  y.tail(extra).setConstant(-3e76);
+  w.tail(extra).setZero();
+  auto compare = [](const kp::Path<double>& got, const kp::Path<double>& want) {
+    expect_finite_path(got);
+    ASSERT_EQ(got.knots().size(), want.knots().size());
+    for (std::size_t k = 0; k < want.knots().size(); ++k) {
+      EXPECT_EQ(got.knots()[k].predictor, want.knots()[k].predictor) << "knot " << k;
+      EXPECT_NEAR(got.knots()[k].penalty, want.knots()[k].penalty, 1e-10 * want.lambda_max()) << "knot " << k;
+      const Vector<double> a = got.dense_coefficients(k), b = want.dense_coefficients(k);
+      EXPECT_LE((a - b).cwiseAbs().maxCoeff(), 1e-10 * (1.0 + b.cwiseAbs().maxCoeff())) << "knot " << k;
+      EXPECT_NEAR(got.knots()[k].intercept, want.knots()[k].intercept, 1e-10 * (1.0 + std::abs(want.knots()[k].intercept)));
+    }
+  };
+  for (kp::Storage s : kStorages) {
+    SCOPED_TRACE(static_cast<int>(s));
+    const kp::TraceOptions o = with_storage(s);
+    compare(kp::trace<double>(x, y, o, w), kp::trace<double>(p.x, p.y, o));
+  }
+  const kp::TraceOptions o;
+  compare(kp::trace_sparse<double>(Eigen::SparseMatrix<double>(x.sparseView()), y, o, w),
+          kp::trace_sparse<double>(Eigen::SparseMatrix<double>(p.x.sparseView()), p.y, o));
+}
+
+}  // namespace

@@ -14,6 +14,7 @@
 /// the intercept is ybar - sum_j m_j beta_j. Without an intercept m_j = 0 and
 /// ybar = 0.
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <limits>
@@ -66,15 +67,19 @@ bool is_finite_value(const Scalar& x) {
   }
 }
 
-/// Root of sum_i w_i v_i^2, scaled by the largest |v_i| so that squares of
-/// values near the top of the floating range do not overflow.
+/// Root of sum_i w_i v_i^2, scaled by the largest |v_i| of positive weight
+/// so that squares of values near the top of the floating range do not
+/// overflow; rows of weight 0 are skipped (their values, which may be far
+/// larger, would otherwise set the scale and underflow the rest).
 template <class Scalar, class Column, class Weights>
 Scalar weighted_norm(const Column& v, const Weights& w) {
   Scalar top(0);
-  for (Index i = 0; i < v.size(); ++i) top = std::max<Scalar>(top, abs_value<Scalar>(v(i)));
+  for (Index i = 0; i < v.size(); ++i)
+    if (w(i) > Scalar(0)) top = std::max<Scalar>(top, abs_value<Scalar>(v(i)));
   if (top == Scalar(0)) return Scalar(0);
   Scalar sum(0);
   for (Index i = 0; i < v.size(); ++i) {
+    if (!(w(i) > Scalar(0))) continue;
     Scalar t = v(i) / top;
     sum += w(i) * t * t;
   }
@@ -84,20 +89,28 @@ Scalar weighted_norm(const Column& v, const Weights& w) {
 }  // namespace detail
 
 namespace detail {
-/// Refuses data whose squares would leave the normal floating range. For a
-/// built-in floating type with largest binary exponent E (1024 for double),
-/// the largest |value| of every predictor column, of the response and of the
-/// weights must lie in [2^-E/4, 2^E/4] (about 1e-77 to 1e77 for double)
-/// unless it is 0: then squares, cross-products and their sums stay finite
-/// and normal in every storage (the Gram statistics form products directly),
-/// with 2^E/2 of headroom for the growth of the homotopy's intermediate
-/// quantities on ill-conditioned designs (a fuzzed design with a response
-/// near 1e132 and a wider bound overflowed the residual sum of squares).
-/// Outside it the trace would overflow to Inf/NaN or lose every digit to
-/// underflow; invalid_data says which column to rescale. Other scalar types (50-digit floats, rationals) have a
-/// far wider range than any double input and are not limited.
+/// Refuses one group of data (a predictor column, the response, the weights)
+/// whose squares would leave the normal floating range. `largest` is its
+/// largest magnitude over all rows, `largest_used` over the rows of positive
+/// weight. For a built-in floating type with largest binary exponent E (1024
+/// for double), `largest` must be at most 2^E/4 and a nonzero `largest_used`
+/// at least 2^-E/4 (about 1e77 and 1e-77 for double): then squares,
+/// cross-products and their sums stay finite and normal in every storage
+/// (the Gram statistics form products directly), with 2^E/2 of headroom for
+/// the growth of the homotopy's intermediate quantities on ill-conditioned
+/// designs (a fuzzed design with a response near 1e132 and a wider bound
+/// overflowed the residual sum of squares). The upper bound covers rows of
+/// weight 0 too, because the view and sparse designs carry them through
+/// their products (multiplied by a zero weight, which an overflow would turn
+/// into NaN); the lower bound counts only the rows that take part in the
+/// fit (a fuzzed design had 5e54 on its rows of weight 0 and a subnormal
+/// response on its only weighted row: counted over every row it passed, and
+/// the fit underflowed). Outside the range the trace would overflow to
+/// Inf/NaN or lose every digit; invalid_data names `what` to rescale. Other
+/// scalar types (50-digit floats, rationals) have a far wider range than any
+/// double input and are not limited.
 template <class Scalar>
-void check_magnitudes(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+void check_magnitude(const Scalar& largest, const Scalar& largest_used, const std::string& what) {
   if constexpr (std::is_floating_point_v<Scalar>) {
     const int bound_exponent = std::numeric_limits<Scalar>::max_exponent / 4;
     const Scalar high = std::ldexp(Scalar(1), bound_exponent), low = std::ldexp(Scalar(1), -bound_exponent);
@@ -106,21 +119,48 @@ void check_magnitudes(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Ve
       std::snprintf(text, sizeof text, "%.3g", static_cast<double>(v));
       return std::string(text);
     };
-    auto check = [&](Scalar top, const std::string& what) {
-      if (top > high)
-        throw invalid_data(what + " holds values as large as " + shown(top) +
-                           ": their squares would overflow double precision; divide it by a power "
-                           "of ten (largest accepted magnitude 2^" + std::to_string(bound_exponent) + ")");
-      if (top != Scalar(0) && top < low)
-        throw invalid_data(what + " holds no value larger in magnitude than " + shown(top) +
-                           ": their squares would underflow (lose every digit); multiply it by a "
-                           "power of ten (smallest accepted largest magnitude 2^-" +
-                           std::to_string(bound_exponent) + ")");
+    if (largest > high)
+      throw invalid_data(what + " holds values as large as " + shown(largest) +
+                         ": their squares would overflow double precision; divide it by a power "
+                         "of ten (largest accepted magnitude 2^" + std::to_string(bound_exponent) + ")");
+    if (largest_used != Scalar(0) && largest_used < low)
+      throw invalid_data(what + " holds no value larger in magnitude than " + shown(largest_used) +
+                         (largest_used < largest ? " on the rows of positive weight" : "") +
+                         ": their squares would underflow (lose every digit); multiply it by a "
+                         "power of ten (smallest accepted largest magnitude 2^-" +
+                         std::to_string(bound_exponent) + ")");
+  } else {
+    (void)largest;
+    (void)largest_used;
+    (void)what;
+  }
+}
+
+/// check_magnitude() for every predictor column, the response and the
+/// weights of dense data (`weights` empty: every row has weight 1).
+template <class Scalar>
+void check_magnitudes(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+  if constexpr (std::is_floating_point_v<Scalar>) {
+    const bool weighted = weights.size() != 0;
+    auto check = [&](const auto& v, const std::string& what) {
+      Scalar largest(0), largest_used(0);
+      for (Index i = 0; i < v.size(); ++i) {
+        const Scalar a = std::abs(v(i));
+        largest = std::max(largest, a);
+        if (!weighted || weights(i) > Scalar(0)) largest_used = std::max(largest_used, a);
+      }
+      check_magnitude(largest, largest_used, what);
     };
-    for (Index j = 0; j < x.cols(); ++j)
-      if (x.rows() > 0) check(x.col(j).cwiseAbs().maxCoeff(), "predictor column " + std::to_string(j));
-    if (y.size() > 0) check(y.cwiseAbs().maxCoeff(), "the response");
-    if (weights.size() > 0) check(weights.cwiseAbs().maxCoeff(), "the weight vector");
+    for (Index j = 0; j < x.cols(); ++j) check(x.col(j), "predictor column " + std::to_string(j));
+    check(y, std::string("the response"));
+    if (weighted) {
+      const Scalar top = weights.cwiseAbs().maxCoeff();
+      check_magnitude(top, top, std::string("the weight vector"));
+    }
+  } else {
+    (void)x;
+    (void)y;
+    (void)weights;
   }
 }
 

@@ -193,7 +193,8 @@ struct PreparedSparse {
 /// Floating scalar types only (the row scaling needs square roots). `x`
 /// must outlive the returned design; `weights` empty means all 1.
 /// O(n + p + nnz) time. Throws invalid_option (bad options) and invalid_data
-/// (sizes disagree, non-finite values, negative weights, no positive weight).
+/// (sizes disagree, non-finite values, negative weights, no positive weight,
+/// magnitudes outside the range of detail::check_magnitude()).
 template <class Scalar>
 PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vector<Scalar>& y,
                                       const TraceOptions& options,
@@ -205,13 +206,31 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
   if (weights.size() != 0 && weights.size() != n) throw invalid_data("weights length differs from rows");
   Vector<Scalar> w = weights.size() ? weights : Vector<Scalar>(Vector<Scalar>::Ones(n));
   Index used = 0;
+  // Largest magnitudes over all rows and over rows of positive weight
+  // (detail::check_magnitude, the rule every storage applies).
+  Scalar top_y(0), top_y_used(0);
   for (Index i = 0; i < n; ++i) {
     if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
       throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
     if (!detail::is_finite_value(y(i))) throw invalid_data("the response is not finite at row " + std::to_string(i));
     used += w(i) > Scalar(0);
+    top_y = std::max<Scalar>(top_y, detail::abs_value<Scalar>(y(i)));
+    if (w(i) > Scalar(0)) top_y_used = std::max<Scalar>(top_y_used, detail::abs_value<Scalar>(y(i)));
   }
   if (used == 0) throw invalid_data("no observation has a positive weight");
+  for (Index j = 0; j < p; ++j) {
+    Scalar top(0), top_used(0);
+    for (typename SparseMatrix<Scalar>::InnerIterator it(x, j); it; ++it) {
+      if (!detail::is_finite_value(it.value()))
+        throw invalid_data("the design is not finite at row " + std::to_string(it.row()) + ", column " +
+                           std::to_string(j));
+      top = std::max<Scalar>(top, detail::abs_value<Scalar>(it.value()));
+      if (w(it.row()) > Scalar(0)) top_used = std::max<Scalar>(top_used, detail::abs_value<Scalar>(it.value()));
+    }
+    detail::check_magnitude(top, top_used, "predictor column " + std::to_string(j));
+  }
+  detail::check_magnitude(top_y, top_y_used, std::string("the response"));
+  if (weights.size() != 0) detail::check_magnitude(Scalar(w.maxCoeff()), Scalar(w.maxCoeff()), std::string("the weight vector"));
   Preparation<Scalar> prep;
   prep.observations = n;
   prep.used_observations = used;
@@ -235,9 +254,6 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
     Scalar first_value(0);
     bool have_first = false;
     for (typename SparseMatrix<Scalar>::InnerIterator it(x, j); it; ++it) {
-      if (!detail::is_finite_value(it.value()))
-        throw invalid_data("the design is not finite at row " + std::to_string(it.row()) + ", column " +
-                           std::to_string(j));
       if (w(it.row()) == Scalar(0)) continue;
       sum += w(it.row()) * it.value();
       stored_weight += w(it.row());
@@ -263,6 +279,7 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
       // sum_i w_i (x_i - m)^2 over stored entries plus the implicit zeros.
       Scalar ss(0);
       for (typename SparseMatrix<Scalar>::InnerIterator it(x, j); it; ++it) {
+        if (w(it.row()) == Scalar(0)) continue;
         const Scalar dev = it.value() - mean;
         ss += w(it.row()) * dev * dev;
       }
