@@ -443,7 +443,6 @@ Path<typename Design::Scalar> trace_design(const Design& design,
         factor.remove(static_cast<Index>(pos - active.begin()));
         active.erase(pos);
         is_active[ku] = 0;
-        b(ev.column) = zero;
         just_left[ku] = ev.sign;
         std::fill(blocked.begin(), blocked.end(), 0);  // the span shrank: retry held-out columns
         record(EventKind::leave, lambda, ev.column, ev.sign);

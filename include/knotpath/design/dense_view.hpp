@@ -20,7 +20,6 @@
 #include <algorithm>
 #include <cmath>
 #include <span>
-#include <type_traits>
 #include <vector>
 
 #include "../detail/centring.hpp"

@@ -19,7 +19,6 @@
 #include <algorithm>
 #include <cmath>
 #include <span>
-#include <type_traits>
 #include <string>
 #include <utility>
 #include <vector>
