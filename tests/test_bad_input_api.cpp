@@ -432,6 +432,43 @@ TEST(FuzzRegression, ViewDesignReportsItsCentringAmplification) {
   }
 }
 
+// Options of the fuzzed designs below: dense copy, no intercept, no scaling
+// (the fuzz target draws them; the objective is then the plain one on X).
+kp::TraceOptions unscaled_dense() {
+  kp::TraceOptions o = with_storage(kp::Storage::dense);
+  o.fit_intercept = false;
+  o.standardize = false;
+  return o;
+}
+
+// Lasso KKT on unscaled columns (c = X^T (y - X b) - ridge b equals
+// lambda sign(b_j) where b_j != 0 and is at most lambda in size elsewhere;
+// Efron et al. 2004, Ann. Statist. 32(2), section 3; section from memory),
+// within a slack of `fixed` lambda_max. With `own_estimate` the knots the
+// path itself flags suspect are skipped and each knot's slack grows by its
+// own estimate (Knot::estimated_error, relative to lambda_max) times the
+// growth factor 1e3 the fuzz oracle uses (Higham, Accuracy and Stability of
+// Numerical Algorithms, 2nd ed., ch. 10). Returns the number of knots checked.
+int expect_lasso_kkt(const kp::Path<double>& path, const Matrix<double>& x, const Vector<double>& y, double ridge,
+                     double fixed, bool own_estimate) {
+  int checked = 0;
+  for (std::size_t k = 0; k < path.knots().size(); ++k) {
+    const auto& knot = path.knots()[k];
+    if (own_estimate && knot.suspect) continue;
+    ++checked;
+    const Vector<double> b = path.dense_coefficients(k);
+    const Vector<double> c = x.transpose() * (y - x * b) - ridge * b;
+    const double slack = (fixed + (own_estimate ? 1e3 * knot.estimated_error : 0.0)) * path.lambda_max();
+    for (Index j = 0; j < x.cols(); ++j) {
+      if (b(j) != 0)
+        EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
+      else
+        EXPECT_LE(std::abs(c(j)), knot.penalty + slack) << "knot " << k << " column " << j;
+    }
+  }
+  return checked;
+}
+
 // Regression from fuzzing (2026-12-02): no intercept, no scaling, ridge
 // 1.75, columns 0 and 2 nearly equal (2.7e11 in all but one row each) enter
 // at one tied knot; predictor 2 stays at exactly 0 while 0 moves, and after
@@ -458,29 +495,13 @@ TEST(FuzzRegression, ActiveCoefficientStillAtZeroLeavesWhenTheDirectionOpposesIt
   Vector<double> y(10);
   y << 14811136, 14811136, 14811136, 14811136, 14811136, 14811136, 14811136, -2.9569491744041443e-08,
       -2.9802322387695312e-08, -2.9802322387695312e-08;
-  kp::TraceOptions o = with_storage(kp::Storage::dense);
-  o.fit_intercept = false;
-  o.standardize = false;
+  kp::TraceOptions o = unscaled_dense();
   o.ridge = 1.75;
   o.max_active = 3;
   const auto path = kp::trace<double>(x, y, o);
   expect_finite_path(path);
-  // Lasso KKT with the ridge (DESIGN objective, unscaled columns): at every
-  // knot c = X^T (y - X b) - ridge b equals lambda sign(b_j) where b_j != 0
-  // and is at most lambda in size elsewhere (the lasso optimality conditions;
-  // Efron et al. 2004, Ann. Statist. 32(2), section 3; section from memory).
-  for (std::size_t k = 0; k < path.knots().size(); ++k) {
-    const auto& knot = path.knots()[k];
-    const Vector<double> b = path.dense_coefficients(k);
-    const Vector<double> c = x.transpose() * (y - x * b) - o.ridge * b;
-    const double slack = 1e-9 * path.lambda_max();
-    for (Index j = 0; j < 10; ++j) {
-      if (b(j) != 0)
-        EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
-      else
-        EXPECT_LE(std::abs(c(j)), knot.penalty + slack) << "knot " << k << " column " << j;
-    }
-  }
+  // KKT with the ridge at every knot, suspect or not, to 1e-9 lambda_max.
+  expect_lasso_kkt(path, x, y, o.ridge, 1e-9, false);
 }
 
 // Regression from fuzzing (2026-12-02): four columns tie at lambda_max
@@ -508,25 +529,10 @@ TEST(FuzzRegression, ColumnHeldOutBehindAKeptOutEntryIsRetried) {
   x(11, 8) = -127.99609375;
   Vector<double> y = Vector<double>::Constant(12, -128);
   y(11) = 0;
-  kp::TraceOptions o = with_storage(kp::Storage::dense);
-  o.fit_intercept = false;
-  o.standardize = false;
-  const auto path = kp::trace<double>(x, y, o);
+  const auto path = kp::trace<double>(x, y, unscaled_dense());
   expect_finite_path(path);
-  // Lasso KKT at every knot (unscaled columns; Efron et al. 2004, Ann.
-  // Statist. 32(2), section 3; section from memory).
-  for (std::size_t k = 0; k < path.knots().size(); ++k) {
-    const auto& knot = path.knots()[k];
-    const Vector<double> b = path.dense_coefficients(k);
-    const Vector<double> c = x.transpose() * (y - x * b);
-    const double slack = 1e-9 * path.lambda_max();
-    for (Index j = 0; j < 9; ++j) {
-      if (b(j) != 0)
-        EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
-      else
-        EXPECT_LE(std::abs(c(j)), knot.penalty + slack) << "knot " << k << " column " << j;
-    }
-  }
+  // KKT at every knot, suspect or not, to 1e-9 lambda_max.
+  expect_lasso_kkt(path, x, y, 0.0, 1e-9, false);
   // y = -128 * 1 + 128 e_12 lies in the span of the tied columns: the path
   // ends with a perfect fit (common practice: least squares on a response
   // in the column span leaves no residual).
@@ -565,33 +571,6 @@ TEST(FuzzRegression, ResponseNear1e132IsRefused) {
   expect_finite_path(kp::trace<double>(xs, Vector<double>(y * 1e-130), o));
 }
 
-// Lasso KKT (c = X^T (y - X b) - ridge b equals lambda sign(b_j) where
-// b_j != 0 and is at most lambda in size elsewhere; Efron et al. 2004, Ann.
-// Statist. 32(2), section 3; section from memory) at every knot the path
-// itself does not flag suspect, within a slack of 1e-10 lambda_max plus the
-// knot's own estimate (Knot::estimated_error, relative to lambda_max) with the
-// growth factor 1e3 the fuzz oracle uses (Higham, Accuracy and Stability of
-// Numerical Algorithms, 2nd ed., ch. 10). Returns the number of knots checked.
-int expect_kkt_within_own_estimate(const kp::Path<double>& path, const Matrix<double>& x, const Vector<double>& y,
-                                   double ridge) {
-  int checked = 0;
-  for (std::size_t k = 0; k < path.knots().size(); ++k) {
-    const auto& knot = path.knots()[k];
-    if (knot.suspect) continue;
-    ++checked;
-    const Vector<double> b = path.dense_coefficients(k);
-    const Vector<double> c = x.transpose() * (y - x * b) - ridge * b;
-    const double slack = (1e-10 + 1e3 * knot.estimated_error) * path.lambda_max();
-    for (Index j = 0; j < x.cols(); ++j) {
-      if (b(j) != 0)
-        EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
-      else
-        EXPECT_LE(std::abs(c(j)), knot.penalty + slack) << "knot " << k << " column " << j;
-    }
-  }
-  return checked;
-}
-
 // Regression from fuzzing (2026-12-02, third run): columns 2, 3 and 4 are
 // the same constant and nearly collinear with column 6 (no intercept, no
 // scaling). Column 2 entered with a condition estimate near 1e18 (knots
@@ -615,10 +594,7 @@ TEST(FuzzRegression, EstimatedErrorIsCarriedPastAnIllConditionedStretch) {
       -128, 127.99609375, 127.99609375, 127.99609375, 127.99609375, -128, -127.984375, 46, -97.8828125;
   Vector<double> y = Vector<double>::Constant(12, -97.8828125);
   y(3) = -101.8828125;
-  kp::TraceOptions o = with_storage(kp::Storage::dense);
-  o.fit_intercept = false;
-  o.standardize = false;
-  const auto path = kp::trace<double>(x, y, o);
+  const auto path = kp::trace<double>(x, y, unscaled_dense());
   expect_finite_path(path);
   EXPECT_TRUE(path.suspect());
   // Every knot inherits its state from the earlier ones (common practice:
@@ -626,7 +602,7 @@ TEST(FuzzRegression, EstimatedErrorIsCarriedPastAnIllConditionedStretch) {
   // never falls along the path and no knot after a suspect one is clean.
   for (std::size_t k = 1; k < path.knots().size(); ++k)
     EXPECT_GE(path.knots()[k].estimated_error, path.knots()[k - 1].estimated_error) << "knot " << k;
-  EXPECT_GT(expect_kkt_within_own_estimate(path, x, y, 0.0), 0);
+  EXPECT_GT(expect_lasso_kkt(path, x, y, 0.0, 1e-10, true), 0);
 }
 
 // Regression from fuzzing (2026-12-02, third run): columns 1 and 7 share
@@ -660,14 +636,12 @@ TEST(FuzzRegression, TieDecisionOnAnIllConditionedFactorCountsInTheEstimate) {
   Vector<double> y = Vector<double>::Constant(10, -2.9802322387695312e-08);
   y(0) = 14811136;
   y(1) = 2.6309862732887268e-08;
-  kp::TraceOptions o = with_storage(kp::Storage::dense);
-  o.fit_intercept = false;
-  o.standardize = false;
+  kp::TraceOptions o = unscaled_dense();
   o.ridge = 1.75;
   o.max_active = 3;
   const auto path = kp::trace<double>(x, y, o);
   expect_finite_path(path);
-  expect_kkt_within_own_estimate(path, x, y, o.ridge);
+  expect_lasso_kkt(path, x, y, o.ridge, 1e-10, true);
 }
 
 // Regression from fuzzing (2026-12-02, ten-minute run): seven columns tie
@@ -694,12 +668,9 @@ TEST(FuzzRegression, ActiveColumnsStuckAtZeroLeaveOneAtATime) {
       -274877906944, big, 2.375, 0.00090789794921875, 2.9569491744041443e-08, big, big, big, big, 32512;
   Vector<double> y = Vector<double>::Constant(10, 2.384185791015625e-06);
   y.head(3).setConstant(big);
-  kp::TraceOptions o = with_storage(kp::Storage::dense);
-  o.fit_intercept = false;
-  o.standardize = false;
-  const auto path = kp::trace<double>(x, y, o);
+  const auto path = kp::trace<double>(x, y, unscaled_dense());
   expect_finite_path(path);
-  EXPECT_GT(expect_kkt_within_own_estimate(path, x, y, 0.0), 0);
+  EXPECT_GT(expect_lasso_kkt(path, x, y, 0.0, 1e-10, true), 0);
   int leaves_at_start = 0;
   for (const auto& knot : path.knots())
     if (knot.event == kp::EventKind::leave && knot.penalty == path.lambda_max()) ++leaves_at_start;
@@ -725,12 +696,9 @@ TEST(FuzzRegression, CoefficientsLeavingAtOneKnotAreZeroInEveryRowOfIt) {
   Vector<double> y = Vector<double>::Constant(9, -97.8828125);
   y(0) = -128;
   y(1) = -93.6875;
-  kp::TraceOptions o = with_storage(kp::Storage::dense);
-  o.fit_intercept = false;
-  o.standardize = false;
-  const auto path = kp::trace<double>(x, y, o);
+  const auto path = kp::trace<double>(x, y, unscaled_dense());
   expect_finite_path(path);
-  EXPECT_GT(expect_kkt_within_own_estimate(path, x, y, 0.0), 0);
+  EXPECT_GT(expect_lasso_kkt(path, x, y, 0.0, 1e-10, true), 0);
 }
 
 // Regression from fuzzing (the clean-clone CI run's 60 s step): a 3 x 1
