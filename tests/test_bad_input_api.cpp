@@ -53,6 +53,17 @@ void expect_finite_path(const kp::Path<double>& path) {
   }
 }
 
+// Runs `run` and expects invalid_data whose message contains `fragment`.
+template <class Run>
+void expect_invalid_data(Run&& run, const std::string& fragment) {
+  try {
+    run();
+    ADD_FAILURE() << "no exception; expected one saying: " << fragment;
+  } catch (const kp::invalid_data& e) {
+    EXPECT_NE(std::string(e.what()).find(fragment), std::string::npos) << e.what();
+  }
+}
+
 const kp::Storage kStorages[] = {kp::Storage::automatic, kp::Storage::dense, kp::Storage::gram,
                                  kp::Storage::view};
 
@@ -169,54 +180,26 @@ TEST(BadInputApi, OptionsAndQueriesThrowTheirTypes) {
 
 TEST(BadInputApi, ExtremeMagnitudesAreRefusedInEveryStorage) {
   const auto p = kp::testing::ar1_problem(40, 5, 0.4, 9);
+  // `trace` runs one storage on (x, y); each extreme case must be refused.
+  auto expect_refusals = [&p](auto&& trace) {
+    Matrix<double> big = p.x;
+    big.col(2) *= 1e307;  // |x| up to a few 1e307: squares overflow
+    expect_invalid_data([&] { trace(big, p.y); }, "predictor column 2 holds values as large as");
+    Matrix<double> tiny = p.x;
+    tiny.col(4) *= 1e-307;  // squares underflow to 0
+    expect_invalid_data([&] { trace(tiny, p.y); }, "predictor column 4 holds no value larger");
+    expect_invalid_data([&] { trace(p.x, Vector<double>(p.y * 1e300)); }, "the response holds values as large as");
+    expect_invalid_data([&] { trace(p.x, Vector<double>(p.y * 1e-300)); }, "the response holds no value larger");
+  };
   for (kp::Storage s : kStorages) {
     SCOPED_TRACE(static_cast<int>(s));
     const kp::TraceOptions o = with_storage(s);
-    Matrix<double> big = p.x;
-    big.col(2) *= 1e307;  // |x| up to a few 1e307: squares overflow
-    try {
-      kp::trace<double>(big, p.y, o);
-      ADD_FAILURE() << "no exception for values near 1e308";
-    } catch (const kp::invalid_data& e) {
-      EXPECT_NE(std::string(e.what()).find("predictor column 2 holds values as large as"), std::string::npos)
-          << e.what();
-    }
-    Matrix<double> tiny = p.x;
-    tiny.col(4) *= 1e-307;  // squares underflow to 0
-    try {
-      kp::trace<double>(tiny, p.y, o);
-      ADD_FAILURE() << "no exception for values near 1e-308";
-    } catch (const kp::invalid_data& e) {
-      EXPECT_NE(std::string(e.what()).find("predictor column 4 holds no value larger"), std::string::npos)
-          << e.what();
-    }
-    EXPECT_THROW(kp::trace<double>(p.x, Vector<double>(p.y * 1e300), o), kp::invalid_data);
-    EXPECT_THROW(kp::trace<double>(p.x, Vector<double>(p.y * 1e-300), o), kp::invalid_data);
+    expect_refusals([&](const Matrix<double>& x, const Vector<double>& y) { kp::trace<double>(x, y, o); });
   }
   // Sparse designs apply the same rule (design/sparse.hpp, prepare_sparse).
-  {
-    Matrix<double> big = p.x;
-    big.col(2) *= 1e307;
-    try {
-      kp::trace_sparse<double>(Eigen::SparseMatrix<double>(big.sparseView()), p.y);
-      ADD_FAILURE() << "no exception for sparse values near 1e308";
-    } catch (const kp::invalid_data& e) {
-      EXPECT_NE(std::string(e.what()).find("predictor column 2 holds values as large as"), std::string::npos)
-          << e.what();
-    }
-    Matrix<double> tiny = p.x;
-    tiny.col(4) *= 1e-307;
-    try {
-      kp::trace_sparse<double>(Eigen::SparseMatrix<double>(tiny.sparseView()), p.y);
-      ADD_FAILURE() << "no exception for sparse values near 1e-308";
-    } catch (const kp::invalid_data& e) {
-      EXPECT_NE(std::string(e.what()).find("predictor column 4 holds no value larger"), std::string::npos)
-          << e.what();
-    }
-    const Eigen::SparseMatrix<double> sx = p.x.sparseView();
-    EXPECT_THROW(kp::trace_sparse<double>(sx, Vector<double>(p.y * 1e300)), kp::invalid_data);
-    EXPECT_THROW(kp::trace_sparse<double>(sx, Vector<double>(p.y * 1e-300)), kp::invalid_data);
-  }
+  expect_refusals([](const Matrix<double>& x, const Vector<double>& y) {
+    kp::trace_sparse<double>(Eigen::SparseMatrix<double>(x.sparseView()), y);
+  });
   // Statistics merged elsewhere that overflowed are refused by trace_statistics.
   Matrix<double> big = p.x;
   big.col(1) *= 1e200;
@@ -556,13 +539,7 @@ TEST(FuzzRegression, ResponseNear1e132IsRefused) {
   o.standardize = false;
   for (kp::Storage s : kStorages) {
     o.storage = s;
-    try {
-      kp::trace<double>(x, y, o);
-      ADD_FAILURE() << "no exception";
-    } catch (const kp::invalid_data& e) {
-      EXPECT_NE(std::string(e.what()).find("the response holds values as large as 1.2e+132"), std::string::npos)
-          << e.what();
-    }
+    expect_invalid_data([&] { kp::trace<double>(x, y, o); }, "the response holds values as large as 1.2e+132");
   }
   // The same shape scaled into the accepted range gives a finite path.
   Matrix<double> xs = x;
@@ -719,24 +696,16 @@ TEST(FuzzRegression, SubnormalResponseOnTheWeightedRowsIsRefused) {
   o.fit_intercept = false;
   o.standardize = false;
   o.ridge = 3.984375;
-  auto expect_refused = [&](auto&& run) {
-    try {
-      run();
-      ADD_FAILURE() << "no exception";
-    } catch (const kp::invalid_data& e) {
-      EXPECT_NE(std::string(e.what()).find(
-                    "the response holds no value larger in magnitude than 9.27e-320 on the rows of positive weight"),
-                std::string::npos)
-          << e.what();
-    }
-  };
+  const std::string refusal =
+      "the response holds no value larger in magnitude than 9.27e-320 on the rows of positive weight";
   for (kp::Storage s : kStorages) {
     SCOPED_TRACE(static_cast<int>(s));
     o.storage = s;
-    expect_refused([&] { kp::trace<double>(x, y, o, w); });
+    expect_invalid_data([&] { kp::trace<double>(x, y, o, w); }, refusal);
   }
   o.storage = kp::Storage::automatic;
-  expect_refused([&] { kp::trace_sparse<double>(Eigen::SparseMatrix<double>(x.sparseView()), y, o, w); });
+  expect_invalid_data([&] { kp::trace_sparse<double>(Eigen::SparseMatrix<double>(x.sparseView()), y, o, w); },
+                      refusal);
 }
 
 // Rows of weight 0 take no part in the weighted least-squares objective

@@ -110,7 +110,8 @@ namespace detail {
 /// scalar types (50-digit floats, rationals) have a far wider range than any
 /// double input and are not limited.
 template <class Scalar>
-void check_magnitude(const Scalar& largest, const Scalar& largest_used, const std::string& what) {
+void check_magnitude([[maybe_unused]] const Scalar& largest, [[maybe_unused]] const Scalar& largest_used,
+                     [[maybe_unused]] const std::string& what) {
   if constexpr (std::is_floating_point_v<Scalar>) {
     const int bound_exponent = std::numeric_limits<Scalar>::max_exponent / 4;
     const Scalar high = std::ldexp(Scalar(1), bound_exponent), low = std::ldexp(Scalar(1), -bound_exponent);
@@ -129,17 +130,14 @@ void check_magnitude(const Scalar& largest, const Scalar& largest_used, const st
                          ": their squares would underflow (lose every digit); multiply it by a "
                          "power of ten (smallest accepted largest magnitude 2^-" +
                          std::to_string(bound_exponent) + ")");
-  } else {
-    (void)largest;
-    (void)largest_used;
-    (void)what;
   }
 }
 
 /// check_magnitude() for every predictor column, the response and the
 /// weights of dense data (`weights` empty: every row has weight 1).
 template <class Scalar>
-void check_magnitudes(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+void check_magnitudes([[maybe_unused]] const Matrix<Scalar>& x, [[maybe_unused]] const Vector<Scalar>& y,
+                      [[maybe_unused]] const Vector<Scalar>& weights) {
   if constexpr (std::is_floating_point_v<Scalar>) {
     const bool weighted = weights.size() != 0;
     auto check = [&](const auto& v, const std::string& what) {
@@ -157,10 +155,6 @@ void check_magnitudes(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Ve
       const Scalar top = weights.cwiseAbs().maxCoeff();
       check_magnitude(top, top, std::string("the weight vector"));
     }
-  } else {
-    (void)x;
-    (void)y;
-    (void)weights;
   }
 }
 
