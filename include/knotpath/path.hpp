@@ -88,8 +88,9 @@ struct Knot {
   std::vector<std::pair<Index, Scalar>> coefficients;  ///< nonzero beta_j, ascending j, original scale
   double condition_estimate = 1;  ///< factor health after the event (see FactorHealth)
   /// Estimated relative error: the largest of condition_estimate * unit
-  /// roundoff, the correlation drift / lambda_max, the design's centring
-  /// amplification * unit roundoff, the condition of any factor that decided
+  /// roundoff, the correlation drift / lambda_max, the centring
+  /// amplification (Preparation::centring_amplification) * unit roundoff,
+  /// the condition of any factor that decided
   /// which tied entries stay out * unit roundoff, and the previous knot's
   /// estimate (carried forward: each knot inherits the state of the ones
   /// before it).

@@ -24,6 +24,7 @@
 #include <vector>
 
 #include "design/dense.hpp"
+#include "detail/centring.hpp"
 #include "detail/scalar.hpp"
 #include "errors.hpp"
 #include "options.hpp"
@@ -53,6 +54,11 @@ struct Preparation {
   std::vector<double> penalty_factors;      ///< per prepared column f
   std::vector<SignConstraint> constraints;  ///< per prepared column
   std::vector<ExcludedPredictor> excluded;  ///< predictors left out up front
+  /// Digits the centring can cost: max over the traced columns of
+  /// |m_j| sqrt(W) / ||sqrt(w) o (x_j - m_j)|| (detail/centring.hpp); 1
+  /// without an intercept and for exact scalar types. The tracer multiplies
+  /// it by the unit roundoff in every knot's estimated error.
+  double centring_amplification = 1;
 };
 
 namespace detail {
@@ -198,10 +204,16 @@ inline const char* exclusion_reason(bool all_zero, bool constant, const TraceOpt
 inline constexpr const char* unscalable_column = "column scale is zero or not representable";
 
 /// Records column j as traced: its mean and scale, penalty factor and sign
-/// constraint.
+/// constraint, and folds its centring amplification into the preparation's.
+/// `spread` is ||sqrt(w) o (x_j - m_j)|| computed in two passes (the scale
+/// when standardizing; 0 when not computed, as for exact scalar types);
+/// prep.weight_sum must be set.
 template <class Scalar>
 void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j, const Scalar& mean,
-                 const Scalar& scale) {
+                 const Scalar& scale, const Scalar& spread) {
+  if (options.fit_intercept)
+    prep.centring_amplification =
+        std::max(prep.centring_amplification, centring_amplification(mean, spread, prep.weight_sum));
   prep.means(j) = mean;
   prep.scales(j) = scale;
   prep.columns.push_back(j);
@@ -335,16 +347,17 @@ PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar
     Scalar mean(0);
     if (options.fit_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
     for (Index r = 0; r < m; ++r) column(r) = x(rows[r], j) - mean;
-    Scalar scale(1);
+    Scalar scale(1), spread(0);
+    if (options.standardize || !detail::is_exact_v<Scalar>) spread = detail::weighted_norm<Scalar>(column, wk);
     if (options.standardize) {
-      scale = detail::weighted_norm<Scalar>(column, wk);
+      scale = spread;
       if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
         prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
     }
     for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / scale;
-    detail::keep_column(prep, options, j, mean, scale);
+    detail::keep_column(prep, options, j, mean, scale, spread);
     ++kept;
   }
   z.conservativeResize(m, kept);

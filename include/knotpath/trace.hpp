@@ -119,10 +119,12 @@ Path<typename Design::Scalar> trace_design(const Design& design,
   const double eps = detail::to_double(detail::epsilon<Scalar>());
   double drift = 0;  // largest |c_j - lambda f_j s_j| on A before the exact reset, absolute
   double lambda_scale = 0;  // lambda_max (for relative figures)
-  double centring_amplification = 1;
   double carried_error = 0;  // largest estimated error of the knots recorded so far
-  if constexpr (requires { design.centring_amplification(); })
-    centring_amplification = design.centring_amplification();
+  // Centring a column whose mean is many times its spread costs that factor
+  // in digits in every storage (detail/centring.hpp; recorded by the
+  // preparation; fuzz findings: a view design, then a dense copy whose
+  // column varied in its last bits only).
+  const double centring_amplification = prep.centring_amplification;
 
   auto try_add = [&](Index j, const Scalar& lambda, Index step) -> bool {
     auto cross = cross_buf.head(static_cast<Index>(active.size()));
@@ -193,8 +195,8 @@ Path<typename Design::Scalar> trace_design(const Design& design,
     // unit roundoff (error of the direction), or the measured drift of the
     // updated correlations of the active set, whichever is larger (and see
     // the two further terms below and in flush_entries()).
-    // Designs that centre implicitly (view, sparse) add their centring
-    // amplification (max |m_j| / spread_j): their products lose that factor.
+    // Under an intercept the centring amplification (max |m_j| sqrt(W) /
+    // spread_j, above) joins it: the prepared columns carry that error.
     // The estimate is carried forward: a knot inherits the state (b, c) of
     // the knots before it, so an error made on an ill-conditioned stretch
     // stays in the path after the factor recovers (fuzz finding: a nearly

@@ -13,16 +13,18 @@
 /// columns, so 1^T v' is at rounding level and X^T v' carries a rounding
 /// error of order eps |m_j| ||v'||_1 against a true value of order
 /// s_j ||v'||: columns whose mean is many times their spread lose that factor
-/// in the correlation updates; each knot's estimated error includes that
-/// factor (centring_amplification()) and the measured drift. Use the
-/// copying dense design (Storage::dense) or Gram mode for such data.
+/// in the correlation updates. Every storage loses it once when centring
+/// (the copy and Gram mode subtract the means explicitly), so each knot's
+/// estimated error includes it (Preparation::centring_amplification, applied by
+/// the tracer); here the products lose it again at every knot, which the
+/// measured drift shows. The copying dense design (Storage::dense) or Gram
+/// mode is the better choice for such data.
 
 #include <algorithm>
 #include <cmath>
 #include <span>
 #include <vector>
 
-#include "../detail/centring.hpp"
 #include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
 #include "../errors.hpp"
@@ -68,13 +70,7 @@ class DenseViewDesign {
     full_.resize(x.cols());
     norms_.resize(cols());
     for (Index k = 0; k < cols(); ++k) norms_(k) = centred_cross(k, k);
-    amplification_ = detail::centring_amplification(means_, scales_, norms_, Scalar(sqrt_w_.squaredNorm()));
   }
-
-  /// max_k |m_k| sqrt(W) / ||sqrt(w) o (x_k - m_k)||: the factor by which
-  /// the implicit centring can magnify rounding in the products (see the
-  /// file comment); the tracer adds it to each knot's estimated error.
-  double centring_amplification() const noexcept { return amplification_; }
 
   /// Threads for the one X^T v per knot (1 by default; 0: all hardware
   /// threads). Fixed column blocks: the result does not depend on it.
@@ -153,7 +149,6 @@ class DenseViewDesign {
   Vector<Scalar> norms_;          // z_k^T z_k
   bool weighted_ = false;         // any weight differs from 1
   Index rows_used_ = 0;
-  double amplification_ = 1;      // see centring_amplification()
   std::size_t threads_ = 1;       // threads for X^T v'
   mutable Vector<Scalar> u_;      // n-vector work space
   mutable Vector<Scalar> full_;   // X^T v' for all user columns
@@ -224,15 +219,16 @@ PreparedView<Scalar> prepare_view(const Matrix<Scalar>& x, const Vector<Scalar>&
       continue;
     }
     const Scalar mean = options.fit_intercept ? weighted_mean(col) : Scalar(0);
+    const Scalar spread = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
     Scalar scale(1);
     if (options.standardize) {
-      scale = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
+      scale = spread;
       if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
         prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
     }
-    detail::keep_column(prep, options, j, mean, scale);
+    detail::keep_column(prep, options, j, mean, scale, spread);
   }
   auto [m, s] = detail::traced_means_and_scales(prep);
   DenseViewDesign<Scalar> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc),

@@ -318,9 +318,11 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
       prep.excluded.push_back({j, reason});
       continue;
     }
-    Scalar scale(1);
+    const Scalar m2 = moment(j, j);
+    Scalar scale(1), spread(0);
+    if constexpr (!detail::is_exact_v<Scalar>)
+      if (m2 > Scalar(0)) spread = detail::square_root<Scalar>(m2);
     if (options.standardize) {
-      const Scalar m2 = moment(j, j);
       if (!detail::is_finite_value(m2))
         throw invalid_data("predictor column " + std::to_string(j) +
                            ": its sum of squares is not finite in the sufficient statistics "
@@ -329,9 +331,9 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
         prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
-      scale = detail::square_root<Scalar>(m2);
+      scale = spread;
     }
-    detail::keep_column(prep, options, j, options.fit_intercept ? stats.means(j) : Scalar(0), scale);
+    detail::keep_column(prep, options, j, options.fit_intercept ? stats.means(j) : Scalar(0), scale, spread);
   }
   const Index q = static_cast<Index>(prep.columns.size());
   Matrix<Scalar> g(q, q);

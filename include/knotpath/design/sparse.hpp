@@ -23,7 +23,6 @@
 #include <utility>
 #include <vector>
 
-#include "../detail/centring.hpp"
 #include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
 #include "../errors.hpp"
@@ -70,13 +69,7 @@ class SparseDesign {
     scratch_.resize(x.rows());
     norms_.resize(static_cast<Index>(columns_.size()));
     for (Index k = 0; k < norms_.size(); ++k) norms_(k) = raw_cross(k, k);
-    amplification_ = detail::centring_amplification(means_, scales_, norms_, weight_sum_);
   }
-
-  /// max_k |m_k| sqrt(W) / ||sqrt(w) o (x_k - m_k)||: the factor by which
-  /// the implicit centring can magnify rounding (see the file comment); the
-  /// tracer adds it to each knot's estimated error.
-  double centring_amplification() const noexcept { return amplification_; }
 
   /// Threads for the one X^T v per knot (1 by default; 0: all hardware
   /// threads). Each column's sum is formed in the same order on any thread:
@@ -175,7 +168,6 @@ class SparseDesign {
   bool weighted_ = false;           // any weight differs from 1
   Scalar weight_sum_{0};
   Index rows_used_ = 0;
-  double amplification_ = 1;        // see centring_amplification()
   std::size_t threads_ = 1;         // threads for X^T v
   mutable Vector<Scalar> scratch_;  // u = Z_A d, reused at every knot
 };
@@ -273,23 +265,24 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
       continue;
     }
     const Scalar mean = options.fit_intercept ? Scalar(sum / wsum) : Scalar(0);
+    // sum_i w_i (x_i - m)^2 over stored entries plus the implicit zeros.
+    Scalar ss(0);
+    for (typename SparseMatrix<Scalar>::InnerIterator it(x, j); it; ++it) {
+      if (w(it.row()) == Scalar(0)) continue;
+      const Scalar dev = it.value() - mean;
+      ss += w(it.row()) * dev * dev;
+    }
+    ss += (wsum - stored_weight) * mean * mean;
+    const Scalar spread = detail::square_root<Scalar>(ss);
     Scalar scale(1);
     if (options.standardize) {
-      // sum_i w_i (x_i - m)^2 over stored entries plus the implicit zeros.
-      Scalar ss(0);
-      for (typename SparseMatrix<Scalar>::InnerIterator it(x, j); it; ++it) {
-        if (w(it.row()) == Scalar(0)) continue;
-        const Scalar dev = it.value() - mean;
-        ss += w(it.row()) * dev * dev;
-      }
-      ss += (wsum - stored_weight) * mean * mean;
-      scale = detail::square_root<Scalar>(ss);
+      scale = spread;
       if (!(scale > Scalar(0))) {
         prep.excluded.push_back({j, detail::unscalable_column});
         continue;
       }
     }
-    detail::keep_column(prep, options, j, mean, scale);
+    detail::keep_column(prep, options, j, mean, scale, spread);
   }
   auto [m, s] = detail::traced_means_and_scales(prep);
   SparseDesign<Scalar> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc));
