@@ -18,7 +18,8 @@
 // by O(eps) relative, so its correlations are off by about
 //   eps * kappa * zmax * (||y|| + zmax ||b||_1)
 // with kappa the active factor's condition estimate (Knot::condition_estimate)
-// and zmax the largest prepared column norm; the path's own error estimate
+// (or the centring amplification, if larger: see below) and zmax the
+// largest prepared column norm; the path's own error estimate
 // (Knot::estimated_error, which includes the measured correlation drift)
 // times lambda_max (times the largest penalty factor, see below) bounds
 // what accumulates over the knots. Both get a
@@ -167,7 +168,16 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     const kp::Vector<double> r = yz - z * b;
     const kp::Vector<double> c = z.transpose() * r - o.ridge * b;
     const double lambda = knot.penalty;
-    const double kappa = std::max(1.0, knot.condition_estimate);
+    // Under an intercept the prepared columns carry a relative error of the
+    // centring amplification times eps (Preparation::centring_amplification),
+    // and b solves the problem of those perturbed columns: c = Z^T (y - Z b)
+    // is then off by about that error times zmax (||r|| + zmax ||b||), the
+    // shape of the solve's term, so the larger factor enters it (common
+    // practice: first-order perturbation). The estimated error holds the
+    // same factor, but relative to lambda_max, which can be 0 (a fuzzed path
+    // of unpenalized columns only had lambda_max 0 and a view design with
+    // amplification 1e5).
+    const double kappa = std::max({1.0, knot.condition_estimate, prep.centring_amplification});
     const double allowed = 1e3 * eps * kappa * zmax * (yz.norm() + zmax * b.lpNorm<1>()) +
                            1e3 * knot.estimated_error * lambda_max * fmax;
     for (std::size_t k = 0; k < q; ++k) {
