@@ -90,12 +90,10 @@ std::string arithmetic_name() {
 
 template <class Scalar>
 double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
-  // The same convention as knotpath::size_free_penalty (select.hpp): unit-length
-  // columns grow like sqrt(n), columns on their own scale like n.
+  // The convention of scaling.hpp, on the nearest doubles (display only).
   const double n = nearest_double(path.preparation().weight_sum);
   if (!(n > 0)) return 0.0;
-  const double divisor = path.preparation().standardized ? std::sqrt(n) : n;
-  return nearest_double(lambda) / divisor;
+  return nearest_double(lambda) / penalty_scale(path.preparation().standardized, n);
 }
 
 template <class Scalar>

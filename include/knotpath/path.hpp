@@ -372,4 +372,16 @@ class Path {
   Vector<Scalar> l1_weight_;  // f_j s_j per predictor (0 when excluded or unpenalized)
 };
 
+/// mu = lambda / penalty_scale of the path's data (scaling.hpp).
+template <class Scalar>
+Scalar size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
+  return lambda / penalty_scale(path.preparation());
+}
+
+/// lambda = mu * penalty_scale of the path's data (scaling.hpp).
+template <class Scalar>
+Scalar penalty_from_size_free(const Path<Scalar>& path, const Scalar& mu) {
+  return mu * penalty_scale(path.preparation());
+}
+
 }  // namespace knotpath

@@ -28,6 +28,7 @@
 #include "detail/scalar.hpp"
 #include "errors.hpp"
 #include "options.hpp"
+#include "scaling.hpp"
 
 namespace knotpath {
 
@@ -60,6 +61,13 @@ struct Preparation {
   /// it by the unit roundoff in every knot's estimated error.
   double centring_amplification = 1;
 };
+
+/// The divisor that turns a penalty of this preparation's data into the
+/// size-free mu (scaling.hpp).
+template <class Scalar>
+Scalar penalty_scale(const Preparation<Scalar>& prep) {
+  return penalty_scale<Scalar>(prep.standardized, prep.weight_sum);
+}
 
 namespace detail {
 

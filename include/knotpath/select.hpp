@@ -94,29 +94,6 @@
 namespace knotpath {
 
 // ---------------------------------------------------------------------------
-// Size-free penalty
-
-/// The divisor that turns a penalty lambda of a data set into the size-free
-/// penalty mu = lambda / penalty_scale: sqrt(n) when the columns were
-/// standardized, n otherwise (n = sum of weights).
-template <class Scalar>
-Scalar penalty_scale(const Preparation<Scalar>& prep) {
-  return prep.standardized ? detail::square_root<Scalar>(prep.weight_sum) : prep.weight_sum;
-}
-
-/// mu = lambda / penalty_scale of the path's data.
-template <class Scalar>
-Scalar size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
-  return lambda / penalty_scale(path.preparation());
-}
-
-/// lambda = mu * penalty_scale of the path's data.
-template <class Scalar>
-Scalar penalty_from_size_free(const Path<Scalar>& path, const Scalar& mu) {
-  return mu * penalty_scale(path.preparation());
-}
-
-// ---------------------------------------------------------------------------
 // Cross-validation
 
 /// Options of a cross-validation. Plain struct; validate() checks it.
