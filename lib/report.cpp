@@ -89,7 +89,7 @@ std::string arithmetic_name() {
 }
 
 template <class Scalar>
-double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
+double mu_as_double(const Path<Scalar>& path, const Scalar& lambda) {
   // The convention of scaling.hpp, on the nearest doubles (display only).
   const double n = nearest_double(path.preparation().weight_sum);
   if (!(n > 0)) return 0.0;
@@ -304,7 +304,7 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
   doc["options"] = opts;
 
   numbers.put(doc, "lambda_max", path.lambda_max());
-  doc["mu_max"] = size_free_penalty(path, path.lambda_max());
+  doc["mu_max"] = mu_as_double(path, path.lambda_max());
   doc["stop_reason"] = to_string(path.stop_reason());
   doc["stop_explanation"] = stop_explanation(path.stop_reason());
   doc["worst_condition_estimate"] = path.worst_condition_estimate();
@@ -328,7 +328,7 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
     JsonNumbers<Scalar> knot_numbers;
     k["step"] = knot.step;
     knot_numbers.put(k, "penalty", knot.penalty);
-    k["mu"] = size_free_penalty(path, knot.penalty);
+    k["mu"] = mu_as_double(path, knot.penalty);
     k["event"] = event_name(path, knot);
     k["predictor"] = knot.predictor >= 0 ? json(name_of(names, knot.predictor)) : json(nullptr);
     k["active"] = knot.active;
@@ -358,7 +358,7 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
       JsonNumbers<Scalar> event_numbers;
       e["step"] = knot.step;
       event_numbers.put(e, "penalty", knot.penalty);
-      e["mu"] = size_free_penalty(path, knot.penalty);
+      e["mu"] = mu_as_double(path, knot.penalty);
       e["event"] = to_string(knot.event);
       e["predictor"] = name_of(names, knot.predictor);
       e["sign"] = knot.sign;
@@ -413,7 +413,7 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   for (const auto& knot : path.knots()) {
     const auto r2 = r_squared(path, knot.rss);
     rows.push_back({{fmt::format("{}", knot.step), fmt::format("{:.6g}", nearest_double(knot.penalty)),
-                     fmt::format("{:.6g}", size_free_penalty(path, knot.penalty)),
+                     fmt::format("{:.6g}", mu_as_double(path, knot.penalty)),
                      event_name(path, knot), name_of(names, knot.predictor),
                      fmt::format("{}", knot.active),
                      fmt::format("{:.6g}", nearest_double(knot.l1_norm)),
@@ -505,7 +505,7 @@ std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scala
   template std::string number_text<Scalar>(const Scalar&);                                      \
   template double nearest_double<Scalar>(const Scalar&);                                        \
   template std::string arithmetic_name<Scalar>();                                               \
-  template double size_free_penalty<Scalar>(const Path<Scalar>&, const Scalar&);                \
+  template double mu_as_double<Scalar>(const Path<Scalar>&, const Scalar&);                \
   template std::optional<Scalar> r_squared<Scalar>(const Path<Scalar>&, const Scalar&);         \
   template void write_knot_table<Scalar>(std::ostream&, const Path<Scalar>&,                    \
                                          const std::vector<std::string>&);                      \

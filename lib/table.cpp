@@ -17,7 +17,7 @@ namespace knotpath::io {
 
 table_error::table_error(Kind kind, std::string source, std::size_t line, std::size_t column,
                          const std::string& message)
-    : std::runtime_error([&] {
+    : knotpath::error([&] {
         std::string where = source;
         if (line > 0) where += ", line " + std::to_string(line);
         if (column > 0) where += ", column " + std::to_string(column);

@@ -25,6 +25,8 @@
 #include <cmath>
 #include <limits>
 #include <stdexcept>
+
+#include "errors.hpp"
 #include <type_traits>
 
 #include "detail/scalar.hpp"
@@ -112,10 +114,10 @@ class CholeskyFactor {
   /// `diagonal`. One triangular solve, O(k^2). The column is refused (and
   /// the factor left unchanged) when its squared pivot is <= tolerance *
   /// diagonal, i.e. it is numerically in the span of the active columns.
-  /// Throws std::invalid_argument when `cross.size() != size()`.
+  /// Throws internal_error when `cross.size() != size()`.
   template <class CrossVector>
   AddOutcome add(const CrossVector& cross, const Scalar& diagonal, const Scalar& tolerance) {
-    if (cross.size() != size_) throw std::invalid_argument("CholeskyFactor::add: size mismatch");
+    if (cross.size() != size_) throw internal_error("CholeskyFactor::add: size mismatch");
     if (size_ + 1 > r_.rows()) reserve(std::max<Index>(2 * r_.rows(), size_ + 1));
     AddOutcome outcome;
     if (!(diagonal > Scalar(0))) return outcome;
@@ -138,11 +140,11 @@ class CholeskyFactor {
   }
 
   /// Removes the column at `position` (0-based, factor order) and restores the
-  /// triangle with Givens rotations, O(k^2). Throws std::out_of_range when
+  /// triangle with Givens rotations, O(k^2). Throws internal_error when
   /// `position` is not in [0, size()).
   void remove(Index position) {
     if (position < 0 || position >= size_)
-      throw std::out_of_range("CholeskyFactor::remove: position out of range");
+      throw internal_error("CholeskyFactor::remove: position out of range");
     const Index k = size_;
     // Shift the later columns left: R becomes upper Hessenberg from `position`.
     for (Index c = position; c + 1 < k; ++c) r_.col(c).head(k) = r_.col(c + 1).head(k);
@@ -274,10 +276,10 @@ class LdltFactor {
   /// `diagonal`: one unit-triangular solve, O(k^2). The column is refused
   /// (factor unchanged) when its new pivot D_kk is <= tolerance * diagonal;
   /// AddOutcome::squared_sine is D_kk / diagonal. Throws
-  /// std::invalid_argument when `cross.size() != size()`.
+  /// internal_error when `cross.size() != size()`.
   template <class CrossVector>
   AddOutcome add(const CrossVector& cross, const Scalar& diagonal, const Scalar& tolerance) {
-    if (cross.size() != size_) throw std::invalid_argument("LdltFactor::add: size mismatch");
+    if (cross.size() != size_) throw internal_error("LdltFactor::add: size mismatch");
     if (size_ + 1 > l_.rows()) reserve(std::max<Index>(2 * l_.rows(), size_ + 1));
     AddOutcome outcome;
     if (!(diagonal > Scalar(0))) return outcome;
@@ -305,11 +307,11 @@ class LdltFactor {
 
   /// Removes the column at `position` (0-based, factor order) and restores
   /// L D L^T of the remaining columns by a rank-one update, O(k^2); exact in
-  /// rational arithmetic. Throws std::out_of_range when `position` is not in
+  /// rational arithmetic. Throws internal_error when `position` is not in
   /// [0, size()).
   void remove(Index position) {
     if (position < 0 || position >= size_)
-      throw std::out_of_range("LdltFactor::remove: position out of range");
+      throw internal_error("LdltFactor::remove: position out of range");
     const Index k = size_;
     // Trailing block gains d_i v v^T with v = L(position+1:, position).
     Scalar alpha = d_(position);

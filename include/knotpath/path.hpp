@@ -318,10 +318,13 @@ class Path {
   }
 
   /// Dense coefficient vector (length p) of knot k, O(p). Throws
-  /// std::out_of_range when k >= knots().size().
+  /// invalid_query when k >= knots().size().
   Vector<Scalar> dense_coefficients(std::size_t k) const {
+    if (k >= knots_.size())
+      throw invalid_query("knot " + std::to_string(k) + " asked of a path with " +
+                          std::to_string(knots_.size()) + " knots");
     Vector<Scalar> v = Vector<Scalar>::Zero(prep_.predictors);
-    for (const auto& [j, value] : knots_.at(k).coefficients) v(j) = value;
+    for (const auto& [j, value] : knots_[k].coefficients) v(j) = value;
     return v;
   }
 

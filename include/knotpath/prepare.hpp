@@ -18,6 +18,7 @@
 #include <cmath>
 #include <cstdio>
 #include <limits>
+#include <optional>
 #include <string>
 #include <type_traits>
 #include <utility>
@@ -125,7 +126,8 @@ namespace detail {
 /// double input and are not limited.
 template <class Scalar>
 void check_magnitude([[maybe_unused]] const Scalar& largest, [[maybe_unused]] const Scalar& largest_used,
-                     [[maybe_unused]] const std::string& what) {
+                     [[maybe_unused]] const std::string& what,
+                     [[maybe_unused]] std::optional<std::size_t> column = std::nullopt) {
   if constexpr (std::is_floating_point_v<Scalar>) {
     const int bound_exponent = std::numeric_limits<Scalar>::max_exponent / 4;
     const Scalar high = std::ldexp(Scalar(1), bound_exponent), low = std::ldexp(Scalar(1), -bound_exponent);
@@ -134,16 +136,21 @@ void check_magnitude([[maybe_unused]] const Scalar& largest, [[maybe_unused]] co
       std::snprintf(text, sizeof text, "%.3g", static_cast<double>(v));
       return std::string(text);
     };
+    // `what` names the data ("the response"); a predictor column is named
+    // by the exception itself so that front ends can read its index.
+    auto refuse = [&](const std::string& detail) {
+      if (column) throw invalid_data::of_predictor(*column, detail);
+      throw invalid_data(what + detail);
+    };
     if (largest > high)
-      throw invalid_data(what + " holds values as large as " + shown(largest) +
-                         ": their squares would overflow double precision; divide it by a power "
-                         "of ten (largest accepted magnitude 2^" + std::to_string(bound_exponent) + ")");
+      refuse(" holds values as large as " + shown(largest) +
+             ": their squares would overflow double precision; divide it by a power "
+             "of ten (largest accepted magnitude 2^" + std::to_string(bound_exponent) + ")");
     if (largest_used != Scalar(0) && largest_used < low)
-      throw invalid_data(what + " holds no value larger in magnitude than " + shown(largest_used) +
-                         (largest_used < largest ? " on the rows of positive weight" : "") +
-                         ": their squares would underflow (lose every digit); multiply it by a "
-                         "power of ten (smallest accepted largest magnitude 2^-" +
-                         std::to_string(bound_exponent) + ")");
+      refuse(" holds no value larger in magnitude than " + shown(largest_used) +
+             (largest_used < largest ? " on the rows of positive weight" : "") +
+             ": their squares would underflow (lose every digit); multiply it by a "
+             "power of ten (smallest accepted largest magnitude 2^-" + std::to_string(bound_exponent) + ")");
   }
 }
 
@@ -154,16 +161,16 @@ void check_magnitudes([[maybe_unused]] const Matrix<Scalar>& x, [[maybe_unused]]
                       [[maybe_unused]] const Vector<Scalar>& weights) {
   if constexpr (std::is_floating_point_v<Scalar>) {
     const bool weighted = weights.size() != 0;
-    auto check = [&](const auto& v, const std::string& what) {
+    auto check = [&](const auto& v, const std::string& what, std::optional<std::size_t> column = std::nullopt) {
       Scalar largest(0), largest_used(0);
       for (Index i = 0; i < v.size(); ++i) {
         const Scalar a = std::abs(v(i));
         largest = std::max(largest, a);
         if (!weighted || weights(i) > Scalar(0)) largest_used = std::max(largest_used, a);
       }
-      check_magnitude(largest, largest_used, what);
+      check_magnitude(largest, largest_used, what, column);
     };
-    for (Index j = 0; j < x.cols(); ++j) check(x.col(j), "predictor column " + std::to_string(j));
+    for (Index j = 0; j < x.cols(); ++j) check(x.col(j), std::string(), static_cast<std::size_t>(j));
     check(y, std::string("the response"));
     if (weighted) {
       const Scalar top = weights.cwiseAbs().maxCoeff();
@@ -184,15 +191,17 @@ void check_data(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<S
     throw invalid_data("there are " + std::to_string(weights.size()) + " weights for " +
                        std::to_string(n) + " rows");
   for (Index i = 0; i < n; ++i) {
-    if (!is_finite_value(y(i))) throw invalid_data("the response is not finite at row " + std::to_string(i));
+    if (!is_finite_value(y(i)))
+      throw invalid_data("the response is not finite at row " + std::to_string(i), static_cast<std::size_t>(i));
     if (weights.size() != 0 && (!is_finite_value(weights(i)) || weights(i) < Scalar(0)))
-      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
+      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite", static_cast<std::size_t>(i));
   }
   for (Index j = 0; j < x.cols(); ++j)
     for (Index i = 0; i < n; ++i)
       if (!is_finite_value(x(i, j)))
         throw invalid_data("the design is not finite at row " + std::to_string(i) + ", column " +
-                           std::to_string(j));
+                               std::to_string(j),
+                           static_cast<std::size_t>(i), static_cast<std::size_t>(j));
   check_magnitudes(x, y, weights);
 }
 

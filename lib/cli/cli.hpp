@@ -79,6 +79,11 @@ struct TracedTable {
   io::RunContext context;
 };
 
+/// The message of a data error for the user: a whole predictor column is
+/// named by its table name (the library counts columns from 0), any other
+/// message is the library's without its "knotpath: " prefix.
+std::string data_message(const invalid_data& e, const std::vector<std::string>& names);
+
 /// Reads the table and traces its path (progress on stderr when enabled).
 TracedTable trace_table(const std::string& table, const ModelArgs& args, const Global& global);
 

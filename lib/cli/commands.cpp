@@ -221,7 +221,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     if (!args->csv)
       std::cout << fmt::format("{}: penalty {:.10g} (mu {:.10g}), L1 norm {:.10g}\n", asked,
                                solution.penalty,
-                               io::size_free_penalty(path, solution.penalty), solution.l1_norm);
+                               io::mu_as_double(path, solution.penalty), solution.l1_norm);
     std::cout << io::coefficient_table(solution, path, traced.context.predictor_names, args->csv);
     std::cout.flush();
     global.status = finish(path);

@@ -325,19 +325,7 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
-    // "knotpath: predictor column K ..." -> "predictor "NAME" ...": the
-    // library counts predictors from 0, the user knows them by name.
-    std::string why = e.what();
-    if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-    const std::string column = "predictor column ";
-    if (why.rfind(column, 0) == 0) {
-      std::size_t end = column.size(), k = 0;
-      while (end < why.size() && std::isdigit(static_cast<unsigned char>(why[end])))
-        k = 10 * k + static_cast<std::size_t>(why[end++] - '0');
-      if (end > column.size() && k < context.predictor_names.size())
-        why = "predictor \"" + context.predictor_names[k] + "\"" + why.substr(end);
-    }
-    throw failure(exit_bad_input, shown_name + ": " + why);
+    throw failure(exit_bad_input, shown_name + ": " + data_message(e, context.predictor_names));
   }
   if (out.path.preparation().columns.empty()) {
     std::string list;
@@ -352,6 +340,13 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
                   shown_name + ": no predictor can enter the path; every one was left out: " + list);
   }
   return out;
+}
+
+std::string data_message(const invalid_data& e, const std::vector<std::string>& names) {
+  if (e.whole_column() && *e.column() < names.size()) return "predictor \"" + names[*e.column()] + "\"" + e.detail();
+  std::string why = e.what();
+  if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
+  return why;
 }
 
 }  // namespace knotpath::cli

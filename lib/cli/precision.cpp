@@ -151,7 +151,7 @@ int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, b
   if (!csv) {
     std::cout << fmt::format("{}: penalty {} (mu {:.10g}), L1 norm {}\n", asked,
                              io::number_text(solution.penalty),
-                             io::size_free_penalty(path, solution.penalty),
+                             io::mu_as_double(path, solution.penalty),
                              io::number_text(solution.l1_norm));
     std::cout << "arithmetic: " << io::arithmetic_name<Scalar>() << '\n';
   }

@@ -50,21 +50,6 @@ std::string shown(double v, int digits = 6) {
   return std::isfinite(v) ? fmt::format("{:.{}g}", v, digits) : std::string("-");
 }
 
-// "knotpath: predictor column K ..." -> "predictor "NAME" ..." (the library
-// counts predictors from 0, the user knows them by name).
-std::string data_message(const std::string& what, const std::vector<std::string>& names) {
-  std::string why = what;
-  if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-  const std::string column = "predictor column ";
-  if (why.rfind(column, 0) == 0) {
-    std::size_t end = column.size(), k = 0;
-    while (end < why.size() && std::isdigit(static_cast<unsigned char>(why[end])))
-      k = 10 * k + static_cast<std::size_t>(why[end++] - '0');
-    if (end > column.size() && k < names.size()) why = "predictor \"" + names[k] + "\"" + why.substr(end);
-  }
-  return why;
-}
-
 // The user's fold column: distinct labels >= 0 become folds 0..K-1 in
 // ascending order of the label; a negative label keeps the row in every
 // training set.
@@ -187,7 +172,7 @@ Selection run_selection(const SelectData& data, const CrossValidationOptions& cv
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
-    throw failure(exit_bad_input, data.shown_name + ": " + data_message(e.what(), data.context.predictor_names));
+    throw failure(exit_bad_input, data.shown_name + ": " + data_message(e, data.context.predictor_names));
   }
   const Path<double>& path = s.cv.full_path;
   if (path.preparation().columns.empty())

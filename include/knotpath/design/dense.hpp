@@ -8,6 +8,7 @@
 #include <utility>
 
 #include "../detail/parallel.hpp"
+#include "../errors.hpp"
 #include "../detail/scalar.hpp"
 #include "concept.hpp"
 
@@ -31,11 +32,11 @@ class DenseDesign {
   /// An empty design (0 x 0); assign a constructed one before use.
   DenseDesign() = default;
   /// Takes ownership of the prepared columns and response. Throws
-  /// std::invalid_argument when `columns.rows() != response.size()`.
+  /// invalid_data when `columns.rows() != response.size()`.
   DenseDesign(Matrix<Scalar> columns, Vector<Scalar> response)
       : z_(std::move(columns)), y_(std::move(response)) {
     if (z_.rows() != y_.size())
-      throw std::invalid_argument("DenseDesign: design rows and response length differ");
+      throw invalid_data("DenseDesign: design rows and response length differ");
     work_.resize(z_.rows());
   }
 

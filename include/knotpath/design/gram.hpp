@@ -324,8 +324,8 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
       if (m2 > Scalar(0)) spread = detail::square_root<Scalar>(m2);
     if (options.standardize) {
       if (!detail::is_finite_value(m2))
-        throw invalid_data("predictor column " + std::to_string(j) +
-                           ": its sum of squares is not finite in the sufficient statistics "
+        throw invalid_data::of_predictor(static_cast<std::size_t>(j),
+                                         ": its sum of squares is not finite in the sufficient statistics "
                            "(the data overflow double precision); rescale it");
       if (!(m2 > Scalar(0))) {
         prep.excluded.push_back({j, detail::unscalable_column});

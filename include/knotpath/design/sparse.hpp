@@ -218,7 +218,7 @@ PreparedSparse<Scalar> prepare_sparse(const SparseMatrix<Scalar>& x, const Vecto
       top = std::max<Scalar>(top, detail::abs_value<Scalar>(it.value()));
       if (w(it.row()) > Scalar(0)) top_used = std::max<Scalar>(top_used, detail::abs_value<Scalar>(it.value()));
     }
-    detail::check_magnitude(top, top_used, "predictor column " + std::to_string(j));
+    detail::check_magnitude(top, top_used, std::string(), static_cast<std::size_t>(j));
   }
   detail::check_magnitude(top_y, top_y_used, std::string("the response"));
   if (weights.size() != 0) detail::check_magnitude(Scalar(w.maxCoeff()), Scalar(w.maxCoeff()), std::string("the weight vector"));

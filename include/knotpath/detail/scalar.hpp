@@ -9,6 +9,8 @@
 
 #include <Eigen/Core>
 
+#include "../errors.hpp"
+
 namespace knotpath {
 
 /// Dense column vector of the scalar type.
@@ -54,11 +56,11 @@ Scalar abs_value(const Scalar& x) {
 }
 
 /// Square root; exact (rational) types have none: callers check up front and
-/// this throws std::domain_error if one is reached anyway.
+/// this throws internal_error if one is reached anyway.
 template <class Scalar>
 Scalar square_root(const Scalar& x) {
   if constexpr (is_exact_v<Scalar>) {
-    throw std::domain_error("knotpath: square root requested in exact rational arithmetic");
+    throw internal_error("square root requested in exact rational arithmetic");
   } else {
     using std::sqrt;
     return Scalar(sqrt(x));

@@ -70,7 +70,7 @@ std::string arithmetic_name();
 /// convention as knotpath::size_free_penalty() (scaling.hpp). 0 when n = 0.
 /// (Square roots are irrational, so exact mode shows mu as a decimal only.)
 template <class Scalar>
-double size_free_penalty(const Path<Scalar>& path, const Scalar& lambda);
+double mu_as_double(const Path<Scalar>& path, const Scalar& lambda);
 
 /// R^2 = 1 - RSS / TSS of a knot; nullopt when TSS = 0.
 template <class Scalar>
@@ -119,9 +119,9 @@ void write_atomically(const std::filesystem::path& target,
                       const std::function<void(std::ostream&)>& write);
 
 /// Thrown by write_atomically when the file system refuses.
-class output_error : public std::runtime_error {
+class output_error : public knotpath::error {
  public:
-  using std::runtime_error::runtime_error;
+  using knotpath::error::error;
 };
 
 }  // namespace knotpath::io

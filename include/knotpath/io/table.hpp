@@ -34,6 +34,8 @@
 
 #include "../detail/scalar.hpp"
 
+#include "../errors.hpp"
+
 namespace knotpath::io {
 
 /// What to do with a row that has an empty (or "NA") cell in a column read.
@@ -72,7 +74,7 @@ struct TableReadOptions {
 /// A reading error with its location. line and column are 1-based; 0 when
 /// they do not apply (e.g. an empty file has no column). what() reads
 /// "SOURCE, line L, column C: message".
-class table_error : public std::runtime_error {
+class table_error : public knotpath::error {
  public:
   /// content: the text is not a valid table; input_output: it cannot be read.
   enum class Kind { content, input_output };
