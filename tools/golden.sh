@@ -28,7 +28,8 @@
 # Left out on purpose: report folders (SVG charts and report.html, which
 # embeds them) of --no-standardize runs: their axis label is due to change.
 # The soak designs depend on the standard library's random distributions
-# (tests/support/soak_design.hpp); the files were recorded with libstdc++.
+# (tests/support/soak_design.hpp): the files were recorded with libstdc++
+# (GCC build; a Clang -O1 build reproduces them too).
 set -euo pipefail
 
 usage() {

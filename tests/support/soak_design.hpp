@@ -54,8 +54,13 @@ inline SoakDesign random_design(unsigned seed) {
     for (Index j = 0; j < p; j += 2)
       for (Index i = 0; i < n; ++i) d.x(i, j) = static_cast<double>(gen() % 3);
   if ((kind == 6 || kind == 7) && p >= 2)  // duplicated (possibly rescaled) columns
-    for (Index j = 1; j < p; j += 3)
-      d.x.col(j) = d.x.col(gen() % static_cast<std::size_t>(j)) * (gen() % 2 ? 1.0 : -2.5);
+    for (Index j = 1; j < p; j += 3) {
+      // Two draws, in this order (the order GCC chose when they shared one
+      // unsequenced expression, so the soak's designs stay those it ran).
+      const double factor = gen() % 2 ? 1.0 : -2.5;
+      const Index source = static_cast<Index>(gen() % static_cast<std::size_t>(j));
+      d.x.col(j) = d.x.col(source) * factor;
+    }
   // Column scales 10^U(-6, 6): norms from about 1e-6 to 1e6 times sqrt(n).
   for (Index j = 0; j < p; ++j) d.x.col(j) *= std::pow(10.0, -6.0 + 12.0 * u(gen));
   Vector<double> beta = Vector<double>::Zero(p);
