@@ -55,8 +55,10 @@ inline SoakDesign random_design(unsigned seed) {
       for (Index i = 0; i < n; ++i) d.x(i, j) = static_cast<double>(gen() % 3);
   if ((kind == 6 || kind == 7) && p >= 2)  // duplicated (possibly rescaled) columns
     for (Index j = 1; j < p; j += 3) {
-      // Two draws, in this order (the order GCC chose when they shared one
-      // unsequenced expression, so the soak's designs stay those it ran).
+      // Scale first, then source, in separate statements: inside one
+      // expression the two draws are unsequenced (GCC and Clang order them
+      // differently), and the soak's figures and the golden corpus assume
+      // this order.
       const double factor = gen() % 2 ? 1.0 : -2.5;
       const Index source = static_cast<Index>(gen() % static_cast<std::size_t>(j));
       d.x.col(j) = d.x.col(source) * factor;
