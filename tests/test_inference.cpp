@@ -14,6 +14,7 @@
 #include <boost/math/special_functions/erf.hpp>
 #include <boost/multiprecision/cpp_bin_float.hpp>
 
+#include <knotpath/detail/random.hpp>
 #include <knotpath/inference.hpp>
 
 #include "test_support.hpp"
@@ -145,7 +146,7 @@ TEST(GaussianTails, FTailMatchesBoost) {
 // (Lockhart et al. 2014, Ann. Statist. 42(2), section 3).
 TEST(CovarianceTest, OrthogonalDesignGivesTheOrderStatisticFormula) {
   const Index p = 200;
-  kp::demo::detail::SplitMix64 rng(42);
+  kp::detail::SplitMix64 rng(42);
   Vector<double> y(p);
   for (Index j = 0; j < p; ++j) y(j) = rng.normal();
   y(5) += 6.0;  // one real signal, so later steps are exercised too
@@ -188,7 +189,7 @@ TEST(CovarianceTest, OrthogonalDesignGivesTheOrderStatisticFormula) {
 TEST(CovarianceTest, FirstStatisticIsExponentialUnderTheGlobalNull) {
   const Index p = 1000;
   const int reps = 2000;
-  kp::demo::detail::SplitMix64 rng(1402);
+  kp::detail::SplitMix64 rng(1402);
   kp::TraceOptions options;
   options.fit_intercept = false;
   options.max_knots = 3;
@@ -216,7 +217,7 @@ TEST(CovarianceTest, FirstStatisticIsExponentialUnderTheGlobalNull) {
 // an intercept (the test depends on y only through the centred Z^T y).
 TEST(SpacingTest, FirstStepPValueIsUniformUnderTheNull) {
   const auto base = kp::testing::ar1_problem(40, 8, 0.6, 77, 0, 0.0);
-  kp::demo::detail::SplitMix64 rng(2016);
+  kp::detail::SplitMix64 rng(2016);
   kp::TraceOptions options;
   options.max_knots = 3;
   std::vector<double> pvalues;

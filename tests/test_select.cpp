@@ -9,7 +9,9 @@
 #include <limits>
 #include <vector>
 
-#include <knotpath/select.hpp>
+#include <knotpath/criteria.hpp>
+#include <knotpath/cross_validation.hpp>
+#include <knotpath/detail/random.hpp>
 
 #include "test_support.hpp"
 
@@ -375,7 +377,7 @@ TEST(InformationCriteria, NonzeroCountIsUnbiasedForTheDegreesOfFreedom) {
   const auto base = kp::testing::ar1_problem(20, 5, 0.5, 31, 2, 0.0);  // noise 0: the mean
   const Vector<double> mean = base.y;
   const double sigma = 1.0, lambda = 1.2;  // fixed penalty, chosen to leave 2-4 predictors active
-  kp::demo::detail::SplitMix64 rng(2007);
+  kp::detail::SplitMix64 rng(2007);
   const int reps = 4000;
   std::vector<double> gap(reps);
   double count_mean = 0;

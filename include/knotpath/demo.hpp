@@ -19,6 +19,7 @@
 #include <string>
 #include <vector>
 
+#include "detail/random.hpp"
 #include "detail/scalar.hpp"
 
 namespace knotpath::demo {
@@ -35,27 +36,8 @@ struct DemoData {
 };
 
 namespace detail {
-/// SplitMix64: a small, fully specified generator (Steele, Lea & Flood 2014).
-class SplitMix64 {
- public:
-  explicit SplitMix64(std::uint64_t seed) : state_(seed) {}
-  std::uint64_t next() {
-    std::uint64_t z = (state_ += 0x9E3779B97F4A7C15ULL);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
-    return z ^ (z >> 31);
-  }
-  /// Uniform in (0, 1).
-  double uniform() { return (static_cast<double>(next() >> 11) + 0.5) * (1.0 / 9007199254740992.0); }
-  /// Standard normal by the Box-Muller transform.
-  double normal() {
-    const double u = uniform(), v = uniform();
-    return std::sqrt(-2.0 * std::log(u)) * std::cos(6.283185307179586 * v);
-  }
-
- private:
-  std::uint64_t state_;
-};
+/// The generator of the data (detail/random.hpp), under the name examples use.
+using knotpath::detail::SplitMix64;
 }  // namespace detail
 
 /// Generates the demonstration data (seed fixed unless given).

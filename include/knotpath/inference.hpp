@@ -63,12 +63,12 @@
 #include <Eigen/Cholesky>
 
 #include "design/concept.hpp"
+#include "detail/least_squares.hpp"
 #include "detail/scalar.hpp"
 #include "errors.hpp"
 #include "options.hpp"
 #include "path.hpp"
 #include "prepare.hpp"
-#include "select.hpp"
 #include "trace.hpp"
 
 namespace knotpath {

@@ -21,8 +21,9 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
+#include <knotpath/criteria.hpp>
+#include <knotpath/cross_validation.hpp>
 #include <knotpath/inference.hpp>
-#include <knotpath/select.hpp>
 
 namespace knotpath::cli {
 

@@ -1,37 +1,22 @@
 #pragma once
-/// \file select.hpp
-/// \brief Choosing a point on the path: exact K-fold (or leave-one-out)
-/// cross-validation, and Mallows' Cp, AIC and BIC at every knot.
+/// \file cross_validation.hpp
+/// \brief Choosing a penalty by exact K-fold (or leave-one-out)
+/// cross-validation: the folds, the exact curve and the penalty choices.
 ///
-/// References:
+/// Reference:
 ///  - T. Hastie, R. Tibshirani & J. Friedman, The Elements of Statistical
 ///    Learning (2nd ed., 2009), section 7.10 (K-fold cross-validation, the
 ///    standard error of the fold errors and the one-standard-error rule).
-///  - H. Zou, T. Hastie & R. Tibshirani (2007), "On the degrees of freedom of
-///    the lasso", Annals of Statistics 35(5), 2173-2192 (the number of nonzero
-///    coefficients is an unbiased estimate of the degrees of freedom of the
-///    lasso fit; Cp, AIC and BIC built on it).
-///  - C. L. Mallows (1973), "Some comments on C_p", Technometrics 15(4), 661-675.
-///  - S. Reid, R. Tibshirani & J. Friedman (2016), "A study of error variance
-///    estimation in lasso regression", Statistica Sinica 26, 35-67 (the
-///    residual-variance estimate RSS / (n - df) of a sparse lasso fit, used
-///    here only when the full least-squares fit leaves no residual degrees of
-///    freedom).
 ///
 /// What it computes.
 ///
 /// Size-free penalty. Folds have fewer rows than the whole data, and the
-/// penalty lambda of the objective 0.5 RSS + lambda sum_j f_j s_j |b_j| grows
-/// with the sample size, so folds are compared on the size-free penalty mu:
-/// the penalty of the per-observation objective (1/2n) RSS + mu sum_j f_j t_j
-/// |b_j| (n = sum of weights, t_j = standard deviation of column j when
-/// standardizing, else 1). Dividing the objective by n gives
-///     mu = lambda / sqrt(n)   when standardizing (s_j = sqrt(n) sd_j),
-///     mu = lambda / n         without standardization (s_j = 1).
-/// penalty_scale() returns that divisor. Without standardization a ridge
-/// weight is also rescaled per fold (ridge * n_fold / n) so every fold solves
-/// the same per-observation problem; with standardization it is already
-/// size-free.
+/// penalty lambda grows with the sample size, so folds are compared on the
+/// size-free penalty mu = lambda / penalty_scale (scaling.hpp): lambda /
+/// sqrt(n) when standardizing, lambda / n without standardization (n = sum
+/// of weights). Without standardization a ridge weight is also rescaled per
+/// fold (ridge * n_fold / n) so every fold solves the same per-observation
+/// problem; with standardization it is already size-free.
 ///
 /// Exact cross-validation. Each fold's path is traced on its training rows.
 /// Between two consecutive knots of that path every coefficient is affine in
@@ -49,29 +34,8 @@
 /// The "parsimonious" choice is the largest mu whose CV error does not exceed
 /// CV(mu_min) + SE(mu_min) (the one-standard-error rule of Hastie et al.),
 /// found exactly by solving the quadratic of each interval.
-///
-/// Information criteria. At each knot, with d = number of nonzero
-/// coefficients plus one for the intercept (Zou et al. 2007: an unbiased
-/// estimate of the degrees of freedom), RSS the (weighted) residual sum of
-/// squares, n the number of rows with positive weight and sigma^2 the noise
-/// variance:
-///     Mallows' Cp = RSS / sigma^2 - n + 2 d
-///     AIC         = RSS / (n sigma^2) + 2 d / n
-///     BIC         = RSS / (n sigma^2) + log(n) d / n
-/// (Cp and AIC have the same minimizer when sigma^2 is fixed.) Between two
-/// knots the set of nonzero coefficients is fixed and the RSS falls as the
-/// penalty falls, so each criterion's infimum over a segment is reached at
-/// its lower knot, where the knot table counts the segment's nonzero
-/// coefficients: minimizing over the knots is minimizing over the path.
-/// sigma^2 is, in order of preference: the value the user gives; the
-/// residual variance of the full least-squares fit, RSS / (n - rank - 1)
-/// (without intercept n - rank), when that leaves residual degrees of
-/// freedom; otherwise RSS_k / (n - d_k) at the knot with the most nonzero
-/// coefficients whose d_k is at most n / 2 (a rough estimate, flagged in the
-/// result; give a value when it matters).
 
 #include <algorithm>
-#include <cmath>
 #include <cstdint>
 #include <exception>
 #include <limits>
@@ -81,9 +45,7 @@
 #include <utility>
 #include <vector>
 
-#include <Eigen/QR>
-
-#include "demo.hpp"
+#include "detail/random.hpp"
 #include "detail/scalar.hpp"
 #include "errors.hpp"
 #include "options.hpp"
@@ -92,9 +54,6 @@
 #include "trace.hpp"
 
 namespace knotpath {
-
-// ---------------------------------------------------------------------------
-// Cross-validation
 
 /// Options of a cross-validation. Plain struct; validate() checks it.
 struct CrossValidationOptions {
@@ -274,7 +233,7 @@ namespace detail {
 inline std::vector<long> seeded_folds(const std::vector<Index>& usable, Index rows, std::size_t k,
                                       std::uint64_t seed) {
   std::vector<Index> order = usable;
-  demo::detail::SplitMix64 rng(seed);
+  SplitMix64 rng(seed);
   for (std::size_t i = order.size(); i > 1; --i) {
     // Uniform integer in [0, i) from the top 53 bits: portable and fully specified.
     const auto j = static_cast<std::size_t>(static_cast<double>(rng.next() >> 11) *
@@ -549,180 +508,6 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
     }
   }
   return result;
-}
-
-// ---------------------------------------------------------------------------
-// Information criteria
-
-/// Where the noise variance of the criteria came from.
-enum class NoiseVarianceSource {
-  given,          ///< the user's value
-  least_squares,  ///< residual variance of the full least-squares fit
-  sparse_fit,     ///< RSS / (n - d) of a lasso fit with d <= n/2 (rough; see the file comment)
-};
-
-/// Options of information_criteria().
-struct CriteriaOptions {
-  /// Noise variance sigma^2 > 0 (of a row of weight 1); negative: estimate it.
-  double noise_variance = -1.0;
-
-  /// Throws invalid_option("noise_variance") when it is 0, NaN or infinite.
-  void validate() const {
-    if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
-      throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
-  }
-};
-
-/// The criteria at one knot.
-template <class Scalar>
-struct KnotCriteria {
-  Index step = 0;         ///< knot-table step
-  Scalar penalty{0};      ///< lambda
-  Scalar mu{0};           ///< size-free penalty
-  Index nonzero = 0;      ///< nonzero coefficients
-  Index parameters = 0;   ///< d = nonzero + intercept
-  Scalar rss{0};          ///< weighted residual sum of squares
-  Scalar mallows_cp{0};   ///< RSS / sigma^2 - n + 2 d
-  Scalar aic{0};          ///< RSS / (n sigma^2) + 2 d / n
-  Scalar bic{0};          ///< RSS / (n sigma^2) + log(n) d / n
-};
-
-/// Cp, AIC and BIC along a path.
-template <class Scalar>
-struct InformationCriteria {
-  std::vector<KnotCriteria<Scalar>> knots;  ///< one per knot-table row
-  Scalar noise_variance{0};        ///< sigma^2 used by all three criteria
-  NoiseVarianceSource source = NoiseVarianceSource::given;  ///< where sigma^2 came from
-  Index residual_df = 0;           ///< degrees of freedom of the variance estimate (0 when given)
-  Index observations = 0;          ///< n: rows with positive weight
-  std::size_t best_cp = 0;         ///< index into knots of the minimum (the first, largest penalty, among ties)
-  std::size_t best_aic = 0;        ///< index into knots of the AIC minimum (first among ties)
-  std::size_t best_bic = 0;        ///< index into knots of the BIC minimum (first among ties)
-};
-
-namespace detail {
-
-/// Re-prepares the data a path was traced on and checks that they match it.
-template <class Scalar>
-PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
-                                  const Vector<Scalar>& weights) {
-  PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, path.options(), weights);
-  const auto& a = prepared.preparation;
-  const auto& b = path.preparation();
-  // The path may have been prepared another way (e.g. from sufficient
-  // statistics), so the figures agree to rounding, not bit for bit.
-  const Scalar tol = Scalar(1e-9);
-  auto close = [&](const Scalar& u, const Scalar& v, const Scalar& size) {
-    return abs_value<Scalar>(Scalar(u - v)) <= tol * size;
-  };
-  bool same = a.predictors == b.predictors && a.used_observations == b.used_observations &&
-              a.columns == b.columns && a.intercept == b.intercept &&
-              close(a.weight_sum, b.weight_sum, b.weight_sum) &&
-              close(a.response_mean, b.response_mean,
-                    abs_value<Scalar>(b.response_mean) + square_root<Scalar>(b.total_sum_of_squares)) &&
-              close(a.total_sum_of_squares, b.total_sum_of_squares, b.total_sum_of_squares);
-  for (Index j = 0; same && j < b.predictors; ++j) {
-    const Scalar spread = b.standardized ? b.scales(j) : Scalar(1);
-    same = close(a.scales(j), b.scales(j), b.scales(j)) &&
-           close(a.means(j), b.means(j), abs_value<Scalar>(b.means(j)) + spread);
-  }
-  if (!same)
-    throw invalid_query("the data (or weights) given do not match the data the path was traced on");
-  return prepared;
-}
-
-/// Residual sum of squares and rank of the least-squares fit of the prepared problem.
-template <class Scalar>
-std::pair<Scalar, Index> least_squares_fit(const DenseDesign<Scalar>& design) {
-  if (design.cols() == 0) return {design.response_squared_norm(), 0};
-  Eigen::ColPivHouseholderQR<Matrix<Scalar>> qr(design.columns());
-  const Vector<Scalar> b = qr.solve(design.response());
-  const Vector<Scalar> r = design.response() - design.columns() * b;
-  return {r.squaredNorm(), qr.rank()};
-}
-
-}  // namespace detail
-
-/// Mallows' Cp, AIC and BIC at every knot of a lasso path, and their
-/// minimizers (see the file comment for the formulas and the variance).
-/// `x`, `y`, `weights` are the data the path was traced on (checked).
-/// Throws invalid_option for a ridge (elastic net: the count of nonzero
-/// coefficients is not its degrees of freedom) or the least angle variant
-/// (its coefficients may cross zero inside a segment), invalid_query when the
-/// data do not match the path.
-template <class Scalar>
-InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const Vector<Scalar>& y,
-                                                 const Path<Scalar>& path, const CriteriaOptions& criteria = {},
-                                                 const Vector<Scalar>& weights = Vector<Scalar>()) {
-  using std::log;
-  criteria.validate();
-  const TraceOptions& options = path.options();
-  if (options.ridge != 0.0)
-    throw invalid_option("ridge", "information criteria need the plain lasso (ridge = 0): the "
-                                  "number of nonzero coefficients is not the elastic net's "
-                                  "degrees of freedom");
-  if (options.variant != Variant::lasso)
-    throw invalid_option("variant", "information criteria need the lasso variant (df = number "
-                                    "of nonzero coefficients holds for the lasso)");
-  PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, weights);
-  const Preparation<Scalar>& prep = path.preparation();
-
-  InformationCriteria<Scalar> out;
-  out.observations = prep.used_observations;
-  const Index n = prep.used_observations;
-  const Index intercept = prep.intercept ? 1 : 0;
-  const Scalar scale = penalty_scale(prep);
-  for (const auto& knot : path.knots()) {
-    KnotCriteria<Scalar> c;
-    c.step = knot.step;
-    c.penalty = knot.penalty;
-    c.mu = knot.penalty / scale;
-    c.nonzero = static_cast<Index>(knot.coefficients.size());
-    c.parameters = c.nonzero + intercept;
-    c.rss = knot.rss;
-    out.knots.push_back(c);
-  }
-
-  if (criteria.noise_variance > 0) {
-    out.noise_variance = Scalar(criteria.noise_variance);
-    out.source = NoiseVarianceSource::given;
-  } else {
-    const auto [rss, rank] = detail::least_squares_fit(prepared.design);
-    const Index df = n - rank - intercept;
-    if (df > 0) {
-      out.noise_variance = rss / Scalar(static_cast<double>(df));
-      out.source = NoiseVarianceSource::least_squares;
-      out.residual_df = df;
-    } else {
-      const KnotCriteria<Scalar>* pick = nullptr;
-      for (const auto& c : out.knots)
-        if (2 * c.parameters <= n && (!pick || c.parameters > pick->parameters)) pick = &c;
-      if (!pick || n - pick->parameters <= 0)
-        throw invalid_query("cannot estimate the noise variance from " + std::to_string(n) +
-                            " rows; give CriteriaOptions::noise_variance");
-      out.residual_df = n - pick->parameters;
-      out.noise_variance = pick->rss / Scalar(static_cast<double>(out.residual_df));
-      out.source = NoiseVarianceSource::sparse_fit;
-    }
-    if (!(out.noise_variance > Scalar(0)))
-      throw invalid_query("the estimated noise variance is 0 (the data are fitted exactly); give "
-                          "CriteriaOptions::noise_variance");
-  }
-
-  const Scalar nn(static_cast<double>(n));
-  const Scalar s2 = out.noise_variance;
-  for (auto& c : out.knots) {
-    const Scalar d(static_cast<double>(c.parameters));
-    c.mallows_cp = c.rss / s2 - nn + Scalar(2) * d;
-    c.aic = c.rss / (nn * s2) + Scalar(2) * d / nn;
-    c.bic = c.rss / (nn * s2) + Scalar(log(nn)) * d / nn;
-  }
-  for (std::size_t i = 1; i < out.knots.size(); ++i) {
-    if (out.knots[i].mallows_cp < out.knots[out.best_cp].mallows_cp) out.best_cp = i;
-    if (out.knots[i].aic < out.knots[out.best_aic].aic) out.best_aic = i;
-    if (out.knots[i].bic < out.knots[out.best_bic].bic) out.best_bic = i;
-  }
-  return out;
 }
 
 }  // namespace knotpath
