@@ -62,10 +62,7 @@ struct CriteriaOptions {
   double noise_variance = -1.0;
 
   /// Throws invalid_option("noise_variance") when it is 0, NaN or infinite.
-  void validate() const {
-    if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
-      throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
-  }
+  void validate() const { detail::validate_noise_variance(noise_variance); }
 };
 
 /// The criteria at one knot.
@@ -135,16 +132,16 @@ InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const 
     out.knots.push_back(c);
   }
 
-  if (criteria.noise_variance > 0) {
-    out.noise_variance = Scalar(criteria.noise_variance);
+  const auto estimate =
+      detail::given_or_least_squares_variance<Scalar>(criteria.noise_variance, prepared.design, prep);
+  if (estimate.given) {
+    out.noise_variance = estimate.variance;
     out.source = NoiseVarianceSource::given;
   } else {
-    const auto [rss, rank] = detail::least_squares_fit(prepared.design);
-    const Index df = n - rank - intercept;
-    if (df > 0) {
-      out.noise_variance = rss / Scalar(static_cast<double>(df));
+    if (estimate.residual_df > 0) {
+      out.noise_variance = estimate.variance;
       out.source = NoiseVarianceSource::least_squares;
-      out.residual_df = df;
+      out.residual_df = estimate.residual_df;
     } else {
       const KnotCriteria<Scalar>* pick = nullptr;
       for (const auto& c : out.knots)

@@ -144,22 +144,14 @@ struct CurvePiece {
   Scalar at(const Scalar& s) const { return constant + s * (linear + s * quadratic); }
 };
 
-/// A point of the cross-validation curve.
+/// A point of the cross-validation curve; the penalties cross-validation
+/// chooses are points of it.
 template <class Scalar>
 struct CurvePoint {
   Scalar mu{0};              ///< size-free penalty
   Scalar lambda{0};          ///< the full data's penalty at this mu
   Scalar error{0};           ///< CV(mu)
-  Scalar standard_error{0};  ///< SE(mu)
-};
-
-/// A penalty chosen by cross-validation.
-template <class Scalar>
-struct PenaltyChoice {
-  Scalar mu{0};              ///< size-free penalty
-  Scalar lambda{0};          ///< penalty of the full data's path
-  Scalar error{0};           ///< CV error there
-  Scalar standard_error{0};  ///< standard error of the fold errors there
+  Scalar standard_error{0};  ///< SE(mu), the standard error of the fold errors
 };
 
 /// The result of cross_validate(): the folds, the exact curve and the choices.
@@ -173,8 +165,8 @@ struct CrossValidation {
   Scalar mu_high{0};                   ///< top of the curve's domain (every fit is empty above it)
   Scalar mu_low{0};                    ///< bottom of the domain (0 unless a path stopped early)
   std::vector<CurvePiece<Scalar>> pieces;  ///< the exact curve, descending in mu
-  PenaltyChoice<Scalar> minimum;       ///< exact global minimizer (the largest mu among ties)
-  PenaltyChoice<Scalar> parsimonious;  ///< largest mu with CV <= CV(min) + SE(min)
+  CurvePoint<Scalar> minimum;       ///< exact global minimizer (the largest mu among ties)
+  CurvePoint<Scalar> parsimonious;  ///< largest mu with CV <= CV(min) + SE(min)
 
   /// CV(mu) for mu >= mu_low (constant above mu_high). Throws invalid_query below the domain.
   Scalar error_at(const Scalar& mu) const {
@@ -209,10 +201,6 @@ struct CrossValidation {
     for (const auto& piece : pieces) out.push_back(point(piece.mu_high));
     if (!pieces.empty()) out.push_back(point(pieces.back().mu_low));
     return out;
-  }
-  /// The curve at one mu, as a choice.
-  PenaltyChoice<Scalar> point_choice(const Scalar& mu) const {
-    return {mu, Scalar(mu * full_scale), error_at(mu), standard_error_at(mu)};
   }
   /// The curve at one mu.
   CurvePoint<Scalar> point(const Scalar& mu) const {
@@ -503,7 +491,7 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
     if (piece.mu_high < best_mu) break;
     if (auto s = detail::largest_at_most(piece, threshold)) {
       const Scalar mu = std::max<Scalar>(best_mu, piece.mu_low + *s * (piece.mu_high - piece.mu_low));
-      result.parsimonious = result.point_choice(mu);
+      result.parsimonious = result.point(mu);
       break;
     }
   }

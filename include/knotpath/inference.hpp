@@ -80,10 +80,7 @@ struct InferenceOptions {
   double noise_variance = -1.0;
 
   /// Throws invalid_option("noise_variance") when it is 0, NaN or infinite.
-  void validate() const {
-    if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
-      throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
-  }
+  void validate() const { detail::validate_noise_variance(noise_variance); }
 };
 
 /// Significance of one entry (an enter row of the knot table). Values that a
@@ -413,21 +410,17 @@ Significance entry_significance(const Matrix<Scalar>& x, const Vector<Scalar>& y
                                 const InferenceOptions& options = {}) {
   options.validate();
   PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, Vector<Scalar>());
-  double variance = options.noise_variance;
-  Index df = 0;
-  if (!(variance > 0)) {
-    const auto [rss, rank] = detail::least_squares_fit(prepared.design);
-    df = path.preparation().used_observations - rank - (path.preparation().intercept ? 1 : 0);
-    if (df <= 0)
-      throw invalid_query("the noise variance cannot be estimated by least squares with " +
-                          std::to_string(path.preparation().used_observations) + " rows and rank " +
-                          std::to_string(rank) + "; give InferenceOptions::noise_variance");
-    variance = detail::to_double(rss) / static_cast<double>(df);
-    if (!(variance > 0))
-      throw invalid_query("the least-squares fit is exact (zero residual variance); give "
-                          "InferenceOptions::noise_variance");
-  }
-  return entry_significance(prepared.design, path, variance, df);
+  const auto estimate =
+      detail::given_or_least_squares_variance<Scalar>(options.noise_variance, prepared.design, path.preparation());
+  if (!estimate.given && estimate.residual_df <= 0)
+    throw invalid_query("the noise variance cannot be estimated by least squares with " +
+                        std::to_string(path.preparation().used_observations) + " rows and rank " +
+                        std::to_string(estimate.rank) + "; give InferenceOptions::noise_variance");
+  if (!(estimate.variance > Scalar(0)))
+    throw invalid_query("the least-squares fit is exact (zero residual variance); give "
+                        "InferenceOptions::noise_variance");
+  return entry_significance(prepared.design, path, detail::to_double(estimate.variance),
+                            estimate.given ? Index(0) : estimate.residual_df);
 }
 
 }  // namespace knotpath
