@@ -92,35 +92,16 @@ struct InformationCriteria {
   std::size_t best_bic = 0;        ///< index into knots of the BIC minimum (first among ties)
 };
 
-/// Mallows' Cp, AIC and BIC at every knot of a lasso path, and their
-/// minimizers (see the file comment for the formulas and the variance).
-/// `x`, `y`, `weights` are the data the path was traced on (checked).
-/// Throws invalid_option for a ridge (elastic net: the count of nonzero
-/// coefficients is not its degrees of freedom) or the least angle variant
-/// (its coefficients may cross zero inside a segment), invalid_query when the
-/// data do not match the path.
-template <class Scalar>
-InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const Vector<Scalar>& y,
-                                                 const Path<Scalar>& path, const CriteriaOptions& criteria = {},
-                                                 const Vector<Scalar>& weights = Vector<Scalar>()) {
-  using std::log;
-  criteria.validate();
-  const TraceOptions& options = path.options();
-  if (options.ridge != 0.0)
-    throw invalid_option("ridge", "information criteria need the plain lasso (ridge = 0): the "
-                                  "number of nonzero coefficients is not the elastic net's "
-                                  "degrees of freedom");
-  if (options.variant != Variant::lasso)
-    throw invalid_option("variant", "information criteria need the lasso variant (df = number "
-                                    "of nonzero coefficients holds for the lasso)");
-  PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, weights);
-  const Preparation<Scalar>& prep = path.preparation();
+namespace detail {
 
-  InformationCriteria<Scalar> out;
-  out.observations = prep.used_observations;
-  const Index n = prep.used_observations;
+/// The knot rows of the criteria with their size-free penalty, d and RSS
+/// (the scores come later, once sigma^2 is known).
+template <class Scalar>
+std::vector<KnotCriteria<Scalar>> criteria_rows(const Path<Scalar>& path) {
+  const Preparation<Scalar>& prep = path.preparation();
   const Index intercept = prep.intercept ? 1 : 0;
   const Scalar scale = penalty_scale(prep);
+  std::vector<KnotCriteria<Scalar>> rows;
   for (const auto& knot : path.knots()) {
     KnotCriteria<Scalar> c;
     c.step = knot.step;
@@ -129,36 +110,49 @@ InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const 
     c.nonzero = static_cast<Index>(knot.coefficients.size());
     c.parameters = c.nonzero + intercept;
     c.rss = knot.rss;
-    out.knots.push_back(c);
+    rows.push_back(c);
   }
+  return rows;
+}
 
-  const auto estimate =
-      detail::given_or_least_squares_variance<Scalar>(criteria.noise_variance, prepared.design, prep);
+/// Sets sigma^2, its source and residual df (the rule of the file comment;
+/// its first two steps are given_or_least_squares_variance). Throws
+/// invalid_query when no estimate exists or the estimate is 0.
+template <class Scalar>
+void set_noise_variance(InformationCriteria<Scalar>& out, const NoiseVarianceEstimate<Scalar>& estimate) {
+  const Index n = out.observations;
   if (estimate.given) {
     out.noise_variance = estimate.variance;
     out.source = NoiseVarianceSource::given;
-  } else {
-    if (estimate.residual_df > 0) {
-      out.noise_variance = estimate.variance;
-      out.source = NoiseVarianceSource::least_squares;
-      out.residual_df = estimate.residual_df;
-    } else {
-      const KnotCriteria<Scalar>* pick = nullptr;
-      for (const auto& c : out.knots)
-        if (2 * c.parameters <= n && (!pick || c.parameters > pick->parameters)) pick = &c;
-      if (!pick || n - pick->parameters <= 0)
-        throw invalid_query("cannot estimate the noise variance from " + std::to_string(n) +
-                            " rows; give CriteriaOptions::noise_variance");
-      out.residual_df = n - pick->parameters;
-      out.noise_variance = pick->rss / Scalar(static_cast<double>(out.residual_df));
-      out.source = NoiseVarianceSource::sparse_fit;
-    }
-    if (!(out.noise_variance > Scalar(0)))
-      throw invalid_query("the estimated noise variance is 0 (the data are fitted exactly); give "
-                          "CriteriaOptions::noise_variance");
+    return;
   }
+  if (estimate.residual_df > 0) {
+    out.noise_variance = estimate.variance;
+    out.source = NoiseVarianceSource::least_squares;
+    out.residual_df = estimate.residual_df;
+  } else {
+    // The sparse fit with the most nonzero coefficients among those with d <= n / 2.
+    const KnotCriteria<Scalar>* pick = nullptr;
+    for (const auto& c : out.knots)
+      if (2 * c.parameters <= n && (!pick || c.parameters > pick->parameters)) pick = &c;
+    if (!pick || n - pick->parameters <= 0)
+      throw invalid_query("cannot estimate the noise variance from " + std::to_string(n) +
+                          " rows; give CriteriaOptions::noise_variance");
+    out.residual_df = n - pick->parameters;
+    out.noise_variance = pick->rss / Scalar(static_cast<double>(out.residual_df));
+    out.source = NoiseVarianceSource::sparse_fit;
+  }
+  if (!(out.noise_variance > Scalar(0)))
+    throw invalid_query("the estimated noise variance is 0 (the data are fitted exactly); give "
+                        "CriteriaOptions::noise_variance");
+}
 
-  const Scalar nn(static_cast<double>(n));
+/// Cp, AIC and BIC of every knot row, and their minimizers (the first, the
+/// largest penalty, among ties).
+template <class Scalar>
+void score_criteria(InformationCriteria<Scalar>& out) {
+  using std::log;
+  const Scalar nn(static_cast<double>(out.observations));
   const Scalar s2 = out.noise_variance;
   for (auto& c : out.knots) {
     const Scalar d(static_cast<double>(c.parameters));
@@ -171,6 +165,37 @@ InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const 
     if (out.knots[i].aic < out.knots[out.best_aic].aic) out.best_aic = i;
     if (out.knots[i].bic < out.knots[out.best_bic].bic) out.best_bic = i;
   }
+}
+
+}  // namespace detail
+
+/// Mallows' Cp, AIC and BIC at every knot of a lasso path, and their
+/// minimizers (see the file comment for the formulas and the variance).
+/// `x`, `y`, `weights` are the data the path was traced on (checked).
+/// Throws invalid_option for a ridge (elastic net: the count of nonzero
+/// coefficients is not its degrees of freedom) or the least angle variant
+/// (its coefficients may cross zero inside a segment), invalid_query when the
+/// data do not match the path.
+template <class Scalar>
+InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                                 const Path<Scalar>& path, const CriteriaOptions& criteria = {},
+                                                 const Vector<Scalar>& weights = Vector<Scalar>()) {
+  criteria.validate();
+  const TraceOptions& options = path.options();
+  if (options.ridge != 0.0)
+    throw invalid_option("ridge", "information criteria need the plain lasso (ridge = 0): the "
+                                  "number of nonzero coefficients is not the elastic net's "
+                                  "degrees of freedom");
+  if (options.variant != Variant::lasso)
+    throw invalid_option("variant", "information criteria need the lasso variant (df = number "
+                                    "of nonzero coefficients holds for the lasso)");
+  const PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, weights);
+  InformationCriteria<Scalar> out;
+  out.observations = path.preparation().used_observations;
+  out.knots = detail::criteria_rows(path);
+  detail::set_noise_variance(out, detail::given_or_least_squares_variance<Scalar>(
+                                      criteria.noise_variance, prepared.design, path.preparation()));
+  detail::score_criteria(out);
   return out;
 }
 

@@ -234,34 +234,11 @@ inline std::vector<long> seeded_folds(const std::vector<Index>& usable, Index ro
   return fold;
 }
 
-/// Traces one fold and builds its quadratic segments.
+/// The quadratic segments of a traced fold, from the held-out residuals at
+/// each of its knots (simultaneous events share a point: no segment).
 template <class Scalar>
-Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
-                        const std::vector<long>& fold_of, long k, const TraceOptions& options,
-                        const Scalar& full_weight, const Scalar& full_scale) {
-  Fold<Scalar> fold;
-  const Index n = x.rows();
-  Vector<Scalar> training = w;
-  for (Index i = 0; i < n; ++i)
-    if (fold_of[static_cast<std::size_t>(i)] == k) {
-      training(i) = Scalar(0);
-      if (w(i) > Scalar(0)) {
-        fold.held_out.push_back(i);
-        fold.held_out_weight += w(i);
-      }
-    }
-  TraceOptions fold_options = options;
-  fold.training_weight = training.sum();
-  if (!(fold.training_weight > Scalar(0)))
-    throw invalid_data("fold " + std::to_string(k) + " leaves no training row with positive weight");
-  fold.scale = options.standardize ? square_root<Scalar>(fold.training_weight) : fold.training_weight;
-  if (!options.standardize && options.ridge != 0.0)
-    fold_options.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
-  if (options.min_penalty != 0.0)
-    fold_options.min_penalty = options.min_penalty * to_double(Scalar(fold.scale / full_scale));
-  fold.path = trace<Scalar>(x, y, fold_options, training);
-
-  // Held-out residuals at every knot.
+void build_segments(Fold<Scalar>& fold, const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                    const Vector<Scalar>& w) {
   const auto& knots = fold.path.knots();
   const Index m = static_cast<Index>(fold.held_out.size());
   Matrix<Scalar> xv(m, x.cols());
@@ -295,6 +272,36 @@ Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const 
     fold.segments.push_back(s);
     upper.swap(lower);
   }
+}
+
+/// Traces fold k on its training rows (the held-out rows get weight 0) and
+/// builds its quadratic segments.
+template <class Scalar>
+Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
+                        const std::vector<long>& fold_of, long k, const TraceOptions& options,
+                        const Scalar& full_weight, const Scalar& full_scale) {
+  Fold<Scalar> fold;
+  const Index n = x.rows();
+  Vector<Scalar> training = w;
+  for (Index i = 0; i < n; ++i)
+    if (fold_of[static_cast<std::size_t>(i)] == k) {
+      training(i) = Scalar(0);
+      if (w(i) > Scalar(0)) {
+        fold.held_out.push_back(i);
+        fold.held_out_weight += w(i);
+      }
+    }
+  TraceOptions fold_options = options;
+  fold.training_weight = training.sum();
+  if (!(fold.training_weight > Scalar(0)))
+    throw invalid_data("fold " + std::to_string(k) + " leaves no training row with positive weight");
+  fold.scale = penalty_scale<Scalar>(options.standardize, fold.training_weight);
+  if (!options.standardize && options.ridge != 0.0)
+    fold_options.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
+  if (options.min_penalty != 0.0)
+    fold_options.min_penalty = options.min_penalty * to_double(Scalar(fold.scale / full_scale));
+  fold.path = trace<Scalar>(x, y, fold_options, training);
+  build_segments(fold, x, y, w);
   return fold;
 }
 
@@ -349,6 +356,168 @@ std::vector<long> make_folds(Index rows, const CrossValidationOptions& cv,
   return detail::seeded_folds(usable, rows, k, cv.seed);
 }
 
+namespace detail {
+
+/// The number of folds K of an assignment. Throws invalid_option when a
+/// fold holds no row with positive weight.
+template <class Scalar>
+std::size_t checked_fold_count(const std::vector<long>& fold_of, const Vector<Scalar>& w) {
+  long top = -1;
+  for (long f : fold_of) top = std::max(top, f);
+  const std::size_t k = static_cast<std::size_t>(top + 1);
+  std::vector<char> seen(k, 0);
+  for (std::size_t i = 0; i < fold_of.size(); ++i) {
+    const long f = fold_of[i];
+    if (f >= 0 && w(static_cast<Index>(i)) > Scalar(0)) seen[static_cast<std::size_t>(f)] = 1;
+  }
+  for (std::size_t f = 0; f < k; ++f)
+    if (!seen[f])
+      throw invalid_option("fold_of", "fold " + std::to_string(f) + " holds no row with positive weight");
+  return k;
+}
+
+/// Traces the k folds of `cv` (its full path and fold_of already set) with
+/// `threads` threads (0: the hardware's count). Fold f is traced by thread
+/// f mod T, so nothing depends on T; the first failure in fold order is
+/// rethrown.
+template <class Scalar>
+std::vector<Fold<Scalar>> trace_folds(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
+                                      const CrossValidation<Scalar>& cv, std::size_t k,
+                                      const TraceOptions& options, std::size_t threads) {
+  std::vector<Fold<Scalar>> folds(k);
+  std::vector<std::exception_ptr> failure(k);
+  const Scalar full_weight = cv.full_path.preparation().weight_sum;
+  if (threads == 0) threads = std::max(1u, std::thread::hardware_concurrency());
+  threads = std::min(threads, k);
+  TraceOptions fold_options = options;
+  if (threads > 1) fold_options.threads = 1;  // folds in parallel: no threads inside a fold
+  auto work = [&](std::size_t first) {
+    for (std::size_t f = first; f < k; f += threads) {
+      try {
+        folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options, full_weight,
+                                      cv.full_scale);
+      } catch (...) {
+        failure[f] = std::current_exception();
+      }
+    }
+  };
+  if (threads <= 1) {
+    work(0);
+  } else {
+    std::vector<std::thread> pool;
+    for (std::size_t t = 0; t < threads; ++t) pool.emplace_back(work, t);
+    for (auto& t : pool) t.join();
+  }
+  for (const auto& e : failure)
+    if (e) std::rethrow_exception(e);
+  return folds;
+}
+
+/// Sets the curve's domain [mu_low, mu_high] and the total held-out weight
+/// from the full path and the folds. Every fit is empty above mu_high; below
+/// the last knot of any path that stopped early nothing is known.
+template <class Scalar>
+void set_domain(CrossValidation<Scalar>& cv) {
+  cv.total_weight = Scalar(0);
+  cv.mu_high = cv.full_path.lambda_max() / cv.full_scale;
+  cv.mu_low = cv.full_path.stopped_early() ? Scalar(cv.full_path.knots().back().penalty / cv.full_scale)
+                                           : Scalar(0);
+  for (const auto& f : cv.folds) {
+    cv.total_weight += f.held_out_weight;
+    cv.mu_high = std::max<Scalar>(cv.mu_high, f.mu_max());
+    cv.mu_low = std::max<Scalar>(cv.mu_low, f.mu_min());
+  }
+}
+
+/// Every fold's knots inside the domain and its two ends, descending, without repeats.
+template <class Scalar>
+std::vector<Scalar> merged_grid(const CrossValidation<Scalar>& cv) {
+  std::vector<Scalar> grid{cv.mu_high, cv.mu_low};
+  for (const auto& f : cv.folds)
+    for (const auto& s : f.segments)
+      for (const Scalar& m : {s.mu_high, s.mu_low})
+        if (m > cv.mu_low && m < cv.mu_high) grid.push_back(m);
+  std::sort(grid.begin(), grid.end(), [](const Scalar& a, const Scalar& b) { return a > b; });
+  grid.erase(std::unique(grid.begin(), grid.end()), grid.end());
+  return grid;
+}
+
+/// One quadratic per interval of the descending grid: the sum over folds of
+/// (W_k / W) e_k, each e_k re-expressed in s = (mu - lo) / (hi - lo). A
+/// pointer per fold walks down its segments as the intervals descend.
+template <class Scalar>
+std::vector<CurvePiece<Scalar>> curve_pieces(const std::vector<Fold<Scalar>>& folds, const Scalar& total_weight,
+                                             const std::vector<Scalar>& grid) {
+  std::vector<CurvePiece<Scalar>> pieces;
+  std::vector<std::size_t> at(folds.size(), 0);
+  for (std::size_t g = 0; g + 1 < grid.size(); ++g) {
+    CurvePiece<Scalar> piece;
+    piece.mu_high = grid[g];
+    piece.mu_low = grid[g + 1];
+    const Scalar width = piece.mu_high - piece.mu_low;
+    for (std::size_t f = 0; f < folds.size(); ++f) {
+      const Fold<Scalar>& fold = folds[f];
+      const Scalar share = fold.held_out_weight / total_weight;
+      const auto& segs = fold.segments;
+      while (at[f] < segs.size() && segs[at[f]].mu_low >= piece.mu_high) ++at[f];
+      if (segs.empty() || (at[f] == 0 && piece.mu_low >= segs.front().mu_high)) {
+        piece.constant += share * fold.error_above;
+        continue;
+      }
+      const FoldSegment<Scalar>& s = segs[std::min(at[f], segs.size() - 1)];
+      const Scalar span = s.mu_high - s.mu_low;
+      const Scalar t0 = (piece.mu_low - s.mu_low) / span;
+      const Scalar dt = width / span;
+      const Scalar scale = share / fold.held_out_weight;
+      piece.constant += scale * (s.a - Scalar(2) * s.b * t0 + s.c * t0 * t0);
+      piece.linear += scale * Scalar(2) * dt * (s.c * t0 - s.b);
+      piece.quadratic += scale * s.c * dt * dt;
+    }
+    pieces.push_back(piece);
+  }
+  return pieces;
+}
+
+/// The exact global minimum of the curve: each piece's ends and stationary
+/// point, scanned from the largest mu (ties keep the larger mu).
+template <class Scalar>
+CurvePoint<Scalar> curve_minimum(const CrossValidation<Scalar>& cv) {
+  Scalar best_mu = cv.mu_high, best = std::numeric_limits<Scalar>::infinity();
+  for (const auto& piece : cv.pieces) {
+    auto consider = [&](const Scalar& s) {
+      const Scalar v = piece.at(s);
+      if (v < best) {
+        best = v;
+        best_mu = piece.mu_low + s * (piece.mu_high - piece.mu_low);
+      }
+    };
+    consider(Scalar(1));
+    if (piece.quadratic > Scalar(0)) {
+      const Scalar s = -piece.linear / (Scalar(2) * piece.quadratic);
+      if (s > Scalar(0) && s < Scalar(1)) consider(s);
+    }
+    consider(Scalar(0));
+  }
+  if (cv.pieces.empty()) best = cv.error_at(best_mu);  // a one-point domain
+  return {best_mu, Scalar(best_mu * cv.full_scale), best, cv.standard_error_at(best_mu)};
+}
+
+/// The largest mu with CV(mu) <= CV(min) + SE(min) (cv.minimum set).
+template <class Scalar>
+CurvePoint<Scalar> parsimonious_choice(const CrossValidation<Scalar>& cv) {
+  const Scalar threshold = cv.minimum.error + cv.minimum.standard_error;
+  for (const auto& piece : cv.pieces) {
+    if (piece.mu_high < cv.minimum.mu) break;
+    if (auto s = largest_at_most(piece, threshold)) {
+      const Scalar mu = std::max<Scalar>(cv.minimum.mu, piece.mu_low + *s * (piece.mu_high - piece.mu_low));
+      return cv.point(mu);
+    }
+  }
+  return cv.minimum;
+}
+
+}  // namespace detail
+
 /// Exact K-fold cross-validation of the path of y on x (see the file
 /// comment). Every fold is traced with `options` on its training rows
 /// (weights of held-out rows set to 0). Throws invalid_option, invalid_data.
@@ -369,132 +538,12 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
   result.full_scale = penalty_scale(result.full_path.preparation());
   result.fold_of = make_folds<Scalar>(n, cv, weights);
   const Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
-
-  long top = -1;
-  for (long f : result.fold_of) top = std::max(top, f);
-  const std::size_t k = static_cast<std::size_t>(top + 1);
-  {
-    std::vector<char> seen(k, 0);
-    for (Index i = 0; i < n; ++i) {
-      const long f = result.fold_of[static_cast<std::size_t>(i)];
-      if (f >= 0 && w(i) > Scalar(0)) seen[static_cast<std::size_t>(f)] = 1;
-    }
-    for (std::size_t f = 0; f < k; ++f)
-      if (!seen[f])
-        throw invalid_option("fold_of", "fold " + std::to_string(f) +
-                                            " holds no row with positive weight");
-  }
-  const Scalar full_weight = result.full_path.preparation().weight_sum;
-
-  // Trace the folds; fold f is done by thread f mod T, so nothing depends on T.
-  result.folds.resize(k);
-  std::vector<std::exception_ptr> failure(k);
-  std::size_t threads = cv.threads == 0 ? std::max(1u, std::thread::hardware_concurrency()) : cv.threads;
-  threads = std::min(threads, k);
-  TraceOptions fold_options = options;
-  if (threads > 1) fold_options.threads = 1;  // folds in parallel: no threads inside a fold
-  auto work = [&](std::size_t first) {
-    for (std::size_t f = first; f < k; f += threads) {
-      try {
-        result.folds[f] = detail::trace_fold<Scalar>(x, y, w, result.fold_of, static_cast<long>(f),
-                                                     fold_options, full_weight, result.full_scale);
-      } catch (...) {
-        failure[f] = std::current_exception();
-      }
-    }
-  };
-  if (threads <= 1) {
-    work(0);
-  } else {
-    std::vector<std::thread> pool;
-    for (std::size_t t = 0; t < threads; ++t) pool.emplace_back(work, t);
-    for (auto& t : pool) t.join();
-  }
-  for (const auto& e : failure)
-    if (e) std::rethrow_exception(e);
-
-  // The domain and the merged grid.
-  result.total_weight = Scalar(0);
-  result.mu_high = result.full_path.lambda_max() / result.full_scale;
-  // Below the last knot of a path that stopped early nothing is known.
-  result.mu_low = result.full_path.stopped_early()
-                      ? Scalar(result.full_path.knots().back().penalty / result.full_scale)
-                      : Scalar(0);
-  for (const auto& f : result.folds) {
-    result.total_weight += f.held_out_weight;
-    result.mu_high = std::max<Scalar>(result.mu_high, f.mu_max());
-    result.mu_low = std::max<Scalar>(result.mu_low, f.mu_min());
-  }
-  std::vector<Scalar> grid{result.mu_high, result.mu_low};
-  for (const auto& f : result.folds)
-    for (const auto& s : f.segments)
-      for (const Scalar& m : {s.mu_high, s.mu_low})
-        if (m > result.mu_low && m < result.mu_high) grid.push_back(m);
-  std::sort(grid.begin(), grid.end(), [](const Scalar& a, const Scalar& b) { return a > b; });
-  grid.erase(std::unique(grid.begin(), grid.end()), grid.end());
-
-  // One quadratic per interval: sum over folds of (W_k / W) e_k, each e_k
-  // re-expressed in s = (mu - lo) / (hi - lo). A pointer per fold walks down
-  // its segments as the intervals descend.
-  std::vector<std::size_t> at(k, 0);
-  for (std::size_t g = 0; g + 1 < grid.size(); ++g) {
-    CurvePiece<Scalar> piece;
-    piece.mu_high = grid[g];
-    piece.mu_low = grid[g + 1];
-    const Scalar width = piece.mu_high - piece.mu_low;
-    for (std::size_t f = 0; f < k; ++f) {
-      const Fold<Scalar>& fold = result.folds[f];
-      const Scalar share = fold.held_out_weight / result.total_weight;
-      const auto& segs = fold.segments;
-      while (at[f] < segs.size() && segs[at[f]].mu_low >= piece.mu_high) ++at[f];
-      if (segs.empty() || (at[f] == 0 && piece.mu_low >= segs.front().mu_high)) {
-        piece.constant += share * fold.error_above;
-        continue;
-      }
-      const FoldSegment<Scalar>& s = segs[std::min(at[f], segs.size() - 1)];
-      const Scalar span = s.mu_high - s.mu_low;
-      const Scalar t0 = (piece.mu_low - s.mu_low) / span;
-      const Scalar dt = width / span;
-      const Scalar scale = share / fold.held_out_weight;
-      piece.constant += scale * (s.a - Scalar(2) * s.b * t0 + s.c * t0 * t0);
-      piece.linear += scale * Scalar(2) * dt * (s.c * t0 - s.b);
-      piece.quadratic += scale * s.c * dt * dt;
-    }
-    result.pieces.push_back(piece);
-  }
-
-  // Exact global minimum, scanning from the largest mu (ties keep the larger mu).
-  Scalar best_mu = result.mu_high, best = std::numeric_limits<Scalar>::infinity();
-  for (const auto& piece : result.pieces) {
-    auto consider = [&](const Scalar& s) {
-      const Scalar v = piece.at(s);
-      if (v < best) {
-        best = v;
-        best_mu = piece.mu_low + s * (piece.mu_high - piece.mu_low);
-      }
-    };
-    consider(Scalar(1));
-    if (piece.quadratic > Scalar(0)) {
-      const Scalar s = -piece.linear / (Scalar(2) * piece.quadratic);
-      if (s > Scalar(0) && s < Scalar(1)) consider(s);
-    }
-    consider(Scalar(0));
-  }
-  if (result.pieces.empty()) best = result.error_at(best_mu);  // a one-point domain
-  result.minimum = {best_mu, Scalar(best_mu * result.full_scale), best,
-                    result.standard_error_at(best_mu)};
-
-  // The parsimonious choice: the largest mu with CV(mu) <= CV(min) + SE(min).
-  const Scalar threshold = best + result.minimum.standard_error;
-  result.parsimonious = result.minimum;
-  for (const auto& piece : result.pieces) {
-    if (piece.mu_high < best_mu) break;
-    if (auto s = detail::largest_at_most(piece, threshold)) {
-      const Scalar mu = std::max<Scalar>(best_mu, piece.mu_low + *s * (piece.mu_high - piece.mu_low));
-      result.parsimonious = result.point(mu);
-      break;
-    }
-  }
+  const std::size_t k = detail::checked_fold_count(result.fold_of, w);
+  result.folds = detail::trace_folds(x, y, w, result, k, options, cv.threads);
+  detail::set_domain(result);
+  result.pieces = detail::curve_pieces(result.folds, result.total_weight, detail::merged_grid(result));
+  result.minimum = detail::curve_minimum(result);
+  result.parsimonious = detail::parsimonious_choice(result);
   return result;
 }
 
