@@ -68,28 +68,29 @@ struct CriteriaOptions {
 /// The criteria at one knot.
 template <class Scalar>
 struct KnotCriteria {
-  Index step = 0;         ///< knot-table step
-  Scalar penalty{0};      ///< lambda
-  Scalar mu{0};           ///< size-free penalty
-  Index nonzero = 0;      ///< nonzero coefficients
-  Index parameters = 0;   ///< d = nonzero + intercept
-  Scalar rss{0};          ///< weighted residual sum of squares
-  Scalar mallows_cp{0};   ///< RSS / sigma^2 - n + 2 d
-  Scalar aic{0};          ///< RSS / (n sigma^2) + 2 d / n
-  Scalar bic{0};          ///< RSS / (n sigma^2) + log(n) d / n
+  Index step = 0;        ///< knot-table step
+  Scalar penalty{0};     ///< lambda
+  Scalar mu{0};          ///< size-free penalty
+  Index nonzero = 0;     ///< nonzero coefficients
+  Index parameters = 0;  ///< d = nonzero + intercept
+  Scalar rss{0};         ///< weighted residual sum of squares
+  Scalar mallows_cp{0};  ///< RSS / sigma^2 - n + 2 d
+  Scalar aic{0};         ///< RSS / (n sigma^2) + 2 d / n
+  Scalar bic{0};         ///< RSS / (n sigma^2) + log(n) d / n
 };
 
 /// Cp, AIC and BIC along a path.
 template <class Scalar>
 struct InformationCriteria {
-  std::vector<KnotCriteria<Scalar>> knots;  ///< one per knot-table row
-  Scalar noise_variance{0};        ///< sigma^2 used by all three criteria
+  std::vector<KnotCriteria<Scalar>> knots;                  ///< one per knot-table row
+  Scalar noise_variance{0};                                 ///< sigma^2 used by all three criteria
   NoiseVarianceSource source = NoiseVarianceSource::given;  ///< where sigma^2 came from
-  Index residual_df = 0;           ///< degrees of freedom of the variance estimate (0 when given)
-  Index observations = 0;          ///< n: rows with positive weight
-  std::size_t best_cp = 0;         ///< index into knots of the minimum (the first, largest penalty, among ties)
-  std::size_t best_aic = 0;        ///< index into knots of the AIC minimum (first among ties)
-  std::size_t best_bic = 0;        ///< index into knots of the BIC minimum (first among ties)
+  Index residual_df = 0;   ///< degrees of freedom of the variance estimate (0 when given)
+  Index observations = 0;  ///< n: rows with positive weight
+  std::size_t best_cp =
+      0;  ///< index into knots of the minimum (the first, largest penalty, among ties)
+  std::size_t best_aic = 0;  ///< index into knots of the AIC minimum (first among ties)
+  std::size_t best_bic = 0;  ///< index into knots of the BIC minimum (first among ties)
 };
 
 namespace detail {
@@ -119,7 +120,8 @@ std::vector<KnotCriteria<Scalar>> criteria_rows(const Path<Scalar>& path) {
 /// its first two steps are given_or_least_squares_variance). Throws
 /// invalid_query when no estimate exists or the estimate is 0.
 template <class Scalar>
-void set_noise_variance(InformationCriteria<Scalar>& out, const NoiseVarianceEstimate<Scalar>& estimate) {
+void set_noise_variance(InformationCriteria<Scalar>& out,
+                        const NoiseVarianceEstimate<Scalar>& estimate) {
   const Index n = out.observations;
   if (estimate.given) {
     out.noise_variance = estimate.variance;
@@ -143,8 +145,9 @@ void set_noise_variance(InformationCriteria<Scalar>& out, const NoiseVarianceEst
     out.source = NoiseVarianceSource::sparse_fit;
   }
   if (!(out.noise_variance > Scalar(0)))
-    throw invalid_query("the estimated noise variance is 0 (the data are fitted exactly); give "
-                        "CriteriaOptions::noise_variance");
+    throw invalid_query(
+        "the estimated noise variance is 0 (the data are fitted exactly); give "
+        "CriteriaOptions::noise_variance");
 }
 
 /// Cp, AIC and BIC of every knot row, and their minimizers (the first, the
@@ -178,23 +181,27 @@ void score_criteria(InformationCriteria<Scalar>& out) {
 /// data do not match the path.
 template <class Scalar>
 InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const Vector<Scalar>& y,
-                                                 const Path<Scalar>& path, const CriteriaOptions& criteria = {},
+                                                 const Path<Scalar>& path,
+                                                 const CriteriaOptions& criteria = {},
                                                  const Vector<Scalar>& weights = Vector<Scalar>()) {
   criteria.validate();
   const TraceOptions& options = path.options();
   if (options.ridge != 0.0)
-    throw invalid_option("ridge", "information criteria need the plain lasso (ridge = 0): the "
-                                  "number of nonzero coefficients is not the elastic net's "
-                                  "degrees of freedom");
+    throw invalid_option("ridge",
+                         "information criteria need the plain lasso (ridge = 0): the "
+                         "number of nonzero coefficients is not the elastic net's "
+                         "degrees of freedom");
   if (options.variant != Variant::lasso)
-    throw invalid_option("variant", "information criteria need the lasso variant (df = number "
-                                    "of nonzero coefficients holds for the lasso)");
+    throw invalid_option("variant",
+                         "information criteria need the lasso variant (df = number "
+                         "of nonzero coefficients holds for the lasso)");
   const PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, weights);
   InformationCriteria<Scalar> out;
   out.observations = path.preparation().used_observations;
   out.knots = detail::criteria_rows(path);
-  detail::set_noise_variance(out, detail::given_or_least_squares_variance<Scalar>(
-                                      criteria.noise_variance, prepared.design, path.preparation()));
+  detail::set_noise_variance(
+      out, detail::given_or_least_squares_variance<Scalar>(criteria.noise_variance, prepared.design,
+                                                           path.preparation()));
   detail::score_criteria(out);
   return out;
 }

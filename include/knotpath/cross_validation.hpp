@@ -77,10 +77,9 @@ struct CrossValidationOptions {
   void validate(Index rows) const {
     if (!fold_of.empty()) {
       if (static_cast<Index>(fold_of.size()) != rows)
-        throw invalid_option("fold_of", "has " + std::to_string(fold_of.size()) +
-                                            " entries for " + std::to_string(rows) + " rows");
-      if (leave_one_out)
-        throw invalid_option("fold_of", "cannot be combined with leave_one_out");
+        throw invalid_option("fold_of", "has " + std::to_string(fold_of.size()) + " entries for " +
+                                            std::to_string(rows) + " rows");
+      if (leave_one_out) throw invalid_option("fold_of", "cannot be combined with leave_one_out");
       long top = -1;
       for (long f : fold_of) top = std::max(top, f);
       if (top < 1) throw invalid_option("fold_of", "needs at least two folds (numbers 0 and 1)");
@@ -97,20 +96,20 @@ template <class Scalar>
 struct FoldSegment {
   Scalar mu_high{0};  ///< upper end of the segment (size-free penalty of the upper knot)
   Scalar mu_low{0};   ///< lower end (the lower knot), < mu_high
-  Scalar a{0};  ///< sum w r^2 of the held-out residuals r at mu_low
-  Scalar b{0};  ///< sum w r d, d = change of the predictions from mu_low to mu_high
-  Scalar c{0};  ///< sum w d^2
+  Scalar a{0};        ///< sum w r^2 of the held-out residuals r at mu_low
+  Scalar b{0};        ///< sum w r d, d = change of the predictions from mu_low to mu_high
+  Scalar c{0};        ///< sum w d^2
 };
 
 /// One fold of a cross-validation.
 template <class Scalar>
 struct Fold {
-  std::vector<Index> held_out;       ///< rows held out (ascending)
-  Scalar training_weight{0};         ///< sum of the training rows' weights
-  Scalar held_out_weight{0};         ///< W_k
-  Scalar scale{0};                   ///< penalty_scale of the training data: lambda_fold = mu * scale
-  Path<Scalar> path;                 ///< path traced on the training rows
-  Scalar error_above{0};             ///< held-out MSE for mu >= the first knot (constant)
+  std::vector<Index> held_out;  ///< rows held out (ascending)
+  Scalar training_weight{0};    ///< sum of the training rows' weights
+  Scalar held_out_weight{0};    ///< W_k
+  Scalar scale{0};              ///< penalty_scale of the training data: lambda_fold = mu * scale
+  Path<Scalar> path;            ///< path traced on the training rows
+  Scalar error_above{0};        ///< held-out MSE for mu >= the first knot (constant)
   std::vector<FoldSegment<Scalar>> segments;  ///< descending in mu, no zero-length ones
 
   /// The fold's first knot on the size-free axis.
@@ -157,16 +156,16 @@ struct CurvePoint {
 /// The result of cross_validate(): the folds, the exact curve and the choices.
 template <class Scalar>
 struct CrossValidation {
-  std::vector<long> fold_of;           ///< fold of each row (-1: never held out)
-  std::vector<Fold<Scalar>> folds;     ///< in fold order
-  Path<Scalar> full_path;              ///< the path of all the data
-  Scalar full_scale{0};                ///< penalty_scale of all the data: lambda = mu * full_scale
-  Scalar total_weight{0};              ///< W = sum of the held-out weights of all folds
-  Scalar mu_high{0};                   ///< top of the curve's domain (every fit is empty above it)
-  Scalar mu_low{0};                    ///< bottom of the domain (0 unless a path stopped early)
+  std::vector<long> fold_of;        ///< fold of each row (-1: never held out)
+  std::vector<Fold<Scalar>> folds;  ///< in fold order
+  Path<Scalar> full_path;           ///< the path of all the data
+  Scalar full_scale{0};             ///< penalty_scale of all the data: lambda = mu * full_scale
+  Scalar total_weight{0};           ///< W = sum of the held-out weights of all folds
+  Scalar mu_high{0};                ///< top of the curve's domain (every fit is empty above it)
+  Scalar mu_low{0};                 ///< bottom of the domain (0 unless a path stopped early)
   std::vector<CurvePiece<Scalar>> pieces;  ///< the exact curve, descending in mu
-  CurvePoint<Scalar> minimum;       ///< exact global minimizer (the largest mu among ties)
-  CurvePoint<Scalar> parsimonious;  ///< largest mu with CV <= CV(min) + SE(min)
+  CurvePoint<Scalar> minimum;              ///< exact global minimizer (the largest mu among ties)
+  CurvePoint<Scalar> parsimonious;         ///< largest mu with CV <= CV(min) + SE(min)
 
   /// CV(mu) for mu >= mu_low (constant above mu_high). Throws invalid_query below the domain.
   Scalar error_at(const Scalar& mu) const {
@@ -294,7 +293,8 @@ Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const 
   TraceOptions fold_options = options;
   fold.training_weight = training.sum();
   if (!(fold.training_weight > Scalar(0)))
-    throw invalid_data("fold " + std::to_string(k) + " leaves no training row with positive weight");
+    throw invalid_data("fold " + std::to_string(k) +
+                       " leaves no training row with positive weight");
   fold.scale = penalty_scale<Scalar>(options.standardize, fold.training_weight);
   if (!options.standardize && options.ridge != 0.0)
     fold_options.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
@@ -325,7 +325,8 @@ std::optional<Scalar> largest_at_most(const CurvePiece<Scalar>& q, const Scalar&
   } else {
     return q.at(Scalar(0)) <= threshold ? std::optional<Scalar>(Scalar(0)) : std::nullopt;
   }
-  if (*root < Scalar(0)) return q.at(Scalar(0)) <= threshold ? std::optional<Scalar>(Scalar(0)) : std::nullopt;
+  if (*root < Scalar(0))
+    return q.at(Scalar(0)) <= threshold ? std::optional<Scalar>(Scalar(0)) : std::nullopt;
   if (*root > Scalar(1)) root = Scalar(1);
   return root;
 }
@@ -372,7 +373,8 @@ std::size_t checked_fold_count(const std::vector<long>& fold_of, const Vector<Sc
   }
   for (std::size_t f = 0; f < k; ++f)
     if (!seen[f])
-      throw invalid_option("fold_of", "fold " + std::to_string(f) + " holds no row with positive weight");
+      throw invalid_option("fold_of",
+                           "fold " + std::to_string(f) + " holds no row with positive weight");
   return k;
 }
 
@@ -381,9 +383,10 @@ std::size_t checked_fold_count(const std::vector<long>& fold_of, const Vector<Sc
 /// f mod T, so nothing depends on T; the first failure in fold order is
 /// rethrown.
 template <class Scalar>
-std::vector<Fold<Scalar>> trace_folds(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
-                                      const CrossValidation<Scalar>& cv, std::size_t k,
-                                      const TraceOptions& options, std::size_t threads) {
+std::vector<Fold<Scalar>> trace_folds(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                      const Vector<Scalar>& w, const CrossValidation<Scalar>& cv,
+                                      std::size_t k, const TraceOptions& options,
+                                      std::size_t threads) {
   std::vector<Fold<Scalar>> folds(k);
   std::vector<std::exception_ptr> failure(k);
   const Scalar full_weight = cv.full_path.preparation().weight_sum;
@@ -394,8 +397,8 @@ std::vector<Fold<Scalar>> trace_folds(const Matrix<Scalar>& x, const Vector<Scal
   auto work = [&](std::size_t first) {
     for (std::size_t f = first; f < k; f += threads) {
       try {
-        folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options, full_weight,
-                                      cv.full_scale);
+        folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options,
+                                      full_weight, cv.full_scale);
       } catch (...) {
         failure[f] = std::current_exception();
       }
@@ -420,8 +423,9 @@ template <class Scalar>
 void set_domain(CrossValidation<Scalar>& cv) {
   cv.total_weight = Scalar(0);
   cv.mu_high = cv.full_path.lambda_max() / cv.full_scale;
-  cv.mu_low = cv.full_path.stopped_early() ? Scalar(cv.full_path.knots().back().penalty / cv.full_scale)
-                                           : Scalar(0);
+  cv.mu_low = cv.full_path.stopped_early()
+                  ? Scalar(cv.full_path.knots().back().penalty / cv.full_scale)
+                  : Scalar(0);
   for (const auto& f : cv.folds) {
     cv.total_weight += f.held_out_weight;
     cv.mu_high = std::max<Scalar>(cv.mu_high, f.mu_max());
@@ -446,7 +450,8 @@ std::vector<Scalar> merged_grid(const CrossValidation<Scalar>& cv) {
 /// (W_k / W) e_k, each e_k re-expressed in s = (mu - lo) / (hi - lo). A
 /// pointer per fold walks down its segments as the intervals descend.
 template <class Scalar>
-std::vector<CurvePiece<Scalar>> curve_pieces(const std::vector<Fold<Scalar>>& folds, const Scalar& total_weight,
+std::vector<CurvePiece<Scalar>> curve_pieces(const std::vector<Fold<Scalar>>& folds,
+                                             const Scalar& total_weight,
                                              const std::vector<Scalar>& grid) {
   std::vector<CurvePiece<Scalar>> pieces;
   std::vector<std::size_t> at(folds.size(), 0);
@@ -509,7 +514,8 @@ CurvePoint<Scalar> parsimonious_choice(const CrossValidation<Scalar>& cv) {
   for (const auto& piece : cv.pieces) {
     if (piece.mu_high < cv.minimum.mu) break;
     if (auto s = largest_at_most(piece, threshold)) {
-      const Scalar mu = std::max<Scalar>(cv.minimum.mu, piece.mu_low + *s * (piece.mu_high - piece.mu_low));
+      const Scalar mu =
+          std::max<Scalar>(cv.minimum.mu, piece.mu_low + *s * (piece.mu_high - piece.mu_low));
       return cv.point(mu);
     }
   }
@@ -525,7 +531,8 @@ CurvePoint<Scalar> parsimonious_choice(const CrossValidation<Scalar>& cv) {
 /// the merge; memory: the K paths.
 template <class Scalar>
 CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Scalar>& y,
-                                       const TraceOptions& options, const CrossValidationOptions& cv,
+                                       const TraceOptions& options,
+                                       const CrossValidationOptions& cv,
                                        const Vector<Scalar>& weights = Vector<Scalar>()) {
   static_assert(!detail::is_exact_v<Scalar>,
                 "cross-validation needs square roots (the size-free penalty): use a floating type");
@@ -541,7 +548,8 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
   const std::size_t k = detail::checked_fold_count(result.fold_of, w);
   result.folds = detail::trace_folds(x, y, w, result, k, options, cv.threads);
   detail::set_domain(result);
-  result.pieces = detail::curve_pieces(result.folds, result.total_weight, detail::merged_grid(result));
+  result.pieces =
+      detail::curve_pieces(result.folds, result.total_weight, detail::merged_grid(result));
   result.minimum = detail::curve_minimum(result);
   result.parsimonious = detail::parsimonious_choice(result);
   return result;

@@ -45,9 +45,9 @@ inline DemoData greenhouse(std::uint64_t seed = 20261201) {
   detail::SplitMix64 rng(seed);
   DemoData d;
   d.response_name = "yield_kg_m2";
-  d.predictor_names = {"day_temp_c",  "night_temp_c", "co2_ppm",     "humidity_pct",
-                       "light_hours", "irrigation_l", "nutrient_ec", "substrate_ph",
-                       "plants_m2",   "pruning_score", "hives",      "shading_pct",
+  d.predictor_names = {"day_temp_c",  "night_temp_c",  "co2_ppm",     "humidity_pct",
+                       "light_hours", "irrigation_l",  "nutrient_ec", "substrate_ph",
+                       "plants_m2",   "pruning_score", "hives",       "shading_pct",
                        "vent_hours",  "staff_hours"};
   const Index n = 240, p = 14;
   d.x.resize(n, p);
@@ -55,11 +55,11 @@ inline DemoData greenhouse(std::uint64_t seed = 20261201) {
   d.noise_sd = 0.35;
   d.true_intercept = -6.0;
   d.true_coefficients = Vector<double>::Zero(p);
-  d.true_coefficients(0) = 0.12;   // day_temp_c
-  d.true_coefficients(2) = 0.004;  // co2_ppm
-  d.true_coefficients(4) = 0.45;   // light_hours
-  d.true_coefficients(6) = 0.6;    // nutrient_ec
-  d.true_coefficients(11) = -0.03; // shading_pct
+  d.true_coefficients(0) = 0.12;    // day_temp_c
+  d.true_coefficients(2) = 0.004;   // co2_ppm
+  d.true_coefficients(4) = 0.45;    // light_hours
+  d.true_coefficients(6) = 0.6;     // nutrient_ec
+  d.true_coefficients(11) = -0.03;  // shading_pct
   for (Index i = 0; i < n; ++i) {
     const double season = std::sin(6.283185307179586 * static_cast<double>(i % 52) / 52.0);
     const double day = 22.0 + 3.0 * season + 1.2 * rng.normal();

@@ -86,16 +86,16 @@ struct InferenceOptions {
 /// Significance of one entry (an enter row of the knot table). Values that a
 /// test does not define for this entry are NaN, with the reason in `note`.
 struct EntrySignificance {
-  Index step = 0;                 ///< knot-table step of the enter row
-  Index predictor = 0;            ///< user's 0-based index
-  int sign = 0;                   ///< sign it entered with
-  double penalty = 0;             ///< lambda_k
-  double next_penalty = 0;        ///< lambda_{k+1} (NaN when the path stops first)
+  Index step = 0;           ///< knot-table step of the enter row
+  Index predictor = 0;      ///< user's 0-based index
+  int sign = 0;             ///< sign it entered with
+  double penalty = 0;       ///< lambda_k
+  double next_penalty = 0;  ///< lambda_{k+1} (NaN when the path stops first)
   double covariance_statistic = std::numeric_limits<double>::quiet_NaN();  ///< T_k
   double covariance_p_value = std::numeric_limits<double>::quiet_NaN();    ///< Exp(1) or F(2, d)
   double spacing_p_value = std::numeric_limits<double>::quiet_NaN();       ///< p_k
   double omega = std::numeric_limits<double>::quiet_NaN();                 ///< omega_k
-  std::string note;               ///< why a value is missing (empty when none is)
+  std::string note;  ///< why a value is missing (empty when none is)
 };
 
 /// The tests along one path.
@@ -157,8 +157,7 @@ inline double f2_upper_tail(double t, double d) {
 /// left alone (the caller sized it).
 template <class Out>
 void fit_size(Out& out, Index n) {
-  if constexpr (requires { out.conservativeResize(n); })
-    out.resize(n);
+  if constexpr (requires { out.conservativeResize(n); }) out.resize(n);
 }
 
 /// A view of some columns of a design operator (for the reduced problems).
@@ -173,7 +172,9 @@ class ColumnSubset {
 
   Index rows() const { return base_.rows(); }
   Index cols() const { return static_cast<Index>(cols_.size()); }
-  Scalar squared_norm(Index j) const { return base_.squared_norm(cols_[static_cast<std::size_t>(j)]); }
+  Scalar squared_norm(Index j) const {
+    return base_.squared_norm(cols_[static_cast<std::size_t>(j)]);
+  }
   Scalar response_squared_norm() const { return base_.response_squared_norm(); }
   template <class Out>
   void response_correlations(Out&& out) const {
@@ -188,7 +189,8 @@ class ColumnSubset {
                          std::forward<Out>(out));
   }
   template <class Coefficients, class Out>
-  void direction_correlations(std::span<const Index> active, const Coefficients& d, Out&& out) const {
+  void direction_correlations(std::span<const Index> active, const Coefficients& d,
+                              Out&& out) const {
     map(active);
     base_.direction_correlations(std::span<const Index>(mapped_), d, full_);
     gather(out);
@@ -214,7 +216,8 @@ class ColumnSubset {
 /// comment) or a noise variance that is not finite and > 0, invalid_query
 /// when `design` has not the path's prepared columns.
 template <DesignOperator Design>
-void check_testable(const Design& design, const Path<typename Design::Scalar>& path, double noise_variance) {
+void check_testable(const Design& design, const Path<typename Design::Scalar>& path,
+                    double noise_variance) {
   const Preparation<typename Design::Scalar>& prep = path.preparation();
   if (!(noise_variance > 0.0) || !std::isfinite(noise_variance))
     throw invalid_option("noise_variance", "must be finite and > 0");
@@ -257,7 +260,9 @@ EventGroup event_group(const std::vector<Knot<Scalar>>& knots, std::size_t first
   EventGroup g;
   g.first = first;
   g.end = first;
-  while (g.end < knots.size() && is_event(knots[g.end]) && knots[g.end].penalty == knots[first].penalty) ++g.end;
+  while (g.end < knots.size() && is_event(knots[g.end]) &&
+         knots[g.end].penalty == knots[first].penalty)
+    ++g.end;
   g.lambda = to_double(knots[first].penalty);
   g.next_row = knots.size();
   for (std::size_t i = g.end; i < knots.size(); ++i) {
@@ -273,7 +278,8 @@ EventGroup event_group(const std::vector<Knot<Scalar>>& knots, std::size_t first
   if (std::isnan(g.next) && g.next_note.empty()) g.next_note = "no knot follows";
   // On a lasso path a leave at the next knot means the least-angle path
   // would have had a different next knot.
-  for (std::size_t i = g.next_row; i < knots.size() && knots[i].penalty == knots[g.next_row].penalty; ++i)
+  for (std::size_t i = g.next_row;
+       i < knots.size() && knots[i].penalty == knots[g.next_row].penalty; ++i)
     if (knots[i].event == EventKind::leave) g.next_is_leave = true;
   return g;
 }
@@ -286,7 +292,8 @@ class EntryTests {
  public:
   using Scalar = typename Design::Scalar;
 
-  EntryTests(const Design& design, const Path<Scalar>& path, double noise_variance, Index residual_df)
+  EntryTests(const Design& design, const Path<Scalar>& path, double noise_variance,
+             Index residual_df)
       : design_(design),
         path_(path),
         prep_(path.preparation()),
@@ -350,9 +357,9 @@ class EntryTests {
     const Scalar reduced = active_.empty() ? Scalar(0) : reduced_fit(next, group.next);
     const Scalar full = fitted_inner(path_.at_penalty(next));
     e.covariance_statistic = to_double(Scalar(full - reduced)) / noise_variance_;
-    e.covariance_p_value = residual_df_ > 0
-                               ? f2_upper_tail(e.covariance_statistic, static_cast<double>(residual_df_))
-                               : std::exp(-std::max(0.0, e.covariance_statistic));
+    e.covariance_p_value =
+        residual_df_ > 0 ? f2_upper_tail(e.covariance_statistic, static_cast<double>(residual_df_))
+                         : std::exp(-std::max(0.0, e.covariance_statistic));
   }
 
   /// <y, Z_A bA(next)>: the lasso of the active predictors alone, traced
@@ -382,7 +389,8 @@ class EntryTests {
     Scalar sum(0);
     for (Index j = 0; j < s.coefficients.size(); ++j)
       if (s.coefficients(j) != Scalar(0))
-        sum += correlations_(position_[static_cast<std::size_t>(j)]) * prep_.scales(j) * s.coefficients(j);
+        sum += correlations_(position_[static_cast<std::size_t>(j)]) * prep_.scales(j) *
+               s.coefficients(j);
     return sum;
   }
 
@@ -391,11 +399,13 @@ class EntryTests {
     e.omega = omega(row);
     const double w = e.omega / std::sqrt(noise_variance_);
     const double inf = std::numeric_limits<double>::infinity();
-    e.spacing_p_value = truncated_gaussian_upper_tail(group.lambda * w, group.next * w,
-                                                      std::isinf(previous_lambda_) ? inf : previous_lambda_ * w);
+    e.spacing_p_value =
+        truncated_gaussian_upper_tail(group.lambda * w, group.next * w,
+                                      std::isinf(previous_lambda_) ? inf : previous_lambda_ * w);
   }
 
-  /// omega_k = || u_k - u_{k-1} || from the Gram matrix of A_k (A_{k-1} first, then the entering column).
+  /// omega_k = || u_k - u_{k-1} || from the Gram matrix of A_k (A_{k-1} first, then the entering
+  /// column).
   double omega(const Knot<Scalar>& row) const {
     std::vector<Index> cols;
     Vector<Scalar> s(static_cast<Index>(active_.size() + 1));
@@ -411,7 +421,8 @@ class EntryTests {
     for (Index a = 0; a < m; ++a) {
       cross.resize(a);
       design_.cross_products(cols[static_cast<std::size_t>(a)],
-                             std::span<const Index>(cols.data(), static_cast<std::size_t>(a)), cross);
+                             std::span<const Index>(cols.data(), static_cast<std::size_t>(a)),
+                             cross);
       for (Index b = 0; b < a; ++b) gram(a, b) = gram(b, a) = cross(b);
       gram(a, a) = design_.squared_norm(cols[static_cast<std::size_t>(a)]);
     }
@@ -430,7 +441,8 @@ class EntryTests {
         active_.emplace_back(col, knots[i].sign);
       } else {
         left_before_ = true;
-        active_.erase(std::remove_if(active_.begin(), active_.end(), [&](const auto& a) { return a.first == col; }),
+        active_.erase(std::remove_if(active_.begin(), active_.end(),
+                                     [&](const auto& a) { return a.first == col; }),
                       active_.end());
       }
     }
@@ -439,13 +451,15 @@ class EntryTests {
   const Design& design_;
   const Path<Scalar>& path_;
   const Preparation<Scalar>& prep_;
-  double noise_variance_;             ///< sigma^2
-  Index residual_df_;                 ///< d of the estimate; 0: sigma^2 is known
-  std::vector<Index> position_;       ///< prepared column of each predictor (-1: left out)
-  Vector<Scalar> correlations_;       ///< Z^T y of the prepared problem
-  std::vector<std::pair<Index, int>> active_;  ///< prepared column and sign of A_{k-1}, in entry order
-  double previous_lambda_ = std::numeric_limits<double>::infinity();  ///< lambda_{k-1} (+inf before the first)
-  bool left_before_ = false;          ///< a leave event came before this group
+  double noise_variance_;        ///< sigma^2
+  Index residual_df_;            ///< d of the estimate; 0: sigma^2 is known
+  std::vector<Index> position_;  ///< prepared column of each predictor (-1: left out)
+  Vector<Scalar> correlations_;  ///< Z^T y of the prepared problem
+  std::vector<std::pair<Index, int>>
+      active_;  ///< prepared column and sign of A_{k-1}, in entry order
+  double previous_lambda_ =
+      std::numeric_limits<double>::infinity();  ///< lambda_{k-1} (+inf before the first)
+  bool left_before_ = false;                    ///< a leave event came before this group
 };
 
 }  // namespace detail
@@ -473,19 +487,20 @@ Significance entry_significance(const Design& design, const Path<typename Design
 /// match the path (or the path was traced with weights) or when sigma^2
 /// cannot be estimated (too few rows: give it).
 template <class Scalar>
-Significance entry_significance(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
-                                const InferenceOptions& options = {}) {
+Significance entry_significance(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                const Path<Scalar>& path, const InferenceOptions& options = {}) {
   options.validate();
   PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, Vector<Scalar>());
-  const auto estimate =
-      detail::given_or_least_squares_variance<Scalar>(options.noise_variance, prepared.design, path.preparation());
+  const auto estimate = detail::given_or_least_squares_variance<Scalar>(
+      options.noise_variance, prepared.design, path.preparation());
   if (!estimate.given && estimate.residual_df <= 0)
     throw invalid_query("the noise variance cannot be estimated by least squares with " +
                         std::to_string(path.preparation().used_observations) + " rows and rank " +
                         std::to_string(estimate.rank) + "; give InferenceOptions::noise_variance");
   if (!(estimate.variance > Scalar(0)))
-    throw invalid_query("the least-squares fit is exact (zero residual variance); give "
-                        "InferenceOptions::noise_variance");
+    throw invalid_query(
+        "the least-squares fit is exact (zero residual variance); give "
+        "InferenceOptions::noise_variance");
   return entry_significance(prepared.design, path, detail::to_double(estimate.variance),
                             estimate.given ? Index(0) : estimate.residual_df);
 }

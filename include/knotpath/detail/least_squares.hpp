@@ -19,8 +19,8 @@ namespace knotpath::detail {
 
 /// Re-prepares the data a path was traced on and checks that they match it.
 template <class Scalar>
-PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
-                                  const Vector<Scalar>& weights) {
+PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                  const Path<Scalar>& path, const Vector<Scalar>& weights) {
   PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, path.options(), weights);
   const auto& a = prepared.preparation;
   const auto& b = path.preparation();
@@ -30,12 +30,13 @@ PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>&
   auto close = [&](const Scalar& u, const Scalar& v, const Scalar& size) {
     return abs_value<Scalar>(Scalar(u - v)) <= tol * size;
   };
-  bool same = a.predictors == b.predictors && a.used_observations == b.used_observations &&
-              a.columns == b.columns && a.intercept == b.intercept &&
-              close(a.weight_sum, b.weight_sum, b.weight_sum) &&
-              close(a.response_mean, b.response_mean,
-                    abs_value<Scalar>(b.response_mean) + square_root<Scalar>(b.total_sum_of_squares)) &&
-              close(a.total_sum_of_squares, b.total_sum_of_squares, b.total_sum_of_squares);
+  bool same =
+      a.predictors == b.predictors && a.used_observations == b.used_observations &&
+      a.columns == b.columns && a.intercept == b.intercept &&
+      close(a.weight_sum, b.weight_sum, b.weight_sum) &&
+      close(a.response_mean, b.response_mean,
+            abs_value<Scalar>(b.response_mean) + square_root<Scalar>(b.total_sum_of_squares)) &&
+      close(a.total_sum_of_squares, b.total_sum_of_squares, b.total_sum_of_squares);
   for (Index j = 0; same && j < b.predictors; ++j) {
     const Scalar spread = b.standardized ? b.scales(j) : Scalar(1);
     same = close(a.scales(j), b.scales(j), b.scales(j)) &&
@@ -78,7 +79,8 @@ struct NoiseVarianceEstimate {
 /// degrees of freedom. What to do otherwise is the caller's (the criteria fall
 /// back on a sparse fit, the entry tests refuse).
 template <class Scalar>
-NoiseVarianceEstimate<Scalar> given_or_least_squares_variance(double given, const DenseDesign<Scalar>& design,
+NoiseVarianceEstimate<Scalar> given_or_least_squares_variance(double given,
+                                                              const DenseDesign<Scalar>& design,
                                                               const Preparation<Scalar>& prep) {
   NoiseVarianceEstimate<Scalar> out;
   if (given > 0) {

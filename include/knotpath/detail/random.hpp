@@ -21,7 +21,9 @@ class SplitMix64 {
     return z ^ (z >> 31);
   }
   /// Uniform in (0, 1).
-  double uniform() { return (static_cast<double>(next() >> 11) + 0.5) * (1.0 / 9007199254740992.0); }
+  double uniform() {
+    return (static_cast<double>(next() >> 11) + 0.5) * (1.0 / 9007199254740992.0);
+  }
   /// Standard normal by the Box-Muller transform.
   double normal() {
     const double u = uniform(), v = uniform();
