@@ -1,7 +1,7 @@
-// Tests of select.hpp: the exact cross-validation curve, its minimizer and
-// the parsimonious (one-standard-error) choice, the size-free penalty,
-// thread independence, and Cp/AIC/BIC along the path; plus the published
-// degrees-of-freedom theorem of the lasso as an external check.
+// Tests of cross_validation.hpp and criteria.hpp: the exact cross-validation curve, its minimizer
+// and the parsimonious (one-standard-error) choice, the size-free penalty, thread independence, and
+// Cp/AIC/BIC along the path; plus the published degrees-of-freedom theorem of the lasso as an
+// external check.
 #include <gtest/gtest.h>
 
 #include <algorithm>
