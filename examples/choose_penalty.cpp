@@ -3,9 +3,10 @@
 // and print the covariance and spacing tests beside each entry.
 #include <cstdio>
 
+#include <knotpath/criteria.hpp>
+#include <knotpath/cross_validation.hpp>
 #include <knotpath/inference.hpp>
 #include <knotpath/knotpath.hpp>
-#include <knotpath/select.hpp>
 
 namespace {
 

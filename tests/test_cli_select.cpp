@@ -23,11 +23,12 @@
 
 #include <Eigen/QR>
 
+#include <knotpath/criteria.hpp>
+#include <knotpath/cross_validation.hpp>
 #include <knotpath/demo.hpp>
 #include <knotpath/inference.hpp>
 #include <knotpath/io/charts.hpp>
 #include <knotpath/io/report.hpp>
-#include <knotpath/select.hpp>
 
 #include "cli_runner.hpp"
 #include "test_support.hpp"

@@ -14,6 +14,7 @@
 #include <boost/math/special_functions/erf.hpp>
 #include <boost/multiprecision/cpp_bin_float.hpp>
 
+#include <knotpath/detail/random.hpp>
 #include <knotpath/inference.hpp>
 
 #include "test_support.hpp"
@@ -48,7 +49,8 @@ double ks_p_value(std::vector<double> sample, Cdf cdf) {
   }
   const double lambda = (std::sqrt(n) + 0.12 + 0.11 / std::sqrt(n)) * d;
   double q = 0;
-  for (int k = 1; k <= 100; ++k) q += 2.0 * ((k % 2) ? 1.0 : -1.0) * std::exp(-2.0 * k * k * lambda * lambda);
+  for (int k = 1; k <= 100; ++k)
+    q += 2.0 * ((k % 2) ? 1.0 : -1.0) * std::exp(-2.0 * k * k * lambda * lambda);
   return std::clamp(q, 0.0, 1.0);
 }
 
@@ -69,10 +71,12 @@ class IdentityDesign {
   template <class Out>
   void cross_products(Index j, std::span<const Index> active, Out&& out) const {
     kp::detail::fit_size(out, static_cast<Index>(active.size()));
-    for (std::size_t i = 0; i < active.size(); ++i) out(static_cast<Index>(i)) = active[i] == j ? 1.0 : 0.0;
+    for (std::size_t i = 0; i < active.size(); ++i)
+      out(static_cast<Index>(i)) = active[i] == j ? 1.0 : 0.0;
   }
   template <class Coefficients, class Out>
-  void direction_correlations(std::span<const Index> active, const Coefficients& d, Out&& out) const {
+  void direction_correlations(std::span<const Index> active, const Coefficients& d,
+                              Out&& out) const {
     kp::detail::fit_size(out, y_.size());
     out.setZero();
     for (std::size_t i = 0; i < active.size(); ++i) out(active[i]) = d(static_cast<Index>(i));
@@ -100,11 +104,13 @@ kp::Preparation<double> identity_preparation(Index p) {
 }  // namespace
 
 TEST(GaussianTails, LogUpperTailMatchesFiftyDigitReference) {
-  for (double x : {-8.0, -1.0, 0.0, 0.5, 1.0, 3.0, 4.999, 5.0, 5.001, 8.0, 20.0, 37.5, 40.0, 100.0, 1e3, 1e5}) {
+  for (double x : {-8.0, -1.0, 0.0, 0.5, 1.0, 3.0, 4.999, 5.0, 5.001, 8.0, 20.0, 37.5, 40.0, 100.0,
+                   1e3, 1e5}) {
     const double ref = reference_log_tail(x);
     // Double precision: relative error of log Q a few ulps (erfc's accuracy
     // below 5, the continued fraction's above); 1e-13 is a generous bound.
-    EXPECT_NEAR(kp::detail::log_upper_tail(x), ref, 1e-13 * std::max(1.0, std::abs(ref))) << "x = " << x;
+    EXPECT_NEAR(kp::detail::log_upper_tail(x), ref, 1e-13 * std::max(1.0, std::abs(ref)))
+        << "x = " << x;
   }
 }
 
@@ -112,16 +118,23 @@ TEST(GaussianTails, LogUpperTailMatchesFiftyDigitReference) {
 // the tail; a naive double evaluation gives 0/0 there. The log-space form
 // must match a 50-digit evaluation.
 TEST(GaussianTails, TruncatedTailRatioIsStableFarInTheTail) {
-  struct Case { double z, lower, upper; };
-  for (const Case c : {Case{50.0, 49.9, std::numeric_limits<double>::infinity()}, Case{40.2, 40.0, 41.0},
-                       Case{1000.0, 999.999, 1000.5}, Case{2.0, 0.5, 3.0}, Case{0.1, 0.0, 0.2}}) {
-    const double naive_num = 0.5 * std::erfc(c.z / std::sqrt(2.0)) - 0.5 * std::erfc(c.upper / std::sqrt(2.0));
-    const double naive_den = 0.5 * std::erfc(c.lower / std::sqrt(2.0)) - 0.5 * std::erfc(c.upper / std::sqrt(2.0));
+  struct Case {
+    double z, lower, upper;
+  };
+  for (const Case c :
+       {Case{50.0, 49.9, std::numeric_limits<double>::infinity()}, Case{40.2, 40.0, 41.0},
+        Case{1000.0, 999.999, 1000.5}, Case{2.0, 0.5, 3.0}, Case{0.1, 0.0, 0.2}}) {
+    const double naive_num =
+        0.5 * std::erfc(c.z / std::sqrt(2.0)) - 0.5 * std::erfc(c.upper / std::sqrt(2.0));
+    const double naive_den =
+        0.5 * std::erfc(c.lower / std::sqrt(2.0)) - 0.5 * std::erfc(c.upper / std::sqrt(2.0));
     if (c.lower > 39.0) {
       EXPECT_TRUE(naive_num == 0.0 && naive_den == 0.0);  // the regime that needs care
     }
     const Big s2 = boost::multiprecision::sqrt(Big(2));
-    auto q = [&](double v) { return std::isinf(v) ? Big(0) : Big(boost::math::erfc(Big(v) / s2) / 2); };
+    auto q = [&](double v) {
+      return std::isinf(v) ? Big(0) : Big(boost::math::erfc(Big(v) / s2) / 2);
+    };
     const double ref = static_cast<double>((q(c.z) - q(c.upper)) / (q(c.lower) - q(c.upper)));
     const double got = kp::detail::truncated_gaussian_upper_tail(c.z, c.lower, c.upper);
     ASSERT_TRUE(std::isfinite(got));
@@ -135,8 +148,10 @@ TEST(GaussianTails, TruncatedTailRatioIsStableFarInTheTail) {
 TEST(GaussianTails, FTailMatchesBoost) {
   for (double d : {3.0, 10.0, 57.0, 1000.0})
     for (double t : {0.01, 0.5, 2.0, 9.0}) {
-      const double ref = boost::math::cdf(boost::math::complement(boost::math::fisher_f_distribution<double>(2.0, d), t));
-      EXPECT_NEAR(kp::detail::f2_upper_tail(t, d), ref, 1e-13 * ref + 1e-300);  // closed form vs series: ulps
+      const double ref = boost::math::cdf(
+          boost::math::complement(boost::math::fisher_f_distribution<double>(2.0, d), t));
+      EXPECT_NEAR(kp::detail::f2_upper_tail(t, d), ref,
+                  1e-13 * ref + 1e-300);  // closed form vs series: ulps
     }
 }
 
@@ -145,7 +160,7 @@ TEST(GaussianTails, FTailMatchesBoost) {
 // (Lockhart et al. 2014, Ann. Statist. 42(2), section 3).
 TEST(CovarianceTest, OrthogonalDesignGivesTheOrderStatisticFormula) {
   const Index p = 200;
-  kp::demo::detail::SplitMix64 rng(42);
+  kp::detail::SplitMix64 rng(42);
   Vector<double> y(p);
   for (Index j = 0; j < p; ++j) y(j) = rng.normal();
   y(5) += 6.0;  // one real signal, so later steps are exercised too
@@ -163,16 +178,18 @@ TEST(CovarianceTest, OrthogonalDesignGivesTheOrderStatisticFormula) {
   for (std::size_t k = 0; k + 1 < sig.entries.size(); ++k) {
     const double expected = sorted[k] * (sorted[k] - sorted[k + 1]) / sigma2;
     // Homotopy arithmetic on O(1) values: ~1e-15 rounding; 1e-12 relative.
-    EXPECT_NEAR(sig.entries[k].covariance_statistic, expected, 1e-12 * std::max(1.0, expected)) << k;
+    EXPECT_NEAR(sig.entries[k].covariance_statistic, expected, 1e-12 * std::max(1.0, expected))
+        << k;
     EXPECT_NEAR(sig.entries[k].covariance_p_value, std::exp(-expected), 1e-12);
     // Orthogonal columns: omega_k = 1 and the spacing p-value is
     // Q(lambda_k) - Q(lambda_{k-1}) over Q(lambda_{k+1}) - Q(lambda_{k-1}).
     EXPECT_NEAR(sig.entries[k].omega, 1.0, 1e-12);
   }
   const double sigma = std::sqrt(sigma2);
-  EXPECT_NEAR(sig.entries[0].spacing_p_value,
-              std::erfc(sorted[0] / sigma / std::sqrt(2.0)) / std::erfc(sorted[1] / sigma / std::sqrt(2.0)),
-              1e-12);
+  EXPECT_NEAR(
+      sig.entries[0].spacing_p_value,
+      std::erfc(sorted[0] / sigma / std::sqrt(2.0)) / std::erfc(sorted[1] / sigma / std::sqrt(2.0)),
+      1e-12);
   // The last entry before the stop has no next knot: reported as missing.
   EXPECT_TRUE(std::isnan(sig.entries.back().covariance_statistic));
   EXPECT_FALSE(sig.entries.back().note.empty());
@@ -188,7 +205,7 @@ TEST(CovarianceTest, OrthogonalDesignGivesTheOrderStatisticFormula) {
 TEST(CovarianceTest, FirstStatisticIsExponentialUnderTheGlobalNull) {
   const Index p = 1000;
   const int reps = 2000;
-  kp::demo::detail::SplitMix64 rng(1402);
+  kp::detail::SplitMix64 rng(1402);
   kp::TraceOptions options;
   options.fit_intercept = false;
   options.max_knots = 3;
@@ -216,7 +233,7 @@ TEST(CovarianceTest, FirstStatisticIsExponentialUnderTheGlobalNull) {
 // an intercept (the test depends on y only through the centred Z^T y).
 TEST(SpacingTest, FirstStepPValueIsUniformUnderTheNull) {
   const auto base = kp::testing::ar1_problem(40, 8, 0.6, 77, 0, 0.0);
-  kp::demo::detail::SplitMix64 rng(2016);
+  kp::detail::SplitMix64 rng(2016);
   kp::TraceOptions options;
   options.max_knots = 3;
   std::vector<double> pvalues;
@@ -259,18 +276,21 @@ TEST(CovarianceTest, GeneralDesignMatchesDirectComputationAndFReference) {
   std::size_t checked = 0;
   for (const auto& e : sig.entries) {
     if (!std::isnan(e.covariance_statistic)) {
-      const Vector<double> b_full = kp::testing::to_prepared(c, path.at_penalty(e.next_penalty).coefficients);
+      const Vector<double> b_full =
+          kp::testing::to_prepared(c, path.at_penalty(e.next_penalty).coefficients);
       double reduced = 0;
       if (!active.empty()) {
         Matrix<double> za(60, static_cast<Index>(active.size()));
-        for (std::size_t a = 0; a < active.size(); ++a) za.col(static_cast<Index>(a)) = c.z.col(active[a]);
+        for (std::size_t a = 0; a < active.size(); ++a)
+          za.col(static_cast<Index>(a)) = c.z.col(active[a]);
         const Vector<double> ba = kp::testing::coordinate_descent(za, c.y, e.next_penalty);
         reduced = c.y.dot(za * ba);
       }
       const double expected = (c.y.dot(c.z * b_full) - reduced) / sigma2;
       // Coordinate descent converges to ~1e-13 relative; 1e-7 absolute on
       // statistics of size O(1..100) is far above both solvers' error.
-      EXPECT_NEAR(e.covariance_statistic, expected, 1e-7 * std::max(1.0, expected)) << "step " << e.step;
+      EXPECT_NEAR(e.covariance_statistic, expected, 1e-7 * std::max(1.0, expected))
+          << "step " << e.step;
       EXPECT_NEAR(e.covariance_p_value, std::pow(1.0 + 2.0 * expected / 52.0, -26.0), 1e-9);
       ++checked;
     }
@@ -288,23 +308,27 @@ TEST(Significance, UnsupportedSettingsAreRefusedWithAClearError) {
   EXPECT_THROW(kp::entry_significance<double>(prob.x, prob.y, weighted), kp::invalid_query);
   kp::TraceOptions factors;
   factors.penalty_factors = {1, 2, 1, 1, 1};
-  EXPECT_THROW(kp::entry_significance<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, factors)),
-               kp::invalid_option);
+  EXPECT_THROW(
+      kp::entry_significance<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, factors)),
+      kp::invalid_option);
   kp::TraceOptions ridge;
   ridge.ridge = 1.0;
-  EXPECT_THROW(kp::entry_significance<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, ridge)),
-               kp::invalid_option);
+  EXPECT_THROW(
+      kp::entry_significance<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, ridge)),
+      kp::invalid_option);
   const auto wide = kp::testing::ar1_problem(6, 8, 0.3, 3, 2, 1.0);
   EXPECT_THROW(kp::entry_significance<double>(wide.x, wide.y, kp::trace<double>(wide.x, wide.y)),
                kp::invalid_query);
   kp::InferenceOptions given;
   given.noise_variance = 1.0;
-  EXPECT_NO_THROW(kp::entry_significance<double>(wide.x, wide.y, kp::trace<double>(wide.x, wide.y), given));
+  EXPECT_NO_THROW(
+      kp::entry_significance<double>(wide.x, wide.y, kp::trace<double>(wide.x, wide.y), given));
 
   // A least-angle path: spacing p-values at every step, no covariance test.
   kp::TraceOptions lar;
   lar.variant = kp::Variant::least_angle;
-  const auto sig = kp::entry_significance<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, lar));
+  const auto sig =
+      kp::entry_significance<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, lar));
   for (const auto& e : sig.entries) {
     EXPECT_TRUE(std::isnan(e.covariance_statistic));
     EXPECT_TRUE(e.spacing_p_value >= 0.0 && e.spacing_p_value <= 1.0);
@@ -348,17 +372,20 @@ TEST(SpacingTest, OmegaAndPValueMatchDirectComputationAlongTheLeastAnglePath) {
       const double omega = v.norm();
       if (std::isnan(e.spacing_p_value)) break;  // the last step has no next knot
       // Small dense solves on well-conditioned columns: ~1e-14; allow 1e-9.
-      EXPECT_NEAR(e.omega, omega, 1e-9 * omega) << "standardize " << standardize << " step " << e.step;
+      EXPECT_NEAR(e.omega, omega, 1e-9 * omega)
+          << "standardize " << standardize << " step " << e.step;
       EXPECT_NEAR(v.dot(c.y) / (omega * omega), e.penalty, 1e-9 * e.penalty);
       if (active.size() == 1) {
         EXPECT_NEAR(omega, 1.0 / c.z.col(active[0]).norm(), 1e-12 * omega);
       }
       const double w = omega / std::sqrt(1.3);
       auto q = [](double x) { return std::isinf(x) ? 0.0 : 0.5 * std::erfc(x / std::sqrt(2.0)); };
-      const double expected = (q(e.penalty * w) - q(previous_knot * w)) / (q(e.next_penalty * w) - q(previous_knot * w));
+      const double expected = (q(e.penalty * w) - q(previous_knot * w)) /
+                              (q(e.next_penalty * w) - q(previous_knot * w));
       // Moderate arguments here (no deep tail), so the plain erfc ratio is
       // accurate to ~1e-12 unless the denominator is tiny.
-      EXPECT_NEAR(e.spacing_p_value, expected, 1e-8) << "standardize " << standardize << " step " << e.step;
+      EXPECT_NEAR(e.spacing_p_value, expected, 1e-8)
+          << "standardize " << standardize << " step " << e.step;
       u_previous = u;
       previous_knot = e.penalty;
     }

@@ -1,7 +1,7 @@
-// Tests of select.hpp: the exact cross-validation curve, its minimizer and
-// the parsimonious (one-standard-error) choice, the size-free penalty,
-// thread independence, and Cp/AIC/BIC along the path; plus the published
-// degrees-of-freedom theorem of the lasso as an external check.
+// Tests of cross_validation.hpp and criteria.hpp: the exact cross-validation curve, its minimizer
+// and the parsimonious (one-standard-error) choice, the size-free penalty, thread independence, and
+// Cp/AIC/BIC along the path; plus the published degrees-of-freedom theorem of the lasso as an
+// external check.
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -9,7 +9,9 @@
 #include <limits>
 #include <vector>
 
-#include <knotpath/select.hpp>
+#include <knotpath/criteria.hpp>
+#include <knotpath/cross_validation.hpp>
+#include <knotpath/detail/random.hpp>
 
 #include "test_support.hpp"
 
@@ -26,9 +28,11 @@ struct Split {
   Vector<double> y_train, y_test;
 };
 
-Split split(const Matrix<double>& x, const Vector<double>& y, const std::vector<long>& fold_of, long k) {
+Split split(const Matrix<double>& x, const Vector<double>& y, const std::vector<long>& fold_of,
+            long k) {
   std::vector<Index> train, test;
-  for (Index i = 0; i < x.rows(); ++i) (fold_of[static_cast<std::size_t>(i)] == k ? test : train).push_back(i);
+  for (Index i = 0; i < x.rows(); ++i)
+    (fold_of[static_cast<std::size_t>(i)] == k ? test : train).push_back(i);
   Split s;
   s.x_train.resize(static_cast<Index>(train.size()), x.cols());
   s.y_train.resize(static_cast<Index>(train.size()));
@@ -68,14 +72,16 @@ struct DirectCv {
     for (std::size_t k = 0; k < splits.size(); ++k) {
       const double lambda = mu * std::sqrt(static_cast<double>(splits[k].x_train.rows()));
       const Vector<double> pred = paths[k].predict(splits[k].x_test, lambda);
-      out.push_back((splits[k].y_test - pred).squaredNorm() / static_cast<double>(splits[k].y_test.size()));
+      out.push_back((splits[k].y_test - pred).squaredNorm() /
+                    static_cast<double>(splits[k].y_test.size()));
     }
     return out;
   }
   double error(double mu) const {
     const auto e = fold_errors(mu);
     double sum = 0;
-    for (std::size_t k = 0; k < e.size(); ++k) sum += e[k] * static_cast<double>(splits[k].y_test.size());
+    for (std::size_t k = 0; k < e.size(); ++k)
+      sum += e[k] * static_cast<double>(splits[k].y_test.size());
     return sum / n;
   }
 };
@@ -135,7 +141,8 @@ TEST(CrossValidation, ParsimoniousChoiceIsTheLargestPenaltyWithinOneStandardErro
   double mean = 0, ss = 0;
   for (double v : e) mean += v / static_cast<double>(e.size());
   for (double v : e) ss += (v - mean) * (v - mean);
-  const double se = std::sqrt(ss / static_cast<double>(e.size() - 1) / static_cast<double>(e.size()));
+  const double se =
+      std::sqrt(ss / static_cast<double>(e.size() - 1) / static_cast<double>(e.size()));
   EXPECT_NEAR(result.minimum.standard_error, se, 1e-9 * se);  // rounding of 8 sums
 
   const double threshold = result.minimum.error + result.minimum.standard_error;
@@ -146,7 +153,8 @@ TEST(CrossValidation, ParsimoniousChoiceIsTheLargestPenaltyWithinOneStandardErro
   if (result.parsimonious.mu < result.mu_high) {
     const double step = (result.mu_high - result.parsimonious.mu) / 20000.0;
     for (int g = 1; g <= 20000; ++g)
-      ASSERT_GT(direct.error(result.parsimonious.mu + g * step), threshold - tol) << "grid point " << g;
+      ASSERT_GT(direct.error(result.parsimonious.mu + g * step), threshold - tol)
+          << "grid point " << g;
   }
   EXPECT_NEAR(result.parsimonious.lambda, result.parsimonious.mu * std::sqrt(80.0),
               1e-14 * result.parsimonious.lambda);
@@ -188,11 +196,13 @@ TEST(CrossValidation, LeaveOneOutEqualsDirectRefits) {
       const double se = std::sqrt(ss / static_cast<double>(n - 1) / static_cast<double>(n));
       // Coordinate descent stops at a relative change of 1e-13; predictions
       // then agree to ~1e-11, so 1e-8 relative leaves a wide margin.
-      EXPECT_NEAR(result.error_at(mu), mean, 1e-8 * mean) << "standardize " << standardize << " mu " << mu;
+      EXPECT_NEAR(result.error_at(mu), mean, 1e-8 * mean)
+          << "standardize " << standardize << " mu " << mu;
       EXPECT_NEAR(result.standard_error_at(mu), se, 1e-8 * mean) << "standardize " << standardize;
       const auto folds = result.fold_errors_at(mu);
       for (Index i = 0; i < n; ++i)
-        EXPECT_NEAR(folds[static_cast<std::size_t>(i)], errors[static_cast<std::size_t>(i)], 1e-8 * mean);
+        EXPECT_NEAR(folds[static_cast<std::size_t>(i)], errors[static_cast<std::size_t>(i)],
+                    1e-8 * mean);
     }
   }
 }
@@ -218,10 +228,11 @@ TEST(CrossValidation, CurveOnTheSizeFreeAxisIgnoresAUniformWeightScale) {
     EXPECT_NEAR(plain.minimum.mu, doubled.minimum.mu, 1e-9 * plain.mu_high);
     EXPECT_NEAR(plain.minimum.error, doubled.minimum.error, 1e-9 * plain.minimum.error);
     for (double fraction : {0.8, 0.4, 0.1, 0.01})
-      EXPECT_NEAR(plain.error_at(fraction * plain.mu_high), doubled.error_at(fraction * plain.mu_high),
-                  1e-9 * plain.minimum.error);
+      EXPECT_NEAR(plain.error_at(fraction * plain.mu_high),
+                  doubled.error_at(fraction * plain.mu_high), 1e-9 * plain.minimum.error);
     // The full-data penalty scales: lambda = mu * sqrt(n) or mu * n.
-    EXPECT_NEAR(doubled.minimum.lambda / plain.minimum.lambda, standardize ? std::sqrt(2.0) : 2.0, 1e-9);
+    EXPECT_NEAR(doubled.minimum.lambda / plain.minimum.lambda, standardize ? std::sqrt(2.0) : 2.0,
+                1e-9);
   }
 }
 
@@ -312,7 +323,8 @@ TEST(InformationCriteria, ValuesAtKnotsEqualDirectComputationFromResiduals) {
   double best_cp = 1e300, best_aic = 1e300, best_bic = 1e300;
   for (std::size_t k = 0; k < ic.knots.size(); ++k) {
     const Vector<double> beta = path.dense_coefficients(k);
-    const Vector<double> r = prob.y - prob.x * beta - Vector<double>::Constant(n, path.knots()[k].intercept);
+    const Vector<double> r =
+        prob.y - prob.x * beta - Vector<double>::Constant(n, path.knots()[k].intercept);
     const double rss = r.squaredNorm();
     int nonzero = 0;
     for (Index j = 0; j < beta.size(); ++j) nonzero += beta(j) != 0.0;
@@ -355,12 +367,14 @@ TEST(InformationCriteria, NoiseVarianceWhenPredictorsOutnumberRowsAndUnsupported
 
   kp::TraceOptions ridge;
   ridge.ridge = 0.5;
-  EXPECT_THROW(kp::information_criteria<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, ridge)),
-               kp::invalid_option);
+  EXPECT_THROW(
+      kp::information_criteria<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, ridge)),
+      kp::invalid_option);
   kp::TraceOptions lar;
   lar.variant = kp::Variant::least_angle;
-  EXPECT_THROW(kp::information_criteria<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, lar)),
-               kp::invalid_option);
+  EXPECT_THROW(
+      kp::information_criteria<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, lar)),
+      kp::invalid_option);
   // Data that are not the path's are refused.
   Vector<double> other = prob.y;
   other(0) += 1.0;
@@ -375,7 +389,7 @@ TEST(InformationCriteria, NonzeroCountIsUnbiasedForTheDegreesOfFreedom) {
   const auto base = kp::testing::ar1_problem(20, 5, 0.5, 31, 2, 0.0);  // noise 0: the mean
   const Vector<double> mean = base.y;
   const double sigma = 1.0, lambda = 1.2;  // fixed penalty, chosen to leave 2-4 predictors active
-  kp::demo::detail::SplitMix64 rng(2007);
+  kp::detail::SplitMix64 rng(2007);
   const int reps = 4000;
   std::vector<double> gap(reps);
   double count_mean = 0;

@@ -19,6 +19,7 @@
 #include <string>
 #include <vector>
 
+#include "detail/random.hpp"
 #include "detail/scalar.hpp"
 
 namespace knotpath::demo {
@@ -35,27 +36,8 @@ struct DemoData {
 };
 
 namespace detail {
-/// SplitMix64: a small, fully specified generator (Steele, Lea & Flood 2014).
-class SplitMix64 {
- public:
-  explicit SplitMix64(std::uint64_t seed) : state_(seed) {}
-  std::uint64_t next() {
-    std::uint64_t z = (state_ += 0x9E3779B97F4A7C15ULL);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
-    return z ^ (z >> 31);
-  }
-  /// Uniform in (0, 1).
-  double uniform() { return (static_cast<double>(next() >> 11) + 0.5) * (1.0 / 9007199254740992.0); }
-  /// Standard normal by the Box-Muller transform.
-  double normal() {
-    const double u = uniform(), v = uniform();
-    return std::sqrt(-2.0 * std::log(u)) * std::cos(6.283185307179586 * v);
-  }
-
- private:
-  std::uint64_t state_;
-};
+/// The generator of the data (detail/random.hpp), under the name examples use.
+using knotpath::detail::SplitMix64;
 }  // namespace detail
 
 /// Generates the demonstration data (seed fixed unless given).
@@ -63,9 +45,9 @@ inline DemoData greenhouse(std::uint64_t seed = 20261201) {
   detail::SplitMix64 rng(seed);
   DemoData d;
   d.response_name = "yield_kg_m2";
-  d.predictor_names = {"day_temp_c",  "night_temp_c", "co2_ppm",     "humidity_pct",
-                       "light_hours", "irrigation_l", "nutrient_ec", "substrate_ph",
-                       "plants_m2",   "pruning_score", "hives",      "shading_pct",
+  d.predictor_names = {"day_temp_c",  "night_temp_c",  "co2_ppm",     "humidity_pct",
+                       "light_hours", "irrigation_l",  "nutrient_ec", "substrate_ph",
+                       "plants_m2",   "pruning_score", "hives",       "shading_pct",
                        "vent_hours",  "staff_hours"};
   const Index n = 240, p = 14;
   d.x.resize(n, p);
@@ -73,11 +55,11 @@ inline DemoData greenhouse(std::uint64_t seed = 20261201) {
   d.noise_sd = 0.35;
   d.true_intercept = -6.0;
   d.true_coefficients = Vector<double>::Zero(p);
-  d.true_coefficients(0) = 0.12;   // day_temp_c
-  d.true_coefficients(2) = 0.004;  // co2_ppm
-  d.true_coefficients(4) = 0.45;   // light_hours
-  d.true_coefficients(6) = 0.6;    // nutrient_ec
-  d.true_coefficients(11) = -0.03; // shading_pct
+  d.true_coefficients(0) = 0.12;    // day_temp_c
+  d.true_coefficients(2) = 0.004;   // co2_ppm
+  d.true_coefficients(4) = 0.45;    // light_hours
+  d.true_coefficients(6) = 0.6;     // nutrient_ec
+  d.true_coefficients(11) = -0.03;  // shading_pct
   for (Index i = 0; i < n; ++i) {
     const double season = std::sin(6.283185307179586 * static_cast<double>(i % 52) / 52.0);
     const double day = 22.0 + 3.0 * season + 1.2 * rng.normal();

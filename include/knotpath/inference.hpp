@@ -63,12 +63,12 @@
 #include <Eigen/Cholesky>
 
 #include "design/concept.hpp"
+#include "detail/least_squares.hpp"
 #include "detail/scalar.hpp"
 #include "errors.hpp"
 #include "options.hpp"
 #include "path.hpp"
 #include "prepare.hpp"
-#include "select.hpp"
 #include "trace.hpp"
 
 namespace knotpath {
@@ -80,25 +80,22 @@ struct InferenceOptions {
   double noise_variance = -1.0;
 
   /// Throws invalid_option("noise_variance") when it is 0, NaN or infinite.
-  void validate() const {
-    if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
-      throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
-  }
+  void validate() const { detail::validate_noise_variance(noise_variance); }
 };
 
 /// Significance of one entry (an enter row of the knot table). Values that a
 /// test does not define for this entry are NaN, with the reason in `note`.
 struct EntrySignificance {
-  Index step = 0;                 ///< knot-table step of the enter row
-  Index predictor = 0;            ///< user's 0-based index
-  int sign = 0;                   ///< sign it entered with
-  double penalty = 0;             ///< lambda_k
-  double next_penalty = 0;        ///< lambda_{k+1} (NaN when the path stops first)
+  Index step = 0;           ///< knot-table step of the enter row
+  Index predictor = 0;      ///< user's 0-based index
+  int sign = 0;             ///< sign it entered with
+  double penalty = 0;       ///< lambda_k
+  double next_penalty = 0;  ///< lambda_{k+1} (NaN when the path stops first)
   double covariance_statistic = std::numeric_limits<double>::quiet_NaN();  ///< T_k
   double covariance_p_value = std::numeric_limits<double>::quiet_NaN();    ///< Exp(1) or F(2, d)
   double spacing_p_value = std::numeric_limits<double>::quiet_NaN();       ///< p_k
   double omega = std::numeric_limits<double>::quiet_NaN();                 ///< omega_k
-  std::string note;               ///< why a value is missing (empty when none is)
+  std::string note;  ///< why a value is missing (empty when none is)
 };
 
 /// The tests along one path.
@@ -160,8 +157,7 @@ inline double f2_upper_tail(double t, double d) {
 /// left alone (the caller sized it).
 template <class Out>
 void fit_size(Out& out, Index n) {
-  if constexpr (requires { out.conservativeResize(n); })
-    out.resize(n);
+  if constexpr (requires { out.conservativeResize(n); }) out.resize(n);
 }
 
 /// A view of some columns of a design operator (for the reduced problems).
@@ -176,7 +172,9 @@ class ColumnSubset {
 
   Index rows() const { return base_.rows(); }
   Index cols() const { return static_cast<Index>(cols_.size()); }
-  Scalar squared_norm(Index j) const { return base_.squared_norm(cols_[static_cast<std::size_t>(j)]); }
+  Scalar squared_norm(Index j) const {
+    return base_.squared_norm(cols_[static_cast<std::size_t>(j)]);
+  }
   Scalar response_squared_norm() const { return base_.response_squared_norm(); }
   template <class Out>
   void response_correlations(Out&& out) const {
@@ -191,7 +189,8 @@ class ColumnSubset {
                          std::forward<Out>(out));
   }
   template <class Coefficients, class Out>
-  void direction_correlations(std::span<const Index> active, const Coefficients& d, Out&& out) const {
+  void direction_correlations(std::span<const Index> active, const Coefficients& d,
+                              Out&& out) const {
     map(active);
     base_.direction_correlations(std::span<const Index>(mapped_), d, full_);
     gather(out);
@@ -213,6 +212,256 @@ class ColumnSubset {
   mutable Vector<Scalar> full_;  // length base.cols()
 };
 
+/// Throws invalid_option for a path the tests do not cover (see the file
+/// comment) or a noise variance that is not finite and > 0, invalid_query
+/// when `design` has not the path's prepared columns.
+template <DesignOperator Design>
+void check_testable(const Design& design, const Path<typename Design::Scalar>& path,
+                    double noise_variance) {
+  const Preparation<typename Design::Scalar>& prep = path.preparation();
+  if (!(noise_variance > 0.0) || !std::isfinite(noise_variance))
+    throw invalid_option("noise_variance", "must be finite and > 0");
+  if (path.options().ridge != 0.0)
+    throw invalid_option("ridge", "the significance tests are for the plain lasso (ridge = 0)");
+  for (double f : prep.penalty_factors)
+    if (f != 1.0)
+      throw invalid_option("penalty_factors",
+                           "the significance tests assume every predictor is penalized equally "
+                           "(all penalty factors 1)");
+  for (SignConstraint c : prep.constraints)
+    if (c != SignConstraint::none)
+      throw invalid_option("sign_constraints", "the significance tests assume no sign constraints");
+  if (design.cols() != static_cast<Index>(prep.columns.size()))
+    throw invalid_query("the design does not match the path's prepared columns");
+}
+
+/// True for the knot-table rows that change the active set.
+template <class Scalar>
+bool is_event(const Knot<Scalar>& knot) {
+  return knot.event == EventKind::enter || knot.event == EventKind::leave;
+}
+
+/// The events at one knot of a path, and the knot that follows them.
+struct EventGroup {
+  std::size_t first = 0;  ///< first row of the group (an event row)
+  std::size_t end = 0;    ///< one past its last row; the rows share one penalty
+  double lambda = 0;      ///< their penalty lambda_k
+  double next = std::numeric_limits<double>::quiet_NaN();  ///< lambda_{k+1}; NaN when none is known
+  std::size_t next_row = 0;    ///< knot-table row of lambda_{k+1} (the table's size when none)
+  std::string next_note;       ///< why `next` is NaN (empty when it is known)
+  bool next_is_leave = false;  ///< a leave event at lambda_{k+1}
+
+  bool tied() const { return end - first > 1; }
+};
+
+/// The group of events whose first row is `first`.
+template <class Scalar>
+EventGroup event_group(const std::vector<Knot<Scalar>>& knots, std::size_t first) {
+  EventGroup g;
+  g.first = first;
+  g.end = first;
+  while (g.end < knots.size() && is_event(knots[g.end]) &&
+         knots[g.end].penalty == knots[first].penalty)
+    ++g.end;
+  g.lambda = to_double(knots[first].penalty);
+  g.next_row = knots.size();
+  for (std::size_t i = g.end; i < knots.size(); ++i) {
+    if (knots[i].penalty == knots[first].penalty) continue;
+    if (knots[i].event == EventKind::stop) {
+      g.next_note = "the path stopped before the next knot";
+    } else {
+      g.next = to_double(knots[i].penalty);
+      g.next_row = i;
+    }
+    break;
+  }
+  if (std::isnan(g.next) && g.next_note.empty()) g.next_note = "no knot follows";
+  // On a lasso path a leave at the next knot means the least-angle path
+  // would have had a different next knot.
+  for (std::size_t i = g.next_row;
+       i < knots.size() && knots[i].penalty == knots[g.next_row].penalty; ++i)
+    if (knots[i].event == EventKind::leave) g.next_is_leave = true;
+  return g;
+}
+
+/// The two tests along one path. Walking the knot table in order, it keeps
+/// the active set A_{k-1} just before each group of events and the penalty
+/// lambda_{k-1} of the previous group; each enter row is tested against them.
+template <DesignOperator Design>
+class EntryTests {
+ public:
+  using Scalar = typename Design::Scalar;
+
+  EntryTests(const Design& design, const Path<Scalar>& path, double noise_variance,
+             Index residual_df)
+      : design_(design),
+        path_(path),
+        prep_(path.preparation()),
+        noise_variance_(noise_variance),
+        residual_df_(residual_df),
+        position_(static_cast<std::size_t>(prep_.predictors), -1) {
+    for (std::size_t k = 0; k < prep_.columns.size(); ++k)
+      position_[static_cast<std::size_t>(prep_.columns[k])] = static_cast<Index>(k);
+    design_.response_correlations(correlations_);
+  }
+
+  /// One EntrySignificance per enter row, in path order.
+  Significance run() {
+    Significance out;
+    out.noise_variance = noise_variance_;
+    out.residual_df = residual_df_;
+    const auto& knots = path_.knots();
+    std::size_t r = 0;
+    while (r < knots.size()) {
+      if (!is_event(knots[r])) {
+        ++r;
+        continue;
+      }
+      const EventGroup group = event_group(knots, r);
+      for (std::size_t i = group.first; i < group.end; ++i)
+        if (knots[i].event == EventKind::enter) out.entries.push_back(test_entry(knots[i], group));
+      update_active(group);
+      previous_lambda_ = group.lambda;
+      r = group.end;
+    }
+    return out;
+  }
+
+ private:
+  EntrySignificance test_entry(const Knot<Scalar>& row, const EventGroup& group) const {
+    EntrySignificance e;
+    e.step = row.step;
+    e.predictor = row.predictor;
+    e.sign = row.sign;
+    e.penalty = group.lambda;
+    e.next_penalty = group.next;
+    std::vector<std::string> notes;
+    if (group.tied()) notes.push_back("several events at one knot");
+    if (!group.next_note.empty()) notes.push_back(group.next_note);
+    const bool usable = !group.tied() && group.next_note.empty();
+    if (path_.options().variant != Variant::lasso)
+      notes.push_back("the covariance test is computed for the lasso variant");
+    else if (usable)
+      covariance_test(e, group);
+    if (left_before_ || group.next_is_leave)
+      notes.push_back("the spacing test covers least-angle steps (before the first leave event)");
+    else if (usable)
+      spacing_test(e, row, group);
+    for (std::size_t k = 0; k < notes.size(); ++k) e.note += (k ? "; " : "") + notes[k];
+    return e;
+  }
+
+  /// T_k = (<y, Z b(lambda_{k+1})> - <y, Z_A bA(lambda_{k+1})>) / sigma^2 and its p-value.
+  void covariance_test(EntrySignificance& e, const EventGroup& group) const {
+    const Scalar next = path_.knots()[group.next_row].penalty;
+    const Scalar reduced = active_.empty() ? Scalar(0) : reduced_fit(next, group.next);
+    const Scalar full = fitted_inner(path_.at_penalty(next));
+    e.covariance_statistic = to_double(Scalar(full - reduced)) / noise_variance_;
+    e.covariance_p_value =
+        residual_df_ > 0 ? f2_upper_tail(e.covariance_statistic, static_cast<double>(residual_df_))
+                         : std::exp(-std::max(0.0, e.covariance_statistic));
+  }
+
+  /// <y, Z_A bA(next)>: the lasso of the active predictors alone, traced
+  /// exactly down to `next` (`next_double` is the same penalty as a double).
+  Scalar reduced_fit(const Scalar& next, double next_double) const {
+    std::vector<Index> cols;
+    for (const auto& [col, s] : active_) cols.push_back(col);
+    std::sort(cols.begin(), cols.end());
+    ColumnSubset<Design> subset(design_, cols);
+    Preparation<Scalar> sub = prep_;
+    sub.columns.clear();
+    for (Index col : cols) sub.columns.push_back(prep_.columns[static_cast<std::size_t>(col)]);
+    sub.penalty_factors.assign(cols.size(), 1.0);
+    sub.constraints.assign(cols.size(), SignConstraint::none);
+    TraceOptions reduced_options = path_.options();
+    reduced_options.penalty_factors.clear();
+    reduced_options.sign_constraints.clear();
+    reduced_options.max_knots = 0;
+    reduced_options.max_active = 0;
+    reduced_options.min_penalty = next_double;
+    const Path<Scalar> reduced_path = trace_design(subset, sub, reduced_options);
+    return fitted_inner(reduced_path.at_penalty(next));
+  }
+
+  /// <y, Z b> of an original-scale solution: sum_j c0_j s_j beta_j.
+  Scalar fitted_inner(const Solution<Scalar>& s) const {
+    Scalar sum(0);
+    for (Index j = 0; j < s.coefficients.size(); ++j)
+      if (s.coefficients(j) != Scalar(0))
+        sum += correlations_(position_[static_cast<std::size_t>(j)]) * prep_.scales(j) *
+               s.coefficients(j);
+    return sum;
+  }
+
+  /// omega_k and the truncated-Gaussian p-value of the step that adds `row`.
+  void spacing_test(EntrySignificance& e, const Knot<Scalar>& row, const EventGroup& group) const {
+    e.omega = omega(row);
+    const double w = e.omega / std::sqrt(noise_variance_);
+    const double inf = std::numeric_limits<double>::infinity();
+    e.spacing_p_value =
+        truncated_gaussian_upper_tail(group.lambda * w, group.next * w,
+                                      std::isinf(previous_lambda_) ? inf : previous_lambda_ * w);
+  }
+
+  /// omega_k = || u_k - u_{k-1} || from the Gram matrix of A_k (A_{k-1} first, then the entering
+  /// column).
+  double omega(const Knot<Scalar>& row) const {
+    std::vector<Index> cols;
+    Vector<Scalar> s(static_cast<Index>(active_.size() + 1));
+    for (std::size_t a = 0; a < active_.size(); ++a) {
+      cols.push_back(active_[a].first);
+      s(static_cast<Index>(a)) = Scalar(active_[a].second);
+    }
+    cols.push_back(position_[static_cast<std::size_t>(row.predictor)]);
+    s(static_cast<Index>(active_.size())) = Scalar(row.sign);
+    const Index m = static_cast<Index>(cols.size());
+    Matrix<Scalar> gram(m, m);
+    Vector<Scalar> cross;
+    for (Index a = 0; a < m; ++a) {
+      cross.resize(a);
+      design_.cross_products(cols[static_cast<std::size_t>(a)],
+                             std::span<const Index>(cols.data(), static_cast<std::size_t>(a)),
+                             cross);
+      for (Index b = 0; b < a; ++b) gram(a, b) = gram(b, a) = cross(b);
+      gram(a, a) = design_.squared_norm(cols[static_cast<std::size_t>(a)]);
+    }
+    Vector<Scalar> delta = gram.ldlt().solve(s);
+    if (m > 1) delta.head(m - 1) -= gram.topLeftCorner(m - 1, m - 1).ldlt().solve(s.head(m - 1));
+    const double omega2 = to_double(Scalar(delta.dot(gram * delta)));
+    return std::sqrt(std::max(0.0, omega2));
+  }
+
+  /// Applies a whole group of events to the active set.
+  void update_active(const EventGroup& group) {
+    const auto& knots = path_.knots();
+    for (std::size_t i = group.first; i < group.end; ++i) {
+      const Index col = position_[static_cast<std::size_t>(knots[i].predictor)];
+      if (knots[i].event == EventKind::enter) {
+        active_.emplace_back(col, knots[i].sign);
+      } else {
+        left_before_ = true;
+        active_.erase(std::remove_if(active_.begin(), active_.end(),
+                                     [&](const auto& a) { return a.first == col; }),
+                      active_.end());
+      }
+    }
+  }
+
+  const Design& design_;
+  const Path<Scalar>& path_;
+  const Preparation<Scalar>& prep_;
+  double noise_variance_;        ///< sigma^2
+  Index residual_df_;            ///< d of the estimate; 0: sigma^2 is known
+  std::vector<Index> position_;  ///< prepared column of each predictor (-1: left out)
+  Vector<Scalar> correlations_;  ///< Z^T y of the prepared problem
+  std::vector<std::pair<Index, int>>
+      active_;  ///< prepared column and sign of A_{k-1}, in entry order
+  double previous_lambda_ =
+      std::numeric_limits<double>::infinity();  ///< lambda_{k-1} (+inf before the first)
+  bool left_before_ = false;                    ///< a leave event came before this group
+};
+
 }  // namespace detail
 
 /// Covariance and spacing tests for every entry of `path`, whose prepared
@@ -227,179 +476,8 @@ class ColumnSubset {
 template <DesignOperator Design>
 Significance entry_significance(const Design& design, const Path<typename Design::Scalar>& path,
                                 double noise_variance, Index residual_df = 0) {
-  using Scalar = typename Design::Scalar;
-  const TraceOptions& options = path.options();
-  const Preparation<Scalar>& prep = path.preparation();
-  if (!(noise_variance > 0.0) || !std::isfinite(noise_variance))
-    throw invalid_option("noise_variance", "must be finite and > 0");
-  if (options.ridge != 0.0)
-    throw invalid_option("ridge", "the significance tests are for the plain lasso (ridge = 0)");
-  for (double f : prep.penalty_factors)
-    if (f != 1.0)
-      throw invalid_option("penalty_factors",
-                           "the significance tests assume every predictor is penalized equally "
-                           "(all penalty factors 1)");
-  for (SignConstraint c : prep.constraints)
-    if (c != SignConstraint::none)
-      throw invalid_option("sign_constraints", "the significance tests assume no sign constraints");
-  if (design.cols() != static_cast<Index>(prep.columns.size()))
-    throw invalid_query("the design does not match the path's prepared columns");
-
-  const double sigma = std::sqrt(noise_variance);
-  const bool lasso = options.variant == Variant::lasso;
-  std::vector<Index> position(static_cast<std::size_t>(prep.predictors), -1);
-  for (std::size_t k = 0; k < prep.columns.size(); ++k)
-    position[static_cast<std::size_t>(prep.columns[k])] = static_cast<Index>(k);
-  Vector<Scalar> c0;
-  design.response_correlations(c0);
-  // <y, Z b> of an original-scale solution: sum_j c0_j s_j beta_j.
-  auto fitted_inner = [&](const Solution<Scalar>& s) {
-    Scalar sum(0);
-    for (Index j = 0; j < s.coefficients.size(); ++j)
-      if (s.coefficients(j) != Scalar(0))
-        sum += c0(position[static_cast<std::size_t>(j)]) * prep.scales(j) * s.coefficients(j);
-    return sum;
-  };
-
-  Significance out;
-  out.noise_variance = noise_variance;
-  out.residual_df = residual_df;
-  const auto& knots = path.knots();
-  const double inf = std::numeric_limits<double>::infinity();
-  std::vector<std::pair<Index, int>> active;  // prepared column and sign, in entry order
-  double previous_group = inf;                 // lambda_{k-1}
-  bool left_before = false;
-  std::size_t r = 0;
-  while (r < knots.size()) {
-    const auto is_event = [&](std::size_t i) {
-      return knots[i].event == EventKind::enter || knots[i].event == EventKind::leave;
-    };
-    if (!is_event(r)) {
-      ++r;
-      continue;
-    }
-    // The group of events at this knot.
-    std::size_t end = r;
-    while (end < knots.size() && is_event(end) && knots[end].penalty == knots[r].penalty) ++end;
-    const double lambda = detail::to_double(knots[r].penalty);
-    double next = std::numeric_limits<double>::quiet_NaN();
-    std::string next_note;
-    std::size_t next_row = knots.size();
-    for (std::size_t i = end; i < knots.size(); ++i) {
-      if (knots[i].penalty == knots[r].penalty) continue;
-      if (knots[i].event == EventKind::stop) {
-        next_note = "the path stopped before the next knot";
-      } else {
-        next = detail::to_double(knots[i].penalty);
-        next_row = i;
-      }
-      break;
-    }
-    if (std::isnan(next) && next_note.empty()) next_note = "no knot follows";
-    // On a lasso path a leave at the next knot means the least-angle path
-    // would have had a different next knot.
-    bool next_is_leave = false;
-    for (std::size_t i = next_row; i < knots.size() && knots[i].penalty == knots[next_row].penalty; ++i)
-      if (knots[i].event == EventKind::leave) next_is_leave = true;
-    const bool tied = end - r > 1;
-
-    for (std::size_t i = r; i < end; ++i) {
-      const Knot<Scalar>& row = knots[i];
-      if (row.event != EventKind::enter) continue;
-      EntrySignificance e;
-      e.step = row.step;
-      e.predictor = row.predictor;
-      e.sign = row.sign;
-      e.penalty = lambda;
-      e.next_penalty = next;
-      std::vector<std::string> notes;
-      if (tied) notes.push_back("several events at one knot");
-      if (!next_note.empty()) notes.push_back(next_note);
-      const bool usable = !tied && next_note.empty();
-
-      // Covariance test.
-      if (!lasso) {
-        notes.push_back("the covariance test is computed for the lasso variant");
-      } else if (usable) {
-        const Scalar next_s = knots[next_row].penalty;
-        Scalar reduced(0);
-        if (!active.empty()) {
-          std::vector<Index> cols;
-          for (const auto& [col, s] : active) cols.push_back(col);
-          std::sort(cols.begin(), cols.end());
-          detail::ColumnSubset<Design> subset(design, cols);
-          Preparation<Scalar> sub = prep;
-          sub.columns.clear();
-          for (Index col : cols) sub.columns.push_back(prep.columns[static_cast<std::size_t>(col)]);
-          sub.penalty_factors.assign(cols.size(), 1.0);
-          sub.constraints.assign(cols.size(), SignConstraint::none);
-          TraceOptions reduced_options = options;
-          reduced_options.penalty_factors.clear();
-          reduced_options.sign_constraints.clear();
-          reduced_options.max_knots = 0;
-          reduced_options.max_active = 0;
-          reduced_options.min_penalty = next;
-          const Path<Scalar> reduced_path = trace_design(subset, sub, reduced_options);
-          reduced = fitted_inner(reduced_path.at_penalty(next_s));
-        }
-        const Scalar full = fitted_inner(path.at_penalty(next_s));
-        e.covariance_statistic = detail::to_double(Scalar(full - reduced)) / noise_variance;
-        e.covariance_p_value =
-            residual_df > 0
-                ? detail::f2_upper_tail(e.covariance_statistic, static_cast<double>(residual_df))
-                : std::exp(-std::max(0.0, e.covariance_statistic));
-      }
-
-      // Spacing test: omega from the Gram matrix of A_k (A_{k-1} first, then j).
-      if (left_before || next_is_leave) {
-        notes.push_back("the spacing test covers least-angle steps (before the first leave event)");
-      } else if (usable) {
-        const Index col = position[static_cast<std::size_t>(row.predictor)];
-        std::vector<Index> cols;
-        Vector<Scalar> s(static_cast<Index>(active.size() + 1));
-        for (std::size_t a = 0; a < active.size(); ++a) {
-          cols.push_back(active[a].first);
-          s(static_cast<Index>(a)) = Scalar(active[a].second);
-        }
-        cols.push_back(col);
-        s(static_cast<Index>(active.size())) = Scalar(row.sign);
-        const Index m = static_cast<Index>(cols.size());
-        Matrix<Scalar> gram(m, m);
-        Vector<Scalar> cross;
-        for (Index a = 0; a < m; ++a) {
-          cross.resize(a);
-          design.cross_products(cols[static_cast<std::size_t>(a)],
-                                std::span<const Index>(cols.data(), static_cast<std::size_t>(a)), cross);
-          for (Index b = 0; b < a; ++b) gram(a, b) = gram(b, a) = cross(b);
-          gram(a, a) = design.squared_norm(cols[static_cast<std::size_t>(a)]);
-        }
-        Vector<Scalar> delta = gram.ldlt().solve(s);
-        if (m > 1) delta.head(m - 1) -= gram.topLeftCorner(m - 1, m - 1).ldlt().solve(s.head(m - 1));
-        const double omega2 = detail::to_double(Scalar(delta.dot(gram * delta)));
-        e.omega = std::sqrt(std::max(0.0, omega2));
-        const double w = e.omega / sigma;
-        e.spacing_p_value = detail::truncated_gaussian_upper_tail(
-            lambda * w, next * w, std::isinf(previous_group) ? inf : previous_group * w);
-      }
-      for (std::size_t k = 0; k < notes.size(); ++k) e.note += (k ? "; " : "") + notes[k];
-      out.entries.push_back(std::move(e));
-    }
-    // Update the active set with the whole group.
-    for (std::size_t i = r; i < end; ++i) {
-      const Index col = position[static_cast<std::size_t>(knots[i].predictor)];
-      if (knots[i].event == EventKind::enter) {
-        active.emplace_back(col, knots[i].sign);
-      } else {
-        left_before = true;
-        active.erase(std::remove_if(active.begin(), active.end(),
-                                    [&](const auto& a) { return a.first == col; }),
-                     active.end());
-      }
-    }
-    previous_group = lambda;
-    r = end;
-  }
-  return out;
+  detail::check_testable(design, path, noise_variance);
+  return detail::EntryTests<Design>(design, path, noise_variance, residual_df).run();
 }
 
 /// Covariance and spacing tests for every entry of a path traced (without
@@ -409,25 +487,22 @@ Significance entry_significance(const Design& design, const Path<typename Design
 /// match the path (or the path was traced with weights) or when sigma^2
 /// cannot be estimated (too few rows: give it).
 template <class Scalar>
-Significance entry_significance(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
-                                const InferenceOptions& options = {}) {
+Significance entry_significance(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                const Path<Scalar>& path, const InferenceOptions& options = {}) {
   options.validate();
   PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, Vector<Scalar>());
-  double variance = options.noise_variance;
-  Index df = 0;
-  if (!(variance > 0)) {
-    const auto [rss, rank] = detail::least_squares_fit(prepared.design);
-    df = path.preparation().used_observations - rank - (path.preparation().intercept ? 1 : 0);
-    if (df <= 0)
-      throw invalid_query("the noise variance cannot be estimated by least squares with " +
-                          std::to_string(path.preparation().used_observations) + " rows and rank " +
-                          std::to_string(rank) + "; give InferenceOptions::noise_variance");
-    variance = detail::to_double(rss) / static_cast<double>(df);
-    if (!(variance > 0))
-      throw invalid_query("the least-squares fit is exact (zero residual variance); give "
-                          "InferenceOptions::noise_variance");
-  }
-  return entry_significance(prepared.design, path, variance, df);
+  const auto estimate = detail::given_or_least_squares_variance<Scalar>(
+      options.noise_variance, prepared.design, path.preparation());
+  if (!estimate.given && estimate.residual_df <= 0)
+    throw invalid_query("the noise variance cannot be estimated by least squares with " +
+                        std::to_string(path.preparation().used_observations) + " rows and rank " +
+                        std::to_string(estimate.rank) + "; give InferenceOptions::noise_variance");
+  if (!(estimate.variance > Scalar(0)))
+    throw invalid_query(
+        "the least-squares fit is exact (zero residual variance); give "
+        "InferenceOptions::noise_variance");
+  return entry_significance(prepared.design, path, detail::to_double(estimate.variance),
+                            estimate.given ? Index(0) : estimate.residual_df);
 }
 
 }  // namespace knotpath

@@ -1,6 +1,7 @@
 #pragma once
 /// \file knotpath.hpp
-/// \brief Umbrella header: everything a user of the core needs.
+/// \brief Umbrella header: the whole public API of the core (options, trace,
+/// the path and its queries, selection, inference, precision, demo data).
 ///
 /// \code
 /// #include <knotpath/knotpath.hpp>
@@ -8,6 +9,8 @@
 /// auto at = path.at_penalty(0.5 * path.lambda_max());
 /// \endcode
 
+#include "criteria.hpp"
+#include "cross_validation.hpp"
 #include "demo.hpp"
 #include "design/concept.hpp"
 #include "design/dense.hpp"
@@ -16,7 +19,10 @@
 #include "design/sparse.hpp"
 #include "errors.hpp"
 #include "factor.hpp"
+#include "inference.hpp"
 #include "options.hpp"
 #include "path.hpp"
+#include "precision.hpp"
 #include "prepare.hpp"
+#include "scaling.hpp"
 #include "trace.hpp"

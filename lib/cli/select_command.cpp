@@ -21,8 +21,9 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
+#include <knotpath/criteria.hpp>
+#include <knotpath/cross_validation.hpp>
 #include <knotpath/inference.hpp>
-#include <knotpath/select.hpp>
 
 namespace knotpath::cli {
 
@@ -280,7 +281,7 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
                      cv.pieces.size(), shown(cv.mu_low), shown(cv.mu_high));
   out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", "choice", "lambda", "mu", "CV error",
                      "SE", "active");
-  auto choice = [&](const char* label, const PenaltyChoice<double>& c) {
+  auto choice = [&](const char* label, const CurvePoint<double>& c) {
     out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", label, shown(c.lambda, 7),
                        shown(c.mu, 7), shown(c.error, 7), shown(c.standard_error, 4),
                        active_count(path, c.lambda));
@@ -330,7 +331,7 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   for (const auto& line : caution_lines(true)) out << "caution: " << line << '\n';
 }
 
-json choice_json(const PenaltyChoice<double>& c, const Path<double>& path, const std::vector<std::string>& names) {
+json choice_json(const CurvePoint<double>& c, const Path<double>& path, const std::vector<std::string>& names) {
   const Solution<double> s = path.at_penalty(c.lambda);
   json coefficients = json::object();
   for (std::size_t j = 0; j < names.size(); ++j) coefficients[names[j]] = s.coefficients(static_cast<Index>(j));
@@ -535,7 +536,7 @@ charts::SelectionCurve demo_selection(const demo::DemoData& data, const std::str
   };
   out << fmt::format("choosing the penalty (exact {}-fold cross-validation, seed {}):\n", cv.folds.size(),
                      cv_options.seed);
-  auto line = [&](const char* label, const PenaltyChoice<double>& c) {
+  auto line = [&](const char* label, const CurvePoint<double>& c) {
     out << fmt::format("  {:<27} lambda {:.6g} (mu {:.6g}), CV error {:.5g} +/- {:.3g}, {} predictors\n", label,
                        c.lambda, c.mu, c.error, c.standard_error, cv.full_path.active_at(c.lambda).size());
   };

@@ -37,8 +37,9 @@
 #include <vector>
 
 #include "../detail/scalar.hpp"
+#include "../criteria.hpp"
+#include "../cross_validation.hpp"
 #include "../path.hpp"
-#include "../select.hpp"
 
 namespace knotpath::charts {
 

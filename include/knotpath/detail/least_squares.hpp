@@ -1,0 +1,98 @@
+#pragma once
+// The full least-squares fit of the data a path was traced on, and the
+// noise variance sigma^2 it gives: the one home of the rule shared by the
+// criteria (criteria.hpp) and the entry tests (inference.hpp), and of the
+// check of the noise_variance option. Users do not call these.
+
+#include <cmath>
+#include <utility>
+
+#include <Eigen/QR>
+
+#include "../errors.hpp"
+#include "../options.hpp"
+#include "../path.hpp"
+#include "../prepare.hpp"
+#include "scalar.hpp"
+
+namespace knotpath::detail {
+
+/// Re-prepares the data a path was traced on and checks that they match it.
+template <class Scalar>
+PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                  const Path<Scalar>& path, const Vector<Scalar>& weights) {
+  PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, path.options(), weights);
+  const auto& a = prepared.preparation;
+  const auto& b = path.preparation();
+  // The path may have been prepared another way (e.g. from sufficient
+  // statistics), so the figures agree to rounding, not bit for bit.
+  const Scalar tol = Scalar(1e-9);
+  auto close = [&](const Scalar& u, const Scalar& v, const Scalar& size) {
+    return abs_value<Scalar>(Scalar(u - v)) <= tol * size;
+  };
+  bool same =
+      a.predictors == b.predictors && a.used_observations == b.used_observations &&
+      a.columns == b.columns && a.intercept == b.intercept &&
+      close(a.weight_sum, b.weight_sum, b.weight_sum) &&
+      close(a.response_mean, b.response_mean,
+            abs_value<Scalar>(b.response_mean) + square_root<Scalar>(b.total_sum_of_squares)) &&
+      close(a.total_sum_of_squares, b.total_sum_of_squares, b.total_sum_of_squares);
+  for (Index j = 0; same && j < b.predictors; ++j) {
+    const Scalar spread = b.standardized ? b.scales(j) : Scalar(1);
+    same = close(a.scales(j), b.scales(j), b.scales(j)) &&
+           close(a.means(j), b.means(j), abs_value<Scalar>(b.means(j)) + spread);
+  }
+  if (!same)
+    throw invalid_query("the data (or weights) given do not match the data the path was traced on");
+  return prepared;
+}
+
+/// Residual sum of squares and rank of the least-squares fit of the prepared problem.
+template <class Scalar>
+std::pair<Scalar, Index> least_squares_fit(const DenseDesign<Scalar>& design) {
+  if (design.cols() == 0) return {design.response_squared_norm(), 0};
+  Eigen::ColPivHouseholderQR<Matrix<Scalar>> qr(design.columns());
+  const Vector<Scalar> b = qr.solve(design.response());
+  const Vector<Scalar> r = design.response() - design.columns() * b;
+  return {r.squaredNorm(), qr.rank()};
+}
+
+/// The check of a noise_variance option: negative asks for an estimate,
+/// anything else must be finite and > 0. Throws invalid_option("noise_variance").
+inline void validate_noise_variance(double noise_variance) {
+  if (std::isnan(noise_variance) || noise_variance == 0.0 || std::isinf(noise_variance))
+    throw invalid_option("noise_variance", "must be finite and > 0 (negative: estimate)");
+}
+
+/// sigma^2 by the first two steps of the noise-variance rule.
+template <class Scalar>
+struct NoiseVarianceEstimate {
+  Scalar variance{0};     ///< sigma^2; 0 when not given and the fit leaves no residual df
+  bool given = false;     ///< the user's value (the fields below are then 0)
+  Index residual_df = 0;  ///< n - rank - intercept of the full least-squares fit; <= 0: none left
+  Index rank = 0;         ///< rank of the full least-squares fit
+};
+
+/// The noise-variance rule: the value given when it is > 0; else the residual
+/// variance of the full least-squares fit, RSS / (n - rank - 1) (n - rank
+/// without intercept; n = rows with positive weight) when that leaves residual
+/// degrees of freedom. What to do otherwise is the caller's (the criteria fall
+/// back on a sparse fit, the entry tests refuse).
+template <class Scalar>
+NoiseVarianceEstimate<Scalar> given_or_least_squares_variance(double given,
+                                                              const DenseDesign<Scalar>& design,
+                                                              const Preparation<Scalar>& prep) {
+  NoiseVarianceEstimate<Scalar> out;
+  if (given > 0) {
+    out.variance = Scalar(given);
+    out.given = true;
+    return out;
+  }
+  const auto [rss, rank] = least_squares_fit(design);
+  out.rank = rank;
+  out.residual_df = prep.used_observations - rank - (prep.intercept ? 1 : 0);
+  if (out.residual_df > 0) out.variance = rss / Scalar(static_cast<double>(out.residual_df));
+  return out;
+}
+
+}  // namespace knotpath::detail
