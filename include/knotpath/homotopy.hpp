@@ -56,8 +56,8 @@
 #include "design/concept.hpp"
 #include "detail/scalar.hpp"
 #include "factor.hpp"
+#include "knot.hpp"
 #include "options.hpp"
-#include "path.hpp"
 #include "prepare.hpp"
 
 namespace knotpath {
@@ -116,6 +116,14 @@ class ErrorEstimate {
 
 }  // namespace detail
 
+/// What one run of the homotopy records (Path is assembled from it).
+template <class Scalar>
+struct TracedKnots {
+  std::vector<Knot<Scalar>> knots;         ///< the rows of the knot table
+  std::vector<HeldOut<Scalar>> held_out;   ///< predictors held out as collinear
+  StopReason reason = StopReason::completed;  ///< why the path ended
+};
+
 /// One trace of the homotopy over a design operator and its preparation.
 /// Build it, call run() once. Cost per knot: one
 /// design.direction_correlations (O(n q) dense) plus O(k^2) for the factor
@@ -166,7 +174,7 @@ class Homotopy {
 
   /// Traces the path: the start knot, then one segment and its events per
   /// pass until the penalty reaches 0 or a stopping rule holds.
-  Path<Scalar> run() {
+  TracedKnots<Scalar> run() {
     fit_unpenalized();
     start();
     for (std::size_t steps = 1;; ++steps) {
@@ -192,7 +200,7 @@ class Homotopy {
       collect_events(segment.nearest);
       if (apply_events()) break;
     }
-    return Path<Scalar>(prep_, options_, std::move(knots_), std::move(held_out_), reason_, ridge_);
+    return {std::move(knots_), std::move(held_out_), reason_};
   }
 
  private:
@@ -568,19 +576,5 @@ class Homotopy {
   std::vector<detail::Candidate<Scalar>> candidates_, events_;
   std::vector<Index> entered_;         // added at this knot, not yet recorded
 };
-
-/// Traces the path of a prepared problem: `design` is any DesignOperator
-/// over the prepared columns described by `prep` (prep.columns[k] is the
-/// user's index of column k). Throws invalid_option (options.validate()).
-/// Thread safety: the dense, view and sparse operators write scratch space
-/// during the trace, so one design object must not be traced by two threads
-/// at once (a GramDesign holds none and may be shared); the returned Path
-/// is immutable.
-template <DesignOperator Design>
-Path<typename Design::Scalar> trace_design(const Design& design, const Preparation<typename Design::Scalar>& prep,
-                                           const TraceOptions& options) {
-  options.validate(static_cast<std::size_t>(prep.predictors));
-  return Homotopy<Design>(design, prep, options).run();
-}
 
 }  // namespace knotpath

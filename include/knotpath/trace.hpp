@@ -5,18 +5,35 @@
 /// columns (design/), and runs the homotopy (homotopy.hpp, which holds the
 /// algorithm and its references) over that design operator.
 
+#include <utility>
+
 #include "design/concept.hpp"
-#include "design/dense.hpp"
-#include "design/dense_view.hpp"
-#include "design/gram.hpp"
-#include "design/sparse.hpp"
 #include "detail/scalar.hpp"
 #include "homotopy.hpp"
 #include "options.hpp"
 #include "path.hpp"
 #include "prepare.hpp"
+#include "problem.hpp"
+#include "statistics.hpp"
 
 namespace knotpath {
+
+/// Traces the path of a prepared problem: `design` is any DesignOperator
+/// over the prepared columns described by `prep` (prep.columns[k] is the
+/// user's index of column k). Throws invalid_option (options.validate()).
+/// Thread safety: the dense, view and sparse operators write scratch space
+/// during the trace, so one design object must not be traced by two threads
+/// at once (a GramDesign holds none and may be shared); the returned Path
+/// is immutable.
+template <DesignOperator Design>
+Path<typename Design::Scalar> trace_design(const Design& design, const Preparation<typename Design::Scalar>& prep,
+                                           const TraceOptions& options) {
+  using Scalar = typename Design::Scalar;
+  options.validate(static_cast<std::size_t>(prep.predictors));
+  TracedKnots<Scalar> traced = Homotopy<Design>(design, prep, options).run();
+  return Path<Scalar>(prep, options, std::move(traced.knots), std::move(traced.held_out), traced.reason,
+                      Scalar(options.ridge));
+}
 
 /// Traces the lasso (or least angle) path of y on the columns of x.
 ///
@@ -39,8 +56,15 @@ namespace knotpath {
 /// than one X^T v per knot over a full path); for wide designs (p > n) with
 /// more than 4e6 entries the view of the user's matrix (no copy); else the
 /// dense operator on a centred, scaled copy. Exact types never use the view.
-template <class Scalar>
-Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
+///
+/// `x` may be any Eigen dense object of the scalar type: a Matrix, an
+/// Eigen::Map over the caller's memory or a block is read in place, never
+/// copied whole (the dense storage makes its own centred, scaled copy of the
+/// traced columns; the view and Gram storages read x directly). Row-major
+/// objects and expressions are read in place too, except by the view, which
+/// then works on one column-major copy.
+template <class Scalar, class Derived>
+Path<Scalar> trace(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
                    const Vector<Scalar>& weights = Vector<Scalar>()) {
   options.validate(static_cast<std::size_t>(x.cols()));
   const bool gram = options.storage == Storage::gram ||
@@ -54,9 +78,14 @@ Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Trace
                                       "(its implicit scaling takes square roots)");
   } else {
     if (view && !gram) {
-      PreparedView<Scalar> prepared = prepare_view<Scalar>(x, y, options, weights);
-      prepared.design.set_threads(options.threads);
-      return trace_design(prepared.design, prepared.preparation, options);
+      if constexpr (detail::viewable_v<Derived, Scalar>) {
+        PreparedView<Scalar> prepared = prepare_view<Scalar>(x, y, options, weights);
+        prepared.design.set_threads(options.threads);
+        return trace_design(prepared.design, prepared.preparation, options);
+      } else {
+        const Matrix<Scalar> column_major = x;  // the view reads column-major memory
+        return trace<Scalar>(column_major, y, options, weights);
+      }
     }
   }
   if (gram) {
@@ -73,10 +102,10 @@ Path<Scalar> trace(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Trace
 /// Traces the path of a sparse design (compressed columns, referenced, never
 /// densified; centring and scaling applied implicitly). Same objective and
 /// exceptions as trace(). Cost per knot O(nnz(X) + n) plus the factor.
-template <class Scalar>
-Path<Scalar> trace_sparse(const SparseMatrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
+template <class Scalar, class StorageIndex>
+Path<Scalar> trace_sparse(const SparseMatrix<Scalar, StorageIndex>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
                           const Vector<Scalar>& weights = Vector<Scalar>()) {
-  PreparedSparse<Scalar> prepared = prepare_sparse<Scalar>(x, y, options, weights);
+  PreparedSparse<Scalar, StorageIndex> prepared = prepare_sparse<Scalar, StorageIndex>(x, y, options, weights);
   prepared.design.set_threads(options.threads);
   return trace_design(prepared.design, prepared.preparation, options);
 }
