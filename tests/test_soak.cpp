@@ -43,6 +43,7 @@
 
 #include <knotpath/knotpath.hpp>
 
+#include "soak_design.hpp"
 #include "test_support.hpp"
 
 namespace {
@@ -58,75 +59,17 @@ constexpr double kTolFactor = 1e3;
 constexpr double kFitTol = 1e-6;
 constexpr double kEps = 2.220446049250313e-16;  // IEEE 754 binary64 epsilon
 
-struct Design {
-  Matrix<double> x;
-  Vector<double> y;
-  kp::TraceOptions options;
-  std::string summary;
-};
-
-Design random_design(unsigned seed) {
-  std::mt19937_64 gen(seed);
-  std::uniform_real_distribution<double> u(0.0, 1.0);
-  std::normal_distribution<double> normal(0.0, 1.0);
-  Design d;
-  // Log-uniform sizes: most designs small, some near the bounds.
-  const Index n = std::clamp<Index>(static_cast<Index>(std::exp(u(gen) * std::log(201.0))) + 1, 2, 200);
-  const Index p = std::clamp<Index>(static_cast<Index>(std::exp(u(gen) * std::log(301.0))), 1, 300);
-  const double rhos[] = {0.0, 0.0, 0.5, 0.9, 0.99, 0.999};
-  const double rho = rhos[gen() % 6];
-  const int kind = static_cast<int>(gen() % 8);  // 0..4 Gaussian AR(1), 5 ties, 6 duplicates, 7 both
-  d.x.resize(n, p);
-  const double tail = std::sqrt(1.0 - rho * rho);
-  for (Index i = 0; i < n; ++i) {
-    double prev = normal(gen);
-    for (Index j = 0; j < p; ++j) {
-      if (j > 0) prev = rho * prev + tail * normal(gen);
-      d.x(i, j) = prev;
-    }
-  }
-  if (kind == 5 || kind == 7)  // tied, integer-valued columns
-    for (Index j = 0; j < p; j += 2)
-      for (Index i = 0; i < n; ++i) d.x(i, j) = static_cast<double>(gen() % 3);
-  if ((kind == 6 || kind == 7) && p >= 2)  // duplicated (possibly rescaled) columns
-    for (Index j = 1; j < p; j += 3) d.x.col(j) = d.x.col(gen() % static_cast<std::size_t>(j)) * (gen() % 2 ? 1.0 : -2.5);
-  // Column scales 10^U(-6, 6): norms from about 1e-6 to 1e6 times sqrt(n).
-  for (Index j = 0; j < p; ++j) d.x.col(j) *= std::pow(10.0, -6.0 + 12.0 * u(gen));
-  Vector<double> beta = Vector<double>::Zero(p);
-  for (Index k = 0; k < std::min<Index>(p, 5); ++k) {
-    const Index j = static_cast<Index>(gen() % static_cast<std::size_t>(p));
-    const double norm = d.x.col(j).norm();  // 0 for an all-zero tied column
-    if (norm > 0) beta(j) = normal(gen) / norm * std::sqrt(double(n));
-  }
-  d.y = d.x * beta;
-  const double noise = u(gen) < 0.2 ? 0.0 : 1.0;
-  for (Index i = 0; i < n; ++i) d.y(i) += noise * normal(gen) + 2.0;
-  if (kind == 5) d.y = d.y.array().round();  // tied response values
-  const int options = static_cast<int>(gen() % 10);
-  d.options.variant = options == 0 ? kp::Variant::least_angle : kp::Variant::lasso;
-  d.options.fit_intercept = options != 1;
-  d.options.standardize = options != 2;
-  if (options == 3) d.options.ridge = 0.05 + u(gen);
-  d.options.storage = static_cast<kp::Storage>(gen() % 4);  // automatic, dense copy, Gram, view
-  char text[200];
-  std::snprintf(text, sizeof text, "seed %u: n %ld p %ld rho %g kind %d options %d storage %d", seed,
-                static_cast<long>(n), static_cast<long>(p), rho, kind, options,
-                static_cast<int>(d.options.storage));
-  d.summary = text;
-  return d;
-}
-
 struct Figures {
   long paths = 0, knots = 0, suspect_knots = 0, penalties = 0, compared = 0, cd_unconverged = 0;
-  double worst_kkt = 0;          // violation / allowance ratio, all points
+  double worst_kkt = 0;           // violation / allowance ratio, all points
   double worst_kkt_relative = 0;  // violation / lambda_max, non-suspect points
-  double worst_fit = 0;          // ||Z (b - b_cd)|| / ||y||
+  double worst_fit = 0;           // ||Z (b - b_cd)|| / ||y||
   std::string worst_kkt_design, worst_fit_design;
 };
 
 // KKT violation of b at lambda on prepared columns z (largest over columns).
-double violation(const Matrix<double>& z, const Vector<double>& y, const Vector<double>& b, double lambda,
-                 const kp::TraceOptions& o, const std::vector<double>& f) {
+double violation(const Matrix<double>& z, const Vector<double>& y, const Vector<double>& b,
+                 double lambda, const kp::TraceOptions& o, const std::vector<double>& f) {
   const Vector<double> c = z.transpose() * (y - z * b) - o.ridge * b;
   double worst = 0;
   for (Index j = 0; j < z.cols(); ++j) {
@@ -149,7 +92,7 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
   std::mt19937_64 gen(99);
   std::uniform_real_distribution<double> u(0.0, 1.0);
   for (int s = 0; s < kDesigns; ++s) {
-    const Design d = random_design(1000u + static_cast<unsigned>(s));
+    const kt::SoakDesign d = kt::random_design(1000u + static_cast<unsigned>(s));
     SCOPED_TRACE(d.summary);
     kp::Path<double> path;
     try {
@@ -163,7 +106,8 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
     const auto& prep = path.preparation();
     if (prep.columns.empty()) continue;
     Matrix<double> xs(d.x.rows(), static_cast<Index>(prep.columns.size()));
-    for (std::size_t k = 0; k < prep.columns.size(); ++k) xs.col(static_cast<Index>(k)) = d.x.col(prep.columns[k]);
+    for (std::size_t k = 0; k < prep.columns.size(); ++k)
+      xs.col(static_cast<Index>(k)) = d.x.col(prep.columns[k]);
     const kt::Centred c = kt::centre(xs, d.y, d.options.fit_intercept, d.options.standardize);
     const double ynorm = c.y.norm();
     const double lambda_max = path.lambda_max();
@@ -179,18 +123,22 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
     // sine * ||r|| (unit columns). The largest recorded angle of the path is
     // allowed that much.
     double held_sine = 0;
-    for (const auto& h : path.held_out()) held_sine = std::max(held_sine, std::sqrt(h.squared_sine));
-    auto check = [&](const Vector<double>& b, double lambda, double kappa, double error, bool suspect) {
+    for (const auto& h : path.held_out())
+      held_sine = std::max(held_sine, std::sqrt(h.squared_sine));
+    auto check = [&](const Vector<double>& b, double lambda, double kappa, double error,
+                     bool suspect) {
       const double v = violation(c.z, c.y, b, lambda, d.options, prep.penalty_factors);
       const double zmax = c.z.colwise().norm().maxCoeff();
-      const double allowed = kTolFactor * (kEps * std::max(1.0, kappa) * zmax * (ynorm + zmax * b.lpNorm<1>()) +
-                                           error * lambda_max) +
-                             held_sine * (c.y - c.z * b).norm() * zmax + 1e-300;
+      const double allowed =
+          kTolFactor * (kEps * std::max(1.0, kappa) * zmax * (ynorm + zmax * b.lpNorm<1>()) +
+                        error * lambda_max) +
+          held_sine * (c.y - c.z * b).norm() * zmax + 1e-300;
       if (v / allowed > fig.worst_kkt) {
         fig.worst_kkt = v / allowed;
         fig.worst_kkt_design = d.summary;
       }
-      if (!suspect && lambda_max > 0) fig.worst_kkt_relative = std::max(fig.worst_kkt_relative, v / lambda_max);
+      if (!suspect && lambda_max > 0)
+        fig.worst_kkt_relative = std::max(fig.worst_kkt_relative, v / lambda_max);
       EXPECT_LE(v, allowed) << "lambda " << lambda << " kappa " << kappa << " error " << error;
     };
     const auto& knots = path.knots();
@@ -198,8 +146,8 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       const auto& knot = knots[k];
       ++fig.knots;
       fig.suspect_knots += knot.suspect;
-      check(prepared(path.dense_coefficients(k)), knot.penalty, knot.condition_estimate, knot.estimated_error,
-            knot.suspect);
+      check(prepared(path.dense_coefficients(k)), knot.penalty, knot.condition_estimate,
+            knot.estimated_error, knot.suspect);
     }
     // Random penalties inside the path: the interpolated solution is exact.
     const double last = knots.back().penalty;
@@ -209,7 +157,8 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       while (lower < knots.size() && knots[lower].penalty >= lambda) ++lower;
       const std::size_t upper = lower == 0 ? 0 : lower - 1;
       lower = std::min(lower, knots.size() - 1);
-      const double kappa = std::max(knots[upper].condition_estimate, knots[lower].condition_estimate);
+      const double kappa =
+          std::max(knots[upper].condition_estimate, knots[lower].condition_estimate);
       const double error = std::max(knots[upper].estimated_error, knots[lower].estimated_error);
       const bool suspect = knots[upper].suspect || knots[lower].suspect;
       const Vector<double> b = prepared(path.at_penalty(lambda).coefficients);
@@ -217,9 +166,10 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       check(b, lambda, kappa, error, suspect);
       // Coordinate descent (lasso / elastic net only), when it converges.
       if (d.options.variant != kp::Variant::lasso || r > 0 || suspect) continue;
-      const int sweeps = static_cast<int>(std::min<long>(2000, 4000000 / (xs.rows() * xs.cols() + 1)));
-      const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, prep.penalty_factors, d.options.ridge,
-                                                       {}, 1e-14, sweeps);
+      const int sweeps =
+          static_cast<int>(std::min<long>(2000, 4000000 / (xs.rows() * xs.cols() + 1)));
+      const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, prep.penalty_factors,
+                                                       d.options.ridge, {}, 1e-14, sweeps);
       if (violation(c.z, c.y, cd, lambda, d.options, prep.penalty_factors) > 1e-9 * lambda_max) {
         ++fig.cd_unconverged;
         continue;
@@ -233,14 +183,21 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       EXPECT_LE(fit, kFitTol) << "fit differs from coordinate descent at lambda " << lambda;
     }
   }
-  const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
-  std::printf("soak: %ld paths, %ld knots (%ld suspect), %ld random penalties, %ld compared with coordinate "
-              "descent (%ld where it had not converged skipped), %.1f s\n",
-              fig.paths, fig.knots, fig.suspect_knots, fig.penalties, fig.compared, fig.cd_unconverged, seconds);
-  std::printf("soak: worst KKT violation / allowance %.3g (%s)\n", fig.worst_kkt, fig.worst_kkt_design.c_str());
-  std::printf("soak: worst KKT violation / lambda_max at non-suspect points %.3g\n", fig.worst_kkt_relative);
-  std::printf("soak: worst fit disagreement with coordinate descent ||Z(b - b_cd)|| / ||y|| %.3g (%s)\n",
-              fig.worst_fit, fig.worst_fit_design.c_str());
+  const double seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  std::printf(
+      "soak: %ld paths, %ld knots (%ld suspect), %ld random penalties, %ld compared with "
+      "coordinate "
+      "descent (%ld where it had not converged skipped), %.1f s\n",
+      fig.paths, fig.knots, fig.suspect_knots, fig.penalties, fig.compared, fig.cd_unconverged,
+      seconds);
+  std::printf("soak: worst KKT violation / allowance %.3g (%s)\n", fig.worst_kkt,
+              fig.worst_kkt_design.c_str());
+  std::printf("soak: worst KKT violation / lambda_max at non-suspect points %.3g\n",
+              fig.worst_kkt_relative);
+  std::printf(
+      "soak: worst fit disagreement with coordinate descent ||Z(b - b_cd)|| / ||y|| %.3g (%s)\n",
+      fig.worst_fit, fig.worst_fit_design.c_str());
   EXPECT_EQ(fig.paths, kDesigns);
 }
 

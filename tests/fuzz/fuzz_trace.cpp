@@ -32,43 +32,17 @@
 #include <cstdint>
 #include <cstdio>
 #include <cstdlib>
-#include <cstring>
 #include <limits>
 #include <vector>
 
 #include <knotpath/knotpath.hpp>
 
+#include "decode_design.hpp"  // relative: fuzz.sh compiles with -Iinclude only
+
 namespace {
 
 namespace kp = knotpath;
 using kp::Index;
-
-struct Bytes {
-  const std::uint8_t* data;
-  std::size_t size, pos = 0;
-  std::uint8_t next() { return pos < size ? data[pos++] : 0; }
-  double value(int mode) {
-    switch (mode) {
-      case 0: return static_cast<double>(static_cast<int>(next() % 7) - 3);  // ties, duplicates
-      case 1: {
-        const int v = static_cast<int>(next()) | (static_cast<int>(next()) << 8);
-        return static_cast<double>(v - 32768) / 256.0;
-      }
-      case 2: {  // spread over many magnitudes
-        const int m = static_cast<int>(next()) - 128;
-        const int e = static_cast<int>(next() % 64) - 32;
-        return std::ldexp(static_cast<double>(m), e);
-      }
-      default: {  // raw bytes: any double, NaN and Inf included
-        double d = 0;
-        std::uint8_t raw[8];
-        for (auto& b : raw) b = next();
-        std::memcpy(&d, raw, 8);
-        return d;
-      }
-    }
-  }
-};
 
 [[noreturn]] void fail(const char* what, int step, double violation, double allowed) {
   std::fprintf(stderr, "fuzz_trace: %s at knot %d: violation %.3g > allowed %.3g\n", what, step,
@@ -79,42 +53,12 @@ struct Bytes {
 }  // namespace
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
-  Bytes in{data, size};
-  const Index n = 1 + in.next() % 12;
-  const Index p = 1 + in.next() % 10;
-  const std::uint8_t flags = in.next();
-  const std::uint8_t more = in.next();
-  const int mode = more & 3;
-  kp::TraceOptions o;
-  o.variant = (flags & 1) ? kp::Variant::least_angle : kp::Variant::lasso;
-  o.fit_intercept = (flags & 2) == 0;
-  o.standardize = (flags & 4) == 0;
-  o.storage = static_cast<kp::Storage>((flags >> 3) % 4);  // automatic, dense, gram, view
-  if (flags & 32) o.ridge = static_cast<double>(in.next()) / 64.0;
-  if (flags & 64) {
-    o.penalty_factors.resize(static_cast<std::size_t>(p));
-    for (auto& f : o.penalty_factors) {
-      const std::uint8_t b = in.next();
-      f = b == 255 ? std::numeric_limits<double>::infinity() : static_cast<double>(b % 8) / 2.0;
-    }
-  }
-  if (flags & 128) {
-    const std::uint8_t b = in.next();
-    o.sign_constraints = {static_cast<kp::SignConstraint>(b % 3)};
-  }
-  if (more & 4) o.max_knots = in.next() % 16;
-  if (more & 8) o.max_active = in.next() % 6;
-  kp::Matrix<double> x(n, p);
-  kp::Vector<double> y(n), w;
-  for (Index j = 0; j < p; ++j)
-    for (Index i = 0; i < n; ++i) x(i, j) = in.value(mode);
-  if (more & 16)  // a duplicated column
-    x.col(p - 1) = x.col(0);
-  for (Index i = 0; i < n; ++i) y(i) = in.value(mode);
-  if (more & 32) {
-    w.resize(n);
-    for (Index i = 0; i < n; ++i) w(i) = static_cast<double>(in.next() % 4) / 2.0;
-  }
+  const kp::testing::FuzzDesign design = kp::testing::decode_design(data, size);
+  const kp::TraceOptions& o = design.options;
+  const kp::Matrix<double>& x = design.x;
+  const kp::Vector<double>& y = design.y;
+  const kp::Vector<double>& w = design.weights;
+  const Index n = x.rows();
 
   kp::Path<double> path;
   try {
@@ -210,7 +154,8 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
       // With a ridge the angle and the bound live in the augmented problem
       // (Z stacked on sqrt(ridge) I, y on 0): residual (r, -sqrt(ridge) b),
       // column (z_k, sqrt(ridge) e_k); c above is exactly its correlation.
-      const double held = std::sqrt(sine2) * std::sqrt(r.squaredNorm() + o.ridge * b.squaredNorm()) *
+      const double held = std::sqrt(sine2) *
+                          std::sqrt(r.squaredNorm() + o.ridge * b.squaredNorm()) *
                           std::sqrt(z.col(kk).squaredNorm() + o.ridge);
       if (v > allowed + held) fail("KKT violation", static_cast<int>(knot.step), v, allowed + held);
     }
