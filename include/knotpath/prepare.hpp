@@ -112,14 +112,12 @@ namespace detail {
 /// cross-products and their sums stay finite and normal in every storage
 /// (the Gram statistics form products directly), with 2^E/2 of headroom for
 /// the growth of the homotopy's intermediate quantities on ill-conditioned
-/// designs (a fuzzed design with a response near 1e132 and a wider bound
-/// overflowed the residual sum of squares). The upper bound covers rows of
-/// weight 0 too, because the view and sparse designs carry them through
-/// their products (multiplied by a zero weight, which an overflow would turn
-/// into NaN); the lower bound counts only the rows that take part in the
-/// fit (a fuzzed design had 5e54 on its rows of weight 0 and a subnormal
-/// response on its only weighted row: counted over every row it passed, and
-/// the fit underflowed). Outside the range the trace would overflow to
+/// designs (RELIABILITY.md gives the cases that set it). The upper bound
+/// covers rows of weight 0 too, because the view and sparse designs carry
+/// them through their products (multiplied by a zero weight, which an
+/// overflow would turn into NaN); the lower bound counts only the rows that
+/// take part in the fit (values on rows of weight 0 say nothing about the
+/// digits the fit keeps). Outside the range the trace would overflow to
 /// Inf/NaN or lose every digit; invalid_data names `what` to rescale. Other
 /// scalar types (50-digit floats, rationals) have a far wider range than any
 /// double input and are not limited.
@@ -236,6 +234,26 @@ void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j
   prep.columns.push_back(j);
   prep.penalty_factors.push_back(options.penalty_factor(static_cast<std::size_t>(j)));
   prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
+}
+
+/// The one scaling rule, applied after exclusion_reason() let column j
+/// through: its scale is its spread ||sqrt(w) o (x_j - m_j)|| when
+/// standardizing (a zero or non-finite spread leaves it out, recorded as
+/// unscalable_column), else 1. A kept column is recorded by keep_column().
+/// Returns the scale, or nothing when the column was left out.
+template <class Scalar>
+std::optional<Scalar> admit_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j,
+                                   const Scalar& mean, const Scalar& spread) {
+  Scalar scale(1);
+  if (options.standardize) {
+    scale = spread;
+    if (!(scale > Scalar(0)) || !is_finite_value(scale)) {
+      prep.excluded.push_back({j, unscalable_column});
+      return std::nullopt;
+    }
+  }
+  keep_column(prep, options, j, mean, scale, spread);
+  return scale;
 }
 
 /// Means and scales of the traced columns in design order (entry k belongs

@@ -148,17 +148,11 @@ PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const V
     Scalar mean(0);
     if (options.fit_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
     for (Index r = 0; r < m; ++r) column(r) = x(rows[r], j) - mean;
-    Scalar scale(1), spread(0);
+    Scalar spread(0);
     if (options.standardize || !detail::is_exact_v<Scalar>) spread = detail::weighted_norm<Scalar>(column, wk);
-    if (options.standardize) {
-      scale = spread;
-      if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
-        prep.excluded.push_back({j, detail::unscalable_column});
-        continue;
-      }
-    }
-    for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / scale;
-    detail::keep_column(prep, options, j, mean, scale, spread);
+    const std::optional<Scalar> scale = detail::admit_column(prep, options, j, mean, spread);
+    if (!scale) continue;
+    for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / *scale;
     ++kept;
   }
   z.conservativeResize(m, kept);
@@ -231,15 +225,7 @@ PreparedView<Scalar> prepare_view(const Eigen::MatrixBase<Derived>& x, const Vec
     }
     const Scalar mean = options.fit_intercept ? weighted_mean(col) : Scalar(0);
     const Scalar spread = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
-    Scalar scale(1);
-    if (options.standardize) {
-      scale = spread;
-      if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
-        prep.excluded.push_back({j, detail::unscalable_column});
-        continue;
-      }
-    }
-    detail::keep_column(prep, options, j, mean, scale, spread);
+    detail::admit_column(prep, options, j, mean, spread);
   }
   auto [m, s] = detail::traced_means_and_scales(prep);
   typename DenseViewDesign<Scalar>::MatrixView view(x.derived().data(), n, p,
@@ -353,16 +339,7 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
       ss += w(it.row()) * dev * dev;
     }
     ss += (wsum - stored_weight) * mean * mean;
-    const Scalar spread = detail::square_root<Scalar>(ss);
-    Scalar scale(1);
-    if (options.standardize) {
-      scale = spread;
-      if (!(scale > Scalar(0))) {
-        prep.excluded.push_back({j, detail::unscalable_column});
-        continue;
-      }
-    }
-    detail::keep_column(prep, options, j, mean, scale, spread);
+    detail::admit_column(prep, options, j, mean, detail::square_root<Scalar>(ss));
   }
   auto [m, s] = detail::traced_means_and_scales(prep);
   SparseDesign<Scalar, StorageIndex> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc));
@@ -429,21 +406,14 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
       continue;
     }
     const Scalar m2 = moment(j, j);
-    Scalar scale(1), spread(0);
+    if (options.standardize && !detail::is_finite_value(m2))
+      throw invalid_data::of_predictor(static_cast<std::size_t>(j),
+                                       ": its sum of squares is not finite in the sufficient statistics "
+                                       "(the data overflow double precision); rescale it");
+    Scalar spread(0);
     if constexpr (!detail::is_exact_v<Scalar>)
       if (m2 > Scalar(0)) spread = detail::square_root<Scalar>(m2);
-    if (options.standardize) {
-      if (!detail::is_finite_value(m2))
-        throw invalid_data::of_predictor(static_cast<std::size_t>(j),
-                                         ": its sum of squares is not finite in the sufficient statistics "
-                           "(the data overflow double precision); rescale it");
-      if (!(m2 > Scalar(0))) {
-        prep.excluded.push_back({j, detail::unscalable_column});
-        continue;
-      }
-      scale = spread;
-    }
-    detail::keep_column(prep, options, j, options.fit_intercept ? stats.means(j) : Scalar(0), scale, spread);
+    detail::admit_column(prep, options, j, options.fit_intercept ? stats.means(j) : Scalar(0), spread);
   }
   const Index q = static_cast<Index>(prep.columns.size());
   Matrix<Scalar> g(q, q);
