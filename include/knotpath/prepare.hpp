@@ -62,6 +62,24 @@ struct Preparation {
   double centring_amplification = 1;
 };
 
+/// The record of a preparation before any column is looked at: the sizes,
+/// the options that shape it and the weight sum; means 0 and scales 1 until
+/// columns are kept (detail::admit_column()).
+template <class Scalar>
+Preparation<Scalar> start_preparation(Index observations, Index used_observations, Index predictors,
+                                      const TraceOptions& options, const Scalar& weight_sum) {
+  Preparation<Scalar> prep;
+  prep.observations = observations;
+  prep.used_observations = used_observations;
+  prep.predictors = predictors;
+  prep.intercept = options.fit_intercept;
+  prep.standardized = options.standardize;
+  prep.weight_sum = weight_sum;
+  prep.means = Vector<Scalar>::Zero(predictors);
+  prep.scales = Vector<Scalar>::Ones(predictors);
+  return prep;
+}
+
 /// The divisor that turns a penalty of this preparation's data into the
 /// size-free mu (scaling.hpp).
 template <class Scalar>

@@ -84,15 +84,6 @@ PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const V
   }
   const Index m = static_cast<Index>(rows.size());
 
-  Preparation<Scalar> prep;
-  prep.observations = n;
-  prep.used_observations = m;
-  prep.predictors = p;
-  prep.intercept = options.fit_intercept;
-  prep.standardized = options.standardize;
-  prep.means = Vector<Scalar>::Zero(p);
-  prep.scales = Vector<Scalar>::Ones(p);
-
   Vector<Scalar> wk(m), sqrt_w(m);
   for (Index r = 0; r < m; ++r) {
     wk(r) = w(rows[r]);
@@ -101,7 +92,7 @@ PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const V
     else
       sqrt_w(r) = detail::square_root<Scalar>(wk(r));
   }
-  prep.weight_sum = wk.sum();
+  Preparation<Scalar> prep = start_preparation<Scalar>(n, m, p, options, wk.sum());
 
   // Weighted mean with one correction pass (the second pass removes most of
   // the rounding error of the first when the mean is large).
@@ -190,15 +181,7 @@ PreparedView<Scalar> prepare_view(const Eigen::MatrixBase<Derived>& x, const Vec
       if (first < 0) first = i;
     }
   if (used == 0) throw invalid_data("no observation has a positive weight");
-  Preparation<Scalar> prep;
-  prep.observations = n;
-  prep.used_observations = used;
-  prep.predictors = p;
-  prep.intercept = options.fit_intercept;
-  prep.standardized = options.standardize;
-  prep.weight_sum = w.sum();
-  prep.means = Vector<Scalar>::Zero(p);
-  prep.scales = Vector<Scalar>::Ones(p);
+  Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, w.sum());
   const Scalar wsum = prep.weight_sum;
   auto weighted_mean = [&](const auto& v) {
     Scalar m = v.dot(w) / wsum;
@@ -288,15 +271,7 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
   }
   detail::check_magnitude(top_y, top_y_used, std::string("the response"));
   if (weights.size() != 0) detail::check_magnitude(Scalar(w.maxCoeff()), Scalar(w.maxCoeff()), std::string("the weight vector"));
-  Preparation<Scalar> prep;
-  prep.observations = n;
-  prep.used_observations = used;
-  prep.predictors = p;
-  prep.intercept = options.fit_intercept;
-  prep.standardized = options.standardize;
-  prep.weight_sum = w.sum();
-  prep.means = Vector<Scalar>::Zero(p);
-  prep.scales = Vector<Scalar>::Ones(p);
+  Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, w.sum());
   const Scalar wsum = prep.weight_sum;
   if (options.fit_intercept) prep.response_mean = w.dot(y) / wsum;
   Vector<Scalar> sqrt_w = w.cwiseSqrt();
@@ -375,15 +350,7 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
                            "exact rational arithmetic cannot take the square roots that scaling "
                            "columns to unit length needs; trace with standardize = false");
   }
-  Preparation<Scalar> prep;
-  prep.observations = stats.rows;
-  prep.used_observations = stats.rows;
-  prep.predictors = p;
-  prep.intercept = options.fit_intercept;
-  prep.standardized = options.standardize;
-  prep.weight_sum = stats.weight_sum;
-  prep.means = Vector<Scalar>::Zero(p);
-  prep.scales = Vector<Scalar>::Ones(p);
+  Preparation<Scalar> prep = start_preparation<Scalar>(stats.rows, stats.rows, p, options, stats.weight_sum);
   const Scalar n = stats.weight_sum;
   // Second moments about the centre in use (the means, or 0 without intercept).
   auto moment = [&](Index i, Index j) -> Scalar {
