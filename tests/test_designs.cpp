@@ -130,3 +130,81 @@ TEST(SufficientStatistics, PathFromStatisticsEqualsPathFromRows) {
   opt.storage = kp::Storage::dense;
   expect_same_path(kp::trace<double>(prob.x, prob.y, opt), kp::trace_statistics(stats), 1e-10, "statistics");
 }
+
+// The library's edges (issue: a dangling design, silent copies). The view and
+// sparse designs read the caller's memory in place, so a temporary must not
+// bind to the functions that return such a design: the deleted rvalue
+// overloads make it a compile error, checked here by the requires-expressions
+// the compiler evaluates (a deleted function makes the call ill-formed).
+namespace {
+template <class M>
+concept ViewPreparableFrom = requires(M&& m, const Vec& y, const kp::TraceOptions& o) {
+  kp::prepare_view<double>(std::forward<M>(m), y, o);
+};
+template <class M>
+concept SparsePreparableFrom = requires(M&& m, const Vec& y, const kp::TraceOptions& o) {
+  kp::prepare_sparse(std::forward<M>(m), y, o);
+};
+using ColumnMajorMap = Eigen::Map<const kp::Matrix<double>>;
+static_assert(ViewPreparableFrom<kp::Matrix<double>&>, "a named matrix may be viewed");
+static_assert(ViewPreparableFrom<const ColumnMajorMap&>, "a named map over the caller's memory may be viewed");
+static_assert(!ViewPreparableFrom<kp::Matrix<double>>, "a temporary matrix must not be viewed");
+static_assert(SparsePreparableFrom<kp::SparseMatrix<double>&>);
+static_assert(SparsePreparableFrom<Eigen::SparseMatrix<double>&>, "Eigen's default index type is read in place");
+static_assert(!SparsePreparableFrom<kp::SparseMatrix<double>>, "a temporary sparse matrix must not be viewed");
+static_assert(!SparsePreparableFrom<Eigen::SparseMatrix<double>>);
+}  // namespace
+
+TEST(DesignOperators, SparseMatrixWithEigensDefaultIndexGivesTheSamePathBitForBit) {
+  // Before: an Eigen::SparseMatrix<double> (int indices) converted to a
+  // temporary of the library's index type, which the design kept a pointer
+  // to after it died (wrong path, stack-use-after-scope). Now both index
+  // types are read in place and run the same arithmetic.
+  kt::Problem prob = kt::ar1_problem(60, 25, 0.5, 7);
+  kp::Matrix<double> x = prob.x;
+  const kp::SparseMatrix<double> wide_index = sparsify(x, 0.3, 8);
+  const Eigen::SparseMatrix<double> int_index = wide_index;
+  kp::TraceOptions o;
+  const kp::Path<double> a = kp::trace_sparse<double>(wide_index, prob.y, o);
+  const kp::Path<double> b = kp::trace_sparse<double>(int_index, prob.y, o);
+  ASSERT_EQ(a.knots().size(), b.knots().size());
+  ASSERT_GT(a.knots().size(), 3u);
+  for (std::size_t k = 0; k < a.knots().size(); ++k) {
+    EXPECT_EQ(a.knots()[k].penalty, b.knots()[k].penalty) << "knot " << k;
+    EXPECT_EQ(a.dense_coefficients(k), b.dense_coefficients(k)) << "knot " << k;
+  }
+  const kp::PreparedSparse<double, int> prepared = kp::prepare_sparse(int_index, prob.y, o);
+  const kp::Path<double> c = kp::trace_design(prepared.design, prepared.preparation, o);
+  EXPECT_EQ(c.knots().back().penalty, a.knots().back().penalty);
+  EXPECT_EQ(c.dense_coefficients(c.knots().size() - 1), a.dense_coefficients(a.knots().size() - 1));
+}
+
+TEST(DesignOperators, MappedMemoryIsTracedInPlaceAndGivesTheSamePath) {
+  // An Eigen::Map over the caller's buffer (here with an outer stride: the
+  // buffer holds two spare rows per column) reaches every storage without a
+  // copy and gives exactly the path of the owned matrix (same arithmetic on
+  // the same values). A row-major map gives the same path through the copy
+  // the view then makes, and through the other storages read in place.
+  kt::Problem prob = kt::ar1_problem(50, 80, 0.4, 11);
+  const Index n = prob.x.rows(), p = prob.x.cols(), stride = n + 2;
+  std::vector<double> buffer(static_cast<std::size_t>(stride * p), -1e300);
+  for (Index j = 0; j < p; ++j)
+    for (Index i = 0; i < n; ++i) buffer[static_cast<std::size_t>(j * stride + i)] = prob.x(i, j);
+  const Eigen::Map<const kp::Matrix<double>, 0, Eigen::OuterStride<>> mapped(buffer.data(), n, p,
+                                                                             Eigen::OuterStride<>(stride));
+  const Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> row_major = prob.x;
+  for (kp::Storage storage : {kp::Storage::dense, kp::Storage::view, kp::Storage::gram}) {
+    kp::TraceOptions o;
+    o.storage = storage;
+    const kp::Path<double> owned = kp::trace<double>(prob.x, prob.y, o);
+    const kp::Path<double> in_place = kp::trace<double>(mapped, prob.y, o);
+    const kp::Path<double> from_rows = kp::trace<double>(row_major, prob.y, o);
+    ASSERT_EQ(owned.knots().size(), in_place.knots().size());
+    ASSERT_EQ(owned.knots().size(), from_rows.knots().size());
+    for (std::size_t k = 0; k < owned.knots().size(); ++k) {
+      EXPECT_EQ(owned.knots()[k].penalty, in_place.knots()[k].penalty) << "knot " << k;
+      EXPECT_EQ(owned.dense_coefficients(k), in_place.dense_coefficients(k)) << "knot " << k;
+      EXPECT_EQ(owned.dense_coefficients(k), from_rows.dense_coefficients(k)) << "knot " << k;
+    }
+  }
+}

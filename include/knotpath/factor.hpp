@@ -1,6 +1,8 @@
 #pragma once
 /// \file factor.hpp
-/// \brief Incrementally updated Cholesky factor of the active Gram matrix.
+/// \brief Advanced: the incrementally updated factor of the active Gram
+/// matrix the homotopy keeps (users of trace() never touch it; it is public
+/// for tests and for callers who build their own active-set methods).
 ///
 /// References:
 ///  - G. H. Golub & C. F. Van Loan, Matrix Computations (4th ed., 2013),

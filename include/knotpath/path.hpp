@@ -24,92 +24,11 @@
 
 #include "detail/scalar.hpp"
 #include "errors.hpp"
-#include "factor.hpp"
+#include "knot.hpp"
 #include "options.hpp"
 #include "prepare.hpp"
 
 namespace knotpath {
-
-/// Kind of a row of the knot table.
-enum class EventKind {
-  start,  ///< first knot: penalty lambda_max, only unpenalized predictors active
-  enter,  ///< a predictor joined the active set
-  leave,  ///< a predictor's coefficient reached zero and it left (lasso only)
-  end,    ///< the path reached penalty 0
-  stop,   ///< the path stopped early; see Path::stop_reason()
-};
-
-/// Why the path ended.
-enum class StopReason {
-  completed,    ///< reached penalty 0
-  max_knots,    ///< TraceOptions::max_knots
-  min_penalty,  ///< TraceOptions::min_penalty
-  max_active,   ///< TraceOptions::max_active
-  step_limit,   ///< TraceOptions::max_steps (a safety bound; never expected on sane data)
-};
-
-/// The knot-table spelling of an event kind ("start", "enter", ...).
-inline std::string to_string(EventKind kind) {
-  switch (kind) {
-    case EventKind::start: return "start";
-    case EventKind::enter: return "enter";
-    case EventKind::leave: return "leave";
-    case EventKind::end: return "end";
-    case EventKind::stop: return "stop";
-  }
-  return "?";
-}
-
-/// The knot-table spelling of a stop reason ("end", "stop-max-knots", ...).
-inline std::string to_string(StopReason reason) {
-  switch (reason) {
-    case StopReason::completed: return "end";
-    case StopReason::max_knots: return "stop-max-knots";
-    case StopReason::min_penalty: return "stop-min-penalty";
-    case StopReason::max_active: return "stop-max-active";
-    case StopReason::step_limit: return "stop-step-limit";
-  }
-  return "?";
-}
-
-/// One row of the knot table: the state of the path right after one event.
-template <class Scalar>
-struct Knot {
-  Index step = 0;             ///< 0 for the start, then 1, 2, ... per row
-  Scalar penalty{0};          ///< lambda at this knot
-  EventKind event = EventKind::start;  ///< what happened at this row
-  Index predictor = -1;       ///< predictor of an enter/leave event (user's 0-based index), else -1
-  int sign = 0;               ///< +1/-1: sign of the entering coefficient, or of the leaving one before it left
-  double correlation = 0;     ///< enter/leave: correlation of the (prepared) predictor with the residual
-  Index active = 0;           ///< active predictors after the event (unpenalized ones included)
-  Scalar l1_norm{0};          ///< sum_j f_j s_j |beta_j|
-  Scalar rss{0};              ///< weighted residual sum of squares
-  Scalar intercept{0};        ///< on the original scale (0 without intercept)
-  std::vector<std::pair<Index, Scalar>> coefficients;  ///< nonzero beta_j, ascending j, original scale
-  double condition_estimate = 1;  ///< factor health after the event (see FactorHealth)
-  /// Estimated relative error: the largest of condition_estimate * unit
-  /// roundoff, the correlation drift / lambda_max, the centring
-  /// amplification (Preparation::centring_amplification) * unit roundoff,
-  /// the condition of any factor that decided
-  /// which tied entries stay out * unit roundoff, and the previous knot's
-  /// estimate (carried forward: each knot inherits the state of the ones
-  /// before it).
-  double estimated_error = 0;
-  bool suspect = false;        ///< estimated_error > TraceOptions::suspect_threshold: cross-check
-                               ///< with a higher precision (knotpath verify) before trusting it
-};
-
-/// A predictor that reached the boundary but was not added because its
-/// column is numerically in the span of the active columns.
-template <class Scalar>
-struct HeldOut {
-  Index step = 0;           ///< knot-table step at which it happened
-  Scalar penalty{0};        ///< penalty at which it happened
-  Index predictor = 0;      ///< user's 0-based index
-  double squared_sine = 0;  ///< squared sine of its angle to the active span (computed, >= 0; values
-                            ///< near rounding level only say "below the collinearity tolerance")
-  bool saturated = false;   ///< the active set had as many columns as usable rows
-};
 
 /// The solution at one point of the path, on the original scale.
 template <class Scalar>
@@ -132,7 +51,7 @@ class Path {
  public:
   /// An empty path (no knots); queries throw invalid_query.
   Path() = default;
-  /// Assembles a path from the tracer's results (used by trace_design();
+  /// Assembles a path from the homotopy's results (used by trace_design();
   /// users normally do not call it). `knots` must have non-increasing
   /// penalties; `ridge` is the ridge weight the path was traced with.
   Path(Preparation<Scalar> preparation, TraceOptions options, std::vector<Knot<Scalar>> knots,

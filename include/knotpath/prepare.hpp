@@ -24,7 +24,6 @@
 #include <utility>
 #include <vector>
 
-#include "design/dense.hpp"
 #include "detail/centring.hpp"
 #include "detail/scalar.hpp"
 #include "errors.hpp"
@@ -62,6 +61,24 @@ struct Preparation {
   /// it by the unit roundoff in every knot's estimated error.
   double centring_amplification = 1;
 };
+
+/// The record of a preparation before any column is looked at: the sizes,
+/// the options that shape it and the weight sum; means 0 and scales 1 until
+/// columns are kept (detail::admit_column()).
+template <class Scalar>
+Preparation<Scalar> start_preparation(Index observations, Index used_observations, Index predictors,
+                                      const TraceOptions& options, const Scalar& weight_sum) {
+  Preparation<Scalar> prep;
+  prep.observations = observations;
+  prep.used_observations = used_observations;
+  prep.predictors = predictors;
+  prep.intercept = options.fit_intercept;
+  prep.standardized = options.standardize;
+  prep.weight_sum = weight_sum;
+  prep.means = Vector<Scalar>::Zero(predictors);
+  prep.scales = Vector<Scalar>::Ones(predictors);
+  return prep;
+}
 
 /// The divisor that turns a penalty of this preparation's data into the
 /// size-free mu (scaling.hpp).
@@ -113,14 +130,12 @@ namespace detail {
 /// cross-products and their sums stay finite and normal in every storage
 /// (the Gram statistics form products directly), with 2^E/2 of headroom for
 /// the growth of the homotopy's intermediate quantities on ill-conditioned
-/// designs (a fuzzed design with a response near 1e132 and a wider bound
-/// overflowed the residual sum of squares). The upper bound covers rows of
-/// weight 0 too, because the view and sparse designs carry them through
-/// their products (multiplied by a zero weight, which an overflow would turn
-/// into NaN); the lower bound counts only the rows that take part in the
-/// fit (a fuzzed design had 5e54 on its rows of weight 0 and a subnormal
-/// response on its only weighted row: counted over every row it passed, and
-/// the fit underflowed). Outside the range the trace would overflow to
+/// designs (RELIABILITY.md gives the cases that set it). The upper bound
+/// covers rows of weight 0 too, because the view and sparse designs carry
+/// them through their products (multiplied by a zero weight, which an
+/// overflow would turn into NaN); the lower bound counts only the rows that
+/// take part in the fit (values on rows of weight 0 say nothing about the
+/// digits the fit keeps). Outside the range the trace would overflow to
 /// Inf/NaN or lose every digit; invalid_data names `what` to rescale. Other
 /// scalar types (50-digit floats, rationals) have a far wider range than any
 /// double input and are not limited.
@@ -156,8 +171,8 @@ void check_magnitude([[maybe_unused]] const Scalar& largest, [[maybe_unused]] co
 
 /// check_magnitude() for every predictor column, the response and the
 /// weights of dense data (`weights` empty: every row has weight 1).
-template <class Scalar>
-void check_magnitudes([[maybe_unused]] const Matrix<Scalar>& x, [[maybe_unused]] const Vector<Scalar>& y,
+template <class Scalar, class Derived>
+void check_magnitudes([[maybe_unused]] const Eigen::MatrixBase<Derived>& x, [[maybe_unused]] const Vector<Scalar>& y,
                       [[maybe_unused]] const Vector<Scalar>& weights) {
   if constexpr (std::is_floating_point_v<Scalar>) {
     const bool weighted = weights.size() != 0;
@@ -180,8 +195,9 @@ void check_magnitudes([[maybe_unused]] const Matrix<Scalar>& x, [[maybe_unused]]
 }
 
 /// Checks sizes and finiteness of user data; throws invalid_data naming the place.
-template <class Scalar>
-void check_data(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+template <class Scalar, class Derived>
+void check_data(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+  static_assert(std::is_same_v<typename Derived::Scalar, Scalar>, "the design and the response differ in type");
   const Index n = x.rows();
   if (y.size() != n)
     throw invalid_data("the response has " + std::to_string(y.size()) + " values but the design has " +
@@ -238,6 +254,26 @@ void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j
   prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
 }
 
+/// The one scaling rule, applied after exclusion_reason() let column j
+/// through: its scale is its spread ||sqrt(w) o (x_j - m_j)|| when
+/// standardizing (a zero or non-finite spread leaves it out, recorded as
+/// unscalable_column), else 1. A kept column is recorded by keep_column().
+/// Returns the scale, or nothing when the column was left out.
+template <class Scalar>
+std::optional<Scalar> admit_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j,
+                                   const Scalar& mean, const Scalar& spread) {
+  Scalar scale(1);
+  if (options.standardize) {
+    scale = spread;
+    if (!(scale > Scalar(0)) || !is_finite_value(scale)) {
+      prep.excluded.push_back({j, unscalable_column});
+      return std::nullopt;
+    }
+  }
+  keep_column(prep, options, j, mean, scale, spread);
+  return scale;
+}
+
 /// Means and scales of the traced columns in design order (entry k belongs
 /// to prep.columns[k]), for designs that centre and scale implicitly.
 template <class Scalar>
@@ -252,133 +288,5 @@ std::pair<Vector<Scalar>, Vector<Scalar>> traced_means_and_scales(const Preparat
   return {std::move(means), std::move(scales)};
 }
 }  // namespace detail
-
-/// A prepared dense problem: the design operator and the preparation record.
-template <class Scalar>
-struct PreparedDense {
-  DenseDesign<Scalar> design;       ///< a copy of the prepared columns (rows of weight 0 dropped)
-  Preparation<Scalar> preparation;  ///< means, scales, exclusions; pass to trace_design()
-};
-
-/// Prepares a dense design for tracing: centres, scales and weights the
-/// columns as in the file comment and excludes all-zero, constant (with an
-/// intercept) and infinite-factor columns. `weights` may be empty (all 1).
-/// Throws invalid_option (bad options; standardize with an exact rational
-/// type) or invalid_data (sizes disagree, NaN/Inf, negative weights, no
-/// positive weight, overflowing sums, exact type with weights other than 0
-/// and 1). Cost O(n p); memory one copy of X.
-template <class Scalar>
-PreparedDense<Scalar> prepare_dense(const Matrix<Scalar>& x, const Vector<Scalar>& y,
-                                    const TraceOptions& options,
-                                    const Vector<Scalar>& weights = Vector<Scalar>()) {
-  const Index n = x.rows();
-  const Index p = x.cols();
-  options.validate(static_cast<std::size_t>(p));
-  detail::check_data(x, y, weights);
-  Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
-  std::vector<Index> rows;
-  for (Index i = 0; i < n; ++i) {
-    if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
-      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
-    if (w(i) > Scalar(0)) rows.push_back(i);
-  }
-  if (rows.empty()) throw invalid_data("no observation has a positive weight");
-  if constexpr (detail::is_exact_v<Scalar>) {
-    // Exact rational arithmetic has no square roots: unit-length scaling and
-    // sqrt(w) row scaling are unavailable there (documented in precision.hpp).
-    if (options.standardize)
-      throw invalid_option("standardize",
-                           "exact rational arithmetic cannot take the square roots that scaling "
-                           "columns to unit length needs; trace with standardize = false (the "
-                           "penalty then applies to the coefficients on the original scale) or "
-                           "use a 50-digit float");
-    for (Index i : rows)
-      if (w(i) != Scalar(1))
-        throw invalid_data("exact rational arithmetic with a dense design supports weights 0 and 1 "
-                           "only (row " + std::to_string(i) + "); TraceOptions::storage = gram "
-                           "handles any rational weights exactly");
-  }
-  const Index m = static_cast<Index>(rows.size());
-
-  Preparation<Scalar> prep;
-  prep.observations = n;
-  prep.used_observations = m;
-  prep.predictors = p;
-  prep.intercept = options.fit_intercept;
-  prep.standardized = options.standardize;
-  prep.means = Vector<Scalar>::Zero(p);
-  prep.scales = Vector<Scalar>::Ones(p);
-
-  Vector<Scalar> wk(m), sqrt_w(m);
-  for (Index r = 0; r < m; ++r) {
-    wk(r) = w(rows[r]);
-    if constexpr (detail::is_exact_v<Scalar>)
-      sqrt_w(r) = wk(r);  // weights are 0/1 here (checked above)
-    else
-      sqrt_w(r) = detail::square_root<Scalar>(wk(r));
-  }
-  prep.weight_sum = wk.sum();
-
-  // Weighted mean with one correction pass (the second pass removes most of
-  // the rounding error of the first when the mean is large).
-  auto weighted_mean = [&](auto&& value_at) {
-    Scalar mean(0);
-    for (Index r = 0; r < m; ++r) mean += wk(r) * value_at(r);
-    mean /= prep.weight_sum;
-    Scalar correction(0);
-    for (Index r = 0; r < m; ++r) correction += wk(r) * (value_at(r) - mean);
-    return Scalar(mean + correction / prep.weight_sum);
-  };
-
-  Vector<Scalar> yc(m);
-  if (options.fit_intercept)
-    prep.response_mean = weighted_mean([&](Index r) { return y(rows[r]); });
-  for (Index r = 0; r < m; ++r) yc(r) = y(rows[r]) - prep.response_mean;
-  {
-    if constexpr (detail::is_exact_v<Scalar>) {
-      prep.total_sum_of_squares = Scalar(0);
-      for (Index r = 0; r < m; ++r) prep.total_sum_of_squares += wk(r) * yc(r) * yc(r);
-    } else {
-      Scalar norm = detail::weighted_norm<Scalar>(yc, wk);
-      prep.total_sum_of_squares = norm * norm;
-    }
-    if (!detail::is_finite_value(prep.total_sum_of_squares))
-      throw invalid_data("the response's sum of squares overflows; rescale the response");
-  }
-  for (Index r = 0; r < m; ++r) yc(r) *= sqrt_w(r);
-
-  Matrix<Scalar> z(m, p);
-  Index kept = 0;
-  Vector<Scalar> column(m);
-  for (Index j = 0; j < p; ++j) {
-    bool constant = true, all_zero = true;
-    for (Index r = 0; r < m; ++r) {
-      const Scalar& v = x(rows[r], j);
-      if (v != x(rows[0], j)) constant = false;
-      if (v != Scalar(0)) all_zero = false;
-    }
-    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
-      prep.excluded.push_back({j, reason});
-      continue;
-    }
-    Scalar mean(0);
-    if (options.fit_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
-    for (Index r = 0; r < m; ++r) column(r) = x(rows[r], j) - mean;
-    Scalar scale(1), spread(0);
-    if (options.standardize || !detail::is_exact_v<Scalar>) spread = detail::weighted_norm<Scalar>(column, wk);
-    if (options.standardize) {
-      scale = spread;
-      if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
-        prep.excluded.push_back({j, detail::unscalable_column});
-        continue;
-      }
-    }
-    for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / scale;
-    detail::keep_column(prep, options, j, mean, scale, spread);
-    ++kept;
-  }
-  z.conservativeResize(m, kept);
-  return {DenseDesign<Scalar>(std::move(z), std::move(yc)), std::move(prep)};
-}
 
 }  // namespace knotpath

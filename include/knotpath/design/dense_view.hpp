@@ -27,9 +27,6 @@
 
 #include "../detail/parallel.hpp"
 #include "../detail/scalar.hpp"
-#include "../errors.hpp"
-#include "../options.hpp"
-#include "../prepare.hpp"
 #include "concept.hpp"
 
 namespace knotpath {
@@ -47,7 +44,13 @@ class DenseViewDesign {
   /// The arithmetic type (a floating type; see prepare_view()).
   using Scalar = ScalarT;
 
-  /// \param x            the user's n x p matrix, referenced (not copied)
+  /// The user's matrix as the design reads it: column-major with any outer
+  /// stride (a Matrix, an Eigen::Map over the caller's memory, a block of
+  /// columns), never copied.
+  using MatrixView = Eigen::Map<const Matrix<Scalar>, Eigen::Unaligned, Eigen::OuterStride<>>;
+
+  /// \param x            the user's n x p matrix, viewed (not copied): its memory
+  ///                     must outlive the design
   /// \param columns      user column of each design column k (the included predictors)
   /// \param means        m_k per design column (0 without intercept)
   /// \param scales       s_k > 0 per design column (1 without standardization)
@@ -55,9 +58,12 @@ class DenseViewDesign {
   /// \param response     the prepared response sqrt(w) o (y - ybar), length n
   /// \param weighted     true when some weight differs from 1
   /// Computes the q squared column norms, O(n q).
-  DenseViewDesign(const Matrix<Scalar>& x, std::vector<Index> columns, Vector<Scalar> means,
-                  Vector<Scalar> scales, Vector<Scalar> sqrt_weights, Vector<Scalar> response, bool weighted)
-      : x_(&x),
+  DenseViewDesign(MatrixView x, std::vector<Index> columns, Vector<Scalar> means, Vector<Scalar> scales,
+                  Vector<Scalar> sqrt_weights, Vector<Scalar> response, bool weighted)
+      : data_(x.data()),
+        rows_(x.rows()),
+        cols_(x.cols()),
+        stride_(x.outerStride()),
         columns_(std::move(columns)),
         means_(std::move(means)),
         scales_(std::move(scales)),
@@ -106,7 +112,7 @@ class DenseViewDesign {
       const Index k = active[i];
       const Scalar t = d(static_cast<Index>(i)) / scales_(k);
       shift += t * means_(k);
-      u_.noalias() += t * x_->col(columns_[static_cast<std::size_t>(k)]);
+      u_.noalias() += t * x().col(columns_[static_cast<std::size_t>(k)]);
     }
     u_.array() -= shift;
     if (weighted_) u_.array() *= sqrt_w_.array();
@@ -119,17 +125,17 @@ class DenseViewDesign {
     if (weighted_) u_.array() *= sqrt_w_.array();
     const Scalar total = u_.sum();
     // the one product per knot, in fixed column blocks (see set_threads())
-    const double entries = static_cast<double>(x_->rows()) * static_cast<double>(x_->cols());
-    detail::for_each_column_block(threads_, x_->cols(), entries, [&](Index begin, Index end) {
-      full_.segment(begin, end - begin).noalias() = x_->middleCols(begin, end - begin).transpose() * u_;
+    const double entries = static_cast<double>(x().rows()) * static_cast<double>(x().cols());
+    detail::for_each_column_block(threads_, x().cols(), entries, [&](Index begin, Index end) {
+      full_.segment(begin, end - begin).noalias() = x().middleCols(begin, end - begin).transpose() * u_;
     });
     for (Index k = 0; k < cols(); ++k)
       out(k) = (full_(columns_[static_cast<std::size_t>(k)]) - means_(k) * total) / scales_(k);
   }
 
   Scalar centred_cross(Index a, Index b) const {
-    const auto xa = x_->col(columns_[static_cast<std::size_t>(a)]);
-    const auto xb = x_->col(columns_[static_cast<std::size_t>(b)]);
+    const auto xa = x().col(columns_[static_cast<std::size_t>(a)]);
+    const auto xb = x().col(columns_[static_cast<std::size_t>(b)]);
     const Scalar ma = means_(a), mb = means_(b);
     Scalar sum(0);
     if (weighted_) {
@@ -140,7 +146,10 @@ class DenseViewDesign {
     return sum / (scales_(a) * scales_(b));
   }
 
-  const Matrix<Scalar>* x_;       // the user's matrix (not owned)
+  MatrixView x() const { return MatrixView(data_, rows_, cols_, Eigen::OuterStride<>(stride_)); }
+
+  const Scalar* data_;            // the user's matrix (not owned): column k at data_ + k * stride_
+  Index rows_, cols_, stride_;
   std::vector<Index> columns_;    // design column k -> user column
   Vector<Scalar> means_;          // m per design column
   Vector<Scalar> scales_;         // s per design column
@@ -153,87 +162,5 @@ class DenseViewDesign {
   mutable Vector<Scalar> u_;      // n-vector work space
   mutable Vector<Scalar> full_;   // X^T v' for all user columns
 };
-
-/// A prepared view problem: the operator to hand to trace_design() and the
-/// record of what the preparation did (means, scales, exclusions).
-template <class Scalar>
-struct PreparedView {
-  DenseViewDesign<Scalar> design;   ///< references the user's matrix: keep it alive while tracing
-  Preparation<Scalar> preparation;  ///< means, scales, exclusions; pass to trace_design()
-};
-
-/// Prepares a view of a dense design: the same centring, scaling and
-/// exclusions as prepare_dense, computed column by column without copying X.
-/// Floating scalar types only. `x` must outlive the returned design. `weights`
-/// empty means all 1. O(n p) time, O(n + p) memory beyond X.
-/// Throws invalid_option (bad options), invalid_data (sizes disagree,
-/// non-finite values, negative weights, no positive weight, overflowing sums).
-template <class Scalar>
-PreparedView<Scalar> prepare_view(const Matrix<Scalar>& x, const Vector<Scalar>& y, const TraceOptions& options,
-                                  const Vector<Scalar>& weights = Vector<Scalar>()) {
-  static_assert(!detail::is_exact_v<Scalar>, "the view design needs a floating scalar type");
-  const Index n = x.rows(), p = x.cols();
-  options.validate(static_cast<std::size_t>(p));
-  detail::check_data(x, y, weights);
-  const bool weighted = weights.size() != 0 && (weights.array() != Scalar(1)).any();
-  Vector<Scalar> w = weights.size() ? weights : Vector<Scalar>(Vector<Scalar>::Ones(n));
-  Index used = 0;
-  Index first = -1;
-  for (Index i = 0; i < n; ++i)
-    if (w(i) > Scalar(0)) {
-      ++used;
-      if (first < 0) first = i;
-    }
-  if (used == 0) throw invalid_data("no observation has a positive weight");
-  Preparation<Scalar> prep;
-  prep.observations = n;
-  prep.used_observations = used;
-  prep.predictors = p;
-  prep.intercept = options.fit_intercept;
-  prep.standardized = options.standardize;
-  prep.weight_sum = w.sum();
-  prep.means = Vector<Scalar>::Zero(p);
-  prep.scales = Vector<Scalar>::Ones(p);
-  const Scalar wsum = prep.weight_sum;
-  auto weighted_mean = [&](const auto& v) {
-    Scalar m = v.dot(w) / wsum;
-    return Scalar(m + (v.array() - m).matrix().dot(w) / wsum);  // one correction pass
-  };
-  if (options.fit_intercept) prep.response_mean = weighted_mean(y);
-  Vector<Scalar> sqrt_w = w.cwiseSqrt();
-  Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
-  prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
-  if (!detail::is_finite_value(prep.total_sum_of_squares))
-    throw invalid_data("the response's sum of squares overflows; rescale the response");
-  yc = yc.cwiseProduct(sqrt_w);
-  for (Index j = 0; j < p; ++j) {
-    const auto col = x.col(j);
-    bool constant = true, all_zero = true;
-    for (Index i = 0; i < n; ++i) {
-      if (w(i) == Scalar(0)) continue;
-      if (col(i) != col(first)) constant = false;
-      if (col(i) != Scalar(0)) all_zero = false;
-    }
-    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
-      prep.excluded.push_back({j, reason});
-      continue;
-    }
-    const Scalar mean = options.fit_intercept ? weighted_mean(col) : Scalar(0);
-    const Scalar spread = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
-    Scalar scale(1);
-    if (options.standardize) {
-      scale = spread;
-      if (!(scale > Scalar(0)) || !detail::is_finite_value(scale)) {
-        prep.excluded.push_back({j, detail::unscalable_column});
-        continue;
-      }
-    }
-    detail::keep_column(prep, options, j, mean, scale, spread);
-  }
-  auto [m, s] = detail::traced_means_and_scales(prep);
-  DenseViewDesign<Scalar> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc),
-                                 weighted);
-  return {std::move(design), std::move(prep)};
-}
 
 }  // namespace knotpath

@@ -28,6 +28,14 @@ namespace detail {
 template <class Scalar>
 inline constexpr bool is_exact_v = std::numeric_limits<Scalar>::is_exact;
 
+/// True when an Eigen dense object of type Derived can be read in place as
+/// column-major memory of Scalar with an outer stride (Matrix, Map, Ref,
+/// blocks of whole columns): what the no-copy view design needs.
+template <class Derived, class Scalar>
+inline constexpr bool viewable_v = std::is_same_v<typename Derived::Scalar, Scalar> && !Derived::IsRowMajor &&
+                                   (Derived::Flags & Eigen::DirectAccessBit) != 0 &&
+                                   Derived::InnerStrideAtCompileTime == 1;
+
 /// Machine epsilon of the scalar type; 0 for exact types.
 template <class Scalar>
 Scalar epsilon() {

@@ -1,0 +1,580 @@
+#pragma once
+/// \file homotopy.hpp
+/// \brief The least-angle homotopy and its lasso modification: every knot of
+/// the regularization path of a prepared problem, from lambda_max down to 0.
+///
+/// References:
+///  - B. Efron, T. Hastie, I. Johnstone & R. Tibshirani (2004), "Least angle
+///    regression", Annals of Statistics 32(2), 407-499 (the least angle walk
+///    and the lasso modification, section 3.1).
+///  - M. R. Osborne, B. Presnell & B. A. Turlach (2000), "A new approach to
+///    variable selection in least squares problems", IMA Journal of
+///    Numerical Analysis 20, 389-403 (the homotopy for the lasso).
+///  - H. Zou & T. Hastie (2005), "Regularization and variable selection via
+///    the elastic net", JRSS B 67(2), 301-320 (the ridge term).
+///
+/// Problem on the prepared columns z_j (see prepare.hpp), with penalty
+/// factors f_j and ridge weight a2:
+///     minimize 0.5 ||y - Z b||^2 + lambda sum_j f_j |b_j| + 0.5 a2 ||b||^2.
+/// State between knots: active set A (in factor order) with signs s_A, the
+/// correlations c = Z^T (y - Z b) - a2 b. Invariants (KKT):
+///     c_j = lambda f_j s_j for j in A;  |c_j| <= lambda f_j for j not in A
+/// (one-sided for sign-constrained predictors). Unpenalized predictors
+/// (f_j = 0) are in A from the start with c_j = 0.
+/// While A is fixed the solution moves along d = (Z_A^T Z_A + a2 I)^{-1} f_A s_A:
+///     b_A(lambda - g) = b_A(lambda) + g d,   c(lambda - g) = c(lambda) - g a,
+/// with a = Z^T Z_A d (a_j + a2 d_j on A). The next knot is the smallest
+/// step g > 0 at which an inactive |c_j| reaches (lambda - g) f_j (enter) or,
+/// in the lasso variant, an active coefficient reaches 0 (leave).
+///
+/// Simultaneous events (steps within the tie tolerance of the smallest one)
+/// happen at one knot, in this documented order: all leave events by
+/// ascending predictor index, then all enter events by ascending predictor
+/// index. Each is its own row of the knot table with the same penalty.
+/// Active predictors still at zero whose direction opposes their sign (after
+/// a tie) leave one per row, the most negative first, the direction being
+/// recomputed in between. A predictor that just left re-enters at the same
+/// knot only when a later change of the active set there turns its
+/// correlation clearly outward again, and one whose column is numerically in
+/// the span of the active columns is held out (recorded in Path::held_out())
+/// until the active set loses a member. Held out columns stay on the
+/// boundary (their correlation is lambda times a constant while A is fixed),
+/// so the KKT conditions hold throughout.
+///
+/// The tie rules rest on one fact (Schur complement of the active Gram
+/// matrix): for a single column j, s_j d_j < 0 with j in A holds exactly
+/// when f_j - s_j a_j < 0 with j out of A, i.e. when its correlation moves
+/// inside the boundary once it is out. So one column at a time may be kept
+/// out (or made to leave) on that sign test; several at once carry no such
+/// guarantee, which is why they go one per row.
+
+#include <algorithm>
+#include <cmath>
+#include <span>
+#include <vector>
+
+#include "design/concept.hpp"
+#include "detail/scalar.hpp"
+#include "factor.hpp"
+#include "knot.hpp"
+#include "options.hpp"
+#include "prepare.hpp"
+
+namespace knotpath {
+
+namespace detail {
+
+/// A possible event at distance `step` below the current penalty.
+template <class Scalar>
+struct Candidate {
+  Scalar step;   // g: distance in penalty from the current knot
+  bool leave;    // leave (true) or enter (false)
+  Index column;  // prepared column
+  int sign;      // entering sign, or sign of the leaving coefficient
+};
+
+/// The estimated relative error of each knot (Knot::estimated_error): the
+/// largest of
+///  - the active factor's condition estimate times the unit roundoff (the
+///    error of the direction),
+///  - the centring amplification times the unit roundoff (the prepared
+///    columns carry that error under an intercept; Preparation),
+///  - the measured drift of the active correlations from their exact value
+///    lambda f_j s_j before each reset, relative to lambda_max,
+///  - the condition of every factor that decided which tied entries stay
+///    out (a decision only as good as that condition times the roundoff),
+///  - the estimate of the knot before: a knot inherits the state (b, c) of
+///    the knots before it, so an error made on an ill-conditioned stretch
+///    stays in the path after the factor recovers.
+class ErrorEstimate {
+ public:
+  /// \param unit_roundoff          epsilon of the traced scalar type
+  /// \param centring_amplification Preparation::centring_amplification (1 without intercept)
+  ErrorEstimate(double unit_roundoff, double centring_amplification)
+      : eps_(unit_roundoff), centring_(centring_amplification) {}
+
+  /// lambda_max, the scale of the drift.
+  void set_penalty_scale(double lambda_max) { lambda_scale_ = lambda_max; }
+  /// One active correlation's distance from lambda f_j s_j before its reset.
+  void note_drift(double absolute) { drift_ = std::max(drift_, absolute); }
+  /// A tie decided on a factor of this condition estimate.
+  void note_tie_decision(double condition) { carried_ = std::max(carried_, condition * eps_); }
+  /// The estimate of the next knot, whose factor has this condition estimate.
+  double next_knot(double condition) {
+    carried_ = std::max({condition * eps_, centring_ * eps_, lambda_scale_ > 0 ? drift_ / lambda_scale_ : 0.0,
+                         carried_});
+    return carried_;
+  }
+
+ private:
+  double eps_;               // unit roundoff of the scalar type
+  double centring_;          // centring amplification of the prepared columns
+  double lambda_scale_ = 0;  // lambda_max (0 until the first knot is known)
+  double drift_ = 0;         // largest measured drift so far, absolute
+  double carried_ = 0;       // the estimate of the last knot (or a larger tie term)
+};
+
+}  // namespace detail
+
+/// What one run of the homotopy records (Path is assembled from it).
+template <class Scalar>
+struct TracedKnots {
+  std::vector<Knot<Scalar>> knots;         ///< the rows of the knot table
+  std::vector<HeldOut<Scalar>> held_out;   ///< predictors held out as collinear
+  StopReason reason = StopReason::completed;  ///< why the path ended
+};
+
+/// One trace of the homotopy over a design operator and its preparation.
+/// Build it, call run() once. Cost per knot: one
+/// design.direction_correlations (O(n q) dense) plus O(k^2) for the factor
+/// and O(q) for the step search; nothing is allocated per knot beyond the
+/// knot's own record. It writes the design's scratch space (see trace_design()).
+template <DesignOperator Design>
+class Homotopy {
+ public:
+  using Scalar = typename Design::Scalar;
+
+  /// `design` holds the prepared columns described by `prep` (column k of
+  /// the design is predictor prep.columns[k]); both must outlive the object.
+  /// `options` must have been validated.
+  Homotopy(const Design& design, const Preparation<Scalar>& prep, const TraceOptions& options)
+      : design_(design),
+        prep_(prep),
+        options_(options),
+        q_(design.cols()),
+        lasso_(options.variant == Variant::lasso),
+        ridge_(options.ridge),
+        collinear_tol_(detail::resolve_tolerance<Scalar>(options.collinearity_tolerance, 1e4)),
+        tie_tol_(detail::resolve_tolerance<Scalar>(options.tie_tolerance, 1e3)),
+        step_limit_(options.max_steps ? options.max_steps
+                                      : 8 * static_cast<std::size_t>(design.rows() + q_) + 100),
+        usable_rank_(prep.used_observations - (prep.intercept ? 1 : 0)),
+        factor_of_(q_),
+        b_(Vector<Scalar>::Zero(q_)),
+        c_(q_),
+        a_(Vector<Scalar>::Zero(q_)),
+        sign_(static_cast<std::size_t>(q_), 0),
+        is_active_(static_cast<std::size_t>(q_), 0),
+        blocked_(static_cast<std::size_t>(q_), 0),
+        just_left_(static_cast<std::size_t>(q_), 0),
+        factor_(std::min<Index>(q_, design.rows() + 1)),
+        cross_(q_ + 1),
+        d_(q_ + 1),
+        rhs_(q_ + 1),
+        active_c_(q_ + 1),
+        b_active_(q_ + 1),
+        estimate_(detail::to_double(detail::epsilon<Scalar>()), prep.centring_amplification) {
+    for (Index k = 0; k < q_; ++k) factor_of_(k) = Scalar(prep.penalty_factors[static_cast<std::size_t>(k)]);
+    design.response_correlations(c_);
+    rss_ = design.response_squared_norm();
+    entered_.reserve(static_cast<std::size_t>(q_));
+    candidates_.reserve(2 * static_cast<std::size_t>(q_) + 2);
+    events_.reserve(2 * static_cast<std::size_t>(q_) + 2);
+  }
+
+  /// Traces the path: the start knot, then one segment and its events per
+  /// pass until the penalty reaches 0 or a stopping rule holds.
+  TracedKnots<Scalar> run() {
+    fit_unpenalized();
+    start();
+    for (std::size_t steps = 1;; ++steps) {
+      if (steps > step_limit_) {
+        stop(StopReason::step_limit);
+        break;
+      }
+      const Index k = active_count();
+      solve_direction();
+      design_.direction_correlations(std::span<const Index>(active_), d_.head(k), a_);
+      find_candidates(k);
+      const Segment segment = next_knot();
+      if (segment.step > zero_) advance(segment, k);
+      if (segment.stop_here) {
+        stop(StopReason::min_penalty);
+        break;
+      }
+      if (segment.reaches_end) {
+        lambda_ = zero_;
+        record(EventKind::end, -1, 0);
+        break;
+      }
+      collect_events(segment.nearest);
+      if (apply_events()) break;
+    }
+    return {std::move(knots_), std::move(held_out_), reason_};
+  }
+
+ private:
+  // How far the next knot lies and what happens there.
+  struct Segment {
+    Scalar nearest;    // smallest candidate step (lambda when there is none)
+    Scalar step;       // the step taken: nearest, or down to the end or the minimum penalty
+    bool reaches_end;  // no event before penalty 0
+    bool stop_here;    // the minimum penalty comes first
+  };
+
+  Index active_count() const { return static_cast<Index>(active_.size()); }
+  std::size_t at(Index k) const { return static_cast<std::size_t>(k); }
+
+  // Adds prepared column j to the factor, or holds it out (recorded) when it
+  // is numerically in the span of the active columns.
+  bool try_add(Index j, const Scalar& lambda, Index step) {
+    auto cross = cross_.head(active_count());
+    design_.cross_products(j, std::span<const Index>(active_), cross);
+    const Scalar diag = design_.squared_norm(j) + ridge_;
+    AddOutcome outcome = factor_.add(cross, diag, collinear_tol_);
+    if (!outcome.added) {
+      blocked_[at(j)] = 1;
+      held_out_.push_back(
+          {step, lambda, prep_.columns[at(j)], outcome.squared_sine, active_count() >= usable_rank_});
+      return false;
+    }
+    active_.push_back(j);
+    is_active_[at(j)] = 1;
+    return true;
+  }
+
+  // Removes the active column at factor position `position`; columns held
+  // out against the larger span may enter again.
+  void remove_active(Index position) {
+    const Index j = active_[at(position)];
+    factor_.remove(position);
+    active_.erase(active_.begin() + position);
+    is_active_[at(j)] = 0;
+    std::fill(blocked_.begin(), blocked_.end(), 0);
+  }
+
+  // d = (Z_A^T Z_A + a2 I)^{-1} f_A s_A into d_ (right-hand side in rhs_),
+  // both in factor order.
+  void solve_direction() {
+    const Index k = active_count();
+    auto rhs = rhs_.head(k);
+    for (Index i = 0; i < k; ++i) {
+      const Index j = active_[at(i)];
+      rhs(i) = factor_of_(j) * Scalar(sign_[at(j)]);
+    }
+    auto d = d_.head(k);
+    factor_.solve(rhs, d);
+  }
+
+  Index penalized_active() const {
+    Index count = 0;
+    for (Index j : active_)
+      if (factor_of_(j) != zero_) ++count;
+    return count;
+  }
+
+  bool may_enter_with(Index k, int s) const {
+    const SignConstraint constraint = prep_.constraints[at(k)];
+    if (constraint == SignConstraint::nonnegative) return s > 0;
+    if (constraint == SignConstraint::nonpositive) return s < 0;
+    return true;
+  }
+
+  bool knot_limit_reached() const { return options_.max_knots != 0 && knots_.size() - 1 >= options_.max_knots; }
+
+  // Unpenalized predictors are fitted (with the intercept) before the path
+  // starts: b_U = (Z_U^T Z_U + a2 I)^{-1} c_U, and every correlation updated.
+  void fit_unpenalized() {
+    std::vector<Index> unpenalized;
+    for (Index k = 0; k < q_; ++k)
+      if (factor_of_(k) == zero_ && try_add(k, zero_, 0)) unpenalized.push_back(k);
+    if (unpenalized.empty()) return;
+    const Index m = static_cast<Index>(unpenalized.size());
+    Vector<Scalar> c0(m), b0(m);
+    for (Index i = 0; i < m; ++i) c0(i) = c_(unpenalized[at(i)]);
+    factor_.solve(c0, b0);
+    for (Index i = 0; i < m; ++i) b_(unpenalized[at(i)]) = b0(i);
+    // RSS after the fit: ||y||^2 - b.c0 - a2 ||b||^2 (normal equations).
+    rss_ -= b0.dot(c0) + ridge_ * b0.squaredNorm();
+    design_.direction_correlations(std::span<const Index>(active_), b0, a_);
+    c_ -= a_;
+    for (Index k : unpenalized) c_(k) = zero_;
+  }
+
+  // lambda_max: the largest |c_k| / f_k an inactive column may enter with;
+  // the start knot. Held-out notes made before it carry that penalty.
+  void start() {
+    const std::size_t held_at_start = held_out_.size();
+    for (Index k = 0; k < q_; ++k) {
+      if (is_active_[at(k)] || blocked_[at(k)]) continue;
+      for (int s : {+1, -1}) {
+        if (!may_enter_with(k, s)) continue;
+        const Scalar level = Scalar(s) * c_(k) / factor_of_(k);
+        if (level > lambda_) lambda_ = level;
+      }
+    }
+    for (std::size_t i = 0; i < held_at_start; ++i) held_out_[i].penalty = lambda_;
+    estimate_.set_penalty_scale(detail::to_double(lambda_));
+    record(EventKind::start, -1, 0);
+  }
+
+  void find_candidates(Index k_active) {
+    candidates_.clear();
+    entry_candidates();
+    leave_candidates(k_active);
+    std::fill(just_left_.begin(), just_left_.end(), 0);
+  }
+
+  // Inactive columns reaching the boundary: s (c_k - g a_k) = (lambda - g) f_k
+  // gives g = (lambda f_k - s c_k) / (f_k - s a_k), approached only when
+  // f_k - s a_k > 0.
+  void entry_candidates() {
+    for (Index k = 0; k < q_; ++k) {
+      if (is_active_[at(k)] || blocked_[at(k)]) continue;
+      for (int s : {+1, -1}) {
+        if (!may_enter_with(k, s)) continue;
+        const Scalar denom = factor_of_(k) - Scalar(s) * a_(k);
+        if (!(denom > zero_)) continue;
+        // A column that just left on side s moves inside the boundary there
+        // (Schur complement, file comment), so a rate at rounding level is
+        // noise and would step straight back in; a clearly positive rate
+        // means the active set changed again at the same knot, and it may.
+        if (just_left_[at(k)] == s && denom <= tie_tol_ * (factor_of_(k) + detail::abs_value<Scalar>(a_(k))))
+          continue;
+        Scalar g = (lambda_ * factor_of_(k) - Scalar(s) * c_(k)) / denom;
+        if (g < zero_) g = zero_;  // already on the boundary (ties, rounding): enters now
+        if (g < lambda_) candidates_.push_back({g, false, k, s});
+      }
+    }
+  }
+
+  // Active coefficients reaching zero (lasso, or a sign constraint). An
+  // active column still at zero whose direction opposes its sign leaves at
+  // once (else the next segment would break its KKT condition), one per
+  // knot row, the most negative s_k d_k first (file comment).
+  void leave_candidates(Index k_active) {
+    const auto d = d_.head(k_active);
+    Index stuck = -1;
+    Scalar stuck_agreement(0);
+    for (Index i = 0; i < k_active; ++i) {
+      const Index k = active_[at(i)];
+      if (factor_of_(k) == zero_) continue;
+      const bool must_leave = lasso_ || prep_.constraints[at(k)] != SignConstraint::none;
+      if (!must_leave) continue;
+      if (b_(k) * d(i) < zero_) {
+        const Scalar g = -b_(k) / d(i);
+        if (g < lambda_) candidates_.push_back({g, true, k, detail::sign_of(b_(k))});
+      } else if (b_(k) == zero_ && Scalar(sign_[at(k)]) * d(i) < stuck_agreement) {
+        stuck_agreement = Scalar(sign_[at(k)]) * d(i);
+        stuck = k;
+      }
+    }
+    if (stuck >= 0) candidates_.push_back({zero_, true, stuck, sign_[at(stuck)]});
+  }
+
+  Segment next_knot() const {
+    Segment segment{lambda_, lambda_, false, false};
+    for (const auto& candidate : candidates_) segment.nearest = std::min<Scalar>(segment.nearest, candidate.step);
+    segment.reaches_end = !(segment.nearest < lambda_ - tie_tol_ * lambda_) || candidates_.empty();
+    segment.step = segment.reaches_end ? lambda_ : segment.nearest;
+    if (lambda_ - segment.step < Scalar(options_.min_penalty)) {
+      segment.step = lambda_ - Scalar(options_.min_penalty);
+      if (segment.step < zero_) segment.step = zero_;  // lambda_max itself is below the minimum penalty
+      segment.stop_here = true;
+    }
+    return segment;
+  }
+
+  // Moves b, c, the RSS and lambda down the segment; the active
+  // correlations are then reset to their exact value lambda f_j s_j and the
+  // distance measured.
+  void advance(const Segment& segment, Index k_active) {
+    const Scalar& g = segment.step;
+    const auto d = d_.head(k_active);
+    const auto rhs = rhs_.head(k_active);
+    auto active_c = active_c_.head(k_active);
+    for (Index i = 0; i < k_active; ++i) active_c(i) = c_(active_[at(i)]);
+    auto b_active = b_active_.head(k_active);
+    for (Index i = 0; i < k_active; ++i) b_active(i) = b_(active_[at(i)]);
+    // ||r - g u||^2 with u = Z_A d: u.r = d.(c_A + a2 b_A), u.u = d.rhs - a2 ||d||^2.
+    const Scalar u_dot_r = d.dot(active_c) + ridge_ * d.dot(b_active);
+    const Scalar u_dot_u = d.dot(rhs) - ridge_ * d.squaredNorm();
+    rss_ += g * (g * u_dot_u - Scalar(2) * u_dot_r);
+    for (Index i = 0; i < k_active; ++i) b_(active_[at(i)]) += g * d(i);
+    c_ -= g * a_;
+    lambda_ -= g;
+    if (segment.reaches_end && !segment.stop_here) lambda_ = zero_;
+    for (Index j : active_) {
+      const Scalar exact = lambda_ * factor_of_(j) * Scalar(sign_[at(j)]);
+      estimate_.note_drift(detail::to_double(detail::abs_value<Scalar>(Scalar(c_(j) - exact))));
+      c_(j) = exact;
+    }
+  }
+
+  // The events of this knot: candidates within the tie tolerance of the
+  // nearest, leaves first, each kind by ascending column.
+  void collect_events(const Scalar& nearest) {
+    events_.clear();
+    for (const auto& candidate : candidates_)
+      if (candidate.step <= nearest + tie_tol_ * (lambda_ + nearest)) events_.push_back(candidate);
+    std::sort(events_.begin(), events_.end(), [](const auto& x, const auto& y) {
+      if (x.leave != y.leave) return x.leave;
+      return x.column < y.column;
+    });
+  }
+
+  // Applies the events of this knot; true when a stopping rule ended the path.
+  // Every leaving coefficient reached zero within the tie tolerance, so all
+  // are zero before any row is recorded. Entries are added first and
+  // recorded by flush_entries(), after the tie rule has kept out those whose
+  // direction would break their sign.
+  bool apply_events() {
+    entered_.clear();
+    for (const auto& event : events_)
+      if (event.leave) b_(event.column) = zero_;
+    for (const auto& event : events_) {
+      if (event.leave) {
+        leave(event);
+        if (knot_limit_reached()) {
+          stop(StopReason::max_knots);
+          return true;
+        }
+        continue;
+      }
+      if (is_active_[at(event.column)] || blocked_[at(event.column)]) continue;  // its other sign
+      if (options_.max_active != 0 && factor_of_(event.column) != zero_ &&
+          static_cast<std::size_t>(penalized_active()) >= options_.max_active) {
+        if (!flush_entries()) stop(StopReason::max_active);
+        return true;
+      }
+      if (try_add(event.column, lambda_, static_cast<Index>(knots_.size() + entered_.size()))) {
+        sign_[at(event.column)] = event.sign;
+        c_(event.column) = lambda_ * factor_of_(event.column) * Scalar(event.sign);
+        entered_.push_back(event.column);
+      }
+    }
+    return flush_entries();
+  }
+
+  void leave(const detail::Candidate<Scalar>& event) {
+    const auto position = std::find(active_.begin(), active_.end(), event.column) - active_.begin();
+    remove_active(static_cast<Index>(position));
+    just_left_[at(event.column)] = event.sign;
+    record(EventKind::leave, event.column, event.sign);
+  }
+
+  // Records the entries of this knot; true when the knot limit ended the path.
+  bool flush_entries() {
+    if (entered_.empty()) return false;
+    if (lasso_) keep_out_tied_entries();
+    const Index before = static_cast<Index>(active_.size() - entered_.size());
+    for (std::size_t i = 0; i < entered_.size(); ++i) {
+      const Index j = entered_[i];
+      record(EventKind::enter, j, sign_[at(j)], before + static_cast<Index>(i) + 1);
+      if (knot_limit_reached()) {
+        stop(StopReason::max_knots);
+        return true;
+      }
+    }
+    entered_.clear();
+    return false;
+  }
+
+  // Tied entries whose joint direction opposes their sign stay out, on the
+  // side they reached, for the next segment: the most negative s_j d_j is
+  // dropped and the direction solved again until every entry agrees.
+  void keep_out_tied_entries() {
+    while (true) {
+      const Index k = active_count();
+      solve_direction();
+      const auto d = d_.head(k);
+      Index worst_position = -1;
+      Scalar worst(0);
+      for (Index i = 0; i < k; ++i) {
+        const Index j = active_[at(i)];
+        if (std::find(entered_.begin(), entered_.end(), j) == entered_.end()) continue;
+        const Scalar agreement = Scalar(sign_[at(j)]) * d(i);
+        if (agreement < worst) {
+          worst = agreement;
+          worst_position = i;
+        }
+      }
+      if (worst_position < 0) return;
+      estimate_.note_tie_decision(factor_.health().condition_estimate);
+      const Index j = active_[at(worst_position)];
+      remove_active(worst_position);
+      just_left_[at(j)] = sign_[at(j)];
+      entered_.erase(std::find(entered_.begin(), entered_.end(), j));
+    }
+  }
+
+  void stop(StopReason reason) {
+    reason_ = reason;
+    record(EventKind::stop, -1, 0);
+  }
+
+  // Appends the knot at the current penalty: coefficients and intercept on
+  // the original scale, penalized L1 norm, RSS, the event's column and its
+  // correlation, the factor's health and the error estimate.
+  void record(EventKind kind, Index column, int s, Index active_after = -1) {
+    Knot<Scalar> knot;
+    knot.step = static_cast<Index>(knots_.size());
+    knot.penalty = lambda_;
+    knot.event = kind;
+    knot.sign = s;
+    knot.active = active_after >= 0 ? active_after : active_count();
+    knot.rss = rss_ < zero_ ? zero_ : rss_;
+    record_coefficients(knot);
+    if (column >= 0) {
+      knot.predictor = prep_.columns[at(column)];
+      const double denom =
+          std::sqrt(detail::to_double(design_.squared_norm(column)) * detail::to_double(knot.rss));
+      knot.correlation = denom > 0 ? detail::to_double(c_(column)) / denom : 0.0;
+    }
+    knot.condition_estimate = factor_.health().condition_estimate;
+    knot.estimated_error = estimate_.next_knot(knot.condition_estimate);
+    knot.suspect = knot.estimated_error > options_.suspect_threshold;
+    knots_.push_back(std::move(knot));
+  }
+
+  // beta_j = b_k / s_j for the nonzero active coefficients (ascending j),
+  // the penalized L1 norm sum f_k |b_k| and the intercept ybar - sum m_j beta_j.
+  void record_coefficients(Knot<Scalar>& knot) const {
+    Scalar l1(0), fitted_mean_shift(0);
+    for (Index k : active_) {
+      if (b_(k) == zero_) continue;
+      const Index j = prep_.columns[at(k)];
+      const Scalar beta = b_(k) / prep_.scales(j);
+      knot.coefficients.emplace_back(j, beta);
+      l1 += factor_of_(k) * detail::abs_value<Scalar>(b_(k));
+      fitted_mean_shift += prep_.means(j) * beta;
+    }
+    std::sort(knot.coefficients.begin(), knot.coefficients.end(),
+              [](const auto& x, const auto& y) { return x.first < y.first; });
+    knot.l1_norm = l1;
+    knot.intercept = prep_.intercept ? Scalar(prep_.response_mean - fitted_mean_shift) : zero_;
+  }
+
+  const Design& design_;               // the prepared columns and response
+  const Preparation<Scalar>& prep_;    // means, scales, factors and constraints per column
+  const TraceOptions& options_;        // validated options
+  const Index q_;                      // number of prepared columns
+  const bool lasso_;                   // lasso (leave events) or least angle
+  const Scalar zero_{0};
+  const Scalar ridge_;                 // a2
+  const Scalar collinear_tol_;         // squared sine below which a column is held out
+  const Scalar tie_tol_;               // relative distance of simultaneous events
+  const std::size_t step_limit_;       // safety bound on passes of the loop
+  const Index usable_rank_;            // rows with positive weight, less one with an intercept
+  Vector<Scalar> factor_of_;           // f_k per prepared column
+  Vector<Scalar> b_;                   // coefficients of the prepared problem
+  Vector<Scalar> c_;                   // correlations with the residual (ridge-adjusted)
+  Vector<Scalar> a_;                   // Z^T Z_A d
+  std::vector<Index> active_;          // A, in factor order
+  std::vector<int> sign_;              // s_k of each column that entered
+  std::vector<char> is_active_;        // k in A
+  std::vector<char> blocked_;          // held out as collinear until the active set loses a member
+  std::vector<int> just_left_;         // sign it left with (or was kept out on), at the last knot
+  detail::active_factor_t<Scalar> factor_;  // of Z_A^T Z_A + a2 I
+  Vector<Scalar> cross_, d_, rhs_, active_c_, b_active_;  // work buffers of length q + 1
+  Scalar rss_{0};                      // residual sum of squares of the prepared problem
+  Scalar lambda_{0};                   // current penalty
+  std::vector<Knot<Scalar>> knots_;    // recorded so far
+  std::vector<HeldOut<Scalar>> held_out_;
+  StopReason reason_ = StopReason::completed;
+  detail::ErrorEstimate estimate_;     // Knot::estimated_error
+  std::vector<detail::Candidate<Scalar>> candidates_, events_;
+  std::vector<Index> entered_;         // added at this knot, not yet recorded
+};
+
+}  // namespace knotpath

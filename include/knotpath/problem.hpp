@@ -1,0 +1,410 @@
+#pragma once
+/// \file problem.hpp
+/// \brief Advanced: a prepared problem is a preparation record (prepare.hpp)
+/// with the design operator (design/) that holds or views the prepared
+/// columns. trace() builds one from the user's data and the storage it
+/// chooses; build one yourself to trace it with trace_design(), to keep the
+/// operator for several traces, or to use a storage trace() does not pick.
+///
+/// One function per storage applies the preparation of prepare.hpp (the
+/// same weighted centring, scaling, exclusion rule, magnitude checks and
+/// centring amplification for all four) while reading the data the way that
+/// storage holds it: a centred, scaled copy (dense), the user's matrix read
+/// in place (view), compressed columns (sparse), or sufficient statistics
+/// (Gram).
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "design/concept.hpp"
+#include "design/dense.hpp"
+#include "design/dense_view.hpp"
+#include "design/gram.hpp"
+#include "design/sparse.hpp"
+#include "detail/scalar.hpp"
+#include "errors.hpp"
+#include "options.hpp"
+#include "prepare.hpp"
+#include "statistics.hpp"
+
+namespace knotpath {
+
+/// A design operator and the record of the preparation behind it: what
+/// trace_design() takes.
+template <DesignOperator Design>
+struct PreparedProblem {
+  Design design;                                     ///< the prepared columns (held, viewed or summarized)
+  Preparation<typename Design::Scalar> preparation;  ///< means, scales, exclusions; pass to trace_design()
+};
+
+/// A prepared dense problem: the design operator and the preparation record.
+template <class Scalar>
+using PreparedDense = PreparedProblem<DenseDesign<Scalar>>;
+
+/// Prepares a dense design for tracing: centres, scales and weights the
+/// columns as in the file comment and excludes all-zero, constant (with an
+/// intercept) and infinite-factor columns. `weights` may be empty (all 1).
+/// Throws invalid_option (bad options; standardize with an exact rational
+/// type) or invalid_data (sizes disagree, NaN/Inf, negative weights, no
+/// positive weight, overflowing sums, exact type with weights other than 0
+/// and 1). Cost O(n p); memory one copy of X.
+template <class Scalar, class Derived>
+PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
+                                    const TraceOptions& options,
+                                    const Vector<Scalar>& weights = Vector<Scalar>()) {
+  const Index n = x.rows();
+  const Index p = x.cols();
+  options.validate(static_cast<std::size_t>(p));
+  detail::check_data(x, y, weights);
+  Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
+  std::vector<Index> rows;
+  for (Index i = 0; i < n; ++i) {
+    if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
+      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
+    if (w(i) > Scalar(0)) rows.push_back(i);
+  }
+  if (rows.empty()) throw invalid_data("no observation has a positive weight");
+  if constexpr (detail::is_exact_v<Scalar>) {
+    // Exact rational arithmetic has no square roots: unit-length scaling and
+    // sqrt(w) row scaling are unavailable there (documented in precision.hpp).
+    if (options.standardize)
+      throw invalid_option("standardize",
+                           "exact rational arithmetic cannot take the square roots that scaling "
+                           "columns to unit length needs; trace with standardize = false (the "
+                           "penalty then applies to the coefficients on the original scale) or "
+                           "use a 50-digit float");
+    for (Index i : rows)
+      if (w(i) != Scalar(1))
+        throw invalid_data("exact rational arithmetic with a dense design supports weights 0 and 1 "
+                           "only (row " + std::to_string(i) + "); TraceOptions::storage = gram "
+                           "handles any rational weights exactly");
+  }
+  const Index m = static_cast<Index>(rows.size());
+
+  Vector<Scalar> wk(m), sqrt_w(m);
+  for (Index r = 0; r < m; ++r) {
+    wk(r) = w(rows[r]);
+    if constexpr (detail::is_exact_v<Scalar>)
+      sqrt_w(r) = wk(r);  // weights are 0/1 here (checked above)
+    else
+      sqrt_w(r) = detail::square_root<Scalar>(wk(r));
+  }
+  Preparation<Scalar> prep = start_preparation<Scalar>(n, m, p, options, wk.sum());
+
+  // Weighted mean with one correction pass (the second pass removes most of
+  // the rounding error of the first when the mean is large).
+  auto weighted_mean = [&](auto&& value_at) {
+    Scalar mean(0);
+    for (Index r = 0; r < m; ++r) mean += wk(r) * value_at(r);
+    mean /= prep.weight_sum;
+    Scalar correction(0);
+    for (Index r = 0; r < m; ++r) correction += wk(r) * (value_at(r) - mean);
+    return Scalar(mean + correction / prep.weight_sum);
+  };
+
+  Vector<Scalar> yc(m);
+  if (options.fit_intercept)
+    prep.response_mean = weighted_mean([&](Index r) { return y(rows[r]); });
+  for (Index r = 0; r < m; ++r) yc(r) = y(rows[r]) - prep.response_mean;
+  {
+    if constexpr (detail::is_exact_v<Scalar>) {
+      prep.total_sum_of_squares = Scalar(0);
+      for (Index r = 0; r < m; ++r) prep.total_sum_of_squares += wk(r) * yc(r) * yc(r);
+    } else {
+      Scalar norm = detail::weighted_norm<Scalar>(yc, wk);
+      prep.total_sum_of_squares = norm * norm;
+    }
+    if (!detail::is_finite_value(prep.total_sum_of_squares))
+      throw invalid_data("the response's sum of squares overflows; rescale the response");
+  }
+  for (Index r = 0; r < m; ++r) yc(r) *= sqrt_w(r);
+
+  Matrix<Scalar> z(m, p);
+  Index kept = 0;
+  Vector<Scalar> column(m);
+  for (Index j = 0; j < p; ++j) {
+    bool constant = true, all_zero = true;
+    for (Index r = 0; r < m; ++r) {
+      const Scalar& v = x(rows[r], j);
+      if (v != x(rows[0], j)) constant = false;
+      if (v != Scalar(0)) all_zero = false;
+    }
+    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
+      prep.excluded.push_back({j, reason});
+      continue;
+    }
+    Scalar mean(0);
+    if (options.fit_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
+    for (Index r = 0; r < m; ++r) column(r) = x(rows[r], j) - mean;
+    Scalar spread(0);
+    if (options.standardize || !detail::is_exact_v<Scalar>) spread = detail::weighted_norm<Scalar>(column, wk);
+    const std::optional<Scalar> scale = detail::admit_column(prep, options, j, mean, spread);
+    if (!scale) continue;
+    for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / *scale;
+    ++kept;
+  }
+  z.conservativeResize(m, kept);
+  return {DenseDesign<Scalar>(std::move(z), std::move(yc)), std::move(prep)};
+}
+
+/// A prepared view problem: the operator to hand to trace_design() and the
+/// record of what the preparation did (means, scales, exclusions).
+template <class Scalar>
+using PreparedView = PreparedProblem<DenseViewDesign<Scalar>>;
+
+/// Prepares a view of a dense design: the same centring, scaling and
+/// exclusions as prepare_dense, computed column by column without copying X.
+/// Floating scalar types only. `x` must outlive the returned design. `weights`
+/// empty means all 1. O(n p) time, O(n + p) memory beyond X.
+/// Throws invalid_option (bad options), invalid_data (sizes disagree,
+/// non-finite values, negative weights, no positive weight, overflowing sums).
+template <class Scalar, class Derived>
+PreparedView<Scalar> prepare_view(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
+                                  const TraceOptions& options, const Vector<Scalar>& weights = Vector<Scalar>()) {
+  static_assert(!detail::is_exact_v<Scalar>, "the view design needs a floating scalar type");
+  static_assert(detail::viewable_v<Derived, Scalar>,
+                "the view design reads column-major memory in place: pass a Matrix, an Eigen::Map or a "
+                "block of columns of the same scalar type (or trace() it, which copies other layouts)");
+  const Index n = x.rows(), p = x.cols();
+  options.validate(static_cast<std::size_t>(p));
+  detail::check_data(x, y, weights);
+  const bool weighted = weights.size() != 0 && (weights.array() != Scalar(1)).any();
+  Vector<Scalar> w = weights.size() ? weights : Vector<Scalar>(Vector<Scalar>::Ones(n));
+  Index used = 0;
+  Index first = -1;
+  for (Index i = 0; i < n; ++i)
+    if (w(i) > Scalar(0)) {
+      ++used;
+      if (first < 0) first = i;
+    }
+  if (used == 0) throw invalid_data("no observation has a positive weight");
+  Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, w.sum());
+  const Scalar wsum = prep.weight_sum;
+  auto weighted_mean = [&](const auto& v) {
+    Scalar m = v.dot(w) / wsum;
+    return Scalar(m + (v.array() - m).matrix().dot(w) / wsum);  // one correction pass
+  };
+  if (options.fit_intercept) prep.response_mean = weighted_mean(y);
+  Vector<Scalar> sqrt_w = w.cwiseSqrt();
+  Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
+  prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
+  if (!detail::is_finite_value(prep.total_sum_of_squares))
+    throw invalid_data("the response's sum of squares overflows; rescale the response");
+  yc = yc.cwiseProduct(sqrt_w);
+  for (Index j = 0; j < p; ++j) {
+    const auto col = x.col(j);
+    bool constant = true, all_zero = true;
+    for (Index i = 0; i < n; ++i) {
+      if (w(i) == Scalar(0)) continue;
+      if (col(i) != col(first)) constant = false;
+      if (col(i) != Scalar(0)) all_zero = false;
+    }
+    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
+      prep.excluded.push_back({j, reason});
+      continue;
+    }
+    const Scalar mean = options.fit_intercept ? weighted_mean(col) : Scalar(0);
+    const Scalar spread = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
+    detail::admit_column(prep, options, j, mean, spread);
+  }
+  auto [m, s] = detail::traced_means_and_scales(prep);
+  typename DenseViewDesign<Scalar>::MatrixView view(x.derived().data(), n, p,
+                                                    Eigen::OuterStride<>(x.derived().outerStride()));
+  DenseViewDesign<Scalar> design(view, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc),
+                                 weighted);
+  return {std::move(design), std::move(prep)};
+}
+
+/// A temporary would leave the view dangling: name the matrix (or the
+/// Eigen::Map over your memory) and keep it alive while the design is used.
+template <class Scalar, class Derived>
+PreparedView<Scalar> prepare_view(Eigen::MatrixBase<Derived>&& x, const Vector<Scalar>& y, const TraceOptions& options,
+                                  const Vector<Scalar>& weights = Vector<Scalar>()) = delete;
+
+/// A prepared sparse problem (the design references the user's matrix).
+template <class Scalar, class StorageIndex = Index>
+using PreparedSparse = PreparedProblem<SparseDesign<Scalar, StorageIndex>>;
+
+/// Prepares a sparse design: weighted means and scales from the stored
+/// entries (implicit zeros included), exclusions as in prepare_dense.
+/// Floating scalar types only (the row scaling needs square roots). `x`
+/// must outlive the returned design; `weights` empty means all 1.
+/// O(n + p + nnz) time. Throws invalid_option (bad options) and invalid_data
+/// (sizes disagree, non-finite values, negative weights, no positive weight,
+/// magnitudes outside the range of detail::check_magnitude()).
+template <class Scalar, class StorageIndex>
+PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, StorageIndex>& x, const Vector<Scalar>& y,
+                                      const TraceOptions& options,
+                                      const Vector<Scalar>& weights = Vector<Scalar>()) {
+  static_assert(!detail::is_exact_v<Scalar>, "sparse designs need a floating scalar type");
+  const Index n = x.rows(), p = x.cols();
+  options.validate(static_cast<std::size_t>(p));
+  if (y.size() != n) throw invalid_data("the response length differs from the design's rows");
+  if (weights.size() != 0 && weights.size() != n) throw invalid_data("weights length differs from rows");
+  Vector<Scalar> w = weights.size() ? weights : Vector<Scalar>(Vector<Scalar>::Ones(n));
+  Index used = 0;
+  // Largest magnitudes over all rows and over rows of positive weight
+  // (detail::check_magnitude, the rule every storage applies).
+  Scalar top_y(0), top_y_used(0);
+  for (Index i = 0; i < n; ++i) {
+    if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
+      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
+    if (!detail::is_finite_value(y(i))) throw invalid_data("the response is not finite at row " + std::to_string(i));
+    used += w(i) > Scalar(0);
+    top_y = std::max<Scalar>(top_y, detail::abs_value<Scalar>(y(i)));
+    if (w(i) > Scalar(0)) top_y_used = std::max<Scalar>(top_y_used, detail::abs_value<Scalar>(y(i)));
+  }
+  if (used == 0) throw invalid_data("no observation has a positive weight");
+  for (Index j = 0; j < p; ++j) {
+    Scalar top(0), top_used(0);
+    for (typename SparseMatrix<Scalar, StorageIndex>::InnerIterator it(x, j); it; ++it) {
+      if (!detail::is_finite_value(it.value()))
+        throw invalid_data("the design is not finite at row " + std::to_string(it.row()) + ", column " +
+                           std::to_string(j));
+      top = std::max<Scalar>(top, detail::abs_value<Scalar>(it.value()));
+      if (w(it.row()) > Scalar(0)) top_used = std::max<Scalar>(top_used, detail::abs_value<Scalar>(it.value()));
+    }
+    detail::check_magnitude(top, top_used, std::string(), static_cast<std::size_t>(j));
+  }
+  detail::check_magnitude(top_y, top_y_used, std::string("the response"));
+  if (weights.size() != 0) detail::check_magnitude(Scalar(w.maxCoeff()), Scalar(w.maxCoeff()), std::string("the weight vector"));
+  Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, w.sum());
+  const Scalar wsum = prep.weight_sum;
+  if (options.fit_intercept) prep.response_mean = w.dot(y) / wsum;
+  Vector<Scalar> sqrt_w = w.cwiseSqrt();
+  Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
+  prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
+  yc = yc.cwiseProduct(sqrt_w);
+
+  for (Index j = 0; j < p; ++j) {
+    Scalar sum(0), stored_weight(0);
+    Index stored_used = 0;
+    bool any_nonzero = false, varies = false;
+    Scalar first_value(0);
+    bool have_first = false;
+    for (typename SparseMatrix<Scalar, StorageIndex>::InnerIterator it(x, j); it; ++it) {
+      if (w(it.row()) == Scalar(0)) continue;
+      sum += w(it.row()) * it.value();
+      stored_weight += w(it.row());
+      ++stored_used;
+      if (it.value() != Scalar(0)) any_nonzero = true;
+      if (!have_first) {
+        first_value = it.value();
+        have_first = true;
+      } else if (it.value() != first_value) {
+        varies = true;
+      }
+    }
+    // Rows not stored hold zeros; they make the column vary when it has
+    // stored nonzeros and some used rows are implicit.
+    if (stored_used < used && any_nonzero) varies = true;
+    if (const char* reason = detail::exclusion_reason(!any_nonzero, !varies, options, j)) {
+      prep.excluded.push_back({j, reason});
+      continue;
+    }
+    const Scalar mean = options.fit_intercept ? Scalar(sum / wsum) : Scalar(0);
+    // sum_i w_i (x_i - m)^2 over stored entries plus the implicit zeros.
+    Scalar ss(0);
+    for (typename SparseMatrix<Scalar, StorageIndex>::InnerIterator it(x, j); it; ++it) {
+      if (w(it.row()) == Scalar(0)) continue;
+      const Scalar dev = it.value() - mean;
+      ss += w(it.row()) * dev * dev;
+    }
+    ss += (wsum - stored_weight) * mean * mean;
+    detail::admit_column(prep, options, j, mean, detail::square_root<Scalar>(ss));
+  }
+  auto [m, s] = detail::traced_means_and_scales(prep);
+  SparseDesign<Scalar, StorageIndex> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc));
+  return {std::move(design), std::move(prep)};
+}
+
+/// A temporary would leave the design dangling: name the matrix and keep it
+/// alive while the design is used.
+template <class Scalar, class StorageIndex>
+PreparedSparse<Scalar, StorageIndex> prepare_sparse(SparseMatrix<Scalar, StorageIndex>&& x, const Vector<Scalar>& y,
+                                                    const TraceOptions& options,
+                                                    const Vector<Scalar>& weights = Vector<Scalar>()) = delete;
+
+/// A prepared Gram problem.
+template <class Scalar>
+using PreparedGram = PreparedProblem<GramDesign<Scalar>>;
+
+/// Prepares a Gram problem from sufficient statistics, applying the same
+/// centring, scaling and exclusions as prepare_dense (see prepare.hpp).
+/// Without an intercept the raw (uncentred) cross-products are rebuilt from
+/// the centred ones: C + n m m^T. O(p^2) time and memory. Throws
+/// invalid_option (bad options; standardize with an exact rational type)
+/// and invalid_data (no row with positive weight, statistics that are not
+/// finite).
+template <class Scalar>
+PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, const TraceOptions& options) {
+  const Index p = stats.predictors();
+  options.validate(static_cast<std::size_t>(p));
+  if (stats.rows == 0) throw invalid_data("no observation has a positive weight");
+  if constexpr (detail::is_exact_v<Scalar>) {
+    if (options.standardize)
+      throw invalid_option("standardize",
+                           "exact rational arithmetic cannot take the square roots that scaling "
+                           "columns to unit length needs; trace with standardize = false");
+  }
+  Preparation<Scalar> prep = start_preparation<Scalar>(stats.rows, stats.rows, p, options, stats.weight_sum);
+  const Scalar n = stats.weight_sum;
+  // Second moments about the centre in use (the means, or 0 without intercept).
+  auto moment = [&](Index i, Index j) -> Scalar {
+    if (options.fit_intercept) return stats.comoments(i, j);
+    return stats.comoments(i, j) + n * stats.means(i) * stats.means(j);
+  };
+  auto moment_y = [&](Index j) -> Scalar {
+    if (options.fit_intercept) return stats.cross(j);
+    return stats.cross(j) + n * stats.means(j) * stats.response_mean;
+  };
+  prep.response_mean = options.fit_intercept ? stats.response_mean : Scalar(0);
+  prep.total_sum_of_squares = options.fit_intercept
+                                  ? stats.response_comoment
+                                  : Scalar(stats.response_comoment + n * stats.response_mean * stats.response_mean);
+  for (Index j = 0; j < p; ++j) {
+    const bool constant = stats.minimum(j) == stats.maximum(j);
+    const bool all_zero = constant && stats.minimum(j) == Scalar(0);
+    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
+      prep.excluded.push_back({j, reason});
+      continue;
+    }
+    const Scalar m2 = moment(j, j);
+    if (options.standardize && !detail::is_finite_value(m2))
+      throw invalid_data::of_predictor(static_cast<std::size_t>(j),
+                                       ": its sum of squares is not finite in the sufficient statistics "
+                                       "(the data overflow double precision); rescale it");
+    Scalar spread(0);
+    if constexpr (!detail::is_exact_v<Scalar>)
+      if (m2 > Scalar(0)) spread = detail::square_root<Scalar>(m2);
+    detail::admit_column(prep, options, j, options.fit_intercept ? stats.means(j) : Scalar(0), spread);
+  }
+  const Index q = static_cast<Index>(prep.columns.size());
+  Matrix<Scalar> g(q, q);
+  Vector<Scalar> c(q);
+  for (Index b = 0; b < q; ++b) {
+    const Index jb = prep.columns[static_cast<std::size_t>(b)];
+    for (Index a = 0; a < q; ++a) {
+      const Index ja = prep.columns[static_cast<std::size_t>(a)];
+      g(a, b) = moment(ja, jb) / (prep.scales(ja) * prep.scales(jb));
+    }
+    c(b) = moment_y(jb) / prep.scales(jb);
+  }
+  // Statistics formed from values near the ends of the floating range hold
+  // Inf/NaN (products overflow); refuse them rather than trace garbage.
+  bool finite = detail::is_finite_value(prep.total_sum_of_squares);
+  for (Index b = 0; b < q && finite; ++b) {
+    finite = detail::is_finite_value(c(b)) && detail::is_finite_value(prep.scales(prep.columns[static_cast<std::size_t>(b)]));
+    for (Index a = 0; a < q && finite; ++a) finite = detail::is_finite_value(g(a, b));
+  }
+  if (!finite)
+    throw invalid_data("the sufficient statistics are not finite (squares or cross-products of the "
+                       "data overflow double precision); rescale the predictors and the response");
+  return {GramDesign<Scalar>(std::move(g), std::move(c), prep.total_sum_of_squares, stats.rows),
+          std::move(prep)};
+}
+
+}  // namespace knotpath
