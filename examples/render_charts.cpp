@@ -8,7 +8,7 @@
 // in the README.
 //
 // The selection curve is the exact 10-fold cross-validation curve of
-// select.hpp on the size-free penalty mu = lambda / sqrt(n), with Mallows' Cp,
+// cross_validation.hpp on the size-free penalty mu = lambda / sqrt(n), with Mallows' Cp,
 // AIC and BIC along the path on the second panel.
 #include <cstdio>
 #include <filesystem>

@@ -72,7 +72,7 @@ double relative(double a, double b) { return std::abs(a - b) / std::max({std::ab
 // cross-validation estimate of Hastie, Tibshirani & Friedman, The Elements of
 // Statistical Learning (2nd ed.), section 7.10.1. With standardized columns
 // the fold's own penalty is lambda = mu * sqrt(n_train) (the size-free
-// penalty documented in select.hpp and the README).
+// penalty documented in cross_validation.hpp and the README).
 double refit_cv_error(const Matrix<double>& x, const Vector<double>& y, const std::vector<int>& fold, int k,
                       double mu) {
   double sse = 0;
@@ -225,7 +225,7 @@ TEST_F(Select, AgreesWithTheLibraryOnSeededFolds) {
                              "wrote s.json"})
     EXPECT_NE(r.out.find(needle), std::string::npos) << needle << '\n' << r.out;
 
-  // The thread count does not change the result (select.hpp's promise).
+  // The thread count does not change the result (cross_validation.hpp's promise).
   Outcome one = run("select t.csv --response y --folds 5 --seed 11 --threads 1 --json s1.json");
   ASSERT_EQ(one.code, 0) << one.err;
   EXPECT_EQ(json::parse(slurp(file("s1.json")))["cross_validation"], c);

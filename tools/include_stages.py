@@ -18,7 +18,7 @@ import sys
 # Stage order (an arrow may only point to the same or a lower number).
 STAGES = [
     ("foundation", ["errors.hpp", "scaling.hpp", "detail/scalar.hpp", "detail/parallel.hpp",
-                    "detail/centring.hpp", "detail/random.hpp", "detail/least_squares.hpp"]),
+                    "detail/centring.hpp", "detail/random.hpp"]),
     ("options", ["options.hpp", "demo.hpp"]),
     ("preparation", ["prepare.hpp", "statistics.hpp"]),
     ("operators and factor", ["design/concept.hpp", "design/dense.hpp", "design/dense_view.hpp",
@@ -27,7 +27,7 @@ STAGES = [
     ("homotopy", ["knot.hpp", "homotopy.hpp"]),
     ("path", ["path.hpp"]),
     ("trace front end", ["trace.hpp"]),
-    ("selection, inference, precision", ["cross_validation.hpp", "criteria.hpp", "select.hpp",
+    ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
                                          "inference.hpp", "precision.hpp"]),
     ("io", ["io/table.hpp", "io/report.hpp", "io/charts.hpp"]),
     ("umbrella", ["knotpath.hpp"]),

@@ -1,7 +1,9 @@
 #pragma once
 /// \file knotpath.hpp
 /// \brief Umbrella header: the whole public API of the core (options, trace,
-/// the path and its queries, selection, inference, precision, demo data).
+/// the path and its queries, selection, inference, precision, demo data;
+/// the advanced headers too: prepared problems, design operators, the
+/// active-set factor and the homotopy class).
 ///
 /// \code
 /// #include <knotpath/knotpath.hpp>
@@ -19,10 +21,14 @@
 #include "design/sparse.hpp"
 #include "errors.hpp"
 #include "factor.hpp"
+#include "homotopy.hpp"
 #include "inference.hpp"
+#include "knot.hpp"
 #include "options.hpp"
 #include "path.hpp"
 #include "precision.hpp"
 #include "prepare.hpp"
+#include "problem.hpp"
 #include "scaling.hpp"
+#include "statistics.hpp"
 #include "trace.hpp"

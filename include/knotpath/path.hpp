@@ -14,7 +14,7 @@
 /// with s_j the column scale (standardization: root weighted sum of squares
 /// of the centred column, so s_j b_j and lambda are in response units and
 /// lambda grows like sqrt(n); otherwise s_j = 1). The size-free penalty of
-/// select.hpp is mu = lambda / sqrt(n) (lambda / n without standardization).
+/// scaling.hpp is mu = lambda / sqrt(n) (lambda / n without standardization).
 
 #include <algorithm>
 #include <optional>

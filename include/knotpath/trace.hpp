@@ -42,7 +42,7 @@ Path<typename Design::Scalar> trace_design(const Design& design, const Preparati
 ///                                              + 0.5 ridge sum_j (s_j beta_j)^2.
 /// Units: with standardize (the default) s_j is the root weighted sum of
 /// squares of the centred column, so lambda is in response units and grows
-/// like sqrt(n); lambda / sqrt(n) is the size-free penalty (select.hpp).
+/// like sqrt(n); lambda / sqrt(n) is the size-free penalty (scaling.hpp).
 /// `weights` may be empty (all 1). Throws invalid_option or invalid_data.
 /// Thread safety: each call owns its design and factor and only reads x, y
 /// and weights, so concurrent calls are safe.

@@ -201,7 +201,7 @@ struct SelectionCurve {
   void validate() const;
 };
 
-/// The selection curve of an exact cross-validation (select.hpp) on the
+/// The selection curve of an exact cross-validation (cross_validation.hpp) on the
 /// size-free axis mu: the curve at every merged knot plus
 /// `samples_per_piece` points inside each piece (the curve is quadratic in
 /// mu there), the exact minimizer and the one-standard-error choice, and,
