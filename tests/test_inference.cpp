@@ -15,6 +15,7 @@
 #include <boost/multiprecision/cpp_bin_float.hpp>
 
 #include <knotpath/detail/random.hpp>
+#include <knotpath/criteria.hpp>
 #include <knotpath/inference.hpp>
 
 #include "test_support.hpp"
@@ -390,4 +391,33 @@ TEST(SpacingTest, OmegaAndPValueMatchDirectComputationAlongTheLeastAnglePath) {
       previous_knot = e.penalty;
     }
   }
+}
+
+TEST(Significance, APreparedProblemGivesTheSameAnswersWithoutPreparingAgain) {
+  // The prepared-problem overloads (criteria.hpp, inference.hpp) take the
+  // caller's own prepare_dense() instead of x and y: the same arithmetic on
+  // the same prepared columns, so every figure agrees exactly; a problem of
+  // other data is refused.
+  const auto prob = kp::testing::ar1_problem(60, 6, 0.3, 21);
+  const kp::TraceOptions options;
+  const kp::PreparedDense<double> prepared = kp::prepare_dense<double>(prob.x, prob.y, options);
+  const kp::Path<double> path = kp::trace_design(prepared.design, prepared.preparation, options);
+  const auto from_data = kp::entry_significance<double>(prob.x, prob.y, path);
+  const auto from_problem = kp::entry_significance(prepared, path);
+  ASSERT_EQ(from_data.entries.size(), from_problem.entries.size());
+  ASSERT_FALSE(from_data.entries.empty());
+  auto same = [](double a, double b) { return (std::isnan(a) && std::isnan(b)) || a == b; };
+  for (std::size_t i = 0; i < from_data.entries.size(); ++i) {
+    EXPECT_TRUE(same(from_data.entries[i].covariance_statistic, from_problem.entries[i].covariance_statistic)) << i;
+    EXPECT_TRUE(same(from_data.entries[i].spacing_p_value, from_problem.entries[i].spacing_p_value)) << i;
+  }
+  const auto criteria_data = kp::information_criteria<double>(prob.x, prob.y, path);
+  const auto criteria_problem = kp::information_criteria(prepared, path);
+  ASSERT_EQ(criteria_data.knots.size(), criteria_problem.knots.size());
+  for (std::size_t k = 0; k < criteria_data.knots.size(); ++k)
+    EXPECT_EQ(criteria_data.knots[k].bic, criteria_problem.knots[k].bic);
+  const auto other = kp::testing::ar1_problem(59, 6, 0.3, 22);
+  const kp::PreparedDense<double> wrong = kp::prepare_dense<double>(other.x, other.y, options);
+  EXPECT_THROW(kp::entry_significance(wrong, path), kp::invalid_query);
+  EXPECT_THROW(kp::information_criteria(wrong, path), kp::invalid_query);
 }

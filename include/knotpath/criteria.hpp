@@ -46,6 +46,7 @@
 #include "options.hpp"
 #include "path.hpp"
 #include "prepare.hpp"
+#include "problem.hpp"
 
 namespace knotpath {
 
@@ -170,6 +171,21 @@ void score_criteria(InformationCriteria<Scalar>& out) {
   }
 }
 
+/// Information criteria are defined for the plain lasso path only.
+template <class Scalar>
+void check_supported(const Path<Scalar>& path) {
+  const TraceOptions& options = path.options();
+  if (options.ridge != 0.0)
+    throw invalid_option("ridge",
+                         "information criteria need the plain lasso (ridge = 0): the "
+                         "number of nonzero coefficients is not the elastic net's "
+                         "degrees of freedom");
+  if (options.variant != Variant::lasso)
+    throw invalid_option("variant",
+                         "information criteria need the lasso variant (df = number "
+                         "of nonzero coefficients holds for the lasso)");
+}
+
 }  // namespace detail
 
 /// Mallows' Cp, AIC and BIC at every knot of a lasso path, and their
@@ -185,22 +201,25 @@ InformationCriteria<Scalar> information_criteria(const Matrix<Scalar>& x, const 
                                                  const CriteriaOptions& criteria = {},
                                                  const Vector<Scalar>& weights = Vector<Scalar>()) {
   criteria.validate();
-  const TraceOptions& options = path.options();
-  if (options.ridge != 0.0)
-    throw invalid_option("ridge",
-                         "information criteria need the plain lasso (ridge = 0): the "
-                         "number of nonzero coefficients is not the elastic net's "
-                         "degrees of freedom");
-  if (options.variant != Variant::lasso)
-    throw invalid_option("variant",
-                         "information criteria need the lasso variant (df = number "
-                         "of nonzero coefficients holds for the lasso)");
-  const PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, weights);
+  detail::check_supported(path);
+  return information_criteria(detail::prepare_for(x, y, path, weights), path, criteria);
+}
+
+/// The same from the prepared dense problem the path was traced on (the
+/// caller's own prepare_dense(), problem.hpp): nothing is prepared or
+/// checked again beyond the problem's columns and rows matching the path's
+/// (invalid_query otherwise).
+template <class Scalar>
+InformationCriteria<Scalar> information_criteria(const PreparedDense<Scalar>& problem, const Path<Scalar>& path,
+                                                 const CriteriaOptions& criteria = {}) {
+  criteria.validate();
+  detail::check_supported(path);
+  detail::check_same_problem(problem.preparation, path);
   InformationCriteria<Scalar> out;
   out.observations = path.preparation().used_observations;
   out.knots = detail::criteria_rows(path);
   detail::set_noise_variance(
-      out, detail::given_or_least_squares_variance<Scalar>(criteria.noise_variance, prepared.design,
+      out, detail::given_or_least_squares_variance<Scalar>(criteria.noise_variance, problem.design,
                                                            path.preparation()));
   detail::score_criteria(out);
   return out;

@@ -489,8 +489,18 @@ Significance entry_significance(const Design& design, const Path<typename Design
 template <class Scalar>
 Significance entry_significance(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                 const Path<Scalar>& path, const InferenceOptions& options = {}) {
+  return entry_significance(detail::prepare_for(x, y, path, Vector<Scalar>()), path, options);
+}
+
+/// The same from the prepared dense problem the path was traced on (the
+/// caller's own prepare_dense(), problem.hpp, without weights): nothing is
+/// prepared again; invalid_query when its columns or rows do not match the
+/// path's.
+template <class Scalar>
+Significance entry_significance(const PreparedDense<Scalar>& prepared, const Path<Scalar>& path,
+                                const InferenceOptions& options = {}) {
   options.validate();
-  PreparedDense<Scalar> prepared = detail::prepare_for(x, y, path, Vector<Scalar>());
+  detail::check_same_problem(prepared.preparation, path);
   const auto estimate = detail::given_or_least_squares_variance<Scalar>(
       options.noise_variance, prepared.design, path.preparation());
   if (!estimate.given && estimate.residual_df <= 0)

@@ -13,11 +13,22 @@
 #include "../options.hpp"
 #include "../path.hpp"
 #include "../prepare.hpp"
+#include "../problem.hpp"
 #include "scalar.hpp"
 
 namespace knotpath::detail {
 
 /// Re-prepares the data a path was traced on and checks that they match it.
+/// A prepared problem given with a path must be the one the path was traced
+/// on: the same kept columns of the same predictors over the same rows.
+template <class Scalar>
+void check_same_problem(const Preparation<Scalar>& problem, const Path<Scalar>& path) {
+  const Preparation<Scalar>& traced = path.preparation();
+  if (problem.predictors != traced.predictors || problem.used_observations != traced.used_observations ||
+      problem.columns != traced.columns || problem.intercept != traced.intercept)
+    throw invalid_query("the prepared problem given is not the one the path was traced on");
+}
+
 template <class Scalar>
 PreparedDense<Scalar> prepare_for(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                   const Path<Scalar>& path, const Vector<Scalar>& weights) {
