@@ -132,6 +132,7 @@ struct TracedKnots {
 template <DesignOperator Design>
 class Homotopy {
  public:
+  /// The arithmetic type of the design (double, a 50-digit float, a rational).
   using Scalar = typename Design::Scalar;
 
   /// `design` holds the prepared columns described by `prep` (column k of
