@@ -499,6 +499,114 @@ TEST(SelectionChart, RejectsBrokenInput) {
   EXPECT_THROW(kc::coefficient_traces_svg(demo().chart, o), knotpath::invalid_option);
 }
 
+// ------------------------------------------------ the size-free penalty mu
+
+// mu = lambda / sqrt(n) on standardized columns and lambda / n on the
+// columns' own scale (DESIGN.md, "Comparing penalties across data sets of
+// different size"); n = 240 rows of the demo, unweighted.
+struct MuCase {
+  bool standardize;
+  const char* definition;  // what the axis title must say
+  double divisor;          // computed here, not by the library
+};
+
+std::vector<MuCase> mu_cases(double n) {
+  return {{true, "\xCE\xBC = \xCE\xBB/\xE2\x88\x9An", std::sqrt(n)}, {false, "\xCE\xBC = \xCE\xBB/n", n}};
+}
+
+// The "enters at" value of a lane: its last text, "mu VALUE".
+double lane_entry_value(const tinyxml2::XMLElement* lane) {
+  const tinyxml2::XMLElement* last = nullptr;
+  for (const auto* t = lane->FirstChildElement("text"); t; t = t->NextSiblingElement("text")) last = t;
+  if (!last || !last->GetText()) return std::nan("");
+  const std::string text = last->GetText();
+  const std::string mu = "\xCE\xBC ";
+  if (text.rfind(mu, 0) != 0) return std::nan("");
+  return std::strtod(text.c_str() + mu.size(), nullptr);
+}
+
+TEST(ChartMu, PenaltyAxisFollowsTheScalingOfThePath) {
+  const auto& d = demo();
+  const double n = static_cast<double>(d.data.x.rows());
+  ASSERT_GT(n, 4.0) << "sqrt(n) and n must differ for this test to tell them apart";
+  for (const MuCase& c : mu_cases(n)) {
+    knotpath::TraceOptions options;
+    options.standardize = c.standardize;
+    const auto path = knotpath::trace<double>(d.data.x, d.data.y, options);
+    const kc::ChartPath chart = kc::chart_path(path, d.data.predictor_names, d.data.response_name);
+    const double lambda_max = path.knots().front().penalty;
+    const double mu_max = lambda_max / c.divisor;
+    kc::ChartOptions o;
+    o.penalty_unit = kc::PenaltyUnit::mu;
+    o.log_penalty = false;
+    const std::string svg = kc::activity_lanes_svg(chart, o);
+    auto p = parse(svg);
+    ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+    const auto* root = p->doc.RootElement();
+    EXPECT_NE(svg.find(c.definition), std::string::npos) << "standardize=" << c.standardize;
+    // The first entrant enters at lambda_max; the label has 4 significant
+    // digits, so a relative 1e-3 holds it.
+    const auto lanes = with_class(root, "lane");
+    ASSERT_FALSE(lanes.empty());
+    EXPECT_NEAR(lane_entry_value(lanes.front()), mu_max, 1e-3 * mu_max) << "standardize=" << c.standardize;
+    // A linear axis runs from 0 to a little (4 %) beyond the largest mu; its
+    // round-number ticks (steps 1, 2, 5 x 10^k, about 7 of them) reach at
+    // least half of it.
+    const auto ticks = x_ticks(root);
+    ASSERT_GE(ticks.size(), 3u);
+    double top_tick = 0;
+    for (const auto& t : ticks) top_tick = std::max(top_tick, t.second);
+    EXPECT_LE(top_tick, 1.04 * mu_max * (1 + 1e-9)) << "standardize=" << c.standardize;
+    EXPECT_GE(top_tick, 0.5 * mu_max) << "standardize=" << c.standardize;
+    // The traces share the axis.
+    EXPECT_NE(kc::coefficient_traces_svg(chart, o).find(c.definition), std::string::npos);
+  }
+}
+
+TEST(ChartMu, ReportAuditColumnFollowsTheScalingOfThePath) {
+  const auto& d = demo();
+  const double n = static_cast<double>(d.data.x.rows());
+  for (const MuCase& c : mu_cases(n)) {
+    knotpath::TraceOptions options;
+    options.standardize = c.standardize;
+    const auto path = knotpath::trace<double>(d.data.x, d.data.y, options);
+    const std::string html = kc::report_html(kc::chart_path(path, d.data.predictor_names), {});
+    auto p = parse(html);
+    ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+    const tinyxml2::XMLElement* audit = nullptr;
+    walk(p->doc.RootElement(), [&](const tinyxml2::XMLElement* e) {
+      if (std::string(e->Name()) == "table" && has_class(e, "audit")) audit = e;
+    });
+    ASSERT_NE(audit, nullptr);
+    // Columns: step, penalty, mu, ...
+    const auto* th = audit->FirstChildElement("thead")->FirstChildElement("tr")->FirstChildElement("th");
+    th = th->NextSiblingElement("th")->NextSiblingElement("th");
+    ASSERT_NE(th, nullptr);
+    EXPECT_STREQ(th->GetText(), c.definition);
+    const auto* td = audit->FirstChildElement("tbody")->FirstChildElement("tr")->FirstChildElement("td");
+    td = td->NextSiblingElement("td")->NextSiblingElement("td");
+    ASSERT_NE(td, nullptr);
+    const double mu_max = path.knots().front().penalty / c.divisor;
+    // Written with 6 significant digits: a relative 1e-5 holds it.
+    EXPECT_NEAR(std::strtod(td->GetText(), nullptr), mu_max, 1e-5 * mu_max) << "standardize=" << c.standardize;
+  }
+}
+
+TEST(ChartMu, SelectionAxisTitleFollowsTheScalingOfThePath) {
+  const auto& d = demo();
+  for (const MuCase& c : mu_cases(static_cast<double>(d.data.x.rows()))) {
+    knotpath::TraceOptions options;
+    options.standardize = c.standardize;
+    knotpath::CrossValidationOptions cv_options;
+    cv_options.folds = 4;
+    const auto cv = knotpath::cross_validate<double>(d.data.x, d.data.y, options, cv_options);
+    const kc::SelectionCurve curve = kc::selection_curve(cv);
+    EXPECT_EQ(curve.standardized, c.standardize);
+    const std::string svg = kc::selection_curve_svg(curve);
+    EXPECT_NE(svg.find(c.definition), std::string::npos) << "standardize=" << c.standardize;
+  }
+}
+
 // ------------------------------------------------------------ chart 4: report
 
 TEST(Report, ParsesEmbedsEveryChartAndReferencesNothingOutside) {

@@ -380,6 +380,40 @@ TEST_F(Select, ReportParsesAndNothingIsLeftOnError) {
   expect_report(file("rep"), true);
 }
 
+// The size-free penalty of the report follows the scaling of the path:
+// mu = lambda / sqrt(n) on standardized columns, lambda / n with
+// --no-standardize (DESIGN.md, "Comparing penalties"); here n = 64 rows.
+TEST_F(Select, ReportMuFollowsTheScalingOfThePath) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  const double n = static_cast<double>(fx.p.x.rows());
+  struct Case {
+    const char* flag;
+    const char* definition;
+    double divisor;
+  };
+  for (const Case& c : {Case{"", "\xCE\xBC = \xCE\xBB/\xE2\x88\x9An", std::sqrt(n)},
+                        Case{" --no-standardize", "\xCE\xBC = \xCE\xBB/n", n}}) {
+    fs::remove_all(file("mu-rep"));
+    Outcome r = run(std::string("select t.csv --response y --folds 4 --json mu.json --report mu-rep") + c.flag);
+    ASSERT_EQ(r.code, 0) << r.err;
+    const std::string html = slurp(file("mu-rep/report.html"));
+    const std::string selection = slurp(file("mu-rep/selection.svg"));
+    // The selection axis and the audit header name the definition in use.
+    EXPECT_NE(selection.find(std::string(c.definition) + " ("), std::string::npos) << c.flag;
+    EXPECT_NE(html.find(std::string("<th>") + c.definition + "</th>"), std::string::npos) << c.flag;
+    // The audit's first mu is lambda_max / divisor, written with 6 significant
+    // digits: a relative 1e-5 holds it.
+    const json doc = json::parse(slurp(file("mu.json")));
+    const double mu_max = doc["path"]["knots"][0]["penalty"].get<double>() / c.divisor;
+    const std::string row = "<tr><td>0</td><td>";
+    const auto at = html.find(row);
+    ASSERT_NE(at, std::string::npos);
+    const auto mu_cell = html.find("</td><td>", at + row.size()) + 9;
+    EXPECT_NEAR(std::strtod(html.c_str() + mu_cell, nullptr), mu_max, 1e-5 * mu_max) << c.flag;
+  }
+}
+
 TEST_F(Select, UsageAndInputErrorsHaveTheirCodes) {
   Fixture fx;
   write_table(file("t.csv"), fx.p, fx.labels);

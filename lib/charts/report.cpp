@@ -110,7 +110,8 @@ std::string report_html(const ChartPath& path, const ReportOptions& options, con
   }
 
   out << "<h2>Audit of events</h2>\n<table class=\"audit\">\n<thead><tr><th>step</th><th>penalty \xCE\xBB</th>";
-  if (path.weight_sum > 0) out << "<th>\xCE\xBC = \xCE\xBB/\xE2\x88\x9An</th>";
+  if (path.weight_sum > 0)
+    out << "<th>\xCE\xBC = \xCE\xBB/" << (path.standardized ? "\xE2\x88\x9An" : "n") << "</th>";
   out << "<th class=\"text\">event</th><th class=\"text\">predictor</th><th>sign</th><th>active</th>"
          "<th>L1 norm</th><th>R\xC2\xB2</th></tr></thead>\n<tbody>\n";
   for (std::size_t i = 0; i < path.knots.size(); ++i) {
@@ -123,7 +124,8 @@ std::string report_html(const ChartPath& path, const ReportOptions& options, con
                                  : "";
     out << "<tr" << (k.event == EventKind::leave ? " class=\"leave\"" : "") << "><td>" << i << "</td><td>"
         << number(k.penalty);
-    if (path.weight_sum > 0) out << "</td><td>" << number(k.penalty / std::sqrt(path.weight_sum));
+    if (path.weight_sum > 0)
+      out << "</td><td>" << number(k.penalty / knotpath::penalty_scale<double>(path.standardized, path.weight_sum));
     out << "</td><td class=\"text\">" << xml_escape(event) << "</td><td class=\"text\">" << xml_escape(name)
         << "</td><td>" << (k.sign > 0 ? "+" : k.sign < 0 ? "\xE2\x88\x92" : "") << "</td><td>" << k.active
         << "</td><td>" << number(k.l1_norm) << "</td><td>" << number(k.r_squared, 4) << "</td></tr>\n";

@@ -224,10 +224,15 @@ struct AxisText {
 
 std::string penalty_symbol(PenaltyUnit unit) { return unit == PenaltyUnit::mu ? "\xCE\xBC" : "\xCE\xBB"; }
 
-AxisText penalty_axis_text(const ChartOptions& o, bool log) {
+// How mu is defined, for the axis title (the divisor of penalty_scale).
+std::string size_free_definition(bool standardized) {
+  return standardized ? " = \xCE\xBB/\xE2\x88\x9An" : " = \xCE\xBB/n";
+}
+
+AxisText penalty_axis_text(const ChartOptions& o, bool log, bool standardized) {
   AxisText t;
   const std::string sym = penalty_symbol(o.penalty_unit);
-  t.title = "penalty " + sym + (o.penalty_unit == PenaltyUnit::mu ? " = \xCE\xBB/\xE2\x88\x9An" : "") +
+  t.title = "penalty " + sym + (o.penalty_unit == PenaltyUnit::mu ? size_free_definition(standardized) : "") +
             (log ? " (log scale)" : "") +
             (o.decreasing_penalty_left_to_right ? ", decreasing to the right" : ", increasing to the right");
   const std::string strong = "stronger penalty, fewer predictors";
@@ -322,7 +327,9 @@ double coefficient(const ChartKnot& k, Index j) {
 }
 
 double unit_factor(const ChartPath& p, const ChartOptions& o) {
-  return o.penalty_unit == PenaltyUnit::mu && p.weight_sum > 0 ? 1.0 / std::sqrt(p.weight_sum) : 1.0;
+  return o.penalty_unit == PenaltyUnit::mu && p.weight_sum > 0
+             ? 1.0 / knotpath::penalty_scale<double>(p.standardized, p.weight_sum)
+             : 1.0;
 }
 
 // The horizontal scale of a path chart and the x of each knot.
@@ -352,7 +359,7 @@ PathAxis path_axis(const ChartPath& p, const ChartOptions& o, double left, doubl
     for (const auto& k : p.knots) pens.push_back(k.penalty * u);
     a.scale = penalty_scale(pens, o, left, right);
     for (double v : pens) a.knot_x.push_back(a.scale(v));
-    a.text = penalty_axis_text(o, a.scale.log);
+    a.text = penalty_axis_text(o, a.scale.log, p.standardized);
   }
   a.end_x = a.knot_x.back();
   return a;
@@ -857,7 +864,7 @@ std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions&
 
   ChartOptions ao = o;
   ao.penalty_unit = curve.penalty_name == "lambda" ? PenaltyUnit::lambda : PenaltyUnit::mu;
-  AxisText text = penalty_axis_text(ao, s.log);
+  AxisText text = penalty_axis_text(ao, s.log, curve.standardized);
   if (curve.penalty_name != "lambda" && curve.penalty_name != "mu") {
     text.title = "penalty " + curve.penalty_name + (s.log ? " (log scale)" : "") +
                  (o.decreasing_penalty_left_to_right ? ", decreasing to the right" : ", increasing to the right");

@@ -38,6 +38,7 @@
 
 #include "../detail/scalar.hpp"
 #include "../path.hpp"
+#include "../scaling.hpp"
 #include "../select.hpp"
 
 namespace knotpath::charts {
@@ -60,7 +61,10 @@ struct ChartPath {
   std::vector<ChartKnot> knots;      ///< penalties non-increasing
   std::vector<double> predictor_sd;  ///< per predictor (1/n weighted) standard deviation; empty
                                      ///< when unknown (then coefficients are drawn as given)
-  double weight_sum = 0;             ///< n (sum of weights), for mu = lambda / sqrt(n)
+  double weight_sum = 0;             ///< n (sum of weights), for mu = lambda / penalty_scale
+  /// Whether the path was traced on standardized columns: then mu = lambda /
+  /// sqrt(n), else mu = lambda / n (knotpath::penalty_scale, scaling.hpp).
+  bool standardized = true;
   /// Name of the response, used in titles and labels.
   std::string response_name = "response";
   std::string variant = "lasso";     ///< "lasso" or "least angle"
@@ -85,6 +89,7 @@ ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = 
   out.response_name = std::move(response_name);
   const auto& prep = path.preparation();
   out.weight_sum = to_double(prep.weight_sum);
+  out.standardized = prep.standardized;
   // s_j is the root weighted sum of squares of the centred column when the
   // columns are standardized with an intercept, so s_j / sqrt(n) is the
   // (1/n) standard deviation; in other set-ups the charts show raw slopes.
@@ -121,14 +126,15 @@ ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = 
 
 /// What the horizontal axis of the path charts measures.
 enum class HorizontalAxis {
-  penalty,    ///< the penalty (lambda, or mu = lambda / sqrt(n))
+  penalty,    ///< the penalty (lambda, or the size-free mu)
   l1_budget,  ///< the penalized L1 norm sum_j f_j s_j |beta_j| of the solution
 };
 
 /// Which penalty the axis shows.
 enum class PenaltyUnit {
   lambda,  ///< lambda of the objective 0.5 RSS + lambda sum f_j s_j |b_j|
-  mu,      ///< the size-free mu = lambda / sqrt(n) (see DESIGN notes)
+  mu,      ///< the size-free mu = lambda / penalty_scale: lambda / sqrt(n) for standardized
+           ///< columns, lambda / n otherwise (scaling.hpp)
 };
 
 /// How coefficient traces are scaled.
@@ -186,6 +192,9 @@ struct CriterionCurve {
 /// A selection curve as the chart sees it; the selection code fills it.
 struct SelectionCurve {
   std::string penalty_name = "mu";   ///< "mu" or "lambda": what `penalty` holds
+  /// For mu: whether the path was standardized (mu = lambda / sqrt(n)) or
+  /// not (mu = lambda / n); only the axis title reads it.
+  bool standardized = true;
   /// Name of the error measure, shown on the chart.
   std::string error_name = "mean squared prediction error";
   std::string error_unit;            ///< e.g. "(kg/m2)^2"; empty: "response units squared"
@@ -212,6 +221,7 @@ SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
   using knotpath::detail::to_double;
   SelectionCurve out;
   out.penalty_name = "mu";
+  out.standardized = cv.full_path.preparation().standardized;
   out.folds = cv.folds.size();
   auto add = [&](const Scalar& mu) {
     const CurvePoint<Scalar> q = cv.point(mu);
