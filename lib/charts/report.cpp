@@ -48,13 +48,7 @@ void figure(std::ostringstream& out, const std::string& svg, const std::string& 
       << svg << "<figcaption>" << xml_escape(caption) << "</figcaption>\n</figure>\n";
 }
 
-}  // namespace
-
-std::string report_html(const ChartPath& path, const ReportOptions& options,
-                        const SelectionCurve* selection) {
-  path.validate();
-  options.charts.validate();
-  std::ostringstream out;
+void write_head(std::ostringstream& out, const ChartPath& path, const ReportOptions& options) {
   out << "<!DOCTYPE html>\n<html xmlns=\"http://www.w3.org/1999/xhtml\" lang=\"en\">\n<head>\n"
       << "<meta charset=\"utf-8\"/>\n<meta name=\"viewport\" content=\"width=device-width, "
          "initial-scale=1\"/>\n"
@@ -65,8 +59,10 @@ std::string report_html(const ChartPath& path, const ReportOptions& options,
       << xml_escape(path.response_name)
       << ", traced by knotpath. This page is self-contained: it needs no network and no "
          "scripts.</p>\n";
+}
 
-  // Summary: the caller's lines, then what the path itself says.
+// Summary: the caller's lines, then what the path itself says; then the cautions.
+void write_summary(std::ostringstream& out, const ChartPath& path, const ReportOptions& options) {
   std::size_t enters = 0, leaves = 0;
   for (const auto& k : path.knots) {
     enters += k.event == EventKind::enter;
@@ -89,7 +85,11 @@ std::string report_html(const ChartPath& path, const ReportOptions& options,
     for (const auto& c : options.cautions) out << "<li>" << xml_escape(c) << "</li>\n";
     out << "</ul>\n</div>\n";
   }
+}
 
+// The charts, each with its own id prefix so their ids stay unique on the page.
+void write_charts(std::ostringstream& out, const ChartPath& path, const ReportOptions& options,
+                  const SelectionCurve* selection) {
   ChartOptions co = options.charts;
   const std::string prefix = co.id_prefix;
   out << "<h2>Activity</h2>\n";
@@ -117,7 +117,34 @@ std::string report_html(const ChartPath& path, const ReportOptions& options,
            "one-standard-error "
            "choice are marked.");
   }
+}
 
+// One row of the audit table: knot i.
+void write_audit_row(std::ostringstream& out, const ChartPath& path, std::size_t i) {
+  const ChartKnot& k = path.knots[i];
+  const bool last = i + 1 == path.knots.size();
+  std::string event = to_string(k.event);
+  if (last && (k.event == EventKind::end || k.event == EventKind::stop)) event = path.end;
+  const std::string name =
+      k.predictor >= 0 && static_cast<std::size_t>(k.predictor) < path.names.size()
+          ? path.names[static_cast<std::size_t>(k.predictor)]
+          : "";
+  out << "<tr" << (k.event == EventKind::leave ? " class=\"leave\"" : "") << "><td>" << i
+      << "</td><td>" << number(k.penalty);
+  if (path.weight_sum > 0)
+    out << "</td><td>"
+        << number(k.penalty / knotpath::penalty_scale<double>(path.standardized, path.weight_sum));
+  out << "</td><td class=\"text\">" << xml_escape(event) << "</td><td class=\"text\">"
+      << xml_escape(name) << "</td><td>"
+      << (k.sign > 0   ? "+"
+          : k.sign < 0 ? "\xE2\x88\x92"
+                       : "")
+      << "</td><td>" << k.active << "</td><td>" << number(k.l1_norm) << "</td><td>"
+      << number(k.r_squared, 4) << "</td></tr>\n";
+}
+
+// The audit of events: one row per knot, with mu beside lambda when n is known.
+void write_audit(std::ostringstream& out, const ChartPath& path) {
   out << "<h2>Audit of events</h2>\n<table class=\"audit\">\n<thead><tr><th>step</th><th>penalty "
          "\xCE\xBB</th>";
   if (path.weight_sum > 0)
@@ -125,30 +152,11 @@ std::string report_html(const ChartPath& path, const ReportOptions& options,
   out << "<th class=\"text\">event</th><th "
          "class=\"text\">predictor</th><th>sign</th><th>active</th>"
          "<th>L1 norm</th><th>R\xC2\xB2</th></tr></thead>\n<tbody>\n";
-  for (std::size_t i = 0; i < path.knots.size(); ++i) {
-    const ChartKnot& k = path.knots[i];
-    const bool last = i + 1 == path.knots.size();
-    std::string event = to_string(k.event);
-    if (last && (k.event == EventKind::end || k.event == EventKind::stop)) event = path.end;
-    const std::string name =
-        k.predictor >= 0 && static_cast<std::size_t>(k.predictor) < path.names.size()
-            ? path.names[static_cast<std::size_t>(k.predictor)]
-            : "";
-    out << "<tr" << (k.event == EventKind::leave ? " class=\"leave\"" : "") << "><td>" << i
-        << "</td><td>" << number(k.penalty);
-    if (path.weight_sum > 0)
-      out << "</td><td>"
-          << number(k.penalty /
-                    knotpath::penalty_scale<double>(path.standardized, path.weight_sum));
-    out << "</td><td class=\"text\">" << xml_escape(event) << "</td><td class=\"text\">"
-        << xml_escape(name) << "</td><td>"
-        << (k.sign > 0   ? "+"
-            : k.sign < 0 ? "\xE2\x88\x92"
-                         : "")
-        << "</td><td>" << k.active << "</td><td>" << number(k.l1_norm) << "</td><td>"
-        << number(k.r_squared, 4) << "</td></tr>\n";
-  }
+  for (std::size_t i = 0; i < path.knots.size(); ++i) write_audit_row(out, path, i);
   out << "</tbody>\n</table>\n";
+}
+
+void write_notes_and_footer(std::ostringstream& out, const ChartPath& path) {
   if (!path.notes.empty()) {
     out << "<h2>Notes</h2>\n<ul class=\"notes\">\n";
     for (const auto& n : path.notes) out << "<li>" << xml_escape(n) << "</li>\n";
@@ -159,6 +167,20 @@ std::string report_html(const ChartPath& path, const ReportOptions& options,
          "f\xE2\x82\x97 s\xE2\x82\x97 |b\xE2\x82\x97|; coefficients are on the original scale of "
          "the data. "
          "A path describes associations in these data, not causes.</footer>\n</body>\n</html>\n";
+}
+
+}  // namespace
+
+std::string report_html(const ChartPath& path, const ReportOptions& options,
+                        const SelectionCurve* selection) {
+  path.validate();
+  options.charts.validate();
+  std::ostringstream out;
+  write_head(out, path, options);
+  write_summary(out, path, options);
+  write_charts(out, path, options, selection);
+  write_audit(out, path);
+  write_notes_and_footer(out, path);
   return out.str();
 }
 
