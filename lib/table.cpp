@@ -61,35 +61,11 @@ Index Table::find(const std::string& name) const {
   return -1;
 }
 
-namespace {
-
-// Column j of a table; a column that does not exist is a query outside the
-// table (find() returns -1 for a name it does not know).
-std::size_t checked_column(const Table& table, Index j, const char* what) {
-  if (j < 0 || static_cast<std::size_t>(j) >= table.columns.size())
+std::size_t Table::checked_column(Index j, const char* what) const {
+  if (j < 0 || static_cast<std::size_t>(j) >= columns.size())
     throw invalid_query(std::string(what) + ": the table has no column " + std::to_string(j) +
-                        " (it has " + std::to_string(table.columns.size()) + ")");
+                        " (it has " + std::to_string(columns.size()) + ")");
   return static_cast<std::size_t>(j);
-}
-
-}  // namespace
-
-Vector<double> Table::column_vector(Index j) const {
-  const NumericColumn& c = columns[checked_column(*this, j, "column_vector")];
-  Vector<double> v(static_cast<Index>(c.size()));
-  for (std::size_t i = 0; i < c.size(); ++i) v(static_cast<Index>(i)) = c[i];
-  return v;
-}
-
-Matrix<double> Table::take_matrix(const std::vector<Index>& which) {
-  Matrix<double> m(static_cast<Index>(rows), static_cast<Index>(which.size()));
-  for (std::size_t k = 0; k < which.size(); ++k) {
-    NumericColumn& c = columns[checked_column(*this, which[k], "take_matrix")];
-    if (c.size() != rows)
-      throw invalid_query("take_matrix: column " + std::to_string(which[k]) + " was already taken");
-    c.move_into(m.col(static_cast<Index>(k)).data());
-  }
-  return m;
 }
 
 namespace {

@@ -134,13 +134,38 @@ struct Table {
 
   /// Index of a numeric column by name, or -1.
   Index find(const std::string& name) const;
+  /// Position of column j in `columns`; throws invalid_query, naming `what`
+  /// (the caller), when there is no column j (e.g. j = -1 from find()).
+  std::size_t checked_column(Index j, const char* what) const;
   /// The values of one column as an Eigen vector (copy). Throws
-  /// invalid_query when there is no column j (e.g. j = -1 from find()).
+  /// invalid_query when there is no column j.
   Vector<double> column_vector(Index j) const;
   /// Moves the listed columns into an n x k matrix, freeing their blocks.
   /// Throws invalid_query for a column that does not exist or was taken.
   Matrix<double> take_matrix(const std::vector<Index>& which);
 };
+
+// The Eigen-returning members are defined here, in the header, so that the
+// compiled reader (knotpath_io) hands only plain buffers across its boundary
+// (NumericColumn::move_into) and the caller's Eigen builds the matrices.
+
+inline Vector<double> Table::column_vector(Index j) const {
+  const NumericColumn& c = columns[checked_column(j, "column_vector")];
+  Vector<double> v(static_cast<Index>(c.size()));
+  for (std::size_t i = 0; i < c.size(); ++i) v(static_cast<Index>(i)) = c[i];
+  return v;
+}
+
+inline Matrix<double> Table::take_matrix(const std::vector<Index>& which) {
+  Matrix<double> m(static_cast<Index>(rows), static_cast<Index>(which.size()));
+  for (std::size_t k = 0; k < which.size(); ++k) {
+    NumericColumn& c = columns[checked_column(which[k], "take_matrix")];
+    if (c.size() != rows)
+      throw invalid_query("take_matrix: column " + std::to_string(which[k]) + " was already taken");
+    c.move_into(m.col(static_cast<Index>(k)).data());
+  }
+  return m;
+}
 
 /// Reads a table from a file; "-" reads standard input. Throws table_error
 /// (kind content for a bad table, input_output for an unreadable file), and
