@@ -237,21 +237,12 @@ std::size_t active_count(const Path<double>& path, double lambda) {
   return path.active_at(lambda).size();
 }
 
-// The text select prints.
-void print_selection(std::ostream& out, const Selection& s, const SelectData& data,
-                     const SelectArgs& args) {
+// The audit with the tests beside each entry.
+void print_audit_with_tests(std::ostream& out, const Selection& s, const SelectData& data) {
   const Path<double>& path = s.cv.full_path;
   const auto& names = data.context.predictor_names;
-  const auto& prep = path.preparation();
   const double scale = s.cv.full_scale;
-  const double tss = prep.total_sum_of_squares;
-
-  out << fmt::format("{} path of {} on {} predictors, {} rows used ({})\n",
-                     path.options().variant == Variant::lasso ? "lasso" : "least-angle",
-                     data.context.response, names.size(), prep.used_observations,
-                     data.context.source);
-
-  // The audit with the tests beside each entry.
+  const double tss = path.preparation().total_sum_of_squares;
   std::map<Index, const EntrySignificance*> test_of;
   if (s.significance)
     for (const auto& e : s.significance->entries) test_of[e.step] = &e;
@@ -269,8 +260,12 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
                        shown(k.penalty), shown(k.penalty / scale), to_string(k.event), name,
                        k.active, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
   }
+}
+
+// The reference distribution of the tests and their notes, each once with
+// the steps it applies to.
+void print_test_notes(std::ostream& out, const Selection& s) {
   if (s.significance) {
-    // Each note once, with the steps it applies to.
     std::vector<std::pair<std::string, std::string>> grouped;  // note, steps
     for (const auto& e : s.significance->entries) {
       if (e.note.empty()) continue;
@@ -295,8 +290,11 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   } else {
     out << "tests: not computed: " << s.significance_note << '\n';
   }
+}
 
-  // Cross-validation.
+// How the folds were made, the exact curve and the two choices.
+void print_cross_validation(std::ostream& out, const Selection& s, const SelectArgs& args) {
+  const Path<double>& path = s.cv.full_path;
   const auto& cv = s.cv;
   std::string how;
   if (!args.fold_column.empty())
@@ -317,8 +315,10 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   };
   choice("least CV error (exact)", cv.minimum);
   choice("parsimonious (within 1 SE)", cv.parsimonious);
+}
 
-  // Information criteria.
+// Where Mallows' Cp, AIC and BIC are least.
+void print_criteria(std::ostream& out, const Selection& s) {
   if (s.criteria) {
     const auto& ic = *s.criteria;
     std::string source = ic.source == NoiseVarianceSource::given ? "given"
@@ -341,8 +341,13 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   } else {
     out << "\ninformation criteria: not computed: " << s.criteria_note << '\n';
   }
+}
 
-  // Coefficients at the two choices.
+// The coefficients at the two choices (predictors zero at both counted).
+void print_choice_coefficients(std::ostream& out, const Selection& s, const SelectData& data) {
+  const Path<double>& path = s.cv.full_path;
+  const auto& names = data.context.predictor_names;
+  const auto& cv = s.cv;
   const Solution<double> least = path.at_penalty(cv.minimum.lambda);
   const Solution<double> lean = path.at_penalty(cv.parsimonious.lambda);
   out << fmt::format("\ncoefficients (original scale) {:>19} {:>19}\n", "at least CV error",
@@ -360,7 +365,22 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
     out << fmt::format("  {:<28} {:>19} {:>19}\n", names[j], shown(a, 8), shown(b, 8));
   }
   if (zero) out << fmt::format("  ({} more predictors are 0 at both)\n", zero);
+}
 
+// The text select prints.
+void print_selection(std::ostream& out, const Selection& s, const SelectData& data,
+                     const SelectArgs& args) {
+  const Path<double>& path = s.cv.full_path;
+  const auto& prep = path.preparation();
+  out << fmt::format("{} path of {} on {} predictors, {} rows used ({})\n",
+                     path.options().variant == Variant::lasso ? "lasso" : "least-angle",
+                     data.context.response, data.context.predictor_names.size(),
+                     prep.used_observations, data.context.source);
+  print_audit_with_tests(out, s, data);
+  print_test_notes(out, s);
+  print_cross_validation(out, s, args);
+  print_criteria(out, s);
+  print_choice_coefficients(out, s, data);
   out << '\n';
   for (const auto& line : caution_lines(true)) out << "caution: " << line << '\n';
 }
