@@ -13,14 +13,16 @@
 #include <cmath>
 #include <cstring>
 #include <limits>
-#include <type_traits>
 #include <sstream>
+#include <type_traits>
 
 #include <fmt/format.h>
 
 namespace knotpath::io {
 
-std::string round_trip(double value) { return fmt::format("{:.17g}", value); }
+std::string round_trip(double value) {
+  return fmt::format("{:.17g}", value);
+}
 
 namespace {
 
@@ -128,25 +130,35 @@ std::string name_of(const std::vector<std::string>& names, Index j) {
   return names.at(static_cast<std::size_t>(j));
 }
 
-std::string variant_name(Variant v) { return v == Variant::lasso ? "lasso" : "least-angle"; }
+std::string variant_name(Variant v) {
+  return v == Variant::lasso ? "lasso" : "least-angle";
+}
 
 std::string constraint_name(SignConstraint c) {
   switch (c) {
-    case SignConstraint::nonnegative: return "nonnegative";
-    case SignConstraint::nonpositive: return "nonpositive";
-    case SignConstraint::none: break;
+    case SignConstraint::nonnegative:
+      return "nonnegative";
+    case SignConstraint::nonpositive:
+      return "nonpositive";
+    case SignConstraint::none:
+      break;
   }
   return "none";
 }
 
 std::string stop_explanation(StopReason reason) {
   switch (reason) {
-    case StopReason::completed: return "the path reached penalty 0";
-    case StopReason::max_knots: return "the knot limit (--max-knots) was reached";
-    case StopReason::min_penalty: return "the penalty floor (--min-penalty) was reached";
-    case StopReason::max_active: return "the active-set limit (--max-active) was reached";
+    case StopReason::completed:
+      return "the path reached penalty 0";
+    case StopReason::max_knots:
+      return "the knot limit (--max-knots) was reached";
+    case StopReason::min_penalty:
+      return "the penalty floor (--min-penalty) was reached";
+    case StopReason::max_active:
+      return "the active-set limit (--max-active) was reached";
     case StopReason::step_limit:
-      return "the safety bound on homotopy steps was hit: numerical trouble, the path is incomplete";
+      return "the safety bound on homotopy steps was hit: numerical trouble, the path is "
+             "incomplete";
   }
   return "?";
 }
@@ -240,34 +252,32 @@ void write_knot_table(std::ostream& out, const Path<Scalar>& path,
   }
 }
 
-template <class Scalar>
-nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext& context) {
-  const auto& names = context.predictor_names;
-  const auto& prep = path.preparation();
-  const auto& options = path.options();
-  JsonNumbers<Scalar> numbers;  // for the top-level members
-  json doc;
-  doc["format"] = "knotpath-path";
-  doc["format_version"] = 1;
-  doc["program"] = {{"name", "knotpath"}, {"version", context.program_version}};
-  if constexpr (!is_double_v<Scalar>) {
-    json precision;
-    precision["arithmetic"] = arithmetic_name<Scalar>();
-    if constexpr (detail::is_exact_v<Scalar>)
-      precision["digits"] = nullptr;
-    else if constexpr (is_mpfr_v<Scalar>)
-      precision["digits"] = Scalar::default_precision();
-    else
-      precision["digits"] = std::numeric_limits<Scalar>::digits10;
-    precision["exact"] = detail::is_exact_v<Scalar>;
-    precision["numbers"] = detail::is_exact_v<Scalar>
-                               ? "strings holding exact fractions p/q; \"decimal\" members hold "
-                                 "the nearest doubles"
-                               : "strings holding every digit of the arithmetic; \"decimal\" "
-                                 "members hold the nearest doubles";
-    doc["precision"] = precision;
-  }
+namespace {
 
+// The arithmetic of a path other than double and how its numbers are written.
+template <class Scalar>
+json precision_json() {
+  json precision;
+  precision["arithmetic"] = arithmetic_name<Scalar>();
+  if constexpr (detail::is_exact_v<Scalar>)
+    precision["digits"] = nullptr;
+  else if constexpr (is_mpfr_v<Scalar>)
+    precision["digits"] = Scalar::default_precision();
+  else
+    precision["digits"] = std::numeric_limits<Scalar>::digits10;
+  precision["exact"] = detail::is_exact_v<Scalar>;
+  precision["numbers"] = detail::is_exact_v<Scalar>
+                             ? "strings holding exact fractions p/q; \"decimal\" members hold "
+                               "the nearest doubles"
+                             : "strings holding every digit of the arithmetic; \"decimal\" "
+                               "members hold the nearest doubles";
+  return precision;
+}
+
+// The data: where they came from, the rows used and the response's summary.
+template <class Scalar>
+json data_json(const Path<Scalar>& path, const RunContext& context) {
+  const auto& prep = path.preparation();
   json data;
   JsonNumbers<Scalar> data_numbers;
   data["source"] = context.source;
@@ -277,14 +287,19 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
   data["rows_dropped_missing"] = context.rows_dropped;
   data["rows_used"] = prep.used_observations;
   data_numbers.put(data, "weight_sum", prep.weight_sum);
-  data["predictors"] = names;
+  data["predictors"] = context.predictor_names;
   data["text_columns_skipped"] = context.text_columns;
   data["columns_not_used"] = context.unused_columns;
   data_numbers.put(data, "response_mean", prep.response_mean);
   data_numbers.put(data, "total_sum_of_squares", prep.total_sum_of_squares);
   data_numbers.finish(data);
-  doc["data"] = data;
+  return data;
+}
 
+// The trace options, with the penalty factor and sign constraint of every predictor.
+template <class Scalar>
+json options_json(const Path<Scalar>& path, const std::vector<std::string>& names) {
+  const auto& options = path.options();
   json opts;
   opts["variant"] = variant_name(options.variant);
   opts["intercept"] = options.fit_intercept;
@@ -301,78 +316,78 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
   opts["max_knots"] = options.max_knots;
   opts["min_penalty"] = options.min_penalty;
   opts["max_active"] = options.max_active;
-  doc["options"] = opts;
+  return opts;
+}
 
-  numbers.put(doc, "lambda_max", path.lambda_max());
-  doc["mu_max"] = mu_as_double(path, path.lambda_max());
-  doc["stop_reason"] = to_string(path.stop_reason());
-  doc["stop_explanation"] = stop_explanation(path.stop_reason());
-  doc["worst_condition_estimate"] = path.worst_condition_estimate();
-  if (!is_double_v<Scalar> || path.suspect()) {
-    json health;
-    health["suspect"] = path.suspect();
-    health["worst_estimated_error"] = path.worst_estimated_error();
-    health["suspect_threshold"] = options.suspect_threshold;
-    json steps = json::array();
-    for (const auto& k : path.knots())
-      if (k.suspect) steps.push_back(k.step);
-    health["suspect_steps"] = steps;
-    health["advice"] = path.suspect() ? json(suspect_advice<Scalar>(context)) : json(nullptr);
-    doc["health"] = health;
-  }
+// The numerical health of the path: suspect steps and advice.
+template <class Scalar>
+json health_json(const Path<Scalar>& path, const RunContext& context) {
+  json health;
+  health["suspect"] = path.suspect();
+  health["worst_estimated_error"] = path.worst_estimated_error();
+  health["suspect_threshold"] = path.options().suspect_threshold;
+  json steps = json::array();
+  for (const auto& k : path.knots())
+    if (k.suspect) steps.push_back(k.step);
+  health["suspect_steps"] = steps;
+  health["advice"] = path.suspect() ? json(suspect_advice<Scalar>(context)) : json(nullptr);
+  return health;
+}
 
-  json knots = json::array();
-  json events = json::array();
-  for (const auto& knot : path.knots()) {
-    json k;
-    JsonNumbers<Scalar> knot_numbers;
-    k["step"] = knot.step;
-    knot_numbers.put(k, "penalty", knot.penalty);
-    k["mu"] = mu_as_double(path, knot.penalty);
-    k["event"] = event_name(path, knot);
-    k["predictor"] = knot.predictor >= 0 ? json(name_of(names, knot.predictor)) : json(nullptr);
-    k["active"] = knot.active;
-    knot_numbers.put(k, "l1_norm", knot.l1_norm);
-    const auto r2 = r_squared(path, knot.rss);
-    if (r2)
-      knot_numbers.put(k, "r_squared", *r2);
-    else
-      knot_numbers.put_null(k, "r_squared");
-    knot_numbers.put(k, "rss", knot.rss);
-    knot_numbers.put(k, "intercept", knot.intercept);
-    json coefficients = json::object();
-    json decimal_coefficients = json::object();
-    for (const auto& [j, value] : knot.coefficients) {
-      if constexpr (is_double_v<Scalar>) {
-        coefficients[name_of(names, j)] = value;
-      } else {
-        coefficients[name_of(names, j)] = number_text(value);
-        decimal_coefficients[name_of(names, j)] = nearest_double(value);
-      }
-    }
-    knot_numbers.put_coefficients(k, coefficients, decimal_coefficients);
-    knot_numbers.finish(k);
-    knots.push_back(k);
-    if (knot.event == EventKind::enter || knot.event == EventKind::leave) {
-      json e;
-      JsonNumbers<Scalar> event_numbers;
-      e["step"] = knot.step;
-      event_numbers.put(e, "penalty", knot.penalty);
-      e["mu"] = mu_as_double(path, knot.penalty);
-      e["event"] = to_string(knot.event);
-      e["predictor"] = name_of(names, knot.predictor);
-      e["sign"] = knot.sign;
-      event_numbers.finish(e);
-      events.push_back(e);
+// One knot: penalty, event, fit and the nonzero coefficients.
+template <class Scalar>
+json knot_json(const Path<Scalar>& path, const Knot<Scalar>& knot,
+               const std::vector<std::string>& names) {
+  json k;
+  JsonNumbers<Scalar> knot_numbers;
+  k["step"] = knot.step;
+  knot_numbers.put(k, "penalty", knot.penalty);
+  k["mu"] = mu_as_double(path, knot.penalty);
+  k["event"] = event_name(path, knot);
+  k["predictor"] = knot.predictor >= 0 ? json(name_of(names, knot.predictor)) : json(nullptr);
+  k["active"] = knot.active;
+  knot_numbers.put(k, "l1_norm", knot.l1_norm);
+  const auto r2 = r_squared(path, knot.rss);
+  if (r2)
+    knot_numbers.put(k, "r_squared", *r2);
+  else
+    knot_numbers.put_null(k, "r_squared");
+  knot_numbers.put(k, "rss", knot.rss);
+  knot_numbers.put(k, "intercept", knot.intercept);
+  json coefficients = json::object();
+  json decimal_coefficients = json::object();
+  for (const auto& [j, value] : knot.coefficients) {
+    if constexpr (is_double_v<Scalar>) {
+      coefficients[name_of(names, j)] = value;
+    } else {
+      coefficients[name_of(names, j)] = number_text(value);
+      decimal_coefficients[name_of(names, j)] = nearest_double(value);
     }
   }
-  doc["knots"] = knots;
-  doc["events"] = events;
+  knot_numbers.put_coefficients(k, coefficients, decimal_coefficients);
+  knot_numbers.finish(k);
+  return k;
+}
 
-  json excluded = json::array();
-  for (const auto& e : path.excluded())
-    excluded.push_back({{"predictor", name_of(names, e.predictor)}, {"reason", e.reason}});
-  doc["excluded"] = excluded;
+// One enter or leave event.
+template <class Scalar>
+json event_json(const Path<Scalar>& path, const Knot<Scalar>& knot,
+                const std::vector<std::string>& names) {
+  json e;
+  JsonNumbers<Scalar> event_numbers;
+  e["step"] = knot.step;
+  event_numbers.put(e, "penalty", knot.penalty);
+  e["mu"] = mu_as_double(path, knot.penalty);
+  e["event"] = to_string(knot.event);
+  e["predictor"] = name_of(names, knot.predictor);
+  e["sign"] = knot.sign;
+  event_numbers.finish(e);
+  return e;
+}
+
+// The predictors held out as collinear, where and why.
+template <class Scalar>
+json held_out_json(const Path<Scalar>& path, const std::vector<std::string>& names) {
   json held = json::array();
   for (const auto& h : path.held_out()) {
     json o;
@@ -385,7 +400,42 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
     held_numbers.finish(o);
     held.push_back(o);
   }
-  doc["held_out"] = held;
+  return held;
+}
+
+}  // namespace
+
+template <class Scalar>
+nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext& context) {
+  const auto& names = context.predictor_names;
+  JsonNumbers<Scalar> numbers;  // for the top-level members
+  json doc;
+  doc["format"] = "knotpath-path";
+  doc["format_version"] = 1;
+  doc["program"] = {{"name", "knotpath"}, {"version", context.program_version}};
+  if constexpr (!is_double_v<Scalar>) doc["precision"] = precision_json<Scalar>();
+  doc["data"] = data_json(path, context);
+  doc["options"] = options_json(path, names);
+  numbers.put(doc, "lambda_max", path.lambda_max());
+  doc["mu_max"] = mu_as_double(path, path.lambda_max());
+  doc["stop_reason"] = to_string(path.stop_reason());
+  doc["stop_explanation"] = stop_explanation(path.stop_reason());
+  doc["worst_condition_estimate"] = path.worst_condition_estimate();
+  if (!is_double_v<Scalar> || path.suspect()) doc["health"] = health_json(path, context);
+  json knots = json::array();
+  json events = json::array();
+  for (const auto& knot : path.knots()) {
+    knots.push_back(knot_json(path, knot, names));
+    if (knot.event == EventKind::enter || knot.event == EventKind::leave)
+      events.push_back(event_json(path, knot, names));
+  }
+  doc["knots"] = knots;
+  doc["events"] = events;
+  json excluded = json::array();
+  for (const auto& e : path.excluded())
+    excluded.push_back({{"predictor", name_of(names, e.predictor)}, {"reason", e.reason}});
+  doc["excluded"] = excluded;
+  doc["held_out"] = held_out_json(path, names);
   if constexpr (!is_double_v<Scalar>) numbers.finish(doc);
   return doc;
 }
@@ -394,10 +444,10 @@ template <class Scalar>
 std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   const auto& names = context.predictor_names;
   const bool suspect = path.suspect();
-  std::string out = fmt::format(
-      "{} path of {} on {} predictors, {} rows used ({})\n",
-      path.options().variant == Variant::lasso ? "lasso" : "least-angle", context.response,
-      names.size(), path.preparation().used_observations, context.source);
+  std::string out = fmt::format("{} path of {} on {} predictors, {} rows used ({})\n",
+                                path.options().variant == Variant::lasso ? "lasso" : "least-angle",
+                                context.response, names.size(),
+                                path.preparation().used_observations, context.source);
   if constexpr (!is_double_v<Scalar>)
     out += fmt::format("arithmetic: {} (numbers below are rounded for display)\n",
                        arithmetic_name<Scalar>());
@@ -408,17 +458,17 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   // eight columns of format_version 1).
   const int columns = suspect ? 9 : 8;
   std::vector<Row> rows;
-  rows.push_back({{"step", "penalty", "mu", "event", "predictor", "active", "l1_norm", "R^2",
-                   "health"}});
+  rows.push_back(
+      {{"step", "penalty", "mu", "event", "predictor", "active", "l1_norm", "R^2", "health"}});
   for (const auto& knot : path.knots()) {
     const auto r2 = r_squared(path, knot.rss);
-    rows.push_back({{fmt::format("{}", knot.step), fmt::format("{:.6g}", nearest_double(knot.penalty)),
-                     fmt::format("{:.6g}", mu_as_double(path, knot.penalty)),
-                     event_name(path, knot), name_of(names, knot.predictor),
-                     fmt::format("{}", knot.active),
-                     fmt::format("{:.6g}", nearest_double(knot.l1_norm)),
-                     r2 ? fmt::format("{:.4f}", nearest_double(*r2)) : std::string("-"),
-                     knot.suspect ? "suspect" : ""}});
+    rows.push_back(
+        {{fmt::format("{}", knot.step), fmt::format("{:.6g}", nearest_double(knot.penalty)),
+          fmt::format("{:.6g}", mu_as_double(path, knot.penalty)), event_name(path, knot),
+          name_of(names, knot.predictor), fmt::format("{}", knot.active),
+          fmt::format("{:.6g}", nearest_double(knot.l1_norm)),
+          r2 ? fmt::format("{:.4f}", nearest_double(*r2)) : std::string("-"),
+          knot.suspect ? "suspect" : ""}});
   }
   std::size_t width[9] = {};
   for (const auto& r : rows)
@@ -442,8 +492,8 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   for (const auto& e : path.excluded())
     out += fmt::format("excluded: {} ({})\n", name_of(names, e.predictor), e.reason);
   for (const auto& h : path.held_out())
-    out += fmt::format("held out: {} at step {} (penalty {:.6g}): {}\n", name_of(names, h.predictor),
-                       h.step, nearest_double(h.penalty),
+    out += fmt::format("held out: {} at step {} (penalty {:.6g}): {}\n",
+                       name_of(names, h.predictor), h.step, nearest_double(h.penalty),
                        h.saturated ? "the active set already had as many columns as usable rows"
                                    : "its column is numerically in the span of the active columns");
   if (!context.text_columns.empty()) {
@@ -501,17 +551,17 @@ std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scala
 }
 
 // The scalar types the reports are compiled for (see report.hpp).
-#define KNOTPATH_REPORTS_FOR(Scalar)                                                            \
-  template std::string number_text<Scalar>(const Scalar&);                                      \
-  template double nearest_double<Scalar>(const Scalar&);                                        \
-  template std::string arithmetic_name<Scalar>();                                               \
-  template double mu_as_double<Scalar>(const Path<Scalar>&, const Scalar&);                \
-  template std::optional<Scalar> r_squared<Scalar>(const Path<Scalar>&, const Scalar&);         \
-  template void write_knot_table<Scalar>(std::ostream&, const Path<Scalar>&,                    \
-                                         const std::vector<std::string>&);                      \
+#define KNOTPATH_REPORTS_FOR(Scalar)                                                             \
+  template std::string number_text<Scalar>(const Scalar&);                                       \
+  template double nearest_double<Scalar>(const Scalar&);                                         \
+  template std::string arithmetic_name<Scalar>();                                                \
+  template double mu_as_double<Scalar>(const Path<Scalar>&, const Scalar&);                      \
+  template std::optional<Scalar> r_squared<Scalar>(const Path<Scalar>&, const Scalar&);          \
+  template void write_knot_table<Scalar>(std::ostream&, const Path<Scalar>&,                     \
+                                         const std::vector<std::string>&);                       \
   template nlohmann::ordered_json path_document<Scalar>(const Path<Scalar>&, const RunContext&); \
-  template std::string audit_text<Scalar>(const Path<Scalar>&, const RunContext&);              \
-  template std::string coefficient_table<Scalar>(const Solution<Scalar>&, const Path<Scalar>&,  \
+  template std::string audit_text<Scalar>(const Path<Scalar>&, const RunContext&);               \
+  template std::string coefficient_table<Scalar>(const Solution<Scalar>&, const Path<Scalar>&,   \
                                                  const std::vector<std::string>&, bool);
 
 KNOTPATH_REPORTS_FOR(double)
@@ -574,6 +624,8 @@ void write_atomically(const std::filesystem::path& target,
   }
 }
 
-std::string suspect_advice_text(const RunContext& context) { return suspect_advice<double>(context); }
+std::string suspect_advice_text(const RunContext& context) {
+  return suspect_advice<double>(context);
+}
 
 }  // namespace knotpath::io

@@ -2,6 +2,8 @@
 
 #include "knotpath/io/table.hpp"
 
+#include "table_records.hpp"
+
 #include <algorithm>
 #include <charconv>
 #include <cmath>
@@ -59,199 +61,14 @@ Index Table::find(const std::string& name) const {
   return -1;
 }
 
-Vector<double> Table::column_vector(Index j) const {
-  const NumericColumn& c = columns.at(static_cast<std::size_t>(j));
-  Vector<double> v(static_cast<Index>(c.size()));
-  for (std::size_t i = 0; i < c.size(); ++i) v(static_cast<Index>(i)) = c[i];
-  return v;
-}
-
-Matrix<double> Table::take_matrix(const std::vector<Index>& which) {
-  Matrix<double> m(static_cast<Index>(rows), static_cast<Index>(which.size()));
-  for (std::size_t k = 0; k < which.size(); ++k) {
-    NumericColumn& c = columns.at(static_cast<std::size_t>(which[k]));
-    if (c.size() != rows) throw std::logic_error("take_matrix: column already taken");
-    c.move_into(m.col(static_cast<Index>(k)).data());
-  }
-  return m;
+std::size_t Table::checked_column(Index j, const char* what) const {
+  if (j < 0 || static_cast<std::size_t>(j) >= columns.size())
+    throw invalid_query(std::string(what) + ": the table has no column " + std::to_string(j) +
+                        " (it has " + std::to_string(columns.size()) + ")");
+  return static_cast<std::size_t>(j);
 }
 
 namespace {
-
-constexpr int end_of_input = -1;
-
-// Buffered character source that counts bytes consumed.
-class CharSource {
- public:
-  explicit CharSource(std::istream& in) : in_(in), buffer_(1u << 16) {}
-
-  int peek() {
-    if (pos_ == end_ && !fill()) return end_of_input;
-    return static_cast<unsigned char>(buffer_[pos_]);
-  }
-  int get() {
-    if (pos_ == end_ && !fill()) return end_of_input;
-    ++consumed_;
-    return static_cast<unsigned char>(buffer_[pos_++]);
-  }
-  std::size_t consumed() const noexcept { return consumed_; }
-  bool failed() const { return in_.bad(); }
-
-  // Makes at least `count` bytes available when the input has them; returns
-  // the view of what is buffered (for the BOM check and delimiter detection).
-  std::pair<const char*, std::size_t> lookahead(std::size_t count) {
-    if (end_ - pos_ < count) {
-      std::memmove(buffer_.data(), buffer_.data() + pos_, end_ - pos_);
-      end_ -= pos_;
-      pos_ = 0;
-      while (end_ < count && end_ < buffer_.size()) {
-        in_.read(buffer_.data() + end_, static_cast<std::streamsize>(buffer_.size() - end_));
-        const auto got = static_cast<std::size_t>(in_.gcount());
-        if (got == 0) break;
-        end_ += got;
-      }
-    }
-    return {buffer_.data() + pos_, end_ - pos_};
-  }
-  void skip(std::size_t count) {
-    pos_ += count;
-    consumed_ += count;
-  }
-
- private:
-  bool fill() {
-    if (!in_) return false;
-    in_.read(buffer_.data(), static_cast<std::streamsize>(buffer_.size()));
-    end_ = static_cast<std::size_t>(in_.gcount());
-    pos_ = 0;
-    return end_ > 0;
-  }
-
-  std::istream& in_;
-  std::vector<char> buffer_;
-  std::size_t pos_ = 0, end_ = 0;
-  std::size_t consumed_ = 0;
-};
-
-struct Field {
-  std::string text;
-  bool quoted = false;
-  std::size_t line = 0;
-};
-
-// Splits the input into records. Line numbers are physical lines, 1-based.
-class RecordReader {
- public:
-  RecordReader(CharSource& source, std::string name, char delimiter)
-      : in_(source), name_(std::move(name)), delimiter_(delimiter) {}
-
-  // Fields past this many are parsed and counted but not kept (their text
-  // goes to one scratch field), so a huge row costs no memory per field.
-  void keep_at_most(std::size_t fields) { keep_ = fields; }
-
-  // Reads the next non-blank record into fields[0 .. min(count, keep)); false
-  // at the end. count is the record's full number of fields.
-  bool next(std::vector<Field>& fields, std::size_t& count) {
-    count = 0;
-    for (;;) {  // skip blank lines
-      const int c = in_.peek();
-      if (c == '\n' || c == '\r') {
-        consume_line_end();
-        continue;
-      }
-      if (c == end_of_input) {
-        check_failure();
-        return false;
-      }
-      break;
-    }
-    record_line_ = line_;
-    for (;;) {
-      if (count < keep_ && count == fields.size()) fields.emplace_back();
-      Field& f = count < keep_ ? fields[count] : scratch_;
-      f.text.clear();
-      f.quoted = false;
-      f.line = line_;
-      int c = in_.peek();
-      if (c == '"') {
-        in_.get();
-        f.quoted = true;
-        const std::size_t open_line = line_;
-        for (;;) {
-          c = in_.get();
-          if (c == end_of_input) {
-            check_failure();
-            throw table_error(table_error::Kind::content, name_, open_line, count + 1,
-                              "unterminated quoted field (the quote opened here is never closed)");
-          }
-          if (c == '"') {
-            if (in_.peek() == '"') {
-              in_.get();
-              f.text.push_back('"');
-              continue;
-            }
-            break;
-          }
-          if (c == '\n' || (c == '\r' && in_.peek() != '\n')) ++line_;
-          f.text.push_back(static_cast<char>(c));
-        }
-        while (in_.peek() == ' ' && delimiter_ != ' ') in_.get();
-        c = in_.peek();
-        ++count;
-        if (c == delimiter_) {
-          in_.get();
-          continue;
-        }
-        if (c == '\n' || c == '\r' || c == end_of_input) break;
-        throw table_error(table_error::Kind::content, name_, line_, count,
-                          "unexpected text after the closing quote of a quoted field");
-      }
-      for (;;) {
-        c = in_.peek();
-        if (c == end_of_input || c == '\n' || c == '\r' || c == delimiter_) break;
-        f.text.push_back(static_cast<char>(in_.get()));
-      }
-      ++count;
-      if (c == delimiter_) {
-        in_.get();
-        continue;
-      }
-      break;
-    }
-    consume_line_end();
-    return true;
-  }
-
-  std::size_t record_line() const noexcept { return record_line_; }
-  std::size_t line() const noexcept { return line_; }
-
- private:
-  void consume_line_end() {
-    const int c = in_.peek();
-    if (c == '\r') {
-      in_.get();
-      if (in_.peek() == '\n') in_.get();
-      ++line_;
-    } else if (c == '\n') {
-      in_.get();
-      ++line_;
-    } else {
-      check_failure();
-    }
-  }
-  void check_failure() {
-    if (in_.failed())
-      throw table_error(table_error::Kind::input_output, name_, line_, 0, "read error");
-  }
-
-  CharSource& in_;
-  std::string name_;
-  char delimiter_;
-  std::size_t line_ = 1;
-  std::size_t record_line_ = 1;
-  std::size_t keep_ = static_cast<std::size_t>(-1);
-  Field scratch_;
-};
 
 std::string_view trim(std::string_view s) {
   while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
@@ -267,8 +84,8 @@ Parse parse_number(std::string_view cell, double& value) {
   std::string_view body = cell;
   if (body.size() > 1 && body.front() == '+') body.remove_prefix(1);
   if (body.empty() || body.front() == '+') return Parse::text;
-  const auto [end, ec] = std::from_chars(body.data(), body.data() + body.size(), value,
-                                         std::chars_format::general);
+  const auto [end, ec] =
+      std::from_chars(body.data(), body.data() + body.size(), value, std::chars_format::general);
   if (end != body.data() + body.size() || ec == std::errc::invalid_argument) return Parse::text;
   if (ec == std::errc::result_out_of_range) {
     // Overflow is an error; underflow rounds toward zero as strtod does.
@@ -298,15 +115,18 @@ char detect_delimiter(std::string_view head) {
 }
 
 // Text of a cell or name as shown in a message: control bytes and bytes that
-// are not well-formed UTF-8 escaped as \xNN, and cut to 60 bytes (a message never quotes megabytes).
+// are not well-formed UTF-8 escaped as \xNN, and cut to 60 bytes (a message never quotes
+// megabytes).
 std::string shown(std::string_view s) {
   constexpr std::size_t limit = 60;
   std::string out;
   for (std::size_t i = 0; i < s.size() && i < limit; ++i) {
     const auto c = static_cast<unsigned char>(s[i]);
     // A well-formed UTF-8 sequence is kept whole (names may be in any script).
-    const std::size_t extra = c >= 0xC2 && c <= 0xDF ? 1 : c >= 0xE0 && c <= 0xEF ? 2
-                              : c >= 0xF0 && c <= 0xF4 ? 3 : 0;
+    const std::size_t extra = c >= 0xC2 && c <= 0xDF   ? 1
+                              : c >= 0xE0 && c <= 0xEF ? 2
+                              : c >= 0xF0 && c <= 0xF4 ? 3
+                                                       : 0;
     if (extra > 0 && i + extra < s.size()) {
       bool well_formed = true;
       for (std::size_t k = 1; k <= extra; ++k)
@@ -330,178 +150,236 @@ std::string shown(std::string_view s) {
   return out;
 }
 
-std::string quoted_name(const std::string& s) { return "\"" + shown(s) + "\""; }
+std::string quoted_name(const std::string& s) {
+  return "\"" + shown(s) + "\"";
+}
 
 enum class ColumnState { skipped, pending, numeric, text };
 
-}  // namespace
+using Kind = table_error::Kind;
+using detail::CharSource;
+using detail::Field;
+using detail::RecordReader;
 
-Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options) {
-  using Kind = table_error::Kind;
+// The delimiter: the one asked for, else detected from the header row
+// (after skipping a UTF-8 byte order mark).
+char choose_delimiter(CharSource& chars, const TableReadOptions& options) {
   if (options.delimiter != 0 && options.delimiter != ',' && options.delimiter != ';' &&
       options.delimiter != '\t')
-    throw std::invalid_argument("read_table: the delimiter must be ',', ';' or a tab");
-  Table table;
-  table.source = source;
-  CharSource chars(in);
+    throw invalid_option("delimiter", "must be ',', ';' or a tab");
   {  // UTF-8 byte order mark
     auto [data, size] = chars.lookahead(3);
     if (size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) chars.skip(3);
   }
-  if (options.delimiter != 0) {
-    table.delimiter = options.delimiter;
-  } else {
-    auto [data, size] = chars.lookahead(1u << 16);
-    table.delimiter = detect_delimiter(std::string_view(data, size));
+  if (options.delimiter != 0) return options.delimiter;
+  auto [data, size] = chars.lookahead(1u << 16);
+  return detect_delimiter(std::string_view(data, size));
+}
+
+// The header row: column names (trimmed, non-empty, distinct) and where each is.
+struct Header {
+  std::string source;
+  std::size_t line = 1;  // physical line of the header row
+  std::vector<std::string> names;
+  std::unordered_map<std::string, std::size_t> position;  // name -> position
+
+  std::size_t width() const { return names.size(); }
+
+  // Position of a column the options name; an unknown name is an error
+  // listing (the first 20 of) the header.
+  std::size_t find(const std::string& name) const {
+    if (const auto at = position.find(name); at != position.end()) return at->second;
+    const std::size_t w = width();
+    std::string list;
+    for (std::size_t j = 0; j < w && j < 20; ++j) list += (j ? ", " : "") + shown(names[j]);
+    if (w > 20) list += ", ... (" + std::to_string(w) + " columns)";
+    throw table_error(Kind::content, source, line, 0,
+                      "unknown column " + quoted_name(name) + " (the header has: " + list + ")");
   }
-  RecordReader reader(chars, source, table.delimiter);
-  reader.keep_at_most(options.max_columns);
-  std::vector<Field> fields;
+};
+
+Header read_header(RecordReader& reader, std::vector<Field>& fields, const std::string& source,
+                   const TableReadOptions& options) {
   std::size_t count = 0;
   if (!reader.next(fields, count))
     throw table_error(Kind::content, source, 1, 0, "the table is empty (no header row)");
-
-  // Header.
-  const std::size_t width = count;
-  if (width > options.max_columns)
-    throw table_error(Kind::content, source, reader.record_line(), 0,
-                      "the header has " + std::to_string(width) + " columns, more than the limit of " +
+  Header h;
+  h.source = source;
+  h.line = reader.record_line();
+  if (count > options.max_columns)
+    throw table_error(Kind::content, source, h.line, 0,
+                      "the header has " + std::to_string(count) +
+                          " columns, more than the limit of " +
                           std::to_string(options.max_columns) + " (raise it with --max-columns)");
-  std::vector<std::string> header(width);
-  std::unordered_map<std::string, std::size_t> header_position;  // name -> first position
-  for (std::size_t j = 0; j < width; ++j) {
-    header[j] = std::string(trim(fields[j].text));
-    if (header[j].empty())
-      throw table_error(Kind::content, source, reader.record_line(), j + 1,
+  h.names.resize(count);
+  for (std::size_t j = 0; j < count; ++j) {
+    h.names[j] = std::string(trim(fields[j].text));
+    if (h.names[j].empty())
+      throw table_error(Kind::content, source, h.line, j + 1,
                         "the header has an empty column name");
-    const auto [at, fresh] = header_position.emplace(header[j], j);
+    const auto [at, fresh] = h.position.emplace(h.names[j], j);
     if (!fresh)
-      throw table_error(Kind::content, source, reader.record_line(), j + 1,
-                        "duplicate column name " + quoted_name(header[j]) + " (also column " +
+      throw table_error(Kind::content, source, h.line, j + 1,
+                        "duplicate column name " + quoted_name(h.names[j]) + " (also column " +
                             std::to_string(at->second + 1) + ")");
   }
-  reader.keep_at_most(width);
-  auto position = [&](const std::string& name) -> std::size_t {
-    if (const auto at = header_position.find(name); at != header_position.end()) return at->second;
-    std::string list;
-    for (std::size_t j = 0; j < width && j < 20; ++j) list += (j ? ", " : "") + shown(header[j]);
-    if (width > 20) list += ", ... (" + std::to_string(width) + " columns)";
-    throw table_error(Kind::content, source, reader.record_line(), 0,
-                      "unknown column " + quoted_name(name) + " (the header has: " + list + ")");
-  };
-  std::vector<ColumnState> state(width, options.only.empty() ? ColumnState::pending
-                                                             : ColumnState::skipped);
-  std::vector<char> asked(width, 0);  // required or listed in `only`
+  return h;
+}
+
+// Which columns are read: state per header position, and whether the
+// options asked for it (required or listed in `only`).
+struct ColumnPlan {
+  std::vector<ColumnState> state;
+  std::vector<char> asked;
+};
+
+ColumnPlan select_columns(const Header& header, const TableReadOptions& options) {
+  const std::size_t width = header.width();
+  ColumnPlan plan;
+  plan.state.assign(width, options.only.empty() ? ColumnState::pending : ColumnState::skipped);
+  plan.asked.assign(width, 0);
   for (const auto& name : options.only) {
-    const std::size_t j = position(name);
-    state[j] = ColumnState::pending;
-    asked[j] = 1;
+    const std::size_t j = header.find(name);
+    plan.state[j] = ColumnState::pending;
+    plan.asked[j] = 1;
   }
   for (const auto& name : options.required) {
-    const std::size_t j = position(name);
-    state[j] = ColumnState::pending;
-    asked[j] = 1;
+    const std::size_t j = header.find(name);
+    plan.state[j] = ColumnState::pending;
+    plan.asked[j] = 1;
   }
   for (const auto& name : options.skip) {
-    const std::size_t j = position(name);
+    const std::size_t j = header.find(name);
     if (std::find(options.required.begin(), options.required.end(), name) == options.required.end())
-      state[j] = ColumnState::skipped;
+      plan.state[j] = ColumnState::skipped;
   }
-  for (std::size_t j = 0; j < width; ++j)
-    if (state[j] == ColumnState::skipped) table.skipped_columns.push_back(header[j]);
+  return plan;
+}
 
-  // Data rows.
-  std::vector<std::size_t> slot(width, 0);  // numeric column index once typed
-  std::vector<std::size_t> slot_position;   // header position of each slot
-  std::vector<double> row_value(width, 0.0);
-  std::vector<char> row_has(width, 0);
-  std::size_t data_rows_seen = 0;
-  while (reader.next(fields, count)) {
-    ++data_rows_seen;
-    const std::size_t line = reader.record_line();
-    if (count != width)
-      throw table_error(Kind::content, source, line, std::min(count, width) + 1,
-                        "this row has " + std::to_string(count) + " fields but the header has " +
-                            std::to_string(width) + " (ragged row)");
+// Reads the data rows into a table: types each pending column by its first
+// data cell, checks every cell read, drops or refuses rows with missing cells.
+class RowReader {
+ public:
+  RowReader(const Header& header, ColumnPlan plan, const TableReadOptions& options, Table& table)
+      : header_(header),
+        plan_(std::move(plan)),
+        options_(options),
+        table_(table),
+        slot_(header.width(), 0),
+        row_value_(header.width(), 0.0),
+        row_has_(header.width(), 0) {}
+
+  // Reads every row; returns the number of data rows seen (kept or dropped).
+  std::size_t read(RecordReader& reader, std::vector<Field>& fields, const CharSource& chars) {
+    const std::size_t width = header_.width();
+    std::size_t count = 0, seen = 0;
+    while (reader.next(fields, count)) {
+      ++seen;
+      if (count != width)
+        throw table_error(Kind::content, header_.source, reader.record_line(),
+                          std::min(count, width) + 1,
+                          "this row has " + std::to_string(count) + " fields but the header has " +
+                              std::to_string(width) + " (ragged row)");
+      if (parse_row(fields)) {
+        ++table_.dropped_rows;
+        continue;
+      }
+      keep_row(fields);
+      ++table_.rows;
+      if (options_.progress && (table_.rows & 0xFFFF) == 0)
+        options_.progress(chars.consumed(), table_.rows);
+    }
+    return seen;
+  }
+
+  // Header position of each numeric column, in the order they were typed.
+  const std::vector<std::size_t>& slot_position() const { return slot_position_; }
+
+ private:
+  // Parses the cells read into row_value_/row_has_; true when the row is dropped.
+  bool parse_row(const std::vector<Field>& fields) {
     bool drop = false;
-    for (std::size_t j = 0; j < width; ++j) {
-      row_has[j] = 0;
-      if (state[j] == ColumnState::skipped || state[j] == ColumnState::text) continue;
-      const std::string_view cell = trim(fields[j].text);
-      const std::size_t cell_line = fields[j].line;
-      double value = 0;
-      switch (parse_number(cell, value)) {
-        case Parse::number:
-          row_value[j] = value;
-          row_has[j] = 1;
-          break;
-        case Parse::missing:
-          if (options.missing == MissingCells::error)
-            throw table_error(Kind::content, source, cell_line, j + 1,
-                              std::string(cell.empty() ? "empty cell" : "missing value \"NA\"") +
-                                  " in column " + quoted_name(header[j]) +
-                                  " (use --missing drop to drop incomplete rows)");
-          drop = true;
-          break;
-        case Parse::not_finite:
-          throw table_error(Kind::content, source, cell_line, j + 1,
-                            "cell \"" + shown(cell) + "\" in column " +
-                                quoted_name(header[j]) + " is not a finite number (NaN and infinite "
-                                "values are not accepted)");
-        case Parse::overflow:
-          throw table_error(Kind::content, source, cell_line, j + 1,
-                            "cell \"" + shown(cell) + "\" in column " +
-                                quoted_name(header[j]) + " is too large for a double");
-        case Parse::text:
-          if (state[j] == ColumnState::pending) {
-            if (asked[j])
-              throw table_error(Kind::content, source, cell_line, j + 1,
-                                "column " + quoted_name(header[j]) +
-                                    " is a text column (its first data cell is \"" +
-                                    shown(cell) + "\") but it was asked for as a number");
-            state[j] = ColumnState::text;
-            table.text_columns.push_back(header[j]);
-            break;
-          }
-          throw table_error(Kind::content, source, cell_line, j + 1,
-                            "cell \"" + shown(cell) + "\" in numeric column " +
-                                quoted_name(header[j]) + " is not a number");
-      }
+    for (std::size_t j = 0; j < header_.width(); ++j) {
+      row_has_[j] = 0;
+      const ColumnState state = plan_.state[j];
+      if (state == ColumnState::skipped || state == ColumnState::text) continue;
+      drop = parse_cell(trim(fields[j].text), fields[j].line, j) || drop;
     }
-    if (drop) {
-      ++table.dropped_rows;
-      continue;
-    }
-    for (std::size_t j = 0; j < width; ++j) {
-      if (!row_has[j]) continue;
-      if (state[j] == ColumnState::pending) {
-        state[j] = ColumnState::numeric;
-        slot[j] = table.columns.size();
-        slot_position.push_back(j);
-        table.columns.emplace_back();
-        table.names.push_back(header[j]);
-        if (options.keep_decimal_text) table.decimal_text.emplace_back();
-      }
-      table.columns[slot[j]].push_back(row_value[j]);
-      if (options.keep_decimal_text)
-        table.decimal_text[slot[j]].emplace_back(trim(fields[j].text));
-    }
-    ++table.rows;
-    if (options.progress && (table.rows & 0xFFFF) == 0) options.progress(chars.consumed(), table.rows);
+    return drop;
   }
-  table.last_line = reader.line();
-  if (data_rows_seen == 0)
-    throw table_error(Kind::content, source, reader.line(), 0,
-                      "the table has a header but no data rows");
-  if (table.rows == 0)
-    throw table_error(Kind::content, source, reader.line(), 0,
-                      "no rows remain after dropping " + std::to_string(table.dropped_rows) +
-                          " rows with missing cells");
-  // Columns still untyped had only missing cells in dropped rows: impossible
-  // once a row was kept, so every pending column is now numeric or text.
 
-  // File order for the numeric columns (discovery order can differ when
-  // rows were dropped before a column's first value).
+  // Cell j of a row; true when it is missing and rows with missing cells are dropped.
+  bool parse_cell(std::string_view cell, std::size_t cell_line, std::size_t j) {
+    const std::string& name = header_.names[j];
+    auto refuse = [&](const std::string& message) {
+      throw table_error(Kind::content, header_.source, cell_line, j + 1, message);
+    };
+    double value = 0;
+    switch (parse_number(cell, value)) {
+      case Parse::number:
+        row_value_[j] = value;
+        row_has_[j] = 1;
+        return false;
+      case Parse::missing:
+        if (options_.missing == MissingCells::error)
+          refuse(std::string(cell.empty() ? "empty cell" : "missing value \"NA\"") + " in column " +
+                 quoted_name(name) + " (use --missing drop to drop incomplete rows)");
+        return true;
+      case Parse::not_finite:
+        refuse("cell \"" + shown(cell) + "\" in column " + quoted_name(name) +
+               " is not a finite number (NaN and infinite values are not accepted)");
+        return false;
+      case Parse::overflow:
+        refuse("cell \"" + shown(cell) + "\" in column " + quoted_name(name) +
+               " is too large for a double");
+        return false;
+      case Parse::text:
+        if (plan_.state[j] != ColumnState::pending)
+          refuse("cell \"" + shown(cell) + "\" in numeric column " + quoted_name(name) +
+                 " is not a number");
+        if (plan_.asked[j])
+          refuse("column " + quoted_name(name) + " is a text column (its first data cell is \"" +
+                 shown(cell) + "\") but it was asked for as a number");
+        plan_.state[j] = ColumnState::text;
+        table_.text_columns.push_back(name);
+        return false;
+    }
+    return false;
+  }
+
+  // Appends the parsed values of a kept row; a pending column becomes numeric
+  // at its first value.
+  void keep_row(const std::vector<Field>& fields) {
+    for (std::size_t j = 0; j < header_.width(); ++j) {
+      if (!row_has_[j]) continue;
+      if (plan_.state[j] == ColumnState::pending) {
+        plan_.state[j] = ColumnState::numeric;
+        slot_[j] = table_.columns.size();
+        slot_position_.push_back(j);
+        table_.columns.emplace_back();
+        table_.names.push_back(header_.names[j]);
+        if (options_.keep_decimal_text) table_.decimal_text.emplace_back();
+      }
+      table_.columns[slot_[j]].push_back(row_value_[j]);
+      if (options_.keep_decimal_text)
+        table_.decimal_text[slot_[j]].emplace_back(trim(fields[j].text));
+    }
+  }
+
+  const Header& header_;
+  ColumnPlan plan_;
+  const TableReadOptions& options_;
+  Table& table_;
+  std::vector<std::size_t> slot_;           // numeric column index once typed
+  std::vector<std::size_t> slot_position_;  // header position of each slot
+  std::vector<double> row_value_;
+  std::vector<char> row_has_;
+};
+
+// The table with its numeric columns in file order (discovery order can
+// differ when rows were dropped before a column's first value).
+Table in_file_order(Table& table, const std::vector<std::size_t>& slot_position,
+                    bool keep_decimal_text) {
   std::vector<std::size_t> order(table.columns.size());
   for (std::size_t k = 0; k < order.size(); ++k) order[k] = k;
   std::sort(order.begin(), order.end(),
@@ -512,13 +390,45 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
   for (std::size_t k : order) {
     sorted.names.push_back(std::move(table.names[k]));
     sorted.columns.push_back(std::move(table.columns[k]));
-    if (options.keep_decimal_text) sorted.decimal_text.push_back(std::move(table.decimal_text[k]));
+    if (keep_decimal_text) sorted.decimal_text.push_back(std::move(table.decimal_text[k]));
   }
   sorted.text_columns = std::move(table.text_columns);
   sorted.skipped_columns = std::move(table.skipped_columns);
   sorted.rows = table.rows;
   sorted.dropped_rows = table.dropped_rows;
   sorted.last_line = table.last_line;
+  return sorted;
+}
+
+}  // namespace
+
+Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options) {
+  CharSource chars(in);
+  Table table;
+  table.source = source;
+  table.delimiter = choose_delimiter(chars, options);
+  RecordReader reader(chars, source, table.delimiter);
+  reader.keep_at_most(options.max_columns);
+  std::vector<Field> fields;
+  const Header header = read_header(reader, fields, source, options);
+  reader.keep_at_most(header.width());
+  ColumnPlan plan = select_columns(header, options);
+  for (std::size_t j = 0; j < header.width(); ++j)
+    if (plan.state[j] == ColumnState::skipped) table.skipped_columns.push_back(header.names[j]);
+
+  RowReader rows(header, std::move(plan), options, table);
+  const std::size_t data_rows_seen = rows.read(reader, fields, chars);
+  table.last_line = reader.line();
+  if (data_rows_seen == 0)
+    throw table_error(Kind::content, source, reader.line(), 0,
+                      "the table has a header but no data rows");
+  if (table.rows == 0)
+    throw table_error(Kind::content, source, reader.line(), 0,
+                      "no rows remain after dropping " + std::to_string(table.dropped_rows) +
+                          " rows with missing cells");
+  // Columns still untyped had only missing cells in dropped rows: impossible
+  // once a row was kept, so every pending column is now numeric or text.
+  Table sorted = in_file_order(table, rows.slot_position(), options.keep_decimal_text);
   if (options.progress) options.progress(chars.consumed(), sorted.rows);
   return sorted;
 }

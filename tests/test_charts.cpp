@@ -51,14 +51,16 @@ bool has_class(const tinyxml2::XMLElement* e, const std::string& cls) {
   return false;
 }
 
-void walk(const tinyxml2::XMLElement* e, const std::function<void(const tinyxml2::XMLElement*)>& f) {
+void walk(const tinyxml2::XMLElement* e,
+          const std::function<void(const tinyxml2::XMLElement*)>& f) {
   for (; e; e = e->NextSiblingElement()) {
     f(e);
     walk(e->FirstChildElement(), f);
   }
 }
 
-std::vector<const tinyxml2::XMLElement*> with_class(const tinyxml2::XMLElement* root, const std::string& cls) {
+std::vector<const tinyxml2::XMLElement*> with_class(const tinyxml2::XMLElement* root,
+                                                    const std::string& cls) {
   std::vector<const tinyxml2::XMLElement*> out;
   walk(root, [&](const tinyxml2::XMLElement* e) {
     if (has_class(e, cls)) out.push_back(e);
@@ -207,8 +209,8 @@ TEST(ChartTicks, LinearTicksAreRoundAscendingAndInsideTheRange) {
     const double step = t[1] - t[0];
     const double mantissa = step / std::pow(10.0, std::floor(std::log10(step)));
     // 1e-9 relative: the step is a difference of two rounded multiples.
-    EXPECT_TRUE(std::abs(mantissa - 1) < 1e-9 || std::abs(mantissa - 2) < 1e-9 || std::abs(mantissa - 5) < 1e-9 ||
-                std::abs(mantissa - 10) < 1e-9)
+    EXPECT_TRUE(std::abs(mantissa - 1) < 1e-9 || std::abs(mantissa - 2) < 1e-9 ||
+                std::abs(mantissa - 5) < 1e-9 || std::abs(mantissa - 10) < 1e-9)
         << "step " << step;
     for (std::size_t i = 0; i < t.size(); ++i) {
       EXPECT_GE(t[i], lo - step * 1e-6);
@@ -223,7 +225,8 @@ TEST(ChartTicks, LinearTicksAreRoundAscendingAndInsideTheRange) {
 }
 
 TEST(ChartTicks, LogTicksArePowersOfTenOrTheir2And5Multiples) {
-  for (auto [lo, hi] : std::vector<std::pair<double, double>>{{0.034, 16.3}, {1e-4, 50}, {0.5, 8}, {1e-12, 1}}) {
+  for (auto [lo, hi] :
+       std::vector<std::pair<double, double>>{{0.034, 16.3}, {1e-4, 50}, {0.5, 8}, {1e-12, 1}}) {
     const auto t = kc::detail::log_ticks(lo, hi);
     ASSERT_GE(t.size(), 2u);
     for (std::size_t i = 0; i < t.size(); ++i) {
@@ -233,7 +236,8 @@ TEST(ChartTicks, LogTicksArePowersOfTenOrTheir2And5Multiples) {
         EXPECT_GT(t[i], t[i - 1]);
       }
       const double m = t[i] / std::pow(10.0, std::floor(std::log10(t[i]) + 1e-12));
-      EXPECT_TRUE(std::abs(m - 1) < 1e-9 || std::abs(m - 2) < 1e-9 || std::abs(m - 5) < 1e-9) << t[i];
+      EXPECT_TRUE(std::abs(m - 1) < 1e-9 || std::abs(m - 2) < 1e-9 || std::abs(m - 5) < 1e-9)
+          << t[i];
     }
   }
 }
@@ -258,7 +262,8 @@ TEST(ChartLabels, SpreadKeepsTheGapTheBoundsAndTheOrder) {
   ASSERT_EQ(z.size(), wanted.size());
   std::vector<std::size_t> order(wanted.size());
   for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
-  std::stable_sort(order.begin(), order.end(), [&](auto a, auto b) { return wanted[a] < wanted[b]; });
+  std::stable_sort(order.begin(), order.end(),
+                   [&](auto a, auto b) { return wanted[a] < wanted[b]; });
   for (std::size_t i = 0; i < order.size(); ++i) {
     EXPECT_GE(z[order[i]], lo - 1e-9);
     EXPECT_LE(z[order[i]], hi + 1e-9);
@@ -298,7 +303,8 @@ TEST(ActivityLanes, OneLanePerActivePredictorInOrderOfEntry) {
   for (std::size_t i = 0; i < lanes.size(); ++i) {
     EXPECT_FALSE(with_class(lanes[i]->FirstChildElement(), "bar").empty());
     std::size_t enters = 0;
-    for (const auto& k : d.path.knots()) enters += k.event == knotpath::EventKind::enter && k.predictor == order[i];
+    for (const auto& k : d.path.knots())
+      enters += k.event == knotpath::EventKind::enter && k.predictor == order[i];
     EXPECT_EQ(with_class(lanes[i]->FirstChildElement(), "enter").size(), enters);
   }
   expect_inside_view_box(root);
@@ -317,7 +323,8 @@ TEST(ActivityLanes, NegativeCoefficientsAreHatchedPositiveOnesSolid) {
     if (name == "shading_pct") {
       EXPECT_FALSE(neg.empty());
       EXPECT_TRUE(pos.empty());
-      for (const auto* bar : neg) EXPECT_NE(std::string(bar->Attribute("fill")).find("url(#"), std::string::npos);
+      for (const auto* bar : neg)
+        EXPECT_NE(std::string(bar->Attribute("fill")).find("url(#"), std::string::npos);
     }
     if (name == "light_hours") {
       EXPECT_TRUE(neg.empty());
@@ -364,8 +371,10 @@ TEST(ActivityLanes, ManyPredictorsShowTheFirstNAndCountTheRest) {
   ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS);
   const auto lanes = with_class(p->doc.RootElement(), "lane");
   ASSERT_EQ(lanes.size(), 25u);
-  for (std::size_t i = 0; i < lanes.size(); ++i) EXPECT_EQ(title_of(lanes[i]), "x" + std::to_string(order[i] + 1));
-  EXPECT_NE(svg.find(std::to_string(order.size() - 25) + " later entrants hidden"), std::string::npos);
+  for (std::size_t i = 0; i < lanes.size(); ++i)
+    EXPECT_EQ(title_of(lanes[i]), "x" + std::to_string(order[i] + 1));
+  EXPECT_NE(svg.find(std::to_string(order.size() - 25) + " later entrants hidden"),
+            std::string::npos);
   expect_inside_view_box(p->doc.RootElement());
 }
 
@@ -429,7 +438,9 @@ TEST(CoefficientTraces, OneLabelledTracePerShownPredictorWithoutOverlap) {
     const auto hidden = with_class(root, "hidden-traces");
     ASSERT_EQ(hidden.size(), 1u);
     std::size_t grey = 0;
-    for (const auto* e = hidden[0]->FirstChildElement("polyline"); e; e = e->NextSiblingElement("polyline")) ++grey;
+    for (const auto* e = hidden[0]->FirstChildElement("polyline"); e;
+         e = e->NextSiblingElement("polyline"))
+      ++grey;
     EXPECT_EQ(grey, order.size() - 40);
     expect_inside_view_box(root);
   }
@@ -480,7 +491,8 @@ TEST(SelectionChart, MarksMinimizerAndOneSeChoiceInPenaltyOrder) {
     const auto ticks = x_ticks(root);
     ASSERT_GE(ticks.size(), 3u);
     for (std::size_t i = 1; i < ticks.size(); ++i)
-      EXPECT_TRUE(decreasing ? ticks[i].second < ticks[i - 1].second : ticks[i].second > ticks[i - 1].second);
+      EXPECT_TRUE(decreasing ? ticks[i].second < ticks[i - 1].second
+                             : ticks[i].second > ticks[i - 1].second);
     expect_inside_view_box(root);
   }
 }
@@ -497,6 +509,120 @@ TEST(SelectionChart, RejectsBrokenInput) {
   o = {};
   o.width = 10;
   EXPECT_THROW(kc::coefficient_traces_svg(demo().chart, o), knotpath::invalid_option);
+}
+
+// ------------------------------------------------ the size-free penalty mu
+
+// mu = lambda / sqrt(n) on standardized columns and lambda / n on the
+// columns' own scale (DESIGN.md, "Comparing penalties across data sets of
+// different size"); n = 240 rows of the demo, unweighted.
+struct MuCase {
+  bool standardize;
+  const char* definition;  // what the axis title must say
+  double divisor;          // computed here, not by the library
+};
+
+std::vector<MuCase> mu_cases(double n) {
+  return {{true, "\xCE\xBC = \xCE\xBB/\xE2\x88\x9An", std::sqrt(n)},
+          {false, "\xCE\xBC = \xCE\xBB/n", n}};
+}
+
+// The "enters at" value of a lane: its last text, "mu VALUE".
+double lane_entry_value(const tinyxml2::XMLElement* lane) {
+  const tinyxml2::XMLElement* last = nullptr;
+  for (const auto* t = lane->FirstChildElement("text"); t; t = t->NextSiblingElement("text"))
+    last = t;
+  if (!last || !last->GetText()) return std::nan("");
+  const std::string text = last->GetText();
+  const std::string mu = "\xCE\xBC ";
+  if (text.rfind(mu, 0) != 0) return std::nan("");
+  return std::strtod(text.c_str() + mu.size(), nullptr);
+}
+
+TEST(ChartMu, PenaltyAxisFollowsTheScalingOfThePath) {
+  const auto& d = demo();
+  const double n = static_cast<double>(d.data.x.rows());
+  ASSERT_GT(n, 4.0) << "sqrt(n) and n must differ for this test to tell them apart";
+  for (const MuCase& c : mu_cases(n)) {
+    knotpath::TraceOptions options;
+    options.standardize = c.standardize;
+    const auto path = knotpath::trace<double>(d.data.x, d.data.y, options);
+    const kc::ChartPath chart = kc::chart_path(path, d.data.predictor_names, d.data.response_name);
+    const double lambda_max = path.knots().front().penalty;
+    const double mu_max = lambda_max / c.divisor;
+    kc::ChartOptions o;
+    o.penalty_unit = kc::PenaltyUnit::mu;
+    o.log_penalty = false;
+    const std::string svg = kc::activity_lanes_svg(chart, o);
+    auto p = parse(svg);
+    ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+    const auto* root = p->doc.RootElement();
+    EXPECT_NE(svg.find(c.definition), std::string::npos) << "standardize=" << c.standardize;
+    // The first entrant enters at lambda_max; the label has 4 significant
+    // digits, so a relative 1e-3 holds it.
+    const auto lanes = with_class(root, "lane");
+    ASSERT_FALSE(lanes.empty());
+    EXPECT_NEAR(lane_entry_value(lanes.front()), mu_max, 1e-3 * mu_max)
+        << "standardize=" << c.standardize;
+    // A linear axis runs from 0 to a little (4 %) beyond the largest mu; its
+    // round-number ticks (steps 1, 2, 5 x 10^k, about 7 of them) reach at
+    // least half of it.
+    const auto ticks = x_ticks(root);
+    ASSERT_GE(ticks.size(), 3u);
+    double top_tick = 0;
+    for (const auto& t : ticks) top_tick = std::max(top_tick, t.second);
+    EXPECT_LE(top_tick, 1.04 * mu_max * (1 + 1e-9)) << "standardize=" << c.standardize;
+    EXPECT_GE(top_tick, 0.5 * mu_max) << "standardize=" << c.standardize;
+    // The traces share the axis.
+    EXPECT_NE(kc::coefficient_traces_svg(chart, o).find(c.definition), std::string::npos);
+  }
+}
+
+TEST(ChartMu, ReportAuditColumnFollowsTheScalingOfThePath) {
+  const auto& d = demo();
+  const double n = static_cast<double>(d.data.x.rows());
+  for (const MuCase& c : mu_cases(n)) {
+    knotpath::TraceOptions options;
+    options.standardize = c.standardize;
+    const auto path = knotpath::trace<double>(d.data.x, d.data.y, options);
+    const std::string html = kc::report_html(kc::chart_path(path, d.data.predictor_names), {});
+    auto p = parse(html);
+    ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+    const tinyxml2::XMLElement* audit = nullptr;
+    walk(p->doc.RootElement(), [&](const tinyxml2::XMLElement* e) {
+      if (std::string(e->Name()) == "table" && has_class(e, "audit")) audit = e;
+    });
+    ASSERT_NE(audit, nullptr);
+    // Columns: step, penalty, mu, ...
+    const auto* th =
+        audit->FirstChildElement("thead")->FirstChildElement("tr")->FirstChildElement("th");
+    th = th->NextSiblingElement("th")->NextSiblingElement("th");
+    ASSERT_NE(th, nullptr);
+    EXPECT_STREQ(th->GetText(), c.definition);
+    const auto* td =
+        audit->FirstChildElement("tbody")->FirstChildElement("tr")->FirstChildElement("td");
+    td = td->NextSiblingElement("td")->NextSiblingElement("td");
+    ASSERT_NE(td, nullptr);
+    const double mu_max = path.knots().front().penalty / c.divisor;
+    // Written with 6 significant digits: a relative 1e-5 holds it.
+    EXPECT_NEAR(std::strtod(td->GetText(), nullptr), mu_max, 1e-5 * mu_max)
+        << "standardize=" << c.standardize;
+  }
+}
+
+TEST(ChartMu, SelectionAxisTitleFollowsTheScalingOfThePath) {
+  const auto& d = demo();
+  for (const MuCase& c : mu_cases(static_cast<double>(d.data.x.rows()))) {
+    knotpath::TraceOptions options;
+    options.standardize = c.standardize;
+    knotpath::CrossValidationOptions cv_options;
+    cv_options.folds = 4;
+    const auto cv = knotpath::cross_validate<double>(d.data.x, d.data.y, options, cv_options);
+    const kc::SelectionCurve curve = kc::selection_curve(cv);
+    EXPECT_EQ(curve.standardized, c.standardize);
+    const std::string svg = kc::selection_curve_svg(curve);
+    EXPECT_NE(svg.find(c.definition), std::string::npos) << "standardize=" << c.standardize;
+  }
 }
 
 // ------------------------------------------------------------ chart 4: report
@@ -519,7 +645,8 @@ TEST(Report, ParsesEmbedsEveryChartAndReferencesNothingOutside) {
     const std::string name = e->Name();
     svgs += name == "svg";
     // No scripts, external style sheets, frames, images or objects.
-    for (const char* banned : {"script", "link", "img", "iframe", "object", "embed", "image", "use"})
+    for (const char* banned :
+         {"script", "link", "img", "iframe", "object", "embed", "image", "use"})
       EXPECT_NE(name, banned);
     for (const auto* a = e->FirstAttribute(); a; a = a->Next()) {
       const std::string an = a->Name(), av = a->Value();
@@ -542,12 +669,14 @@ TEST(Report, ParsesEmbedsEveryChartAndReferencesNothingOutside) {
     }
     if (name == "table" && has_class(e, "audit")) {
       const auto* body = e->FirstChildElement("tbody");
-      for (const auto* r = body->FirstChildElement("tr"); r; r = r->NextSiblingElement("tr")) ++audit_rows;
+      for (const auto* r = body->FirstChildElement("tr"); r; r = r->NextSiblingElement("tr"))
+        ++audit_rows;
     }
   });
   EXPECT_EQ(svgs, 4u);  // activity, traces, budget traces, selection
   EXPECT_EQ(audit_rows, d.path.knots().size());
-  EXPECT_STREQ(root->FirstChildElement("head")->FirstChildElement("title")->GetText(), "demo <report> & test");
+  EXPECT_STREQ(root->FirstChildElement("head")->FirstChildElement("title")->GetText(),
+               "demo <report> & test");
 }
 
 TEST(Report, WriteReportWritesEveryFile) {
@@ -569,10 +698,13 @@ TEST(Report, WriteReportWritesEveryFile) {
 
 // ------------------------------------------------------------- render check
 
-bool have_rsvg() { return std::system("command -v rsvg-convert >/dev/null 2>&1") == 0; }
+bool have_rsvg() {
+  return std::system("command -v rsvg-convert >/dev/null 2>&1") == 0;
+}
 
 // Grey levels of a PNG, via libpng's simplified reading interface.
-std::vector<unsigned char> read_grey_png(const std::filesystem::path& file, unsigned& width, unsigned& height) {
+std::vector<unsigned char> read_grey_png(const std::filesystem::path& file, unsigned& width,
+                                         unsigned& height) {
   png_image image{};
   image.version = PNG_IMAGE_VERSION;
   if (!png_image_begin_read_from_file(&image, file.c_str())) return {};
@@ -585,7 +717,8 @@ std::vector<unsigned char> read_grey_png(const std::filesystem::path& file, unsi
 }
 
 TEST(RenderCheck, EveryChartRendersToANonBlankPng) {
-  if (!have_rsvg()) GTEST_SKIP() << "rsvg-convert not found (Debian package librsvg2-bin); render check skipped";
+  if (!have_rsvg())
+    GTEST_SKIP() << "rsvg-convert not found (Debian package librsvg2-bin); render check skipped";
   const auto dir = std::filesystem::temp_directory_path() / "knotpath_test_charts_render";
   std::filesystem::remove_all(dir);
   std::filesystem::create_directories(dir);
@@ -609,7 +742,8 @@ TEST(RenderCheck, EveryChartRendersToANonBlankPng) {
     ASSERT_FALSE(grey.empty()) << "libpng could not decode " << out;
     auto p = parse(svg);
     // rsvg-convert renders at the SVG's width and height (1 px per unit).
-    EXPECT_EQ(w, static_cast<unsigned>(std::lround(p->doc.RootElement()->DoubleAttribute("width"))));
+    EXPECT_EQ(w,
+              static_cast<unsigned>(std::lround(p->doc.RootElement()->DoubleAttribute("width"))));
     double mean = 0;
     std::size_t dark = 0;
     for (unsigned char g : grey) {

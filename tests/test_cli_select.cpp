@@ -18,8 +18,8 @@
 #include <vector>
 
 #include <fmt/format.h>
-#include <nlohmann/json.hpp>
 #include <tinyxml2.h>
+#include <nlohmann/json.hpp>
 
 #include <Eigen/QR>
 
@@ -44,15 +44,14 @@ using knotpath::Matrix;
 using knotpath::Vector;
 using json = nlohmann::json;
 
-
-
 class Select : public knotpath::testing::ProgramTest {
  protected:
   Select() : ProgramTest("select", "--quiet") {}
 };
 
 // The problem as a table (x0..x{p-1}, y, and a fold label column when given).
-void write_table(const fs::path& file, const knotpath::testing::Problem& p, const std::vector<int>& labels = {}) {
+void write_table(const fs::path& file, const knotpath::testing::Problem& p,
+                 const std::vector<int>& labels = {}) {
   std::ofstream out(file);
   for (const auto& name : p.names) out << name << ',';
   out << 'y' << (labels.empty() ? "" : ",part") << '\n';
@@ -64,7 +63,9 @@ void write_table(const fs::path& file, const knotpath::testing::Problem& p, cons
   }
 }
 
-double relative(double a, double b) { return std::abs(a - b) / std::max({std::abs(a), std::abs(b), 1e-300}); }
+double relative(double a, double b) {
+  return std::abs(a - b) / std::max({std::abs(a), std::abs(b), 1e-300});
+}
 
 // Held-out squared error of all rows at the size-free penalty mu, every fold
 // refitted by the independent coordinate-descent solver of test_support.hpp
@@ -73,12 +74,13 @@ double relative(double a, double b) { return std::abs(a - b) / std::max({std::ab
 // Statistical Learning (2nd ed.), section 7.10.1. With standardized columns
 // the fold's own penalty is lambda = mu * sqrt(n_train) (the size-free
 // penalty documented in cross_validation.hpp and the README).
-double refit_cv_error(const Matrix<double>& x, const Vector<double>& y, const std::vector<int>& fold, int k,
-                      double mu) {
+double refit_cv_error(const Matrix<double>& x, const Vector<double>& y,
+                      const std::vector<int>& fold, int k, double mu) {
   double sse = 0;
   for (int f = 0; f < k; ++f) {
     std::vector<Index> train, test;
-    for (Index i = 0; i < x.rows(); ++i) (fold[static_cast<std::size_t>(i)] == f ? test : train).push_back(i);
+    for (Index i = 0; i < x.rows(); ++i)
+      (fold[static_cast<std::size_t>(i)] == f ? test : train).push_back(i);
     Matrix<double> xt(static_cast<Index>(train.size()), x.cols());
     Vector<double> yt(static_cast<Index>(train.size()));
     for (std::size_t r = 0; r < train.size(); ++r) {
@@ -144,7 +146,8 @@ void expect_report(const fs::path& dir, bool with_selection) {
   // The caution box (ReportOptions::cautions) with the usual caution.
   EXPECT_NE(html.find("<div class=\"cautions\">"), std::string::npos);
   EXPECT_NE(html.find("sole basis for decisions with consequences for people"), std::string::npos);
-  EXPECT_EQ(html.find("p-values are valid only under the model") != std::string::npos, with_selection);
+  EXPECT_EQ(html.find("p-values are valid only under the model") != std::string::npos,
+            with_selection);
   EXPECT_EQ(html.find("<h2>Selection</h2>") != std::string::npos, with_selection);
 }
 
@@ -180,7 +183,8 @@ TEST_F(Select, AgreesWithTheLibraryOnSeededFolds) {
   EXPECT_LE(relative(c["minimum"]["lambda"].get<double>(), lib.minimum.lambda), 1e-12);
   EXPECT_LE(relative(c["minimum"]["mu"].get<double>(), lib.minimum.mu), 1e-12);
   EXPECT_LE(relative(c["minimum"]["cv_error"].get<double>(), lib.minimum.error), 1e-12);
-  EXPECT_LE(relative(c["minimum"]["standard_error"].get<double>(), lib.minimum.standard_error), 1e-12);
+  EXPECT_LE(relative(c["minimum"]["standard_error"].get<double>(), lib.minimum.standard_error),
+            1e-12);
   EXPECT_LE(relative(c["parsimonious"]["lambda"].get<double>(), lib.parsimonious.lambda), 1e-12);
   EXPECT_LE(relative(c["parsimonious"]["cv_error"].get<double>(), lib.parsimonious.error), 1e-12);
   EXPECT_EQ(c["pieces"].get<std::size_t>(), lib.pieces.size());
@@ -207,22 +211,26 @@ TEST_F(Select, AgreesWithTheLibraryOnSeededFolds) {
   for (std::size_t k = 0; k < e.size(); ++k) {
     EXPECT_EQ(e[k]["step"].get<Index>(), sig.entries[k].step);
     if (std::isfinite(sig.entries[k].covariance_p_value)) {
-      EXPECT_LE(relative(e[k]["covariance_p_value"].get<double>(), sig.entries[k].covariance_p_value), 1e-9);
+      EXPECT_LE(
+          relative(e[k]["covariance_p_value"].get<double>(), sig.entries[k].covariance_p_value),
+          1e-9);
     } else {
       EXPECT_TRUE(e[k]["covariance_p_value"].is_null());
     }
     if (std::isfinite(sig.entries[k].spacing_p_value)) {
-      EXPECT_LE(relative(e[k]["spacing_p_value"].get<double>(), sig.entries[k].spacing_p_value), 1e-9);
+      EXPECT_LE(relative(e[k]["spacing_p_value"].get<double>(), sig.entries[k].spacing_p_value),
+                1e-9);
     }
   }
 
   // The printed text: both choices, the criteria, coefficients, cautions.
   EXPECT_NE(r.out.find(fmt::format("{:.7g}", lib.minimum.lambda)), std::string::npos) << r.out;
   EXPECT_NE(r.out.find(fmt::format("{:.7g}", lib.parsimonious.lambda)), std::string::npos) << r.out;
-  for (const char* needle : {"least CV error (exact)", "parsimonious (within 1 SE)", "Mallows' Cp", "AIC", "BIC",
-                             "(intercept)", "p(spacing)", "caution: the p-values are valid only under",
-                             "selection effects", "sole basis for decisions with consequences for people",
-                             "wrote s.json"})
+  for (const char* needle :
+       {"least CV error (exact)", "parsimonious (within 1 SE)", "Mallows' Cp", "AIC", "BIC",
+        "(intercept)", "p(spacing)", "caution: the p-values are valid only under",
+        "selection effects", "sole basis for decisions with consequences for people",
+        "wrote s.json"})
     EXPECT_NE(r.out.find(needle), std::string::npos) << needle << '\n' << r.out;
 
   // The thread count does not change the result (cross_validation.hpp's promise).
@@ -279,7 +287,8 @@ TEST_F(Select, FoldColumnMatchesAnIndependentRefitAndThePublishedFormulas) {
   std::size_t best = 0;
   std::vector<double> cp;
   for (const auto& k : d["knots"]) {
-    cp.push_back(k["rss"].get<double>() / sigma2 - static_cast<double>(n) + 2.0 * (k["nonzero"].get<double>() + 1));
+    cp.push_back(k["rss"].get<double>() / sigma2 - static_cast<double>(n) +
+                 2.0 * (k["nonzero"].get<double>() + 1));
     // Cp is O(n); the rss is recomputed by the library, so 1e-9 absolute on this scale.
     EXPECT_NEAR(k["mallows_cp"].get<double>(), cp.back(), 1e-9 * n);
     if (cp.back() < cp[best]) best = cp.size() - 1;
@@ -304,7 +313,8 @@ TEST_F(Select, FoldColumnMatchesAnIndependentRefitAndThePublishedFormulas) {
   // Both sides are O(1) sums of a few products: 1e-9 relative.
   EXPECT_LE(relative(first["covariance_statistic"].get<double>(), t1), 1e-9);
   const double df = static_cast<double>(n - p - 1);
-  EXPECT_LE(relative(first["covariance_p_value"].get<double>(), std::pow(1 + 2 * t1 / df, -df / 2)), 1e-9);
+  EXPECT_LE(relative(first["covariance_p_value"].get<double>(), std::pow(1 + 2 * t1 / df, -df / 2)),
+            1e-9);
 }
 
 TEST_F(Select, JsonHasTheDocumentedFields) {
@@ -314,12 +324,14 @@ TEST_F(Select, JsonHasTheDocumentedFields) {
   ASSERT_EQ(r.code, 0) << r.err;
   const json doc = json::parse(slurp(file("s.json")));
   EXPECT_EQ(doc["format"], "knotpath-selection");
-  for (const char* key : {"program", "cross_validation", "information_criteria", "significance", "cautions", "path"})
+  for (const char* key :
+       {"program", "cross_validation", "information_criteria", "significance", "cautions", "path"})
     EXPECT_TRUE(doc.contains(key)) << key;
   const auto& c = doc["cross_validation"];
   EXPECT_EQ(c["folds"]["from"], "leave-one-out");
   EXPECT_EQ(c["folds"]["count"].get<Index>(), fx.p.x.rows());
-  for (const char* key : {"lambda", "mu", "cv_error", "standard_error", "active", "intercept", "coefficients"}) {
+  for (const char* key :
+       {"lambda", "mu", "cv_error", "standard_error", "active", "intercept", "coefficients"}) {
     EXPECT_TRUE(c["minimum"].contains(key)) << key;
     EXPECT_TRUE(c["parsimonious"].contains(key)) << key;
   }
@@ -334,7 +346,8 @@ TEST_F(Select, JsonHasTheDocumentedFields) {
   // [0, 1]: 1e-12 absolute is far above the rounding of one exp.
   for (const auto& e : doc["significance"]["entries"])
     if (!e["covariance_statistic"].is_null()) {
-      EXPECT_NEAR(e["covariance_p_value"].get<double>(), std::exp(-e["covariance_statistic"].get<double>()), 1e-12);
+      EXPECT_NEAR(e["covariance_p_value"].get<double>(),
+                  std::exp(-e["covariance_statistic"].get<double>()), 1e-12);
     }
   EXPECT_EQ(doc["path"]["knots"].size(), doc["information_criteria"]["knots"].size());
 }
@@ -381,6 +394,41 @@ TEST_F(Select, ReportParsesAndNothingIsLeftOnError) {
   expect_report(file("rep"), true);
 }
 
+// The size-free penalty of the report follows the scaling of the path:
+// mu = lambda / sqrt(n) on standardized columns, lambda / n with
+// --no-standardize (DESIGN.md, "Comparing penalties"); here n = 64 rows.
+TEST_F(Select, ReportMuFollowsTheScalingOfThePath) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  const double n = static_cast<double>(fx.p.x.rows());
+  struct Case {
+    const char* flag;
+    const char* definition;
+    double divisor;
+  };
+  for (const Case& c : {Case{"", "\xCE\xBC = \xCE\xBB/\xE2\x88\x9An", std::sqrt(n)},
+                        Case{" --no-standardize", "\xCE\xBC = \xCE\xBB/n", n}}) {
+    fs::remove_all(file("mu-rep"));
+    Outcome r = run(
+        std::string("select t.csv --response y --folds 4 --json mu.json --report mu-rep") + c.flag);
+    ASSERT_EQ(r.code, 0) << r.err;
+    const std::string html = slurp(file("mu-rep/report.html"));
+    const std::string selection = slurp(file("mu-rep/selection.svg"));
+    // The selection axis and the audit header name the definition in use.
+    EXPECT_NE(selection.find(std::string(c.definition) + " ("), std::string::npos) << c.flag;
+    EXPECT_NE(html.find(std::string("<th>") + c.definition + "</th>"), std::string::npos) << c.flag;
+    // The audit's first mu is lambda_max / divisor, written with 6 significant
+    // digits: a relative 1e-5 holds it.
+    const json doc = json::parse(slurp(file("mu.json")));
+    const double mu_max = doc["path"]["knots"][0]["penalty"].get<double>() / c.divisor;
+    const std::string row = "<tr><td>0</td><td>";
+    const auto at = html.find(row);
+    ASSERT_NE(at, std::string::npos);
+    const auto mu_cell = html.find("</td><td>", at + row.size()) + 9;
+    EXPECT_NEAR(std::strtod(html.c_str() + mu_cell, nullptr), mu_max, 1e-5 * mu_max) << c.flag;
+  }
+}
+
 TEST_F(Select, UsageAndInputErrorsHaveTheirCodes) {
   Fixture fx;
   write_table(file("t.csv"), fx.p, fx.labels);
@@ -417,8 +465,9 @@ TEST_F(Select, DemoRunsTheSelectionAndWritesItsReport) {
   EXPECT_NE(r.out.find(fmt::format("least CV error:             lambda {:.6g}", cv.minimum.lambda)),
             std::string::npos)
       << r.out;
-  EXPECT_NE(r.out.find(fmt::format("parsimonious (within 1 SE): lambda {:.6g}", cv.parsimonious.lambda)),
-            std::string::npos)
+  EXPECT_NE(
+      r.out.find(fmt::format("parsimonious (within 1 SE): lambda {:.6g}", cv.parsimonious.lambda)),
+      std::string::npos)
       << r.out;
 
   // --report moves the report elsewhere.
@@ -437,7 +486,8 @@ TEST(ReportCautions, AreEscapedAndShownOnlyWhenGiven) {
   EXPECT_EQ(knotpath::charts::report_html(chart, ro).find("class=\"cautions\""), std::string::npos);
   ro.cautions = {"p < 0.05 & \"selection\" effects"};
   const std::string html = knotpath::charts::report_html(chart, ro);
-  EXPECT_NE(html.find("<li>p &lt; 0.05 &amp; &quot;selection&quot; effects</li>"), std::string::npos);
+  EXPECT_NE(html.find("<li>p &lt; 0.05 &amp; &quot;selection&quot; effects</li>"),
+            std::string::npos);
   tinyxml2::XMLDocument doc;
   EXPECT_EQ(doc.Parse(html.c_str(), html.size()), tinyxml2::XML_SUCCESS) << doc.ErrorStr();
 }

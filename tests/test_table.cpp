@@ -146,8 +146,7 @@ TEST(TableReader, TextColumnIsSkippedUnlessAskedFor) {
   TableReadOptions options;
   options.required = {"city"};
   table_error e = error_of("city,a,y\nParis,1,2\n", options);
-  EXPECT_NE(std::string(e.what()).find("\"city\" is a text column"), std::string::npos)
-      << e.what();
+  EXPECT_NE(std::string(e.what()).find("\"city\" is a text column"), std::string::npos) << e.what();
   EXPECT_EQ(e.line(), 2u);
   EXPECT_EQ(e.column(), 1u);
   // A text cell after a numeric first cell is an error, not a text column.
@@ -200,8 +199,7 @@ TEST(TableReader, ValuesRoundTripAcrossBlocksIntoAMatrix) {
   // More rows than one storage block, to cross block boundaries.
   const std::size_t n = knotpath::io::NumericColumn::block_size + 123;
   std::string text = "i,half\n";
-  for (std::size_t i = 0; i < n; ++i)
-    text += std::to_string(i) + "," + std::to_string(i) + ".5\n";
+  for (std::size_t i = 0; i < n; ++i) text += std::to_string(i) + "," + std::to_string(i) + ".5\n";
   Table t = read_text(text);
   ASSERT_EQ(t.rows, n);
   knotpath::Matrix<double> m = t.take_matrix({1, 0});
@@ -211,6 +209,25 @@ TEST(TableReader, ValuesRoundTripAcrossBlocksIntoAMatrix) {
     EXPECT_EQ(m(static_cast<knotpath::Index>(i), 0), static_cast<double>(i) + 0.5);
   }
   EXPECT_EQ(m(static_cast<knotpath::Index>(n - 1), 0), static_cast<double>(n - 1) + 0.5);
+}
+
+// Everything the reader throws is one of knotpath's own exceptions
+// (errors.hpp), so `catch (const knotpath::error&)` sees every failure.
+TEST(TableReader, MisuseThrowsTheLibrarysOwnExceptions) {
+  TableReadOptions bad_delimiter;
+  bad_delimiter.delimiter = '|';
+  EXPECT_THROW(read_text("a,b\n1,2\n", bad_delimiter), knotpath::invalid_option);
+  Table t = read_text("a,b\n1,2\n3,4\n");
+  // find() answers -1 for an unknown name; asking for that column is refused.
+  ASSERT_EQ(t.find("c"), -1);
+  EXPECT_THROW(t.column_vector(t.find("c")), knotpath::invalid_query);
+  EXPECT_THROW(t.column_vector(2), knotpath::invalid_query);
+  EXPECT_THROW(t.take_matrix({0, 2}), knotpath::invalid_query);
+  Table u = read_text("a,b\n1,2\n3,4\n");
+  const knotpath::Matrix<double> m = u.take_matrix({1});
+  EXPECT_EQ(m(1, 0), 4.0);
+  EXPECT_THROW(u.take_matrix({1}), knotpath::invalid_query);  // already taken
+  EXPECT_EQ(u.column_vector(0)(1), 3.0);                      // the other column is intact
 }
 
 TEST(TableReader, UnreadableFileIsAnInputOutputError) {

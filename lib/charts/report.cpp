@@ -44,23 +44,25 @@ footer { margin-top: 32px; color: #5A5A5A; font-size: 12px; }
 )";
 
 void figure(std::ostringstream& out, const std::string& svg, const std::string& caption) {
-  out << "<figure>\n" << svg << "<figcaption>" << xml_escape(caption) << "</figcaption>\n</figure>\n";
+  out << "<figure>\n"
+      << svg << "<figcaption>" << xml_escape(caption) << "</figcaption>\n</figure>\n";
 }
 
-}  // namespace
-
-std::string report_html(const ChartPath& path, const ReportOptions& options, const SelectionCurve* selection) {
-  path.validate();
-  options.charts.validate();
-  std::ostringstream out;
+void write_head(std::ostringstream& out, const ChartPath& path, const ReportOptions& options) {
   out << "<!DOCTYPE html>\n<html xmlns=\"http://www.w3.org/1999/xhtml\" lang=\"en\">\n<head>\n"
-      << "<meta charset=\"utf-8\"/>\n<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n"
-      << "<title>" << xml_escape(options.title) << "</title>\n<style>" << kStyle << "</style>\n</head>\n<body>\n"
+      << "<meta charset=\"utf-8\"/>\n<meta name=\"viewport\" content=\"width=device-width, "
+         "initial-scale=1\"/>\n"
+      << "<title>" << xml_escape(options.title) << "</title>\n<style>" << kStyle
+      << "</style>\n</head>\n<body>\n"
       << "<h1>" << xml_escape(options.title) << "</h1>\n"
-      << "<p class=\"lead\">Exact " << xml_escape(path.variant) << " path of " << xml_escape(path.response_name)
-      << ", traced by knotpath. This page is self-contained: it needs no network and no scripts.</p>\n";
+      << "<p class=\"lead\">Exact " << xml_escape(path.variant) << " path of "
+      << xml_escape(path.response_name)
+      << ", traced by knotpath. This page is self-contained: it needs no network and no "
+         "scripts.</p>\n";
+}
 
-  // Summary: the caller's lines, then what the path itself says.
+// Summary: the caller's lines, then what the path itself says; then the cautions.
+void write_summary(std::ostringstream& out, const ChartPath& path, const ReportOptions& options) {
   std::size_t enters = 0, leaves = 0;
   for (const auto& k : path.knots) {
     enters += k.event == EventKind::enter;
@@ -68,27 +70,33 @@ std::string report_html(const ChartPath& path, const ReportOptions& options, con
   }
   std::vector<std::pair<std::string, std::string>> summary = options.summary;
   summary.emplace_back("predictors", std::to_string(path.names.size()));
-  summary.emplace_back("knots", std::to_string(path.knots.size()) + " (" + std::to_string(enters) + " entries, " +
-                                    std::to_string(leaves) + " exits)");
+  summary.emplace_back("knots", std::to_string(path.knots.size()) + " (" + std::to_string(enters) +
+                                    " entries, " + std::to_string(leaves) + " exits)");
   summary.emplace_back("largest penalty \xCE\xBB", number(path.knots.front().penalty));
   summary.emplace_back("end of path", path.end == "end" ? "complete, down to penalty 0" : path.end);
   summary.emplace_back("R\xC2\xB2 at the end", number(path.knots.back().r_squared, 4));
   out << "<table class=\"summary\">\n";
   for (const auto& [label, value] : summary)
-    out << "<tr><td class=\"label\">" << xml_escape(label) << "</td><td>" << xml_escape(value) << "</td></tr>\n";
+    out << "<tr><td class=\"label\">" << xml_escape(label) << "</td><td>" << xml_escape(value)
+        << "</td></tr>\n";
   out << "</table>\n";
   if (!options.cautions.empty()) {
     out << "<div class=\"cautions\">\n<h2>Cautions</h2>\n<ul>\n";
     for (const auto& c : options.cautions) out << "<li>" << xml_escape(c) << "</li>\n";
     out << "</ul>\n</div>\n";
   }
+}
 
+// The charts, each with its own id prefix so their ids stay unique on the page.
+void write_charts(std::ostringstream& out, const ChartPath& path, const ReportOptions& options,
+                  const SelectionCurve* selection) {
   ChartOptions co = options.charts;
   const std::string prefix = co.id_prefix;
   out << "<h2>Activity</h2>\n";
   co.id_prefix = prefix + "-activity";
   figure(out, activity_lanes_svg(path, co),
-         "Each lane is one predictor; bars show where its coefficient is nonzero, tone and hatching its sign.");
+         "Each lane is one predictor; bars show where its coefficient is nonzero, tone and "
+         "hatching its sign.");
   out << "<h2>Coefficients</h2>\n";
   co.id_prefix = prefix + "-traces";
   figure(out, coefficient_traces_svg(path, co), "Coefficients along the penalty; dots are knots.");
@@ -105,43 +113,80 @@ std::string report_html(const ChartPath& path, const ReportOptions& options, con
     out << "<h2>Selection</h2>\n";
     co.id_prefix = prefix + "-selection";
     figure(out, selection_curve_svg(*selection, co),
-           "Cross-validated error with its standard-error band; the least error and the one-standard-error "
+           "Cross-validated error with its standard-error band; the least error and the "
+           "one-standard-error "
            "choice are marked.");
   }
+}
 
-  out << "<h2>Audit of events</h2>\n<table class=\"audit\">\n<thead><tr><th>step</th><th>penalty \xCE\xBB</th>";
-  if (path.weight_sum > 0) out << "<th>\xCE\xBC = \xCE\xBB/\xE2\x88\x9An</th>";
-  out << "<th class=\"text\">event</th><th class=\"text\">predictor</th><th>sign</th><th>active</th>"
+// One row of the audit table: knot i.
+void write_audit_row(std::ostringstream& out, const ChartPath& path, std::size_t i) {
+  const ChartKnot& k = path.knots[i];
+  const bool last = i + 1 == path.knots.size();
+  std::string event = to_string(k.event);
+  if (last && (k.event == EventKind::end || k.event == EventKind::stop)) event = path.end;
+  const std::string name =
+      k.predictor >= 0 && static_cast<std::size_t>(k.predictor) < path.names.size()
+          ? path.names[static_cast<std::size_t>(k.predictor)]
+          : "";
+  out << "<tr" << (k.event == EventKind::leave ? " class=\"leave\"" : "") << "><td>" << i
+      << "</td><td>" << number(k.penalty);
+  if (path.weight_sum > 0)
+    out << "</td><td>"
+        << number(k.penalty / knotpath::penalty_scale<double>(path.standardized, path.weight_sum));
+  out << "</td><td class=\"text\">" << xml_escape(event) << "</td><td class=\"text\">"
+      << xml_escape(name) << "</td><td>"
+      << (k.sign > 0   ? "+"
+          : k.sign < 0 ? "\xE2\x88\x92"
+                       : "")
+      << "</td><td>" << k.active << "</td><td>" << number(k.l1_norm) << "</td><td>"
+      << number(k.r_squared, 4) << "</td></tr>\n";
+}
+
+// The audit of events: one row per knot, with mu beside lambda when n is known.
+void write_audit(std::ostringstream& out, const ChartPath& path) {
+  out << "<h2>Audit of events</h2>\n<table class=\"audit\">\n<thead><tr><th>step</th><th>penalty "
+         "\xCE\xBB</th>";
+  if (path.weight_sum > 0)
+    out << "<th>\xCE\xBC = \xCE\xBB/" << (path.standardized ? "\xE2\x88\x9An" : "n") << "</th>";
+  out << "<th class=\"text\">event</th><th "
+         "class=\"text\">predictor</th><th>sign</th><th>active</th>"
          "<th>L1 norm</th><th>R\xC2\xB2</th></tr></thead>\n<tbody>\n";
-  for (std::size_t i = 0; i < path.knots.size(); ++i) {
-    const ChartKnot& k = path.knots[i];
-    const bool last = i + 1 == path.knots.size();
-    std::string event = to_string(k.event);
-    if (last && (k.event == EventKind::end || k.event == EventKind::stop)) event = path.end;
-    const std::string name = k.predictor >= 0 && static_cast<std::size_t>(k.predictor) < path.names.size()
-                                 ? path.names[static_cast<std::size_t>(k.predictor)]
-                                 : "";
-    out << "<tr" << (k.event == EventKind::leave ? " class=\"leave\"" : "") << "><td>" << i << "</td><td>"
-        << number(k.penalty);
-    if (path.weight_sum > 0) out << "</td><td>" << number(k.penalty / std::sqrt(path.weight_sum));
-    out << "</td><td class=\"text\">" << xml_escape(event) << "</td><td class=\"text\">" << xml_escape(name)
-        << "</td><td>" << (k.sign > 0 ? "+" : k.sign < 0 ? "\xE2\x88\x92" : "") << "</td><td>" << k.active
-        << "</td><td>" << number(k.l1_norm) << "</td><td>" << number(k.r_squared, 4) << "</td></tr>\n";
-  }
+  for (std::size_t i = 0; i < path.knots.size(); ++i) write_audit_row(out, path, i);
   out << "</tbody>\n</table>\n";
+}
+
+void write_notes_and_footer(std::ostringstream& out, const ChartPath& path) {
   if (!path.notes.empty()) {
     out << "<h2>Notes</h2>\n<ul class=\"notes\">\n";
     for (const auto& n : path.notes) out << "<li>" << xml_escape(n) << "</li>\n";
     out << "</ul>\n";
   }
-  out << "<footer>Penalty \xCE\xBB is that of the objective \xC2\xBD\xC2\xB7RSS + \xCE\xBB\xC2\xB7\xCE\xA3 "
-         "f\xE2\x82\x97 s\xE2\x82\x97 |b\xE2\x82\x97|; coefficients are on the original scale of the data. "
+  out << "<footer>Penalty \xCE\xBB is that of the objective \xC2\xBD\xC2\xB7RSS + "
+         "\xCE\xBB\xC2\xB7\xCE\xA3 "
+         "f\xE2\x82\x97 s\xE2\x82\x97 |b\xE2\x82\x97|; coefficients are on the original scale of "
+         "the data. "
          "A path describes associations in these data, not causes.</footer>\n</body>\n</html>\n";
+}
+
+}  // namespace
+
+std::string report_html(const ChartPath& path, const ReportOptions& options,
+                        const SelectionCurve* selection) {
+  path.validate();
+  options.charts.validate();
+  std::ostringstream out;
+  write_head(out, path, options);
+  write_summary(out, path, options);
+  write_charts(out, path, options, selection);
+  write_audit(out, path);
+  write_notes_and_footer(out, path);
   return out.str();
 }
 
-std::vector<std::filesystem::path> write_report(const std::filesystem::path& dir, const ChartPath& path,
-                                                const ReportOptions& options, const SelectionCurve* selection) {
+std::vector<std::filesystem::path> write_report(const std::filesystem::path& dir,
+                                                const ChartPath& path, const ReportOptions& options,
+                                                const SelectionCurve* selection) {
   std::filesystem::create_directories(dir);
   std::vector<std::filesystem::path> written;
   auto save = [&](const std::string& name, const std::string& text) {

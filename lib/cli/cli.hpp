@@ -4,6 +4,9 @@
 #include <atomic>
 #include <condition_variable>
 #include <cstddef>
+#include <filesystem>
+#include <functional>
+#include <iosfwd>
 #include <memory>
 #include <mutex>
 #include <optional>
@@ -78,6 +81,11 @@ struct TracedTable {
   Path<double> path;
   io::RunContext context;
 };
+
+/// Writes `file` atomically (io::write_atomically); a file system that
+/// refuses becomes failure(exit_io).
+void write_output(const std::filesystem::path& file,
+                  const std::function<void(std::ostream&)>& write);
 
 /// The message of a data error for the user: a whole predictor column is
 /// named by its table name (the library counts columns from 0), any other

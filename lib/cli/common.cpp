@@ -1,5 +1,6 @@
 // Shared pieces of the command-line program: model options, reading and
-// tracing a table, the progress line.
+// tracing a table, writing outputs, the exit status of a finished run, the
+// progress line.
 
 #include <unistd.h>
 
@@ -13,6 +14,7 @@
 #include <fmt/format.h>
 
 #include "cli.hpp"
+#include "typed_trace.hpp"
 
 #ifndef KNOTPATH_VERSION
 #error "KNOTPATH_VERSION must be defined by the build (PROJECT_VERSION)"
@@ -20,36 +22,44 @@
 
 namespace knotpath::cli {
 
-std::string version() { return KNOTPATH_VERSION; }
+std::string version() {
+  return KNOTPATH_VERSION;
+}
 
 void add_model_options(CLI::App& command, ModelArgs& args) {
   command.add_option("--response", args.response, "Name of the response column")
       ->required()
       ->group("Model");
-  command.add_option("--variant", args.variant,
-                     "lasso (predictors may leave) or least-angle (they only enter)")
+  command
+      .add_option("--variant", args.variant,
+                  "lasso (predictors may leave) or least-angle (they only enter)")
       ->check(CLI::IsMember({"lasso", "least-angle"}))
       ->default_str("lasso")
       ->group("Model");
-  command.add_flag("--no-intercept", args.no_intercept,
-                   "Fit no intercept (columns and response are not centred)")
+  command
+      .add_flag("--no-intercept", args.no_intercept,
+                "Fit no intercept (columns and response are not centred)")
       ->group("Model");
-  command.add_flag("--no-standardize", args.no_standardize,
-                   "Penalize coefficients on the columns' own scale instead of unit-length columns")
+  command
+      .add_flag("--no-standardize", args.no_standardize,
+                "Penalize coefficients on the columns' own scale instead of unit-length columns")
       ->group("Model");
   command.add_option("--weights", args.weights, "Column of observation weights (>= 0)")
       ->group("Model");
-  command.add_option("--penalty-factor", args.penalty_factors,
-                     "NAME=VALUE: penalty factor of a predictor (0 = never penalized, inf = left "
-                     "out); repeat or separate with commas")
+  command
+      .add_option("--penalty-factor", args.penalty_factors,
+                  "NAME=VALUE: penalty factor of a predictor (0 = never penalized, inf = left "
+                  "out); repeat or separate with commas")
       ->delimiter(',')
       ->group("Model");
-  command.add_option("--nonnegative", args.nonnegative,
-                     "Predictors whose coefficient must be >= 0 (names, or all)")
+  command
+      .add_option("--nonnegative", args.nonnegative,
+                  "Predictors whose coefficient must be >= 0 (names, or all)")
       ->delimiter(',')
       ->group("Model");
-  command.add_option("--nonpositive", args.nonpositive,
-                     "Predictors whose coefficient must be <= 0 (names, or all)")
+  command
+      .add_option("--nonpositive", args.nonpositive,
+                  "Predictors whose coefficient must be <= 0 (names, or all)")
       ->delimiter(',')
       ->group("Model");
   command.add_option("--ridge", args.ridge, "Ridge weight (elastic net); 0 = plain lasso")
@@ -63,30 +73,35 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
       ->group("Model");
   command.add_option("--max-knots", args.max_knots, "Stop after this many knots (0 = no limit)")
       ->group("Stopping");
-  command.add_option("--min-penalty", args.min_penalty,
-                     "Stop when the penalty would fall below this value")
+  command
+      .add_option("--min-penalty", args.min_penalty,
+                  "Stop when the penalty would fall below this value")
       ->check(CLI::NonNegativeNumber)
       ->group("Stopping");
-  command.add_option("--max-active", args.max_active,
-                     "Stop before more than this many predictors are active (0 = no limit)")
+  command
+      .add_option("--max-active", args.max_active,
+                  "Stop before more than this many predictors are active (0 = no limit)")
       ->group("Stopping");
   command.add_option("--delimiter", args.delimiter, "Field delimiter: auto, comma, semicolon, tab")
       ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab"}))
       ->default_str("auto")
       ->group("Table");
-  command.add_option("--missing", args.missing,
-                     "Empty or NA cells: error (stop) or drop (drop the row and count it)")
+  command
+      .add_option("--missing", args.missing,
+                  "Empty or NA cells: error (stop) or drop (drop the row and count it)")
       ->check(CLI::IsMember({"error", "drop"}))
       ->default_str("error")
       ->group("Table");
-  command.add_option("--max-columns", args.max_columns,
-                     "Refuse a table whose header has more columns than this")
+  command
+      .add_option("--max-columns", args.max_columns,
+                  "Refuse a table whose header has more columns than this")
       ->check(CLI::PositiveNumber)
       ->default_str("100000")
       ->group("Table");
-  command.add_option("--threads", args.threads,
-                     "Threads for the products of large designs (0: all cores); the results are "
-                     "the same for any count")
+  command
+      .add_option("--threads", args.threads,
+                  "Threads for the products of large designs (0: all cores); the results are "
+                  "the same for any count")
       ->check(CLI::Range(std::size_t{0}, std::size_t{1024}))
       ->default_str("1")
       ->group("Performance");
@@ -144,7 +159,10 @@ char delimiter_char(const std::string& name) {
   return 0;
 }
 
-std::pair<std::string, double> parse_factor(const std::string& item) {
+// A --penalty-factor item: the predictor's name and its factor.
+using Factor = std::pair<std::string, double>;
+
+Factor parse_factor(const std::string& item) {
   const auto eq = item.rfind('=');
   if (eq == std::string::npos || eq == 0 || eq + 1 == item.size())
     throw failure(exit_usage, "--penalty-factor expects NAME=VALUE, got \"" + item + "\"");
@@ -162,13 +180,8 @@ std::pair<std::string, double> parse_factor(const std::string& item) {
   return {name, value};
 }
 
-}  // namespace
-
-LoadedTable load_table(const std::string& table_path, const ModelArgs& args, const Global& global,
-                       bool keep_decimal_text) {
-  // Names the options mention must be columns (checked by the reader).
-  std::vector<std::pair<std::string, double>> factors;
-  for (const auto& item : args.penalty_factors) factors.push_back(parse_factor(item));
+// Contradictions among the model options that need no table to see.
+void check_model_options(const ModelArgs& args) {
   if (contains(args.drop, args.response))
     throw failure(exit_usage, "the response \"" + args.response + "\" is also listed in --drop");
   if (!args.weights.empty() && args.weights == args.response)
@@ -177,15 +190,22 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
     throw failure(exit_usage, "the response \"" + args.response + "\" is also listed in --use");
   for (const auto& name : args.nonnegative)
     if (contains(args.nonpositive, name))
-      throw failure(exit_usage, "\"" + name + "\" is listed in both --nonnegative and --nonpositive");
+      throw failure(exit_usage,
+                    "\"" + name + "\" is listed in both --nonnegative and --nonpositive");
   const bool all_nonnegative = contains(args.nonnegative, "all");
   const bool all_nonpositive = contains(args.nonpositive, "all");
   if ((all_nonnegative && args.nonnegative.size() > 1) ||
       (all_nonpositive && args.nonpositive.size() > 1) ||
       (all_nonnegative && !args.nonpositive.empty()) ||
       (all_nonpositive && !args.nonnegative.empty()))
-    throw failure(exit_usage, "\"all\" in --nonnegative/--nonpositive cannot be combined with names");
+    throw failure(exit_usage,
+                  "\"all\" in --nonnegative/--nonpositive cannot be combined with names");
+}
 
+// How to read the table: names the options mention must be columns
+// (checked by the reader), --use and --drop choose the columns read.
+io::TableReadOptions read_options(const ModelArgs& args, const std::vector<Factor>& factors,
+                                  bool keep_decimal_text) {
   io::TableReadOptions read;
   read.delimiter = delimiter_char(args.delimiter);
   read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
@@ -207,9 +227,13 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
   for (const auto& name : read.required)
     if (contains(args.drop, name))
       throw failure(exit_usage, "\"" + name + "\" is listed in --drop and used by another option");
-
   read.keep_decimal_text = keep_decimal_text;
-  LoadedTable out;
+  return read;
+}
+
+// Reads the table, reporting progress on the loaded table's progress line.
+void read_with_progress(LoadedTable& out, const std::string& table_path, io::TableReadOptions read,
+                        const Global& global) {
   out.progress = std::make_shared<Progress>(!global.quiet);
   Progress& progress = *out.progress;
   const std::string shown_name = table_path == "-" ? "<stdin>" : table_path;
@@ -220,8 +244,12 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
                                 static_cast<double>(bytes) / 1e6, rows));
   };
   out.table = io::read_table(table_path, read);
-  io::Table& table = out.table;
+}
 
+// What the reports say about the data, and the predictor columns: every
+// numeric column but the response and the weights, in table order.
+void describe_columns(LoadedTable& out, const ModelArgs& args) {
+  const io::Table& table = out.table;
   io::RunContext& context = out.context;
   context.source = table.source;
   context.response = args.response;
@@ -231,24 +259,28 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
   context.unused_columns = table.skipped_columns;
   context.program_version = version();
   if (!args.weights.empty()) context.weights = args.weights;
-
-  std::vector<Index>& predictor_columns = out.predictor_columns;
   for (std::size_t j = 0; j < table.names.size(); ++j) {
     const std::string& name = table.names[j];
     if (name == args.response || name == args.weights) continue;
-    predictor_columns.push_back(static_cast<Index>(j));
+    out.predictor_columns.push_back(static_cast<Index>(j));
     context.predictor_names.push_back(name);
   }
-  if (predictor_columns.empty())
-    throw failure(exit_bad_input, table.source + ": no numeric predictor columns besides the response");
-  const std::size_t p = predictor_columns.size();
+  if (out.predictor_columns.empty())
+    throw failure(exit_bad_input,
+                  table.source + ": no numeric predictor columns besides the response");
+}
+
+// The trace options of the model arguments for these predictors, validated.
+TraceOptions trace_options(const ModelArgs& args, const std::vector<Factor>& factors,
+                           const std::vector<std::string>& predictor_names) {
+  const std::size_t p = predictor_names.size();
   auto predictor_index = [&](const std::string& name) {
     for (std::size_t j = 0; j < p; ++j)
-      if (context.predictor_names[j] == name) return j;
-    throw failure(exit_usage, "\"" + name + "\" is not a predictor (it is the response or the weights)");
+      if (predictor_names[j] == name) return j;
+    throw failure(exit_usage,
+                  "\"" + name + "\" is not a predictor (it is the response or the weights)");
   };
-
-  TraceOptions& options = out.options;
+  TraceOptions options;
   options.variant = args.variant == "least-angle" ? Variant::least_angle : Variant::lasso;
   options.fit_intercept = !args.no_intercept;
   options.standardize = !args.no_standardize;
@@ -259,11 +291,12 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
   options.threads = args.threads;
   if (!factors.empty()) {
     options.penalty_factors.assign(p, 1.0);
-    for (const auto& [name, value] : factors) options.penalty_factors[predictor_index(name)] = value;
+    for (const auto& [name, value] : factors)
+      options.penalty_factors[predictor_index(name)] = value;
   }
-  if (all_nonnegative) {
+  if (contains(args.nonnegative, "all")) {
     options.sign_constraints = {SignConstraint::nonnegative};
-  } else if (all_nonpositive) {
+  } else if (contains(args.nonpositive, "all")) {
     options.sign_constraints = {SignConstraint::nonpositive};
   } else if (!args.nonnegative.empty() || !args.nonpositive.empty()) {
     options.sign_constraints.assign(p, SignConstraint::none);
@@ -277,73 +310,100 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   }
+  return options;
+}
+
+// Data with nothing to trace are refused (the library returns a one-knot
+// path for them; a user of the program almost surely gave the wrong table).
+void refuse_nothing_to_trace(const TableData<double>& d, const TraceOptions& options,
+                             const std::string& shown_name, const std::string& response) {
+  if (!options.fit_intercept) return;
+  Index used = 0;
+  double first = 0;
+  bool constant = true;
+  for (Index i = 0; i < d.y.size(); ++i) {
+    if (d.w.size() != 0 && !(d.w(i) > 0)) continue;
+    if (used++ == 0)
+      first = d.y(i);
+    else if (d.y(i) != first)
+      constant = false;
+  }
+  if (used == 1)
+    throw failure(exit_bad_input, shown_name + ": only one row" +
+                                      (d.w.size() ? " has a positive weight" : " of data") +
+                                      "; with an intercept every column is constant there, so "
+                                      "there is no path to trace (at least 2 rows are needed)");
+  if (used > 1 && constant)
+    throw failure(exit_bad_input, fmt::format("{}: the response \"{}\" is constant (every row "
+                                              "holds {:.17g}); there is no path to trace",
+                                              shown_name, response, first));
+}
+
+// A path no predictor can enter is refused, naming (up to ten of) the
+// predictors left out and why.
+void refuse_empty_path(const Path<double>& path, const io::RunContext& context,
+                       const std::string& shown_name) {
+  if (!path.preparation().columns.empty()) return;
+  std::string list;
+  const auto& excluded = path.excluded();
+  for (std::size_t k = 0; k < excluded.size() && k < 10; ++k) {
+    const auto& ex = excluded[k];
+    list += fmt::format("{}\"{}\" ({})", list.empty() ? "" : ", ",
+                        context.predictor_names[static_cast<std::size_t>(ex.predictor)], ex.reason);
+  }
+  if (excluded.size() > 10) list += fmt::format(" and {} more", excluded.size() - 10);
+  throw failure(exit_bad_input,
+                shown_name + ": no predictor can enter the path; every one was left out: " + list);
+}
+
+}  // namespace
+
+LoadedTable load_table(const std::string& table_path, const ModelArgs& args, const Global& global,
+                       bool keep_decimal_text) {
+  std::vector<Factor> factors;
+  for (const auto& item : args.penalty_factors) factors.push_back(parse_factor(item));
+  check_model_options(args);
+  const io::TableReadOptions read = read_options(args, factors, keep_decimal_text);
+  LoadedTable out;
+  read_with_progress(out, table_path, read, global);
+  describe_columns(out, args);
+  out.options = trace_options(args, factors, out.context.predictor_names);
   return out;
 }
 
 TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
                         const Global& global) {
   LoadedTable loaded = load_table(table_path, args, global, false);
-  io::Table& table = loaded.table;
-  const std::string& shown_name = loaded.shown_name;
-  Progress& progress = *loaded.progress;
-  const TraceOptions& options = loaded.options;
+  const TableData<double> d = table_data<double>(loaded, args);
+  loaded.table = io::Table();  // free what is left before the trace copies the design
+  refuse_nothing_to_trace(d, loaded.options, loaded.shown_name, args.response);
   TracedTable out;
+  out.path = trace_table_data(
+      loaded, d, fmt::format("tracing the path ({} rows, {} predictors)", d.x.rows(), d.x.cols()));
   out.context = std::move(loaded.context);
-  const io::RunContext& context = out.context;
-
-  const Vector<double> y = table.column_vector(table.find(args.response));
-  Vector<double> w;
-  if (!args.weights.empty()) w = table.column_vector(table.find(args.weights));
-  const Matrix<double> x = table.take_matrix(loaded.predictor_columns);
-  table = io::Table();  // free what is left before the trace copies the design
-
-  // Data with nothing to trace are refused (the library returns a one-knot
-  // path for them; a user of the program almost surely gave the wrong table).
-  if (options.fit_intercept) {
-    Index used = 0;
-    double first = 0;
-    bool constant = true;
-    for (Index i = 0; i < y.size(); ++i) {
-      if (w.size() != 0 && !(w(i) > 0)) continue;
-      if (used++ == 0) first = y(i);
-      else if (y(i) != first) constant = false;
-    }
-    if (used == 1)
-      throw failure(exit_bad_input, shown_name + ": only one row" +
-                                        (w.size() ? " has a positive weight" : " of data") +
-                                        "; with an intercept every column is constant there, so "
-                                        "there is no path to trace (at least 2 rows are needed)");
-    if (used > 1 && constant)
-      throw failure(exit_bad_input, fmt::format("{}: the response \"{}\" is constant (every row "
-                                                "holds {:.17g}); there is no path to trace",
-                                                shown_name, args.response, first));
-  }
-
-  progress.status(fmt::format("tracing the path ({} rows, {} predictors)", x.rows(), x.cols()));
-  try {
-    out.path = trace<double>(x, y, options, w);
-  } catch (const invalid_option& e) {
-    throw failure(exit_usage, e.what());
-  } catch (const invalid_data& e) {
-    throw failure(exit_bad_input, shown_name + ": " + data_message(e, context.predictor_names));
-  }
-  if (out.path.preparation().columns.empty()) {
-    std::string list;
-    const auto& excluded = out.path.excluded();
-    for (std::size_t k = 0; k < excluded.size() && k < 10; ++k) {
-      const auto& ex = excluded[k];
-      list += fmt::format("{}\"{}\" ({})", list.empty() ? "" : ", ",
-                          context.predictor_names[static_cast<std::size_t>(ex.predictor)], ex.reason);
-    }
-    if (excluded.size() > 10) list += fmt::format(" and {} more", excluded.size() - 10);
-    throw failure(exit_bad_input,
-                  shown_name + ": no predictor can enter the path; every one was left out: " + list);
-  }
+  refuse_empty_path(out.path, out.context, loaded.shown_name);
   return out;
 }
 
+void write_output(const std::filesystem::path& file,
+                  const std::function<void(std::ostream&)>& write) {
+  try {
+    io::write_atomically(file, write);
+  } catch (const io::output_error& e) {
+    throw failure(exit_io, e.what());
+  }
+}
+
+int step_limit_status(bool hit, const std::string& which) {
+  if (!hit) return exit_ok;
+  std::cerr << "knotpath: numerical trouble: the homotopy hit its safety bound on steps; " << which
+            << " is incomplete (outputs describe the part traced)\n";
+  return exit_numerical;
+}
+
 std::string data_message(const invalid_data& e, const std::vector<std::string>& names) {
-  if (e.whole_column() && *e.column() < names.size()) return "predictor \"" + names[*e.column()] + "\"" + e.detail();
+  if (e.whole_column() && *e.column() < names.size())
+    return "predictor \"" + names[*e.column()] + "\"" + e.detail();
   std::string why = e.what();
   if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
   return why;

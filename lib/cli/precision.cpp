@@ -27,8 +27,9 @@ void add_precision_options(CLI::App& command, PrecisionArgs& args) {
       ->check(CLI::IsMember(words))
       ->default_str("double")
       ->group("Arithmetic");
-  command.add_option("--digits", args.digits,
-                     "Significant decimal digits of --precision mpfr (default 50)")
+  command
+      .add_option("--digits", args.digits,
+                  "Significant decimal digits of --precision mpfr (default 50)")
       ->check(CLI::Range(10u, 100000u))
       ->group("Arithmetic");
 }
@@ -55,16 +56,20 @@ void check_precision(const PrecisionArgs& precision, const ModelArgs& model) {
 template <class F>
 int with_arithmetic(Arithmetic arithmetic, F&& f) {
   switch (arithmetic) {
-    case Arithmetic::long_double: return f(static_cast<long double>(0));
-    case Arithmetic::fifty_digits: return f(float50(0));
-    case Arithmetic::exact: return f(rational(0));
+    case Arithmetic::long_double:
+      return f(static_cast<long double>(0));
+    case Arithmetic::fifty_digits:
+      return f(float50(0));
+    case Arithmetic::exact:
+      return f(rational(0));
     case Arithmetic::mpfr:
 #ifdef KNOTPATH_HAVE_MPFR
       return f(mpfr_float(0));
 #else
       break;
 #endif
-    case Arithmetic::double_precision: return f(0.0);
+    case Arithmetic::double_precision:
+      return f(0.0);
   }
   throw failure(exit_usage, "this build has no MPFR: --precision mpfr is unavailable");
 }
@@ -77,18 +82,7 @@ int trace_in(LoadedTable& loaded, const ModelArgs& model, const std::string& kno
   require_finite_path(path);
   std::cout << io::audit_text(path, loaded.context);
   std::vector<std::string> written;
-  if (!knots_file.empty()) {
-    write_report_file(knots_file, [&](std::ostream& out) {
-      io::write_knot_table(out, path, loaded.context.predictor_names);
-    });
-    written.push_back(knots_file);
-  }
-  if (!json_file.empty()) {
-    write_report_file(json_file, [&](std::ostream& out) {
-      out << io::path_document(path, loaded.context).dump(2) << '\n';
-    });
-    written.push_back(json_file);
-  }
+  write_path_outputs(path, loaded.context, knots_file, json_file, written);
   for (const auto& file : written) std::cout << "wrote " << file << '\n';
   std::cout.flush();
   return finished_status(path);
@@ -122,10 +116,7 @@ int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, b
       } else {
         const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
         if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
-        using std::sqrt;
-        const Scalar n = path.preparation().weight_sum;  // mu = lambda / sqrt(n), or lambda / n unstandardized
-        const Scalar lambda = Scalar(mu * (path.preparation().standardized ? Scalar(sqrt(n)) : n));
-        solution = path.at_penalty(lambda);
+        solution = path.at_penalty(penalty_from_size_free(path, mu));
         asked = "mu " + point.mu_text;
       }
     } else if (point.budget) {
@@ -149,10 +140,9 @@ int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, b
     std::cerr << "knotpath: note: the point asked for lies beyond the traced path ("
               << to_string(path.stop_reason()) << "); showing the last knot\n";
   if (!csv) {
-    std::cout << fmt::format("{}: penalty {} (mu {:.10g}), L1 norm {}\n", asked,
-                             io::number_text(solution.penalty),
-                             io::mu_as_double(path, solution.penalty),
-                             io::number_text(solution.l1_norm));
+    std::cout << fmt::format(
+        "{}: penalty {} (mu {:.10g}), L1 norm {}\n", asked, io::number_text(solution.penalty),
+        io::mu_as_double(path, solution.penalty), io::number_text(solution.l1_norm));
     std::cout << "arithmetic: " << io::arithmetic_name<Scalar>() << '\n';
   }
   std::cout << io::coefficient_table(solution, path, loaded.context.predictor_names, csv);

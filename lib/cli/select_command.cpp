@@ -1,11 +1,8 @@
 // knotpath select: choose a penalty by exact cross-validation, compare with
 // Mallows' Cp, AIC and BIC, and judge each entry of the path (covariance
-// and spacing tests); the --report DIR writer shared by trace, select and
-// demo; the demo's selection section.
+// and spacing tests).
 
 #include "select_command.hpp"
-
-#include <unistd.h>
 
 #include <algorithm>
 #include <cctype>
@@ -25,11 +22,13 @@
 #include <knotpath/cross_validation.hpp>
 #include <knotpath/inference.hpp>
 
+#include "path_checks.hpp"
+#include "report_folder.hpp"
+
 namespace knotpath::cli {
 
 namespace {
 
-namespace fs = std::filesystem;
 using json = nlohmann::ordered_json;
 
 struct SelectArgs {
@@ -45,7 +44,9 @@ struct SelectArgs {
 };
 
 // A number that is finite, else JSON null (NaN marks "not defined").
-json number_or_null(double v) { return std::isfinite(v) ? json(v) : json(nullptr); }
+json number_or_null(double v) {
+  return std::isfinite(v) ? json(v) : json(nullptr);
+}
 
 std::string shown(double v, int digits = 6) {
   return std::isfinite(v) ? fmt::format("{:.{}g}", v, digits) : std::string("-");
@@ -90,10 +91,12 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
   const std::string& fold_name = args.fold_column;
   if (!fold_name.empty()) {
     if (fold_name == model.response || fold_name == model.weights)
-      throw failure(exit_usage, "the fold column \"" + fold_name + "\" is also the response or the weights");
+      throw failure(exit_usage,
+                    "the fold column \"" + fold_name + "\" is also the response or the weights");
     if (std::find(model.drop.begin(), model.drop.end(), fold_name) != model.drop.end())
       throw failure(exit_usage, "the fold column \"" + fold_name + "\" is listed in --drop");
-    if (!model.use.empty()) model.use.push_back(fold_name);  // read it; removed from the predictors below
+    if (!model.use.empty())
+      model.use.push_back(fold_name);  // read it; removed from the predictors below
   }
   LoadedTable loaded = load_table(args.table, model, global, false);
   SelectData out;
@@ -109,24 +112,30 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
     if (at < 0) {
       const auto& text = table.text_columns;
       if (std::find(text.begin(), text.end(), fold_name) != text.end())
-        throw failure(exit_bad_input, out.shown_name + ": the fold column \"" + fold_name + "\" is not numeric");
-      throw failure(exit_bad_input, out.shown_name + ": no column named \"" + fold_name + "\" (--fold-column)");
+        throw failure(exit_bad_input,
+                      out.shown_name + ": the fold column \"" + fold_name + "\" is not numeric");
+      throw failure(exit_bad_input,
+                    out.shown_name + ": no column named \"" + fold_name + "\" (--fold-column)");
     }
     out.fold_of = folds_from_column(table.column_vector(at), fold_name, out.shown_name);
     // The fold column is no predictor: take it out of the columns and options.
-    const auto k = static_cast<std::size_t>(std::find(columns.begin(), columns.end(), at) - columns.begin());
+    const auto k =
+        static_cast<std::size_t>(std::find(columns.begin(), columns.end(), at) - columns.begin());
     if (k < columns.size()) {
       columns.erase(columns.begin() + static_cast<std::ptrdiff_t>(k));
       auto& names = out.context.predictor_names;
       names.erase(names.begin() + static_cast<std::ptrdiff_t>(k));
       auto& factors = out.options.penalty_factors;
-      if (factors.size() == names.size() + 1) factors.erase(factors.begin() + static_cast<std::ptrdiff_t>(k));
+      if (factors.size() == names.size() + 1)
+        factors.erase(factors.begin() + static_cast<std::ptrdiff_t>(k));
       auto& signs = out.options.sign_constraints;
-      if (signs.size() == names.size() + 1) signs.erase(signs.begin() + static_cast<std::ptrdiff_t>(k));
+      if (signs.size() == names.size() + 1)
+        signs.erase(signs.begin() + static_cast<std::ptrdiff_t>(k));
     }
     if (columns.empty())
-      throw failure(exit_bad_input,
-                    out.shown_name + ": no numeric predictor columns besides the response and the folds");
+      throw failure(
+          exit_bad_input,
+          out.shown_name + ": no numeric predictor columns besides the response and the folds");
     try {
       out.options.validate(columns.size());
     } catch (const invalid_option& e) {
@@ -144,13 +153,16 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
   double first = 0;
   for (Index i = 0; i < out.y.size(); ++i) {
     if (out.w.size() != 0 && !(out.w(i) > 0)) continue;
-    if (used++ == 0) first = out.y(i);
-    else if (out.y(i) != first) constant = false;
+    if (used++ == 0)
+      first = out.y(i);
+    else if (out.y(i) != first)
+      constant = false;
   }
   if (out.options.fit_intercept && used > 1 && constant)
-    throw failure(exit_bad_input, fmt::format("{}: the response \"{}\" is constant (every row holds "
-                                              "{:.17g}); there is nothing to select",
-                                              out.shown_name, model.response, first));
+    throw failure(exit_bad_input,
+                  fmt::format("{}: the response \"{}\" is constant (every row holds "
+                              "{:.17g}); there is nothing to select",
+                              out.shown_name, model.response, first));
   return out;
 }
 
@@ -167,17 +179,20 @@ Selection run_selection(const SelectData& data, const CrossValidationOptions& cv
                         std::optional<double> noise_variance) {
   Selection s;
   if (data.progress)
-    data.progress->status(fmt::format("cross-validating ({} rows, {} predictors)", data.x.rows(), data.x.cols()));
+    data.progress->status(
+        fmt::format("cross-validating ({} rows, {} predictors)", data.x.rows(), data.x.cols()));
   try {
     s.cv = cross_validate<double>(data.x, data.y, data.options, cv_options, data.w);
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
-    throw failure(exit_bad_input, data.shown_name + ": " + data_message(e, data.context.predictor_names));
+    throw failure(exit_bad_input,
+                  data.shown_name + ": " + data_message(e, data.context.predictor_names));
   }
   const Path<double>& path = s.cv.full_path;
   if (path.preparation().columns.empty())
-    throw failure(exit_bad_input, data.shown_name + ": no predictor can enter the path (every one was left out)");
+    throw failure(exit_bad_input,
+                  data.shown_name + ": no predictor can enter the path (every one was left out)");
   auto reason = [](const std::exception& e) {
     std::string why = e.what();
     if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
@@ -209,66 +224,78 @@ Selection run_selection(const SelectData& data, const CrossValidationOptions& cv
 
 std::string source_name(NoiseVarianceSource source) {
   switch (source) {
-    case NoiseVarianceSource::given: return "given";
-    case NoiseVarianceSource::least_squares: return "least-squares";
-    case NoiseVarianceSource::sparse_fit: return "sparse-fit";
+    case NoiseVarianceSource::given:
+      return "given";
+    case NoiseVarianceSource::least_squares:
+      return "least-squares";
+    case NoiseVarianceSource::sparse_fit:
+      return "sparse-fit";
   }
   return "?";
 }
 
-std::size_t active_count(const Path<double>& path, double lambda) { return path.active_at(lambda).size(); }
+std::size_t active_count(const Path<double>& path, double lambda) {
+  return path.active_at(lambda).size();
+}
 
-// The text select prints.
-void print_selection(std::ostream& out, const Selection& s, const SelectData& data, const SelectArgs& args) {
+// The audit with the tests beside each entry.
+void print_audit_with_tests(std::ostream& out, const Selection& s, const SelectData& data) {
   const Path<double>& path = s.cv.full_path;
   const auto& names = data.context.predictor_names;
-  const auto& prep = path.preparation();
   const double scale = s.cv.full_scale;
-  const double tss = prep.total_sum_of_squares;
-
-  out << fmt::format("{} path of {} on {} predictors, {} rows used ({})\n",
-                     path.options().variant == Variant::lasso ? "lasso" : "least-angle", data.context.response,
-                     names.size(), prep.used_observations, data.context.source);
-
-  // The audit with the tests beside each entry.
+  const double tss = path.preparation().total_sum_of_squares;
   std::map<Index, const EntrySignificance*> test_of;
   if (s.significance)
     for (const auto& e : s.significance->entries) test_of[e.step] = &e;
-  out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7} {:>9} {:>10} {:>10}\n", "step", "penalty",
-                     "mu", "event", "predictor", "active", "R^2", "cov.stat", "p(cov)", "p(spacing)");
+  out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7} {:>9} {:>10} {:>10}\n", "step",
+                     "penalty", "mu", "event", "predictor", "active", "R^2", "cov.stat", "p(cov)",
+                     "p(spacing)");
   for (const auto& k : path.knots()) {
     const std::string name = k.predictor >= 0 ? names[static_cast<std::size_t>(k.predictor)] : "";
     std::string tests;
     if (auto it = test_of.find(k.step); it != test_of.end() && k.event == EventKind::enter)
       tests = fmt::format(" {:>9} {:>10} {:>10}", shown(it->second->covariance_statistic, 4),
-                          shown(it->second->covariance_p_value, 3), shown(it->second->spacing_p_value, 3));
-    out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7.4f}{}\n", k.step, shown(k.penalty),
-                       shown(k.penalty / scale), to_string(k.event), name, k.active,
-                       tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
+                          shown(it->second->covariance_p_value, 3),
+                          shown(it->second->spacing_p_value, 3));
+    out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7.4f}{}\n", k.step,
+                       shown(k.penalty), shown(k.penalty / scale), to_string(k.event), name,
+                       k.active, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
   }
+}
+
+// The reference distribution of the tests and their notes, each once with
+// the steps it applies to.
+void print_test_notes(std::ostream& out, const Selection& s) {
   if (s.significance) {
-    // Each note once, with the steps it applies to.
     std::vector<std::pair<std::string, std::string>> grouped;  // note, steps
     for (const auto& e : s.significance->entries) {
       if (e.note.empty()) continue;
-      auto it = std::find_if(grouped.begin(), grouped.end(), [&](const auto& g) { return g.first == e.note; });
-      if (it == grouped.end()) grouped.emplace_back(e.note, std::to_string(e.step));
-      else it->second += ", " + std::to_string(e.step);
+      auto it = std::find_if(grouped.begin(), grouped.end(),
+                             [&](const auto& g) { return g.first == e.note; });
+      if (it == grouped.end())
+        grouped.emplace_back(e.note, std::to_string(e.step));
+      else
+        it->second += ", " + std::to_string(e.step);
     }
     std::string notes;
     for (const auto& [note, steps] : grouped)
-      notes += fmt::format("  note (step{} {}): {}\n", steps.find(',') == std::string::npos ? "" : "s", steps, note);
-    out << fmt::format("tests: covariance statistic with {} p-value, spacing p-value; noise variance {} ({})\n",
-                       s.significance->residual_df > 0 ? fmt::format("F(2, {})", s.significance->residual_df)
-                                                       : std::string("Exp(1)"),
-                       shown(s.significance->noise_variance),
-                       s.significance->residual_df > 0 ? "least-squares fit" : "given");
+      notes += fmt::format("  note (step{} {}): {}\n",
+                           steps.find(',') == std::string::npos ? "" : "s", steps, note);
+    out << fmt::format(
+        "tests: covariance statistic with {} p-value, spacing p-value; noise variance {} ({})\n",
+        s.significance->residual_df > 0 ? fmt::format("F(2, {})", s.significance->residual_df)
+                                        : std::string("Exp(1)"),
+        shown(s.significance->noise_variance),
+        s.significance->residual_df > 0 ? "least-squares fit" : "given");
     out << notes;
   } else {
     out << "tests: not computed: " << s.significance_note << '\n';
   }
+}
 
-  // Cross-validation.
+// How the folds were made, the exact curve and the two choices.
+void print_cross_validation(std::ostream& out, const Selection& s, const SelectArgs& args) {
+  const Path<double>& path = s.cv.full_path;
   const auto& cv = s.cv;
   std::string how;
   if (!args.fold_column.empty())
@@ -277,10 +304,11 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
     how = fmt::format("leave-one-out ({} folds)", cv.folds.size());
   else
     how = fmt::format("{} folds, seed {}", cv.folds.size(), args.seed);
-  out << fmt::format("\nexact cross-validation: {}; the curve is {} quadratic pieces on mu in [{}, {}]\n", how,
-                     cv.pieces.size(), shown(cv.mu_low), shown(cv.mu_high));
-  out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", "choice", "lambda", "mu", "CV error",
-                     "SE", "active");
+  out << fmt::format(
+      "\nexact cross-validation: {}; the curve is {} quadratic pieces on mu in [{}, {}]\n", how,
+      cv.pieces.size(), shown(cv.mu_low), shown(cv.mu_high));
+  out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", "choice", "lambda", "mu",
+                     "CV error", "SE", "active");
   auto choice = [&](const char* label, const CurvePoint<double>& c) {
     out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", label, shown(c.lambda, 7),
                        shown(c.mu, 7), shown(c.error, 7), shown(c.standard_error, 4),
@@ -288,21 +316,25 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   };
   choice("least CV error (exact)", cv.minimum);
   choice("parsimonious (within 1 SE)", cv.parsimonious);
+}
 
-  // Information criteria.
+// Where Mallows' Cp, AIC and BIC are least.
+void print_criteria(std::ostream& out, const Selection& s) {
   if (s.criteria) {
     const auto& ic = *s.criteria;
     std::string source = ic.source == NoiseVarianceSource::given ? "given"
                          : ic.source == NoiseVarianceSource::least_squares
                              ? fmt::format("least-squares fit, {} residual df", ic.residual_df)
-                             : fmt::format("rough estimate from a sparse lasso fit, {} residual df; give "
-                                           "--noise-variance when it matters",
-                                           ic.residual_df);
-    out << fmt::format("\ninformation criteria (noise variance {}, {}):\n", shown(ic.noise_variance), source);
+                             : fmt::format(
+                                   "rough estimate from a sparse lasso fit, {} residual df; give "
+                                   "--noise-variance when it matters",
+                                   ic.residual_df);
+    out << fmt::format("\ninformation criteria (noise variance {}, {}):\n",
+                       shown(ic.noise_variance), source);
     auto best = [&](const char* label, std::size_t i) {
       const auto& c = ic.knots[i];
-      out << fmt::format("  {:<12} least at step {:>3}: lambda {:>11}  mu {:>11}  {} nonzero\n", label, c.step,
-                         shown(c.penalty, 7), shown(c.mu, 7), c.nonzero);
+      out << fmt::format("  {:<12} least at step {:>3}: lambda {:>11}  mu {:>11}  {} nonzero\n",
+                         label, c.step, shown(c.penalty, 7), shown(c.mu, 7), c.nonzero);
     };
     best("Mallows' Cp", ic.best_cp);
     best("AIC", ic.best_aic);
@@ -310,15 +342,23 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   } else {
     out << "\ninformation criteria: not computed: " << s.criteria_note << '\n';
   }
+}
 
-  // Coefficients at the two choices.
+// The coefficients at the two choices (predictors zero at both counted).
+void print_choice_coefficients(std::ostream& out, const Selection& s, const SelectData& data) {
+  const Path<double>& path = s.cv.full_path;
+  const auto& names = data.context.predictor_names;
+  const auto& cv = s.cv;
   const Solution<double> least = path.at_penalty(cv.minimum.lambda);
   const Solution<double> lean = path.at_penalty(cv.parsimonious.lambda);
-  out << fmt::format("\ncoefficients (original scale) {:>19} {:>19}\n", "at least CV error", "parsimonious");
-  out << fmt::format("  {:<28} {:>19} {:>19}\n", "(intercept)", shown(least.intercept, 8), shown(lean.intercept, 8));
+  out << fmt::format("\ncoefficients (original scale) {:>19} {:>19}\n", "at least CV error",
+                     "parsimonious");
+  out << fmt::format("  {:<28} {:>19} {:>19}\n", "(intercept)", shown(least.intercept, 8),
+                     shown(lean.intercept, 8));
   std::size_t zero = 0;
   for (std::size_t j = 0; j < names.size(); ++j) {
-    const double a = least.coefficients(static_cast<Index>(j)), b = lean.coefficients(static_cast<Index>(j));
+    const double a = least.coefficients(static_cast<Index>(j)),
+                 b = lean.coefficients(static_cast<Index>(j));
     if (a == 0 && b == 0) {
       ++zero;
       continue;
@@ -326,15 +366,32 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
     out << fmt::format("  {:<28} {:>19} {:>19}\n", names[j], shown(a, 8), shown(b, 8));
   }
   if (zero) out << fmt::format("  ({} more predictors are 0 at both)\n", zero);
+}
 
+// The text select prints.
+void print_selection(std::ostream& out, const Selection& s, const SelectData& data,
+                     const SelectArgs& args) {
+  const Path<double>& path = s.cv.full_path;
+  const auto& prep = path.preparation();
+  out << fmt::format("{} path of {} on {} predictors, {} rows used ({})\n",
+                     path.options().variant == Variant::lasso ? "lasso" : "least-angle",
+                     data.context.response, data.context.predictor_names.size(),
+                     prep.used_observations, data.context.source);
+  print_audit_with_tests(out, s, data);
+  print_test_notes(out, s);
+  print_cross_validation(out, s, args);
+  print_criteria(out, s);
+  print_choice_coefficients(out, s, data);
   out << '\n';
   for (const auto& line : caution_lines(true)) out << "caution: " << line << '\n';
 }
 
-json choice_json(const CurvePoint<double>& c, const Path<double>& path, const std::vector<std::string>& names) {
+json choice_json(const CurvePoint<double>& c, const Path<double>& path,
+                 const std::vector<std::string>& names) {
   const Solution<double> s = path.at_penalty(c.lambda);
   json coefficients = json::object();
-  for (std::size_t j = 0; j < names.size(); ++j) coefficients[names[j]] = s.coefficients(static_cast<Index>(j));
+  for (std::size_t j = 0; j < names.size(); ++j)
+    coefficients[names[j]] = s.coefficients(static_cast<Index>(j));
   return json{{"lambda", c.lambda},
               {"mu", c.mu},
               {"cv_error", c.error},
@@ -363,7 +420,10 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   }
   json curve = json::array();
   for (const auto& p : cv.knot_points())
-    curve.push_back(json{{"mu", p.mu}, {"lambda", p.lambda}, {"cv_error", p.error}, {"standard_error", p.standard_error}});
+    curve.push_back(json{{"mu", p.mu},
+                         {"lambda", p.lambda},
+                         {"cv_error", p.error},
+                         {"standard_error", p.standard_error}});
   doc["cross_validation"] = json{{"folds", folds},
                                  {"mu_high", cv.mu_high},
                                  {"mu_low", cv.mu_low},
@@ -375,21 +435,24 @@ json selection_document(const Selection& s, const SelectData& data, const Select
     const auto& ic = *s.criteria;
     json knots = json::array();
     for (const auto& c : ic.knots)
-      knots.push_back(json{{"step", c.step}, {"lambda", c.penalty}, {"mu", c.mu}, {"nonzero", c.nonzero},
-                           {"parameters", c.parameters}, {"rss", c.rss}, {"mallows_cp", c.mallows_cp},
-                           {"aic", c.aic}, {"bic", c.bic}});
+      knots.push_back(json{{"step", c.step},
+                           {"lambda", c.penalty},
+                           {"mu", c.mu},
+                           {"nonzero", c.nonzero},
+                           {"parameters", c.parameters},
+                           {"rss", c.rss},
+                           {"mallows_cp", c.mallows_cp},
+                           {"aic", c.aic},
+                           {"bic", c.bic}});
     auto best = [&](std::size_t i) {
       const auto& c = ic.knots[i];
       return json{{"step", c.step}, {"lambda", c.penalty}, {"mu", c.mu}, {"nonzero", c.nonzero}};
     };
-    doc["information_criteria"] = json{{"noise_variance", ic.noise_variance},
-                                       {"noise_variance_source", source_name(ic.source)},
-                                       {"residual_df", ic.residual_df},
-                                       {"observations", ic.observations},
-                                       {"best_mallows_cp", best(ic.best_cp)},
-                                       {"best_aic", best(ic.best_aic)},
-                                       {"best_bic", best(ic.best_bic)},
-                                       {"knots", knots}};
+    doc["information_criteria"] = json{
+        {"noise_variance", ic.noise_variance}, {"noise_variance_source", source_name(ic.source)},
+        {"residual_df", ic.residual_df},       {"observations", ic.observations},
+        {"best_mallows_cp", best(ic.best_cp)}, {"best_aic", best(ic.best_aic)},
+        {"best_bic", best(ic.best_bic)},       {"knots", knots}};
   } else {
     doc["information_criteria"] = json{{"note", s.criteria_note}};
   }
@@ -405,10 +468,11 @@ json selection_document(const Selection& s, const SelectData& data, const Select
                              {"covariance_p_value", number_or_null(e.covariance_p_value)},
                              {"spacing_p_value", number_or_null(e.spacing_p_value)},
                              {"note", e.note}});
-    doc["significance"] = json{{"noise_variance", sig.noise_variance},
-                               {"residual_df", sig.residual_df},
-                               {"covariance_reference", sig.residual_df > 0 ? "F(2, residual_df)" : "Exp(1)"},
-                               {"entries", entries}};
+    doc["significance"] =
+        json{{"noise_variance", sig.noise_variance},
+             {"residual_df", sig.residual_df},
+             {"covariance_reference", sig.residual_df > 0 ? "F(2, residual_df)" : "Exp(1)"},
+             {"entries", entries}};
   } else {
     doc["significance"] = json{{"note", s.significance_note}};
   }
@@ -417,174 +481,60 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   return doc;
 }
 
-void write_json_file(const std::string& file, const json& doc) {
-  try {
-    io::write_atomically(file, [&](std::ostream& out) { out << doc.dump(2) << '\n'; });
-  } catch (const io::output_error& e) {
-    throw failure(exit_io, e.what());
-  }
-}
-
 // Status of a finished run: numerical trouble when the safety bound on
 // steps stopped the full path or a fold's path.
 int finished(const CrossValidation<double>& cv) {
   bool hit = cv.full_path.stop_reason() == StopReason::step_limit;
   for (const auto& f : cv.folds) hit = hit || f.path.stop_reason() == StopReason::step_limit;
-  if (hit) {
-    std::cerr << "knotpath: numerical trouble: the homotopy hit its safety bound on steps; a path is "
-                 "incomplete (outputs describe the part traced)\n";
-    return exit_numerical;
-  }
-  return exit_ok;
-}
-
-void require_finite(const Path<double>& path) {
-  for (const auto& knot : path.knots()) {
-    bool finite = std::isfinite(knot.penalty) && std::isfinite(knot.l1_norm) && std::isfinite(knot.intercept) &&
-                  std::isfinite(knot.rss);
-    for (const auto& [j, value] : knot.coefficients) finite = finite && std::isfinite(value);
-    if (!finite)
-      throw failure(exit_numerical,
-                    fmt::format("numerical trouble: knot {} holds a value that is not finite", knot.step));
-  }
+  return step_limit_status(hit, "a path");
 }
 
 }  // namespace
 
-std::vector<std::string> caution_lines(bool with_selection) {
-  std::vector<std::string> lines{
-      "a path and a penalty chosen on it describe associations in these data, not causes."};
-  if (with_selection) {
-    lines.push_back(
-        "cross-validated errors are estimates (their standard error is shown); with few rows per fold they "
-        "change with the folds.");
-    lines.push_back(
-        "the p-values are valid only under the model's assumptions (linear model, independent Gaussian noise "
-        "of constant variance, fixed design) and only for the question each test asks; choosing predictors "
-        "from the same data makes ordinary p-values and intervals of the chosen model too optimistic "
-        "(selection effects).");
-  }
-  lines.push_back("do not use these results as the sole basis for decisions with consequences for people.");
-  return lines;
-}
-
-std::vector<std::string> write_report_dir(const fs::path& dir, const Path<double>& path,
-                                          const io::RunContext& context, const charts::SelectionCurve* selection) {
-  charts::ChartPath chart = charts::chart_path(path, context.predictor_names, context.response);
-  charts::ReportOptions options;
-  options.title = "knotpath: " + context.response;
-  options.summary = {{"data", context.source},
-                     {"response", context.response},
-                     {"rows used", std::to_string(path.preparation().used_observations)}};
-  if (context.weights) options.summary.emplace_back("weights", *context.weights);
-  if (context.rows_dropped)
-    options.summary.emplace_back("rows dropped (missing cells)", std::to_string(context.rows_dropped));
-  options.summary.emplace_back("program", "knotpath " + context.program_version);
-  options.cautions = caution_lines(selection != nullptr);
-
-  // Everything is written into a fresh folder beside `dir`, then moved in.
-  const fs::path target = dir.empty() ? fs::path(".") : dir;
-  fs::path parent = target.parent_path();
-  if (parent.empty()) parent = ".";
-  std::error_code ec;
-  fs::create_directories(parent, ec);
-  if (ec) throw failure(exit_io, "cannot create " + parent.string() + ": " + ec.message());
-  fs::path staging;
-  for (int attempt = 0;; ++attempt) {
-    staging = parent / fmt::format(".{}.knotpath-tmp-{}-{}", target.filename().string(), ::getpid(), attempt);
-    if (fs::create_directory(staging, ec)) break;
-    if (ec || attempt > 100) throw failure(exit_io, "cannot create a temporary folder in " + parent.string());
-  }
-  std::vector<std::string> written;
-  try {
-    const auto files = charts::write_report(staging, chart, options, selection);
-    fs::create_directories(target, ec);
-    if (ec) throw std::runtime_error("cannot create " + target.string() + ": " + ec.message());
-    if (!fs::is_directory(target)) throw std::runtime_error(target.string() + " is not a folder");
-    for (const auto& f : files) {
-      const fs::path to = target / f.filename();
-      fs::rename(f, to, ec);
-      if (ec) throw std::runtime_error("cannot write " + to.string() + ": " + ec.message());
-      written.push_back(to.string());
-    }
-  } catch (const failure&) {
-    fs::remove_all(staging, ec);
-    throw;
-  } catch (const invalid_option& e) {
-    fs::remove_all(staging, ec);
-    throw failure(exit_internal, std::string("report: ") + e.what());
-  } catch (const std::exception& e) {
-    fs::remove_all(staging, ec);
-    std::string why = e.what();
-    if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-    throw failure(exit_io, "report: " + why);
-  }
-  fs::remove_all(staging, ec);
-  return written;
-}
-
-charts::SelectionCurve demo_selection(const demo::DemoData& data, const std::string& table_file, std::ostream& out) {
-  CrossValidationOptions cv_options;  // 10 folds, default seed
-  const auto cv = cross_validate<double>(data.x, data.y, TraceOptions{}, cv_options);
-  const auto criteria = information_criteria<double>(data.x, data.y, cv.full_path);
-  require_finite(cv.full_path);
-  auto kept = [&](double lambda) {
-    std::string list;
-    for (Index j : cv.full_path.active_at(lambda))
-      list += (list.empty() ? "" : ", ") + data.predictor_names[static_cast<std::size_t>(j)];
-    return list;
-  };
-  out << fmt::format("choosing the penalty (exact {}-fold cross-validation, seed {}):\n", cv.folds.size(),
-                     cv_options.seed);
-  auto line = [&](const char* label, const CurvePoint<double>& c) {
-    out << fmt::format("  {:<27} lambda {:.6g} (mu {:.6g}), CV error {:.5g} +/- {:.3g}, {} predictors\n", label,
-                       c.lambda, c.mu, c.error, c.standard_error, cv.full_path.active_at(c.lambda).size());
-  };
-  line("least CV error:", cv.minimum);
-  line("parsimonious (within 1 SE):", cv.parsimonious);
-  out << "  kept by the parsimonious choice: " << kept(cv.parsimonious.lambda) << '\n';
-  out << "  more (criteria, p-values): knotpath select " << table_file << " --response " << data.response_name
-      << "\n\n";
-  charts::SelectionCurve curve = charts::selection_curve(cv, &criteria);
-  curve.error_unit = "(kg/m\xC2\xB2)\xC2\xB2";
-  return curve;
-}
-
 CLI::App* add_select_command(CLI::App& app, Global& global) {
   auto args = std::make_shared<SelectArgs>();
-  CLI::App* command = app.add_subcommand(
-      "select",
-      "Choose a penalty by exact cross-validation, compare Cp/AIC/BIC, and test each entry of the path");
-  command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")->required();
+  CLI::App* command = app.add_subcommand("select",
+                                         "Choose a penalty by exact cross-validation, compare "
+                                         "Cp/AIC/BIC, and test each entry of the path");
+  command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
+      ->required();
   add_model_options(*command, args->model);
-  auto* folds = command->add_option("--folds", args->folds, "Number of cross-validation folds (>= 2)")
-                    ->check(CLI::Range(std::size_t{2}, std::size_t{1000000}))
-                    ->default_str("10")
-                    ->group("Cross-validation");
+  auto* folds =
+      command->add_option("--folds", args->folds, "Number of cross-validation folds (>= 2)")
+          ->check(CLI::Range(std::size_t{2}, std::size_t{1000000}))
+          ->default_str("10")
+          ->group("Cross-validation");
   auto* loo = command->add_flag("--leave-one-out", args->leave_one_out, "Every row is its own fold")
                   ->group("Cross-validation");
   auto* seed = command->add_option("--seed", args->seed, "Seed of the fold assignment")
                    ->default_str(std::to_string(CrossValidationOptions{}.seed))
                    ->group("Cross-validation");
-  auto* column = command->add_option("--fold-column", args->fold_column,
-                                     "Column of fold labels (whole numbers; each label >= 0 is a fold, a "
-                                     "negative label keeps the row in every training set); not a predictor")
-                     ->group("Cross-validation");
+  auto* column =
+      command
+          ->add_option("--fold-column", args->fold_column,
+                       "Column of fold labels (whole numbers; each label >= 0 is a fold, a "
+                       "negative label keeps the row in every training set); not a predictor")
+          ->group("Cross-validation");
   folds->excludes(loo)->excludes(column);
   loo->excludes(column)->excludes(seed);
   column->excludes(seed);
-  command->add_option("--noise-variance", args->noise_variance,
-                      "Noise variance sigma^2 for the criteria and tests (default: estimated)")
+  command
+      ->add_option("--noise-variance", args->noise_variance,
+                   "Noise variance sigma^2 for the criteria and tests (default: estimated)")
       ->check(CLI::PositiveNumber)
       ->group("Criteria");
-  command->add_option("--json", args->json_file, "Write the selection and the path as JSON to this file")
+  command
+      ->add_option("--json", args->json_file,
+                   "Write the selection and the path as JSON to this file")
       ->group("Output");
-  command->add_option("--report", args->report_dir,
-                      "Write an HTML report with charts (report.html and SVG files) into this folder")
+  command
+      ->add_option("--report", args->report_dir,
+                   "Write an HTML report with charts (report.html and SVG files) into this folder")
       ->group("Output");
   command->footer(
       "Example:\n"
-      "  knotpath select patients.csv --response progression --folds 10 --seed 7 --json selection.json "
+      "  knotpath select patients.csv --response progression --folds 10 --seed 7 --json "
+      "selection.json "
       "--report report\n");
   command->callback([args, &global] {
     SelectData data = read_select_data(*args, global);
@@ -595,7 +545,7 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     cv.fold_of = data.fold_of;
     cv.threads = args->model.threads;  // --threads: the folds in parallel
     Selection s = run_selection(data, cv, args->noise_variance);
-    require_finite(s.cv.full_path);
+    require_finite_path(s.cv.full_path);
     std::ostringstream text;
     print_selection(text, s, data, *args);
     // Outputs only after everything is computed: an error writes nothing.
@@ -609,7 +559,7 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     data.progress.reset();  // clears the progress line before printing
     std::cout << text.str();
     if (!args->json_file.empty()) {
-      write_json_file(args->json_file, doc);
+      write_output(args->json_file, [&](std::ostream& out) { out << doc.dump(2) << '\n'; });
       std::cout << "wrote " << args->json_file << '\n';
     }
     if (!args->report_dir.empty()) {

@@ -10,12 +10,14 @@
 #include <functional>
 #include <string>
 #include <type_traits>
+#include <vector>
 
 #include <fmt/format.h>
 
 #include <knotpath/precision.hpp>
 
 #include "cli.hpp"
+#include "path_checks.hpp"
 
 namespace knotpath::cli {
 
@@ -29,46 +31,6 @@ inline Arithmetic arithmetic_of(const PrecisionArgs& args) {
   if (args.precision == "mpfr") return Arithmetic::mpfr;
   if (args.precision == "exact") return Arithmetic::exact;
   return Arithmetic::double_precision;
-}
-
-/// Writes a report file atomically, mapping file-system refusals to exit_io.
-inline void write_report_file(const std::filesystem::path& file,
-                              const std::function<void(std::ostream&)>& write) {
-  try {
-    io::write_atomically(file, write);
-  } catch (const io::output_error& e) {
-    throw failure(exit_io, e.what());
-  }
-}
-
-/// Refuses a path with a value that is not finite (exact paths always are).
-template <class Scalar>
-void require_finite_path(const Path<Scalar>& path) {
-  if constexpr (!detail::is_exact_v<Scalar>) {
-    auto finite = [](const Scalar& v) { return std::isfinite(detail::to_double(v)); };
-    for (const auto& knot : path.knots()) {
-      bool ok = finite(knot.penalty) && finite(knot.l1_norm) && finite(knot.intercept) &&
-                finite(knot.rss);
-      for (const auto& [j, value] : knot.coefficients) ok = ok && finite(value);
-      if (!ok)
-        throw failure(exit_numerical,
-                      fmt::format("numerical trouble: knot {} holds a value that is not finite",
-                                  knot.step));
-    }
-  }
-}
-
-/// Exit status of a finished trace: numerical trouble when the safety bound
-/// on steps stopped it.
-template <class Scalar>
-int finished_status(const Path<Scalar>& path) {
-  if (path.stop_reason() == StopReason::step_limit) {
-    std::fputs("knotpath: numerical trouble: the homotopy hit its safety bound on steps; "
-               "the path is incomplete (outputs describe the part traced)\n",
-               stderr);
-    return exit_numerical;
-  }
-  return exit_ok;
 }
 
 /// One column of a table parsed exactly into Scalar from its decimal text.
@@ -90,43 +52,85 @@ Vector<Scalar> exact_column(const LoadedTable& loaded, Index column) {
   return v;
 }
 
-/// Traces a loaded table in Scalar. For double the reader's values are moved
-/// out of the table (as `trace` always did); for every other arithmetic the
-/// decimal text (LoadedTable read with keep_decimal_text) is parsed exactly
-/// and the table is left as it was.
+/// The design, response and weights of a loaded table in Scalar.
 template <class Scalar>
-Path<Scalar> trace_loaded(LoadedTable& loaded, const ModelArgs& args) {
-  io::Table& table = loaded.table;
-  TraceOptions options = loaded.options;
-  Vector<Scalar> y, w;
+struct TableData {
   Matrix<Scalar> x;
+  Vector<Scalar> y, w;  ///< w empty: unweighted
+};
+
+/// Takes the data out of a loaded table. For double the reader's values
+/// are moved out of the table (the predictor columns are left empty); for
+/// every other arithmetic the decimal text (LoadedTable read with
+/// keep_decimal_text) is parsed exactly and the table is left as it was.
+template <class Scalar>
+TableData<Scalar> table_data(LoadedTable& loaded, const ModelArgs& args) {
+  io::Table& table = loaded.table;
+  TableData<Scalar> d;
   if constexpr (std::is_same_v<Scalar, double>) {
-    y = table.column_vector(table.find(args.response));
-    if (!args.weights.empty()) w = table.column_vector(table.find(args.weights));
-    x = table.take_matrix(loaded.predictor_columns);
+    d.y = table.column_vector(table.find(args.response));
+    if (!args.weights.empty()) d.w = table.column_vector(table.find(args.weights));
+    d.x = table.take_matrix(loaded.predictor_columns);
   } else {
-    y = exact_column<Scalar>(loaded, table.find(args.response));
-    if (!args.weights.empty()) w = exact_column<Scalar>(loaded, table.find(args.weights));
-    x.resize(static_cast<Index>(table.rows), static_cast<Index>(loaded.predictor_columns.size()));
+    d.y = exact_column<Scalar>(loaded, table.find(args.response));
+    if (!args.weights.empty()) d.w = exact_column<Scalar>(loaded, table.find(args.weights));
+    d.x.resize(static_cast<Index>(table.rows), static_cast<Index>(loaded.predictor_columns.size()));
     for (std::size_t k = 0; k < loaded.predictor_columns.size(); ++k)
-      x.col(static_cast<Index>(k)) = exact_column<Scalar>(loaded, loaded.predictor_columns[k]);
+      d.x.col(static_cast<Index>(k)) = exact_column<Scalar>(loaded, loaded.predictor_columns[k]);
   }
+  return d;
+}
+
+/// Traces the data of a loaded table with its options, showing `status` on
+/// the progress line; the library's refusals become usage (bad option) and
+/// bad-input (bad data, named through data_message) failures.
+template <class Scalar>
+Path<Scalar> trace_table_data(const LoadedTable& loaded, const TableData<Scalar>& d,
+                              const std::string& status) {
+  TraceOptions options = loaded.options;
   if constexpr (detail::is_exact_v<Scalar>) {
     // Exact weights other than 0/1 need the Gram form (no square roots of
     // weights); it is exact too.
-    if (w.size() != 0) options.storage = Storage::gram;
+    if (d.w.size() != 0) options.storage = Storage::gram;
   }
-  if (loaded.progress)
-    loaded.progress->status(fmt::format("tracing the path in {} ({} rows, {} predictors)",
-                                        io::arithmetic_name<Scalar>(), x.rows(), x.cols()));
+  if (loaded.progress) loaded.progress->status(status);
   try {
-    return trace<Scalar>(x, y, options, w);
+    return trace<Scalar>(d.x, d.y, options, d.w);
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
-    std::string why = e.what();
-    if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-    throw failure(exit_bad_input, loaded.shown_name + ": " + why);
+    throw failure(exit_bad_input,
+                  loaded.shown_name + ": " + data_message(e, loaded.context.predictor_names));
+  }
+}
+
+/// Traces a loaded table in Scalar (table_data, then trace_table_data with
+/// a status that names the arithmetic).
+template <class Scalar>
+Path<Scalar> trace_loaded(LoadedTable& loaded, const ModelArgs& args) {
+  const TableData<Scalar> d = table_data<Scalar>(loaded, args);
+  return trace_table_data(loaded, d,
+                          fmt::format("tracing the path in {} ({} rows, {} predictors)",
+                                      io::arithmetic_name<Scalar>(), d.x.rows(), d.x.cols()));
+}
+
+/// Writes the knot table and the JSON document of a path when their files
+/// are named, adding each file written to `written`.
+template <class Scalar>
+void write_path_outputs(const Path<Scalar>& path, const io::RunContext& context,
+                        const std::string& knots_file, const std::string& json_file,
+                        std::vector<std::string>& written) {
+  if (!knots_file.empty()) {
+    write_output(knots_file, [&](std::ostream& out) {
+      io::write_knot_table(out, path, context.predictor_names);
+    });
+    written.push_back(knots_file);
+  }
+  if (!json_file.empty()) {
+    write_output(json_file, [&](std::ostream& out) {
+      out << io::path_document(path, context).dump(2) << '\n';
+    });
+    written.push_back(json_file);
   }
 }
 

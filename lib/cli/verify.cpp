@@ -8,6 +8,7 @@
 #include <limits>
 
 #include <fmt/format.h>
+#include <nlohmann/json.hpp>
 
 #include "typed_trace.hpp"
 
@@ -35,15 +36,19 @@ std::string thresholds_text() {
       "wrong: the event sequences differ, or a coefficient differs by more than {} (relative); "
       "degraded: same events, but a knot penalty differs by more than {} or a coefficient by "
       "more than {} (relative); trustworthy: otherwise",
-      threshold_text(VerdictThresholds::wrong_coefficient), threshold_text(VerdictThresholds::degraded_knot),
+      threshold_text(VerdictThresholds::wrong_coefficient),
+      threshold_text(VerdictThresholds::degraded_knot),
       threshold_text(VerdictThresholds::degraded_coefficient));
 }
 
 int status_of(Verdict verdict) {
   switch (verdict) {
-    case Verdict::trustworthy: return exit_ok;
-    case Verdict::degraded: return exit_degraded;
-    case Verdict::wrong: return exit_wrong;
+    case Verdict::trustworthy:
+      return exit_ok;
+    case Verdict::degraded:
+      return exit_degraded;
+    case Verdict::wrong:
+      return exit_wrong;
   }
   return exit_wrong;
 }
@@ -60,35 +65,26 @@ std::string event_text(const std::string& event, const std::string& predictor, d
                      penalty);
 }
 
-template <class High>
-int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
-  // The high-precision path first: it reads the decimal text; the double
-  // trace then moves the reader's doubles out of the table.
-  const Path<High> high = trace_loaded<High>(loaded, args.model);
-  const Path<double> low = trace_loaded<double>(loaded, args.model);
-  loaded.progress.reset();
-  const std::string high_name = io::arithmetic_name<High>();
-  const auto& names = loaded.context.predictor_names;
+// The two paths and how they compare.
+struct Comparison {
+  CrossCheck check;
+  bool low_finite = true;  // every value of the double path finite
+  std::string high_name;   // arithmetic of the high-precision path
+};
 
-  CrossCheck check = compare_paths(low, high);
-  // A double path with values that are not finite compares as NaN, which
-  // no threshold catches: it is wrong.
-  bool low_finite = true;
-  try {
-    require_finite_path(low);
-  } catch (const failure&) {
-    low_finite = false;
-    check.verdict = Verdict::wrong;
-  }
-  const int status = status_of(check.verdict);
+// What both reports say about the run (from the double path).
+struct RunFacts {
+  const LoadedTable& loaded;
+  const Path<double>& low;
+  const std::vector<std::string>& names;
+};
 
-  std::string out = fmt::format(
-      "{} path of {} on {} predictors, {} rows used ({})\n"
-      "traced in double and in {}; the table's decimals were parsed exactly into both\n\n",
-      low.options().variant == Variant::lasso ? "lasso" : "least-angle", loaded.context.response,
-      names.size(), low.preparation().used_observations, loaded.context.source, high_name);
-  out += fmt::format("knots:                          double {}, {} {}\n", check.double_knots,
-                     high_name, check.high_knots);
+// The comparison lines: knots, events, differences, health.
+std::string comparison_text(const Comparison& c, const RunFacts& run) {
+  const CrossCheck& check = c.check;
+  const auto& names = run.names;
+  std::string out = fmt::format("knots:                          double {}, {} {}\n",
+                                check.double_knots, c.high_name, check.high_knots);
   if (check.same_events) {
     out += "event sequences:                identical\n";
   } else {
@@ -98,7 +94,7 @@ int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
         "  double has:                   {}\n"
         "  {:<29} {}\n",
         d.step, event_text(d.low_event, predictor_name(names, d.low_predictor), d.low_penalty),
-        high_name + " has:",
+        c.high_name + " has:",
         event_text(d.high_event, predictor_name(names, d.high_predictor), d.high_penalty));
   }
   out += fmt::format(
@@ -116,74 +112,122 @@ int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
   out += fmt::format(
       "double health check:            {} (estimated relative error up to {:.2g}, threshold "
       "{:.2g})\n",
-      check.double_suspect ? "SUSPECT" : "clean", low.worst_estimated_error(),
-      low.options().suspect_threshold);
-  if (!low_finite) out += "the double path holds values that are not finite\n";
-  out += fmt::format("verdict:                        {}\n", to_string(check.verdict));
+      check.double_suspect ? "SUSPECT" : "clean", run.low.worst_estimated_error(),
+      run.low.options().suspect_threshold);
+  if (!c.low_finite) out += "the double path holds values that are not finite\n";
+  return out;
+}
+
+// The verdict, the rule behind it and what to do.
+std::string verdict_text(Verdict verdict) {
+  std::string out = fmt::format("verdict:                        {}\n", to_string(verdict));
   out += fmt::format("thresholds: {}\n", thresholds_text());
-  switch (check.verdict) {
+  switch (verdict) {
     case Verdict::trustworthy:
       out += "the double path of this table can be used as it is\n";
       break;
     case Verdict::degraded:
-      out += "the double path has the right events but has lost digits; for figures beyond "
-             "about 6 significant digits use knotpath trace --precision 50\n";
+      out +=
+          "the double path has the right events but has lost digits; for figures beyond "
+          "about 6 significant digits use knotpath trace --precision 50\n";
       break;
     case Verdict::wrong:
-      out += "do not use the double path of this table: trace it with --precision 50 (or "
-             "--precision exact with --no-standardize)\n";
+      out +=
+          "do not use the double path of this table: trace it with --precision 50 (or "
+          "--precision exact with --no-standardize)\n";
       break;
   }
-  std::cout << out;
+  return out;
+}
 
+std::string verify_text(const Comparison& c, const RunFacts& run) {
+  const io::RunContext& context = run.loaded.context;
+  return fmt::format(
+             "{} path of {} on {} predictors, {} rows used ({})\n"
+             "traced in double and in {}; the table's decimals were parsed exactly into both\n\n",
+             run.low.options().variant == Variant::lasso ? "lasso" : "least-angle",
+             context.response, run.names.size(), run.low.preparation().used_observations,
+             context.source, c.high_name) +
+         comparison_text(c, run) + verdict_text(c.check.verdict);
+}
+
+using json = nlohmann::ordered_json;
+
+// The first difference of the event sequences, or null.
+json first_difference_json(const CrossCheck& check, const std::vector<std::string>& names) {
+  if (!check.first_difference) return nullptr;
+  const Divergence& d = *check.first_difference;
+  auto side = [&](const std::string& event, Index predictor, double penalty) {
+    json s;
+    s["event"] = event;
+    s["predictor"] = predictor >= 0 ? json(predictor_name(names, predictor)) : json(nullptr);
+    s["penalty"] = event == "(none)" ? json(nullptr) : json(penalty);
+    return s;
+  };
+  return {{"step", d.step},
+          {"double", side(d.low_event, d.low_predictor, d.low_penalty)},
+          {"high", side(d.high_event, d.high_predictor, d.high_penalty)}};
+}
+
+json verify_document(const Comparison& c, const RunFacts& run, unsigned digits, int status) {
+  const CrossCheck& check = c.check;
+  const io::RunContext& context = run.loaded.context;
+  json doc;
+  doc["format"] = "knotpath-verify";
+  doc["format_version"] = 1;
+  doc["program"] = {{"name", "knotpath"}, {"version", context.program_version}};
+  doc["source"] = context.source;
+  doc["response"] = context.response;
+  doc["predictors"] = run.names;
+  doc["rows_used"] = run.low.preparation().used_observations;
+  doc["variant"] = run.low.options().variant == Variant::lasso ? "lasso" : "least-angle";
+  doc["intercept"] = run.low.options().fit_intercept;
+  doc["standardize"] = run.low.options().standardize;
+  doc["high_precision"] = {{"arithmetic", c.high_name}, {"digits", digits}};
+  doc["double_knots"] = check.double_knots;
+  doc["high_knots"] = check.high_knots;
+  doc["same_events"] = check.same_events;
+  doc["first_difference"] = first_difference_json(check, run.names);
+  doc["max_relative_knot_difference"] = check.max_relative_knot_difference;
+  doc["max_coefficient_difference"] = check.max_coefficient_difference;
+  doc["condition_estimate"] = check.condition_estimate;
+  doc["double_suspect"] = check.double_suspect;
+  doc["double_worst_estimated_error"] = run.low.worst_estimated_error();
+  doc["suspect_threshold"] = run.low.options().suspect_threshold;
+  doc["double_finite"] = c.low_finite;
+  doc["verdict"] = to_string(check.verdict);
+  doc["thresholds"] = {{"wrong_coefficient", VerdictThresholds::wrong_coefficient},
+                       {"degraded_knot", VerdictThresholds::degraded_knot},
+                       {"degraded_coefficient", VerdictThresholds::degraded_coefficient},
+                       {"rule", thresholds_text()}};
+  doc["exit_status"] = status;
+  return doc;
+}
+
+template <class High>
+int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
+  // The high-precision path first: it reads the decimal text; the double
+  // trace then moves the reader's doubles out of the table.
+  const Path<High> high = trace_loaded<High>(loaded, args.model);
+  const Path<double> low = trace_loaded<double>(loaded, args.model);
+  loaded.progress.reset();
+  Comparison c;
+  c.high_name = io::arithmetic_name<High>();
+  c.check = compare_paths(low, high);
+  // A double path with values that are not finite compares as NaN, which
+  // no threshold catches: it is wrong.
+  try {
+    require_finite_path(low);
+  } catch (const failure&) {
+    c.low_finite = false;
+    c.check.verdict = Verdict::wrong;
+  }
+  const int status = status_of(c.check.verdict);
+  const RunFacts run{loaded, low, loaded.context.predictor_names};
+  std::cout << verify_text(c, run);
   if (!args.json_file.empty()) {
-    using json = nlohmann::ordered_json;
-    json doc;
-    doc["format"] = "knotpath-verify";
-    doc["format_version"] = 1;
-    doc["program"] = {{"name", "knotpath"}, {"version", loaded.context.program_version}};
-    doc["source"] = loaded.context.source;
-    doc["response"] = loaded.context.response;
-    doc["predictors"] = names;
-    doc["rows_used"] = low.preparation().used_observations;
-    doc["variant"] = low.options().variant == Variant::lasso ? "lasso" : "least-angle";
-    doc["intercept"] = low.options().fit_intercept;
-    doc["standardize"] = low.options().standardize;
-    doc["high_precision"] = {{"arithmetic", high_name}, {"digits", args.digits}};
-    doc["double_knots"] = check.double_knots;
-    doc["high_knots"] = check.high_knots;
-    doc["same_events"] = check.same_events;
-    if (check.first_difference) {
-      const Divergence& d = *check.first_difference;
-      auto side = [&](const std::string& event, Index predictor, double penalty) {
-        json s;
-        s["event"] = event;
-        s["predictor"] =
-            predictor >= 0 ? json(predictor_name(names, predictor)) : json(nullptr);
-        s["penalty"] = event == "(none)" ? json(nullptr) : json(penalty);
-        return s;
-      };
-      doc["first_difference"] = {{"step", d.step},
-                                 {"double", side(d.low_event, d.low_predictor, d.low_penalty)},
-                                 {"high", side(d.high_event, d.high_predictor, d.high_penalty)}};
-    } else {
-      doc["first_difference"] = nullptr;
-    }
-    doc["max_relative_knot_difference"] = check.max_relative_knot_difference;
-    doc["max_coefficient_difference"] = check.max_coefficient_difference;
-    doc["condition_estimate"] = check.condition_estimate;
-    doc["double_suspect"] = check.double_suspect;
-    doc["double_worst_estimated_error"] = low.worst_estimated_error();
-    doc["suspect_threshold"] = low.options().suspect_threshold;
-    doc["double_finite"] = low_finite;
-    doc["verdict"] = to_string(check.verdict);
-    doc["thresholds"] = {{"wrong_coefficient", VerdictThresholds::wrong_coefficient},
-                         {"degraded_knot", VerdictThresholds::degraded_knot},
-                         {"degraded_coefficient", VerdictThresholds::degraded_coefficient},
-                         {"rule", thresholds_text()}};
-    doc["exit_status"] = status;
-    write_report_file(args.json_file,
-                      [&](std::ostream& o) { o << doc.dump(2) << '\n'; });
+    const json doc = verify_document(c, run, args.digits, status);
+    write_output(args.json_file, [&](std::ostream& o) { o << doc.dump(2) << '\n'; });
     std::cout << "wrote " << args.json_file << '\n';
   }
   std::cout.flush();

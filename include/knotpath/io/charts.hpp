@@ -40,18 +40,19 @@
 #include "../criteria.hpp"
 #include "../cross_validation.hpp"
 #include "../path.hpp"
+#include "../scaling.hpp"
 
 namespace knotpath::charts {
 
 /// One knot of the path, in doubles.
 struct ChartKnot {
-  double penalty = 0;       ///< lambda at this knot
+  double penalty = 0;                  ///< lambda at this knot
   EventKind event = EventKind::start;  ///< what happened at this knot
-  Index predictor = -1;     ///< predictor of an enter/leave event, else -1
-  int sign = 0;             ///< sign of the entering (or leaving) coefficient
-  Index active = 0;         ///< active predictors after the event
-  double l1_norm = 0;       ///< sum_j f_j s_j |beta_j|
-  double r_squared = 0;     ///< 1 - RSS / TSS (0 when TSS is 0)
+  Index predictor = -1;                ///< predictor of an enter/leave event, else -1
+  int sign = 0;                        ///< sign of the entering (or leaving) coefficient
+  Index active = 0;                    ///< active predictors after the event
+  double l1_norm = 0;                  ///< sum_j f_j s_j |beta_j|
+  double r_squared = 0;                ///< 1 - RSS / TSS (0 when TSS is 0)
   std::vector<std::pair<Index, double>> coefficients;  ///< nonzero beta_j, original scale
 };
 
@@ -61,12 +62,15 @@ struct ChartPath {
   std::vector<ChartKnot> knots;      ///< penalties non-increasing
   std::vector<double> predictor_sd;  ///< per predictor (1/n weighted) standard deviation; empty
                                      ///< when unknown (then coefficients are drawn as given)
-  double weight_sum = 0;             ///< n (sum of weights), for mu = lambda / sqrt(n)
+  double weight_sum = 0;             ///< n (sum of weights), for mu = lambda / penalty_scale
+  /// Whether the path was traced on standardized columns: then mu = lambda /
+  /// sqrt(n), else mu = lambda / n (knotpath::penalty_scale, scaling.hpp).
+  bool standardized = true;
   /// Name of the response, used in titles and labels.
   std::string response_name = "response";
-  std::string variant = "lasso";     ///< "lasso" or "least angle"
-  std::string end = "end";           ///< how the path ended: "end" or "stop-..."
-  std::vector<std::string> notes;    ///< excluded and held-out predictors, one line each
+  std::string variant = "lasso";   ///< "lasso" or "least angle"
+  std::string end = "end";         ///< how the path ended: "end" or "stop-..."
+  std::vector<std::string> notes;  ///< excluded and held-out predictors, one line each
 
   /// Checks sizes and ordering; throws invalid_option naming the problem.
   void validate() const;
@@ -86,14 +90,17 @@ ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = 
   out.response_name = std::move(response_name);
   const auto& prep = path.preparation();
   out.weight_sum = to_double(prep.weight_sum);
+  out.standardized = prep.standardized;
   // s_j is the root weighted sum of squares of the centred column when the
   // columns are standardized with an intercept, so s_j / sqrt(n) is the
   // (1/n) standard deviation; in other set-ups the charts show raw slopes.
   if (prep.standardized && prep.intercept && out.weight_sum > 0) {
     out.predictor_sd.resize(static_cast<std::size_t>(p), 0.0);
     for (Index j = 0; j < p; ++j)
-      out.predictor_sd[static_cast<std::size_t>(j)] = to_double(prep.scales(j)) / std::sqrt(out.weight_sum);
-    for (const auto& e : prep.excluded) out.predictor_sd[static_cast<std::size_t>(e.predictor)] = 0.0;
+      out.predictor_sd[static_cast<std::size_t>(j)] =
+          to_double(prep.scales(j)) / std::sqrt(out.weight_sum);
+    for (const auto& e : prep.excluded)
+      out.predictor_sd[static_cast<std::size_t>(e.predictor)] = 0.0;
   }
   out.variant = path.options().variant == Variant::lasso ? "lasso" : "least angle";
   out.end = to_string(path.stop_reason());
@@ -111,25 +118,29 @@ ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = 
     out.knots.push_back(std::move(c));
   }
   auto name_of = [&](Index j) {
-    return j >= 0 && static_cast<std::size_t>(j) < out.names.size() ? out.names[static_cast<std::size_t>(j)]
-                                                                     : std::to_string(j);
+    return j >= 0 && static_cast<std::size_t>(j) < out.names.size()
+               ? out.names[static_cast<std::size_t>(j)]
+               : std::to_string(j);
   };
-  for (const auto& e : prep.excluded) out.notes.push_back(name_of(e.predictor) + " excluded: " + e.reason);
+  for (const auto& e : prep.excluded)
+    out.notes.push_back(name_of(e.predictor) + " excluded: " + e.reason);
   for (const auto& h : path.held_out())
-    out.notes.push_back(name_of(h.predictor) + " held out as collinear at step " + std::to_string(h.step));
+    out.notes.push_back(name_of(h.predictor) + " held out as collinear at step " +
+                        std::to_string(h.step));
   return out;
 }
 
 /// What the horizontal axis of the path charts measures.
 enum class HorizontalAxis {
-  penalty,    ///< the penalty (lambda, or mu = lambda / sqrt(n))
+  penalty,    ///< the penalty (lambda, or the size-free mu)
   l1_budget,  ///< the penalized L1 norm sum_j f_j s_j |beta_j| of the solution
 };
 
 /// Which penalty the axis shows.
 enum class PenaltyUnit {
   lambda,  ///< lambda of the objective 0.5 RSS + lambda sum f_j s_j |b_j|
-  mu,      ///< the size-free mu = lambda / sqrt(n) (see DESIGN notes)
+  mu,      ///< the size-free mu = lambda / penalty_scale: lambda / sqrt(n) for standardized
+           ///< columns, lambda / n otherwise (scaling.hpp)
 };
 
 /// How coefficient traces are scaled.
@@ -186,15 +197,18 @@ struct CriterionCurve {
 
 /// A selection curve as the chart sees it; the selection code fills it.
 struct SelectionCurve {
-  std::string penalty_name = "mu";   ///< "mu" or "lambda": what `penalty` holds
+  std::string penalty_name = "mu";  ///< "mu" or "lambda": what `penalty` holds
+  /// For mu: whether the path was standardized (mu = lambda / sqrt(n)) or
+  /// not (mu = lambda / n); only the axis title reads it.
+  bool standardized = true;
   /// Name of the error measure, shown on the chart.
   std::string error_name = "mean squared prediction error";
-  std::string error_unit;            ///< e.g. "(kg/m2)^2"; empty: "response units squared"
-  std::size_t folds = 0;             ///< cross-validation folds (0: unknown)
+  std::string error_unit;              ///< e.g. "(kg/m2)^2"; empty: "response units squared"
+  std::size_t folds = 0;               ///< cross-validation folds (0: unknown)
   std::vector<SelectionPoint> points;  ///< the curve, any order (sorted when drawn)
-  double minimizer = std::numeric_limits<double>::quiet_NaN();  ///< penalty of least mean error
+  double minimizer = std::numeric_limits<double>::quiet_NaN();      ///< penalty of least mean error
   double minimum_error = std::numeric_limits<double>::quiet_NaN();  ///< the least mean error
-  double one_se = std::numeric_limits<double>::quiet_NaN();  ///< one-standard-error choice
+  double one_se = std::numeric_limits<double>::quiet_NaN();         ///< one-standard-error choice
   std::vector<CriterionCurve> criteria;  ///< drawn on the second panel (may be empty)
 
   /// Throws invalid_option naming the first problem.
@@ -213,6 +227,7 @@ SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
   using knotpath::detail::to_double;
   SelectionCurve out;
   out.penalty_name = "mu";
+  out.standardized = cv.full_path.preparation().standardized;
   out.folds = cv.folds.size();
   auto add = [&](const Scalar& mu) {
     const CurvePoint<Scalar> q = cv.point(mu);
@@ -300,7 +315,8 @@ std::string tick_label(double value, double step);
 /// are at least `gap` apart and all lie in [lo, hi] (as far as they fit);
 /// each output moves its own input as little as the constraints allow
 /// (pool-adjacent-violators on the sorted order). Same order as `wanted`.
-std::vector<double> spread_labels(const std::vector<double>& wanted, double gap, double lo, double hi);
+std::vector<double> spread_labels(const std::vector<double>& wanted, double gap, double lo,
+                                  double hi);
 /// Escapes &, <, >, " and ' for XML text and attributes.
 std::string xml_escape(const std::string& text);
 

@@ -28,7 +28,6 @@
 #include <functional>
 #include <istream>
 #include <memory>
-#include <stdexcept>
 #include <string>
 #include <vector>
 
@@ -122,27 +121,55 @@ class NumericColumn {
 
 /// A table read from text: its numeric columns, in file order.
 struct Table {
-  std::string source;                       ///< file name or "<stdin>"
-  char delimiter = ',';                     ///< delimiter used
-  std::vector<std::string> names;           ///< numeric columns read, file order
-  std::vector<NumericColumn> columns;       ///< values, one per name
+  std::string source;                                  ///< file name or "<stdin>"
+  char delimiter = ',';                                ///< delimiter used
+  std::vector<std::string> names;                      ///< numeric columns read, file order
+  std::vector<NumericColumn> columns;                  ///< values, one per name
   std::vector<std::vector<std::string>> decimal_text;  ///< per column when keep_decimal_text
-  std::vector<std::string> text_columns;    ///< text columns skipped
-  std::vector<std::string> skipped_columns; ///< columns skipped by `only` / `skip`
-  std::size_t rows = 0;                     ///< data rows kept
-  std::size_t dropped_rows = 0;             ///< rows dropped for missing cells
-  std::size_t last_line = 0;                ///< physical lines consumed
+  std::vector<std::string> text_columns;               ///< text columns skipped
+  std::vector<std::string> skipped_columns;            ///< columns skipped by `only` / `skip`
+  std::size_t rows = 0;                                ///< data rows kept
+  std::size_t dropped_rows = 0;                        ///< rows dropped for missing cells
+  std::size_t last_line = 0;                           ///< physical lines consumed
 
   /// Index of a numeric column by name, or -1.
   Index find(const std::string& name) const;
-  /// The values of one column as an Eigen vector (copy).
+  /// Position of column j in `columns`; throws invalid_query, naming `what`
+  /// (the caller), when there is no column j (e.g. j = -1 from find()).
+  std::size_t checked_column(Index j, const char* what) const;
+  /// The values of one column as an Eigen vector (copy). Throws
+  /// invalid_query when there is no column j.
   Vector<double> column_vector(Index j) const;
   /// Moves the listed columns into an n x k matrix, freeing their blocks.
+  /// Throws invalid_query for a column that does not exist or was taken.
   Matrix<double> take_matrix(const std::vector<Index>& which);
 };
 
+// The Eigen-returning members are defined here, in the header, so that the
+// compiled reader (knotpath_io) hands only plain buffers across its boundary
+// (NumericColumn::move_into) and the caller's Eigen builds the matrices.
+
+inline Vector<double> Table::column_vector(Index j) const {
+  const NumericColumn& c = columns[checked_column(j, "column_vector")];
+  Vector<double> v(static_cast<Index>(c.size()));
+  for (std::size_t i = 0; i < c.size(); ++i) v(static_cast<Index>(i)) = c[i];
+  return v;
+}
+
+inline Matrix<double> Table::take_matrix(const std::vector<Index>& which) {
+  Matrix<double> m(static_cast<Index>(rows), static_cast<Index>(which.size()));
+  for (std::size_t k = 0; k < which.size(); ++k) {
+    NumericColumn& c = columns[checked_column(which[k], "take_matrix")];
+    if (c.size() != rows)
+      throw invalid_query("take_matrix: column " + std::to_string(which[k]) + " was already taken");
+    c.move_into(m.col(static_cast<Index>(k)).data());
+  }
+  return m;
+}
+
 /// Reads a table from a file; "-" reads standard input. Throws table_error
-/// (kind content for a bad table, input_output for an unreadable file).
+/// (kind content for a bad table, input_output for an unreadable file), and
+/// invalid_option when options.delimiter is not 0, ',', ';' or a tab.
 Table read_table(const std::string& path, const TableReadOptions& options = {});
 /// Reads a table from a stream; `source` names it in error messages.
 Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options = {});
