@@ -302,7 +302,7 @@ json options_json(const Path<Scalar>& path, const std::vector<std::string>& name
   const auto& options = path.options();
   json opts;
   opts["variant"] = variant_name(options.variant);
-  opts["intercept"] = options.fit_intercept;
+  opts["intercept"] = options.with_intercept;
   opts["standardize"] = options.standardize;
   opts["ridge"] = options.ridge;
   json factors = json::object();

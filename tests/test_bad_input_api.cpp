@@ -419,7 +419,7 @@ TEST(FuzzRegression, ViewDesignReportsItsCentringAmplification) {
 // (the fuzz target draws them; the objective is then the plain one on X).
 kp::TraceOptions unscaled_dense() {
   kp::TraceOptions o = with_storage(kp::Storage::dense);
-  o.fit_intercept = false;
+  o.with_intercept = false;
   o.standardize = false;
   return o;
 }
@@ -693,7 +693,7 @@ TEST(FuzzRegression, SubnormalResponseOnTheWeightedRowsIsRefused) {
   w << 0, 0, 1.5;
   kp::TraceOptions o;
   o.variant = kp::Variant::least_angle;
-  o.fit_intercept = false;
+  o.with_intercept = false;
   o.standardize = false;
   o.ridge = 3.984375;
   const std::string refusal =

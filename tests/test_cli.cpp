@@ -185,7 +185,7 @@ TEST_F(Cli, ModelOptionsReachTheLibrary) {
     ASSERT_EQ(r.code, 0) << r.err;
     knotpath::TraceOptions o;
     o.sign_constraints = {knotpath::SignConstraint::nonnegative};
-    o.fit_intercept = false;
+    o.with_intercept = false;
     o.min_penalty = 1.5;
     const Matrix<double> x = p.x.leftCols(5);
     const auto path = knotpath::trace<double>(x, p.y, o);

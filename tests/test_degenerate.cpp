@@ -33,7 +33,7 @@ constexpr double kKktTol = 1e-9;
 
 double kkt_at(const Matrix<double>& x, const Vector<double>& y, const TraceOptions& o, const Path<double>& path,
               double lambda) {
-  kt::Centred c = kt::centre(x, y, o.fit_intercept, o.standardize);
+  kt::Centred c = kt::centre(x, y, o.with_intercept, o.standardize);
   // Columns with zero scale (excluded) would divide by zero in centre(); they
   // have z = 0 after centring, which kkt_violation skips.
   for (Index j = 0; j < c.z.cols(); ++j)
@@ -94,7 +94,7 @@ TEST(Degenerate, ConstantAndAllZeroColumnsAreExcludedAndListed) {
   // Without an intercept a constant column is an ordinary predictor; only the
   // all-zero one is excluded.
   TraceOptions no_intercept;
-  no_intercept.fit_intercept = false;
+  no_intercept.with_intercept = false;
   const auto p2 = knotpath::trace<double>(prob.x, prob.y, no_intercept);
   ASSERT_EQ(p2.excluded().size(), 1u);
   EXPECT_EQ(p2.excluded()[0].predictor, 4);
@@ -367,7 +367,7 @@ TEST(Degenerate, SingleObservation) {
   // tie at lambda_max. The lowest index enters, the other two are held out as
   // saturated (one row: rank 1), and the path ends interpolating y.
   TraceOptions o;
-  o.fit_intercept = false;
+  o.with_intercept = false;
   const auto path = knotpath::trace<double>(x, y, o);
   EXPECT_EQ(path.stop_reason(), StopReason::completed);
   ASSERT_GE(path.knots().size(), 3u);

@@ -67,7 +67,7 @@ TEST(DesignOperators, DenseGramSparseAndViewGiveTheSamePath) {
       for (Index i = 0; i < cs.n; ++i) w(i) = 0.5 * pick(gen);  // includes zero weights
     }
     kp::TraceOptions opt;
-    opt.fit_intercept = cs.intercept;
+    opt.with_intercept = cs.intercept;
     opt.standardize = cs.standardize;
     opt.storage = kp::Storage::dense;
     const auto dense = kp::trace<double>(prob.x, prob.y, opt, w);

@@ -167,7 +167,7 @@ TEST(CovarianceTest, OrthogonalDesignGivesTheOrderStatisticFormula) {
   y(5) += 6.0;  // one real signal, so later steps are exercised too
   const IdentityDesign design(y);
   kp::TraceOptions options;
-  options.fit_intercept = false;
+  options.with_intercept = false;
   options.max_knots = 5;
   const auto path = kp::trace_design(design, identity_preparation(p), options);
   const double sigma2 = 1.7;
@@ -208,7 +208,7 @@ TEST(CovarianceTest, FirstStatisticIsExponentialUnderTheGlobalNull) {
   const int reps = 2000;
   kp::detail::SplitMix64 rng(1402);
   kp::TraceOptions options;
-  options.fit_intercept = false;
+  options.with_intercept = false;
   options.max_knots = 3;
   const auto prep = identity_preparation(p);
   std::vector<double> first;

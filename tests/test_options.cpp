@@ -51,7 +51,7 @@ std::vector<int> sign_vector(const TraceOptions& o, Index p) {
 // scale built independently by kt::centre (weighted centring and scaling).
 double kkt_at(const Matrix<double>& x, const Vector<double>& y, const TraceOptions& o,
               const Path<double>& path, double lambda, const Vector<double>& w = Vector<double>()) {
-  kt::Centred c = kt::centre(x, y, o.fit_intercept, o.standardize, w);
+  kt::Centred c = kt::centre(x, y, o.with_intercept, o.standardize, w);
   const auto sol = path.at_penalty(lambda);
   return kt::kkt_violation(c.z, c.y, kt::to_prepared(c, sol.coefficients), lambda, o.penalty_factors, o.ridge,
                            sign_vector(o, x.cols()));
@@ -93,7 +93,7 @@ TEST(Weights, IntegerWeightsGiveTheSamePathAsReplicatedRows) {
     }
   for (bool intercept : {true, false}) {
     TraceOptions o;
-    o.fit_intercept = intercept;
+    o.with_intercept = intercept;
     const auto weighted = knotpath::trace<double>(prob.x, prob.y, o, w);
     const auto replicated = knotpath::trace<double>(xr, yr, o);
     ASSERT_EQ(weighted.knots().size(), replicated.knots().size());

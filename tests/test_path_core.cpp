@@ -161,7 +161,7 @@ INSTANTIATE_TEST_SUITE_P(Designs, PathOnDesign, ::testing::ValuesIn(kCases),
 TEST(PathCore, WithoutInterceptOrStandardizationKktStillHolds) {
   const kt::Problem prob = kt::ar1_problem(60, 15, 0.5, 9);
   kp::TraceOptions opt;
-  opt.fit_intercept = false;
+  opt.with_intercept = false;
   opt.standardize = false;
   const kp::Path<double> path = kp::trace<double>(prob.x, prob.y, opt);
   const kt::Centred c = kt::centre(prob.x, prob.y, false, false);
@@ -293,7 +293,7 @@ TEST(PathCore, TiedEntriesWhoseJointDirectionBreaksASignStayOut) {
       -2, -2, 1, 0, 0, -3, -3, 1, -1, -2, -3, 1;
   const Vec y = Vec::Ones(10);
   kp::TraceOptions opt;
-  opt.fit_intercept = false;
+  opt.with_intercept = false;
   opt.standardize = false;
   for (kp::Storage storage : {kp::Storage::dense, kp::Storage::gram}) {
     opt.storage = storage;

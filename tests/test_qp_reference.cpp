@@ -100,7 +100,7 @@ std::vector<Vector<double>> qp_solutions(const Matrix<double>& z, const Vector<d
 void check_against_qp(const Case& c) {
   const TraceOptions& o = c.options;
   const auto path = knotpath::trace<double>(c.prob.x, c.prob.y, o, c.weights);
-  kt::Centred cen = kt::centre(c.prob.x, c.prob.y, o.fit_intercept, o.standardize, c.weights);
+  kt::Centred cen = kt::centre(c.prob.x, c.prob.y, o.with_intercept, o.standardize, c.weights);
   std::vector<int> signs;
   for (Index j = 0; j < c.prob.x.cols(); ++j) {
     const SignConstraint s = o.sign_constraint(static_cast<std::size_t>(j));

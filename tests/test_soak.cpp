@@ -108,7 +108,7 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
     Matrix<double> xs(d.x.rows(), static_cast<Index>(prep.columns.size()));
     for (std::size_t k = 0; k < prep.columns.size(); ++k)
       xs.col(static_cast<Index>(k)) = d.x.col(prep.columns[k]);
-    const kt::Centred c = kt::centre(xs, d.y, d.options.fit_intercept, d.options.standardize);
+    const kt::Centred c = kt::centre(xs, d.y, d.options.with_intercept, d.options.standardize);
     const double ynorm = c.y.norm();
     const double lambda_max = path.lambda_max();
     auto prepared = [&](const Vector<double>& beta) {

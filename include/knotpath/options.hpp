@@ -53,7 +53,7 @@ struct TraceOptions {
   /// Storage of a dense design during the trace (results agree to rounding).
   Storage storage = Storage::automatic;
   /// Fit an unpenalized intercept (columns and response are centred).
-  bool fit_intercept = true;
+  bool with_intercept = true;
   /// Scale columns to unit length before tracing; coefficients are always
   /// reported on the original scale.
   bool standardize = true;

@@ -72,7 +72,7 @@ Preparation<Scalar> start_preparation(Index observations, Index used_observation
   prep.observations = observations;
   prep.used_observations = used_observations;
   prep.predictors = predictors;
-  prep.intercept = options.fit_intercept;
+  prep.intercept = options.with_intercept;
   prep.standardized = options.standardize;
   prep.weight_sum = weight_sum;
   prep.means = Vector<Scalar>::Zero(predictors);
@@ -228,7 +228,7 @@ void check_data(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, co
 /// reasons.
 inline const char* exclusion_reason(bool all_zero, bool constant, const TraceOptions& options, Index j) {
   if (all_zero) return "all-zero column";
-  if (options.fit_intercept && constant) return "constant column (absorbed by the intercept)";
+  if (options.with_intercept && constant) return "constant column (absorbed by the intercept)";
   if (std::isinf(options.penalty_factor(static_cast<std::size_t>(j)))) return "infinite penalty factor";
   return nullptr;
 }
@@ -244,7 +244,7 @@ inline constexpr const char* unscalable_column = "column scale is zero or not re
 template <class Scalar>
 void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j, const Scalar& mean,
                  const Scalar& scale, const Scalar& spread) {
-  if (options.fit_intercept)
+  if (options.with_intercept)
     prep.centring_amplification =
         std::max(prep.centring_amplification, centring_amplification(mean, spread, prep.weight_sum));
   prep.means(j) = mean;

@@ -106,7 +106,7 @@ PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const V
   };
 
   Vector<Scalar> yc(m);
-  if (options.fit_intercept)
+  if (options.with_intercept)
     prep.response_mean = weighted_mean([&](Index r) { return y(rows[r]); });
   for (Index r = 0; r < m; ++r) yc(r) = y(rows[r]) - prep.response_mean;
   {
@@ -137,7 +137,7 @@ PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const V
       continue;
     }
     Scalar mean(0);
-    if (options.fit_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
+    if (options.with_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
     for (Index r = 0; r < m; ++r) column(r) = x(rows[r], j) - mean;
     Scalar spread(0);
     if (options.standardize || !detail::is_exact_v<Scalar>) spread = detail::weighted_norm<Scalar>(column, wk);
@@ -187,7 +187,7 @@ PreparedView<Scalar> prepare_view(const Eigen::MatrixBase<Derived>& x, const Vec
     Scalar m = v.dot(w) / wsum;
     return Scalar(m + (v.array() - m).matrix().dot(w) / wsum);  // one correction pass
   };
-  if (options.fit_intercept) prep.response_mean = weighted_mean(y);
+  if (options.with_intercept) prep.response_mean = weighted_mean(y);
   Vector<Scalar> sqrt_w = w.cwiseSqrt();
   Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
   prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
@@ -206,7 +206,7 @@ PreparedView<Scalar> prepare_view(const Eigen::MatrixBase<Derived>& x, const Vec
       prep.excluded.push_back({j, reason});
       continue;
     }
-    const Scalar mean = options.fit_intercept ? weighted_mean(col) : Scalar(0);
+    const Scalar mean = options.with_intercept ? weighted_mean(col) : Scalar(0);
     const Scalar spread = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
     detail::admit_column(prep, options, j, mean, spread);
   }
@@ -273,7 +273,7 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
   if (weights.size() != 0) detail::check_magnitude(Scalar(w.maxCoeff()), Scalar(w.maxCoeff()), std::string("the weight vector"));
   Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, w.sum());
   const Scalar wsum = prep.weight_sum;
-  if (options.fit_intercept) prep.response_mean = w.dot(y) / wsum;
+  if (options.with_intercept) prep.response_mean = w.dot(y) / wsum;
   Vector<Scalar> sqrt_w = w.cwiseSqrt();
   Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
   prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
@@ -305,7 +305,7 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
       prep.excluded.push_back({j, reason});
       continue;
     }
-    const Scalar mean = options.fit_intercept ? Scalar(sum / wsum) : Scalar(0);
+    const Scalar mean = options.with_intercept ? Scalar(sum / wsum) : Scalar(0);
     // sum_i w_i (x_i - m)^2 over stored entries plus the implicit zeros.
     Scalar ss(0);
     for (typename SparseMatrix<Scalar, StorageIndex>::InnerIterator it(x, j); it; ++it) {
@@ -354,15 +354,15 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
   const Scalar n = stats.weight_sum;
   // Second moments about the centre in use (the means, or 0 without intercept).
   auto moment = [&](Index i, Index j) -> Scalar {
-    if (options.fit_intercept) return stats.comoments(i, j);
+    if (options.with_intercept) return stats.comoments(i, j);
     return stats.comoments(i, j) + n * stats.means(i) * stats.means(j);
   };
   auto moment_y = [&](Index j) -> Scalar {
-    if (options.fit_intercept) return stats.cross(j);
+    if (options.with_intercept) return stats.cross(j);
     return stats.cross(j) + n * stats.means(j) * stats.response_mean;
   };
-  prep.response_mean = options.fit_intercept ? stats.response_mean : Scalar(0);
-  prep.total_sum_of_squares = options.fit_intercept
+  prep.response_mean = options.with_intercept ? stats.response_mean : Scalar(0);
+  prep.total_sum_of_squares = options.with_intercept
                                   ? stats.response_comoment
                                   : Scalar(stats.response_comoment + n * stats.response_mean * stats.response_mean);
   for (Index j = 0; j < p; ++j) {
@@ -380,7 +380,7 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
     Scalar spread(0);
     if constexpr (!detail::is_exact_v<Scalar>)
       if (m2 > Scalar(0)) spread = detail::square_root<Scalar>(m2);
-    detail::admit_column(prep, options, j, options.fit_intercept ? stats.means(j) : Scalar(0), spread);
+    detail::admit_column(prep, options, j, options.with_intercept ? stats.means(j) : Scalar(0), spread);
   }
   const Index q = static_cast<Index>(prep.columns.size());
   Matrix<Scalar> g(q, q);

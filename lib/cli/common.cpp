@@ -282,7 +282,7 @@ TraceOptions trace_options(const ModelArgs& args, const std::vector<Factor>& fac
   };
   TraceOptions options;
   options.variant = args.variant == "least-angle" ? Variant::least_angle : Variant::lasso;
-  options.fit_intercept = !args.no_intercept;
+  options.with_intercept = !args.no_intercept;
   options.standardize = !args.no_standardize;
   options.ridge = args.ridge;
   options.max_knots = args.max_knots;
@@ -317,7 +317,7 @@ TraceOptions trace_options(const ModelArgs& args, const std::vector<Factor>& fac
 // path for them; a user of the program almost surely gave the wrong table).
 void refuse_nothing_to_trace(const TableData<double>& d, const TraceOptions& options,
                              const std::string& shown_name, const std::string& response) {
-  if (!options.fit_intercept) return;
+  if (!options.with_intercept) return;
   Index used = 0;
   double first = 0;
   bool constant = true;

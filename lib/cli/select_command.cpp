@@ -158,7 +158,7 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
     else if (out.y(i) != first)
       constant = false;
   }
-  if (out.options.fit_intercept && used > 1 && constant)
+  if (out.options.with_intercept && used > 1 && constant)
     throw failure(exit_bad_input,
                   fmt::format("{}: the response \"{}\" is constant (every row holds "
                               "{:.17g}); there is nothing to select",

@@ -181,7 +181,7 @@ json verify_document(const Comparison& c, const RunFacts& run, unsigned digits, 
   doc["predictors"] = run.names;
   doc["rows_used"] = run.low.preparation().used_observations;
   doc["variant"] = run.low.options().variant == Variant::lasso ? "lasso" : "least-angle";
-  doc["intercept"] = run.low.options().fit_intercept;
+  doc["intercept"] = run.low.options().with_intercept;
   doc["standardize"] = run.low.options().standardize;
   doc["high_precision"] = {{"arithmetic", c.high_name}, {"digits", digits}};
   doc["double_knots"] = check.double_knots;

@@ -65,7 +65,7 @@ inline FuzzDesign decode_design(const std::uint8_t* data, std::size_t size) {
   FuzzDesign d;
   TraceOptions& o = d.options;
   o.variant = (flags & 1) ? Variant::least_angle : Variant::lasso;
-  o.fit_intercept = (flags & 2) == 0;
+  o.with_intercept = (flags & 2) == 0;
   o.standardize = (flags & 4) == 0;
   o.storage = static_cast<Storage>((flags >> 3) % 4);  // automatic, dense, gram, view
   if (flags & 32) o.ridge = static_cast<double>(in.next()) / 64.0;

@@ -77,13 +77,13 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   const kp::Vector<double> wt = w.size() ? w : kp::Vector<double>(kp::Vector<double>::Ones(n));
   const double wsum = wt.sum();
   const std::size_t q = prep.columns.size();
-  const double ymean = o.fit_intercept ? wt.dot(y) / wsum : 0.0;
+  const double ymean = o.with_intercept ? wt.dot(y) / wsum : 0.0;
   const kp::Vector<double> yz = ((y.array() - ymean) * wt.array().sqrt()).matrix();
   kp::Matrix<double> z(n, static_cast<Index>(q));
   std::vector<double> scale(q);
   for (std::size_t k = 0; k < q; ++k) {
     const Index j = prep.columns[k];
-    const double m = o.fit_intercept ? wt.dot(x.col(j)) / wsum : 0.0;
+    const double m = o.with_intercept ? wt.dot(x.col(j)) / wsum : 0.0;
     kp::Vector<double> col = ((x.col(j).array() - m) * wt.array().sqrt()).matrix();
     scale[k] = o.standardize ? col.norm() : 1.0;
     z.col(static_cast<Index>(k)) = col / scale[k];

@@ -77,7 +77,7 @@ inline SoakDesign random_design(unsigned seed) {
   if (kind == 5) d.y = d.y.array().round();  // tied response values
   const int options = static_cast<int>(gen() % 10);
   d.options.variant = options == 0 ? Variant::least_angle : Variant::lasso;
-  d.options.fit_intercept = options != 1;
+  d.options.with_intercept = options != 1;
   d.options.standardize = options != 2;
   if (options == 3) d.options.ridge = 0.05 + u(gen);
   d.options.storage = static_cast<Storage>(gen() % 4);  // automatic, dense copy, Gram, view
