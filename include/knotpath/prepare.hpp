@@ -274,6 +274,121 @@ std::optional<Scalar> admit_column(Preparation<Scalar>& prep, const TraceOptions
   return scale;
 }
 
+/// The rows of positive weight of dense data, in ascending order, with
+/// their weights and root weights: what the dense copy and the view read.
+template <class Scalar>
+struct UsedRows {
+  std::vector<Index> rows;      ///< rows with positive weight
+  Vector<Scalar> weights;       ///< w of each of them
+  Vector<Scalar> sqrt_weights;  ///< sqrt(w) (w itself for exact types, whose weights are 0 or 1)
+  Scalar weight_sum{0};         ///< sum of `weights`
+};
+
+/// The rows of positive weight (`weights` empty: all n rows, weight 1).
+/// Throws invalid_data for a negative or non-finite weight or when no row
+/// has a positive weight; for exact scalar types, invalid_option when
+/// standardizing and invalid_data for weights other than 0 and 1 (exact
+/// arithmetic takes no square roots; Gram mode handles any rational weight).
+template <class Scalar>
+UsedRows<Scalar> used_rows(const Vector<Scalar>& weights, Index n, const TraceOptions& options) {
+  const Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
+  UsedRows<Scalar> used;
+  for (Index i = 0; i < n; ++i) {
+    if (!is_finite_value(w(i)) || w(i) < Scalar(0))
+      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
+    if (w(i) > Scalar(0)) used.rows.push_back(i);
+  }
+  if (used.rows.empty()) throw invalid_data("no observation has a positive weight");
+  if constexpr (is_exact_v<Scalar>) {
+    if (options.standardize)
+      throw invalid_option("standardize",
+                           "exact rational arithmetic cannot take the square roots that scaling "
+                           "columns to unit length needs; trace with standardize = false (the "
+                           "penalty then applies to the coefficients on the original scale) or "
+                           "use a 50-digit float");
+    for (Index i : used.rows)
+      if (w(i) != Scalar(1))
+        throw invalid_data("exact rational arithmetic with a dense design supports weights 0 and 1 "
+                           "only (row " + std::to_string(i) + "); TraceOptions::storage = gram "
+                           "handles any rational weights exactly");
+  }
+  const Index m = static_cast<Index>(used.rows.size());
+  used.weights.resize(m);
+  used.sqrt_weights.resize(m);
+  for (Index r = 0; r < m; ++r) {
+    used.weights(r) = w(used.rows[static_cast<std::size_t>(r)]);
+    if constexpr (is_exact_v<Scalar>)
+      used.sqrt_weights(r) = used.weights(r);  // 0/1 weights (checked above)
+    else
+      used.sqrt_weights(r) = square_root<Scalar>(used.weights(r));
+  }
+  used.weight_sum = used.weights.sum();
+  return used;
+}
+
+/// Weighted mean of value_at(r) over the used rows, with one correction
+/// pass (the second pass removes most of the rounding error of the first
+/// when the mean is large).
+template <class Scalar, class ValueAt>
+Scalar weighted_mean(const UsedRows<Scalar>& used, ValueAt value_at) {
+  const Index m = used.weights.size();
+  Scalar mean(0);
+  for (Index r = 0; r < m; ++r) mean += used.weights(r) * value_at(r);
+  mean /= used.weight_sum;
+  Scalar correction(0);
+  for (Index r = 0; r < m; ++r) correction += used.weights(r) * (value_at(r) - mean);
+  return Scalar(mean + correction / used.weight_sum);
+}
+
+/// The one preparation of dense columns, shared by the dense copy and the
+/// view: the response (mean, total sum of squares, and the prepared
+/// response sqrt(w) o (y - ybar) over the used rows into `response`), then
+/// for each column the exclusion rule, its mean and two-pass spread, and
+/// the scaling rule. `keep(k, centred, scale)` receives each kept column
+/// (design column k, its centred values over the used rows, its scale).
+template <class Scalar, class Derived, class Keep>
+Preparation<Scalar> prepare_dense_columns(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
+                                          const TraceOptions& options, const UsedRows<Scalar>& used,
+                                          Vector<Scalar>& response, Keep keep) {
+  const Index m = static_cast<Index>(used.rows.size());
+  auto row = [&](Index r) { return used.rows[static_cast<std::size_t>(r)]; };
+  Preparation<Scalar> prep = start_preparation<Scalar>(x.rows(), m, x.cols(), options, used.weight_sum);
+  if (options.with_intercept) prep.response_mean = weighted_mean(used, [&](Index r) { return y(row(r)); });
+  response.resize(m);
+  for (Index r = 0; r < m; ++r) response(r) = y(row(r)) - prep.response_mean;
+  if constexpr (is_exact_v<Scalar>) {
+    for (Index r = 0; r < m; ++r) prep.total_sum_of_squares += used.weights(r) * response(r) * response(r);
+  } else {
+    const Scalar norm = weighted_norm<Scalar>(response, used.weights);
+    prep.total_sum_of_squares = norm * norm;
+  }
+  if (!is_finite_value(prep.total_sum_of_squares))
+    throw invalid_data("the response's sum of squares overflows; rescale the response");
+  for (Index r = 0; r < m; ++r) response(r) *= used.sqrt_weights(r);
+
+  Vector<Scalar> column(m);
+  for (Index j = 0; j < x.cols(); ++j) {
+    bool constant = true, all_zero = true;
+    for (Index r = 0; r < m; ++r) {
+      const Scalar v = x(row(r), j);
+      if (v != x(row(0), j)) constant = false;
+      if (v != Scalar(0)) all_zero = false;
+    }
+    if (const char* reason = exclusion_reason(all_zero, constant, options, j)) {
+      prep.excluded.push_back({j, reason});
+      continue;
+    }
+    Scalar mean(0);
+    if (options.with_intercept) mean = weighted_mean(used, [&](Index r) { return x(row(r), j); });
+    for (Index r = 0; r < m; ++r) column(r) = x(row(r), j) - mean;
+    Scalar spread(0);
+    if (options.standardize || !is_exact_v<Scalar>) spread = weighted_norm<Scalar>(column, used.weights);
+    const Index k = static_cast<Index>(prep.columns.size());
+    if (const std::optional<Scalar> scale = admit_column(prep, options, j, mean, spread)) keep(k, column, *scale);
+  }
+  return prep;
+}
+
 /// Means and scales of the traced columns in design order (entry k belongs
 /// to prep.columns[k]), for designs that centre and scale implicitly.
 template <class Scalar>

@@ -7,11 +7,14 @@
 /// operator for several traces, or to use a storage trace() does not pick.
 ///
 /// One function per storage applies the preparation of prepare.hpp (the
-/// same weighted centring, scaling, exclusion rule, magnitude checks and
-/// centring amplification for all four) while reading the data the way that
-/// storage holds it: a centred, scaled copy (dense), the user's matrix read
-/// in place (view), compressed columns (sparse), or sufficient statistics
-/// (Gram).
+/// same exclusion rule, scaling rule, magnitude checks and centring
+/// amplification for all four) while reading the data the way that storage
+/// holds it. The dense copy and the view run the very same pass over the
+/// columns (detail::prepare_dense_columns: same means, spreads and response
+/// statistics to the last bit) and differ only in what they keep: a centred,
+/// scaled copy, or the user's matrix read in place. Compressed columns
+/// (sparse) are summarized from their stored entries, and Gram mode from
+/// sufficient statistics.
 
 #include <algorithm>
 #include <cmath>
@@ -55,98 +58,17 @@ template <class Scalar, class Derived>
 PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
                                     const TraceOptions& options,
                                     const Vector<Scalar>& weights = Vector<Scalar>()) {
-  const Index n = x.rows();
-  const Index p = x.cols();
-  options.validate(static_cast<std::size_t>(p));
+  options.validate(static_cast<std::size_t>(x.cols()));
   detail::check_data(x, y, weights);
-  Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
-  std::vector<Index> rows;
-  for (Index i = 0; i < n; ++i) {
-    if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
-      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
-    if (w(i) > Scalar(0)) rows.push_back(i);
-  }
-  if (rows.empty()) throw invalid_data("no observation has a positive weight");
-  if constexpr (detail::is_exact_v<Scalar>) {
-    // Exact rational arithmetic has no square roots: unit-length scaling and
-    // sqrt(w) row scaling are unavailable there (documented in precision.hpp).
-    if (options.standardize)
-      throw invalid_option("standardize",
-                           "exact rational arithmetic cannot take the square roots that scaling "
-                           "columns to unit length needs; trace with standardize = false (the "
-                           "penalty then applies to the coefficients on the original scale) or "
-                           "use a 50-digit float");
-    for (Index i : rows)
-      if (w(i) != Scalar(1))
-        throw invalid_data("exact rational arithmetic with a dense design supports weights 0 and 1 "
-                           "only (row " + std::to_string(i) + "); TraceOptions::storage = gram "
-                           "handles any rational weights exactly");
-  }
-  const Index m = static_cast<Index>(rows.size());
-
-  Vector<Scalar> wk(m), sqrt_w(m);
-  for (Index r = 0; r < m; ++r) {
-    wk(r) = w(rows[r]);
-    if constexpr (detail::is_exact_v<Scalar>)
-      sqrt_w(r) = wk(r);  // weights are 0/1 here (checked above)
-    else
-      sqrt_w(r) = detail::square_root<Scalar>(wk(r));
-  }
-  Preparation<Scalar> prep = start_preparation<Scalar>(n, m, p, options, wk.sum());
-
-  // Weighted mean with one correction pass (the second pass removes most of
-  // the rounding error of the first when the mean is large).
-  auto weighted_mean = [&](auto&& value_at) {
-    Scalar mean(0);
-    for (Index r = 0; r < m; ++r) mean += wk(r) * value_at(r);
-    mean /= prep.weight_sum;
-    Scalar correction(0);
-    for (Index r = 0; r < m; ++r) correction += wk(r) * (value_at(r) - mean);
-    return Scalar(mean + correction / prep.weight_sum);
-  };
-
-  Vector<Scalar> yc(m);
-  if (options.with_intercept)
-    prep.response_mean = weighted_mean([&](Index r) { return y(rows[r]); });
-  for (Index r = 0; r < m; ++r) yc(r) = y(rows[r]) - prep.response_mean;
-  {
-    if constexpr (detail::is_exact_v<Scalar>) {
-      prep.total_sum_of_squares = Scalar(0);
-      for (Index r = 0; r < m; ++r) prep.total_sum_of_squares += wk(r) * yc(r) * yc(r);
-    } else {
-      Scalar norm = detail::weighted_norm<Scalar>(yc, wk);
-      prep.total_sum_of_squares = norm * norm;
-    }
-    if (!detail::is_finite_value(prep.total_sum_of_squares))
-      throw invalid_data("the response's sum of squares overflows; rescale the response");
-  }
-  for (Index r = 0; r < m; ++r) yc(r) *= sqrt_w(r);
-
-  Matrix<Scalar> z(m, p);
-  Index kept = 0;
-  Vector<Scalar> column(m);
-  for (Index j = 0; j < p; ++j) {
-    bool constant = true, all_zero = true;
-    for (Index r = 0; r < m; ++r) {
-      const Scalar& v = x(rows[r], j);
-      if (v != x(rows[0], j)) constant = false;
-      if (v != Scalar(0)) all_zero = false;
-    }
-    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
-      prep.excluded.push_back({j, reason});
-      continue;
-    }
-    Scalar mean(0);
-    if (options.with_intercept) mean = weighted_mean([&](Index r) { return x(rows[r], j); });
-    for (Index r = 0; r < m; ++r) column(r) = x(rows[r], j) - mean;
-    Scalar spread(0);
-    if (options.standardize || !detail::is_exact_v<Scalar>) spread = detail::weighted_norm<Scalar>(column, wk);
-    const std::optional<Scalar> scale = detail::admit_column(prep, options, j, mean, spread);
-    if (!scale) continue;
-    for (Index r = 0; r < m; ++r) z(r, kept) = sqrt_w(r) * column(r) / *scale;
-    ++kept;
-  }
-  z.conservativeResize(m, kept);
+  const detail::UsedRows<Scalar> used = detail::used_rows(weights, x.rows(), options);
+  const Index m = static_cast<Index>(used.rows.size());
+  Matrix<Scalar> z(m, x.cols());
+  Vector<Scalar> yc;
+  Preparation<Scalar> prep = detail::prepare_dense_columns(
+      x, y, options, used, yc, [&](Index k, const Vector<Scalar>& centred, const Scalar& scale) {
+        for (Index r = 0; r < m; ++r) z(r, k) = used.sqrt_weights(r) * centred(r) / scale;
+      });
+  z.conservativeResize(m, static_cast<Index>(prep.columns.size()));
   return {DenseDesign<Scalar>(std::move(z), std::move(yc)), std::move(prep)};
 }
 
@@ -155,8 +77,8 @@ PreparedDense<Scalar> prepare_dense(const Eigen::MatrixBase<Derived>& x, const V
 template <class Scalar>
 using PreparedView = PreparedProblem<DenseViewDesign<Scalar>>;
 
-/// Prepares a view of a dense design: the same centring, scaling and
-/// exclusions as prepare_dense, computed column by column without copying X.
+/// Prepares a view of a dense design: the same pass over the columns as
+/// prepare_dense (detail::prepare_dense_columns), without copying X.
 /// Floating scalar types only. `x` must outlive the returned design. `weights`
 /// empty means all 1. O(n p) time, O(n + p) memory beyond X.
 /// Throws invalid_option (bad options), invalid_data (sizes disagree,
@@ -172,43 +94,15 @@ PreparedView<Scalar> prepare_view(const Eigen::MatrixBase<Derived>& x, const Vec
   options.validate(static_cast<std::size_t>(p));
   detail::check_data(x, y, weights);
   const bool weighted = weights.size() != 0 && (weights.array() != Scalar(1)).any();
-  Vector<Scalar> w = weights.size() ? weights : Vector<Scalar>(Vector<Scalar>::Ones(n));
-  Index used = 0;
-  Index first = -1;
-  for (Index i = 0; i < n; ++i)
-    if (w(i) > Scalar(0)) {
-      ++used;
-      if (first < 0) first = i;
-    }
-  if (used == 0) throw invalid_data("no observation has a positive weight");
-  Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, w.sum());
-  const Scalar wsum = prep.weight_sum;
-  auto weighted_mean = [&](const auto& v) {
-    Scalar m = v.dot(w) / wsum;
-    return Scalar(m + (v.array() - m).matrix().dot(w) / wsum);  // one correction pass
-  };
-  if (options.with_intercept) prep.response_mean = weighted_mean(y);
-  Vector<Scalar> sqrt_w = w.cwiseSqrt();
-  Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
-  prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
-  if (!detail::is_finite_value(prep.total_sum_of_squares))
-    throw invalid_data("the response's sum of squares overflows; rescale the response");
-  yc = yc.cwiseProduct(sqrt_w);
-  for (Index j = 0; j < p; ++j) {
-    const auto col = x.col(j);
-    bool constant = true, all_zero = true;
-    for (Index i = 0; i < n; ++i) {
-      if (w(i) == Scalar(0)) continue;
-      if (col(i) != col(first)) constant = false;
-      if (col(i) != Scalar(0)) all_zero = false;
-    }
-    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
-      prep.excluded.push_back({j, reason});
-      continue;
-    }
-    const Scalar mean = options.with_intercept ? weighted_mean(col) : Scalar(0);
-    const Scalar spread = detail::weighted_norm<Scalar>((col.array() - mean).matrix(), w);
-    detail::admit_column(prep, options, j, mean, spread);
+  const detail::UsedRows<Scalar> used = detail::used_rows(weights, n, options);
+  Vector<Scalar> used_response;
+  Preparation<Scalar> prep =
+      detail::prepare_dense_columns(x, y, options, used, used_response, [](Index, const Vector<Scalar>&, const Scalar&) {});
+  // The view reads every row of x: rows of weight 0 get a zero root weight.
+  Vector<Scalar> sqrt_w = Vector<Scalar>::Zero(n), yc = Vector<Scalar>::Zero(n);
+  for (std::size_t r = 0; r < used.rows.size(); ++r) {
+    sqrt_w(used.rows[r]) = used.sqrt_weights(static_cast<Index>(r));
+    yc(used.rows[r]) = used_response(static_cast<Index>(r));
   }
   auto [m, s] = detail::traced_means_and_scales(prep);
   typename DenseViewDesign<Scalar>::MatrixView view(x.derived().data(), n, p,
