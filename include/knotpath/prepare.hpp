@@ -340,19 +340,15 @@ Scalar weighted_mean(const UsedRows<Scalar>& used, ValueAt value_at) {
   return Scalar(mean + correction / used.weight_sum);
 }
 
-/// The one preparation of dense columns, shared by the dense copy and the
-/// view: the response (mean, total sum of squares, and the prepared
-/// response sqrt(w) o (y - ybar) over the used rows into `response`), then
-/// for each column the exclusion rule, its mean and two-pass spread, and
-/// the scaling rule. `keep(k, centred, scale)` receives each kept column
-/// (design column k, its centred values over the used rows, its scale).
-template <class Scalar, class Derived, class Keep>
-Preparation<Scalar> prepare_dense_columns(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
-                                          const TraceOptions& options, const UsedRows<Scalar>& used,
-                                          Vector<Scalar>& response, Keep keep) {
+/// The response side of every preparation from rows (dense copy, view,
+/// sparse): its weighted mean (0 without intercept), the weighted total sum
+/// of squares about it (overflow-safe norm), and the prepared response
+/// sqrt(w) o (y - ybar) over the used rows into `response`.
+template <class Scalar>
+void prepare_response(const Vector<Scalar>& y, const TraceOptions& options, const UsedRows<Scalar>& used,
+                      Preparation<Scalar>& prep, Vector<Scalar>& response) {
   const Index m = static_cast<Index>(used.rows.size());
   auto row = [&](Index r) { return used.rows[static_cast<std::size_t>(r)]; };
-  Preparation<Scalar> prep = start_preparation<Scalar>(x.rows(), m, x.cols(), options, used.weight_sum);
   if (options.with_intercept) prep.response_mean = weighted_mean(used, [&](Index r) { return y(row(r)); });
   response.resize(m);
   for (Index r = 0; r < m; ++r) response(r) = y(row(r)) - prep.response_mean;
@@ -365,6 +361,30 @@ Preparation<Scalar> prepare_dense_columns(const Eigen::MatrixBase<Derived>& x, c
   if (!is_finite_value(prep.total_sum_of_squares))
     throw invalid_data("the response's sum of squares overflows; rescale the response");
   for (Index r = 0; r < m; ++r) response(r) *= used.sqrt_weights(r);
+}
+
+/// `values` (one per used row) on all n rows, 0 on the rows of weight 0:
+/// for designs that read every row of the user's data (view, sparse).
+template <class Scalar>
+Vector<Scalar> on_all_rows(const UsedRows<Scalar>& used, const Vector<Scalar>& values, Index n) {
+  Vector<Scalar> out = Vector<Scalar>::Zero(n);
+  for (std::size_t r = 0; r < used.rows.size(); ++r) out(used.rows[r]) = values(static_cast<Index>(r));
+  return out;
+}
+
+/// The one preparation of dense columns, shared by the dense copy and the
+/// view: the response (prepare_response()), then for each column the
+/// exclusion rule, its mean and two-pass spread, and the scaling rule.
+/// `keep(k, centred, scale)` receives each kept column (design column k,
+/// its centred values over the used rows, its scale).
+template <class Scalar, class Derived, class Keep>
+Preparation<Scalar> prepare_dense_columns(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
+                                          const TraceOptions& options, const UsedRows<Scalar>& used,
+                                          Vector<Scalar>& response, Keep keep) {
+  const Index m = static_cast<Index>(used.rows.size());
+  auto row = [&](Index r) { return used.rows[static_cast<std::size_t>(r)]; };
+  Preparation<Scalar> prep = start_preparation<Scalar>(x.rows(), m, x.cols(), options, used.weight_sum);
+  prepare_response(y, options, used, prep, response);
 
   Vector<Scalar> column(m);
   for (Index j = 0; j < x.cols(); ++j) {

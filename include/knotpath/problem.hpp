@@ -99,11 +99,8 @@ PreparedView<Scalar> prepare_view(const Eigen::MatrixBase<Derived>& x, const Vec
   Preparation<Scalar> prep =
       detail::prepare_dense_columns(x, y, options, used, used_response, [](Index, const Vector<Scalar>&, const Scalar&) {});
   // The view reads every row of x: rows of weight 0 get a zero root weight.
-  Vector<Scalar> sqrt_w = Vector<Scalar>::Zero(n), yc = Vector<Scalar>::Zero(n);
-  for (std::size_t r = 0; r < used.rows.size(); ++r) {
-    sqrt_w(used.rows[r]) = used.sqrt_weights(static_cast<Index>(r));
-    yc(used.rows[r]) = used_response(static_cast<Index>(r));
-  }
+  Vector<Scalar> sqrt_w = detail::on_all_rows(used, used.sqrt_weights, n);
+  Vector<Scalar> yc = detail::on_all_rows(used, used_response, n);
   auto [m, s] = detail::traced_means_and_scales(prep);
   typename DenseViewDesign<Scalar>::MatrixView view(x.derived().data(), n, p,
                                                     Eigen::OuterStride<>(x.derived().outerStride()));
@@ -118,12 +115,76 @@ template <class Scalar, class Derived>
 PreparedView<Scalar> prepare_view(Eigen::MatrixBase<Derived>&& x, const Vector<Scalar>& y, const TraceOptions& options,
                                   const Vector<Scalar>& weights = Vector<Scalar>()) = delete;
 
+namespace detail {
+
+/// What the sparse preparation reads of one column over the rows of
+/// positive weight (rows not stored hold zeros).
+template <class Scalar>
+struct SparseColumn {
+  bool all_zero = true;           ///< no nonzero value on a used row
+  bool constant = true;           ///< one value on every used row
+  Scalar mean{0};                 ///< weighted mean, with one correction pass
+  Scalar spread{0};               ///< ||sqrt(w) o (x - mean)||, two passes
+  Scalar root_sum_of_squares{0};  ///< ||sqrt(w) o x|| (the spread about 0, without intercept)
+};
+
+/// One column of a sparse matrix, from its stored entries and the implicit
+/// zeros: the weighted mean with the correction pass of weighted_mean()
+/// (the implicit zeros contribute -mean each), and the spreads about the
+/// mean and about 0.
+template <class Scalar, class StorageIndex>
+SparseColumn<Scalar> summarize_sparse_column(const SparseMatrix<Scalar, StorageIndex>& x, Index j,
+                                             const Vector<Scalar>& w, Index used, const Scalar& weight_sum) {
+  using Iterator = typename SparseMatrix<Scalar, StorageIndex>::InnerIterator;
+  SparseColumn<Scalar> out;
+  Scalar sum(0), stored_weight(0);
+  Index stored_used = 0;
+  bool have_first = false;
+  Scalar first(0);
+  for (Iterator it(x, j); it; ++it) {
+    if (w(it.row()) == Scalar(0)) continue;
+    sum += w(it.row()) * it.value();
+    stored_weight += w(it.row());
+    ++stored_used;
+    if (it.value() != Scalar(0)) out.all_zero = false;
+    if (!have_first) {
+      first = it.value();
+      have_first = true;
+    } else if (it.value() != first) {
+      out.constant = false;
+    }
+  }
+  // Used rows that are not stored hold zeros: with stored nonzeros, the column varies.
+  if (stored_used < used && !out.all_zero) out.constant = false;
+  const Scalar implicit_weight = weight_sum - stored_weight;
+  out.mean = sum / weight_sum;
+  Scalar correction = -implicit_weight * out.mean, squares(0), raw_squares(0);
+  for (Iterator it(x, j); it; ++it)
+    if (w(it.row()) != Scalar(0)) correction += w(it.row()) * (it.value() - out.mean);
+  out.mean += correction / weight_sum;
+  for (Iterator it(x, j); it; ++it) {
+    if (w(it.row()) == Scalar(0)) continue;
+    const Scalar deviation = it.value() - out.mean;
+    squares += w(it.row()) * deviation * deviation;
+    raw_squares += w(it.row()) * it.value() * it.value();
+  }
+  squares += implicit_weight * out.mean * out.mean;
+  out.spread = square_root<Scalar>(squares);
+  out.root_sum_of_squares = square_root<Scalar>(raw_squares);
+  return out;
+}
+
+}  // namespace detail
+
 /// A prepared sparse problem (the design references the user's matrix).
 template <class Scalar, class StorageIndex = Index>
 using PreparedSparse = PreparedProblem<SparseDesign<Scalar, StorageIndex>>;
 
-/// Prepares a sparse design: weighted means and scales from the stored
-/// entries (implicit zeros included), exclusions as in prepare_dense.
+/// Prepares a sparse design: the response as every preparation from rows
+/// does (detail::prepare_response), and each column's weighted mean (with
+/// its correction pass) and spread from the stored entries, implicit zeros
+/// included (detail::summarize_sparse_column); exclusions and scaling by the
+/// shared rules.
 /// Floating scalar types only (the row scaling needs square roots). `x`
 /// must outlive the returned design; `weights` empty means all 1.
 /// O(n + p + nnz) time. Throws invalid_option (bad options) and invalid_data
@@ -165,51 +226,21 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
   }
   detail::check_magnitude(top_y, top_y_used, std::string("the response"));
   if (weights.size() != 0) detail::check_magnitude(Scalar(w.maxCoeff()), Scalar(w.maxCoeff()), std::string("the weight vector"));
-  Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, w.sum());
-  const Scalar wsum = prep.weight_sum;
-  if (options.with_intercept) prep.response_mean = w.dot(y) / wsum;
-  Vector<Scalar> sqrt_w = w.cwiseSqrt();
-  Vector<Scalar> yc = (y.array() - prep.response_mean).matrix();
-  prep.total_sum_of_squares = (w.array() * yc.array().square()).sum();
-  yc = yc.cwiseProduct(sqrt_w);
-
+  const detail::UsedRows<Scalar> rows = detail::used_rows(weights, n, options);
+  Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, rows.weight_sum);
+  Vector<Scalar> used_response;
+  detail::prepare_response(y, options, rows, prep, used_response);
   for (Index j = 0; j < p; ++j) {
-    Scalar sum(0), stored_weight(0);
-    Index stored_used = 0;
-    bool any_nonzero = false, varies = false;
-    Scalar first_value(0);
-    bool have_first = false;
-    for (typename SparseMatrix<Scalar, StorageIndex>::InnerIterator it(x, j); it; ++it) {
-      if (w(it.row()) == Scalar(0)) continue;
-      sum += w(it.row()) * it.value();
-      stored_weight += w(it.row());
-      ++stored_used;
-      if (it.value() != Scalar(0)) any_nonzero = true;
-      if (!have_first) {
-        first_value = it.value();
-        have_first = true;
-      } else if (it.value() != first_value) {
-        varies = true;
-      }
-    }
-    // Rows not stored hold zeros; they make the column vary when it has
-    // stored nonzeros and some used rows are implicit.
-    if (stored_used < used && any_nonzero) varies = true;
-    if (const char* reason = detail::exclusion_reason(!any_nonzero, !varies, options, j)) {
+    const detail::SparseColumn<Scalar> column = detail::summarize_sparse_column(x, j, w, used, prep.weight_sum);
+    if (const char* reason = detail::exclusion_reason(column.all_zero, column.constant, options, j)) {
       prep.excluded.push_back({j, reason});
       continue;
     }
-    const Scalar mean = options.with_intercept ? Scalar(sum / wsum) : Scalar(0);
-    // sum_i w_i (x_i - m)^2 over stored entries plus the implicit zeros.
-    Scalar ss(0);
-    for (typename SparseMatrix<Scalar, StorageIndex>::InnerIterator it(x, j); it; ++it) {
-      if (w(it.row()) == Scalar(0)) continue;
-      const Scalar dev = it.value() - mean;
-      ss += w(it.row()) * dev * dev;
-    }
-    ss += (wsum - stored_weight) * mean * mean;
-    detail::admit_column(prep, options, j, mean, detail::square_root<Scalar>(ss));
+    detail::admit_column(prep, options, j, options.with_intercept ? column.mean : Scalar(0),
+                         options.with_intercept ? column.spread : column.root_sum_of_squares);
   }
+  Vector<Scalar> sqrt_w = detail::on_all_rows(rows, rows.sqrt_weights, n);
+  Vector<Scalar> yc = detail::on_all_rows(rows, used_response, n);
   auto [m, s] = detail::traced_means_and_scales(prep);
   SparseDesign<Scalar, StorageIndex> design(x, prep.columns, std::move(m), std::move(s), std::move(sqrt_w), std::move(yc));
   return {std::move(design), std::move(prep)};
