@@ -8,6 +8,7 @@
 #include <stdexcept>
 
 #include <knotpath/io/charts.hpp>
+#include <knotpath/io/report.hpp>
 
 namespace knotpath::charts {
 
@@ -194,7 +195,7 @@ std::vector<std::filesystem::path> write_report(const std::filesystem::path& dir
     std::ofstream out(file, std::ios::binary);
     out << text;
     out.close();
-    if (!out) throw std::runtime_error("knotpath: cannot write " + file.string());
+    if (!out) throw io::output_error("knotpath: cannot write " + file.string());
     written.push_back(file);
   };
   // Build everything first so a bad input writes nothing.

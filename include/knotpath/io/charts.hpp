@@ -294,7 +294,7 @@ std::string report_html(const ChartPath& path, const ReportOptions& options = {}
 /// Writes `dir`/report.html and the charts as separate files
 /// (`dir`/activity.svg, traces.svg, budget.svg when asked, selection.svg
 /// when `selection` is given), creating `dir` if needed. Returns the files
-/// written. Throws std::runtime_error when a file cannot be written.
+/// written. Throws io::output_error (io/report.hpp) when a file cannot be written.
 std::vector<std::filesystem::path> write_report(const std::filesystem::path& dir,
                                                 const ChartPath& path,
                                                 const ReportOptions& options = {},

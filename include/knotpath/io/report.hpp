@@ -114,7 +114,7 @@ std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scala
 /// directory, which is flushed and renamed over `target` only when `write`
 /// returns normally and every byte was written. On any failure the
 /// temporary file is removed, `target` is untouched, and the exception
-/// propagates (std::runtime_error with the file name for I/O failures).
+/// propagates (output_error with the file name for I/O failures).
 void write_atomically(const std::filesystem::path& target,
                       const std::function<void(std::ostream&)>& write);
 
