@@ -246,7 +246,7 @@ void factor(benchmark::State& state) {
   for (const auto& knot : path.knots()) {
     if (knot.event != kp::EventKind::enter && knot.event != kp::EventKind::leave) continue;
     events.push_back({knot.event == kp::EventKind::enter, knot.predictor});  // no exclusions here: column = predictor
-    largest = std::max(largest, knot.active);
+    largest = std::max(largest, knot.active_count);
   }
   RatioLog log;
   double checksum = 0;

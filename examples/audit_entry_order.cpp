@@ -9,22 +9,23 @@
 
 int main() {
   const knotpath::demo::DemoData data = knotpath::demo::greenhouse();
-  const knotpath::Path<double> path = knotpath::trace<double>(data.x, data.y);
-  const double n = data.x.rows();
+  knotpath::TraceOptions options;
+  options.predictor_names = data.predictor_names;
+  const knotpath::Path<double> path = knotpath::trace<double>(data.x, data.y, options);
 
   std::printf("%-14s %-6s %5s %12s %12s %12s\n", "predictor", "event", "sign", "penalty", "mu", "correlation");
   std::map<knotpath::Index, int> times_entered;
   for (const auto& event : path.events()) {
-    std::printf("%-14s %-6s %5s %12.6g %12.6g %12.4f\n", data.predictor_names[event.predictor].c_str(),
-                knotpath::to_string(event.event).c_str(), event.sign > 0 ? "+" : "-", event.penalty,
-                event.penalty / std::sqrt(n), event.correlation);
-    if (event.event == knotpath::EventKind::enter) ++times_entered[event.predictor];
+    std::printf("%-14s %-6s %5s %12.6g %12.6g %12.4f\n", path.predictor_name(event.predictor).c_str(),
+                knotpath::to_string(event.kind).c_str(), event.sign > 0 ? "+" : "-", event.penalty,
+                path.mu_of(event.penalty), event.correlation);
+    if (event.kind == knotpath::EventKind::enter) ++times_entered[event.predictor];
   }
   for (const auto& ex : path.excluded())
-    std::printf("left out before tracing: %s (%s)\n", data.predictor_names[ex.predictor].c_str(), ex.reason.c_str());
+    std::printf("left out before tracing: %s (%s)\n", path.predictor_name(ex.predictor).c_str(), ex.reason.c_str());
   for (const auto& held : path.held_out())
     std::printf("held out at penalty %g: %s (collinear with the active set)\n", held.penalty,
-                data.predictor_names[held.predictor].c_str());
+                path.predictor_name(held.predictor).c_str());
   std::printf("stop reason: %s\n", knotpath::to_string(path.stop_reason()).c_str());
 
   // Sanity for CTest: every predictor entered at least once on this data.

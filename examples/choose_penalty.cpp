@@ -10,12 +10,9 @@
 
 namespace {
 
-void print_coefficients(const knotpath::demo::DemoData& data, const knotpath::Solution<double>& at) {
+void print_coefficients(const knotpath::Path<double>& path, const knotpath::Solution<double>& at) {
   std::printf("  %-14s %12.6g\n", "(intercept)", at.intercept);
-  for (knotpath::Index j = 0; j < at.coefficients.size(); ++j)
-    if (at.coefficients(j) != 0.0)
-      std::printf("  %-14s %12.6g\n", data.predictor_names[static_cast<std::size_t>(j)].c_str(),
-                  at.coefficients(j));
+  for (const auto& c : path.named_coefficients(at)) std::printf("  %-14s %12.6g\n", c.name.c_str(), c.value);
 }
 
 }  // namespace
@@ -27,7 +24,9 @@ int main() {
   cv.folds = 10;
   cv.seed = 20261201;
   cv.threads = 2;  // the result does not depend on it
-  const auto result = knotpath::cross_validate<double>(data.x, data.y, knotpath::TraceOptions{}, cv);
+  knotpath::TraceOptions options;
+  options.predictor_names = data.predictor_names;  // carried by every path
+  const auto result = knotpath::cross_validate<double>(data.x, data.y, options, cv);
   const auto& path = result.full_path;
 
   std::printf("Exact 10-fold cross-validation: %zu quadratic pieces on mu in [%.6g, %.6g]\n",
@@ -36,10 +35,10 @@ int main() {
   const auto& lean = result.parsimonious;
   std::printf("\nMinimum:      mu %.6g  lambda %.6g  CV error %.6g (SE %.4g), %zu predictors\n", best.mu,
               best.lambda, best.error, best.standard_error, path.active_at(best.lambda).size());
-  print_coefficients(data, path.at_penalty(best.lambda));
+  print_coefficients(path, path.at_penalty(best.lambda));
   std::printf("\nParsimonious: mu %.6g  lambda %.6g  CV error %.6g (SE %.4g), %zu predictors\n", lean.mu,
               lean.lambda, lean.error, lean.standard_error, path.active_at(lean.lambda).size());
-  print_coefficients(data, path.at_penalty(lean.lambda));
+  print_coefficients(path, path.at_penalty(lean.lambda));
 
   const auto ic = knotpath::information_criteria<double>(data.x, data.y, path);
   std::printf("\nNoise variance %.6g (least-squares fit, %ld residual df; the generating model's is %.6g)\n",
@@ -59,7 +58,7 @@ int main() {
   std::printf("  %4s %-14s %10s %10s %11s %11s\n", "step", "predictor", "penalty", "T_k", "p (cov)", "p (spacing)");
   for (const auto& e : sig.entries)
     std::printf("  %4ld %-14s %10.5g %10.4g %11.3g %11.3g %s\n", static_cast<long>(e.step),
-                data.predictor_names[static_cast<std::size_t>(e.predictor)].c_str(), e.penalty,
+                path.predictor_name(e.predictor).c_str(), e.penalty,
                 e.covariance_statistic, e.covariance_p_value, e.spacing_p_value, e.note.c_str());
   std::printf("\nThe p-values assume a linear model with Gaussian noise of constant variance; each asks only\n"
               "whether the entering predictor improves on those already active. Do not use them alone\n"

@@ -230,20 +230,20 @@ void write_knot_table(std::ostream& out, const Path<Scalar>& path,
     for (const auto& name : names) out << ',' << csv_field("decimal:" + name);
   }
   out << '\n';
-  const auto p = static_cast<std::size_t>(path.predictors());
+  const auto p = static_cast<std::size_t>(path.predictor_count());
   std::vector<Scalar> beta(p);
   for (const auto& knot : path.knots()) {
     std::fill(beta.begin(), beta.end(), Scalar(0));
     for (const auto& [j, value] : knot.coefficients) beta[static_cast<std::size_t>(j)] = value;
     const auto r2 = r_squared(path, knot.rss);
     out << knot.step << ',' << number_text(knot.penalty) << ',' << event_name(path, knot) << ','
-        << csv_field(name_of(names, knot.predictor)) << ',' << knot.active << ','
-        << number_text(knot.l1_norm) << ',' << (r2 ? number_text(*r2) : std::string()) << ','
+        << csv_field(name_of(names, knot.predictor)) << ',' << knot.active_count << ','
+        << number_text(knot.penalized_l1) << ',' << (r2 ? number_text(*r2) : std::string()) << ','
         << number_text(knot.intercept);
     for (const Scalar& b : beta) out << ',' << number_text(b);
     if constexpr (exact) {
       out << ',' << round_trip(nearest_double(knot.penalty)) << ','
-          << round_trip(nearest_double(knot.l1_norm)) << ','
+          << round_trip(nearest_double(knot.penalized_l1)) << ','
           << (r2 ? round_trip(nearest_double(*r2)) : std::string()) << ','
           << round_trip(nearest_double(knot.intercept));
       for (const Scalar& b : beta) out << ',' << round_trip(nearest_double(b));
@@ -345,8 +345,8 @@ json knot_json(const Path<Scalar>& path, const Knot<Scalar>& knot,
   k["mu"] = mu_as_double(path, knot.penalty);
   k["event"] = event_name(path, knot);
   k["predictor"] = knot.predictor >= 0 ? json(name_of(names, knot.predictor)) : json(nullptr);
-  k["active"] = knot.active;
-  knot_numbers.put(k, "l1_norm", knot.l1_norm);
+  k["active"] = knot.active_count;
+  knot_numbers.put(k, "l1_norm", knot.penalized_l1);
   const auto r2 = r_squared(path, knot.rss);
   if (r2)
     knot_numbers.put(k, "r_squared", *r2);
@@ -465,8 +465,8 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
     rows.push_back(
         {{fmt::format("{}", knot.step), fmt::format("{:.6g}", nearest_double(knot.penalty)),
           fmt::format("{:.6g}", mu_as_double(path, knot.penalty)), event_name(path, knot),
-          name_of(names, knot.predictor), fmt::format("{}", knot.active),
-          fmt::format("{:.6g}", nearest_double(knot.l1_norm)),
+          name_of(names, knot.predictor), fmt::format("{}", knot.active_count),
+          fmt::format("{:.6g}", nearest_double(knot.penalized_l1)),
           r2 ? fmt::format("{:.4f}", nearest_double(*r2)) : std::string("-"),
           knot.suspect ? "suspect" : ""}});
   }

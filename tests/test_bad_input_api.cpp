@@ -46,7 +46,7 @@ table_error reader_error(const std::string& text, kp::io::TableReadOptions optio
 // Every number a path holds is finite.
 void expect_finite_path(const kp::Path<double>& path) {
   for (const auto& k : path.knots()) {
-    EXPECT_TRUE(std::isfinite(k.penalty) && std::isfinite(k.rss) && std::isfinite(k.l1_norm) &&
+    EXPECT_TRUE(std::isfinite(k.penalty) && std::isfinite(k.rss) && std::isfinite(k.penalized_l1) &&
                 std::isfinite(k.intercept))
         << "knot " << k.step;
     for (const auto& [j, v] : k.coefficients) EXPECT_TRUE(std::isfinite(v)) << "knot " << k.step;

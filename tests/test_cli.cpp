@@ -111,8 +111,8 @@ void expect_same_path(const KnotTable& table, const knotpath::Path<double>& path
                                   : knotpath::to_string(knot.event);
     EXPECT_EQ(row[2], event);
     EXPECT_EQ(row[3], knot.predictor >= 0 ? names[static_cast<std::size_t>(knot.predictor)] : "");
-    EXPECT_EQ(std::stol(row[4]), knot.active);
-    EXPECT_TRUE(close(std::stod(row[5]), knot.l1_norm));
+    EXPECT_EQ(std::stol(row[4]), knot.active_count);
+    EXPECT_TRUE(close(std::stod(row[5]), knot.penalized_l1));
     const double r2 = 1.0 - knot.rss / path.preparation().total_sum_of_squares;
     EXPECT_TRUE(close(std::stod(row[6]), r2));
     EXPECT_TRUE(close(std::stod(row[7]), knot.intercept));
@@ -212,7 +212,7 @@ TEST_F(Cli, AtAgreesWithTheLibraryQueries) {
   write_problem(file("t.csv"), p, small_weights(p.x.rows()));
   const auto path = knotpath::trace<double>(p.x, p.y);
   const double lambda = 0.3 * path.lambda_max();
-  const double budget = 0.4 * path.knots().back().l1_norm;
+  const double budget = 0.4 * path.knots().back().penalized_l1;
   struct Query {
     std::string option;
     knotpath::Solution<double> expected;

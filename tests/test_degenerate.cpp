@@ -208,7 +208,7 @@ TEST(Degenerate, CollinearSetThatNeverClosesEndsAtLeastSquares) {
   const Vector<double> y = prob.y + 2.0 * x.col(5);
   const auto path = knotpath::trace<double>(x, y);
   EXPECT_EQ(path.stop_reason(), StopReason::completed);
-  for (const auto& k : path.knots()) EXPECT_LE(k.active, 5);
+  for (const auto& k : path.knots()) EXPECT_LE(k.active_count, 5);
   const Vector<double> end = path.dense_coefficients(path.knots().size() - 1);
   EXPECT_FALSE(end(1) != 0.0 && end(3) != 0.0 && end(4) != 0.0 && end(5) != 0.0);
   EXPECT_NEAR(path.knots().back().rss, least_squares_rss(x, y), 1e-10 * path.preparation().total_sum_of_squares);
@@ -270,18 +270,18 @@ TEST(Degenerate, MoreColumnsThanRowsSaturatesAndInterpolatesAtZero) {
   EXPECT_EQ(path.knots().back().penalty, 0.0);
   // Active set never exceeds the rank of the centred design, n - 1 = 9.
   Index most = 0;
-  for (const auto& k : path.knots()) most = std::max(most, k.active);
+  for (const auto& k : path.knots()) most = std::max(most, k.active_count);
   EXPECT_EQ(most, 9);
   // At penalty 0 the fit interpolates: RSS is rounding-level (1e-20 of the
   // TSS would be too strict after ~40 knots; 1e-12 still rules out any
   // non-interpolating fit).
   EXPECT_LE(path.knots().back().rss, 1e-12 * path.preparation().total_sum_of_squares);
-  const Vector<double> fitted = path.predict(prob.x, 0.0);
+  const Vector<double> fitted = path.predict(prob.x, 0.0).values;
   EXPECT_LE((fitted - prob.y).cwiseAbs().maxCoeff(), 1e-6 * prob.y.cwiseAbs().maxCoeff());
   // Saturation is recorded.
   ASSERT_TRUE(path.saturation_step().has_value());
   const auto& sat = path.knots()[static_cast<std::size_t>(*path.saturation_step())];
-  EXPECT_EQ(sat.active, 9);
+  EXPECT_EQ(sat.active_count, 9);
   for (const auto& h : path.held_out()) {
     if (h.step >= *path.saturation_step()) {
       EXPECT_TRUE(h.saturated);
@@ -300,7 +300,7 @@ TEST(Degenerate, RankDeficientDesignEndsAtLeastSquares) {
   const Vector<double> y = prob.y + x.col(5) - x.col(6);
   const auto path = knotpath::trace<double>(x, y);
   EXPECT_EQ(path.stop_reason(), StopReason::completed);
-  for (const auto& k : path.knots()) EXPECT_LE(k.active, 5);  // rank of the centred design
+  for (const auto& k : path.knots()) EXPECT_LE(k.active_count, 5);  // rank of the centred design
   EXPECT_FALSE(path.held_out().empty());
   for (const auto& h : path.held_out()) EXPECT_FALSE(h.saturated);  // rank 5 < n - 1 = 19
   EXPECT_FALSE(path.saturation_step().has_value());

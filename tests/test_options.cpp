@@ -186,7 +186,7 @@ TEST(PenaltyFactors, SameAsRescalingColumnsByInverseFactor) {
     for (Index j = 0; j < gamma.size(); ++j) gamma(j) /= f[static_cast<std::size_t>(j)];
     const Vector<double> beta = a.dense_coefficients(k);
     EXPECT_LE((beta - gamma).cwiseAbs().maxCoeff(), 1e-11 * (1.0 + gamma.cwiseAbs().maxCoeff()));
-    EXPECT_NEAR(a.knots()[k].l1_norm, b.knots()[k].l1_norm, 1e-11 * (1.0 + b.knots()[k].l1_norm));
+    EXPECT_NEAR(a.knots()[k].penalized_l1, b.knots()[k].penalized_l1, 1e-11 * (1.0 + b.knots()[k].penalized_l1));
   }
   expect_kkt_along(prob.x, prob.y, o, a);
 

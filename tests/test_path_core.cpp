@@ -121,7 +121,7 @@ TEST_P(PathOnDesign, LassoL1NormNeverDecreasesAsThePenaltyFalls) {
   for (std::size_t k = 1; k < knots.size(); ++k) {
     EXPECT_LE(knots[k].penalty, knots[k - 1].penalty);
     // Rounding in the norm of ~30 coefficients: 1e-12 relative.
-    EXPECT_GE(knots[k].l1_norm, knots[k - 1].l1_norm * (1 - 1e-12)) << dc.name << " knot " << k;
+    EXPECT_GE(knots[k].penalized_l1, knots[k - 1].penalized_l1 * (1 - 1e-12)) << dc.name << " knot " << k;
   }
 }
 
@@ -216,7 +216,7 @@ TEST(PathCore, AuditLogIsComplete) {
     Index active = 0;
     for (int s : state) active += s != 0;
     if (e.event == kp::EventKind::enter || e.event == kp::EventKind::leave) {
-      EXPECT_EQ(e.active, active);
+      EXPECT_EQ(e.active_count, active);
     }
     EXPECT_EQ(e.step, static_cast<Index>(k));
   }
@@ -242,23 +242,23 @@ TEST(PathCore, QueriesAtPenaltyBudgetAndFraction) {
   // A budget and the penalty it maps to describe the same point.
   for (double lambda : random_penalties(path.lambda_max(), 77, 20)) {
     const auto s = path.at_penalty(lambda);
-    const auto t = path.at_budget(s.l1_norm);
+    const auto t = path.at_budget(s.penalized_l1);
     EXPECT_NEAR(t.penalty, lambda, 1e-9 * path.lambda_max());
     EXPECT_LE((t.coefficients - s.coefficients).cwiseAbs().maxCoeff(),
               1e-9 * std::max(1.0, s.coefficients.cwiseAbs().maxCoeff()));
-    EXPECT_NEAR(path.weighted_l1(t.coefficients), s.l1_norm, 1e-9 * std::max(1.0, s.l1_norm));
+    EXPECT_NEAR(path.penalized_l1(t.coefficients), s.penalized_l1, 1e-9 * std::max(1.0, s.penalized_l1));
   }
   // Fractions of the final norm: 0 is the start, 1 the end.
   EXPECT_EQ(path.at_fraction(0.0).coefficients.cwiseAbs().maxCoeff(), 0.0);
   EXPECT_EQ(path.at_fraction(1.0).penalty, 0.0);
   const auto half = path.at_fraction(0.5);
-  EXPECT_NEAR(half.l1_norm, 0.5 * path.knots().back().l1_norm, 1e-9 * path.knots().back().l1_norm);
+  EXPECT_NEAR(half.penalized_l1, 0.5 * path.knots().back().penalized_l1, 1e-9 * path.knots().back().penalized_l1);
   // A budget beyond the final norm gives the end, flagged.
-  EXPECT_TRUE(path.at_budget(2 * path.knots().back().l1_norm).beyond_path);
+  EXPECT_TRUE(path.at_budget(2 * path.knots().back().penalized_l1).beyond_path);
   // Predictions are intercept + X beta.
   const double lambda = 0.3 * path.lambda_max();
   const auto s = path.at_penalty(lambda);
-  const Vec pred = path.predict(prob.x.topRows(5), lambda);
+  const Vec pred = path.predict(prob.x.topRows(5), lambda).values;
   for (Index i = 0; i < 5; ++i)
     EXPECT_NEAR(pred(i), s.intercept + prob.x.row(i).dot(s.coefficients), 1e-12 * (1 + std::abs(pred(i))));
   EXPECT_THROW((void)path.predict(prob.x.leftCols(3), lambda), kp::invalid_query);

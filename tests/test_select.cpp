@@ -71,7 +71,7 @@ struct DirectCv {
     std::vector<double> out;
     for (std::size_t k = 0; k < splits.size(); ++k) {
       const double lambda = mu * std::sqrt(static_cast<double>(splits[k].x_train.rows()));
-      const Vector<double> pred = paths[k].predict(splits[k].x_test, lambda);
+      const Vector<double> pred = paths[k].predict(splits[k].x_test, lambda).values;
       out.push_back((splits[k].y_test - pred).squaredNorm() /
                     static_cast<double>(splits[k].y_test.size()));
     }
@@ -196,10 +196,10 @@ TEST(CrossValidation, LeaveOneOutEqualsDirectRefits) {
       const double se = std::sqrt(ss / static_cast<double>(n - 1) / static_cast<double>(n));
       // Coordinate descent stops at a relative change of 1e-13; predictions
       // then agree to ~1e-11, so 1e-8 relative leaves a wide margin.
-      EXPECT_NEAR(result.error_at(mu), mean, 1e-8 * mean)
+      EXPECT_NEAR(result.error_at_mu(mu), mean, 1e-8 * mean)
           << "standardize " << standardize << " mu " << mu;
-      EXPECT_NEAR(result.standard_error_at(mu), se, 1e-8 * mean) << "standardize " << standardize;
-      const auto folds = result.fold_errors_at(mu);
+      EXPECT_NEAR(result.standard_error_at_mu(mu), se, 1e-8 * mean) << "standardize " << standardize;
+      const auto folds = result.fold_errors_at_mu(mu);
       for (Index i = 0; i < n; ++i)
         EXPECT_NEAR(folds[static_cast<std::size_t>(i)], errors[static_cast<std::size_t>(i)],
                     1e-8 * mean);
@@ -228,8 +228,8 @@ TEST(CrossValidation, CurveOnTheSizeFreeAxisIgnoresAUniformWeightScale) {
     EXPECT_NEAR(plain.minimum.mu, doubled.minimum.mu, 1e-9 * plain.mu_high);
     EXPECT_NEAR(plain.minimum.error, doubled.minimum.error, 1e-9 * plain.minimum.error);
     for (double fraction : {0.8, 0.4, 0.1, 0.01})
-      EXPECT_NEAR(plain.error_at(fraction * plain.mu_high),
-                  doubled.error_at(fraction * plain.mu_high), 1e-9 * plain.minimum.error);
+      EXPECT_NEAR(plain.error_at_mu(fraction * plain.mu_high),
+                  doubled.error_at_mu(fraction * plain.mu_high), 1e-9 * plain.minimum.error);
     // The full-data penalty scales: lambda = mu * sqrt(n) or mu * n.
     EXPECT_NEAR(doubled.minimum.lambda / plain.minimum.lambda, standardize ? std::sqrt(2.0) : 2.0,
                 1e-9);
@@ -299,7 +299,7 @@ TEST(CrossValidation, FoldsFromSeedAreBalancedAndReproducibleAndUserFoldsAreHono
   EXPECT_THROW(kp::cross_validate<double>(prob.x, prob.y, {}, bad), kp::invalid_option);
   bad.folds = 31;
   EXPECT_THROW(kp::cross_validate<double>(prob.x, prob.y, {}, bad), kp::invalid_option);
-  EXPECT_THROW(result.error_at(-1.0), kp::invalid_query);
+  EXPECT_THROW(result.error_at_mu(-1.0), kp::invalid_query);
 }
 
 // Cp, AIC and BIC at every knot recomputed from the residuals of each
@@ -434,5 +434,5 @@ TEST(CrossValidation, PathsThatStopEarlyLimitTheDomain) {
   EXPECT_GE(result.minimum.mu, result.mu_low);
   // lambda = mu * sqrt(n) may round one ulp below the last knot; 1e-12 relative.
   EXPECT_GE(result.minimum.lambda, result.full_path.knots().back().penalty * (1 - 1e-12));
-  EXPECT_THROW(result.error_at(0.5 * result.mu_low), kp::invalid_query);
+  EXPECT_THROW(result.error_at_mu(0.5 * result.mu_low), kp::invalid_query);
 }

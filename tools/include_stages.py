@@ -26,7 +26,7 @@ STAGES = [
     ("prepared problem", ["problem.hpp"]),
     ("homotopy", ["knot.hpp", "homotopy.hpp"]),
     ("path", ["path.hpp"]),
-    ("trace front end", ["trace.hpp"]),
+    ("trace front end", ["trace.hpp", "solver.hpp"]),
     ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
                                          "inference.hpp", "precision.hpp"]),
     ("io", ["io/table.hpp", "io/report.hpp", "io/charts.hpp"]),

@@ -102,13 +102,12 @@ template <class Scalar>
 std::vector<KnotCriteria<Scalar>> criteria_rows(const Path<Scalar>& path) {
   const Preparation<Scalar>& prep = path.preparation();
   const Index intercept = prep.intercept ? 1 : 0;
-  const Scalar scale = penalty_scale(prep);
   std::vector<KnotCriteria<Scalar>> rows;
   for (const auto& knot : path.knots()) {
     KnotCriteria<Scalar> c;
     c.step = knot.step;
     c.penalty = knot.penalty;
-    c.mu = knot.penalty / scale;
+    c.mu = path.mu_of(knot.penalty);
     c.nonzero = static_cast<Index>(knot.coefficients.size());
     c.parameters = c.nonzero + intercept;
     c.rss = knot.rss;

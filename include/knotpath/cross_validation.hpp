@@ -118,7 +118,7 @@ struct Fold {
   Scalar mu_min() const { return path.knots().back().penalty / scale; }
 
   /// Held-out mean squared error e_k(mu) for mu >= mu_min().
-  Scalar error_at(const Scalar& mu) const {
+  Scalar error_at_mu(const Scalar& mu) const {
     if (segments.empty() || mu >= segments.front().mu_high) return error_above;
     // First segment whose lower end is <= mu (segments descend).
     auto it = std::partition_point(segments.begin(), segments.end(),
@@ -168,26 +168,26 @@ struct CrossValidation {
   CurvePoint<Scalar> parsimonious;         ///< largest mu with CV <= CV(min) + SE(min)
 
   /// CV(mu) for mu >= mu_low (constant above mu_high). Throws invalid_query below the domain.
-  Scalar error_at(const Scalar& mu) const {
+  Scalar error_at_mu(const Scalar& mu) const {
     check(mu);
     Scalar sum(0);
-    for (const auto& f : folds) sum += f.held_out_weight * f.error_at(mu);
+    for (const auto& f : folds) sum += f.held_out_weight * f.error_at_mu(mu);
     return sum / total_weight;
   }
   /// Held-out mean squared error of each fold at mu.
-  std::vector<Scalar> fold_errors_at(const Scalar& mu) const {
+  std::vector<Scalar> fold_errors_at_mu(const Scalar& mu) const {
     check(mu);
     std::vector<Scalar> out;
     out.reserve(folds.size());
-    for (const auto& f : folds) out.push_back(f.error_at(mu));
+    for (const auto& f : folds) out.push_back(f.error_at_mu(mu));
     return out;
   }
   /// SE(mu), the weighted standard error of the fold errors.
-  Scalar standard_error_at(const Scalar& mu) const {
-    const Scalar mean = error_at(mu);
+  Scalar standard_error_at_mu(const Scalar& mu) const {
+    const Scalar mean = error_at_mu(mu);
     Scalar sum(0);
     for (const auto& f : folds) {
-      const Scalar d = f.error_at(mu) - mean;
+      const Scalar d = f.error_at_mu(mu) - mean;
       sum += f.held_out_weight * d * d;
     }
     const Scalar k(static_cast<double>(folds.size()));
@@ -197,14 +197,19 @@ struct CrossValidation {
   /// between exact points.
   std::vector<CurvePoint<Scalar>> knot_points() const {
     std::vector<CurvePoint<Scalar>> out;
-    for (const auto& piece : pieces) out.push_back(point(piece.mu_high));
-    if (!pieces.empty()) out.push_back(point(pieces.back().mu_low));
+    for (const auto& piece : pieces) out.push_back(point_at_mu(piece.mu_high));
+    if (!pieces.empty()) out.push_back(point_at_mu(pieces.back().mu_low));
     return out;
   }
-  /// The curve at one mu.
-  CurvePoint<Scalar> point(const Scalar& mu) const {
-    return {mu, Scalar(mu * full_scale), error_at(mu), standard_error_at(mu)};
+  /// The curve at one size-free penalty mu.
+  CurvePoint<Scalar> point_at_mu(const Scalar& mu) const {
+    return {mu, Scalar(mu * full_scale), error_at_mu(mu), standard_error_at_mu(mu)};
   }
+  /// The curve at a penalty lambda of the full data (converted by
+  /// full_path.mu_of(), the one conversion).
+  CurvePoint<Scalar> point_at_penalty(const Scalar& lambda) const { return point_at_mu(full_path.mu_of(lambda)); }
+  /// CV error at a penalty lambda of the full data.
+  Scalar error_at_penalty(const Scalar& lambda) const { return error_at_mu(full_path.mu_of(lambda)); }
 
  private:
   void check(const Scalar& mu) const {
@@ -503,8 +508,8 @@ CurvePoint<Scalar> curve_minimum(const CrossValidation<Scalar>& cv) {
     }
     consider(Scalar(0));
   }
-  if (cv.pieces.empty()) best = cv.error_at(best_mu);  // a one-point domain
-  return {best_mu, Scalar(best_mu * cv.full_scale), best, cv.standard_error_at(best_mu)};
+  if (cv.pieces.empty()) best = cv.error_at_mu(best_mu);  // a one-point domain
+  return {best_mu, Scalar(best_mu * cv.full_scale), best, cv.standard_error_at_mu(best_mu)};
 }
 
 /// The largest mu with CV(mu) <= CV(min) + SE(min) (cv.minimum set).
@@ -516,7 +521,7 @@ CurvePoint<Scalar> parsimonious_choice(const CrossValidation<Scalar>& cv) {
     if (auto s = largest_at_most(piece, threshold)) {
       const Scalar mu =
           std::max<Scalar>(cv.minimum.mu, piece.mu_low + *s * (piece.mu_high - piece.mu_low));
-      return cv.point(mu);
+      return cv.point_at_mu(mu);
     }
   }
   return cv.minimum;

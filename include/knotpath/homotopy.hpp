@@ -513,7 +513,7 @@ class Homotopy {
     knot.penalty = lambda_;
     knot.event = kind;
     knot.sign = s;
-    knot.active = active_after >= 0 ? active_after : active_count();
+    knot.active_count = active_after >= 0 ? active_after : active_count();
     knot.rss = rss_ < zero_ ? zero_ : rss_;
     record_coefficients(knot);
     if (column >= 0) {
@@ -529,20 +529,23 @@ class Homotopy {
   }
 
   // beta_j = b_k / s_j for the nonzero active coefficients (ascending j),
-  // the penalized L1 norm sum f_k |b_k| and the intercept ybar - sum m_j beta_j.
+  // the penalized L1 norm sum f_k |b_k|, the plain one sum |beta_j| and the
+  // intercept ybar - sum m_j beta_j.
   void record_coefficients(Knot<Scalar>& knot) const {
-    Scalar l1(0), fitted_mean_shift(0);
+    Scalar l1(0), plain(0), fitted_mean_shift(0);
     for (Index k : active_) {
       if (b_(k) == zero_) continue;
       const Index j = prep_.columns[at(k)];
       const Scalar beta = b_(k) / prep_.scales(j);
       knot.coefficients.emplace_back(j, beta);
       l1 += factor_of_(k) * detail::abs_value<Scalar>(b_(k));
+      plain += detail::abs_value<Scalar>(beta);
       fitted_mean_shift += prep_.means(j) * beta;
     }
     std::sort(knot.coefficients.begin(), knot.coefficients.end(),
               [](const auto& x, const auto& y) { return x.first < y.first; });
-    knot.l1_norm = l1;
+    knot.penalized_l1 = l1;
+    knot.plain_l1 = plain;
     knot.intercept = prep_.intercept ? Scalar(prep_.response_mean - fitted_mean_shift) : zero_;
   }
 

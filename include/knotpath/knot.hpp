@@ -64,8 +64,14 @@ struct Knot {
   Index predictor = -1;       ///< predictor of an enter/leave event (user's 0-based index), else -1
   int sign = 0;               ///< +1/-1: sign of the entering coefficient, or of the leaving one before it left
   double correlation = 0;     ///< enter/leave: correlation of the (prepared) predictor with the residual
-  Index active = 0;           ///< active predictors after the event (unpenalized ones included)
-  Scalar l1_norm{0};          ///< sum_j f_j s_j |beta_j|
+  Index active_count = 0;     ///< number of active predictors after the event (unpenalized ones included)
+  /// The penalized L1 norm sum_j f_j s_j |beta_j| (f_j the penalty factor,
+  /// s_j the column scale): the norm the objective penalizes, on the
+  /// standardized scale, and the one Path::at_budget() constrains.
+  Scalar penalized_l1{0};
+  /// The plain L1 norm sum_j |beta_j| of the original-scale coefficients
+  /// beside it (unpenalized predictors included).
+  Scalar plain_l1{0};
   Scalar rss{0};              ///< weighted residual sum of squares
   Scalar intercept{0};        ///< on the original scale (0 without intercept)
   std::vector<std::pair<Index, Scalar>> coefficients;  ///< nonzero beta_j, ascending j, original scale
@@ -80,6 +86,20 @@ struct Knot {
   double estimated_error = 0;
   bool suspect = false;        ///< estimated_error > TraceOptions::suspect_threshold: cross-check
                                ///< with a higher precision (knotpath verify) before trusting it
+};
+
+/// One entry of the audit (Path::events()): an enter or leave row of the
+/// knot table without its coefficient vector.
+template <class Scalar>
+struct Event {
+  std::size_t knot = 0;       ///< position of the row in Path::knots()
+  Index step = 0;             ///< Knot::step of the row
+  Scalar penalty{0};          ///< lambda at which it happened
+  EventKind kind = EventKind::enter;  ///< enter or leave
+  Index predictor = -1;       ///< the predictor (user's 0-based index)
+  int sign = 0;               ///< sign of the entering coefficient, or of the leaving one before it left
+  double correlation = 0;     ///< correlation of the prepared predictor with the residual
+  Index active_count = 0;     ///< number of active predictors after the event
 };
 
 /// A predictor that reached the boundary but was not added because its

@@ -30,5 +30,6 @@
 #include "prepare.hpp"
 #include "problem.hpp"
 #include "scaling.hpp"
+#include "solver.hpp"
 #include "statistics.hpp"
 #include "trace.hpp"

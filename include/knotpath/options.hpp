@@ -3,6 +3,7 @@
 /// \brief The options of a path trace: a plain struct with documented
 /// defaults, validated in exactly one place (TraceOptions::validate).
 
+#include <algorithm>
 #include <cmath>
 #include <cstddef>
 #include <limits>
@@ -99,6 +100,11 @@ struct TraceOptions {
   /// thread count. Gram mode and the software scalar types (multiprecision,
   /// rational) run on one thread.
   std::size_t threads = 1;
+  /// Names of the predictors, in column order (empty: predictor j is named
+  /// "x" followed by j + 1, as default_predictor_name() spells it). The path
+  /// carries them (Path::predictor_name(), Path::named_coefficients()); they
+  /// change no number of the trace. Each name must be non-empty and unique.
+  std::vector<std::string> predictor_names;
 
   /// Checks every field against the number of predictors `p` and throws
   /// invalid_option naming the first bad field.
@@ -144,17 +150,39 @@ struct TraceOptions {
       throw invalid_option("suspect_threshold", "must be > 0");
     if (std::isnan(tie_tolerance) || tie_tolerance >= 1.0)
       throw invalid_option("tie_tolerance", "must be < 1 (negative for automatic)");
+    validate_names(p);
   }
 
   /// Penalty factor of predictor j (1 when none were given).
   double penalty_factor(std::size_t j) const {
     return penalty_factors.empty() ? 1.0 : penalty_factors[j];
   }
+  /// Checks predictor_names: empty, or p non-empty, distinct names.
+  void validate_names(std::size_t p) const {
+    if (predictor_names.empty()) return;
+    if (predictor_names.size() != p)
+      throw invalid_option("predictor_names", "has " + std::to_string(predictor_names.size()) +
+                                                  " entries, expected " + std::to_string(p));
+    std::vector<const std::string*> sorted;
+    for (const auto& name : predictor_names) {
+      if (name.empty()) throw invalid_option("predictor_names", "a name is empty");
+      sorted.push_back(&name);
+    }
+    std::sort(sorted.begin(), sorted.end(), [](const auto* a, const auto* b) { return *a < *b; });
+    for (std::size_t k = 1; k < sorted.size(); ++k)
+      if (*sorted[k] == *sorted[k - 1])
+        throw invalid_option("predictor_names", "the name \"" + *sorted[k] + "\" appears twice");
+  }
+
   /// Sign constraint of predictor j.
   SignConstraint sign_constraint(std::size_t j) const {
     if (sign_constraints.empty()) return SignConstraint::none;
     return sign_constraints.size() == 1 ? sign_constraints[0] : sign_constraints[j];
   }
 };
+
+/// The name of predictor j (0-based) when TraceOptions::predictor_names is
+/// empty: "x" followed by j + 1 ("x1", "x2", ...), the numbering people count in.
+inline std::string default_predictor_name(std::size_t j) { return "x" + std::to_string(j + 1); }
 
 }  // namespace knotpath

@@ -1,24 +1,33 @@
 #pragma once
 /// \file path.hpp
 /// \brief The traced path: its knots (one row per event), the audit of
-/// events, and exact queries at any penalty, L1 budget or fraction of the
-/// final L1 norm, plus predictions.
+/// events, and exact queries at any penalty (lambda or the size-free mu), L1
+/// budget or fraction of the final L1 norm, one point or many at once, plus
+/// predictions and named coefficients.
 ///
 /// Between consecutive knots every coefficient (and the intercept) is an
 /// affine function of the penalty, so linear interpolation between the two
 /// surrounding knots is exact. Coefficients are on the original scale of the
-/// data; the L1 norm is the penalized one, sum_j f_j s_j |beta_j|.
+/// data. Two L1 norms are reported and named apart: penalized_l1 =
+/// sum_j f_j s_j |beta_j| (the norm the objective penalizes, on the
+/// standardized scale; budgets constrain this one) and plain_l1 =
+/// sum_j |beta_j| (the original-scale coefficients as printed).
 ///
 /// Penalty units: lambda is the penalty of the objective (TraceOptions)
 ///     0.5 sum_i w_i (y_i - b0 - x_i^T b)^2 + lambda sum_j f_j s_j |b_j|,
 /// with s_j the column scale (standardization: root weighted sum of squares
 /// of the centred column, so s_j b_j and lambda are in response units and
 /// lambda grows like sqrt(n); otherwise s_j = 1). The size-free penalty of
-/// scaling.hpp is mu = lambda / sqrt(n) (lambda / n without standardization).
+/// scaling.hpp is mu = lambda / sqrt(n) (lambda / n without standardization);
+/// Path::mu_of() and Path::lambda_of() are the conversion, and every query
+/// says its unit in its name (at_penalty() takes lambda, at_mu() takes mu).
 
 #include <algorithm>
+#include <cstddef>
+#include <memory>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <utility>
 #include <vector>
 
@@ -33,19 +42,64 @@ namespace knotpath {
 /// The solution at one point of the path, on the original scale.
 template <class Scalar>
 struct Solution {
-  Scalar penalty{0};         ///< lambda of this point
-  Scalar l1_norm{0};         ///< sum_j f_j s_j |beta_j|
+  Scalar penalty{0};         ///< lambda of the point answered
+  Scalar penalized_l1{0};    ///< sum_j f_j s_j |beta_j| (standardized scale; what budgets constrain)
+  Scalar plain_l1{0};        ///< sum_j |beta_j| of `coefficients`
   Scalar intercept{0};       ///< b0 on the original scale (0 without intercept)
   Vector<Scalar> coefficients;  ///< length p (user's predictors; excluded ones are 0)
-  bool beyond_path = false;  ///< asked below the last knot of a path that stopped early (or for
-                             ///< a budget it never reached): this is the last knot's solution
+  /// The point asked for lies outside the traced stretch: below the last
+  /// knot of a path that stopped early, or a budget it never reached. The
+  /// answer is then the last knot's solution (and `penalty` its lambda),
+  /// not the point asked for.
+  bool beyond_path = false;
+  /// The path stopped early (Path::stopped_early()): "the end of the path"
+  /// and fractions of its final norm refer to its last knot, not to penalty 0.
+  bool stopped_path = false;
 };
 
-/// A traced path. Built by trace(); immutable afterwards and safe to query
-/// from several threads at once (every member is const and uses no shared
-/// scratch space). K below is the number of knots, p the number of
-/// predictors. Queries on an empty (default-constructed) path throw
-/// invalid_query.
+/// A coefficient with its predictor's name and index (Path::named_coefficients()).
+template <class Scalar>
+struct NamedCoefficient {
+  std::string name;     ///< the predictor's name (TraceOptions::predictor_names or default_predictor_name())
+  Index predictor = 0;  ///< its 0-based index in the user's design
+  Scalar value{0};      ///< beta_j on the original scale
+};
+
+/// Predictions at one penalty (Path::predict()): the fitted values with the
+/// flags of the Solution they come from.
+template <class Scalar>
+struct Prediction {
+  Vector<Scalar> values;     ///< intercept + x_i^T beta, one per new row
+  Scalar penalty{0};         ///< lambda answered (the last knot's when beyond_path)
+  bool beyond_path = false;  ///< as Solution::beyond_path
+  bool stopped_path = false; ///< as Solution::stopped_path
+};
+
+/// Answers at m points at once (Path::solutions_at()): column i belongs to
+/// the i-th point asked for.
+template <class Scalar>
+struct SolutionBlock {
+  std::vector<Scalar> penalties;  ///< lambda answered per point (the last knot's when beyond)
+  Matrix<Scalar> coefficients;    ///< p x m, original scale
+  Vector<Scalar> intercepts;      ///< m
+  std::vector<bool> beyond_path;  ///< per point, as Solution::beyond_path
+  bool stopped_path = false;      ///< as Solution::stopped_path
+};
+
+/// Predictions at m penalties at once (Path::predict_many()).
+template <class Scalar>
+struct PredictionBlock {
+  Matrix<Scalar> values;          ///< rows x m: column i at the i-th penalty
+  std::vector<Scalar> penalties;  ///< lambda answered per column
+  std::vector<bool> beyond_path;  ///< per column, as Solution::beyond_path
+  bool stopped_path = false;      ///< as Solution::stopped_path
+};
+
+/// A traced path. Built by trace() or PathSolver; immutable afterwards and
+/// safe to query from several threads at once (every member is const and
+/// uses no shared scratch space). K below is the number of knots, p the
+/// number of predictors. Queries on an empty (default-constructed) path
+/// throw invalid_query.
 template <class Scalar>
 class Path {
  public:
@@ -67,6 +121,7 @@ class Path {
       const Index j = prep_.columns[k];
       l1_weight_(j) = Scalar(prep_.penalty_factors[k]) * prep_.scales(j);
     }
+    index_budgets();
   }
 
   /// The rows of the knot table, penalties non-increasing.
@@ -77,8 +132,8 @@ class Path {
   StopReason stop_reason() const noexcept { return reason_; }
   /// True when the path stopped before penalty 0.
   bool stopped_early() const noexcept { return reason_ != StopReason::completed; }
-  /// Number of predictors given.
-  Index predictors() const noexcept { return prep_.predictors; }
+  /// Number of predictors given (p), traced or excluded.
+  Index predictor_count() const noexcept { return prep_.predictors; }
   /// What the preparation did (means, scales, excluded predictors, ...).
   const Preparation<Scalar>& preparation() const noexcept { return prep_; }
   /// The options the path was traced with.
@@ -87,6 +142,46 @@ class Path {
   const std::vector<HeldOut<Scalar>>& held_out() const noexcept { return held_out_; }
   /// Predictors excluded before the trace (constant, all-zero, infinite factor).
   const std::vector<ExcludedPredictor>& excluded() const noexcept { return prep_.excluded; }
+
+  /// Name of predictor j (0-based): TraceOptions::predictor_names[j], or
+  /// default_predictor_name(j) when none were given. Throws invalid_query
+  /// for j outside [0, p).
+  std::string predictor_name(Index j) const {
+    if (j < 0 || j >= prep_.predictors)
+      throw invalid_query("predictor " + std::to_string(j) + " asked of a path with " +
+                          std::to_string(prep_.predictors) + " predictors");
+    const auto u = static_cast<std::size_t>(j);
+    return options_.predictor_names.empty() ? default_predictor_name(u) : options_.predictor_names[u];
+  }
+  /// Index of the predictor named `name`. O(p). Throws invalid_query when
+  /// no predictor has that name.
+  Index predictor_index(std::string_view name) const {
+    for (Index j = 0; j < prep_.predictors; ++j)
+      if (predictor_name(j) == name) return j;
+    throw invalid_query("the path has no predictor named \"" + std::string(name) + "\"");
+  }
+  /// The nonzero coefficients of a solution of this path with their names,
+  /// ascending index. O(p).
+  std::vector<NamedCoefficient<Scalar>> named_coefficients(const Solution<Scalar>& s) const {
+    require_width(s.coefficients.size());
+    std::vector<NamedCoefficient<Scalar>> out;
+    for (Index j = 0; j < s.coefficients.size(); ++j)
+      if (s.coefficients(j) != Scalar(0)) out.push_back({predictor_name(j), j, s.coefficients(j)});
+    return out;
+  }
+  /// The coefficient of the predictor named `name` in a solution of this
+  /// path. Throws invalid_query for an unknown name.
+  Scalar coefficient(const Solution<Scalar>& s, std::string_view name) const {
+    require_width(s.coefficients.size());
+    return s.coefficients(predictor_index(name));
+  }
+
+  /// The size-free penalty mu of a penalty lambda of this path's data:
+  /// lambda / penalty_scale (scaling.hpp, the one home of the convention).
+  Scalar mu_of(const Scalar& lambda) const { return lambda / penalty_scale(prep_); }
+  /// The penalty lambda of a size-free mu: mu * penalty_scale (scaling.hpp).
+  Scalar lambda_of(const Scalar& mu) const { return mu * penalty_scale(prep_); }
+
   /// Step of the first knot at which the active set saturated: as many
   /// active predictors as usable rows (rows of positive weight, minus one
   /// with an intercept), the largest rank the centred design can have. From
@@ -97,7 +192,7 @@ class Path {
   std::optional<Index> saturation_step() const {
     const Index rank_bound = prep_.used_observations - (prep_.intercept ? 1 : 0);
     for (const auto& k : knots_)
-      if (rank_bound > 0 && k.active >= rank_bound) return k.step;
+      if (rank_bound > 0 && k.active_count >= rank_bound) return k.step;
     return std::nullopt;
   }
 
@@ -123,11 +218,15 @@ class Path {
     return worst;
   }
 
-  /// The enter and leave rows, in path order: the audit log.
-  std::vector<Knot<Scalar>> events() const {
-    std::vector<Knot<Scalar>> out;
-    for (const auto& k : knots_)
-      if (k.event == EventKind::enter || k.event == EventKind::leave) out.push_back(k);
+  /// The audit log: the enter and leave rows, in path order, without their
+  /// coefficient vectors (Event::knot points at the full row). O(K).
+  std::vector<Event<Scalar>> events() const {
+    std::vector<Event<Scalar>> out;
+    for (std::size_t i = 0; i < knots_.size(); ++i) {
+      const Knot<Scalar>& k = knots_[i];
+      if (k.event == EventKind::enter || k.event == EventKind::leave)
+        out.push_back({i, k.step, k.penalty, k.event, k.predictor, k.sign, k.correlation, k.active_count});
+    }
     return out;
   }
 
@@ -156,61 +255,50 @@ class Path {
     return interpolate(upper, lower, t, lambda);
   }
 
-  /// Exact solution whose penalized L1 norm equals `budget` (the constrained
-  /// view: least RSS subject to sum_j f_j s_j |beta_j| <= budget). Walks the
-  /// path from lambda_max downward and returns the first point where the L1
-  /// norm reaches the budget; along the lasso path the norm is
-  /// non-decreasing, so this is the unique solution of the constrained
-  /// problem. A budget the path never reaches gives the last knot with
-  /// beyond_path set. O(K p). Throws invalid_query for a negative budget.
+  /// at_penalty() at the size-free penalty mu (lambda_of(mu)). Throws
+  /// invalid_query for a negative or NaN mu.
+  Solution<Scalar> at_mu(const Scalar& mu) const {
+    if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
+    return at_penalty(lambda_of(mu));
+  }
+
+  /// Exact solution whose penalized L1 norm (sum_j f_j s_j |beta_j|, see
+  /// Knot::penalized_l1) equals `budget`: the constrained view, least RSS
+  /// subject to that norm <= budget. It is the first point, from lambda_max
+  /// downward, where the norm reaches the budget (along the lasso path the
+  /// norm is non-decreasing, so this is the unique solution of the
+  /// constrained problem; least angle paths may cross zero inside a segment,
+  /// and the crossings are taken into account). A budget the path never
+  /// reaches gives the last knot with beyond_path set. O(log K + p log p): a
+  /// search over the largest norm reached up to each knot (indexed when the
+  /// path is built) finds the segment. Throws invalid_query for a negative
+  /// or NaN budget.
   Solution<Scalar> at_budget(const Scalar& budget) const {
     if (!(budget >= Scalar(0))) throw invalid_query("the L1 budget must be >= 0");
     require_knots();
-    if (knots_.front().l1_norm >= budget) return solution_of(0);
-    Vector<Scalar> a = dense_coefficients(0), b;
-    for (std::size_t k = 1; k < knots_.size(); ++k) {
-      b = dense_coefficients(k);
-      if (knots_[k].penalty == knots_[k - 1].penalty) {
-        a.swap(b);
-        continue;
-      }
-      // Breakpoints in (0, 1) where a coefficient crosses zero (least angle
-      // paths can cross inside a segment); the norm is linear between them.
-      std::vector<Scalar> ts{Scalar(0), Scalar(1)};
-      for (Index j = 0; j < a.size(); ++j)
-        if ((a(j) < Scalar(0) && b(j) > Scalar(0)) || (a(j) > Scalar(0) && b(j) < Scalar(0)))
-          ts.push_back(Scalar(a(j) / (a(j) - b(j))));
-      std::sort(ts.begin(), ts.end());
-      Scalar prev_norm = weighted_l1(a);
-      for (std::size_t i = 1; i < ts.size(); ++i) {
-        Vector<Scalar> at_t = a + ts[i] * (b - a);
-        Scalar norm = weighted_l1(at_t);
-        if (norm >= budget) {
-          // Linear in t on [ts[i-1], ts[i]].
-          Scalar t = ts[i - 1];
-          if (norm != prev_norm) t += (ts[i] - ts[i - 1]) * (budget - prev_norm) / (norm - prev_norm);
-          const Scalar lambda =
-              knots_[k - 1].penalty - t * (knots_[k - 1].penalty - knots_[k].penalty);
-          return interpolate(k - 1, k, t, lambda);
-        }
-        prev_norm = norm;
-      }
-      a.swap(b);
+    if (knots_.front().penalized_l1 >= budget) return solution_of(0);
+    // reach_[k]: the largest norm on the path up to knot k (segments of
+    // equal penalties contribute nothing); non-decreasing in k.
+    auto it = std::partition_point(reach_.begin() + 1, reach_.end(), [&](const Scalar& r) { return r < budget; });
+    if (it != reach_.end()) {
+      const auto k = static_cast<std::size_t>(it - reach_.begin());
+      if (auto s = budget_in_segment(k, budget)) return *s;
     }
     Solution<Scalar> s = solution_of(knots_.size() - 1);
     s.beyond_path = true;
     return s;
   }
 
-  /// Solution at a fraction f in [0, 1] of the last knot's L1 norm
-  /// (f = 0: the start; f = 1: the end of the path). O(K p). Throws
-  /// invalid_query for f outside [0, 1] (or NaN).
+  /// Solution at a fraction f in [0, 1] of the last knot's penalized L1 norm
+  /// (f = 0: the start; f = 1: the last knot, which is penalty 0 unless the
+  /// path stopped early: Solution::stopped_path says so). O(log K + p log p).
+  /// Throws invalid_query for f outside [0, 1] (or NaN).
   Solution<Scalar> at_fraction(double fraction) const {
     if (!(fraction >= 0.0 && fraction <= 1.0))
       throw invalid_query("the fraction must lie in [0, 1]");
     require_knots();
     if (fraction == 1.0) return solution_of(knots_.size() - 1);
-    return at_budget(Scalar(fraction) * knots_.back().l1_norm);
+    return at_budget(Scalar(fraction) * knots_.back().penalized_l1);
   }
 
   /// Predictors with a nonzero coefficient at penalty lambda (ascending user
@@ -223,16 +311,47 @@ class Path {
     return out;
   }
 
+  /// Solutions at many penalties (lambda) as one p x m matrix, in the order
+  /// given. O(m (log K + p)). Throws invalid_query as at_penalty().
+  SolutionBlock<Scalar> solutions_at(const std::vector<Scalar>& lambdas) const {
+    SolutionBlock<Scalar> block;
+    block.coefficients.resize(prep_.predictors, static_cast<Index>(lambdas.size()));
+    block.intercepts.resize(static_cast<Index>(lambdas.size()));
+    block.stopped_path = stopped_early();
+    for (std::size_t i = 0; i < lambdas.size(); ++i) {
+      const Solution<Scalar> s = at_penalty(lambdas[i]);
+      block.coefficients.col(static_cast<Index>(i)) = s.coefficients;
+      block.intercepts(static_cast<Index>(i)) = s.intercept;
+      block.penalties.push_back(s.penalty);
+      block.beyond_path.push_back(s.beyond_path);
+    }
+    return block;
+  }
+
   /// Predictions intercept + X_new beta(lambda) for new rows (original
-  /// scale, one row per observation, p columns). O(log K + m p) for m rows.
-  /// Throws invalid_query when the width is not p or lambda is negative/NaN.
-  Vector<Scalar> predict(const Matrix<Scalar>& new_rows, const Scalar& lambda) const {
-    if (new_rows.cols() != prep_.predictors)
-      throw invalid_query("new rows have " + std::to_string(new_rows.cols()) +
-                          " columns, the path has " + std::to_string(prep_.predictors));
-    Solution<Scalar> s = at_penalty(lambda);
-    Vector<Scalar> out = new_rows * s.coefficients;
-    out.array() += s.intercept;
+  /// scale, one row per observation, p columns), with the flags of the
+  /// solution used. O(log K + m p) for m rows. Throws invalid_query when the
+  /// width is not p or lambda is negative/NaN.
+  Prediction<Scalar> predict(const Matrix<Scalar>& new_rows, const Scalar& lambda) const {
+    require_width(new_rows.cols());
+    const Solution<Scalar> s = at_penalty(lambda);
+    Prediction<Scalar> out{new_rows * s.coefficients, s.penalty, s.beyond_path, s.stopped_path};
+    out.values.array() += s.intercept;
+    return out;
+  }
+
+  /// Predictions at many penalties at once: column i of the result holds
+  /// the predictions at lambdas[i]. One product X_new B for the p x m block
+  /// of coefficients. Throws invalid_query as predict().
+  PredictionBlock<Scalar> predict_many(const Matrix<Scalar>& new_rows, const std::vector<Scalar>& lambdas) const {
+    require_width(new_rows.cols());
+    SolutionBlock<Scalar> block = solutions_at(lambdas);
+    PredictionBlock<Scalar> out;
+    out.values = new_rows * block.coefficients;
+    for (Index i = 0; i < out.values.cols(); ++i) out.values.col(i).array() += block.intercepts(i);
+    out.penalties = std::move(block.penalties);
+    out.beyond_path = std::move(block.beyond_path);
+    out.stopped_path = block.stopped_path;
     return out;
   }
 
@@ -249,7 +368,7 @@ class Path {
 
   /// The penalized L1 norm sum_j f_j s_j |beta_j| of an original-scale vector
   /// of length p (excluded predictors weigh 0). O(p).
-  Scalar weighted_l1(const Vector<Scalar>& beta) const {
+  Scalar penalized_l1(const Vector<Scalar>& beta) const {
     Scalar sum(0);
     for (Index j = 0; j < beta.size(); ++j) sum += l1_weight_(j) * detail::abs_value<Scalar>(beta(j));
     return sum;
@@ -262,13 +381,20 @@ class Path {
   void require_knots() const {
     if (knots_.empty()) throw invalid_query("the path is empty");
   }
+  void require_width(Index columns) const {
+    if (columns != prep_.predictors)
+      throw invalid_query("new rows have " + std::to_string(columns) + " columns, the path has " +
+                          std::to_string(prep_.predictors));
+  }
 
   Solution<Scalar> solution_of(std::size_t k) const {
     Solution<Scalar> s;
     s.penalty = knots_[k].penalty;
-    s.l1_norm = knots_[k].l1_norm;
+    s.penalized_l1 = knots_[k].penalized_l1;
+    s.plain_l1 = knots_[k].plain_l1;
     s.intercept = knots_[k].intercept;
     s.coefficients = dense_coefficients(k);
+    s.stopped_path = stopped_early();
     return s;
   }
 
@@ -281,8 +407,103 @@ class Path {
     Vector<Scalar> b = dense_coefficients(lower);
     s.coefficients = a + t * (b - a);
     s.intercept = knots_[upper].intercept + t * (knots_[lower].intercept - knots_[upper].intercept);
-    s.l1_norm = weighted_l1(s.coefficients);
+    s.penalized_l1 = penalized_l1(s.coefficients);
+    s.plain_l1 = Scalar(0);
+    for (Index j = 0; j < s.coefficients.size(); ++j) s.plain_l1 += detail::abs_value<Scalar>(s.coefficients(j));
+    s.stopped_path = stopped_early();
     return s;
+  }
+
+  // The points of segment (k-1, k) where the penalized norm may bend: its
+  // ends (t = 0, 1) and the zero crossings of coefficients inside it, as
+  // fractions t of the way from knot k-1, ascending.
+  template <class AtUpper, class AtLower>
+  std::vector<Scalar> bends(const AtUpper& a_of, const AtLower& b_of, const std::vector<Index>& support) const {
+    std::vector<Scalar> ts{Scalar(0), Scalar(1)};
+    for (Index j : support) {
+      const Scalar a = a_of(j), b = b_of(j);
+      if ((a < Scalar(0) && b > Scalar(0)) || (a > Scalar(0) && b < Scalar(0))) ts.push_back(Scalar(a / (a - b)));
+    }
+    std::sort(ts.begin(), ts.end());
+    return ts;
+  }
+
+  // Predictors nonzero at knot k-1 or k, ascending: the only terms of the
+  // norm on segment (k-1, k) (every other term is an exact 0).
+  std::vector<Index> segment_support(std::size_t k) const {
+    std::vector<Index> support;
+    const auto& upper = knots_[k - 1].coefficients;
+    const auto& lower = knots_[k].coefficients;
+    support.reserve(upper.size() + lower.size());
+    std::size_t a = 0, b = 0;  // both lists ascend: merge them
+    while (a < upper.size() || b < lower.size()) {
+      Index next;
+      if (b == lower.size() || (a < upper.size() && upper[a].first < lower[b].first))
+        next = upper[a++].first;
+      else if (a == upper.size() || lower[b].first < upper[a].first)
+        next = lower[b++].first;
+      else {
+        next = upper[a++].first;
+        ++b;
+      }
+      support.push_back(next);
+    }
+    return support;
+  }
+
+  // reach_[k] = the largest penalized norm at the bends of segments 1..k,
+  // computed term by term over the segment's support in ascending order, the
+  // same operations budget_in_segment() performs on dense vectors (the
+  // terms outside the support are exact zeros), so the segment the search
+  // picks is the one a walk from the start would stop in. O(total nonzeros).
+  void index_budgets() {
+    reach_.assign(knots_.size(), Scalar(0));
+    if (knots_.empty()) return;
+    reach_[0] = knots_.front().penalized_l1;
+    std::vector<Scalar> a_values(static_cast<std::size_t>(prep_.predictors)), b_values(a_values.size());
+    for (std::size_t k = 1; k < knots_.size(); ++k) {
+      reach_[k] = reach_[k - 1];
+      if (knots_[k].penalty == knots_[k - 1].penalty) continue;
+      const std::vector<Index> support = segment_support(k);
+      for (Index j : support) a_values[static_cast<std::size_t>(j)] = b_values[static_cast<std::size_t>(j)] = Scalar(0);
+      for (const auto& [j, v] : knots_[k - 1].coefficients) a_values[static_cast<std::size_t>(j)] = v;
+      for (const auto& [j, v] : knots_[k].coefficients) b_values[static_cast<std::size_t>(j)] = v;
+      auto a_of = [&](Index j) { return a_values[static_cast<std::size_t>(j)]; };
+      auto b_of = [&](Index j) { return b_values[static_cast<std::size_t>(j)]; };
+      const std::vector<Scalar> ts = bends(a_of, b_of, support);
+      for (std::size_t i = 1; i < ts.size(); ++i) {
+        Scalar norm(0);
+        for (Index j : support) {
+          const Scalar value = a_of(j) + ts[i] * (b_of(j) - a_of(j));
+          norm += l1_weight_(j) * detail::abs_value<Scalar>(value);
+        }
+        if (norm > reach_[k]) reach_[k] = norm;
+      }
+    }
+  }
+
+  // The first point of segment (k-1, k) whose penalized norm reaches
+  // `budget` (the norm is linear in t between bends), or nothing.
+  std::optional<Solution<Scalar>> budget_in_segment(std::size_t k, const Scalar& budget) const {
+    const Vector<Scalar> a = dense_coefficients(k - 1), b = dense_coefficients(k);
+    std::vector<Index> all(static_cast<std::size_t>(a.size()));
+    for (Index j = 0; j < a.size(); ++j) all[static_cast<std::size_t>(j)] = j;
+    auto a_of = [&](Index j) { return a(j); };
+    auto b_of = [&](Index j) { return b(j); };
+    const std::vector<Scalar> ts = bends(a_of, b_of, all);
+    Scalar prev_norm = penalized_l1(a);
+    for (std::size_t i = 1; i < ts.size(); ++i) {
+      const Vector<Scalar> at_t = a + ts[i] * (b - a);
+      const Scalar norm = penalized_l1(at_t);
+      if (norm >= budget) {
+        Scalar t = ts[i - 1];
+        if (norm != prev_norm) t += (ts[i] - ts[i - 1]) * (budget - prev_norm) / (norm - prev_norm);
+        const Scalar lambda = knots_[k - 1].penalty - t * (knots_[k - 1].penalty - knots_[k].penalty);
+        return interpolate(k - 1, k, t, lambda);
+      }
+      prev_norm = norm;
+    }
+    return std::nullopt;
   }
 
   Preparation<Scalar> prep_;
@@ -292,18 +513,7 @@ class Path {
   StopReason reason_ = StopReason::completed;
   Scalar ridge_{0};
   Vector<Scalar> l1_weight_;  // f_j s_j per predictor (0 when excluded or unpenalized)
+  std::vector<Scalar> reach_;  // largest penalized norm up to each knot (index_budgets())
 };
-
-/// mu = lambda / penalty_scale of the path's data (scaling.hpp).
-template <class Scalar>
-Scalar size_free_penalty(const Path<Scalar>& path, const Scalar& lambda) {
-  return lambda / penalty_scale(path.preparation());
-}
-
-/// lambda = mu * penalty_scale of the path's data (scaling.hpp).
-template <class Scalar>
-Scalar penalty_from_size_free(const Path<Scalar>& path, const Scalar& mu) {
-  return mu * penalty_scale(path.preparation());
-}
 
 }  // namespace knotpath

@@ -23,6 +23,8 @@
 /// independent of n.
 
 #include <algorithm>
+#include <cmath>
+#include <type_traits>
 #include <string>
 #include <utility>
 #include <vector>
@@ -66,22 +68,43 @@ struct SufficientStatistics {
                                         const Vector<Scalar>& weights = Vector<Scalar>(),
                                         Index block_rows = 0) {
     if (y.size() != x.rows()) throw invalid_data("response length differs from the design's rows");
+    SufficientStatistics s = empty(x.cols());
+    Vector<Scalar> sum_x;
+    ResponsePass response;
+    Vector<Scalar> yb;
+    design_pass(x, weights, block_rows, s, sum_x, [&](const auto& xm, const std::vector<Index>& used, const auto& wm) {
+      yb.resize(xm.rows());
+      for (Index r = 0; r < xm.rows(); ++r) yb(r) = y(used[static_cast<std::size_t>(r)]);
+      response.add(xm, yb, wm, weights.size() != 0, s.cross);
+    });
+    if (s.rows != 0) response.finish(s, sum_x);
+    return s;
+  }
+
+  /// The design side of from_rows(): checks the weights, then reads x in
+  /// blocks of rows of positive weight, shifts them by the weighted means of
+  /// the first block, and accumulates rows, weight_sum, minimum, maximum,
+  /// the comoments (shift removed) and the means into `s` (empty(p) on
+  /// entry); `sum_x` receives sum w (x - shift). After each block,
+  /// `block(xm, used, wm)` sees the block's shifted rows (scaled by sqrt(w)
+  /// for floating types with weights), the user's indices of its rows and
+  /// their weights: what the response side (ResponsePass) needs. Throws
+  /// invalid_data for a weight that is negative or NaN and for a design
+  /// value that is not finite (naming its row and column).
+  template <class Derived, class Block>
+  static void design_pass(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& weights, Index block_rows,
+                          SufficientStatistics& s, Vector<Scalar>& sum_x, Block&& block) {
     if (weights.size() != 0 && weights.size() != x.rows())
       throw invalid_data("weights length differs from the design's rows");
     const Index n = x.rows(), p = x.cols();
     const bool weighted = weights.size() != 0;
     for (Index i = 0; weighted && i < n; ++i)
       if (!(weights(i) >= Scalar(0))) throw invalid_data("a weight is negative or not a number");
-    SufficientStatistics s = empty(p);
-    if (block_rows <= 0) block_rows = std::max<Index>(1024, (Index(1) << 20) / std::max<Index>(p, 1));
-    block_rows = std::max<Index>(1, std::min(block_rows, n));
-    Matrix<Scalar> xb(block_rows, p);              // shifted (and sqrt(w)-scaled) rows of a block
-    Vector<Scalar> yb(block_rows), wb(block_rows);
+    block_rows = block_height(n, p, block_rows);
+    Matrix<Scalar> xb(block_rows, p);  // shifted (and sqrt(w)-scaled) rows of a block
+    Vector<Scalar> wb(block_rows);
     Vector<Scalar> shift = Vector<Scalar>::Zero(p);  // K: weighted means of the first used rows
-    Scalar shift_y(0);
-    Vector<Scalar> sum_x = Vector<Scalar>::Zero(p);  // sum w (x - K)
-    Scalar sum_y(0), sum_yy(0);
-    bool have_shift = false;
+    sum_x = Vector<Scalar>::Zero(p);                 // sum w (x - K)
     std::vector<Index> used;
     used.reserve(static_cast<std::size_t>(block_rows));
     for (Index start = 0; start < n; start += block_rows) {
@@ -91,63 +114,27 @@ struct SufficientStatistics {
         if (!weighted || weights(start + i) > Scalar(0)) used.push_back(start + i);
       const Index m = static_cast<Index>(used.size());
       if (m == 0) continue;
-      if (m == len) {
-        xb.topRows(m) = x.middleRows(start, m);
-        yb.head(m) = y.segment(start, m);
-        if (weighted) wb.head(m) = weights.segment(start, m); else wb.head(m).setOnes();
-      } else {
-        for (Index r = 0; r < m; ++r) {
-          const Index i = used[static_cast<std::size_t>(r)];
-          xb.row(r) = x.row(i);
-          yb(r) = y(i);
-          wb(r) = weights(i);
-        }
-      }
+      gather_block(x, weights, used, start, len, xb, wb);
       auto xm = xb.topRows(m);
-      auto ym = yb.head(m);
       auto wm = wb.head(m);
+      check_finite(xm, used);
       for (Index j = 0; j < p; ++j) {
         const Scalar lo = xm.col(j).minCoeff(), hi = xm.col(j).maxCoeff();
         s.minimum(j) = s.rows == 0 ? lo : std::min<Scalar>(s.minimum(j), lo);
         s.maximum(j) = s.rows == 0 ? hi : std::max<Scalar>(s.maximum(j), hi);
       }
-      if (!have_shift) {
+      if (s.rows == 0) {
         const Scalar wsum = wm.sum();
         for (Index j = 0; j < p; ++j) shift(j) = xm.col(j).dot(wm) / wsum;
-        shift_y = ym.dot(wm) / wsum;
-        have_shift = true;
       }
       for (Index j = 0; j < p; ++j) xm.col(j).array() -= shift(j);
-      ym.array() -= shift_y;
       s.rows += m;
       s.weight_sum += wm.sum();
       for (Index j = 0; j < p; ++j) sum_x(j) += xm.col(j).dot(wm);
-      sum_y += ym.dot(wm);
-      for (Index r = 0; r < m; ++r) sum_yy += wm(r) * ym(r) * ym(r);
-      if constexpr (std::is_floating_point_v<Scalar>) {
-        if (weighted) {
-          for (Index r = 0; r < m; ++r) {
-            const Scalar root = std::sqrt(wm(r));
-            xm.row(r) *= root;
-            ym(r) *= root;
-          }
-        }
-        s.comoments.template selfadjointView<Eigen::Lower>().rankUpdate(xm.transpose());
-        s.cross.noalias() += xm.transpose() * ym;
-      } else {
-        for (Index j = 0; j < p; ++j) {
-          for (Index i = j; i < p; ++i) {
-            Scalar acc(0);
-            for (Index r = 0; r < m; ++r) acc += wm(r) * xm(r, i) * xm(r, j);
-            s.comoments(i, j) += acc;
-          }
-          Scalar acc(0);
-          for (Index r = 0; r < m; ++r) acc += wm(r) * xm(r, j) * ym(r);
-          s.cross(j) += acc;
-        }
-      }
+      accumulate_comoments(s, xm, wm, weighted);
+      block(xm, used, wm);
     }
-    if (s.rows == 0) return s;
+    if (s.rows == 0) return;
     // Remove the shift: C = S - sum_x sum_x^T / W, mean = K + sum_x / W.
     const Scalar wsum = s.weight_sum;
     for (Index j = 0; j < p; ++j)
@@ -155,13 +142,66 @@ struct SufficientStatistics {
         s.comoments(i, j) -= sum_x(i) * sum_x(j) / wsum;
         s.comoments(j, i) = s.comoments(i, j);
       }
-    for (Index j = 0; j < p; ++j) {
-      s.cross(j) -= sum_x(j) * sum_y / wsum;
-      s.means(j) = shift(j) + sum_x(j) / wsum;
+    for (Index j = 0; j < p; ++j) s.means(j) = shift(j) + sum_x(j) / wsum;
+  }
+
+  /// The response side of from_rows(), block by block, in the order the
+  /// design pass hands the blocks over: the response is shifted by the
+  /// weighted mean of the first block, its sums and sum of squares are
+  /// accumulated, and the cross-products with the block's shifted rows are
+  /// added to `cross`. finish() removes the shift. Kept apart so that a
+  /// design summarized once (PathSolver) meets many responses with the very
+  /// operations from_rows() performs: the same statistics to the last bit.
+  struct ResponsePass {
+    Scalar shift{0};  ///< weighted mean of the first block's responses
+    Scalar sum{0};    ///< sum w (y - shift)
+    Scalar sum_of_squares{0};  ///< sum w (y - shift)^2
+    bool started = false;      ///< the shift is set
+
+    /// Adds one block: `xm` as design_pass() hands it, `ym` the block's
+    /// responses (overwritten), `wm` their weights. Throws invalid_data
+    /// for a response that is not finite.
+    template <class XBlock, class YBlock, class WBlock>
+    void add(const XBlock& xm, YBlock& ym, const WBlock& wm, bool weighted, Vector<Scalar>& cross) {
+      for (Index r = 0; r < ym.size(); ++r)
+        if (!is_finite(ym(r))) throw invalid_data("the response is not finite (NaN or infinite) in a block of rows");
+      if (!started) {
+        shift = ym.dot(wm) / wm.sum();
+        started = true;
+      }
+      ym.array() -= shift;
+      sum += ym.dot(wm);
+      for (Index r = 0; r < ym.size(); ++r) sum_of_squares += wm(r) * ym(r) * ym(r);
+      if constexpr (std::is_floating_point_v<Scalar>) {
+        if (weighted)
+          for (Index r = 0; r < ym.size(); ++r) ym(r) *= std::sqrt(wm(r));
+        cross.noalias() += xm.transpose() * ym;
+      } else {
+        for (Index j = 0; j < xm.cols(); ++j) {
+          Scalar acc(0);
+          for (Index r = 0; r < ym.size(); ++r) acc += wm(r) * xm(r, j) * ym(r);
+          cross(j) += acc;
+        }
+      }
     }
-    s.response_comoment = sum_yy - sum_y * sum_y / wsum;
-    s.response_mean = shift_y + sum_y / wsum;
-    return s;
+    /// Removes the shift from the cross-products and sets the response's
+    /// mean and comoment in `s` (whose design side is complete; `sum_x` as
+    /// design_pass() returned it).
+    void finish(SufficientStatistics& s, const Vector<Scalar>& sum_x) const {
+      const Scalar wsum = s.weight_sum;
+      for (Index j = 0; j < s.predictors(); ++j) s.cross(j) -= sum_x(j) * sum / wsum;
+      s.response_comoment = sum_of_squares - sum * sum / wsum;
+      s.response_mean = shift + sum / wsum;
+    }
+  };
+
+  /// Rows per block of from_rows() for `block_rows` asked (0: automatic,
+  /// about 2^20 entries per block and at least 1024 rows: 8 MB of doubles,
+  /// few enough blocks that the per-block cost of the product stays small;
+  /// measured in bench/README.md), at least 1 and at most n.
+  static Index block_height(Index n, Index p, Index block_rows) {
+    if (block_rows <= 0) block_rows = std::max<Index>(1024, (Index(1) << 20) / std::max<Index>(p, 1));
+    return std::max<Index>(1, std::min(block_rows, n));
   }
 
   /// Statistics with no rows yet.
@@ -202,6 +242,67 @@ struct SufficientStatistics {
     rows += other.rows;
   }
 
+
+ private:
+  static bool is_finite(const Scalar& v) {
+    if constexpr (std::is_floating_point_v<Scalar>) return std::isfinite(v);
+    else return true;
+  }
+
+  // Copies the used rows of block [start, start + len) of x (and their
+  // weights, 1 without weights) into the top rows of xb and wb.
+  template <class Derived>
+  static void gather_block(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& weights,
+                           const std::vector<Index>& used, Index start, Index len, Matrix<Scalar>& xb,
+                           Vector<Scalar>& wb) {
+    const Index m = static_cast<Index>(used.size());
+    if (m == len) {
+      xb.topRows(m) = x.middleRows(start, m);
+      if (weights.size() != 0) wb.head(m) = weights.segment(start, m); else wb.head(m).setOnes();
+      return;
+    }
+    for (Index r = 0; r < m; ++r) {
+      const Index i = used[static_cast<std::size_t>(r)];
+      xb.row(r) = x.row(i);
+      wb(r) = weights(i);
+    }
+  }
+
+  // A NaN or infinite design value is reported as such, with its place
+  // (the Gram preparation would otherwise see only non-finite sums).
+  template <class XBlock>
+  static void check_finite(const XBlock& xm, const std::vector<Index>& used) {
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      if (xm.allFinite()) return;
+      for (Index j = 0; j < xm.cols(); ++j)
+        for (Index r = 0; r < xm.rows(); ++r)
+          if (!std::isfinite(xm(r, j))) {
+            const auto row = static_cast<std::size_t>(used[static_cast<std::size_t>(r)]);
+            throw invalid_data("the design is not finite at row " + std::to_string(row) + ", column " +
+                                   std::to_string(j),
+                               row, static_cast<std::size_t>(j));
+          }
+    }
+  }
+
+  // S += sum_r w_r x_r x_r^T over the block's shifted rows (lower triangle
+  // for floating types, by a symmetric rank update of the sqrt(w)-scaled rows).
+  template <class XBlock, class WBlock>
+  static void accumulate_comoments(SufficientStatistics& s, XBlock& xm, const WBlock& wm, bool weighted) {
+    const Index p = xm.cols();
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      if (weighted)
+        for (Index r = 0; r < xm.rows(); ++r) xm.row(r) *= std::sqrt(wm(r));
+      s.comoments.template selfadjointView<Eigen::Lower>().rankUpdate(xm.transpose());
+    } else {
+      for (Index j = 0; j < p; ++j)
+        for (Index i = j; i < p; ++i) {
+          Scalar acc(0);
+          for (Index r = 0; r < xm.rows(); ++r) acc += wm(r) * xm(r, i) * xm(r, j);
+          s.comoments(i, j) += acc;
+        }
+    }
+  }
 };
 
 }  // namespace knotpath

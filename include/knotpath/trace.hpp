@@ -5,6 +5,8 @@
 /// columns (design/), and runs the homotopy (homotopy.hpp, which holds the
 /// algorithm and its references) over that design operator.
 
+#include <algorithm>
+#include <cstddef>
 #include <utility>
 
 #include "design/concept.hpp"
@@ -17,6 +19,47 @@
 #include "statistics.hpp"
 
 namespace knotpath {
+
+/// Knots a trace of an n x p design is expected to make under the stopping
+/// rules: about one per predictor that can enter (min(n, p)), capped by
+/// TraceOptions::max_active and max_knots. An estimate for choosing the
+/// storage, not a bound (leave events add knots).
+inline double expected_knots(Index n, Index p, const TraceOptions& options) {
+  double knots = static_cast<double>(std::min(n, p));
+  if (options.max_active > 0) knots = std::min(knots, static_cast<double>(options.max_active));
+  if (options.max_knots > 0) knots = std::min(knots, static_cast<double>(options.max_knots));
+  return std::max(knots, 1.0);
+}
+
+/// The one home of the automatic storage choice (TraceOptions::storage),
+/// for trace() and PathSolver; an explicit choice is returned unchanged.
+/// Work in multiply-adds: the Gram route pays n p^2 / 2 once for the
+/// statistics and then O(p) per knot; the dense copy pays about 2 n p per
+/// knot and response. Automatic picks:
+///  - Gram when n >= 2 p, p <= 5000 (the p x p matrix then costs at most
+///    200 MB) and either it is the cheaper route for `responses` traces of
+///    expected_knots() knots each (n p^2 / 2 <= responses * 2 n p K, i.e.
+///    p <= 4 responses K), or the design is small (n p^2 < 2^26, about a
+///    tenth of a second of work either way), where it is kept for every
+///    stopping rule so that small problems do not change route with them;
+///  - else, for wide designs (p > n) with more than 4e6 entries, the view
+///    of the user's matrix (no copy; floating types only);
+///  - else the dense operator on a centred, scaled copy.
+/// A full path has K about min(n, p) = p when n >= 2 p, so it always takes
+/// the Gram route; a short one (max_active = 40 on 20000 x 2000) the dense one.
+template <class Scalar>
+Storage choose_storage(Index n, Index p, const TraceOptions& options, std::size_t responses = 1) {
+  if (options.storage != Storage::automatic) return options.storage;
+  const double rows = static_cast<double>(n), cols = static_cast<double>(p);
+  if (n >= 2 * p && p <= 5000) {
+    const double gram_work = rows * cols * cols / 2;
+    const double dense_work = static_cast<double>(std::max<std::size_t>(responses, 1)) * 2 * rows * cols *
+                              expected_knots(n, p, options);
+    if (gram_work <= dense_work || rows * cols * cols < 67108864.0) return Storage::gram;
+  }
+  if (!detail::is_exact_v<Scalar> && p > n && rows * cols > 4e6) return Storage::view;
+  return Storage::dense;
+}
 
 /// Traces the path of a prepared problem: `design` is any DesignOperator
 /// over the prepared columns described by `prep` (prep.columns[k] is the
@@ -50,12 +93,13 @@ Path<typename Design::Scalar> trace_design(const Design& design, const Preparati
 /// Threads: TraceOptions::threads spreads the one product per knot of the
 /// dense copy, the view and the sparse design over column blocks of fixed
 /// width; the path is bitwise the same for every thread count.
-/// Storage: TraceOptions::storage; automatic picks Gram mode (sufficient
-/// statistics, O(n p^2) once then O(p k) per knot) when n >= 2 p and
-/// p <= 5000 (the p x p Gram matrix then costs at most 200 MB and is cheaper
-/// than one X^T v per knot over a full path); for wide designs (p > n) with
-/// more than 4e6 entries the view of the user's matrix (no copy); else the
-/// dense operator on a centred, scaled copy. Exact types never use the view.
+/// Storage: TraceOptions::storage; automatic follows choose_storage():
+/// Gram mode (sufficient statistics, O(n p^2) once then O(p k) per knot) for
+/// tall designs when the stopping rules let the path run long enough to pay
+/// for it, the view of the user's matrix (no copy) for large wide designs,
+/// else the dense operator on a centred, scaled copy. Exact types never use
+/// the view. To trace many responses against one design, PathSolver
+/// (solver.hpp) prepares the design once.
 ///
 /// `x` may be any Eigen dense object of the scalar type: a Matrix, an
 /// Eigen::Map over the caller's memory or a block is read in place, never
@@ -67,11 +111,8 @@ template <class Scalar, class Derived>
 Path<Scalar> trace(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const TraceOptions& options = {},
                    const Vector<Scalar>& weights = Vector<Scalar>()) {
   options.validate(static_cast<std::size_t>(x.cols()));
-  const bool gram = options.storage == Storage::gram ||
-                    (options.storage == Storage::automatic && x.rows() >= 2 * x.cols() && x.cols() <= 5000);
-  const bool view = options.storage == Storage::view ||
-                    (options.storage == Storage::automatic && !gram && x.cols() > x.rows() &&
-                     static_cast<double>(x.rows()) * static_cast<double>(x.cols()) > 4e6);
+  const Storage storage = choose_storage<Scalar>(x.rows(), x.cols(), options);
+  const bool gram = storage == Storage::gram, view = storage == Storage::view;
   if constexpr (detail::is_exact_v<Scalar>) {
     if (options.storage == Storage::view)
       throw invalid_option("storage", "the view of the user's matrix needs a floating scalar type "

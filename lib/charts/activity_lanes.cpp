@@ -157,7 +157,7 @@ std::string first_entry(const ChartPath& p, Index j, const ChartOptions& o,
                         const EntryOrder& entries) {
   const auto first = entries.first_knot.at(j);
   return o.axis == HorizontalAxis::l1_budget
-             ? "L1 " + format_value(p.knots[first].l1_norm)
+             ? "L1 " + format_value(p.knots[first].penalized_l1)
              : penalty_symbol(o.penalty_unit) + " " +
                    format_value(p.knots[first].penalty * unit_factor(p, o));
 }

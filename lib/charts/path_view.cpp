@@ -42,9 +42,9 @@ namespace {
 
 void budget_axis(PathAxis& a, const ChartPath& p, double left, double right) {
   double top = 0;
-  for (const auto& k : p.knots) top = std::max(top, k.l1_norm);
+  for (const auto& k : p.knots) top = std::max(top, k.penalized_l1);
   a.scale = budget_scale(top, left, right);
-  for (const auto& k : p.knots) a.knot_x.push_back(a.scale(k.l1_norm));
+  for (const auto& k : p.knots) a.knot_x.push_back(a.scale(k.penalized_l1));
   // sum_j f_j s_j |b_j|; with standardized columns s_j b_j is in response units times sqrt(n).
   a.text.title = "L1 budget \xCE\xA3 f\xE2\xB1\xBC s\xE2\xB1\xBC |b\xE2\xB1\xBC| of the solution" +
                  (p.predictor_sd.empty() ? std::string(" (penalized L1 norm)")

@@ -140,7 +140,7 @@ void write_audit_row(std::ostringstream& out, const ChartPath& path, std::size_t
       << (k.sign > 0   ? "+"
           : k.sign < 0 ? "\xE2\x88\x92"
                        : "")
-      << "</td><td>" << k.active << "</td><td>" << number(k.l1_norm) << "</td><td>"
+      << "</td><td>" << k.active << "</td><td>" << number(k.penalized_l1) << "</td><td>"
       << number(k.r_squared, 4) << "</td></tr>\n";
 }
 

@@ -52,7 +52,7 @@ Point point_of(const Path<double>& path, const AtArgs& args) {
       p.asked = fmt::format("penalty {:.17g}", *args.penalty);
     } else if (args.mu) {
       if (!(*args.mu >= 0)) throw invalid_query("mu must be >= 0");
-      p.solution = path.at_penalty(penalty_from_size_free(path, *args.mu));
+      p.solution = path.at_mu(*args.mu);
       p.asked = fmt::format("mu {:.17g}", *args.mu);
     } else if (args.budget) {
       p.solution = path.at_budget(*args.budget);
@@ -184,7 +184,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     if (!args->csv)
       std::cout << fmt::format("{}: penalty {:.10g} (mu {:.10g}), L1 norm {:.10g}\n", asked,
                                solution.penalty, io::mu_as_double(path, solution.penalty),
-                               solution.l1_norm);
+                               solution.penalized_l1);
     std::cout << io::coefficient_table(solution, path, traced.context.predictor_names, args->csv);
     std::cout.flush();
     global.status = finished_status(path);

@@ -51,9 +51,9 @@ void print_truth(const demo::DemoData& data, const Path<double>& path, std::ostr
       ++true_count;
     }
   std::size_t entered = 0;
-  for (const auto& knot : path.events()) {
-    if (knot.event != EventKind::enter || entered == true_count) continue;
-    first += (entered ? ", " : "") + data.predictor_names[static_cast<std::size_t>(knot.predictor)];
+  for (const auto& event : path.events()) {
+    if (event.kind != EventKind::enter || entered == true_count) continue;
+    first += (entered ? ", " : "") + data.predictor_names[static_cast<std::size_t>(event.predictor)];
     ++entered;
   }
   out << "generating model uses:     " << truth << '\n';

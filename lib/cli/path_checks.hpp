@@ -20,7 +20,7 @@ void require_finite_path(const Path<Scalar>& path) {
   if constexpr (!detail::is_exact_v<Scalar>) {
     auto finite = [](const Scalar& v) { return std::isfinite(detail::to_double(v)); };
     for (const auto& knot : path.knots()) {
-      bool ok = finite(knot.penalty) && finite(knot.l1_norm) && finite(knot.intercept) &&
+      bool ok = finite(knot.penalty) && finite(knot.penalized_l1) && finite(knot.intercept) &&
                 finite(knot.rss);
       for (const auto& [j, value] : knot.coefficients) ok = ok && finite(value);
       if (!ok)

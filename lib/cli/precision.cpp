@@ -116,7 +116,7 @@ int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, b
       } else {
         const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
         if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
-        solution = path.at_penalty(penalty_from_size_free(path, mu));
+        solution = path.at_mu(mu);
         asked = "mu " + point.mu_text;
       }
     } else if (point.budget) {
@@ -130,7 +130,7 @@ int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, b
       // The fraction itself is parsed exactly (at_fraction takes a double).
       solution = fraction == Scalar(1)
                      ? path.at_fraction(1.0)
-                     : path.at_budget(Scalar(fraction * path.knots().back().l1_norm));
+                     : path.at_budget(Scalar(fraction * path.knots().back().penalized_l1));
       asked = "fraction " + point.fraction_text + " of the final L1 norm";
     }
   } catch (const invalid_query& e) {
@@ -142,7 +142,7 @@ int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, b
   if (!csv) {
     std::cout << fmt::format(
         "{}: penalty {} (mu {:.10g}), L1 norm {}\n", asked, io::number_text(solution.penalty),
-        io::mu_as_double(path, solution.penalty), io::number_text(solution.l1_norm));
+        io::mu_as_double(path, solution.penalty), io::number_text(solution.penalized_l1));
     std::cout << "arithmetic: " << io::arithmetic_name<Scalar>() << '\n';
   }
   std::cout << io::coefficient_table(solution, path, loaded.context.predictor_names, csv);

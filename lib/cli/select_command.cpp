@@ -259,7 +259,7 @@ void print_audit_with_tests(std::ostream& out, const Selection& s, const SelectD
                           shown(it->second->spacing_p_value, 3));
     out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7.4f}{}\n", k.step,
                        shown(k.penalty), shown(k.penalty / scale), to_string(k.event), name,
-                       k.active, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
+                       k.active_count, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
   }
 }
 

@@ -100,7 +100,7 @@ std::string answer_row(const std::string& query, double asked, Query&& query_fn)
   try {
     const kp::Solution<double> s = query_fn();
     cells.push_back(kp::io::round_trip(s.penalty));
-    cells.push_back(kp::io::round_trip(s.l1_norm));
+    cells.push_back(kp::io::round_trip(s.penalized_l1));
     cells.push_back(s.beyond_path ? "1" : "0");
     cells.push_back(kp::io::round_trip(s.intercept));
     for (Index j = 0; j < s.coefficients.size(); ++j)
@@ -123,7 +123,7 @@ std::string at_answers(const kp::Path<double>& path, const std::vector<std::stri
     text += answer_row(query, lambda, [&] { return path.at_penalty(lambda); });
   }
   text += answer_row("penalty", 0.0, [&] { return path.at_penalty(0.0); });
-  const double final_norm = knots.empty() ? 0.0 : knots.back().l1_norm;
+  const double final_norm = knots.empty() ? 0.0 : knots.back().penalized_l1;
   for (double f : kBudgetFractions) {
     const double budget = f * final_norm;
     text += answer_row("budget " + kp::io::round_trip(f), budget,

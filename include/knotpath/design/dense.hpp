@@ -3,6 +3,7 @@
 /// \brief Dense design operator: an Eigen column-major matrix of prepared
 /// columns and the prepared response, held by value.
 
+#include <memory>
 #include <span>
 #include <type_traits>
 #include <utility>
@@ -16,7 +17,9 @@ namespace knotpath {
 
 /// Dense prepared design Z (n x q) and response y (n), a DesignOperator.
 /// Products cost O(n q) per knot; Gram entries are computed on demand, O(n)
-/// each. Memory: the copy of Z and y plus one n-vector of scratch space.
+/// each. Memory: the copy of Z and y plus one n-vector of scratch space. Z
+/// is held through a shared pointer to const, so several designs (one per
+/// response, as PathSolver makes them) can share one prepared copy.
 ///
 /// Threads: set_threads() spreads the product over column blocks of fixed
 /// width (detail/parallel.hpp), so results do not depend on the count.
@@ -34,10 +37,14 @@ class DenseDesign {
   /// Takes ownership of the prepared columns and response. Throws
   /// invalid_data when `columns.rows() != response.size()`.
   DenseDesign(Matrix<Scalar> columns, Vector<Scalar> response)
-      : z_(std::move(columns)), y_(std::move(response)) {
-    if (z_.rows() != y_.size())
+      : DenseDesign(std::make_shared<const Matrix<Scalar>>(std::move(columns)), std::move(response)) {}
+  /// Shares prepared columns held elsewhere (never modified). Throws
+  /// invalid_data when `columns` is null or its rows differ from the response's length.
+  DenseDesign(std::shared_ptr<const Matrix<Scalar>> columns, Vector<Scalar> response)
+      : shared_(std::move(columns)), y_(std::move(response)) {
+    if (!shared_ || shared_->rows() != y_.size())
       throw invalid_data("DenseDesign: design rows and response length differ");
-    work_.resize(z_.rows());
+    work_.resize(y_.size());
   }
 
   /// Threads for the product Z^T u of direction_correlations() (1 by
@@ -47,26 +54,26 @@ class DenseDesign {
   }
 
   /// Number of rows n of Z.
-  Index rows() const noexcept { return z_.rows(); }
+  Index rows() const noexcept { return z().rows(); }
   /// Number of prepared columns q.
-  Index cols() const noexcept { return z_.cols(); }
+  Index cols() const noexcept { return z().cols(); }
 
   /// z_j^T z_j for prepared column j in [0, q); O(n).
-  Scalar squared_norm(Index j) const { return z_.col(j).squaredNorm(); }
+  Scalar squared_norm(Index j) const { return z().col(j).squaredNorm(); }
   /// y^T y of the prepared response; O(n).
   Scalar response_squared_norm() const { return y_.squaredNorm(); }
 
   /// out = Z^T y (resized to q); O(n q).
   void response_correlations(Vector<Scalar>& out) const {
-    out.resize(z_.cols());
-    for (Index j = 0; j < z_.cols(); ++j) out(j) = z_.col(j).dot(y_);
+    out.resize(z().cols());
+    for (Index j = 0; j < z().cols(); ++j) out(j) = z().col(j).dot(y_);
   }
 
   /// out(i) = z_{active[i]}^T z_j for i < |active| (`out` is the caller's,
   /// of length >= |active|, not resized); O(n |active|).
   void cross_products(Index j, std::span<const Index> active, Eigen::Ref<Vector<Scalar>> out) const {
     for (std::size_t i = 0; i < active.size(); ++i)
-      out(static_cast<Index>(i)) = z_.col(active[i]).dot(z_.col(j));
+      out(static_cast<Index>(i)) = z().col(active[i]).dot(z().col(j));
   }
 
   /// out = Z^T (Z_A d) with A = `active` and d of length |A|: one pass to
@@ -77,28 +84,29 @@ class DenseDesign {
     work_.setZero();
     for (std::size_t i = 0; i < active.size(); ++i) {
       const Scalar coefficient = d(static_cast<Index>(i));
-      const auto column = z_.col(active[i]);
-      for (Index r = 0; r < z_.rows(); ++r) work_(r) += coefficient * column(r);
+      const auto column = z().col(active[i]);
+      for (Index r = 0; r < z().rows(); ++r) work_(r) += coefficient * column(r);
     }
-    out.resize(z_.cols());
-    const double entries = static_cast<double>(z_.rows()) * static_cast<double>(z_.cols());
-    detail::for_each_column_block(threads_, z_.cols(), entries, [&](Index begin, Index end) {
+    out.resize(z().cols());
+    const double entries = static_cast<double>(z().rows()) * static_cast<double>(z().cols());
+    detail::for_each_column_block(threads_, z().cols(), entries, [&](Index begin, Index end) {
       if constexpr (std::is_floating_point_v<Scalar>) {
         // blocked, vectorized product for hardware types
-        out.segment(begin, end - begin).noalias() = z_.middleCols(begin, end - begin).transpose() * work_;
+        out.segment(begin, end - begin).noalias() = z().middleCols(begin, end - begin).transpose() * work_;
       } else {
-        for (Index j = begin; j < end; ++j) out(j) = z_.col(j).dot(work_);
+        for (Index j = begin; j < end; ++j) out(j) = z().col(j).dot(work_);
       }
     });
   }
 
   /// The prepared columns (for tests and diagnostics).
-  const Matrix<Scalar>& columns() const noexcept { return z_; }
+  const Matrix<Scalar>& columns() const noexcept { return z(); }
   /// The prepared response.
   const Vector<Scalar>& response() const noexcept { return y_; }
 
  private:
-  Matrix<Scalar> z_;               // prepared columns
+  const Matrix<Scalar>& z() const noexcept { return *shared_; }
+  std::shared_ptr<const Matrix<Scalar>> shared_ = std::make_shared<const Matrix<Scalar>>();  // prepared columns, never null
   Vector<Scalar> y_;               // prepared response
   mutable Vector<Scalar> work_;    // u = Z_A d, reused at every knot
   std::size_t threads_ = 1;        // threads for Z^T u

@@ -51,7 +51,7 @@ struct ChartKnot {
   Index predictor = -1;                ///< predictor of an enter/leave event, else -1
   int sign = 0;                        ///< sign of the entering (or leaving) coefficient
   Index active = 0;                    ///< active predictors after the event
-  double l1_norm = 0;                  ///< sum_j f_j s_j |beta_j|
+  double penalized_l1 = 0;             ///< sum_j f_j s_j |beta_j| (Knot::penalized_l1)
   double r_squared = 0;                ///< 1 - RSS / TSS (0 when TSS is 0)
   std::vector<std::pair<Index, double>> coefficients;  ///< nonzero beta_j, original scale
 };
@@ -83,7 +83,7 @@ ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = 
                      std::string response_name = "response") {
   using knotpath::detail::to_double;
   ChartPath out;
-  const Index p = path.predictors();
+  const Index p = path.predictor_count();
   if (names.empty())
     for (Index j = 0; j < p; ++j) names.push_back("x" + std::to_string(j + 1));
   out.names = std::move(names);
@@ -111,8 +111,8 @@ ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = 
     c.event = k.event;
     c.predictor = k.predictor;
     c.sign = k.sign;
-    c.active = k.active;
-    c.l1_norm = to_double(k.l1_norm);
+    c.active = k.active_count;
+    c.penalized_l1 = to_double(k.penalized_l1);
     c.r_squared = tss > 0 ? 1.0 - to_double(k.rss) / tss : 0.0;
     for (const auto& [j, b] : k.coefficients) c.coefficients.emplace_back(j, to_double(b));
     out.knots.push_back(std::move(c));
@@ -230,7 +230,7 @@ SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
   out.standardized = cv.full_path.preparation().standardized;
   out.folds = cv.folds.size();
   auto add = [&](const Scalar& mu) {
-    const CurvePoint<Scalar> q = cv.point(mu);
+    const CurvePoint<Scalar> q = cv.point_at_mu(mu);
     out.points.push_back({to_double(q.mu), to_double(q.error), to_double(q.standard_error)});
   };
   for (const auto& piece : cv.pieces) {

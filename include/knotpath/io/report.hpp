@@ -67,7 +67,7 @@ std::string arithmetic_name();
 /// The size-free penalty of DESIGN.md ("Comparing penalties"), as a double:
 /// mu = lambda / sqrt(n) for standardized paths and lambda / n for paths
 /// traced on the columns' own scale (n = sum of weights), the same
-/// convention as knotpath::size_free_penalty() (scaling.hpp). 0 when n = 0.
+/// convention as Path::mu_of() (scaling.hpp). 0 when n = 0.
 /// (Square roots are irrational, so exact mode shows mu as a decimal only.)
 template <class Scalar>
 double mu_as_double(const Path<Scalar>& path, const Scalar& lambda);
