@@ -16,23 +16,23 @@
 #include <string>
 #include <vector>
 
-#include <boost/multiprecision/cpp_int.hpp>
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
 #include <knotpath/precision.hpp>
 
 #include "cli_runner.hpp"
+#include "decimal_text.hpp"
 #include "test_support.hpp"
 
 namespace {
 
+using knotpath::testing::decimal_power;
 using knotpath::testing::Outcome;
 using knotpath::testing::slurp;
 
 namespace fs = std::filesystem;
 namespace kp = knotpath;
-using boost::multiprecision::cpp_int;
 using json = nlohmann::json;
 
 
@@ -57,32 +57,6 @@ std::vector<std::vector<std::string>> csv_rows(const std::string& text) {
   std::string line;
   while (std::getline(s, line)) rows.push_back(split(line));
   return rows;
-}
-
-// Exact decimal text of x^k for decimal text x (x = m / 10^d, so x^k =
-// m^k / 10^(d k) is a finite decimal): the power columns of a polynomial
-// design, written without any rounding.
-std::string decimal_power(const std::string& x, int k) {
-  std::string digits;
-  bool negative = false;
-  std::size_t decimals = 0;
-  bool point = false;
-  for (char c : x) {
-    if (c == '-') negative = true;
-    else if (c == '.') point = true;
-    else if (c >= '0' && c <= '9') {
-      digits += c;
-      if (point) ++decimals;
-    }
-  }
-  digits.erase(0, std::min(digits.find_first_not_of('0'), digits.size()));
-  if (digits.empty()) return "0";
-  const cpp_int m(digits);
-  std::string s = cpp_int(pow(m, static_cast<unsigned>(k))).str();
-  const std::size_t d = decimals * static_cast<std::size_t>(k);
-  if (s.size() <= d) s.insert(0, d + 1 - s.size(), '0');
-  if (d > 0) s.insert(s.size() - d, ".");
-  return (negative && k % 2 == 1 ? "-" : "") + s;
 }
 
 // Writes y,x1..x{degree} (x1 = x, xk = x^k exact) from a two-column y,x CSV.

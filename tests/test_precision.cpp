@@ -3,10 +3,12 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <optional>
 #include <string>
 
 #include <knotpath/precision.hpp>
 
+#include "decimal_text.hpp"
 #include "test_support.hpp"
 
 namespace kp = knotpath;
@@ -128,6 +130,55 @@ TEST(ExternalNistPrecision, FilipIn50DigitsAndDoubleIsFlagged) {
   EXPECT_TRUE(check.double_suspect);
 }
 
+// NIST StRD Filip as decimal text: y and the power columns x, x^2, ...,
+// x^degree written exactly (decimal_power), the model NIST certifies.
+kp::DecimalProblem polynomial_text(const kt::CsvText& t, int degree) {
+  kp::DecimalProblem out;
+  out.columns.resize(static_cast<std::size_t>(degree));
+  for (const auto& row : t.rows) {
+    out.response.push_back(row[0]);
+    for (int k = 1; k <= degree; ++k)
+      out.columns[static_cast<std::size_t>(k - 1)].push_back(kt::decimal_power(row[1], k));
+  }
+  return out;
+}
+
+// NIST StRD Filip (certified values): cross_check from the decimal text has
+// the exact problem as its reference, so the 50-digit end of its path (penalty
+// 0, the least-squares fit) meets every certified value to >= 12 digits. The
+// double overload, given the same cells correctly rounded to double, hands the
+// 50 digits the double-rounded problem: on a design this ill-conditioned its
+// 50-digit end misses the certified values from the 8th digit on (measured
+// here: intercept -1467.48958177, LRE 7.7; the text overload's LRE is 14.3;
+// issue 17 saw -1467.489641 on doubles made another way). If the text
+// overload went through double, the two high paths would be the same and
+// this fails.
+TEST(ExternalNistPrecision, FilipCrossCheckFromDecimalTextMeetsCertifiedValues) {
+  KNOTPATH_REQUIRE_REFERENCE(data, "strd/filip.csv");
+  KNOTPATH_REQUIRE_REFERENCE(cert, "strd/filip.certified");
+  const auto certified = certified_values(cert, 11);
+  const kp::DecimalProblem text = polynomial_text(kt::read_csv_text(data), 10);
+  const auto from_text = kp::cross_check<kp::float50>(text);
+  ASSERT_EQ(from_text.high_path.stop_reason(), kp::StopReason::completed);
+  EXPECT_TRUE(from_text.high_path.held_out().empty());
+  EXPECT_GE(min_lre_at_end(from_text.high_path, certified), 12.0);
+
+  const auto doubles = kp::parse_decimal_problem<double>(text);
+  const auto from_doubles = kp::cross_check<kp::float50>(doubles.x, doubles.y);
+  ASSERT_EQ(from_doubles.high_path.stop_reason(), kp::StopReason::completed);
+  const kp::float50 intercept = from_doubles.high_path.at_penalty(kp::float50(0)).intercept;
+  EXPECT_LT(lre(intercept, certified[0]), 10.0) << intercept.str(15);
+  EXPECT_LT(min_lre_at_end(from_doubles.high_path, certified), 10.0);
+  // Both double paths trace the same doubles (the text's cells correctly
+  // rounded): the same knots, bit for bit.
+  ASSERT_EQ(from_text.double_path.knots().size(), from_doubles.double_path.knots().size());
+  for (std::size_t k = 0; k < from_text.double_path.knots().size(); ++k)
+    EXPECT_EQ(from_text.double_path.knots()[k].penalty, from_doubles.double_path.knots()[k].penalty) << k;
+  // Both verdicts still say the double path cannot be trusted.
+  EXPECT_NE(from_text.verdict, kp::Verdict::trustworthy);
+  EXPECT_NE(from_doubles.verdict, kp::Verdict::trustworthy);
+}
+
 // NIST StRD Longley: LRE >= 13 in 50-digit mode; the double path passes the
 // cross-check (trustworthy or degraded) and its endpoint LRE is >= 7.
 TEST(ExternalNistPrecision, LongleyIn50DigitsAndDoublePassesTheCrossCheck) {
@@ -239,6 +290,115 @@ TEST(Float50, AgreesWithDoubleOnWellConditionedDesigns) {
     EXPECT_EQ(check.verdict, kp::Verdict::trustworthy) << seed;
     EXPECT_FALSE(check.double_suspect);
   }
+}
+
+// The paths cross_check returns are the two it compared: the summary's knot
+// counts are theirs, compare_paths on them gives the same summary, and each
+// equals an independent trace of the same data in its arithmetic.
+TEST(Float50, CrossCheckReturnsTheTwoTracedPaths) {
+  const kt::Problem prob = kt::ar1_problem(40, 8, 0.6, 35);
+  kp::TraceOptions options;
+  options.variant = kp::Variant::lasso;
+  const auto result = kp::cross_check<kp::float50>(prob.x, prob.y, options);
+  EXPECT_EQ(result.double_knots, result.double_path.knots().size());
+  EXPECT_EQ(result.high_knots, result.high_path.knots().size());
+  ASSERT_GT(result.double_knots, 2u);
+  const kp::CrossCheck again = kp::compare_paths(result.double_path, result.high_path);
+  EXPECT_EQ(again.same_events, result.same_events);
+  EXPECT_EQ(again.max_relative_knot_difference, result.max_relative_knot_difference);
+  EXPECT_EQ(again.max_coefficient_difference, result.max_coefficient_difference);
+  EXPECT_EQ(again.verdict, result.verdict);
+
+  const kp::Path<double> low = kp::trace<double>(prob.x, prob.y, options);
+  const kp::Path<kp::float50> high =
+      kp::trace<kp::float50>(kp::convert<kp::float50>(prob.x), kp::convert<kp::float50>(prob.y), options);
+  ASSERT_EQ(low.knots().size(), result.double_path.knots().size());
+  ASSERT_EQ(high.knots().size(), result.high_path.knots().size());
+  for (std::size_t k = 0; k < low.knots().size(); ++k) {
+    EXPECT_EQ(low.knots()[k].penalty, result.double_path.knots()[k].penalty) << k;
+    EXPECT_EQ(low.knots()[k].predictor, result.double_path.knots()[k].predictor) << k;
+  }
+  for (std::size_t k = 0; k < high.knots().size(); ++k) {
+    EXPECT_EQ(high.knots()[k].penalty, result.high_path.knots()[k].penalty) << k;
+    EXPECT_EQ(high.knots()[k].predictor, result.high_path.knots()[k].predictor) << k;
+  }
+}
+
+// The text overload on a small problem written as decimals that are not
+// binary fractions: its high path is the trace of the cells parsed into 50
+// digits, its double path the trace of the cells correctly rounded to double.
+TEST(Float50, CrossCheckFromTextTracesTheParsedCells) {
+  kp::DecimalProblem text;
+  text.columns = {{"0.1", "0.7", "1.3", "2.9", "0.35", "1.1"},
+                  {"3.3", "0.2", "-1.7", "0.45", "2.05", "-0.6"},
+                  {"1.01", "0.99", "-0.3", "0.77", "1.9", "0.15"}};
+  text.response = {"1.2", "-0.4", "0.3", "2.2", "0.9", "0.1"};
+  text.weights = {"1", "0.5", "2", "1", "1.5", "1"};
+  const auto result = kp::cross_check<kp::float50>(text);
+  const auto high_data = kp::parse_decimal_problem<kp::float50>(text);
+  EXPECT_EQ(high_data.x(0, 0) * 10, kp::float50(1));  // 0.1 to 50 digits, not the double 0.1
+  const auto high = kp::trace<kp::float50>(high_data.x, high_data.y, {}, high_data.weights);
+  const auto low = kp::trace<double>(high_data.x.cast<double>().eval(), high_data.y.cast<double>().eval(), {},
+                                     high_data.weights.cast<double>().eval());
+  ASSERT_EQ(high.knots().size(), result.high_path.knots().size());
+  ASSERT_EQ(low.knots().size(), result.double_path.knots().size());
+  for (std::size_t k = 0; k < high.knots().size(); ++k)
+    EXPECT_EQ(high.knots()[k].penalty, result.high_path.knots()[k].penalty) << k;
+  for (std::size_t k = 0; k < low.knots().size(); ++k)
+    EXPECT_EQ(low.knots()[k].penalty, result.double_path.knots()[k].penalty) << k;
+  EXPECT_EQ(result.verdict, kp::Verdict::trustworthy);
+}
+
+// Cells that are not decimals, and columns of the wrong length, are refused
+// with the place named (row() 0-based; column() for a predictor column).
+TEST(Float50, DecimalProblemRefusesBadCellsWithThePlace) {
+  kp::DecimalProblem text;
+  text.columns = {{"1", "2", "3"}, {"0.5", "x7", "1.5"}};
+  text.response = {"1", "2", "4"};
+  try {
+    (void)kp::parse_decimal_problem<kp::float50>(text);
+    FAIL() << "expected invalid_data";
+  } catch (const kp::invalid_data& e) {
+    EXPECT_EQ(e.row(), std::optional<std::size_t>(1));
+    EXPECT_EQ(e.column(), std::optional<std::size_t>(1));
+    EXPECT_NE(std::string(e.what()).find("'x7'"), std::string::npos) << e.what();
+  }
+  text.columns[1][1] = "2.5";
+  text.response[2] = "4e";
+  try {
+    (void)kp::cross_check<kp::float50>(text);
+    FAIL() << "expected invalid_data";
+  } catch (const kp::invalid_data& e) {
+    EXPECT_EQ(e.row(), std::optional<std::size_t>(2));
+    EXPECT_FALSE(e.column().has_value());
+    EXPECT_NE(std::string(e.what()).find("response"), std::string::npos) << e.what();
+  }
+  text.response[2] = "4";
+  text.columns[0].pop_back();
+  try {
+    (void)kp::parse_decimal_problem<double>(text);
+    FAIL() << "expected invalid_data";
+  } catch (const kp::invalid_data& e) {
+    EXPECT_EQ(e.column(), std::optional<std::size_t>(0));
+  }
+  text.columns[0].push_back("3");
+  text.weights = {"1", "1"};
+  EXPECT_THROW((void)kp::parse_decimal_problem<double>(text), kp::invalid_data);
+}
+
+// parse_decimal<double> is correctly rounded in one step. The cell below is
+// exactly 1 + 2^-53 + 2^-70 (worked out with exact fractions): just above the
+// midpoint of 1 and 1 + 2^-52, so it rounds up; read through the 64-bit
+// long double first it would land on the midpoint (2^-70 is below half of
+// long double's 2^-63 spacing) and round to even, down to 1 (common
+// practice: the double-rounding hazard).
+TEST(ParseDecimal, DoubleIsCorrectlyRoundedInOneStep) {
+  const char* above_midpoint = "1.0000000000000001110231494954629083427022351315827108919620513916015625";
+  EXPECT_EQ(kp::parse_decimal<double>(above_midpoint), std::nextafter(1.0, 2.0));
+  EXPECT_EQ(kp::parse_decimal<double>("0.1"), 0.1);
+  EXPECT_EQ(kp::parse_decimal<double>("+.5"), 0.5);
+  EXPECT_EQ(kp::parse_decimal<double>("-6.860120914"), -6.860120914);
+  EXPECT_EQ(kp::parse_decimal<double>("2.2250738585072014e-308"), 2.2250738585072014e-308);
 }
 
 TEST(LongDouble, TracesAndMatchesDouble) {

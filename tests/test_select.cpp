@@ -12,6 +12,8 @@
 #include <knotpath/criteria.hpp>
 #include <knotpath/cross_validation.hpp>
 #include <knotpath/detail/random.hpp>
+#include <knotpath/statistics.hpp>
+#include <knotpath/trace.hpp>
 
 #include "test_support.hpp"
 
@@ -379,6 +381,146 @@ TEST(InformationCriteria, NoiseVarianceWhenPredictorsOutnumberRowsAndUnsupported
   Vector<double> other = prob.y;
   other(0) += 1.0;
   EXPECT_THROW(kp::information_criteria<double>(prob.x, other, path), kp::invalid_query);
+}
+
+namespace {
+
+// Criteria computed two ways agree knot by knot: the same knots (events,
+// d), RSS, sigma^2 and scores to `tol` relative (Cp relative to |Cp| + n).
+void expect_same_criteria(const kp::InformationCriteria<double>& a,
+                          const kp::InformationCriteria<double>& b, double tol) {
+  EXPECT_EQ(a.source, b.source);
+  EXPECT_EQ(a.residual_df, b.residual_df);
+  EXPECT_EQ(a.observations, b.observations);
+  EXPECT_NEAR(a.noise_variance, b.noise_variance, tol * b.noise_variance);
+  ASSERT_EQ(a.knots.size(), b.knots.size());
+  const double n = static_cast<double>(b.observations);
+  for (std::size_t k = 0; k < b.knots.size(); ++k) {
+    EXPECT_EQ(a.knots[k].parameters, b.knots[k].parameters) << k;
+    EXPECT_NEAR(a.knots[k].penalty, b.knots[k].penalty, tol * b.knots.front().penalty) << k;
+    EXPECT_NEAR(a.knots[k].rss, b.knots[k].rss, tol * b.knots.front().rss) << k;
+    EXPECT_NEAR(a.knots[k].mallows_cp, b.knots[k].mallows_cp, tol * (std::abs(b.knots[k].mallows_cp) + n)) << k;
+    EXPECT_NEAR(a.knots[k].aic, b.knots[k].aic, tol * b.knots[k].aic) << k;
+    EXPECT_NEAR(a.knots[k].bic, b.knots[k].bic, tol * b.knots[k].bic) << k;
+  }
+  EXPECT_EQ(a.best_cp, b.best_cp);
+  EXPECT_EQ(a.best_aic, b.best_aic);
+  EXPECT_EQ(a.best_bic, b.best_bic);
+}
+
+// A design with about half of its entries zero (for the sparse storage).
+kp::testing::Problem half_zero_problem(Index n, Index p, unsigned seed) {
+  auto prob = kp::testing::ar1_problem(n, p, 0.4, seed, 3, 0.8);
+  for (Index i = 0; i < n; ++i)
+    for (Index j = 0; j < p; ++j)
+      if (std::abs(prob.x(i, j)) < 0.7) prob.x(i, j) = 0.0;
+  return prob;
+}
+
+}  // namespace
+
+// From the path alone, sigma^2 of a completed path is RSS_end / (n - a_end
+// - 1) read off its last knot; on full-rank data that is the residual
+// variance of the least-squares fit the data version computes by QR (both
+// sum the same residuals, one along the homotopy: they agree to rounding),
+// unweighted and weighted.
+TEST(InformationCriteria, FromThePathAloneEqualsTheDataVersionOnFullRankData) {
+  const auto prob = kp::testing::ar1_problem(50, 6, 0.5, 17, 3, 1.5);
+  const auto path = kp::trace<double>(prob.x, prob.y);
+  const auto from_data = kp::information_criteria<double>(prob.x, prob.y, path);
+  const auto from_path = kp::information_criteria(path);
+  EXPECT_EQ(from_path.source, kp::NoiseVarianceSource::least_squares);
+  EXPECT_EQ(from_path.residual_df, 50 - 6 - 1);
+  expect_same_criteria(from_path, from_data, 1e-10);
+
+  Vector<double> w(50);
+  for (Index i = 0; i < 50; ++i) w(i) = i % 5 == 0 ? 0.0 : 0.5 + 0.1 * static_cast<double>(i % 7);
+  const auto weighted = kp::trace<double>(prob.x, prob.y, {}, w);
+  const auto from_path_w = kp::information_criteria(weighted);
+  EXPECT_EQ(from_path_w.observations, 40);  // rows of weight 0 do not count
+  expect_same_criteria(from_path_w, kp::information_criteria<double>(prob.x, prob.y, weighted, {}, w), 1e-10);
+}
+
+// Paths from a sparse design (trace_sparse) and from sufficient statistics
+// (trace_statistics) have no dense data to re-prepare; their criteria from
+// the path alone equal those of the dense data's path.
+TEST(InformationCriteria, FromSparseAndStreamedPathsEqualThoseOfTheDenseData) {
+  const auto prob = half_zero_problem(60, 8, 23);
+  const auto dense_path = kp::trace<double>(prob.x, prob.y);
+  const auto reference = kp::information_criteria<double>(prob.x, prob.y, dense_path);
+  ASSERT_EQ(reference.source, kp::NoiseVarianceSource::least_squares);
+
+  const Eigen::SparseMatrix<double> sx = prob.x.sparseView();
+  ASSERT_LT(sx.nonZeros(), 60 * 8 * 3 / 4);  // the storage is sparse indeed
+  const auto sparse_path = kp::trace_sparse<double>(sx, prob.y);
+  expect_same_criteria(kp::information_criteria(sparse_path), reference, 1e-9);
+
+  // Streamed in blocks of 7 rows, as rows arriving one batch at a time.
+  const auto stats = kp::SufficientStatistics<double>::from_rows(prob.x, prob.y, Vector<double>(), 7);
+  const auto stats_path = kp::trace_statistics(stats);
+  expect_same_criteria(kp::information_criteria(stats_path), reference, 1e-9);
+}
+
+// With more predictors than rows a completed path saturates and its last
+// knot interpolates (no residual df): the path rule falls back on the same
+// sparse fit as the data version, and agrees with it.
+TEST(InformationCriteria, FromThePathAloneWithMorePredictorsThanRowsUsesTheSparseFit) {
+  const auto prob = kp::testing::ar1_problem(12, 20, 0.3, 9, 2, 0.5);
+  const auto path = kp::trace<double>(prob.x, prob.y);
+  ASSERT_EQ(path.stop_reason(), kp::StopReason::completed);
+  const auto from_path = kp::information_criteria(path);
+  EXPECT_EQ(from_path.source, kp::NoiseVarianceSource::sparse_fit);
+  expect_same_criteria(from_path, kp::information_criteria<double>(prob.x, prob.y, path), 1e-12);
+}
+
+// A given noise variance is used as it is, on any path: Cp, AIC and BIC are
+// the formulas of criteria.hpp with that sigma^2 and each knot's RSS and d.
+TEST(InformationCriteria, FromThePathAloneWithAGivenNoiseVariance) {
+  const auto prob = half_zero_problem(40, 6, 29);
+  kp::TraceOptions stop;
+  stop.max_knots = 4;  // stopped early: only a given sigma^2 makes criteria possible
+  const auto path = kp::trace_sparse<double>(Eigen::SparseMatrix<double>(prob.x.sparseView()), prob.y, stop);
+  ASSERT_EQ(path.stop_reason(), kp::StopReason::max_knots);
+  kp::CriteriaOptions given;
+  given.noise_variance = 0.25;
+  const auto ic = kp::information_criteria(path, given);
+  EXPECT_EQ(ic.source, kp::NoiseVarianceSource::given);
+  EXPECT_EQ(ic.noise_variance, 0.25);
+  EXPECT_EQ(ic.residual_df, 0);
+  ASSERT_EQ(ic.knots.size(), path.knots().size());
+  const double n = 40;
+  for (std::size_t k = 0; k < ic.knots.size(); ++k) {
+    const auto& knot = path.knots()[k];
+    const double d = static_cast<double>(knot.coefficients.size()) + 1.0;
+    EXPECT_EQ(ic.knots[k].rss, knot.rss);
+    EXPECT_DOUBLE_EQ(ic.knots[k].mallows_cp, knot.rss / 0.25 - n + 2 * d);
+    EXPECT_DOUBLE_EQ(ic.knots[k].aic, knot.rss / (n * 0.25) + 2 * d / n);
+    EXPECT_DOUBLE_EQ(ic.knots[k].bic, knot.rss / (n * 0.25) + std::log(n) * d / n);
+  }
+}
+
+// Without a given value, a path that stopped early is refused: its last knot
+// is not the least-squares fit (the data version, which has the data, still
+// answers). The message names the option to give. An empty path is refused.
+TEST(InformationCriteria, FromThePathAloneRefusesAStoppedPathWithoutANoiseVariance) {
+  const auto prob = kp::testing::ar1_problem(40, 6, 0.5, 31, 3, 1.0);
+  kp::TraceOptions stop;
+  stop.max_knots = 3;
+  const auto path = kp::trace<double>(prob.x, prob.y, stop);
+  ASSERT_TRUE(path.stopped_early());
+  try {
+    (void)kp::information_criteria(path);
+    FAIL() << "expected invalid_query";
+  } catch (const kp::invalid_query& e) {
+    EXPECT_NE(std::string(e.what()).find("CriteriaOptions::noise_variance"), std::string::npos) << e.what();
+    EXPECT_NE(std::string(e.what()).find("stop-max-knots"), std::string::npos) << e.what();
+  }
+  EXPECT_EQ(kp::information_criteria<double>(prob.x, prob.y, path).source,
+            kp::NoiseVarianceSource::least_squares);
+  EXPECT_THROW((void)kp::information_criteria(kp::Path<double>()), kp::invalid_query);
+  kp::TraceOptions ridge;
+  ridge.ridge = 0.5;
+  EXPECT_THROW((void)kp::information_criteria(kp::trace<double>(prob.x, prob.y, ridge)), kp::invalid_option);
 }
 
 // Zou, Hastie & Tibshirani (2007), Ann. Statist. 35(5), Theorem 1: at a

@@ -35,6 +35,21 @@
 /// coefficients whose d_k is at most n / 2 (a rough estimate, flagged in the
 /// result; give a value when it matters). The size-free penalty mu of each
 /// knot is lambda / penalty_scale (scaling.hpp).
+///
+/// From the path alone (information_criteria(path, options): paths traced
+/// from sparse designs, sufficient statistics or any other source) the rule
+/// reads the least-squares fit off the path instead of the data. A completed
+/// path (StopReason::completed) ends at penalty 0, where every predictor's
+/// correlation with the residual is 0: its last knot is the least-squares fit
+/// of the traced columns, with RSS_end its residual sum of squares and its
+/// active count a_end (independent columns, held-out ones lying in their span)
+/// the fit's rank. So sigma^2 = RSS_end / (n - a_end - 1) (n - a_end without
+/// intercept) when that leaves residual degrees of freedom, the figure the
+/// data give up to rounding; otherwise the sparse-fit rule above, over the
+/// same knots the data version would see. A path that stopped early holds
+/// neither the least-squares fit nor, in general, every knot the sparse-fit
+/// rule would pick from: without a given value it is refused (invalid_query)
+/// rather than answered with a figure the data would not give.
 
 #include <cmath>
 #include <string>
@@ -53,7 +68,7 @@ namespace knotpath {
 /// Where the noise variance of the criteria came from.
 enum class NoiseVarianceSource {
   given,          ///< the user's value
-  least_squares,  ///< residual variance of the full least-squares fit
+  least_squares,  ///< residual variance of the full least-squares fit (of the data, or the last knot of a completed path)
   sparse_fit,     ///< RSS / (n - d) of a lasso fit with d <= n/2 (rough; see the file comment)
 };
 
@@ -150,6 +165,33 @@ void set_noise_variance(InformationCriteria<Scalar>& out,
         "CriteriaOptions::noise_variance");
 }
 
+/// The noise-variance rule from a path alone (file comment): the value
+/// given, or the least-squares fit read off the last knot of a completed
+/// path (residual_df <= 0 leaves the sparse-fit rule to set_noise_variance).
+/// Throws invalid_query for an empty path, or for a path that stopped early
+/// when no value is given.
+template <class Scalar>
+NoiseVarianceEstimate<Scalar> given_or_path_variance(double given, const Path<Scalar>& path) {
+  NoiseVarianceEstimate<Scalar> out;
+  if (given > 0) {
+    out.variance = Scalar(given);
+    out.given = true;
+    return out;
+  }
+  if (path.knots().empty()) throw invalid_query("the path is empty");
+  if (path.stop_reason() != StopReason::completed)
+    throw invalid_query("the path stopped early (" + to_string(path.stop_reason()) +
+                        "), so its last knot is not the least-squares fit and the noise "
+                        "variance cannot be estimated from the path alone; give "
+                        "CriteriaOptions::noise_variance");
+  const Knot<Scalar>& end = path.knots().back();
+  const Preparation<Scalar>& prep = path.preparation();
+  out.rank = end.active;
+  out.residual_df = prep.used_observations - end.active - (prep.intercept ? 1 : 0);
+  if (out.residual_df > 0) out.variance = end.rss / Scalar(static_cast<double>(out.residual_df));
+  return out;
+}
+
 /// Cp, AIC and BIC of every knot row, and their minimizers (the first, the
 /// largest penalty, among ties).
 template <class Scalar>
@@ -220,6 +262,27 @@ InformationCriteria<Scalar> information_criteria(const PreparedDense<Scalar>& pr
   detail::set_noise_variance(
       out, detail::given_or_least_squares_variance<Scalar>(criteria.noise_variance, problem.design,
                                                            path.preparation()));
+  detail::score_criteria(out);
+  return out;
+}
+
+/// The same from the path alone, for paths traced from any source (sparse
+/// designs, sufficient statistics, ...): the knots carry the RSS and the
+/// nonzero coefficients, and sigma^2 is the value given or, without one, the
+/// path rule of the file comment (the least-squares fit read off the last
+/// knot of a completed path). Throws invalid_option as above, invalid_query
+/// for an empty path, a path that stopped early with no value given, or no
+/// estimate (see the file comment).
+template <class Scalar>
+InformationCriteria<Scalar> information_criteria(const Path<Scalar>& path,
+                                                 const CriteriaOptions& criteria = {}) {
+  criteria.validate();
+  detail::check_supported(path);
+  InformationCriteria<Scalar> out;
+  out.observations = path.preparation().used_observations;
+  out.knots = detail::criteria_rows(path);
+  detail::set_noise_variance(out,
+                             detail::given_or_path_variance<Scalar>(criteria.noise_variance, path));
   detail::score_criteria(out);
   return out;
 }

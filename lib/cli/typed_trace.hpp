@@ -33,23 +33,21 @@ inline Arithmetic arithmetic_of(const PrecisionArgs& args) {
   return Arithmetic::double_precision;
 }
 
-/// One column of a table parsed exactly into Scalar from its decimal text.
+/// One column of a table parsed exactly into Scalar from its decimal text
+/// (knotpath::parse_decimal_cells, the library's home of this parsing).
 template <class Scalar>
 Vector<Scalar> exact_column(const LoadedTable& loaded, Index column) {
   const auto& text = loaded.table.decimal_text.at(static_cast<std::size_t>(column));
-  Vector<Scalar> v(static_cast<Index>(text.size()));
-  for (std::size_t i = 0; i < text.size(); ++i) {
-    try {
-      v(static_cast<Index>(i)) = parse_decimal<Scalar>(text[i]);
-    } catch (const invalid_data&) {
-      throw failure(exit_bad_input,
-                    fmt::format("{}: data row {}: cell \"{}\" in column \"{}\" is not a decimal "
-                                "number that can be parsed exactly",
-                                loaded.shown_name, i + 1, text[i],
-                                loaded.table.names[static_cast<std::size_t>(column)]));
-    }
+  try {
+    return parse_decimal_cells<Scalar>(text);
+  } catch (const invalid_data& e) {
+    const std::size_t i = e.row().value_or(0);
+    throw failure(exit_bad_input,
+                  fmt::format("{}: data row {}: cell \"{}\" in column \"{}\" is not a decimal "
+                              "number that can be parsed exactly",
+                              loaded.shown_name, i + 1, text.at(i),
+                              loaded.table.names[static_cast<std::size_t>(column)]));
   }
-  return v;
 }
 
 /// The design, response and weights of a loaded table in Scalar.
