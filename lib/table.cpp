@@ -1,6 +1,9 @@
 // Streaming reader of delimited text tables; see include/knotpath/io/table.hpp.
+// Also the roles of its columns (include/knotpath/io/roles.hpp): validation,
+// read options and the rule that chooses the predictors.
 
 #include "knotpath/io/table.hpp"
+#include "knotpath/io/roles.hpp"
 
 #include "table_records.hpp"
 
@@ -13,6 +16,7 @@
 #include <iostream>
 #include <set>
 #include <unordered_map>
+#include <unordered_set>
 #include <utility>
 
 namespace knotpath::io {
@@ -440,6 +444,149 @@ Table read_table(const std::string& path, const TableReadOptions& options) {
     throw table_error(table_error::Kind::input_output, path, 0, 0,
                       std::string("cannot open the file: ") + std::strerror(errno));
   return read_table(file, path, options);
+}
+
+// ---- Column roles (io/roles.hpp) ----
+
+namespace {
+
+bool listed(const std::vector<std::string>& list, const std::string& name) {
+  return std::find(list.begin(), list.end(), name) != list.end();
+}
+
+void append(std::vector<std::string>& to, const std::vector<std::string>& from) {
+  to.insert(to.end(), from.begin(), from.end());
+}
+
+std::string conflict_field(role_conflict::Rule rule) {
+  switch (rule) {
+    case role_conflict::Rule::weights_as_response:
+      return "weights";
+    case role_conflict::Rule::response_in_use:
+      return "use";
+    default:
+      return "drop";
+  }
+}
+
+std::string conflict_message(role_conflict::Rule rule, const std::string& column) {
+  const std::string quoted = "\"" + column + "\"";
+  switch (rule) {
+    case role_conflict::Rule::response_dropped:
+    case role_conflict::Rule::response_in_use:
+      return "the response " + quoted + " is also listed here";
+    case role_conflict::Rule::weights_as_response:
+      return "the weights column cannot be the response (" + quoted + ")";
+    case role_conflict::Rule::needed_but_dropped:
+      break;
+  }
+  return quoted +
+         " is listed here but is needed (as the weights, a referenced column or a column to use)";
+}
+
+// Position of a column the roles need as numbers; `role` names it in the
+// message ("the response", ...). The reader's lists tell why it is absent.
+Index numeric_column(const Table& table, const std::string& name, const std::string& role) {
+  const Index j = table.find(name);
+  if (j >= 0) return j;
+  const std::string quoted = "\"" + name + "\"";
+  if (listed(table.text_columns, name))
+    throw invalid_data(table.source + ": " + role + " " + quoted + " is a text column");
+  if (listed(table.skipped_columns, name))
+    throw invalid_data(table.source + ": " + role + " " + quoted +
+                       " was not read (the read options skipped it)");
+  throw invalid_data(table.source + ": no column named " + quoted + " (" + role + ")");
+}
+
+}  // namespace
+
+role_conflict::role_conflict(Rule rule, const std::string& column)
+    : invalid_option(conflict_field(rule), conflict_message(rule, column)),
+      rule_(rule),
+      column_(column) {}
+
+void ColumnRoles::validate() const {
+  using Rule = role_conflict::Rule;
+  if (listed(drop, response)) throw role_conflict(Rule::response_dropped, response);
+  if (!weights.empty() && weights == response)
+    throw role_conflict(Rule::weights_as_response, response);
+  if (listed(use, response)) throw role_conflict(Rule::response_in_use, response);
+  // The columns needed besides the response, in the order validate() documents.
+  std::vector<std::string> needed;
+  if (!weights.empty()) needed.push_back(weights);
+  append(needed, referenced);
+  append(needed, use);
+  for (const auto& name : needed)
+    if (listed(drop, name)) throw role_conflict(Rule::needed_but_dropped, name);
+}
+
+TableReadOptions ColumnRoles::read_options(TableReadOptions base) const {
+  validate();
+  // The order of each list is kept: the reader reports the first unknown
+  // name of `only`, then of `required`.
+  base.required.push_back(response);
+  if (!weights.empty()) base.required.push_back(weights);
+  append(base.required, referenced);
+  append(base.required, use);
+  if (!use.empty()) {
+    append(base.only, use);
+    base.only.push_back(response);
+    if (!weights.empty()) base.only.push_back(weights);
+  }
+  append(base.skip, drop);
+  return base;
+}
+
+ColumnAssignment assign_columns(const Table& table, const ColumnRoles& roles) {
+  roles.validate();
+  ColumnAssignment out;
+  out.response = numeric_column(table, roles.response, "the response");
+  if (!roles.weights.empty()) out.weights = numeric_column(table, roles.weights, "the weights");
+  for (const auto& name : roles.referenced) numeric_column(table, name, "the referenced column");
+  for (const auto& name : roles.use) numeric_column(table, name, "the column to use");
+  for (const auto& name : roles.drop)
+    if (table.find(name) < 0 && !listed(table.text_columns, name) &&
+        !listed(table.skipped_columns, name))
+      throw invalid_data(table.source + ": no column named \"" + name + "\" (listed in drop)");
+  // The rule: numeric columns in table order, less the response and the
+  // weights; with `use`, only those listed there or referenced; never a
+  // dropped one. Sets keep it linear in the width of wide tables.
+  const std::unordered_set<std::string> chosen = [&] {
+    std::unordered_set<std::string> s(roles.use.begin(), roles.use.end());
+    s.insert(roles.referenced.begin(), roles.referenced.end());
+    return s;
+  }();
+  const std::unordered_set<std::string> dropped(roles.drop.begin(), roles.drop.end());
+  for (std::size_t j = 0; j < table.names.size(); ++j) {
+    const std::string& name = table.names[j];
+    if (name == roles.response || name == roles.weights) continue;
+    if ((!roles.use.empty() && chosen.count(name) == 0) || dropped.count(name) != 0) {
+      out.left_out.push_back(name);
+      continue;
+    }
+    out.predictors.push_back(static_cast<Index>(j));
+    out.names.push_back(name);
+  }
+  if (out.predictors.empty())
+    throw invalid_data(table.source + ": no numeric predictor columns besides the response");
+  return out;
+}
+
+void check_assignment(const Table& table, const ColumnAssignment& columns) {
+  if (columns.names.size() != columns.predictors.size())
+    throw invalid_query("split_table: the assignment has " +
+                        std::to_string(columns.predictors.size()) + " predictors but " +
+                        std::to_string(columns.names.size()) + " names");
+  std::vector<char> claimed(table.columns.size(), 0);
+  auto claim = [&](Index j, const char* role) {
+    const std::size_t k = table.checked_column(j, "split_table");
+    const std::string which = "split_table: column \"" + table.names[k] + "\" (" + role + ")";
+    if (table.columns[k].size() != table.rows) throw invalid_query(which + " was already taken");
+    if (claimed[k]++ != 0) throw invalid_query(which + " plays two roles");
+  };
+  claim(columns.response, "the response");
+  if (columns.weights >= 0) claim(columns.weights, "the weights");
+  for (Index j : columns.predictors) claim(j, "a predictor");
 }
 
 }  // namespace knotpath::io

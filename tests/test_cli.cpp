@@ -21,6 +21,8 @@
 
 #include <knotpath/demo.hpp>
 #include <knotpath/io/report.hpp>
+#include <knotpath/io/roles.hpp>
+#include <knotpath/io/table.hpp>
 
 #include "cli_runner.hpp"
 #include "test_support.hpp"
@@ -204,6 +206,95 @@ TEST_F(Cli, ModelOptionsReachTheLibrary) {
     x << p.x.col(0), p.x.col(2), p.x.col(4);
     const auto path = knotpath::trace<double>(x, p.y, o);
     expect_same_path(read_knots(slurp(file("k3.csv"))), path, {"x0", "x2", "x4"});
+  }
+}
+
+// The program chooses its predictors by the library's rule (io/roles.hpp):
+// a table read with ColumnRoles::read_options and split by the same roles
+// gives the names, order, design, response and weights the program traced.
+TEST_F(Cli, TheLibrarysSplitIsWhatTheProgramTraces) {
+  const auto p = small_problem();
+  const Vector<double> w = small_weights(p.x.rows());
+  write_problem(file("t.csv"), p, w);
+  {
+    // --use in its own order, a penalty factor naming a column outside it.
+    Outcome r =
+        run("trace t.csv --response y --weights w --use x4,x0,x2 --penalty-factor x3=2 "
+            "--knots k.csv");
+    ASSERT_EQ(r.code, 0) << r.err;
+    knotpath::io::ColumnRoles roles;
+    roles.response = "y";
+    roles.weights = "w";
+    roles.use = {"x4", "x0", "x2"};
+    roles.referenced = {"x3"};
+    knotpath::io::Table table =
+        knotpath::io::read_table(file("t.csv").string(), roles.read_options());
+    const knotpath::io::TableSplit split = knotpath::io::split_table(table, roles);
+    ASSERT_EQ(split.names, (std::vector<std::string>{"x0", "x2", "x3", "x4"}));
+    Matrix<double> x(p.x.rows(), 4);
+    x << p.x.col(0), p.x.col(2), p.x.col(3), p.x.col(4);
+    EXPECT_EQ(split.x, x);  // 17 significant digits round-trip (see kSameComputation)
+    EXPECT_EQ(split.y, p.y);
+    EXPECT_EQ(split.weights, w);
+    knotpath::TraceOptions o;
+    o.penalty_factors = {1, 1, 2, 1};
+    const auto path = knotpath::trace<double>(split.x, split.y, o, split.weights);
+    expect_same_path(read_knots(slurp(file("k.csv"))), path, split.names);
+  }
+  {
+    // Unweighted with --drop: the w column is a predictor like the others.
+    Outcome r = run("trace t.csv --response y --drop x1,x5 --knots k2.csv");
+    ASSERT_EQ(r.code, 0) << r.err;
+    knotpath::io::ColumnRoles roles;
+    roles.response = "y";
+    roles.drop = {"x1", "x5"};
+    knotpath::io::Table table =
+        knotpath::io::read_table(file("t.csv").string(), roles.read_options());
+    const knotpath::io::TableSplit split = knotpath::io::split_table(table, roles);
+    ASSERT_EQ(split.names, (std::vector<std::string>{"x0", "x2", "x3", "x4", "w"}));
+    EXPECT_EQ(split.weights.size(), 0);
+    const auto path = knotpath::trace<double>(split.x, split.y);
+    expect_same_path(read_knots(slurp(file("k2.csv"))), path, split.names);
+  }
+}
+
+// The program words the library's role conflicts (io::role_conflict) and
+// data errors in its own terms, with their exit statuses; when a command
+// line has two faults, the one reported is the one it always reported.
+TEST_F(Cli, ColumnRoleErrorsKeepTheirMessagesAndStatuses) {
+  spit(file("t.csv"), "a,b,y,w\n1,2,3,1\n2,1,5,2\n3,5,4,1\n");
+  spit(file("yw.csv"), "y,w\n1,2\n2,1\n3,5\n");
+  struct Case {
+    std::string args, message;
+    int code;
+  };
+  const std::vector<Case> cases = {
+      {"t.csv --response y --drop b,y", "the response \"y\" is also listed in --drop", 2},
+      {"t.csv --response y --weights y", "the weights column cannot be the response", 2},
+      {"t.csv --response y --use a,y", "the response \"y\" is also listed in --use", 2},
+      {"t.csv --response y --weights w --drop w",
+       "\"w\" is listed in --drop and used by another option", 2},
+      {"t.csv --response y --use a --drop a",
+       "\"a\" is listed in --drop and used by another option", 2},
+      {"t.csv --response y --penalty-factor a=2 --drop a",
+       "\"a\" is listed in --drop and used by another option", 2},
+      {"t.csv --response y --weights w --drop w --nonnegative a --nonpositive a",
+       "\"a\" is listed in both --nonnegative and --nonpositive", 2},
+      {"t.csv --response y --drop y --nonnegative a --nonpositive a",
+       "the response \"y\" is also listed in --drop", 2},
+      {"t.csv --response y --weights w --penalty-factor w=2",
+       "\"w\" is not a predictor (it is the response or the weights)", 2},
+      {"yw.csv --response y --weights w",
+       "yw.csv: no numeric predictor columns besides the response", 3},
+      {"t.csv --response y --weights w --use w",
+       "t.csv: no numeric predictor columns besides the response", 3},
+  };
+  for (const auto& c : cases) {
+    SCOPED_TRACE(c.args);
+    Outcome r = run("trace " + c.args);
+    EXPECT_EQ(r.code, c.code);
+    EXPECT_EQ(r.err, "knotpath: " + c.message + "\n");
+    EXPECT_EQ(r.out, "");
   }
 }
 

@@ -7,18 +7,24 @@
 
 #include <gtest/gtest.h>
 
+#include <optional>
 #include <sstream>
 #include <string>
 
+#include <knotpath/io/roles.hpp>
 #include <knotpath/io/table.hpp>
 
 namespace {
 
+using knotpath::io::ColumnAssignment;
+using knotpath::io::ColumnRoles;
 using knotpath::io::MissingCells;
 using knotpath::io::read_table;
+using knotpath::io::role_conflict;
 using knotpath::io::Table;
 using knotpath::io::table_error;
 using knotpath::io::TableReadOptions;
+using knotpath::io::TableSplit;
 
 Table read_text(const std::string& text, const TableReadOptions& options = {}) {
   std::istringstream in(text);
@@ -237,6 +243,228 @@ TEST(TableReader, UnreadableFileIsAnInputOutputError) {
   } catch (const table_error& e) {
     EXPECT_EQ(e.kind(), table_error::Kind::input_output);
   }
+}
+
+// ---- Column roles and the split (io/roles.hpp) ----
+
+// A table with a text column, the response in the middle and a weights column.
+const char* const kRolesTable =
+    "a,city,b,y,c,w,d\n"
+    "1,Oslo,10,5,100,1,1000\n"
+    "2,Bergen,20,6,200,2,2000\n"
+    "3,Tromso,30,8,300,0.5,3000\n";
+
+ColumnRoles roles_of(std::string response, std::string weights = "") {
+  ColumnRoles r;
+  r.response = std::move(response);
+  r.weights = std::move(weights);
+  return r;
+}
+
+// The conflict validate() reports, or none.
+std::optional<role_conflict> conflict_of(const ColumnRoles& roles) {
+  try {
+    roles.validate();
+  } catch (const role_conflict& e) {
+    return e;
+  }
+  return std::nullopt;
+}
+
+// The data error assign_columns reports (its detail()), or "" for none.
+std::string data_error_of(const Table& table, const ColumnRoles& roles) {
+  try {
+    knotpath::io::assign_columns(table, roles);
+  } catch (const knotpath::invalid_data& e) {
+    return e.detail();
+  }
+  return "";
+}
+
+TEST(ColumnRoles, PredictorsAreTheOtherNumericColumnsInTableOrder) {
+  Table t = read_text(kRolesTable);
+  const ColumnAssignment a = knotpath::io::assign_columns(t, roles_of("y", "w"));
+  EXPECT_EQ(a.names, (std::vector<std::string>{"a", "b", "c", "d"}));
+  EXPECT_EQ(a.predictors, (std::vector<knotpath::Index>{0, 1, 3, 5}));
+  EXPECT_EQ(a.response, 2);
+  EXPECT_EQ(a.weights, 4);
+  EXPECT_TRUE(a.left_out.empty());
+  // Unweighted, w is a predictor like any other column.
+  const ColumnAssignment u = knotpath::io::assign_columns(t, roles_of("y"));
+  EXPECT_EQ(u.names, (std::vector<std::string>{"a", "b", "c", "w", "d"}));
+  EXPECT_EQ(u.weights, -1);
+}
+
+TEST(ColumnRoles, UseAndDropChooseThePredictorsInTableOrder) {
+  Table t = read_text(kRolesTable);
+  ColumnRoles r = roles_of("y", "w");
+  r.use = {"d", "a"};  // the table's order is kept, not this list's
+  ColumnAssignment a = knotpath::io::assign_columns(t, r);
+  EXPECT_EQ(a.names, (std::vector<std::string>{"a", "d"}));
+  EXPECT_EQ(a.left_out, (std::vector<std::string>{"b", "c"}));
+  // A referenced column joins `use`; the weights never become a predictor.
+  r.referenced = {"c"};
+  r.use.push_back("w");
+  a = knotpath::io::assign_columns(t, r);
+  EXPECT_EQ(a.names, (std::vector<std::string>{"a", "c", "d"}));
+  // Without `use`, `drop` takes columns away and `referenced` adds nothing.
+  ColumnRoles d = roles_of("y");
+  d.drop = {"w", "b"};
+  d.referenced = {"a"};
+  a = knotpath::io::assign_columns(t, d);
+  EXPECT_EQ(a.names, (std::vector<std::string>{"a", "c", "d"}));
+  EXPECT_EQ(a.left_out, (std::vector<std::string>{"b", "w"}));
+}
+
+TEST(ColumnRoles, ReadOptionsReadWhatTheSplitUsesAndTheSplitIsTheSame) {
+  ColumnRoles r = roles_of("y", "w");
+  r.use = {"d", "b"};
+  r.referenced = {"a"};
+  r.drop = {"c"};
+  TableReadOptions base;
+  base.missing = MissingCells::drop;
+  const TableReadOptions o = r.read_options(base);
+  EXPECT_EQ(o.missing, MissingCells::drop);
+  EXPECT_EQ(o.required, (std::vector<std::string>{"y", "w", "a", "d", "b"}));
+  EXPECT_EQ(o.only, (std::vector<std::string>{"d", "b", "y", "w"}));
+  EXPECT_EQ(o.skip, (std::vector<std::string>{"c"}));
+  EXPECT_TRUE(roles_of("y").read_options().only.empty()) << "no `use`: every column is read";
+  // Read with the roles' options or read whole, the split is the same.
+  Table narrow = read_text(kRolesTable, o);
+  Table whole = read_text(kRolesTable);
+  EXPECT_EQ(narrow.skipped_columns, (std::vector<std::string>{"city", "c"}));
+  const TableSplit s = knotpath::io::split_table(narrow, r);
+  const TableSplit w = knotpath::io::split_table(whole, r);
+  EXPECT_EQ(s.names, (std::vector<std::string>{"a", "b", "d"}));
+  EXPECT_EQ(w.names, s.names);
+  EXPECT_EQ(s.x, w.x);
+  EXPECT_EQ(s.y, w.y);
+  EXPECT_EQ(s.weights, w.weights);
+  EXPECT_TRUE(s.left_out.empty());
+  EXPECT_EQ(w.left_out, (std::vector<std::string>{"c"}));
+}
+
+TEST(ColumnRoles, SplitMovesTheValuesOutOfTheTable) {
+  Table t = read_text(kRolesTable);
+  ColumnRoles r = roles_of("y", "w");
+  r.drop = {"c"};
+  const TableSplit s = knotpath::io::split_table(t, r);
+  knotpath::Matrix<double> x(3, 3);
+  x << 1, 10, 1000, 2, 20, 2000, 3, 30, 3000;
+  EXPECT_EQ(s.x, x);
+  EXPECT_EQ(s.y, (knotpath::Vector<double>(3) << 5, 6, 8).finished());
+  EXPECT_EQ(s.weights, (knotpath::Vector<double>(3) << 1, 2, 0.5).finished());
+  EXPECT_EQ(s.names, (std::vector<std::string>{"a", "b", "d"}));
+  EXPECT_EQ(s.left_out, (std::vector<std::string>{"c"}));
+  // The used columns were moved (their blocks freed); the unused one stays.
+  EXPECT_EQ(t.columns[0].size(), 0u);
+  EXPECT_EQ(t.columns[2].size(), 0u);
+  EXPECT_EQ(t.columns[4].size(), 0u);
+  EXPECT_EQ(t.column_vector(3)(2), 300.0);
+  // A second split finds its columns taken and moves nothing.
+  EXPECT_THROW(knotpath::io::split_table(t, r), knotpath::invalid_query);
+  EXPECT_EQ(t.columns[3].size(), 3u);
+  // Unweighted: the weights are empty.
+  Table u = read_text(kRolesTable);
+  EXPECT_EQ(knotpath::io::split_table(u, roles_of("y")).weights.size(), 0);
+}
+
+TEST(ColumnRoles, ContradictionsAreReportedInTheirOrder) {
+  using Rule = role_conflict::Rule;
+  ColumnRoles r = roles_of("y", "w");
+  EXPECT_FALSE(conflict_of(r).has_value());
+  r.drop = {"y"};
+  ASSERT_TRUE(conflict_of(r).has_value());
+  EXPECT_EQ(conflict_of(r)->rule(), Rule::response_dropped);
+  EXPECT_EQ(conflict_of(r)->column(), "y");
+  EXPECT_EQ(conflict_of(r)->field(), "drop");
+  r.weights = "y";  // still the drop rule first
+  EXPECT_EQ(conflict_of(r)->rule(), Rule::response_dropped);
+  r.drop.clear();
+  EXPECT_EQ(conflict_of(r)->rule(), Rule::weights_as_response);
+  EXPECT_EQ(conflict_of(r)->field(), "weights");
+  r.weights = "w";
+  r.use = {"a", "y"};
+  EXPECT_EQ(conflict_of(r)->rule(), Rule::response_in_use);
+  EXPECT_EQ(conflict_of(r)->field(), "use");
+  r.use = {"a", "b"};
+  r.referenced = {"c"};
+  r.drop = {"b", "c", "w"};  // weights, then referenced, then use
+  EXPECT_EQ(conflict_of(r)->rule(), Rule::needed_but_dropped);
+  EXPECT_EQ(conflict_of(r)->column(), "w");
+  r.drop = {"b", "c"};
+  EXPECT_EQ(conflict_of(r)->column(), "c");
+  r.drop = {"b"};
+  EXPECT_EQ(conflict_of(r)->column(), "b");
+  // Every step that takes roles checks them first, with the library's exception.
+  Table t = read_text(kRolesTable);
+  EXPECT_THROW(r.read_options(), knotpath::invalid_option);
+  EXPECT_THROW(knotpath::io::assign_columns(t, r), role_conflict);
+  EXPECT_THROW(knotpath::io::split_table(t, r), knotpath::invalid_option);
+  EXPECT_EQ(t.columns[0].size(), 3u) << "nothing moved";
+}
+
+TEST(ColumnRoles, MissingTextOrUnreadColumnsAreDataErrors) {
+  Table t = read_text(kRolesTable);
+  EXPECT_EQ(data_error_of(t, roles_of("z")), "t.csv: no column named \"z\" (the response)");
+  EXPECT_EQ(data_error_of(t, roles_of("city")), "t.csv: the response \"city\" is a text column");
+  EXPECT_EQ(data_error_of(t, roles_of("y", "city")),
+            "t.csv: the weights \"city\" is a text column");
+  ColumnRoles r = roles_of("y");
+  r.use = {"a", "q"};
+  EXPECT_EQ(data_error_of(t, r), "t.csv: no column named \"q\" (the column to use)");
+  r.use.clear();
+  r.referenced = {"city"};
+  EXPECT_EQ(data_error_of(t, r), "t.csv: the referenced column \"city\" is a text column");
+  r.referenced.clear();
+  r.drop = {"nothing"};
+  EXPECT_EQ(data_error_of(t, r), "t.csv: no column named \"nothing\" (listed in drop)");
+  r.drop = {"city"};  // a text column may be dropped
+  EXPECT_EQ(data_error_of(t, r), "");
+  // A column the read options skipped cannot take a role.
+  TableReadOptions skip_b;
+  skip_b.skip = {"b"};
+  Table narrow = read_text(kRolesTable, skip_b);
+  EXPECT_EQ(data_error_of(narrow, roles_of("b")),
+            "t.csv: the response \"b\" was not read (the read options skipped it)");
+  // No predictor left.
+  Table two = read_text("y,w\n1,2\n3,4\n");
+  EXPECT_EQ(data_error_of(two, roles_of("y", "w")),
+            "t.csv: no numeric predictor columns besides the response");
+  ColumnRoles only_w = roles_of("y", "w");
+  only_w.use = {"w"};
+  EXPECT_EQ(data_error_of(t, only_w), "t.csv: no numeric predictor columns besides the response");
+}
+
+TEST(ColumnRoles, AnAssignmentThatDoesNotFitIsRefusedBeforeAnythingMoves) {
+  Table t = read_text(kRolesTable);
+  ColumnAssignment a = knotpath::io::assign_columns(t, roles_of("y", "w"));
+  ColumnAssignment twice = a;
+  twice.predictors.back() = twice.response;  // the response as a predictor too
+  EXPECT_THROW(knotpath::io::check_assignment(t, twice), knotpath::invalid_query);
+  EXPECT_THROW(knotpath::io::split_table(t, twice), knotpath::invalid_query);
+  ColumnAssignment outside = a;
+  outside.predictors.push_back(42);
+  outside.names.emplace_back("far");
+  EXPECT_THROW(knotpath::io::split_table(t, outside), knotpath::invalid_query);
+  ColumnAssignment unnamed = a;
+  unnamed.names.pop_back();
+  EXPECT_THROW(knotpath::io::split_table(t, unnamed), knotpath::invalid_query);
+  for (const auto& c : t.columns) EXPECT_EQ(c.size(), 3u) << "a refused split moved a column";
+  // The fitting assignment, less one predictor, splits.
+  a.predictors.pop_back();
+  a.names.pop_back();
+  const TableSplit s = knotpath::io::split_table(t, a);
+  EXPECT_EQ(s.names, (std::vector<std::string>{"a", "b", "c"}));
+  EXPECT_EQ(t.column_vector(5)(0), 1000.0);
+}
+
+TEST(TableReader, TakeVectorMovesOneColumn) {
+  Table t = read_text("a,b\n1,2\n3,4\n");
+  EXPECT_EQ(t.take_vector(1), (knotpath::Vector<double>(2) << 2, 4).finished());
+  EXPECT_THROW(t.take_vector(1), knotpath::invalid_query);  // already taken
+  EXPECT_THROW(t.take_vector(2), knotpath::invalid_query);  // no such column
+  EXPECT_EQ(t.column_vector(0)(1), 3.0);
 }
 
 }  // namespace

@@ -29,7 +29,7 @@ STAGES = [
     ("trace front end", ["trace.hpp", "solver.hpp"]),
     ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
                                          "inference.hpp", "precision.hpp"]),
-    ("io", ["io/table.hpp", "io/report.hpp", "io/charts.hpp"]),
+    ("io", ["io/table.hpp", "io/roles.hpp", "io/report.hpp", "io/charts.hpp"]),
     ("umbrella", ["knotpath.hpp"]),
 ]
 

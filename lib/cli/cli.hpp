@@ -18,6 +18,7 @@
 #include <CLI/CLI.hpp>
 
 #include <knotpath/io/report.hpp>
+#include <knotpath/io/roles.hpp>
 #include <knotpath/io/table.hpp>
 #include <knotpath/knotpath.hpp>
 
@@ -102,7 +103,7 @@ class Progress;
 struct LoadedTable {
   io::Table table;                       ///< numeric columns (with decimal text when kept)
   TraceOptions options;                  ///< validated for the predictors below
-  std::vector<Index> predictor_columns;  ///< table columns used as predictors, in order
+  io::ColumnAssignment columns;          ///< positions of the roles (predictors in order)
   io::RunContext context;                ///< what the reports say about the data
   std::string shown_name;                ///< file name or "<stdin>"
   std::shared_ptr<Progress> progress;    ///< the progress line, kept for the trace

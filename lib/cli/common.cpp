@@ -180,14 +180,40 @@ Factor parse_factor(const std::string& item) {
   return {name, value};
 }
 
-// Contradictions among the model options that need no table to see.
-void check_model_options(const ModelArgs& args) {
-  if (contains(args.drop, args.response))
-    throw failure(exit_usage, "the response \"" + args.response + "\" is also listed in --drop");
-  if (!args.weights.empty() && args.weights == args.response)
-    throw failure(exit_usage, "the weights column cannot be the response");
-  if (contains(args.use, args.response))
-    throw failure(exit_usage, "the response \"" + args.response + "\" is also listed in --use");
+// The roles of the table's columns the model options give: the names the
+// penalty factors and sign lists refer to are the roles' `referenced`.
+io::ColumnRoles column_roles(const ModelArgs& args, const std::vector<Factor>& factors) {
+  io::ColumnRoles roles;
+  roles.response = args.response;
+  roles.weights = args.weights;
+  roles.use = args.use;
+  roles.drop = args.drop;
+  for (const auto& [name, value] : factors) roles.referenced.push_back(name);
+  for (const auto& name : args.nonnegative)
+    if (name != "all") roles.referenced.push_back(name);
+  for (const auto& name : args.nonpositive)
+    if (name != "all") roles.referenced.push_back(name);
+  return roles;
+}
+
+// The program's wording of a contradiction among the column roles.
+std::string role_message(const io::role_conflict& e) {
+  const std::string& name = e.column();
+  switch (e.rule()) {
+    case io::role_conflict::Rule::response_dropped:
+      return "the response \"" + name + "\" is also listed in --drop";
+    case io::role_conflict::Rule::weights_as_response:
+      return "the weights column cannot be the response";
+    case io::role_conflict::Rule::response_in_use:
+      return "the response \"" + name + "\" is also listed in --use";
+    case io::role_conflict::Rule::needed_but_dropped:
+      break;
+  }
+  return "\"" + name + "\" is listed in --drop and used by another option";
+}
+
+// Contradictions among --nonnegative and --nonpositive.
+void check_sign_lists(const ModelArgs& args) {
   for (const auto& name : args.nonnegative)
     if (contains(args.nonpositive, name))
       throw failure(exit_usage,
@@ -202,33 +228,30 @@ void check_model_options(const ModelArgs& args) {
                   "\"all\" in --nonnegative/--nonpositive cannot be combined with names");
 }
 
-// How to read the table: names the options mention must be columns
-// (checked by the reader), --use and --drop choose the columns read.
-io::TableReadOptions read_options(const ModelArgs& args, const std::vector<Factor>& factors,
+// Contradictions among the model options that need no table to see. The
+// sign lists are checked after the roles' first three rules and before a
+// needed column found in --drop, the order the program has always had, so
+// that a command line with two faults keeps reporting the same one.
+void check_model_options(const io::ColumnRoles& roles, const ModelArgs& args) {
+  try {
+    roles.validate();
+  } catch (const io::role_conflict& e) {
+    if (e.rule() == io::role_conflict::Rule::needed_but_dropped) check_sign_lists(args);
+    throw failure(exit_usage, role_message(e));
+  }
+  check_sign_lists(args);
+}
+
+// How to read the table: the roles name the columns that must be numeric
+// (checked by the reader) and choose, with --use and --drop, the ones read.
+io::TableReadOptions read_options(const ModelArgs& args, const io::ColumnRoles& roles,
                                   bool keep_decimal_text) {
   io::TableReadOptions read;
   read.delimiter = delimiter_char(args.delimiter);
   read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
   read.max_columns = args.max_columns;
-  read.required.push_back(args.response);
-  if (!args.weights.empty()) read.required.push_back(args.weights);
-  for (const auto& [name, value] : factors) read.required.push_back(name);
-  for (const auto& name : args.nonnegative)
-    if (name != "all") read.required.push_back(name);
-  for (const auto& name : args.nonpositive)
-    if (name != "all") read.required.push_back(name);
-  for (const auto& name : args.use) read.required.push_back(name);
-  read.only = args.use;
-  if (!read.only.empty()) {
-    read.only.push_back(args.response);
-    if (!args.weights.empty()) read.only.push_back(args.weights);
-  }
-  read.skip = args.drop;
-  for (const auto& name : read.required)
-    if (contains(args.drop, name))
-      throw failure(exit_usage, "\"" + name + "\" is listed in --drop and used by another option");
   read.keep_decimal_text = keep_decimal_text;
-  return read;
+  return roles.read_options(std::move(read));
 }
 
 // Reads the table, reporting progress on the loaded table's progress line.
@@ -246,28 +269,25 @@ void read_with_progress(LoadedTable& out, const std::string& table_path, io::Tab
   out.table = io::read_table(table_path, read);
 }
 
-// What the reports say about the data, and the predictor columns: every
-// numeric column but the response and the weights, in table order.
-void describe_columns(LoadedTable& out, const ModelArgs& args) {
+// What the reports say about the data, and the columns' roles: the
+// predictors are chosen by the library's rule (io::assign_columns).
+void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
   const io::Table& table = out.table;
+  try {
+    out.columns = io::assign_columns(table, roles);
+  } catch (const invalid_data& e) {
+    throw failure(exit_bad_input, e.detail());
+  }
   io::RunContext& context = out.context;
   context.source = table.source;
-  context.response = args.response;
+  context.response = roles.response;
   context.rows_read = table.rows;
   context.rows_dropped = table.dropped_rows;
   context.text_columns = table.text_columns;
   context.unused_columns = table.skipped_columns;
   context.program_version = version();
-  if (!args.weights.empty()) context.weights = args.weights;
-  for (std::size_t j = 0; j < table.names.size(); ++j) {
-    const std::string& name = table.names[j];
-    if (name == args.response || name == args.weights) continue;
-    out.predictor_columns.push_back(static_cast<Index>(j));
-    context.predictor_names.push_back(name);
-  }
-  if (out.predictor_columns.empty())
-    throw failure(exit_bad_input,
-                  table.source + ": no numeric predictor columns besides the response");
+  if (!roles.weights.empty()) context.weights = roles.weights;
+  context.predictor_names = out.columns.names;
 }
 
 // The trace options of the model arguments for these predictors, validated.
@@ -362,11 +382,12 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
                        bool keep_decimal_text) {
   std::vector<Factor> factors;
   for (const auto& item : args.penalty_factors) factors.push_back(parse_factor(item));
-  check_model_options(args);
-  const io::TableReadOptions read = read_options(args, factors, keep_decimal_text);
+  const io::ColumnRoles roles = column_roles(args, factors);
+  check_model_options(roles, args);
+  const io::TableReadOptions read = read_options(args, roles, keep_decimal_text);
   LoadedTable out;
   read_with_progress(out, table_path, read, global);
-  describe_columns(out, args);
+  describe_columns(out, roles);
   out.options = trace_options(args, factors, out.context.predictor_names);
   return out;
 }
@@ -374,7 +395,7 @@ LoadedTable load_table(const std::string& table_path, const ModelArgs& args, con
 TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
                         const Global& global) {
   LoadedTable loaded = load_table(table_path, args, global, false);
-  const TableData<double> d = table_data<double>(loaded, args);
+  const TableData<double> d = table_data<double>(loaded);
   loaded.table = io::Table();  // free what is left before the trace copies the design
   refuse_nothing_to_trace(d, loaded.options, loaded.shown_name, args.response);
   TracedTable out;

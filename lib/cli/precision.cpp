@@ -75,9 +75,8 @@ int with_arithmetic(Arithmetic arithmetic, F&& f) {
 }
 
 template <class Scalar>
-int trace_in(LoadedTable& loaded, const ModelArgs& model, const std::string& knots_file,
-             const std::string& json_file) {
-  const Path<Scalar> path = trace_loaded<Scalar>(loaded, model);
+int trace_in(LoadedTable& loaded, const std::string& knots_file, const std::string& json_file) {
+  const Path<Scalar> path = trace_loaded<Scalar>(loaded);
   loaded.progress.reset();  // the progress line ends before the audit is printed
   require_finite_path(path);
   std::cout << io::audit_text(path, loaded.context);
@@ -98,8 +97,8 @@ Scalar parse_point(const std::string& text, const char* option) {
 }
 
 template <class Scalar>
-int at_in(LoadedTable& loaded, const ModelArgs& model, const PointArgs& point, bool csv) {
-  const Path<Scalar> path = trace_loaded<Scalar>(loaded, model);
+int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
+  const Path<Scalar> path = trace_loaded<Scalar>(loaded);
   loaded.progress.reset();
   require_finite_path(path);
   Solution<Scalar> solution;
@@ -164,7 +163,7 @@ int trace_with_precision(const std::string& table, const ModelArgs& model,
   LoadedTable loaded = load_table(table, model, global, true);
   return with_arithmetic(arithmetic_of(precision), [&](auto zero) {
     using Scalar = decltype(zero);
-    return trace_in<Scalar>(loaded, model, knots_file, json_file);
+    return trace_in<Scalar>(loaded, knots_file, json_file);
   });
 }
 
@@ -175,7 +174,7 @@ int at_with_precision(const std::string& table, const ModelArgs& model,
   LoadedTable loaded = load_table(table, model, global, true);
   return with_arithmetic(arithmetic_of(precision), [&](auto zero) {
     using Scalar = decltype(zero);
-    return at_in<Scalar>(loaded, model, point, csv);
+    return at_in<Scalar>(loaded, point, csv);
   });
 }
 

@@ -86,6 +86,47 @@ struct SelectData {
   std::shared_ptr<Progress> progress;
 };
 
+// Reads the fold labels of --fold-column and takes the fold column out of
+// the predictors (their positions and names, and the options' per-predictor
+// lists), which must keep at least one.
+void set_folds_aside(SelectData& out, io::ColumnAssignment& columns, const io::Table& table,
+                     const std::string& fold_name) {
+  const Index at = table.find(fold_name);
+  if (at < 0) {
+    const auto& text = table.text_columns;
+    if (std::find(text.begin(), text.end(), fold_name) != text.end())
+      throw failure(exit_bad_input,
+                    out.shown_name + ": the fold column \"" + fold_name + "\" is not numeric");
+    throw failure(exit_bad_input,
+                  out.shown_name + ": no column named \"" + fold_name + "\" (--fold-column)");
+  }
+  out.fold_of = folds_from_column(table.column_vector(at), fold_name, out.shown_name);
+  // The fold column is no predictor: take it out of the columns and options.
+  auto& positions = columns.predictors;
+  const auto k = static_cast<std::size_t>(std::find(positions.begin(), positions.end(), at) -
+                                          positions.begin());
+  if (k < positions.size()) {
+    const auto at_k = static_cast<std::ptrdiff_t>(k);
+    positions.erase(positions.begin() + at_k);
+    columns.names.erase(columns.names.begin() + at_k);
+    auto& names = out.context.predictor_names;
+    names.erase(names.begin() + at_k);
+    auto& factors = out.options.penalty_factors;
+    if (factors.size() == names.size() + 1) factors.erase(factors.begin() + at_k);
+    auto& signs = out.options.sign_constraints;
+    if (signs.size() == names.size() + 1) signs.erase(signs.begin() + at_k);
+  }
+  if (positions.empty())
+    throw failure(
+        exit_bad_input,
+        out.shown_name + ": no numeric predictor columns besides the response and the folds");
+  try {
+    out.options.validate(positions.size());
+  } catch (const invalid_option& e) {
+    throw failure(exit_usage, e.what());
+  }
+}
+
 SelectData read_select_data(const SelectArgs& args, const Global& global) {
   ModelArgs model = args.model;
   const std::string& fold_name = args.fold_column;
@@ -105,46 +146,13 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
   io::Table& table = loaded.table;
   out.options = loaded.options;
   out.context = std::move(loaded.context);
-  std::vector<Index> columns = loaded.predictor_columns;
+  io::ColumnAssignment columns = loaded.columns;
 
-  if (!fold_name.empty()) {
-    const Index at = table.find(fold_name);
-    if (at < 0) {
-      const auto& text = table.text_columns;
-      if (std::find(text.begin(), text.end(), fold_name) != text.end())
-        throw failure(exit_bad_input,
-                      out.shown_name + ": the fold column \"" + fold_name + "\" is not numeric");
-      throw failure(exit_bad_input,
-                    out.shown_name + ": no column named \"" + fold_name + "\" (--fold-column)");
-    }
-    out.fold_of = folds_from_column(table.column_vector(at), fold_name, out.shown_name);
-    // The fold column is no predictor: take it out of the columns and options.
-    const auto k =
-        static_cast<std::size_t>(std::find(columns.begin(), columns.end(), at) - columns.begin());
-    if (k < columns.size()) {
-      columns.erase(columns.begin() + static_cast<std::ptrdiff_t>(k));
-      auto& names = out.context.predictor_names;
-      names.erase(names.begin() + static_cast<std::ptrdiff_t>(k));
-      auto& factors = out.options.penalty_factors;
-      if (factors.size() == names.size() + 1)
-        factors.erase(factors.begin() + static_cast<std::ptrdiff_t>(k));
-      auto& signs = out.options.sign_constraints;
-      if (signs.size() == names.size() + 1)
-        signs.erase(signs.begin() + static_cast<std::ptrdiff_t>(k));
-    }
-    if (columns.empty())
-      throw failure(
-          exit_bad_input,
-          out.shown_name + ": no numeric predictor columns besides the response and the folds");
-    try {
-      out.options.validate(columns.size());
-    } catch (const invalid_option& e) {
-      throw failure(exit_usage, e.what());
-    }
-  }
-  out.y = table.column_vector(table.find(model.response));
-  if (!model.weights.empty()) out.w = table.column_vector(table.find(model.weights));
-  out.x = table.take_matrix(columns);
+  if (!fold_name.empty()) set_folds_aside(out, columns, table, fold_name);
+  io::TableSplit split = io::split_table(table, std::move(columns));
+  out.y = std::move(split.y);
+  out.w = std::move(split.weights);
+  out.x = std::move(split.x);
   table = io::Table();
 
   // As trace: data with nothing to trace are refused.

@@ -10,6 +10,7 @@
 #include <functional>
 #include <string>
 #include <type_traits>
+#include <utility>
 #include <vector>
 
 #include <fmt/format.h>
@@ -57,24 +58,27 @@ struct TableData {
   Vector<Scalar> y, w;  ///< w empty: unweighted
 };
 
-/// Takes the data out of a loaded table. For double the reader's values
-/// are moved out of the table (the predictor columns are left empty); for
-/// every other arithmetic the decimal text (LoadedTable read with
+/// Takes the data out of a loaded table, by the positions of its roles. For
+/// double the reader's values are moved out of the table (io::split_table:
+/// the response, weights and predictor columns are left empty); for every
+/// other arithmetic the decimal text (LoadedTable read with
 /// keep_decimal_text) is parsed exactly and the table is left as it was.
 template <class Scalar>
-TableData<Scalar> table_data(LoadedTable& loaded, const ModelArgs& args) {
-  io::Table& table = loaded.table;
+TableData<Scalar> table_data(LoadedTable& loaded) {
+  const io::ColumnAssignment& columns = loaded.columns;
   TableData<Scalar> d;
   if constexpr (std::is_same_v<Scalar, double>) {
-    d.y = table.column_vector(table.find(args.response));
-    if (!args.weights.empty()) d.w = table.column_vector(table.find(args.weights));
-    d.x = table.take_matrix(loaded.predictor_columns);
+    io::TableSplit split = io::split_table(loaded.table, columns);
+    d.x = std::move(split.x);
+    d.y = std::move(split.y);
+    d.w = std::move(split.weights);
   } else {
-    d.y = exact_column<Scalar>(loaded, table.find(args.response));
-    if (!args.weights.empty()) d.w = exact_column<Scalar>(loaded, table.find(args.weights));
-    d.x.resize(static_cast<Index>(table.rows), static_cast<Index>(loaded.predictor_columns.size()));
-    for (std::size_t k = 0; k < loaded.predictor_columns.size(); ++k)
-      d.x.col(static_cast<Index>(k)) = exact_column<Scalar>(loaded, loaded.predictor_columns[k]);
+    d.y = exact_column<Scalar>(loaded, columns.response);
+    if (columns.weights >= 0) d.w = exact_column<Scalar>(loaded, columns.weights);
+    d.x.resize(static_cast<Index>(loaded.table.rows),
+               static_cast<Index>(columns.predictors.size()));
+    for (std::size_t k = 0; k < columns.predictors.size(); ++k)
+      d.x.col(static_cast<Index>(k)) = exact_column<Scalar>(loaded, columns.predictors[k]);
   }
   return d;
 }
@@ -105,8 +109,8 @@ Path<Scalar> trace_table_data(const LoadedTable& loaded, const TableData<Scalar>
 /// Traces a loaded table in Scalar (table_data, then trace_table_data with
 /// a status that names the arithmetic).
 template <class Scalar>
-Path<Scalar> trace_loaded(LoadedTable& loaded, const ModelArgs& args) {
-  const TableData<Scalar> d = table_data<Scalar>(loaded, args);
+Path<Scalar> trace_loaded(LoadedTable& loaded) {
+  const TableData<Scalar> d = table_data<Scalar>(loaded);
   return trace_table_data(loaded, d,
                           fmt::format("tracing the path in {} ({} rows, {} predictors)",
                                       io::arithmetic_name<Scalar>(), d.x.rows(), d.x.cols()));

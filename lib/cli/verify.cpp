@@ -208,8 +208,8 @@ template <class High>
 int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
   // The high-precision path first: it reads the decimal text; the double
   // trace then moves the reader's doubles out of the table.
-  const Path<High> high = trace_loaded<High>(loaded, args.model);
-  const Path<double> low = trace_loaded<double>(loaded, args.model);
+  const Path<High> high = trace_loaded<High>(loaded);
+  const Path<double> low = trace_loaded<double>(loaded);
   loaded.progress.reset();
   Comparison c;
   c.high_name = io::arithmetic_name<High>();

@@ -143,6 +143,9 @@ struct Table {
   /// Moves the listed columns into an n x k matrix, freeing their blocks.
   /// Throws invalid_query for a column that does not exist or was taken.
   Matrix<double> take_matrix(const std::vector<Index>& which);
+  /// Moves one column into a vector, freeing its blocks. Throws
+  /// invalid_query for a column that does not exist or was taken.
+  Vector<double> take_vector(Index j);
 };
 
 // The Eigen-returning members are defined here, in the header, so that the
@@ -165,6 +168,15 @@ inline Matrix<double> Table::take_matrix(const std::vector<Index>& which) {
     c.move_into(m.col(static_cast<Index>(k)).data());
   }
   return m;
+}
+
+inline Vector<double> Table::take_vector(Index j) {
+  NumericColumn& c = columns[checked_column(j, "take_vector")];
+  if (c.size() != rows)
+    throw invalid_query("take_vector: column " + std::to_string(j) + " was already taken");
+  Vector<double> v(static_cast<Index>(rows));
+  c.move_into(v.data());
+  return v;
 }
 
 /// Reads a table from a file; "-" reads standard input. Throws table_error
