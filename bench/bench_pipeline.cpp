@@ -26,26 +26,18 @@
 
 #include <knotpath/knotpath.hpp>
 
+#include "timing.hpp"
+
 namespace {
 
 namespace kp = knotpath;
 using kp::Index;
 using Mat = kp::Matrix<double>;
 using Vec = kp::Vector<double>;
-using Clock = std::chrono::steady_clock;
 
-template <class F>
-double seconds(F&& f) {
-  const auto start = Clock::now();
-  f();
-  return std::chrono::duration<double>(Clock::now() - start).count();
-}
-
-double median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  const std::size_t m = v.size() / 2;
-  return v.size() % 2 ? v[m] : 0.5 * (v[m - 1] + v[m]);
-}
+using knotpath::bench::median;
+using knotpath::bench::RatioLog;
+using knotpath::bench::seconds;
 
 // Gaussian design, AR(1) correlation 0.5 between neighbouring columns.
 Mat design(Index n, Index p, unsigned seed) {
@@ -73,16 +65,6 @@ Mat responses(const Mat& x, Index r_count, unsigned seed) {
   return y;
 }
 
-struct RatioLog {
-  std::vector<double> path, reference;
-  void report(benchmark::State& state) const {
-    std::vector<double> ratios;
-    for (std::size_t i = 0; i < path.size(); ++i) ratios.push_back(path[i] / reference[i]);
-    state.counters["ratio"] = median(ratios);
-    state.counters["path_s"] = median(path);
-    state.counters["reference_s"] = median(reference);
-  }
-};
 
 // Args: n, p, R, threads of the block.
 void solver(benchmark::State& state) {

@@ -26,6 +26,8 @@
 #include <Eigen/QR>
 #include <knotpath/knotpath.hpp>
 
+#include "timing.hpp"
+
 #include "coordinate_descent.hpp"
 
 namespace {
@@ -34,20 +36,10 @@ namespace kp = knotpath;
 using kp::Index;
 using Mat = kp::Matrix<double>;
 using Vec = kp::Vector<double>;
-using Clock = std::chrono::steady_clock;
 
-template <class F>
-double seconds(F&& f) {
-  const auto start = Clock::now();
-  f();
-  return std::chrono::duration<double>(Clock::now() - start).count();
-}
-
-double median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  const std::size_t m = v.size() / 2;
-  return v.size() % 2 ? v[m] : 0.5 * (v[m - 1] + v[m]);
-}
+using knotpath::bench::median;
+using knotpath::bench::RatioLog;
+using knotpath::bench::seconds;
 
 // Gaussian design with AR(1) correlation rho between neighbouring columns
 // (generated row by row into column-major storage, no temporary copy), and
@@ -104,16 +96,6 @@ Sparse sparse_design(Index n, Index p, double density, unsigned seed) {
   return s;
 }
 
-struct RatioLog {
-  std::vector<double> path, reference;
-  void report(benchmark::State& state) const {
-    std::vector<double> ratios;
-    for (std::size_t i = 0; i < path.size(); ++i) ratios.push_back(path[i] / reference[i]);
-    state.counters["ratio"] = median(ratios);
-    state.counters["path_s"] = median(path);
-    state.counters["reference_s"] = median(reference);
-  }
-};
 
 // tall: Gram mode, full path / one Householder-QR least-squares solve.
 void tall(benchmark::State& state) {

@@ -186,8 +186,8 @@ NoiseVarianceEstimate<Scalar> given_or_path_variance(double given, const Path<Sc
                         "CriteriaOptions::noise_variance");
   const Knot<Scalar>& end = path.knots().back();
   const Preparation<Scalar>& prep = path.preparation();
-  out.rank = end.active;
-  out.residual_df = prep.used_observations - end.active - (prep.intercept ? 1 : 0);
+  out.rank = end.active_count;
+  out.residual_df = prep.used_observations - end.active_count - (prep.intercept ? 1 : 0);
   if (out.residual_df > 0) out.variance = end.rss / Scalar(static_cast<double>(out.residual_df));
   return out;
 }
