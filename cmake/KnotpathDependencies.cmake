@@ -47,4 +47,14 @@ if(KNOTPATH_USE_MPFR AND KNOTPATH_HAVE_GMP)
     set(KNOTPATH_HAVE_MPFR ON)
   endif()
 endif()
+# Imported targets, so that no exported target names a library by its path.
+foreach(_lib GMP MPFR)
+  string(TOLOWER ${_lib} _name)
+  if(KNOTPATH_HAVE_${_lib} AND NOT TARGET knotpath::lib${_name})
+    add_library(knotpath::lib${_name} UNKNOWN IMPORTED)
+    set_target_properties(knotpath::lib${_name} PROPERTIES
+      IMPORTED_LOCATION "${KNOTPATH_${_lib}_LIBRARY}"
+      INTERFACE_INCLUDE_DIRECTORIES "${KNOTPATH_${_lib}_INCLUDE}")
+  endif()
+endforeach()
 message(STATUS "knotpath: GMP rationals ${KNOTPATH_HAVE_GMP}, MPFR floats ${KNOTPATH_HAVE_MPFR}")

@@ -1,6 +1,6 @@
 # Installation: headers (plus the generated version header), the compiled
 # extras, the command-line program, a CMake package with exported targets and
-# a pkg-config file for the header-only core.
+# pkg-config files (the header-only core, and the core with GMP/MPFR).
 include(GNUInstallDirs)
 include(CMakePackageConfigHelpers)
 
@@ -10,20 +10,26 @@ install(DIRECTORY ${PROJECT_SOURCE_DIR}/include/knotpath DESTINATION ${CMAKE_INS
 install(FILES ${KNOTPATH_GENERATED_INCLUDE}/knotpath/version.hpp
         DESTINATION ${CMAKE_INSTALL_INCLUDEDIR}/knotpath)
 
-set(_knotpath_export_targets knotpath knotpath_warnings)
+# One export set per package component, each in its own file that the package
+# configuration loads only when asked (cmake/knotpathConfig.cmake.in): the core
+# (knotpath::knotpath), multiprecision, io and charts.
+set(KNOTPATH_COMPONENTS multiprecision)
+install(TARGETS knotpath knotpath_warnings EXPORT knotpathTargets)
+install(EXPORT knotpathTargets NAMESPACE knotpath:: DESTINATION ${KNOTPATH_CMAKE_DIR})
+install(TARGETS knotpath_multiprecision EXPORT knotpathMultiprecisionTargets)
+install(EXPORT knotpathMultiprecisionTargets NAMESPACE knotpath:: DESTINATION ${KNOTPATH_CMAKE_DIR})
 if(TARGET knotpath_io)
   set_target_properties(knotpath_io PROPERTIES EXPORT_NAME io)
-  list(APPEND _knotpath_export_targets knotpath_io)
+  install(TARGETS knotpath_io EXPORT knotpathIoTargets ARCHIVE DESTINATION ${CMAKE_INSTALL_LIBDIR})
+  install(EXPORT knotpathIoTargets NAMESPACE knotpath:: DESTINATION ${KNOTPATH_CMAKE_DIR})
+  list(APPEND KNOTPATH_COMPONENTS io)
 endif()
 if(TARGET knotpath_charts)
   set_target_properties(knotpath_charts PROPERTIES EXPORT_NAME charts)
-  list(APPEND _knotpath_export_targets knotpath_charts)
+  install(TARGETS knotpath_charts EXPORT knotpathChartsTargets ARCHIVE DESTINATION ${CMAKE_INSTALL_LIBDIR})
+  install(EXPORT knotpathChartsTargets NAMESPACE knotpath:: DESTINATION ${KNOTPATH_CMAKE_DIR})
+  list(APPEND KNOTPATH_COMPONENTS charts)
 endif()
-install(TARGETS ${_knotpath_export_targets} EXPORT knotpathTargets
-        ARCHIVE DESTINATION ${CMAKE_INSTALL_LIBDIR}
-        LIBRARY DESTINATION ${CMAKE_INSTALL_LIBDIR}
-        INCLUDES DESTINATION ${CMAKE_INSTALL_INCLUDEDIR})
-install(EXPORT knotpathTargets NAMESPACE knotpath:: DESTINATION ${KNOTPATH_CMAKE_DIR})
 
 configure_package_config_file(${PROJECT_SOURCE_DIR}/cmake/knotpathConfig.cmake.in
   ${PROJECT_BINARY_DIR}/knotpathConfig.cmake INSTALL_DESTINATION ${KNOTPATH_CMAKE_DIR})
@@ -32,6 +38,8 @@ write_basic_package_version_file(${PROJECT_BINARY_DIR}/knotpathConfigVersion.cma
 install(FILES ${PROJECT_BINARY_DIR}/knotpathConfig.cmake ${PROJECT_BINARY_DIR}/knotpathConfigVersion.cmake
         DESTINATION ${KNOTPATH_CMAKE_DIR})
 
+# pkg-config: knotpath.pc is the header-only core (Eigen only: Boost ships no
+# .pc file); knotpath-multiprecision.pc adds GMP/MPFR on top of it.
 set(KNOTPATH_PC_DEFINES "")
 set(KNOTPATH_PC_LIBS "")
 if(KNOTPATH_HAVE_GMP)
@@ -46,6 +54,11 @@ endif()
 file(RELATIVE_PATH KNOTPATH_PC_UP "/root/${CMAKE_INSTALL_LIBDIR}/pkgconfig" "/root")
 configure_file(${PROJECT_SOURCE_DIR}/cmake/knotpath.pc.in ${PROJECT_BINARY_DIR}/knotpath.pc @ONLY)
 install(FILES ${PROJECT_BINARY_DIR}/knotpath.pc DESTINATION ${CMAKE_INSTALL_LIBDIR}/pkgconfig)
+if(KNOTPATH_HAVE_GMP)
+  configure_file(${PROJECT_SOURCE_DIR}/cmake/knotpath-multiprecision.pc.in
+                 ${PROJECT_BINARY_DIR}/knotpath-multiprecision.pc @ONLY)
+  install(FILES ${PROJECT_BINARY_DIR}/knotpath-multiprecision.pc DESTINATION ${CMAKE_INSTALL_LIBDIR}/pkgconfig)
+endif()
 
 # API documentation (Doxygen, Debian package doxygen): `cmake --build <dir> --target docs`.
 # Undocumented public names are warnings, and warnings fail the target.

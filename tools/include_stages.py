@@ -27,6 +27,7 @@ STAGES = [
     ("homotopy", ["knot.hpp", "homotopy.hpp"]),
     ("path", ["path.hpp"]),
     ("trace front end", ["trace.hpp", "solver.hpp"]),
+    ("front door", ["core.hpp"]),
     ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
                                          "inference.hpp", "precision.hpp"]),
     ("io", ["io/table.hpp", "io/roles.hpp", "io/report.hpp", "io/charts.hpp"]),

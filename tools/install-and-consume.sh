@@ -1,7 +1,9 @@
 #!/usr/bin/env bash
 # Installs a built tree into a temporary prefix, then configures, builds and
-# runs a separate consumer project against it with find_package(knotpath
-# CONFIG REQUIRED), and compiles the core once more through pkg-config.
+# runs a separate consumer project (tests/consumer) against it with
+# find_package(knotpath CONFIG REQUIRED [COMPONENTS ...]), checks that the
+# installed package files name no system library by absolute path, and
+# compiles the core once more through pkg-config.
 # Usage: tools/install-and-consume.sh BUILD_DIR SOURCE_DIR
 set -euo pipefail
 build=$1
@@ -13,25 +15,66 @@ test -f "$work/prefix/include/knotpath/knotpath.hpp"
 test -f "$work/prefix/include/knotpath/version.hpp"
 test -x "$work/prefix/bin/knotpath"
 "$work/prefix/bin/knotpath" --version
-# The consumer is built three times: as a user's default build, with
-# -march=native (wider vector units, so another Eigen alignment than the
-# installed library's: the compiled reader must hand no Eigen object across),
-# and with AddressSanitizer and UndefinedBehaviorSanitizer.
-consume() {  # name, extra compiler flags
-  cmake -S "$source/tests/consumer" -B "$work/$1" -DCMAKE_PREFIX_PATH="$work/prefix" \
-    -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_FLAGS="$2" > "$work/$1-configure.log"
-  cmake --build "$work/$1" -j2 > "$work/$1-build.log"
-  "$work/$1/consumer"
-  if [ -x "$work/$1/consumer_io" ]; then "$work/$1/consumer_io"; "$work/$1/consumer_table"; fi
+
+# The installed CMake and pkg-config files carry no absolute path (a library
+# of the building machine such as /usr/lib/.../libgmp.so would break on
+# another one): every path is relative to the installed prefix.
+package_files=$(find "$work/prefix" \( -path '*/cmake/knotpath/*.cmake' -o -name 'knotpath*.pc' \))
+test -n "$package_files"
+if grep -nE '(^|[";=[:space:]])/[A-Za-z0-9_.+-]+/' $package_files; then
+  echo "install-and-consume: absolute paths in the installed package files (above)" >&2
+  exit 1
+fi
+if grep -nE '\.(so|a|dylib)([";[:space:]]|$)' $package_files | grep -v '${_IMPORT_PREFIX}/'; then
+  echo "install-and-consume: a library outside the installed prefix named by file (above)" >&2
+  exit 1
+fi
+
+# Was the tree built with GMP and MPFR? Then a consumer may ask for them.
+parts=extras
+if grep -q '^KNOTPATH_USE_GMP:BOOL=ON' "$build/CMakeCache.txt" &&
+   grep -q '^KNOTPATH_USE_MPFR:BOOL=ON' "$build/CMakeCache.txt" &&
+   grep -qE '^KNOTPATH_GMP_LIBRARY:FILEPATH=/' "$build/CMakeCache.txt" &&
+   grep -qE '^KNOTPATH_MPFR_LIBRARY:FILEPATH=/' "$build/CMakeCache.txt"; then
+  parts=all
+fi
+
+consume() {  # name, parts (core, extras, all), extra compiler flags, extra configure arguments...
+  local name=$1 which=$2 flags=$3
+  shift 3
+  cmake -S "$source/tests/consumer" -B "$work/$name" -DCMAKE_PREFIX_PATH="$work/prefix" \
+    --no-warn-unused-cli -DCMAKE_BUILD_TYPE=Release -DKNOTPATH_CONSUMER_PARTS="$which" -DCMAKE_CXX_FLAGS="$flags" "$@" \
+    > "$work/$name-configure.log" || { cat "$work/$name-configure.log"; return 1; }
+  cmake --build "$work/$name" -j2 > "$work/$name-build.log" || { cat "$work/$name-build.log"; return 1; }
+  local program
+  for program in consumer consumer_io consumer_table consumer_multiprecision; do
+    if [ -x "$work/$name/$program" ]; then "$work/$name/$program"; fi
+  done
 }
-consume consumer ""
-consume consumer-native "-march=native"
+# The header-only core alone, with fmt's and nlohmann_json's packages hidden:
+# find_package(knotpath) without components needs neither (nor GMP/MPFR).
+consume consumer-core core "" -DCMAKE_DISABLE_FIND_PACKAGE_fmt=ON -DCMAKE_DISABLE_FIND_PACKAGE_nlohmann_json=ON
+# The compiled extras (and, when built with them, the multiprecision back
+# ends) three times: as a user's default build, with -march=native (wider
+# vector units, so another Eigen alignment than the installed library's: the
+# compiled reader must hand no Eigen object across), and with
+# AddressSanitizer and UndefinedBehaviorSanitizer.
+consume consumer "$parts" ""
+consume consumer-native extras "-march=native"
 export ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=halt_on_error=1:print_stacktrace=1
-consume consumer-sanitized "-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
+consume consumer-sanitized extras "-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
 unset ASAN_OPTIONS UBSAN_OPTIONS
-# pkg-config route (header-only core).
+
+# pkg-config route: the core (no GMP/MPFR definitions), and the
+# multiprecision file naming the libraries by link name.
 export PKG_CONFIG_PATH="$work/prefix/lib/pkgconfig:$work/prefix/lib/x86_64-linux-gnu/pkgconfig"
 flags=$(pkg-config --cflags --libs knotpath)
-c++ -O1 "$source/tests/consumer/main.cpp" -o "$work/consumer_pc" $flags
+c++ -O1 -DKNOTPATH_CONSUMER_CORE_ONLY "$source/tests/consumer/main.cpp" -o "$work/consumer_pc" $flags
 "$work/consumer_pc"
-echo "install-and-consume: OK"
+if [ "$parts" = all ]; then
+  multiprecision=$(pkg-config --cflags --libs knotpath-multiprecision)
+  for expected in -DKNOTPATH_HAVE_GMP -DKNOTPATH_HAVE_MPFR -lgmp -lmpfr; do
+    case " $multiprecision " in *" $expected "*) ;; *) echo "knotpath-multiprecision.pc lacks $expected: $multiprecision" >&2; exit 1 ;; esac
+  done
+fi
+echo "install-and-consume: OK (consumer parts: core, $parts)"

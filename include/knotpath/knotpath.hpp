@@ -3,7 +3,8 @@
 /// \brief Umbrella header: the whole public API of the core (options, trace,
 /// the path and its queries, selection, inference, precision, demo data;
 /// the advanced headers too: prepared problems, design operators, the
-/// active-set factor and the homotopy class).
+/// active-set factor and the homotopy class). A file that only traces and
+/// queries compiles faster with core.hpp.
 ///
 /// \code
 /// #include <knotpath/knotpath.hpp>
@@ -11,6 +12,7 @@
 /// auto at = path.at_penalty(0.5 * path.lambda_max());
 /// \endcode
 
+#include "core.hpp"
 #include "criteria.hpp"
 #include "cross_validation.hpp"
 #include "demo.hpp"
