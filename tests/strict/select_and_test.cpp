@@ -18,7 +18,7 @@ int main() {
   const auto criteria = knotpath::information_criteria<double>(data.x, data.y, path);
   const auto significance = knotpath::entry_significance<double>(data.x, data.y, path);
 
-  const double total = cv.minimum.mu + cv.error_at(cv.parsimonious.mu) + criteria.noise_variance +
+  const double total = cv.minimum.mu + cv.error_at_mu(cv.parsimonious.mu) + criteria.noise_variance +
                        significance.noise_variance + static_cast<double>(significance.entries.size());
   return total != total ? 1 : 0;
 }

@@ -30,11 +30,16 @@ int main() {
   const auto budget = path.at_budget(0.5);
   const auto fraction = path.at_fraction(0.25);
   const auto active = path.active_at(at.penalty);
-  const knotpath::Vector<double> fitted = path.predict(data.x, at.penalty);
+  const knotpath::Vector<double> fitted = path.predict(data.x, at.penalty).values;
+  const auto block = path.predict_many(data.x, {at.penalty, 0.0});
+  const auto named = path.named_coefficients(path.at_mu(0.01));
+  const knotpath::PathSolver<double> solver(data.x);
+  const auto solved = solver.trace_block(knotpath::Matrix<double>(data.y), 2);
   const auto events = path.events();
   const knotpath::Vector<double> first = path.dense_coefficients(0);
   const double total = at.intercept + budget.intercept + fraction.intercept + fitted.sum() + first.sum() +
-                       path.weighted_l1(at.coefficients) + path.worst_condition_estimate() +
+                       path.penalized_l1(at.coefficients) + path.worst_condition_estimate() + block.values.sum() +
+                       static_cast<double>(named.size() + solved.size()) +
                        static_cast<double>(active.size() + events.size() + from_sparse.knots().size() +
                                            from_rows.knots().size() + from_statistics.knots().size());
   return total != total ? 1 : 0;
