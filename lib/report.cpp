@@ -503,10 +503,9 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   }
   if (suspect)
     out += fmt::format(
-        "WARNING: SUSPECT PATH. The health check estimates a relative error up to {:.2g} "
-        "(threshold {:.2g}) at {} of {} knots (marked suspect above; worst condition estimate "
-        "{:.2g}).\nWARNING: {}\n",
-        path.worst_estimated_error(), path.options().suspect_threshold, suspect_count(path),
+        "WARNING: SUSPECT PATH. Health check: {} (threshold {:.2g}) at {} of {} knots (marked "
+        "suspect above; worst condition estimate {:.2g}).\nWARNING: {}\n",
+        estimated_error_text(path.worst_estimated_error()), path.options().suspect_threshold, suspect_count(path),
         path.knots().size(), path.worst_condition_estimate(), suspect_advice<Scalar>(context));
   return out;
 }
@@ -626,6 +625,18 @@ void write_atomically(const std::filesystem::path& target,
 
 std::string suspect_advice_text(const RunContext& context) {
   return suspect_advice<double>(context);
+}
+
+std::string estimated_error_text(double estimate) {
+  if (estimate > first_order_limit)
+    return fmt::format(
+        "estimated relative error {:.2g}, above {:.0e}, where the estimate bounds nothing (the "
+        "events themselves may differ from the exact path's)",
+        estimate, first_order_limit);
+  return fmt::format(
+      "estimated relative error up to {:.2g} (of the coefficients and intercept as printed, "
+      "relative to the largest of them)",
+      estimate);
 }
 
 }  // namespace knotpath::io

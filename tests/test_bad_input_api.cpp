@@ -405,12 +405,12 @@ TEST(FuzzRegression, ViewDesignReportsItsCentringAmplification) {
   const kp::testing::Centred c = kp::testing::centre(x, y, true, true);
   for (std::size_t k = 1; k < path.knots().size(); ++k) {
     const auto& knot = path.knots()[k];
-    EXPECT_GE(knot.estimated_error, 0.99 * amplification * eps) << "knot " << k;
+    EXPECT_GE(knot.prepared_error, 0.99 * amplification * eps) << "knot " << k;
     const Vector<double> b = kp::testing::to_prepared(c, path.dense_coefficients(k));
     const Vector<double> corr = c.z.transpose() * (c.y - c.z * b);
     // Least angle: active correlations equal lambda in size; others below.
     for (Index j = 0; j < 6; ++j)
-      EXPECT_LE(std::abs(corr(j)) - knot.penalty, 1e3 * knot.estimated_error * path.lambda_max())
+      EXPECT_LE(std::abs(corr(j)) - knot.penalty, 1e3 * knot.prepared_error * path.lambda_max())
           << "knot " << k << " column " << j;
   }
 }
@@ -429,7 +429,7 @@ kp::TraceOptions unscaled_dense() {
 // Efron et al. 2004, Ann. Statist. 32(2), section 3; section from memory),
 // within a slack of `fixed` lambda_max. With `own_estimate` the knots the
 // path itself flags suspect are skipped and each knot's slack grows by its
-// own estimate (Knot::estimated_error, relative to lambda_max) times the
+// own estimate (Knot::prepared_error, relative to lambda_max) times the
 // growth factor 1e3 the fuzz oracle uses (Higham, Accuracy and Stability of
 // Numerical Algorithms, 2nd ed., ch. 10). Returns the number of knots checked.
 int expect_lasso_kkt(const kp::Path<double>& path, const Matrix<double>& x, const Vector<double>& y, double ridge,
@@ -441,7 +441,7 @@ int expect_lasso_kkt(const kp::Path<double>& path, const Matrix<double>& x, cons
     ++checked;
     const Vector<double> b = path.dense_coefficients(k);
     const Vector<double> c = x.transpose() * (y - x * b) - ridge * b;
-    const double slack = (fixed + (own_estimate ? 1e3 * knot.estimated_error : 0.0)) * path.lambda_max();
+    const double slack = (fixed + (own_estimate ? 1e3 * knot.prepared_error : 0.0)) * path.lambda_max();
     for (Index j = 0; j < x.cols(); ++j) {
       if (b(j) != 0)
         EXPECT_NEAR(c(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;
@@ -578,7 +578,7 @@ TEST(FuzzRegression, EstimatedErrorIsCarriedPastAnIllConditionedStretch) {
   // a homotopy's errors accumulate, nothing resets them), so the estimate
   // never falls along the path and no knot after a suspect one is clean.
   for (std::size_t k = 1; k < path.knots().size(); ++k)
-    EXPECT_GE(path.knots()[k].estimated_error, path.knots()[k - 1].estimated_error) << "knot " << k;
+    EXPECT_GE(path.knots()[k].prepared_error, path.knots()[k - 1].prepared_error) << "knot " << k;
   EXPECT_GT(expect_lasso_kkt(path, x, y, 0.0, 1e-10, true), 0);
 }
 
@@ -775,7 +775,7 @@ TEST(FuzzRegression, CentringAmplificationCountsInEveryStorage) {
   ASSERT_GT(amplification, 1e14);
   auto expect_reported = [&](const kp::Path<double>& path, double amp) {
     expect_finite_path(path);
-    for (const auto& knot : path.knots()) EXPECT_GE(knot.estimated_error, 0.99 * amp * eps) << "knot " << knot.step;
+    for (const auto& knot : path.knots()) EXPECT_GE(knot.prepared_error, 0.99 * amp * eps) << "knot " << knot.step;
   };
   for (kp::Storage s : kStorages) {
     SCOPED_TRACE(static_cast<int>(s));
@@ -806,7 +806,7 @@ TEST(FuzzRegression, CentringAmplificationCountsInEveryStorage) {
       if (knot.suspect) continue;
       const Vector<double> b = kp::testing::to_prepared(c, path.dense_coefficients(k));
       const Vector<double> corr = c.z.transpose() * (c.y - c.z * b);
-      const double slack = 1e3 * knot.estimated_error * path.lambda_max();
+      const double slack = 1e3 * knot.prepared_error * path.lambda_max();
       for (Index j = 0; j < 5; ++j) {
         if (b(j) != 0)
           EXPECT_NEAR(corr(j), knot.penalty * (b(j) > 0 ? 1.0 : -1.0), slack) << "knot " << k << " column " << j;

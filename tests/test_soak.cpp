@@ -20,10 +20,10 @@
 // correlations are off by about eps * kappa * (||y|| + ||b||_1) with kappa
 // the active factor's condition estimate (Knot::condition_estimate), plus
 // what the updates accumulate, which the path measures itself
-// (Knot::estimated_error, relative to lambda_max). The allowance is
-//   kTolFactor * (eps * kappa * (||y|| + ||b||_1) + estimated_error * lambda_max)
+// (Knot::prepared_error, relative to lambda_max). The allowance is
+//   kTolFactor * (eps * kappa * (||y|| + ||b||_1) + prepared_error * lambda_max)
 // with kTolFactor = 1e3 for the growth constants of p <= 300 and hundreds of
-// updates. Suspect knots (estimated_error > 1e-6) use the same formula; the
+// updates. Suspect knots (prepared_error > 1e-6) use the same formula; the
 // allowance simply grows with the error the library admits to. A wrong
 // event or sign gives a violation of order lambda, far outside.
 // Coordinate descent is compared only where it converged (its own KKT
@@ -147,7 +147,7 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       ++fig.knots;
       fig.suspect_knots += knot.suspect;
       check(prepared(path.dense_coefficients(k)), knot.penalty, knot.condition_estimate,
-            knot.estimated_error, knot.suspect);
+            knot.prepared_error, knot.suspect);
     }
     // Random penalties inside the path: the interpolated solution is exact.
     const double last = knots.back().penalty;
@@ -159,7 +159,7 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       lower = std::min(lower, knots.size() - 1);
       const double kappa =
           std::max(knots[upper].condition_estimate, knots[lower].condition_estimate);
-      const double error = std::max(knots[upper].estimated_error, knots[lower].estimated_error);
+      const double error = std::max(knots[upper].prepared_error, knots[lower].prepared_error);
       const bool suspect = knots[upper].suspect || knots[lower].suspect;
       const Vector<double> b = prepared(path.at_penalty(lambda).coefficients);
       ++fig.penalties;

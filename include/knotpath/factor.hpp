@@ -42,6 +42,8 @@ struct FactorHealth {
   double condition_estimate = 1.0;    ///< estimate of the condition number of G_A: the
                                       ///< larger of (max_i R_ii / min_i R_ii)^2 and, for
                                       ///< hardware floats, a 1-norm estimate (Hager 1984)
+  double inverse_norm = 0;            ///< Hager's estimate of ||G_A^{-1}||_1 (hardware floats;
+                                      ///< 0 when not computed)
 };
 
 namespace detail {
@@ -234,6 +236,7 @@ class CholeskyFactor {
       const double inverse = detail::hager_inverse_norm1<Scalar>(
           size_, [&](const auto& in, auto& out) { this->solve(in, out); }, health_work_);
       h.condition_estimate = std::max(h.condition_estimate, col_max * row_max * inverse);
+      h.inverse_norm = inverse;
     }
     return h;
   }

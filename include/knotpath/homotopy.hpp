@@ -73,7 +73,8 @@ struct Candidate {
   int sign;      // entering sign, or sign of the leaving coefficient
 };
 
-/// The estimated relative error of each knot (Knot::estimated_error): the
+/// The estimated relative error of each knot's prepared problem
+/// (Knot::prepared_error): the
 /// largest of
 ///  - the active factor's condition estimate times the unit roundoff (the
 ///    error of the direction),
@@ -164,10 +165,14 @@ class Homotopy {
         rhs_(q_ + 1),
         active_c_(q_ + 1),
         b_active_(q_ + 1),
+        scale_work_(q_ + 1),
+        scale_solution_(q_ + 1),
+        rhs_scale_(q_ + 1),
         estimate_(detail::to_double(detail::epsilon<Scalar>()), prep.centring_amplification) {
     for (Index k = 0; k < q_; ++k) factor_of_(k) = Scalar(prep.penalty_factors[static_cast<std::size_t>(k)]);
     design.response_correlations(c_);
     rss_ = design.response_squared_norm();
+    note_correlation_noise();
     entered_.reserve(static_cast<std::size_t>(q_));
     candidates_.reserve(2 * static_cast<std::size_t>(q_) + 2);
     events_.reserve(2 * static_cast<std::size_t>(q_) + 2);
@@ -306,6 +311,7 @@ class Homotopy {
     }
     for (std::size_t i = 0; i < held_at_start; ++i) held_out_[i].penalty = lambda_;
     estimate_.set_penalty_scale(detail::to_double(lambda_));
+    penalty_scale_ = detail::to_double(lambda_);
     record(EventKind::start, -1, 0);
   }
 
@@ -391,13 +397,19 @@ class Homotopy {
     const Scalar u_dot_r = d.dot(active_c) + ridge_ * d.dot(b_active);
     const Scalar u_dot_u = d.dot(rhs) - ridge_ * d.squaredNorm();
     rss_ += g * (g * u_dot_u - Scalar(2) * u_dot_r);
+    note_penalty_slope(k_active);
     for (Index i = 0; i < k_active; ++i) b_(active_[at(i)]) += g * d(i);
     c_ -= g * a_;
     lambda_ -= g;
     if (segment.reaches_end && !segment.stop_here) lambda_ = zero_;
-    for (Index j : active_) {
+    // c_ holds x_j^T r; with a ridge weight a2 the active correlation that
+    // equals lambda f_j s_j is x_j^T r - a2 b_j, which moved by g a2 d_j
+    // more than c_ did (the update above uses the design's products only).
+    for (Index i = 0; i < k_active; ++i) {
+      const Index j = active_[at(i)];
       const Scalar exact = lambda_ * factor_of_(j) * Scalar(sign_[at(j)]);
-      estimate_.note_drift(detail::to_double(detail::abs_value<Scalar>(Scalar(c_(j) - exact))));
+      const Scalar moved = c_(j) - ridge_ * g * d(i);
+      estimate_.note_drift(detail::to_double(detail::abs_value<Scalar>(Scalar(moved - exact))));
       c_(j) = exact;
     }
   }
@@ -522,10 +534,118 @@ class Homotopy {
           std::sqrt(detail::to_double(design_.squared_norm(column)) * detail::to_double(knot.rss));
       knot.correlation = denom > 0 ? detail::to_double(c_(column)) / denom : 0.0;
     }
-    knot.condition_estimate = factor_.health().condition_estimate;
-    knot.estimated_error = estimate_.next_knot(knot.condition_estimate);
-    knot.suspect = knot.estimated_error > options_.suspect_threshold;
+    const FactorHealth health = factor_.health();
+    knot.condition_estimate = health.condition_estimate;
+    knot.prepared_error = estimate_.next_knot(knot.condition_estimate);
+    knot.estimated_error = reported_scale_error(knot.prepared_error, health.inverse_norm, knot);
+    // Once suspect, always suspect: a knot inherits the state of the knots
+    // before it (RELIABILITY.md, fuzzing finding 6), even where the error
+    // they left is small against this knot's larger coefficients.
+    knot.suspect =
+        knot.estimated_error > options_.suspect_threshold || (!knots_.empty() && knots_.back().suspect);
     knots_.push_back(std::move(knot));
+  }
+
+  // The error estimate on the scale the knot reports (Knot::estimated_error).
+  // `prepared` bounds the error of the prepared coefficients b relative to
+  // max_k |b_k| (ErrorEstimate). Model: db = G^{-1} r for a perturbation r
+  // of the active correlations with ||r||_inf <= rho, rho chosen so that the
+  // plain bound ||G^{-1}||_1 rho equals prepared * max_k |b_k| (G = G_A,
+  // `inverse_norm` its Hager estimate). Dividing by the scales and forming
+  // the intercept a = ybar - v^T b (v_k = m_j / s_j) carry it to the
+  // original scale (Hoelder's inequality, G symmetric):
+  //   |d beta_j| <= ||G^{-1} e_k||_1 rho / s_j,
+  //   |d a|      <= ||G^{-1} v||_1 rho + u (|ybar| + sum_k |v_k b_k|),
+  // the last term the rounding of the intercept's own sum (u the unit
+  // roundoff). ||G^{-1} e_k||_1 is solved for the coefficient of the
+  // smallest scale and bounded by ||G^{-1}||_1 for the others. A knot
+  // penalty off by u lambda_max moves the solution along the segment's
+  // slope (penalty_slope_), which adds u lambda_max times that slope. The
+  // result is relative to the largest of |a| and |beta_j|, as the
+  // cross-check measures it (compare_paths). Without a Hager estimate (exact
+  // and multiprecision factors) every ||G^{-1} x||_1 is bounded by
+  // ||G^{-1}||_1 ||x||_1. Cost: two solves, O(k^2).
+  double reported_scale_error(double prepared, double inverse_norm, const Knot<Scalar>& knot) {
+    double top = std::abs(detail::to_double(knot.intercept));
+    for (const auto& [j, beta] : knot.coefficients) top = std::max(top, std::abs(detail::to_double(beta)));
+    if (!(top > 0)) return prepared;
+    const Index k_active = active_count();
+    auto v = scale_work_.head(k_active);
+    auto w = scale_solution_.head(k_active);
+    double b_size = 0, mean_shift = 0;
+    double smallest_scale = std::numeric_limits<double>::infinity(), next_scale = smallest_scale;
+    Index smallest = -1;
+    for (Index i = 0; i < k_active; ++i) {
+      const Index k = active_[at(i)];
+      const Index j = prep_.columns[at(k)];
+      const double b = std::abs(detail::to_double(b_(k)));
+      const double scale = detail::to_double(prep_.scales(j));
+      b_size = std::max(b_size, b);
+      if (scale < smallest_scale) {
+        next_scale = smallest_scale;
+        smallest_scale = scale;
+        smallest = i;
+      } else {
+        next_scale = std::min(next_scale, scale);
+      }
+      v(i) = prep_.means(j) / prep_.scales(j);
+      mean_shift += std::abs(detail::to_double(v(i))) * b;
+    }
+    // ||G^{-1}||_1 rho, with sqrt(k) for the rounding of the k-term sums of
+    // the factor's solves (rounding errors of a sum of k terms grow like
+    // sqrt(k) in practice: N. J. Higham, Accuracy and Stability of
+    // Numerical Algorithms, 2nd ed., SIAM 2002, section 2.8).
+    const double forward = std::sqrt(static_cast<double>(std::max<Index>(k_active, 1))) * prepared * b_size;
+    // ||G^{-1} x||_1 / ||G^{-1}||_1, from a solve when Hager's estimate exists.
+    auto aligned = [&](auto&& x) {
+      if (!(inverse_norm > 0)) return detail::to_double(Scalar(x.template lpNorm<1>()));
+      factor_.solve(x, w);
+      return std::min(detail::to_double(Scalar(w.template lpNorm<1>())) / inverse_norm,
+                      detail::to_double(Scalar(x.template lpNorm<1>())));
+    };
+    double coefficient_error = 0;
+    if (smallest >= 0) {
+      coefficient_error = k_active > 1 ? forward / next_scale : 0.0;
+      auto e = rhs_scale_.head(k_active);
+      e.setZero();
+      e(smallest) = Scalar(1);
+      coefficient_error = std::max(coefficient_error, forward * aligned(e) / smallest_scale);
+    }
+    const double eps = detail::to_double(detail::epsilon<Scalar>());
+    double intercept_error = 0;
+    if (prep_.intercept)
+      intercept_error = forward * aligned(v) +
+                        eps * (std::abs(detail::to_double(prep_.response_mean)) + mean_shift);
+    const double knot_shift = (eps * penalty_scale_ + correlation_noise_) * penalty_slope_;
+    return (std::max(coefficient_error, intercept_error) + knot_shift) / top;
+  }
+
+  // The rounding of one correlation z_k^T r, an n-term inner product:
+  // u sqrt(n) max_k ||z_k|| ||y|| (the statistical form of the inner
+  // product's bound gamma_n |z|^T |r|, Higham 2002, sections 2.8 and 3.1).
+  // It sets how well lambda_max and every knot penalty are known, and how
+  // far the active correlations may be off when they are small against
+  // ||y|| (a weak signal, a heavy ridge).
+  void note_correlation_noise() {
+    double column = 0;
+    for (Index k = 0; k < q_; ++k) column = std::max(column, detail::to_double(design_.squared_norm(k)));
+    const double n = static_cast<double>(std::max<Index>(prep_.used_observations, 1));
+    correlation_noise_ = detail::to_double(detail::epsilon<Scalar>()) * std::sqrt(n) * std::sqrt(column) *
+                         std::sqrt(std::max(detail::to_double(rss_), 0.0));
+  }
+
+  // The slope of the reported solution along the segment just taken:
+  // max(max_k |d_k| / s_j, |v^T d|) per unit of penalty (reported_scale_error).
+  void note_penalty_slope(Index k_active) {
+    double slope = 0, intercept_slope = 0;
+    for (Index i = 0; i < k_active; ++i) {
+      const Index j = prep_.columns[at(active_[at(i)])];
+      const double d = detail::to_double(d_(i));
+      const double scale = detail::to_double(prep_.scales(j));
+      slope = std::max(slope, std::abs(d) / scale);
+      if (prep_.intercept) intercept_slope += detail::to_double(prep_.means(j)) / scale * d;
+    }
+    penalty_slope_ = std::max(slope, std::abs(intercept_slope));
   }
 
   // beta_j = b_k / s_j for the nonzero active coefficients (ascending j),
@@ -571,6 +691,10 @@ class Homotopy {
   std::vector<int> just_left_;         // sign it left with (or was kept out on), at the last knot
   detail::active_factor_t<Scalar> factor_;  // of Z_A^T Z_A + a2 I
   Vector<Scalar> cross_, d_, rhs_, active_c_, b_active_;  // work buffers of length q + 1
+  Vector<Scalar> scale_work_, scale_solution_, rhs_scale_;  // reported_scale_error()'s v, G^{-1} x, e_k
+  double penalty_scale_ = 0;  // lambda_max as a double (reported_scale_error)
+  double penalty_slope_ = 0;  // note_penalty_slope() of the last segment
+  double correlation_noise_ = 0;  // note_correlation_noise()
   Scalar rss_{0};                      // residual sum of squares of the prepared problem
   Scalar lambda_{0};                   // current penalty
   std::vector<Knot<Scalar>> knots_;    // recorded so far

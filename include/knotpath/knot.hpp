@@ -76,17 +76,35 @@ struct Knot {
   Scalar intercept{0};        ///< on the original scale (0 without intercept)
   std::vector<std::pair<Index, Scalar>> coefficients;  ///< nonzero beta_j, ascending j, original scale
   double condition_estimate = 1;  ///< factor health after the event (see FactorHealth)
-  /// Estimated relative error: the largest of condition_estimate * unit
-  /// roundoff, the correlation drift / lambda_max, the centring
-  /// amplification (Preparation::centring_amplification) * unit roundoff,
-  /// the condition of any factor that decided
-  /// which tied entries stay out * unit roundoff, and the previous knot's
-  /// estimate (carried forward: each knot inherits the state of the ones
-  /// before it).
+  /// Estimated error of the prepared problem, relative: the largest of
+  /// condition_estimate * unit roundoff, the correlation drift /
+  /// lambda_max, the centring amplification
+  /// (Preparation::centring_amplification) * unit roundoff, the condition of
+  /// any factor that decided which tied entries stay out * unit roundoff,
+  /// and the previous knot's value (carried forward: each knot inherits the
+  /// state of the ones before it). It bounds the active correlations'
+  /// error relative to lambda_max and the prepared coefficients' error
+  /// relative to the largest of them, to first order.
+  double prepared_error = 0;
+  /// Estimated relative error of this row as reported: of the
+  /// original-scale coefficients and the intercept, relative to the largest
+  /// of them (the measure of the cross-check, compare_paths()).
+  /// prepared_error carried through the scales, the means and the factor's
+  /// inverse (Homotopy's reported_scale_error). It is a first-order bound,
+  /// calibrated against 50-digit paths (RELIABILITY.md, "Health check
+  /// calibration"); above first_order_limit it bounds nothing, because the
+  /// order of the events themselves may differ from the exact path's.
   double estimated_error = 0;
-  bool suspect = false;        ///< estimated_error > TraceOptions::suspect_threshold: cross-check
+  bool suspect = false;        ///< estimated_error > TraceOptions::suspect_threshold here or at an
+                               ///< earlier knot (errors are inherited): cross-check
                                ///< with a higher precision (knotpath verify) before trusting it
 };
+
+/// Largest Knot::estimated_error that is still a bound: beyond it a
+/// first-order error analysis no longer holds, and on the calibration
+/// corpus (RELIABILITY.md) the one path above it (NIST StRD Filip, 7.5e-4)
+/// made its events in another order than the exact path.
+inline constexpr double first_order_limit = 1e-4;
 
 /// One entry of the audit (Path::events()): an enter or leave row of the
 /// knot table without its coefficient vector.

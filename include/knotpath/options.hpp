@@ -88,11 +88,13 @@ struct TraceOptions {
   /// Safety bound on homotopy steps; 0 means automatic (8 * (n + p) + 100).
   /// Hitting it is recorded as the stop reason, never silent.
   std::size_t max_steps = 0;
-  /// A knot is marked suspect when its estimated relative error (factor
-  /// condition estimate times unit roundoff, or the measured drift of the
-  /// active correlations relative to lambda_max; carried forward along the
-  /// path, so every knot after a suspect one is suspect too) exceeds this;
-  /// default 1e-6, i.e. fewer than about six trustworthy digits.
+  /// A knot is marked suspect when its estimated relative error
+  /// (Knot::estimated_error: of the original-scale coefficients and
+  /// intercept, relative to the largest of them; built from the factor's
+  /// condition estimate, the measured drift of the active correlations and
+  /// the rounding of the correlations, carried through the scales and
+  /// means) exceeds this; default 1e-6, i.e. fewer than about six
+  /// trustworthy digits.
   double suspect_threshold = 1e-6;
   /// Threads for the one product per knot of the dense copy, the view and
   /// the sparse design (0: all hardware threads). The product's columns are

@@ -25,7 +25,8 @@
 /// both penalties), the largest relative knot-penalty difference over the
 /// common prefix, the largest coefficient difference along the path (at the
 /// union of both paths' knot penalties, relative to the largest coefficient
-/// of the high-precision solution there), and the double factor's worst
+/// or intercept of the high-precision solution over the segment that holds
+/// the penalty: detail::segment_size), and the double factor's worst
 /// condition estimate. Verdict thresholds:
 ///  - wrong:       the event sequences differ, or a coefficient differs by more
 ///                 than 1e-3 relative;
@@ -208,6 +209,56 @@ struct CrossCheck {
   Verdict verdict = Verdict::trustworthy;  ///< summary by the thresholds in the file comment
 };
 
+namespace detail {
+
+/// max(|intercept|, max_j |beta_j|) of a solution: the size a coefficient
+/// difference is relative to.
+template <class Scalar>
+double solution_size(const Solution<Scalar>& s) {
+  double size = std::abs(to_double(s.intercept));
+  for (Index j = 0; j < s.coefficients.size(); ++j) size = std::max(size, std::abs(to_double(s.coefficients(j))));
+  return size;
+}
+
+/// solution_size at every knot of `path`, in knot order.
+template <class Scalar>
+std::vector<double> knot_sizes(const Path<Scalar>& path) {
+  std::vector<double> out;
+  out.reserve(path.knots().size());
+  for (const auto& k : path.knots()) {
+    double size = std::abs(to_double(k.intercept));
+    for (const auto& [j, beta] : k.coefficients) size = std::max(size, std::abs(to_double(beta)));
+    out.push_back(size);
+  }
+  return out;
+}
+
+/// The largest solution size over the knots of `path` that bracket the
+/// penalty `lambda` (knots are in decreasing penalty): the last knot above
+/// it, every knot at it, and the first knot below it. A difference is
+/// measured relative to the solution over its segment, not at the point:
+/// just below a knot where a coefficient enters, the exact solution is as
+/// small as the distance to the knot, and a knot penalty that is off by one
+/// rounding would otherwise read as a relative error of 1.
+template <class Scalar>
+double segment_size(const Path<Scalar>& path, const std::vector<double>& sizes, double lambda) {
+  const auto& knots = path.knots();
+  if (knots.empty()) return 0;
+  // Binary searches, O(log K): the first knot not above lambda, and the
+  // first knot below it.
+  const auto not_above = std::partition_point(
+      knots.begin(), knots.end(), [&](const auto& k) { return to_double(k.penalty) > lambda; });
+  const auto below = std::partition_point(
+      not_above, knots.end(), [&](const auto& k) { return to_double(k.penalty) >= lambda; });
+  const auto first = static_cast<std::size_t>(std::max<std::ptrdiff_t>(not_above - knots.begin() - 1, 0));
+  const auto last = std::min(static_cast<std::size_t>(below - knots.begin()), knots.size() - 1);
+  double size = 0;
+  for (std::size_t k = first; k <= last; ++k) size = std::max(size, sizes[k]);
+  return size;
+}
+
+}  // namespace detail
+
 /// Compares a double path with a high-precision path of the same problem
 /// (fills every field of CrossCheck; thresholds in the file comment).
 /// O(K (log K + p)) with K the knots of both paths. Throws invalid_query when
@@ -255,20 +306,20 @@ CrossCheck compare_paths(const Path<double>& low, const Path<High>& high) {
     d.high_penalty = low_longer ? 0.0 : detail::to_double(b[common].penalty);
     out.first_difference = d;
   }
-  // Coefficients at the union of both paths' knot penalties.
+  // Coefficients at the union of both paths' knot penalties, relative to
+  // the size of the high-precision solution over the segment that holds
+  // the penalty (detail::segment_size).
   std::vector<double> penalties;
   for (const auto& k : a) penalties.push_back(k.penalty);
   for (const auto& k : b) penalties.push_back(detail::to_double(k.penalty));
+  const std::vector<double> knot_size = detail::knot_sizes(high);
   for (double lambda : penalties) {
     const auto sl = low.at_penalty(lambda);
     const auto sh = high.at_penalty(High(lambda));
-    double top = std::abs(detail::to_double(sh.intercept)), diff = 0;
-    diff = std::abs(sl.intercept - detail::to_double(sh.intercept));
-    for (Index j = 0; j < sl.coefficients.size(); ++j) {
-      const double h = detail::to_double(sh.coefficients(j));
-      top = std::max(top, std::abs(h));
-      diff = std::max(diff, std::abs(sl.coefficients(j) - h));
-    }
+    double diff = std::abs(sl.intercept - detail::to_double(sh.intercept));
+    for (Index j = 0; j < sl.coefficients.size(); ++j)
+      diff = std::max(diff, std::abs(sl.coefficients(j) - detail::to_double(sh.coefficients(j))));
+    const double top = std::max(detail::solution_size(sh), detail::segment_size(high, knot_size, lambda));
     out.max_coefficient_difference =
         std::max(out.max_coefficient_difference, top > 0 ? diff / top : diff);
   }

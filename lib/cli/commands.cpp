@@ -80,9 +80,9 @@ void warn_if_suspect(const Path<double>& path, const Solution<double>& solution,
   }
   if (upper->suspect)
     std::cerr << fmt::format(
-        "knotpath: WARNING: SUSPECT POINT: the estimated relative error of the double path here "
-        "is {:.2g} (threshold {:.2g}); {}\n",
-        upper->estimated_error, path.options().suspect_threshold, io::suspect_advice_text(context));
+        "knotpath: WARNING: SUSPECT POINT: the double path here has an {} (threshold {:.2g}); {}\n",
+        io::estimated_error_text(upper->estimated_error), path.options().suspect_threshold,
+        io::suspect_advice_text(context));
 }
 
 }  // namespace

@@ -147,9 +147,9 @@ int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
   std::cout << io::coefficient_table(solution, path, loaded.context.predictor_names, csv);
   if (!csv && path.suspect())
     std::cout << fmt::format(
-        "WARNING: the path is SUSPECT in this arithmetic (estimated relative error up to "
-        "{:.2g}); trace it with more digits or --precision exact\n",
-        path.worst_estimated_error());
+        "WARNING: the path is SUSPECT in this arithmetic ({}); trace it with more digits or "
+        "--precision exact\n",
+        io::estimated_error_text(path.worst_estimated_error()));
   std::cout.flush();
   return finished_status(path);
 }

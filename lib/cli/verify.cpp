@@ -105,14 +105,13 @@ std::string comparison_text(const Comparison& c, const RunFacts& run) {
                              : check.double_knots);
   out += fmt::format(
       "largest coefficient difference: {:.3g} (relative to the largest high-precision "
-      "coefficient there, at every knot of both paths)\n",
+      "coefficient or intercept on the segment there, at every knot of both paths)\n",
       check.max_coefficient_difference);
   out += fmt::format("condition estimate (double):    {:.3g} (worst along the path)\n",
                      check.condition_estimate);
   out += fmt::format(
-      "double health check:            {} (estimated relative error up to {:.2g}, threshold "
-      "{:.2g})\n",
-      check.double_suspect ? "SUSPECT" : "clean", run.low.worst_estimated_error(),
+      "double health check:            {} ({}, threshold {:.2g})\n",
+      check.double_suspect ? "SUSPECT" : "clean", io::estimated_error_text(run.low.worst_estimated_error()),
       run.low.options().suspect_threshold);
   if (!c.low_finite) out += "the double path holds values that are not finite\n";
   return out;

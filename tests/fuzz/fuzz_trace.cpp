@@ -20,7 +20,7 @@
 // with kappa the active factor's condition estimate (Knot::condition_estimate)
 // (or the centring amplification, if larger: see below) and zmax the
 // largest prepared column norm; the path's own error estimate
-// (Knot::estimated_error, which includes the measured correlation drift)
+// (Knot::prepared_error, which includes the measured correlation drift)
 // times lambda_max (times the largest penalty factor, see below) bounds
 // what accumulates over the knots. Both get a
 // factor 1e3 for the growth constants of n, p <= 12 and the up to a hundred
@@ -123,7 +123,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     // amplification 1e5).
     const double kappa = std::max({1.0, knot.condition_estimate, prep.centring_amplification});
     const double allowed = 1e3 * eps * kappa * zmax * (yz.norm() + zmax * b.lpNorm<1>()) +
-                           1e3 * knot.estimated_error * lambda_max * fmax;
+                           1e3 * knot.prepared_error * lambda_max * fmax;
     for (std::size_t k = 0; k < q; ++k) {
       const Index kk = static_cast<Index>(k);
       const double f = prep.penalty_factors[k];

@@ -34,6 +34,11 @@ struct RunContext {
 /// command for this table and the higher-precision options.
 std::string suspect_advice_text(const RunContext& context);
 
+/// The one wording of a health estimate (Knot::estimated_error): what it
+/// bounds, on the scale the report prints, or, above first_order_limit,
+/// that it bounds nothing. Used by every output that quotes an estimate.
+std::string estimated_error_text(double estimate);
+
 /// Formats a double with 17 significant digits (round-trips exactly);
 /// "nan"/"inf" never occur in a valid path.
 std::string round_trip(double value);

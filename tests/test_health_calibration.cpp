@@ -1,0 +1,362 @@
+// Calibration of the double path's health check (Knot::estimated_error)
+// against the error actually measured: every design of a corpus is traced in
+// double and in 50 significant digits (cross_check), and the worst estimate
+// of the double path is compared with the largest coefficient difference the
+// comparison measures on the scale the report prints (original-scale
+// coefficients and intercept, relative to the largest of them at each knot
+// penalty of both paths; compare_paths in precision.hpp).
+//
+// The rule (the issue's acceptance test, RELIABILITY.md "Health check
+// calibration" holds the table this test prints):
+//  - no design's measured error exceeds its estimate;
+//  - on well-conditioned designs the estimate is within a factor 100 of the
+//    measured error (the measured error floored at the unit roundoff 2^-53,
+//    below which a difference says nothing about the arithmetic), so a
+//    healthy path is never flagged.
+// The corpus: random designs (well and badly conditioned, with and without
+// ridge, weights, penalty factors, sign constraints, p > n, intercept or not,
+// both variants) and the NIST StRD linear least-squares tables of
+// ../shared/data/strd (Longley; Pontius, Wampler1-4 and Filip as polynomial
+// models of their certified degree; NIST Statistical Reference Datasets,
+// https://www.itl.nist.gov/div898/strd/lls/lls.shtml). The NIST tables are
+// skipped with a message when the data folder is absent.
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <iomanip>
+#include <iostream>
+#include <random>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <knotpath/knotpath.hpp>
+
+#include "test_support.hpp"
+
+namespace kp = knotpath;
+namespace kt = knotpath::testing;
+using kp::Index;
+
+namespace {
+
+struct Case {
+  std::string name;
+  kp::Matrix<double> x;
+  kp::Vector<double> y;
+  kp::Vector<double> weights;   // empty: unweighted
+  kp::TraceOptions options;
+  std::optional<kp::DecimalProblem> text;  // NIST tables: traced from their decimals
+};
+
+struct Measured {
+  double estimate = 0;
+  double measured = 0;
+  double condition = 0;
+  double centring = 1;
+  bool same_events = true;
+  bool suspect = false;
+  std::size_t knots = 0;
+  Index max_active = 0;
+};
+
+Measured calibrate(const Case& c) {
+  const auto check = c.text ? kp::cross_check<kp::float50>(*c.text, c.options)
+                            : kp::cross_check<kp::float50>(c.x, c.y, c.options, c.weights);
+  return {check.double_path.worst_estimated_error(), check.max_coefficient_difference,
+          check.condition_estimate, check.double_path.preparation().centring_amplification,
+          check.same_events, check.double_suspect, check.double_knots,
+          check.double_path.knots().empty() ? 0 : check.double_path.knots().back().active_count};
+}
+
+// Gaussian design whose columns have correlation rho with a common factor
+// (rho = 0: independent), response = a sparse signal plus noise.
+Case random_case(const std::string& name, Index n, Index p, double rho, std::uint64_t seed) {
+  std::mt19937_64 gen(seed);
+  std::normal_distribution<double> z;
+  Case c;
+  c.name = name;
+  c.x.resize(n, p);
+  c.y.resize(n);
+  for (Index i = 0; i < n; ++i) {
+    const double common = z(gen);
+    for (Index j = 0; j < p; ++j) c.x(i, j) = rho * common + std::sqrt(1 - rho * rho) * z(gen);
+  }
+  for (Index i = 0; i < n; ++i) {
+    double signal = 0;
+    for (Index j = 0; j < std::min<Index>(p, 4); ++j) signal += (j % 2 ? -1.5 : 2.0) * c.x(i, j);
+    c.y(i) = signal + z(gen);
+  }
+  return c;
+}
+
+// y on x, x^2, ..., x^degree with x spread over [lo, hi] (the polynomial
+// models behind NIST's hardest tables); badly conditioned from degree 4 on.
+Case polynomial_case(const std::string& name, Index n, int degree, double lo, double hi,
+                     std::uint64_t seed) {
+  std::mt19937_64 gen(seed);
+  std::normal_distribution<double> z;
+  Case c;
+  c.name = name;
+  c.x.resize(n, degree);
+  c.y.resize(n);
+  for (Index i = 0; i < n; ++i) {
+    const double t = lo + (hi - lo) * static_cast<double>(i) / static_cast<double>(n - 1);
+    double power = 1;
+    for (int j = 0; j < degree; ++j) c.x(i, j) = (power *= t);
+    c.y(i) = 1 + t - 0.5 * t * t / hi + 0.1 * z(gen);
+  }
+  return c;
+}
+
+std::vector<Case> generated_corpus() {
+  std::vector<Case> corpus;
+  auto add = [&](Case c, auto&& adjust) {
+    adjust(c);
+    corpus.push_back(std::move(c));
+  };
+  auto none = [](Case&) {};
+  add(random_case("independent 60x8", 60, 8, 0.0, 1), none);
+  add(random_case("independent 200x20", 200, 20, 0.0, 2), none);
+  add(random_case("independent 60x8, no intercept", 60, 8, 0.0, 3),
+      [](Case& c) { c.options.with_intercept = false; });
+  add(random_case("independent 60x8, not standardized", 60, 8, 0.0, 4),
+      [](Case& c) { c.options.standardize = false; });
+  add(random_case("correlated 0.9, 60x10", 60, 10, 0.9, 5), none);
+  add(random_case("correlated 0.999, 60x10", 60, 10, 0.999, 6), none);
+  add(random_case("correlated 0.99999, 60x6", 60, 6, 0.99999, 7), none);
+  for (double ridge : {0.01, 0.5, 2.0}) {
+    std::ostringstream name;
+    name << "ridge " << ridge << ", correlated 0.9, 60x10";
+    add(random_case(name.str(), 60, 10, 0.9, 8), [ridge](Case& c) { c.options.ridge = ridge; });
+  }
+  add(random_case("weights, 60x8", 60, 8, 0.3, 9), [](Case& c) {
+    std::mt19937_64 gen(90);
+    std::uniform_real_distribution<double> u(0.2, 3.0);
+    c.weights.resize(c.y.size());
+    for (Index i = 0; i < c.weights.size(); ++i) c.weights(i) = u(gen);
+  });
+  add(random_case("penalty factors (one unpenalized), 60x8", 60, 8, 0.3, 10), [](Case& c) {
+    c.options.penalty_factors = {0.0, 1.0, 2.0, 0.5, 1.0, 1.0, 3.0, 1.0};
+  });
+  add(random_case("nonnegative coefficients, 60x8", 60, 8, 0.5, 11), [](Case& c) {
+    c.options.sign_constraints.assign(8, kp::SignConstraint::nonnegative);
+  });
+  add(random_case("p > n, 25x60", 25, 60, 0.0, 12), none);
+  add(random_case("p > n, 25x60, no intercept", 25, 60, 0.0, 13),
+      [](Case& c) { c.options.with_intercept = false; });
+  add(random_case("least angle, 60x10", 60, 10, 0.5, 14),
+      [](Case& c) { c.options.variant = kp::Variant::least_angle; });
+  add(random_case("large offset, 60x6", 60, 6, 0.0, 15), [](Case& c) {
+    c.x.array() += 1e4;  // centring cancels four digits (Preparation::centring_amplification)
+  });
+  add(polynomial_case("polynomial degree 5 on [0, 20]", 40, 5, 0.0, 20.0, 16), none);
+  add(polynomial_case("polynomial degree 7 on [1, 10]", 40, 7, 1.0, 10.0, 17), none);
+  add(polynomial_case("polynomial degree 9 on [0, 1]", 60, 9, 0.0, 1.0, 18), none);
+  add(polynomial_case("polynomial degree 6 on [0, 20], ridge 1", 40, 6, 0.0, 20.0, 19),
+      [](Case& c) { c.options.ridge = 1.0; });
+  return corpus;
+}
+
+// NIST StRD polynomial table: y on x, ..., x^degree, the powers computed in
+// double (the reference is the problem those doubles hold).
+std::optional<Case> nist_polynomial(const std::string& table, int degree) {
+  const auto file = kt::reference_file("strd/" + table + ".csv");
+  if (!file) return std::nullopt;
+  const kt::CsvTable t = kt::read_csv(*file);
+  Case c;
+  c.name = "NIST StRD " + table + " (degree " + std::to_string(degree) + ")";
+  const Index n = static_cast<Index>(t.rows.size());
+  c.x.resize(n, degree);
+  c.y.resize(n);
+  for (Index i = 0; i < n; ++i) {
+    const auto& row = t.rows[static_cast<std::size_t>(i)];
+    c.y(i) = row[0];
+    double power = 1;
+    for (int j = 0; j < degree; ++j) c.x(i, j) = (power *= row[1]);
+  }
+  return c;
+}
+
+// NIST StRD Longley, traced from its decimal text (the reference is the
+// exact table).
+std::optional<Case> nist_longley() {
+  const auto file = kt::reference_file("strd/longley.csv");
+  if (!file) return std::nullopt;
+  const kt::CsvText t = kt::read_csv_text(*file);
+  kp::DecimalProblem text;
+  text.columns.resize(t.names.size() - 1);
+  for (const auto& row : t.rows) {
+    text.response.push_back(row[0]);
+    for (std::size_t j = 1; j < row.size(); ++j) text.columns[j - 1].push_back(row[j]);
+  }
+  Case c;
+  c.name = "NIST StRD longley (from its decimals)";
+  c.text = std::move(text);
+  return c;
+}
+
+constexpr double unit_roundoff = 0x1p-53;
+
+// The options of a case, for a failure message.
+std::string describe(const Case& c) {
+  std::ostringstream out;
+  out << c.name << ": " << c.x.rows() << "x" << c.x.cols()
+      << (c.options.with_intercept ? ", intercept" : ", no intercept")
+      << (c.options.standardize ? ", standardized" : ", not standardized") << ", ridge " << c.options.ridge
+      << (c.options.variant == kp::Variant::lasso ? ", lasso" : ", least angle")
+      << (c.weights.size() ? ", weights" : "") << (c.options.penalty_factors.empty() ? "" : ", factors")
+      << (c.options.sign_constraints.empty() ? "" : ", nonnegative");
+  return out.str();
+}
+// Well-conditioned: worst condition estimate of the active Gram matrix at
+// most 100, i.e. condition indexes (square roots) at most 10, the range
+// Belsley, Kuh & Welsch (1980, Regression Diagnostics, Wiley, ch. 3) call
+// weak dependencies.
+constexpr double well_conditioned = 100;
+// ... and no column whose mean is far from zero against its spread
+// (Preparation::centring_amplification at most 10): centring hides the
+// ill-conditioning that involves the intercept (D. A. Belsley 1984,
+// "Demeaning conditioning diagnostics through centering", The American
+// Statistician 38(2)).
+constexpr double well_centred = 10;
+
+void print_row(const Case& c, const Measured& m) {
+  std::cout << std::left << std::setw(48) << c.name << std::right << std::setw(10)
+            << std::setprecision(2) << m.condition << std::setw(10) << m.estimate << std::setw(10)
+            << m.measured << std::setw(8) << std::setprecision(3)
+            << m.estimate / std::max(m.measured, unit_roundoff) << (m.same_events ? "" : "  events differ")
+            << "\n";
+}
+
+void check_case(const Case& c) {
+  const Measured m = calibrate(c);
+  print_row(c, m);
+  if (m.estimate <= kp::first_order_limit) {
+    // The estimate bounds the measured error on the reported scale.
+    EXPECT_LE(m.measured, m.estimate) << c.name;
+  } else {
+    // Beyond the first-order regime the path is flagged, whatever it measures.
+    EXPECT_TRUE(m.suspect) << c.name;
+  }
+  // A well-conditioned path is not flagged, and its estimate is not far
+  // above what the arithmetic actually lost.
+  if (m.condition <= well_conditioned && m.centring <= well_centred) {
+    EXPECT_LE(m.estimate, 100 * std::max(m.measured, unit_roundoff)) << c.name;
+    EXPECT_FALSE(m.suspect) << c.name;
+    EXPECT_TRUE(m.same_events) << c.name;
+  }
+}
+
+void print_header() {
+  std::cout << std::left << std::setw(48) << "design" << std::right << std::setw(10) << "cond"
+            << std::setw(10) << "estimate" << std::setw(10) << "measured" << std::setw(8) << "ratio"
+            << "\n";
+}
+
+}  // namespace
+
+TEST(HealthCalibration, GeneratedCorpusEstimateBoundsTheMeasuredError) {
+  print_header();
+  for (const Case& c : generated_corpus()) check_case(c);
+}
+
+TEST(HealthCalibration, NistStrdEstimateBoundsTheMeasuredError) {
+  std::vector<Case> corpus;
+  // Certified degrees: Pontius 2, Wampler1-4 5, Filip 10 (NIST StRD).
+  for (const auto& [table, degree] : std::vector<std::pair<std::string, int>>{
+           {"pontius", 2}, {"wampler1", 5}, {"wampler2", 5}, {"wampler3", 5}, {"wampler4", 5},
+           {"filip", 10}})
+    if (auto c = nist_polynomial(table, degree)) corpus.push_back(std::move(*c));
+  if (auto c = nist_longley()) corpus.push_back(std::move(*c));
+  if (corpus.empty()) GTEST_SKIP() << "NIST StRD files not found under " << kt::data_dir();
+  print_header();
+  for (const Case& c : corpus) check_case(c);
+}
+
+// The false alarm of elastic-net paths: the ridge term of the active
+// correlations was counted as drift, so the estimate grew with the ridge
+// weight (0.09 at ridge 0.5 on a healthy path). Common practice: a healthy,
+// well-conditioned path estimates an error near the unit roundoff whatever
+// the ridge weight.
+TEST(HealthCalibration, RidgeWeightIsNotCountedAsDrift) {
+  const Case base = random_case("ridge", 60, 10, 0.5, 21);
+  for (double ridge : {0.01, 0.5, 2.0, 10.0}) {
+    kp::TraceOptions options;
+    options.ridge = ridge;
+    const auto path = kp::trace(base.x, base.y, options);
+    EXPECT_FALSE(path.suspect()) << "ridge " << ridge;
+    EXPECT_LT(path.worst_estimated_error(), 1e-12) << "ridge " << ridge;
+  }
+}
+
+// A random sweep beside the named corpus: 300 small designs over every
+// option combination (intercept, scaling, ridge, weights, penalty factors,
+// sign constraints, variant, p > n, correlation from none to 0.9999). The
+// bound must hold on every design and no well-conditioned path may be
+// flagged; the summary line (smallest ratio estimate / measured, and the
+// share of well-conditioned designs within a factor 100) is the one
+// RELIABILITY.md quotes. KNOTPATH_CALIBRATION_DUMP=1 prints one line per
+// design (condition, rows, columns, estimate, measured, knots, final active
+// count) for studying the calibration.
+TEST(HealthCalibration, RandomSweepEstimateBoundsTheMeasuredError) {
+  std::mt19937_64 gen(2026);
+  std::uniform_int_distribution<int> rows(8, 80), cols(2, 30), coin(0, 1), pick(0, 3);
+  std::uniform_real_distribution<double> u(0, 1);
+  const double correlations[] = {0.0, 0.5, 0.9, 0.9999};
+  double smallest = std::numeric_limits<double>::infinity(), largest_well = 0;
+  int designs = 0, well = 0, within_100 = 0, beyond = 0;
+  for (int t = 0; t < 300; ++t) {
+    Case c = random_case("sweep " + std::to_string(t), rows(gen), cols(gen),
+                         correlations[pick(gen)], 5000 + static_cast<std::uint64_t>(t));
+    const auto p = static_cast<std::size_t>(c.x.cols());
+    c.options.with_intercept = coin(gen);
+    c.options.standardize = coin(gen);
+    if (coin(gen)) c.options.ridge = std::pow(10.0, -2 + 3 * u(gen));
+    if (!coin(gen)) c.options.variant = kp::Variant::least_angle;
+    if (pick(gen) == 0) {
+      c.weights.resize(c.y.size());
+      for (Index i = 0; i < c.weights.size(); ++i) c.weights(i) = 0.1 + 3 * u(gen);
+    }
+    if (pick(gen) == 0) {
+      c.options.penalty_factors.resize(p);
+      for (auto& f : c.options.penalty_factors) f = pick(gen) == 0 ? 0.0 : 0.5 + u(gen);
+    }
+    if (pick(gen) == 0) c.options.sign_constraints.assign(p, kp::SignConstraint::nonnegative);
+    if (pick(gen) == 0) c.x.array() += 100 * u(gen);  // offsets: centring at work
+    Measured m;
+    try {
+      m = calibrate(c);
+    } catch (const kp::invalid_option&) {
+      continue;  // e.g. every predictor unpenalized: not a path
+    }
+    ++designs;
+    const double ratio = m.estimate / std::max(m.measured, unit_roundoff);
+    if (m.estimate <= kp::first_order_limit) {
+      EXPECT_LE(m.measured, m.estimate) << describe(c) << " cond " << m.condition << " centring " << m.centring;
+      smallest = std::min(smallest, ratio);
+    } else {
+      ++beyond;
+      EXPECT_TRUE(m.suspect) << c.name;
+    }
+    if (std::getenv("KNOTPATH_CALIBRATION_DUMP"))
+      std::cout << "DUMP " << m.condition << " " << c.x.rows() << " " << c.x.cols() << " " << m.estimate << " "
+                << m.measured << " " << m.knots << " " << m.max_active << "\n";
+    if (m.condition <= well_conditioned && m.centring <= well_centred) {
+      ++well;
+      within_100 += ratio <= 100;
+      largest_well = std::max(largest_well, ratio);
+      // Not yet the factor 100 of the named corpus on every random design
+      // (RELIABILITY.md, "Health check calibration": the knot-penalty term
+      // is loose on weak signals); this pins today's calibration.
+      EXPECT_LE(ratio, 2000) << describe(c) << " cond " << m.condition << " centring " << m.centring;
+      EXPECT_FALSE(m.suspect) << c.name;
+    }
+  }
+  std::cout << designs << " designs: smallest estimate/measured " << smallest << "; " << well
+            << " well-conditioned, " << within_100 << " of them within a factor 100, largest ratio "
+            << largest_well << "; " << beyond << " beyond the first-order limit\n";
+  EXPECT_GT(well, 50);
+  EXPECT_GE(within_100, 0.8 * well);
+}
