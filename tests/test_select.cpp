@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <optional>
 #include <vector>
 
 #include <knotpath/criteria.hpp>
@@ -160,6 +161,73 @@ TEST(CrossValidation, ParsimoniousChoiceIsTheLargestPenaltyWithinOneStandardErro
   }
   EXPECT_NEAR(result.parsimonious.lambda, result.parsimonious.mu * std::sqrt(80.0),
               1e-14 * result.parsimonious.lambda);
+}
+
+// Regression (RELIABILITY.md, "parsimonious choice above its threshold"):
+// the search for the largest mu within one standard error solved each
+// piece's quadratic and clamped the larger root to the piece's upper end,
+// also when both roots lay above it (the piece's parabola, continued past
+// its end, dips under the threshold; the curve there belongs to another
+// piece). The choice then sat where CV was above the threshold: on this
+// design (16 rows, 5 predictors, 4 folds 0,1,2,3,0,1,...; standardized, no
+// intercept, plain lasso) at CV 4.541 against the threshold 4.150.
+TEST(CrossValidation, ParsimoniousChoiceAboveItsThresholdWhenAPieceDipsPastItsEnd) {
+  const double rows[16][6] = {  // x1..x5, y
+      {-1.8, 1.0, -1.3, 0.3, 0.7, -1.6}, {0.5, 1.1, -0.9, 0.8, 2.7, -1.0},
+      {0.0, 1.6, 1.1, -0.9, -0.9, -0.8}, {-0.3, -0.5, -0.8, -0.0, -0.6, 0.8},
+      {0.6, -0.6, 1.0, 0.1, -1.2, 1.8},  {2.3, -0.6, 0.3, -0.1, 1.0, 3.4},
+      {-0.7, 0.1, -1.1, -0.7, -1.2, 2.0}, {-0.2, 1.0, -0.7, -0.7, -0.2, -4.0},
+      {-0.6, -0.4, -0.2, -0.9, 1.6, 0.9}, {-0.7, -1.1, -0.1, -1.8, 0.2, -1.6},
+      {-0.1, -0.2, 0.6, 1.0, -0.3, -1.4}, {0.4, 0.6, -0.7, -1.1, -1.8, 0.2},
+      {1.5, 0.4, 0.8, -0.8, 0.8, 3.3},   {0.5, -1.0, 1.7, 0.5, 0.7, 3.4},
+      {-0.4, -0.9, -0.5, 0.7, -0.8, 1.4}, {-0.1, 1.1, -0.3, 0.1, -2.8, -1.8}};
+  Matrix<double> x(16, 5);
+  Vector<double> y(16);
+  for (Index i = 0; i < 16; ++i) {
+    for (Index j = 0; j < 5; ++j) x(i, j) = rows[i][j];
+    y(i) = rows[i][5];
+  }
+  kp::TraceOptions o;
+  o.with_intercept = false;
+  kp::CrossValidationOptions cv;
+  for (long i = 0; i < 16; ++i) cv.fold_of.push_back(i % 4);
+  const auto result = kp::cross_validate<double>(x, y, o, cv);
+  const double threshold = result.minimum.error + result.minimum.standard_error;
+  const double tol = 1e-12 * threshold;  // rounding of a root and of 16 squared residuals
+  // The rule, on the curve evaluated fold by fold (not the merged pieces).
+  EXPECT_LE(result.error_at_mu(result.parsimonious.mu), threshold + tol);
+  EXPECT_DOUBLE_EQ(result.parsimonious.error, result.error_at_mu(result.parsimonious.mu));
+  for (int g = 1; g <= 5000; ++g) {
+    const double mu =
+        result.parsimonious.mu + (result.mu_high - result.parsimonious.mu) * g / 5000.0;
+    ASSERT_GT(result.error_at_mu(mu), threshold - tol) << "mu " << mu;
+  }
+  // The same rule from separately traced folds (no shared curve code).
+  const DirectCv direct(x, y, result.fold_of, o);
+  EXPECT_NEAR(direct.error(result.parsimonious.mu), result.parsimonious.error,
+              1e-10 * threshold);
+}
+
+// The piece search on its own: q(s) = (s - 2)^2 dips under 0.5 only for s in
+// [2 - sqrt(0.5), 2 + sqrt(0.5)], wholly above the piece's s in [0, 1].
+TEST(CrossValidation, PieceSearchFindsNothingWhenTheDipLiesAboveThePiece) {
+  kp::CurvePiece<double> q;
+  q.mu_high = 1.0;
+  q.constant = 4.0;
+  q.linear = -4.0;
+  q.quadratic = 1.0;
+  EXPECT_FALSE(kp::detail::largest_at_most(q, 0.5).has_value());
+  // Threshold 1.5: q(1) = 1 is within it, so the whole piece is.
+  EXPECT_EQ(kp::detail::largest_at_most(q, 1.5), std::optional<double>(1.0));
+  // A dip below the piece: q(s) = (s + 2)^2 is under 0.5 only for s < 0.
+  q.linear = 4.0;
+  EXPECT_FALSE(kp::detail::largest_at_most(q, 0.5).has_value());
+  // A dip inside it: q(s) = (s - 0.25)^2 <= 0.01 on [0.15, 0.35].
+  q.constant = 0.0625;
+  q.linear = -0.5;
+  const auto inside = kp::detail::largest_at_most(q, 0.01);
+  ASSERT_TRUE(inside.has_value());
+  EXPECT_NEAR(*inside, 0.35, 1e-15);
 }
 
 // Leave-one-out equals refitting each fold with an independent solver
