@@ -52,6 +52,12 @@ std::string shown(double v, int digits = 6) {
   return std::isfinite(v) ? fmt::format("{:.{}g}", v, digits) : std::string("-");
 }
 
+// A count that weights may make fractional: a JSON integer when it is whole.
+json whole_or_fraction(double v) {
+  if (v == std::floor(v) && std::fabs(v) < 9e15) return json(static_cast<long long>(v));
+  return json(v);
+}
+
 // The user's fold column: distinct labels >= 0 become folds 0..K-1 in
 // ascending order of the label; a negative label keeps the row in every
 // training set.
@@ -204,11 +210,16 @@ Selection run_selection(const SelectData& data, const CrossValidationOptions& cv
   auto reason = [](const std::exception& e) {
     std::string why = e.what();
     if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
+    // The program's users know the option, not the library's field.
+    for (const std::string field : {"CriteriaOptions::noise_variance", "InferenceOptions::noise_variance"})
+      for (auto at = why.find(field); at != std::string::npos; at = why.find(field))
+        why.replace(at, field.size(), "--noise-variance");
     return why;
   };
   CriteriaOptions co;
   InferenceOptions io;
   if (noise_variance) co.noise_variance = io.noise_variance = *noise_variance;
+  co.cross_validated_penalty = s.cv.minimum.lambda;  // Reid et al. (2016) when p >= n
   try {
     s.criteria = information_criteria<double>(data.x, data.y, path, co, data.w);
   } catch (const invalid_option& e) {
@@ -236,6 +247,8 @@ std::string source_name(NoiseVarianceSource source) {
       return "given";
     case NoiseVarianceSource::least_squares:
       return "least-squares";
+    case NoiseVarianceSource::cross_validated_fit:
+      return "cross-validated-fit";
     case NoiseVarianceSource::sparse_fit:
       return "sparse-fit";
   }
@@ -330,13 +343,27 @@ void print_cross_validation(std::ostream& out, const Selection& s, const SelectA
 void print_criteria(std::ostream& out, const Selection& s) {
   if (s.criteria) {
     const auto& ic = *s.criteria;
-    std::string source = ic.source == NoiseVarianceSource::given ? "given"
-                         : ic.source == NoiseVarianceSource::least_squares
-                             ? fmt::format("least-squares fit, {} residual df", ic.residual_df)
-                             : fmt::format(
-                                   "rough estimate from a sparse lasso fit, {} residual df; give "
-                                   "--noise-variance when it matters",
-                                   ic.residual_df);
+    std::string source;
+    switch (ic.source) {
+      case NoiseVarianceSource::given:
+        source = "given";
+        break;
+      case NoiseVarianceSource::least_squares:
+        source = fmt::format("least-squares fit, {} residual df", shown(ic.residual_df));
+        break;
+      case NoiseVarianceSource::cross_validated_fit:
+        source = fmt::format(
+            "RSS / (n - active) of the lasso fit at the least CV error, {} residual df "
+            "(Reid, Tibshirani & Friedman 2016); give --noise-variance when it matters",
+            shown(ic.residual_df));
+        break;
+      case NoiseVarianceSource::sparse_fit:
+        source = fmt::format(
+            "rough estimate from a sparse lasso fit, {} residual df; give --noise-variance when "
+            "it matters",
+            shown(ic.residual_df));
+        break;
+    }
     out << fmt::format("\ninformation criteria (noise variance {}, {}):\n",
                        shown(ic.noise_variance), source);
     auto best = [&](const char* label, std::size_t i) {
@@ -458,7 +485,8 @@ json selection_document(const Selection& s, const SelectData& data, const Select
     };
     doc["information_criteria"] = json{
         {"noise_variance", ic.noise_variance}, {"noise_variance_source", source_name(ic.source)},
-        {"residual_df", ic.residual_df},       {"observations", ic.observations},
+        {"residual_df", whole_or_fraction(ic.residual_df)}, {"observations", ic.observations},
+        {"sample_size", whole_or_fraction(ic.sample_size)},
         {"best_mallows_cp", best(ic.best_cp)}, {"best_aic", best(ic.best_aic)},
         {"best_bic", best(ic.best_bic)},       {"knots", knots}};
   } else {

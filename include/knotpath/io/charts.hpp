@@ -254,7 +254,8 @@ SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
     for (const auto& k : criteria->knots) {
       const double mu = to_double(k.mu);
       cp.values.emplace_back(mu, to_double(k.mallows_cp));
-      aic.values.emplace_back(mu, to_double(k.aic));
+      if (std::isfinite(to_double(k.aic)))  // AIC is not defined where RSS = 0 or d >= n
+        aic.values.emplace_back(mu, to_double(k.aic));
       bic.values.emplace_back(mu, to_double(k.bic));
     }
     out.criteria = {cp, aic, bic};
