@@ -52,6 +52,28 @@ std::string shown(double v, int digits = 6) {
   return std::isfinite(v) ? fmt::format("{:.{}g}", v, digits) : std::string("-");
 }
 
+// Text of a p-value: below 1e-10 only "< 1e-10" (the far tail is an
+// extrapolation of the reference law with a plug-in sigma^2); JSON keeps the number.
+std::string shown_p_value(double p) {
+  return std::isfinite(p) && p < 1e-10 ? std::string("< 1e-10") : shown(p, 3);
+}
+
+// How to read the entry tests (text and JSON): their different null
+// hypotheses, when their laws hold, and the multiple-testing warning.
+std::vector<std::string> test_reading_notes() {
+  return {
+      "the two tests ask different questions: the covariance test's null hypothesis is that the "
+      "predictors active before the entry already hold every true effect; the spacing test's is "
+      "that the entering predictor has no effect given those active with it",
+      "the spacing p-value is exact only at step 1 and only with a known noise variance (give "
+      "--noise-variance); with an estimated one it is approximate and may reject too often in "
+      "small tables",
+      "the covariance test's Exp(1) or F reference law is asymptotic: in small tables its level "
+      "can be off",
+      "reading down a column to choose where to stop is a multiple-testing problem: each "
+      "p-value holds for its own step, not for the sequence"};
+}
+
 // A count that weights may make fractional: a JSON integer when it is whole.
 json whole_or_fraction(double v) {
   if (v == std::floor(v) && std::fabs(v) < 9e15) return json(static_cast<long long>(v));
@@ -276,8 +298,8 @@ void print_audit_with_tests(std::ostream& out, const Selection& s, const SelectD
     std::string tests;
     if (auto it = test_of.find(k.step); it != test_of.end() && k.event == EventKind::enter)
       tests = fmt::format(" {:>9} {:>10} {:>10}", shown(it->second->covariance_statistic, 4),
-                          shown(it->second->covariance_p_value, 3),
-                          shown(it->second->spacing_p_value, 3));
+                          shown_p_value(it->second->covariance_p_value),
+                          shown_p_value(it->second->spacing_p_value));
     out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7.4f}{}\n", k.step,
                        shown(k.penalty), shown(k.penalty / scale), to_string(k.event), name,
                        k.active_count, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
@@ -308,6 +330,7 @@ void print_test_notes(std::ostream& out, const Selection& s) {
                                         : std::string("Exp(1)"),
         shown(s.significance->noise_variance),
         s.significance->residual_df > 0 ? "least-squares fit" : "given");
+    for (const auto& line : test_reading_notes()) out << "  " << line << '\n';
     out << notes;
   } else {
     out << "tests: not computed: " << s.significance_note << '\n';
@@ -328,15 +351,23 @@ void print_cross_validation(std::ostream& out, const Selection& s, const SelectA
   out << fmt::format(
       "\nexact cross-validation: {}; the curve is {} quadratic pieces on mu in [{}, {}]\n", how,
       cv.pieces.size(), shown(cv.mu_low), shown(cv.mu_high));
+  out << "  (exact: the grid-free minimizer of this K-fold curve, not of the unknown "
+         "prediction error)\n";
   out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", "choice", "lambda", "mu",
                      "CV error", "SE", "active");
-  auto choice = [&](const char* label, const CurvePoint<double>& c) {
+  // The SE column holds the standard error that sets the threshold (at the
+  // minimum); the parsimonious row has none of its own.
+  auto choice = [&](const char* label, const CurvePoint<double>& c, const std::string& se) {
     out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", label, shown(c.lambda, 7),
-                       shown(c.mu, 7), shown(c.error, 7), shown(c.standard_error, 4),
-                       active_count(path, c.lambda));
+                       shown(c.mu, 7), shown(c.error, 7), se, active_count(path, c.lambda));
   };
-  choice("least CV error (exact)", cv.minimum);
-  choice("parsimonious (within 1 SE)", cv.parsimonious);
+  choice("least CV error (exact)", cv.minimum, shown(cv.minimum.standard_error, 4));
+  choice("parsimonious (within 1 SE)", cv.parsimonious, "");
+  out << fmt::format(
+      "  parsimonious: the largest mu whose CV error is at most {} = least CV error {} + its "
+      "standard error {}\n",
+      shown(cv.minimum.error + cv.minimum.standard_error, 7), shown(cv.minimum.error, 7),
+      shown(cv.minimum.standard_error, 4));
 }
 
 // Where Mallows' Cp, AIC and BIC are least.
@@ -372,8 +403,15 @@ void print_criteria(std::ostream& out, const Selection& s) {
                          label, c.step, shown(c.penalty, 7), shown(c.mu, 7), c.nonzero);
     };
     best("Mallows' Cp", ic.best_cp);
-    best("AIC", ic.best_aic);
+    best("AIC", ic.best_aic);  // n log(RSS / n) + 2 d: sigma^2 not used
     best("BIC", ic.best_bic);
+    out << "  (AIC in its unknown-variance form n log(RSS/n) + 2 d; Cp and BIC use the noise "
+           "variance above; d: "
+        << (s.cv.full_path.options().ridge != 0.0 ? "the elastic net's trace degrees of freedom"
+            : s.cv.full_path.options().variant == Variant::least_angle
+                ? "the number of steps (Efron et al. 2004)"
+                : "the number of nonzero coefficients")
+        << ", plus the intercept)\n";
   } else {
     out << "\ninformation criteria: not computed: " << s.criteria_note << '\n';
   }
@@ -477,7 +515,8 @@ json selection_document(const Selection& s, const SelectData& data, const Select
                            {"parameters", c.parameters},
                            {"rss", c.rss},
                            {"mallows_cp", c.mallows_cp},
-                           {"aic", c.aic},
+                           {"degrees_of_freedom", c.degrees_of_freedom},
+                           {"aic", number_or_null(c.aic)},
                            {"bic", c.bic}});
     auto best = [&](std::size_t i) {
       const auto& c = ic.knots[i];
@@ -512,6 +551,10 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   } else {
     doc["significance"] = json{{"note", s.significance_note}};
   }
+  if (s.significance) doc["significance"]["reading"] = test_reading_notes();
+  doc["cross_validation"]["one_standard_error_rule"] =
+      json{{"threshold", cv.minimum.error + cv.minimum.standard_error},
+           {"standard_error_at_minimum", cv.minimum.standard_error}};
   doc["cautions"] = caution_lines(true);
   doc["path"] = io::path_document(path, data.context);
   return doc;
