@@ -625,6 +625,26 @@ TEST(ChartMu, SelectionAxisTitleFollowsTheScalingOfThePath) {
   }
 }
 
+// The one-standard-error threshold line is drawn at the least error plus
+// the standard error at the minimizer itself (the one that sets the rule),
+// not at the curve point drawn nearest to it.
+TEST(ChartSelection, ThresholdUsesTheStandardErrorAtTheMinimum) {
+  const auto& d = demo();
+  knotpath::CrossValidationOptions cv_options;
+  cv_options.folds = 4;
+  const auto cv = knotpath::cross_validate<double>(d.data.x, d.data.y, {}, cv_options);
+  kc::SelectionCurve curve = kc::selection_curve(cv);
+  EXPECT_EQ(curve.threshold_standard_error, cv.minimum.standard_error);
+  auto threshold_line = [](const std::string& svg) {
+    const auto at = svg.find("one-se-threshold");
+    return at == std::string::npos ? std::string() : svg.substr(svg.rfind('<', at), 200);
+  };
+  const std::string drawn = threshold_line(kc::selection_curve_svg(curve));
+  ASSERT_FALSE(drawn.empty());
+  curve.threshold_standard_error *= 2;  // the line follows the field
+  EXPECT_NE(threshold_line(kc::selection_curve_svg(curve)), drawn);
+}
+
 // ------------------------------------------------------------ chart 4: report
 
 TEST(Report, ParsesEmbedsEveryChartAndReferencesNothingOutside) {

@@ -13,6 +13,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <iterator>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -26,6 +27,7 @@
 #include <knotpath/criteria.hpp>
 #include <knotpath/cross_validation.hpp>
 #include <knotpath/demo.hpp>
+#include <knotpath/detail/random.hpp>
 #include <knotpath/inference.hpp>
 #include <knotpath/io/charts.hpp>
 #include <knotpath/io/report.hpp>
@@ -350,6 +352,77 @@ TEST_F(Select, JsonHasTheDocumentedFields) {
                   std::exp(-e["covariance_statistic"].get<double>()), 1e-12);
     }
   EXPECT_EQ(doc["path"]["knots"].size(), doc["information_criteria"]["knots"].size());
+}
+
+// Issue 18, point 10: what select says about its numbers. A strong effect
+// (p-values far below 1e-10: printed as "< 1e-10", the JSON keeps the
+// number); the threshold of the parsimonious choice with the standard error
+// that set it (at the minimum), not the one at the choice; the tests' null
+// hypotheses and limits; "exact" explained; the AIC form named. Then pure
+// noise with more predictors than rows: the noise variance of the criteria
+// comes from the fit at the least CV error (Reid, Tibshirani & Friedman
+// 2016), the JSON names that estimator, and the tests' refusal names the
+// program's option --noise-variance, not a library field.
+TEST_F(Select, WordingNamesEstimatorsThresholdAndTheLimitsOfTheTests) {
+  knotpath::testing::Problem strong;
+  knotpath::detail::SplitMix64 g(4242);
+  strong.x.resize(120, 4);
+  strong.y.resize(120);
+  for (Index i = 0; i < 120; ++i) {
+    for (Index j = 0; j < 4; ++j) strong.x(i, j) = g.normal();
+    strong.y(i) = 5.0 * strong.x(i, 0) + 0.5 * g.normal();
+  }
+  for (int j = 0; j < 4; ++j) strong.names.push_back("x" + std::to_string(j));
+  write_table(file("strong.csv"), strong);
+  Outcome r = run("select strong.csv --response y --folds 5 --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  const double p1 = doc["significance"]["entries"][0]["covariance_p_value"].get<double>();
+  EXPECT_LT(p1, 1e-10);
+  EXPECT_GE(p1, 0.0);
+  EXPECT_NE(r.out.find("< 1e-10"), std::string::npos) << r.out;
+  EXPECT_EQ(r.out.find(fmt::format("{:.3g}", p1)), std::string::npos) << r.out;
+  const auto& c = doc["cross_validation"];
+  const double se = c["minimum"]["standard_error"].get<double>();
+  const double threshold = c["minimum"]["cv_error"].get<double>() + se;
+  EXPECT_LE(relative(c["one_standard_error_rule"]["threshold"].get<double>(), threshold), 1e-15);
+  EXPECT_EQ(c["one_standard_error_rule"]["standard_error_at_minimum"].get<double>(), se);
+  EXPECT_NE(r.out.find(fmt::format("is at most {:.7g} = least CV error {:.7g} + its standard error "
+                                   "{:.4g}",
+                                   threshold, c["minimum"]["cv_error"].get<double>(), se)),
+            std::string::npos)
+      << r.out;
+  // The parsimonious row has no SE of its own: label (4 words), lambda, mu, error, active.
+  const auto row = r.out.find("  parsimonious (within 1 SE)");
+  ASSERT_NE(row, std::string::npos);
+  std::istringstream words(r.out.substr(row, r.out.find('\n', row) - row));
+  std::vector<std::string> tokens{std::istream_iterator<std::string>(words), {}};
+  EXPECT_EQ(tokens.size(), 8u) << r.out;
+  for (const char* needle :
+       {"different questions", "exact only at step 1 and only with a known noise variance",
+        "reference law is asymptotic", "multiple-testing problem",
+        "grid-free minimizer of this K-fold curve", "unknown-variance form n log(RSS/n) + 2 d"})
+    EXPECT_NE(r.out.find(needle), std::string::npos) << needle << '\n' << r.out;
+  EXPECT_EQ(doc["significance"]["reading"].size(), 4u);
+
+  knotpath::testing::Problem noise;
+  noise.x.resize(40, 80);
+  noise.y.resize(40);
+  for (Index i = 0; i < 40; ++i) {
+    for (Index j = 0; j < 80; ++j) noise.x(i, j) = g.normal();
+    noise.y(i) = g.normal();
+  }
+  for (int j = 0; j < 80; ++j) noise.names.push_back("x" + std::to_string(j));
+  write_table(file("noise.csv"), noise);
+  Outcome wide = run("select noise.csv --response y --json w.json");
+  ASSERT_EQ(wide.code, 0) << wide.err;
+  const json w = json::parse(slurp(file("w.json")));
+  EXPECT_EQ(w["information_criteria"]["noise_variance_source"], "cross-validated-fit");
+  EXPECT_NE(wide.out.find("Reid, Tibshirani & Friedman 2016"), std::string::npos) << wide.out;
+  EXPECT_NE(wide.out.find("tests: not computed"), std::string::npos) << wide.out;
+  EXPECT_NE(wide.out.find("--noise-variance"), std::string::npos) << wide.out;
+  EXPECT_EQ(wide.out.find("Options::"), std::string::npos) << wide.out;
+  EXPECT_EQ(w.dump().find("Options::"), std::string::npos);
 }
 
 TEST_F(Select, ReportParsesAndNothingIsLeftOnError) {

@@ -39,8 +39,11 @@
 #include <cmath>
 #include <cstdio>
 #include <random>
+#include <string>
 #include <vector>
 
+#include <knotpath/cross_validation.hpp>
+#include <knotpath/detail/random.hpp>
 #include <knotpath/knotpath.hpp>
 
 #include "soak_design.hpp"
@@ -199,6 +202,117 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       "soak: worst fit disagreement with coordinate descent ||Z(b - b_cd)|| / ||y|| %.3g (%s)\n",
       fig.worst_fit, fig.worst_fit_design.c_str());
   EXPECT_EQ(fig.paths, kDesigns);
+}
+
+// The parsimonious (one-standard-error) choice of exact cross-validation
+// keeps its own rule on thousands of random designs: 20 to 150 rows, 4 to 45
+// predictors, 3 to 20 folds given as a fold column, every combination of
+// intercept / standardize / ridge, the lasso and the least-angle variant,
+// with and without weights. The rule (Hastie, Tibshirani & Friedman, The
+// Elements of Statistical Learning, 2nd ed., section 7.10) is checked on the
+// curve evaluated directly, fold by fold (CrossValidation::error_at_mu, not
+// the merged quadratics the search walks):
+//  - CV(choice) <= CV(min) + SE(min);
+//  - every larger mu on a fine set above the choice, and every merged-grid
+//    point above it, has CV above that threshold.
+// The allowance kRuleTol (relative) covers the rounding of a quadratic's
+// root and of the sums of squares (about 1e-14 relative); the bug this
+// guards against (RELIABILITY.md, "parsimonious choice above its threshold")
+// broke the rule by about 1e-2 relative.
+TEST(Soak, ParsimoniousChoiceKeepsTheOneStandardErrorRule) {
+  constexpr int kCvDesigns = 3000;
+  constexpr int kFinePoints = 300;
+  constexpr double kRuleTol = 1e-10;
+  const auto started = std::chrono::steady_clock::now();
+  long checked = 0, at_top = 0, points = 0;
+  double worst_excess = 0, worst_larger = 0;  // relative to the threshold
+  for (int s = 0; s < kCvDesigns; ++s) {
+    kp::detail::SplitMix64 g(5000u + static_cast<unsigned>(s));
+    const Index n = 20 + static_cast<Index>(g.uniform() * 131);  // 20..150
+    const Index p = 4 + static_cast<Index>(g.uniform() * 42);    // 4..45
+    const Index k = std::min<Index>(n, 3 + static_cast<Index>(g.uniform() * 18));  // 3..20
+    const double rho = g.uniform() < 0.5 ? 0.0 : 0.8;
+    Matrix<double> x(n, p);
+    for (Index i = 0; i < n; ++i) {
+      double prev = g.normal();
+      for (Index j = 0; j < p; ++j) {
+        if (j > 0) prev = rho * prev + std::sqrt(1.0 - rho * rho) * g.normal();
+        x(i, j) = prev * (1.0 + 3.0 * static_cast<double>(j % 3));
+      }
+    }
+    Vector<double> y(n);
+    const double noise = 0.3 + 3.0 * g.uniform();
+    for (Index i = 0; i < n; ++i)
+      y(i) = 2.0 + 1.5 * x(i, 0) - x(i, p / 2) + 0.5 * x(i, p - 1) + noise * g.normal();
+    kp::TraceOptions o;
+    o.with_intercept = (s & 1) != 0;
+    o.standardize = (s & 2) != 0;
+    o.ridge = (s & 4) != 0 ? 0.05 + 2.0 * g.uniform() : 0.0;
+    if ((s & 8) != 0 && o.ridge == 0.0) o.variant = kp::Variant::least_angle;
+    Vector<double> w;
+    if ((s % 5) == 4) {
+      w.resize(n);
+      for (Index i = 0; i < n; ++i) w(i) = 0.5 + 2.0 * g.uniform();
+    }
+    kp::CrossValidationOptions cv;
+    cv.fold_of.resize(static_cast<std::size_t>(n));
+    for (Index i = 0; i < n; ++i) cv.fold_of[static_cast<std::size_t>(i)] = static_cast<long>(i % k);
+    for (std::size_t i = cv.fold_of.size(); i > 1; --i)
+      std::swap(cv.fold_of[i - 1], cv.fold_of[static_cast<std::size_t>(g.uniform() * static_cast<double>(i))]);
+    const std::string summary = "design " + std::to_string(s) + ": n " + std::to_string(n) +
+                                ", p " + std::to_string(p) + ", folds " + std::to_string(k) +
+                                (o.with_intercept ? ", intercept" : "") +
+                                (o.standardize ? ", standardized" : "") +
+                                (o.ridge != 0.0 ? ", ridge" : "") +
+                                (o.variant == kp::Variant::least_angle ? ", least angle" : "") +
+                                (w.size() != 0 ? ", weights" : "");
+    SCOPED_TRACE(summary);
+    kp::CrossValidation<double> r;
+    try {
+      r = kp::cross_validate<double>(x, y, o, cv, w);
+    } catch (const std::exception& e) {
+      ADD_FAILURE() << "cross_validate threw " << e.what();
+      continue;
+    }
+    ++checked;
+    const double threshold = r.minimum.error + r.minimum.standard_error;
+    const double tol = kRuleTol * threshold;
+    const double mu = r.parsimonious.mu;
+    const double at_choice = r.error_at_mu(mu);
+    worst_excess = std::max(worst_excess, (at_choice - threshold) / threshold);
+    EXPECT_GE(mu, r.minimum.mu);
+    EXPECT_LE(at_choice, threshold + tol) << "the choice at mu " << mu << " breaks its rule";
+    if (!(mu < r.mu_high)) {
+      ++at_top;
+      continue;
+    }
+    std::vector<double> above;
+    for (int q = 1; q <= kFinePoints; ++q)
+      above.push_back(mu + (r.mu_high - mu) * q / kFinePoints);
+    for (const auto& piece : r.pieces)
+      if (piece.mu_high > mu) above.push_back(piece.mu_high);
+    int misses = 0;
+    for (double m : above) {
+      if (m <= mu) continue;
+      ++points;
+      const double e = r.error_at_mu(m);
+      worst_larger = std::max(worst_larger, (threshold - e) / threshold);
+      if (e <= threshold - tol && ++misses <= 1)
+        ADD_FAILURE() << "larger mu " << m << " has CV " << e << " <= threshold " << threshold
+                      << " (choice " << mu << ")";
+    }
+  }
+  const double seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  std::printf(
+      "soak (parsimonious choice): %ld cross-validations (%ld chose the top of the curve), %ld "
+      "larger penalties checked, %.1f s\n",
+      checked, at_top, points, seconds);
+  std::printf(
+      "soak (parsimonious choice): worst excess over the threshold %.3g, worst larger penalty "
+      "under it %.3g (relative; negative: none)\n",
+      worst_excess, -worst_larger);
+  EXPECT_EQ(checked, kCvDesigns);
 }
 
 }  // namespace

@@ -311,6 +311,12 @@ Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const 
 }
 
 /// Largest s in [0, 1] with q(s) <= threshold, if any.
+///
+/// With positive curvature q(s) <= threshold exactly on the interval between
+/// the two roots; that interval must meet [0, 1]. When it lies wholly above
+/// s = 1 (the curve of this piece, continued past its upper end, would dip
+/// under the threshold) the piece holds no such s: the continuation belongs
+/// to no piece (RELIABILITY.md, "parsimonious choice above its threshold").
 template <class Scalar>
 std::optional<Scalar> largest_at_most(const CurvePiece<Scalar>& q, const Scalar& threshold) {
   if (q.at(Scalar(1)) <= threshold) return Scalar(1);
@@ -324,6 +330,7 @@ std::optional<Scalar> largest_at_most(const CurvePiece<Scalar>& q, const Scalar&
     const Scalar h = Scalar(-0.5) * (c1 + (c1 >= Scalar(0) ? sq : Scalar(-sq)));
     Scalar r1 = h / c2;
     Scalar r2 = h != Scalar(0) ? Scalar(c0 / h) : r1;
+    if (std::min(r1, r2) > Scalar(1)) return std::nullopt;  // the dip lies above the piece
     root = std::max(r1, r2);
   } else if (c1 > Scalar(0)) {
     root = -c0 / c1;

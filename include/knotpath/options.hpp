@@ -48,6 +48,15 @@ enum class SignConstraint {
 ///
 /// with s_j the column scale (root weighted sum of squares of the centred
 /// column when standardize is on, else 1) and f_j the penalty factors.
+///
+/// Weights (the one home of their meaning; everything that counts rows
+/// refers here). The weights w_i are frequency weights: a row of weight w
+/// counts as w rows, so integer weights give exactly what repeating each row
+/// w times gives: the path, the size-free penalty (n = sum of weights),
+/// cross-validation's weighted averages (a fold's size is its weight sum; the
+/// folds are drawn over rows, so repeated rows may fall in other folds), and
+/// the criteria's n and noise variance (criteria.hpp). Non-integer weights
+/// extend the same arithmetic. A row of weight 0 is dropped.
 struct TraceOptions {
   /// Lasso (with leave events) or least angle regression.
   Variant variant = Variant::lasso;

@@ -178,12 +178,13 @@ void SelectionChart::marker(double pen, double other, const std::string& colour,
 
 // The one-SE threshold: least error plus the standard error there (dotted).
 void SelectionChart::draw_threshold() {
-  double se_at_min = 0, best = std::numeric_limits<double>::infinity();
-  for (const auto& q : pts_)
-    if (std::abs(q.penalty - curve_.minimizer) < best) {
-      best = std::abs(q.penalty - curve_.minimizer);
-      se_at_min = q.standard_error;
-    }
+  double se_at_min = curve_.threshold_standard_error, best = std::numeric_limits<double>::infinity();
+  if (!std::isfinite(se_at_min))
+    for (const auto& q : pts_)
+      if (std::abs(q.penalty - curve_.minimizer) < best) {
+        best = std::abs(q.penalty - curve_.minimizer);
+        se_at_min = q.standard_error;
+      }
   const double ty = e_(curve_.minimum_error + se_at_min);
   c_.line(left_, ty, right_, ty,
           "class=\"one-se-threshold\" stroke=\"#009E73\" stroke-width=\"1\" "

@@ -67,7 +67,9 @@ charts::SelectionCurve demo_selection(const demo::DemoData& data, const std::str
                                       std::ostream& out) {
   CrossValidationOptions cv_options;  // 10 folds, default seed
   const auto cv = cross_validate<double>(data.x, data.y, TraceOptions{}, cv_options);
-  const auto criteria = information_criteria<double>(data.x, data.y, cv.full_path);
+  CriteriaOptions criteria_options;
+  criteria_options.cross_validated_penalty = cv.minimum.lambda;  // as select (criteria.hpp)
+  const auto criteria = information_criteria<double>(data.x, data.y, cv.full_path, criteria_options);
   require_finite_path(cv.full_path);
   auto kept = [&](double lambda) {
     std::string list;

@@ -18,9 +18,10 @@ std::vector<std::string> caution_lines(bool with_selection) {
       "a path and a penalty chosen on it describe associations in these data, not causes."};
   if (with_selection) {
     lines.push_back(
-        "cross-validated errors are estimates (their standard error is shown); with few rows per "
-        "fold they "
-        "change with the folds.");
+        "\"exact\" cross-validation means the exact, grid-free minimizer of this K-fold curve "
+        "(these folds), not an exact answer to which penalty is best: cross-validated errors are "
+        "estimates (the standard error at the minimum is shown), and other folds give other "
+        "curves and other choices, the more so with few rows per fold.");
     lines.push_back(
         "the p-values are valid only under the model's assumptions (linear model, independent "
         "Gaussian noise "

@@ -52,6 +52,34 @@ std::string shown(double v, int digits = 6) {
   return std::isfinite(v) ? fmt::format("{:.{}g}", v, digits) : std::string("-");
 }
 
+// Text of a p-value: below 1e-10 only "< 1e-10" (the far tail is an
+// extrapolation of the reference law with a plug-in sigma^2); JSON keeps the number.
+std::string shown_p_value(double p) {
+  return std::isfinite(p) && p < 1e-10 ? std::string("< 1e-10") : shown(p, 3);
+}
+
+// How to read the entry tests (text and JSON): their different null
+// hypotheses, when their laws hold, and the multiple-testing warning.
+std::vector<std::string> test_reading_notes() {
+  return {
+      "the two tests ask different questions: the covariance test's null hypothesis is that the "
+      "predictors active before the entry already hold every true effect; the spacing test's is "
+      "that the entering predictor has no effect given those active with it",
+      "the spacing p-value is exact only at step 1 and only with a known noise variance (give "
+      "--noise-variance); with an estimated one it is approximate and may reject too often in "
+      "small tables",
+      "the covariance test's Exp(1) or F reference law is asymptotic: in small tables its level "
+      "can be off",
+      "reading down a column to choose where to stop is a multiple-testing problem: each "
+      "p-value holds for its own step, not for the sequence"};
+}
+
+// A count that weights may make fractional: a JSON integer when it is whole.
+json whole_or_fraction(double v) {
+  if (v == std::floor(v) && std::fabs(v) < 9e15) return json(static_cast<long long>(v));
+  return json(v);
+}
+
 // The user's fold column: distinct labels >= 0 become folds 0..K-1 in
 // ascending order of the label; a negative label keeps the row in every
 // training set.
@@ -204,11 +232,16 @@ Selection run_selection(const SelectData& data, const CrossValidationOptions& cv
   auto reason = [](const std::exception& e) {
     std::string why = e.what();
     if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
+    // The program's users know the option, not the library's field.
+    for (const std::string field : {"CriteriaOptions::noise_variance", "InferenceOptions::noise_variance"})
+      for (auto at = why.find(field); at != std::string::npos; at = why.find(field))
+        why.replace(at, field.size(), "--noise-variance");
     return why;
   };
   CriteriaOptions co;
   InferenceOptions io;
   if (noise_variance) co.noise_variance = io.noise_variance = *noise_variance;
+  co.cross_validated_penalty = s.cv.minimum.lambda;  // Reid et al. (2016) when p >= n
   try {
     s.criteria = information_criteria<double>(data.x, data.y, path, co, data.w);
   } catch (const invalid_option& e) {
@@ -236,6 +269,8 @@ std::string source_name(NoiseVarianceSource source) {
       return "given";
     case NoiseVarianceSource::least_squares:
       return "least-squares";
+    case NoiseVarianceSource::cross_validated_fit:
+      return "cross-validated-fit";
     case NoiseVarianceSource::sparse_fit:
       return "sparse-fit";
   }
@@ -263,8 +298,8 @@ void print_audit_with_tests(std::ostream& out, const Selection& s, const SelectD
     std::string tests;
     if (auto it = test_of.find(k.step); it != test_of.end() && k.event == EventKind::enter)
       tests = fmt::format(" {:>9} {:>10} {:>10}", shown(it->second->covariance_statistic, 4),
-                          shown(it->second->covariance_p_value, 3),
-                          shown(it->second->spacing_p_value, 3));
+                          shown_p_value(it->second->covariance_p_value),
+                          shown_p_value(it->second->spacing_p_value));
     out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7.4f}{}\n", k.step,
                        shown(k.penalty), shown(k.penalty / scale), to_string(k.event), name,
                        k.active_count, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
@@ -295,6 +330,7 @@ void print_test_notes(std::ostream& out, const Selection& s) {
                                         : std::string("Exp(1)"),
         shown(s.significance->noise_variance),
         s.significance->residual_df > 0 ? "least-squares fit" : "given");
+    for (const auto& line : test_reading_notes()) out << "  " << line << '\n';
     out << notes;
   } else {
     out << "tests: not computed: " << s.significance_note << '\n';
@@ -315,28 +351,50 @@ void print_cross_validation(std::ostream& out, const Selection& s, const SelectA
   out << fmt::format(
       "\nexact cross-validation: {}; the curve is {} quadratic pieces on mu in [{}, {}]\n", how,
       cv.pieces.size(), shown(cv.mu_low), shown(cv.mu_high));
+  out << "  (exact: the grid-free minimizer of this K-fold curve, not of the unknown "
+         "prediction error)\n";
   out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", "choice", "lambda", "mu",
                      "CV error", "SE", "active");
-  auto choice = [&](const char* label, const CurvePoint<double>& c) {
+  // The SE column holds the standard error that sets the threshold (at the
+  // minimum); the parsimonious row has none of its own.
+  auto choice = [&](const char* label, const CurvePoint<double>& c, const std::string& se) {
     out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", label, shown(c.lambda, 7),
-                       shown(c.mu, 7), shown(c.error, 7), shown(c.standard_error, 4),
-                       active_count(path, c.lambda));
+                       shown(c.mu, 7), shown(c.error, 7), se, active_count(path, c.lambda));
   };
-  choice("least CV error (exact)", cv.minimum);
-  choice("parsimonious (within 1 SE)", cv.parsimonious);
+  choice("least CV error (exact)", cv.minimum, shown(cv.minimum.standard_error, 4));
+  choice("parsimonious (within 1 SE)", cv.parsimonious, "");
+  out << fmt::format(
+      "  parsimonious: the largest mu whose CV error is at most {} = least CV error {} + its "
+      "standard error {}\n",
+      shown(cv.minimum.error + cv.minimum.standard_error, 7), shown(cv.minimum.error, 7),
+      shown(cv.minimum.standard_error, 4));
 }
 
 // Where Mallows' Cp, AIC and BIC are least.
 void print_criteria(std::ostream& out, const Selection& s) {
   if (s.criteria) {
     const auto& ic = *s.criteria;
-    std::string source = ic.source == NoiseVarianceSource::given ? "given"
-                         : ic.source == NoiseVarianceSource::least_squares
-                             ? fmt::format("least-squares fit, {} residual df", ic.residual_df)
-                             : fmt::format(
-                                   "rough estimate from a sparse lasso fit, {} residual df; give "
-                                   "--noise-variance when it matters",
-                                   ic.residual_df);
+    std::string source;
+    switch (ic.source) {
+      case NoiseVarianceSource::given:
+        source = "given";
+        break;
+      case NoiseVarianceSource::least_squares:
+        source = fmt::format("least-squares fit, {} residual df", shown(ic.residual_df));
+        break;
+      case NoiseVarianceSource::cross_validated_fit:
+        source = fmt::format(
+            "RSS / (n - active) of the lasso fit at the least CV error, {} residual df "
+            "(Reid, Tibshirani & Friedman 2016); give --noise-variance when it matters",
+            shown(ic.residual_df));
+        break;
+      case NoiseVarianceSource::sparse_fit:
+        source = fmt::format(
+            "rough estimate from a sparse lasso fit, {} residual df; give --noise-variance when "
+            "it matters",
+            shown(ic.residual_df));
+        break;
+    }
     out << fmt::format("\ninformation criteria (noise variance {}, {}):\n",
                        shown(ic.noise_variance), source);
     auto best = [&](const char* label, std::size_t i) {
@@ -345,8 +403,15 @@ void print_criteria(std::ostream& out, const Selection& s) {
                          label, c.step, shown(c.penalty, 7), shown(c.mu, 7), c.nonzero);
     };
     best("Mallows' Cp", ic.best_cp);
-    best("AIC", ic.best_aic);
+    best("AIC", ic.best_aic);  // n log(RSS / n) + 2 d: sigma^2 not used
     best("BIC", ic.best_bic);
+    out << "  (AIC in its unknown-variance form n log(RSS/n) + 2 d; Cp and BIC use the noise "
+           "variance above; d: "
+        << (s.cv.full_path.options().ridge != 0.0 ? "the elastic net's trace degrees of freedom"
+            : s.cv.full_path.options().variant == Variant::least_angle
+                ? "the number of steps (Efron et al. 2004)"
+                : "the number of nonzero coefficients")
+        << ", plus the intercept)\n";
   } else {
     out << "\ninformation criteria: not computed: " << s.criteria_note << '\n';
   }
@@ -450,7 +515,8 @@ json selection_document(const Selection& s, const SelectData& data, const Select
                            {"parameters", c.parameters},
                            {"rss", c.rss},
                            {"mallows_cp", c.mallows_cp},
-                           {"aic", c.aic},
+                           {"degrees_of_freedom", c.degrees_of_freedom},
+                           {"aic", number_or_null(c.aic)},
                            {"bic", c.bic}});
     auto best = [&](std::size_t i) {
       const auto& c = ic.knots[i];
@@ -458,7 +524,8 @@ json selection_document(const Selection& s, const SelectData& data, const Select
     };
     doc["information_criteria"] = json{
         {"noise_variance", ic.noise_variance}, {"noise_variance_source", source_name(ic.source)},
-        {"residual_df", ic.residual_df},       {"observations", ic.observations},
+        {"residual_df", whole_or_fraction(ic.residual_df)}, {"observations", ic.observations},
+        {"sample_size", whole_or_fraction(ic.sample_size)},
         {"best_mallows_cp", best(ic.best_cp)}, {"best_aic", best(ic.best_aic)},
         {"best_bic", best(ic.best_bic)},       {"knots", knots}};
   } else {
@@ -484,6 +551,10 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   } else {
     doc["significance"] = json{{"note", s.significance_note}};
   }
+  if (s.significance) doc["significance"]["reading"] = test_reading_notes();
+  doc["cross_validation"]["one_standard_error_rule"] =
+      json{{"threshold", cv.minimum.error + cv.minimum.standard_error},
+           {"standard_error_at_minimum", cv.minimum.standard_error}};
   doc["cautions"] = caution_lines(true);
   doc["path"] = io::path_document(path, data.context);
   return doc;

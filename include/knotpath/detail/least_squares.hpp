@@ -80,13 +80,18 @@ template <class Scalar>
 struct NoiseVarianceEstimate {
   Scalar variance{0};     ///< sigma^2; 0 when not given and the fit leaves no residual df
   bool given = false;     ///< the user's value (the fields below are then 0)
-  Index residual_df = 0;  ///< n - rank - intercept of the full least-squares fit; <= 0: none left
+  Index residual_df = 0;  ///< rows with positive weight - rank - intercept; <= 0: none left
+  /// n - rank - intercept with n the sum of the weights (frequency weights,
+  /// options.hpp TraceOptions, "Weights"): the divisor of `variance`. Equals
+  /// residual_df without weights.
+  Scalar weighted_residual_df{0};
   Index rank = 0;         ///< rank of the full least-squares fit
 };
 
 /// The noise-variance rule: the value given when it is > 0; else the residual
 /// variance of the full least-squares fit, RSS / (n - rank - 1) (n - rank
-/// without intercept; n = rows with positive weight) when that leaves residual
+/// without intercept; n = the sum of the weights, the number of rows when
+/// unweighted: frequency weights, see TraceOptions) when that leaves residual
 /// degrees of freedom. What to do otherwise is the caller's (the criteria fall
 /// back on a sparse fit, the entry tests refuse).
 template <class Scalar>
@@ -101,8 +106,11 @@ NoiseVarianceEstimate<Scalar> given_or_least_squares_variance(double given,
   }
   const auto [rss, rank] = least_squares_fit(design);
   out.rank = rank;
-  out.residual_df = prep.used_observations - rank - (prep.intercept ? 1 : 0);
-  if (out.residual_df > 0) out.variance = rss / Scalar(static_cast<double>(out.residual_df));
+  const Index fitted = rank + (prep.intercept ? 1 : 0);
+  out.residual_df = prep.used_observations - fitted;
+  out.weighted_residual_df = prep.weight_sum - Scalar(static_cast<double>(fitted));
+  if (out.residual_df > 0 && out.weighted_residual_df > Scalar(0))
+    out.variance = rss / out.weighted_residual_df;
   return out;
 }
 

@@ -209,6 +209,10 @@ struct SelectionCurve {
   double minimizer = std::numeric_limits<double>::quiet_NaN();      ///< penalty of least mean error
   double minimum_error = std::numeric_limits<double>::quiet_NaN();  ///< the least mean error
   double one_se = std::numeric_limits<double>::quiet_NaN();         ///< one-standard-error choice
+  /// The standard error at the minimizer, which sets the one-standard-error
+  /// threshold minimum_error + threshold_standard_error (NaN: read off the
+  /// point nearest the minimizer).
+  double threshold_standard_error = std::numeric_limits<double>::quiet_NaN();
   std::vector<CriterionCurve> criteria;  ///< drawn on the second panel (may be empty)
 
   /// Throws invalid_option naming the first problem.
@@ -249,12 +253,14 @@ SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
   out.minimizer = to_double(cv.minimum.mu);
   out.minimum_error = to_double(cv.minimum.error);
   out.one_se = to_double(cv.parsimonious.mu);
+  out.threshold_standard_error = to_double(cv.minimum.standard_error);
   if (criteria) {
     CriterionCurve cp{"Mallows' Cp", {}}, aic{"AIC", {}}, bic{"BIC", {}};
     for (const auto& k : criteria->knots) {
       const double mu = to_double(k.mu);
       cp.values.emplace_back(mu, to_double(k.mallows_cp));
-      aic.values.emplace_back(mu, to_double(k.aic));
+      if (std::isfinite(to_double(k.aic)))  // AIC is not defined where RSS = 0 or d >= n
+        aic.values.emplace_back(mu, to_double(k.aic));
       bic.values.emplace_back(mu, to_double(k.bic));
     }
     out.criteria = {cp, aic, bic};
