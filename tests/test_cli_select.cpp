@@ -200,9 +200,10 @@ TEST_F(Select, AgreesWithTheLibraryOnSeededFolds) {
   for (Index j = 0; j < at.coefficients.size(); ++j) {
     const std::string& name = fx.p.names[static_cast<std::size_t>(j)];
     EXPECT_EQ(c["minimum"]["coefficients"].contains(name), at.coefficients(j) != 0) << name;
-    if (at.coefficients(j) != 0)
+    if (at.coefficients(j) != 0) {
       EXPECT_NEAR(c["minimum"]["coefficients"][name].get<double>(), at.coefficients(j),
                   1e-12 * (1 + std::abs(at.coefficients(j))));
+    }
   }
 
   const auto ic = knotpath::information_criteria<double>(fx.p.x, fx.p.y, lib.full_path);
@@ -636,7 +637,8 @@ TEST_F(Select, PrintsAndWritesTheAuditNotes) {
   ASSERT_EQ(r.code, 0) << r.err;
   const json doc = json::parse(slurp(file("s.json")));
   std::vector<std::string> want{"rows dropped for missing cells: 1",
-                                "excluded: flat (constant column)", "text columns skipped: site"};
+                                "excluded: flat (constant column (absorbed by the intercept))",
+                                "text columns skipped: site"};
   for (const auto& line : want) {
     EXPECT_NE(trace.out.find(line + "\n"), std::string::npos) << line << '\n' << trace.out;
     EXPECT_NE(r.out.find(line + "\n"), std::string::npos) << line << '\n' << r.out;
