@@ -319,21 +319,6 @@ json options_json(const Path<Scalar>& path, const std::vector<std::string>& name
   return opts;
 }
 
-// The numerical health of the path: suspect steps and advice.
-template <class Scalar>
-json health_json(const Path<Scalar>& path, const RunContext& context) {
-  json health;
-  health["suspect"] = path.suspect();
-  health["worst_estimated_error"] = path.worst_estimated_error();
-  health["suspect_threshold"] = path.options().suspect_threshold;
-  json steps = json::array();
-  for (const auto& k : path.knots())
-    if (k.suspect) steps.push_back(k.step);
-  health["suspect_steps"] = steps;
-  health["advice"] = path.suspect() ? json(suspect_advice<Scalar>(context)) : json(nullptr);
-  return health;
-}
-
 // One knot: penalty, event, fit and the nonzero coefficients.
 template <class Scalar>
 json knot_json(const Path<Scalar>& path, const Knot<Scalar>& knot,
@@ -406,6 +391,53 @@ json held_out_json(const Path<Scalar>& path, const std::vector<std::string>& nam
 }  // namespace
 
 template <class Scalar>
+nlohmann::ordered_json health_document(const Path<Scalar>& path, const RunContext& context) {
+  json health;
+  health["suspect"] = path.suspect();
+  health["worst_estimated_error"] = path.worst_estimated_error();
+  health["suspect_threshold"] = path.options().suspect_threshold;
+  json steps = json::array();
+  for (const auto& k : path.knots())
+    if (k.suspect) steps.push_back(k.step);
+  health["suspect_steps"] = steps;
+  health["advice"] = path.suspect() ? json(suspect_advice<Scalar>(context)) : json(nullptr);
+  return health;
+}
+
+template <class Scalar>
+std::string suspect_warning(const Path<Scalar>& path, const RunContext& context) {
+  if (!path.suspect()) return {};
+  return fmt::format(
+      "WARNING: SUSPECT PATH. Health check: {} (threshold {:.2g}) at {} of {} knots (marked "
+      "suspect above; worst condition estimate {:.2g}).\nWARNING: {}\n",
+      estimated_error_text(path.worst_estimated_error()), path.options().suspect_threshold,
+      suspect_count(path),
+      path.knots().size(), path.worst_condition_estimate(), suspect_advice<Scalar>(context));
+}
+
+template <class Scalar>
+std::vector<std::string> audit_notes(const Path<Scalar>& path, const RunContext& context) {
+  const auto& names = context.predictor_names;
+  std::vector<std::string> notes;
+  if (context.rows_dropped > 0)
+    notes.push_back(fmt::format("rows dropped for missing cells: {}", context.rows_dropped));
+  for (const auto& e : path.excluded())
+    notes.push_back(fmt::format("excluded: {} ({})", name_of(names, e.predictor), e.reason));
+  for (const auto& h : path.held_out())
+    notes.push_back(fmt::format(
+        "held out: {} at step {} (penalty {:.6g}): {}", name_of(names, h.predictor), h.step,
+        nearest_double(h.penalty),
+        h.saturated ? "the active set already had as many columns as usable rows"
+                    : "its column is numerically in the span of the active columns"));
+  if (!context.text_columns.empty()) {
+    std::string list;
+    for (const auto& t : context.text_columns) list += (list.empty() ? "" : ", ") + t;
+    notes.push_back("text columns skipped: " + list);
+  }
+  return notes;
+}
+
+template <class Scalar>
 nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext& context) {
   const auto& names = context.predictor_names;
   JsonNumbers<Scalar> numbers;  // for the top-level members
@@ -421,7 +453,7 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
   doc["stop_reason"] = to_string(path.stop_reason());
   doc["stop_explanation"] = stop_explanation(path.stop_reason());
   doc["worst_condition_estimate"] = path.worst_condition_estimate();
-  if (!is_double_v<Scalar> || path.suspect()) doc["health"] = health_json(path, context);
+  if (!is_double_v<Scalar> || path.suspect()) doc["health"] = health_document(path, context);
   json knots = json::array();
   json events = json::array();
   for (const auto& knot : path.knots()) {
@@ -487,26 +519,8 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   }
   out += fmt::format("stop: {} ({})\n", to_string(path.stop_reason()),
                      stop_explanation(path.stop_reason()));
-  if (context.rows_dropped > 0)
-    out += fmt::format("rows dropped for missing cells: {}\n", context.rows_dropped);
-  for (const auto& e : path.excluded())
-    out += fmt::format("excluded: {} ({})\n", name_of(names, e.predictor), e.reason);
-  for (const auto& h : path.held_out())
-    out += fmt::format("held out: {} at step {} (penalty {:.6g}): {}\n",
-                       name_of(names, h.predictor), h.step, nearest_double(h.penalty),
-                       h.saturated ? "the active set already had as many columns as usable rows"
-                                   : "its column is numerically in the span of the active columns");
-  if (!context.text_columns.empty()) {
-    std::string list;
-    for (const auto& t : context.text_columns) list += (list.empty() ? "" : ", ") + t;
-    out += "text columns skipped: " + list + "\n";
-  }
-  if (suspect)
-    out += fmt::format(
-        "WARNING: SUSPECT PATH. Health check: {} (threshold {:.2g}) at {} of {} knots (marked "
-        "suspect above; worst condition estimate {:.2g}).\nWARNING: {}\n",
-        estimated_error_text(path.worst_estimated_error()), path.options().suspect_threshold, suspect_count(path),
-        path.knots().size(), path.worst_condition_estimate(), suspect_advice<Scalar>(context));
+  for (const auto& note : audit_notes(path, context)) out += note + '\n';
+  out += suspect_warning(path, context);
   return out;
 }
 
@@ -560,6 +574,10 @@ std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scala
                                          const std::vector<std::string>&);                       \
   template nlohmann::ordered_json path_document<Scalar>(const Path<Scalar>&, const RunContext&); \
   template std::string audit_text<Scalar>(const Path<Scalar>&, const RunContext&);               \
+  template nlohmann::ordered_json health_document<Scalar>(const Path<Scalar>&,                   \
+                                                          const RunContext&);                    \
+  template std::string suspect_warning<Scalar>(const Path<Scalar>&, const RunContext&);          \
+  template std::vector<std::string> audit_notes<Scalar>(const Path<Scalar>&, const RunContext&); \
   template std::string coefficient_table<Scalar>(const Solution<Scalar>&, const Path<Scalar>&,   \
                                                  const std::vector<std::string>&, bool);
 

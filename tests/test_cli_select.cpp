@@ -13,7 +13,9 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <iterator>
+#include <random>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -31,6 +33,7 @@
 #include <knotpath/inference.hpp>
 #include <knotpath/io/charts.hpp>
 #include <knotpath/io/report.hpp>
+#include <knotpath/precision.hpp>
 
 #include "cli_runner.hpp"
 #include "test_support.hpp"
@@ -182,22 +185,28 @@ TEST_F(Select, AgreesWithTheLibraryOnSeededFolds) {
   const auto& c = doc["cross_validation"];
   EXPECT_EQ(c["folds"]["from"], "seed");
   EXPECT_EQ(c["folds"]["count"], 5);
-  EXPECT_LE(relative(c["minimum"]["lambda"].get<double>(), lib.minimum.lambda), 1e-12);
+  EXPECT_LE(relative(c["minimum"]["penalty"].get<double>(), lib.minimum.lambda), 1e-12);
   EXPECT_LE(relative(c["minimum"]["mu"].get<double>(), lib.minimum.mu), 1e-12);
   EXPECT_LE(relative(c["minimum"]["cv_error"].get<double>(), lib.minimum.error), 1e-12);
   EXPECT_LE(relative(c["minimum"]["standard_error"].get<double>(), lib.minimum.standard_error),
             1e-12);
-  EXPECT_LE(relative(c["parsimonious"]["lambda"].get<double>(), lib.parsimonious.lambda), 1e-12);
+  EXPECT_LE(relative(c["parsimonious"]["penalty"].get<double>(), lib.parsimonious.lambda), 1e-12);
   EXPECT_LE(relative(c["parsimonious"]["cv_error"].get<double>(), lib.parsimonious.error), 1e-12);
   EXPECT_EQ(c["pieces"].get<std::size_t>(), lib.pieces.size());
   EXPECT_EQ(c["curve_at_knots"].size(), lib.knot_points().size());
 
   // Coefficients at the choices: the library's path queried there.
+  // Only the nonzero coefficients are listed, as in the path document.
   const auto at = lib.full_path.at_penalty(lib.minimum.lambda);
   EXPECT_LE(relative(c["minimum"]["intercept"].get<double>(), at.intercept), 1e-12);
-  for (Index j = 0; j < at.coefficients.size(); ++j)
-    EXPECT_NEAR(c["minimum"]["coefficients"][fx.p.names[static_cast<std::size_t>(j)]].get<double>(),
-                at.coefficients(j), 1e-12 * (1 + std::abs(at.coefficients(j))));
+  for (Index j = 0; j < at.coefficients.size(); ++j) {
+    const std::string& name = fx.p.names[static_cast<std::size_t>(j)];
+    EXPECT_EQ(c["minimum"]["coefficients"].contains(name), at.coefficients(j) != 0) << name;
+    if (at.coefficients(j) != 0) {
+      EXPECT_NEAR(c["minimum"]["coefficients"][name].get<double>(), at.coefficients(j),
+                  1e-12 * (1 + std::abs(at.coefficients(j))));
+    }
+  }
 
   const auto ic = knotpath::information_criteria<double>(fx.p.x, fx.p.y, lib.full_path);
   const auto& d = doc["information_criteria"];
@@ -252,7 +261,7 @@ TEST_F(Select, FoldColumnMatchesAnIndependentRefitAndThePublishedFormulas) {
   EXPECT_EQ(c["folds"]["count"], 4);
   // The fold column is no predictor.
   EXPECT_FALSE(c["minimum"]["coefficients"].contains("part"));
-  EXPECT_EQ(c["minimum"]["coefficients"].size(), 8u);
+  EXPECT_EQ(doc["path"]["data"]["predictors"].size(), 8u);
 
   // Labels 1..4 are folds 0..3 in ascending order of the label.
   std::vector<int> fold;
@@ -304,7 +313,7 @@ TEST_F(Select, FoldColumnMatchesAnIndependentRefitAndThePublishedFormulas) {
   // form is from memory and re-derived here). p-value with the F(2, n-p-1)
   // reference: (1 + 2T/d)^(-d/2) (same paper, section 4 -- from memory).
   const auto& first = doc["significance"]["entries"][0];
-  const double l1 = first["lambda"].get<double>();
+  const double l1 = first["penalty"].get<double>();
   double l2 = 0;
   for (const auto& k : doc["path"]["knots"])
     if (k["penalty"].get<double>() < l1) {
@@ -333,7 +342,7 @@ TEST_F(Select, JsonHasTheDocumentedFields) {
   EXPECT_EQ(c["folds"]["from"], "leave-one-out");
   EXPECT_EQ(c["folds"]["count"].get<Index>(), fx.p.x.rows());
   for (const char* key :
-       {"lambda", "mu", "cv_error", "standard_error", "active", "intercept", "coefficients"}) {
+       {"penalty", "mu", "cv_error", "standard_error", "active", "intercept", "coefficients"}) {
     EXPECT_TRUE(c["minimum"].contains(key)) << key;
     EXPECT_TRUE(c["parsimonious"].contains(key)) << key;
   }
@@ -566,3 +575,193 @@ TEST(ReportCautions, AreEscapedAndShownOnlyWhenGiven) {
 }
 
 }  // namespace
+
+// ------------------------------------------------------------------------------------------
+// Issue 18: select reports the health of its path, can choose in higher
+// precision, prints the audit's notes, names penalties as the path document
+// does, and can skip the entry tests.
+
+namespace {
+
+// An invented scenario: the temperature of a cooling kiln read at 40 evenly
+// spaced times t in [0, 1], a cubic trend plus noise, regressed on the powers
+// t, t^2, ..., t^9 (a degree-9 polynomial design: its columns are nearly
+// collinear, condition number near 1e12 after standardizing; the trouble of
+// the Vandermonde/Hilbert-like designs is common practice). The cells are
+// kept as written (17 significant digits) so that a reference can parse the
+// same decimal text.
+struct KilnTable {
+  std::vector<std::vector<std::string>> cells;  // rows: t1..t9, temperature
+  void write(const fs::path& file) const {
+    std::ofstream out(file);
+    for (int k = 1; k <= 9; ++k) out << 't' << k << ',';
+    out << "temperature\n";
+    for (const auto& row : cells) {
+      for (std::size_t c = 0; c < row.size(); ++c) out << (c ? "," : "") << row[c];
+      out << '\n';
+    }
+  }
+};
+
+KilnTable kiln_table() {
+  std::mt19937_64 gen(20261218u);
+  std::normal_distribution<double> noise(0.0, 0.5);
+  KilnTable table;
+  for (int i = 0; i < 40; ++i) {
+    const double t = i / 39.0;
+    std::vector<std::string> row;
+    double power = 1;
+    for (int k = 1; k <= 9; ++k) row.push_back(knotpath::io::round_trip(power *= t));
+    row.push_back(knotpath::io::round_trip(20 + 60 * t - 45 * t * t + 12 * t * t * t + noise(gen)));
+    table.cells.push_back(row);
+  }
+  return table;
+}
+
+}  // namespace
+
+TEST_F(Select, SuspectPathIsWarnedInTextJsonAndReport) {
+  kiln_table().write(file("kiln.csv"));
+  Outcome trace = run("trace kiln.csv --response temperature");
+  ASSERT_EQ(trace.code, 0) << trace.err;
+  ASSERT_NE(trace.out.find("WARNING: SUSPECT PATH"), std::string::npos)
+      << "the scenario must give a suspect double path\n"
+      << trace.out;
+  Outcome r = run("select kiln.csv --response temperature --json s.json --report rep");
+  ASSERT_EQ(r.code, 0) << r.err;
+  // The same warning paragraph as trace (io::suspect_warning), and the
+  // advice to choose in higher precision.
+  const auto from = trace.out.find("WARNING: SUSPECT PATH");
+  EXPECT_NE(r.out.find(trace.out.substr(from)), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("knotpath select --precision 50"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("  suspect\n"), std::string::npos) << r.out;
+  const json doc = json::parse(slurp(file("s.json")));
+  ASSERT_TRUE(doc.contains("health"));
+  EXPECT_TRUE(doc["health"]["suspect"].get<bool>());
+  EXPECT_FALSE(doc["health"]["suspect_steps"].empty());
+  EXPECT_TRUE(doc["health"]["advice"].is_string());
+  EXPECT_EQ(doc["health"], doc["path"]["health"]);
+  EXPECT_NE(slurp(file("rep/report.html")).find("SUSPECT PATH"), std::string::npos);
+}
+
+TEST_F(Select, PrecisionFiftyChoosesAsAFiftyDigitReference) {
+  const KilnTable table = kiln_table();
+  table.write(file("kiln.csv"));
+  Outcome r = run("select kiln.csv --response temperature --precision 50 --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_NE(r.out.find("arithmetic: 50 significant digits"), std::string::npos) << r.out;
+  const json doc = json::parse(slurp(file("s.json")));
+  EXPECT_EQ(doc["precision"]["digits"], 50);
+  // In 50 digits the path is clean: no warning.
+  EXPECT_FALSE(doc["health"]["suspect"].get<bool>());
+  EXPECT_EQ(r.out.find("WARNING"), std::string::npos) << r.out;
+
+  // The reference: the library's cross-validation in 50-digit arithmetic
+  // (knotpath::float50) on the table's decimal text parsed exactly, default
+  // folds and seed as the program's.
+  using knotpath::float50;
+  const Index n = static_cast<Index>(table.cells.size());
+  Matrix<float50> x(n, 9);
+  Vector<float50> y(n);
+  for (Index i = 0; i < n; ++i) {
+    const auto& row = table.cells[static_cast<std::size_t>(i)];
+    for (Index j = 0; j < 9; ++j)
+      x(i, j) = knotpath::parse_decimal<float50>(row[static_cast<std::size_t>(j)]);
+    y(i) = knotpath::parse_decimal<float50>(row[9]);
+  }
+  const auto cv = knotpath::cross_validate<float50>(x, y, knotpath::TraceOptions{},
+                                                    knotpath::CrossValidationOptions{});
+  const auto& c = doc["cross_validation"];
+  // The program writes the nearest doubles of the same 50-digit values:
+  // agreement to the rounding of one double (1e-15 relative).
+  EXPECT_LE(relative(c["minimum"]["penalty"].get<double>(), static_cast<double>(cv.minimum.lambda)),
+            1e-15);
+  EXPECT_LE(relative(c["parsimonious"]["penalty"].get<double>(),
+                     static_cast<double>(cv.parsimonious.lambda)),
+            1e-15);
+  EXPECT_LE(relative(c["minimum"]["cv_error"].get<double>(), static_cast<double>(cv.minimum.error)),
+            1e-15);
+  EXPECT_EQ(c["pieces"].get<std::size_t>(), cv.pieces.size());
+
+  // Exact arithmetic cannot cross-validate (square roots): a usage error.
+  Outcome exact = run("select kiln.csv --response temperature --precision exact --no-standardize");
+  EXPECT_EQ(exact.code, 2);
+  EXPECT_NE(exact.err.find("select --precision exact is unavailable"), std::string::npos)
+      << exact.err;
+  EXPECT_EQ(run("select kiln.csv --response temperature --precision 50 --report rep").code, 2);
+}
+
+TEST_F(Select, PrintsAndWritesTheAuditNotes) {
+  // A text column, a constant column and a row with a missing cell.
+  std::ofstream(file("notes.csv")) << "site,a,b,flat,y\n"
+                                      "north,1,2,5,3.1\n"
+                                      "south,2,1,5,2.0\n"
+                                      "east,3,5,5,6.2\n"
+                                      "west,NA,2,5,1.0\n"
+                                      "north,4,3,5,5.1\n"
+                                      "south,5,8,5,9.4\n"
+                                      "east,6,4,5,7.0\n"
+                                      "west,7,9,5,11.3\n"
+                                      "north,8,5,5,8.8\n"
+                                      "south,9,7,5,11.9\n";
+  Outcome trace = run("trace notes.csv --response y --missing drop");
+  ASSERT_EQ(trace.code, 0) << trace.err;
+  Outcome r = run("select notes.csv --response y --missing drop --folds 3 --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  std::vector<std::string> want{"rows dropped for missing cells: 1",
+                                "excluded: flat (constant column (absorbed by the intercept))",
+                                "text columns skipped: site"};
+  for (const auto& line : want) {
+    EXPECT_NE(trace.out.find(line + "\n"), std::string::npos) << line << '\n' << trace.out;
+    EXPECT_NE(r.out.find(line + "\n"), std::string::npos) << line << '\n' << r.out;
+    EXPECT_NE(std::find(doc["audit_notes"].begin(), doc["audit_notes"].end(), line),
+              doc["audit_notes"].end())
+        << line;
+  }
+}
+
+TEST_F(Select, JsonNamesPenaltiesAsThePathDocumentAndHasAVersion) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  Outcome r = run("select t.csv --response y --folds 4 --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  EXPECT_EQ(doc["format_version"], 1);
+  EXPECT_EQ(doc["path"]["format_version"], 1);
+  // No "lambda" member anywhere: the path document's word is "penalty".
+  std::function<void(const json&, const std::string&)> no_lambda = [&](const json& j,
+                                                                       const std::string& at) {
+    if (j.is_object())
+      for (auto it = j.begin(); it != j.end(); ++it) {
+        EXPECT_NE(it.key(), "lambda") << at;
+        no_lambda(it.value(), at + "/" + it.key());
+      }
+    else if (j.is_array())
+      for (const auto& e : j) no_lambda(e, at + "[]");
+  };
+  no_lambda(doc, "");
+  for (const auto& k : doc["information_criteria"]["knots"]) EXPECT_TRUE(k.contains("penalty"));
+  for (const auto& e : doc["significance"]["entries"]) EXPECT_TRUE(e.contains("penalty"));
+  for (const auto& p : doc["cross_validation"]["curve_at_knots"]) EXPECT_TRUE(p.contains("penalty"));
+  // Only nonzero coefficients, one per active predictor (no unpenalized ones here).
+  for (const char* choice : {"minimum", "parsimonious"}) {
+    const auto& c = doc["cross_validation"][choice];
+    EXPECT_EQ(c["coefficients"].size(), c["active"].get<std::size_t>()) << choice;
+    for (const auto& [name, value] : c["coefficients"].items()) EXPECT_NE(value.get<double>(), 0.0);
+  }
+}
+
+TEST_F(Select, NoTestsSkipsTheEntryTests) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  Outcome r = run("select t.csv --response y --folds 4 --no-tests --json s.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  EXPECT_EQ(doc["significance"]["note"], "skipped (--no-tests)");
+  EXPECT_NE(r.out.find("tests: not computed: skipped (--no-tests)"), std::string::npos) << r.out;
+  // The rest of the selection is that of a run with the tests.
+  Outcome full = run("select t.csv --response y --folds 4 --json f.json");
+  ASSERT_EQ(full.code, 0) << full.err;
+  EXPECT_EQ(json::parse(slurp(file("f.json")))["cross_validation"], doc["cross_validation"]);
+}

@@ -69,6 +69,8 @@
 #include "options.hpp"
 #include "path.hpp"
 #include "prepare.hpp"
+#include "problem.hpp"
+#include "statistics.hpp"
 #include "trace.hpp"
 
 namespace knotpath {
@@ -478,6 +480,26 @@ Significance entry_significance(const Design& design, const Path<typename Design
                                 double noise_variance, Index residual_df = 0) {
   detail::check_testable(design, path, noise_variance);
   return detail::EntryTests<Design>(design, path, noise_variance, residual_df).run();
+}
+
+/// The same from the sufficient statistics of the (unweighted) data the path
+/// was traced on (statistics.hpp): the reduced paths and omega run on the
+/// prepared Gram matrix (prepare_gram() with the path's options), so after
+/// the O(n p^2) pass that formed the statistics each step costs O(k^2),
+/// independent of the number of rows. `noise_variance` and `residual_df` as
+/// above. The results agree with the dense route (the overload on x and y)
+/// to rounding, not bit for bit: both prepare the columns and trace the
+/// reduced paths by the same rules, with sums formed in another order;
+/// tests/test_inference.cpp (EntryTestsFromStatistics) measures the
+/// difference. Throws invalid_query when the statistics do not give the
+/// path's prepared columns and rows, invalid_option as above.
+template <class Scalar>
+Significance entry_significance(const SufficientStatistics<Scalar>& statistics,
+                                const Path<Scalar>& path, double noise_variance,
+                                Index residual_df = 0) {
+  const PreparedGram<Scalar> prepared = prepare_gram(statistics, path.options());
+  detail::check_same_problem(prepared.preparation, path);
+  return entry_significance(prepared.design, path, noise_variance, residual_df);
 }
 
 /// Covariance and spacing tests for every entry of a path traced (without

@@ -36,44 +36,6 @@ void add_precision_options(CLI::App& command, PrecisionArgs& args) {
 
 namespace {
 
-// Checks the combination of --precision and --digits and the model options
-// it needs, and sets the MPFR precision.
-void check_precision(const PrecisionArgs& precision, const ModelArgs& model) {
-  const Arithmetic arithmetic = arithmetic_of(precision);
-  if (precision.digits != 0 && arithmetic != Arithmetic::mpfr)
-    throw failure(exit_usage, "--digits applies to --precision mpfr only");
-  if (arithmetic == Arithmetic::exact && !model.no_standardize)
-    throw failure(exit_usage,
-                  "--precision exact needs --no-standardize: scaling columns to unit length takes "
-                  "square roots, which have no exact rational value (the penalty then applies "
-                  "to the coefficients on the columns' own scale)");
-#ifdef KNOTPATH_HAVE_MPFR
-  if (arithmetic == Arithmetic::mpfr) set_mpfr_digits(precision.digits ? precision.digits : 50);
-#endif
-}
-
-// Calls f(Scalar{}) with the scalar type of the arithmetic.
-template <class F>
-int with_arithmetic(Arithmetic arithmetic, F&& f) {
-  switch (arithmetic) {
-    case Arithmetic::long_double:
-      return f(static_cast<long double>(0));
-    case Arithmetic::fifty_digits:
-      return f(float50(0));
-    case Arithmetic::exact:
-      return f(rational(0));
-    case Arithmetic::mpfr:
-#ifdef KNOTPATH_HAVE_MPFR
-      return f(mpfr_float(0));
-#else
-      break;
-#endif
-    case Arithmetic::double_precision:
-      return f(0.0);
-  }
-  throw failure(exit_usage, "this build has no MPFR: --precision mpfr is unavailable");
-}
-
 template <class Scalar>
 int trace_in(LoadedTable& loaded, const std::string& knots_file, const std::string& json_file) {
   const Path<Scalar> path = trace_loaded<Scalar>(loaded);

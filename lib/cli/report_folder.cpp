@@ -4,6 +4,7 @@
 
 #include <unistd.h>
 
+#include <sstream>
 #include <stdexcept>
 #include <system_error>
 
@@ -51,7 +52,11 @@ charts::ReportOptions report_options(const Path<double>& path, const io::RunCont
     options.summary.emplace_back("rows dropped (missing cells)",
                                  std::to_string(context.rows_dropped));
   options.summary.emplace_back("program", "knotpath " + context.program_version);
-  options.cautions = caution_lines(with_selection);
+  // A suspect path's warning comes first (io::suspect_warning: the same
+  // lines trace and select print).
+  std::istringstream warning(io::suspect_warning(path, context));
+  for (std::string line; std::getline(warning, line);) options.cautions.push_back(line);
+  for (auto& line : caution_lines(with_selection)) options.cautions.push_back(std::move(line));
   return options;
 }
 

@@ -22,8 +22,10 @@
 #include <knotpath/cross_validation.hpp>
 #include <knotpath/inference.hpp>
 
+#include "double_copy.hpp"
 #include "path_checks.hpp"
 #include "report_folder.hpp"
+#include "typed_trace.hpp"
 
 namespace knotpath::cli {
 
@@ -39,6 +41,8 @@ struct SelectArgs {
   std::uint64_t seed = CrossValidationOptions{}.seed;
   std::string fold_column;
   std::optional<double> noise_variance;
+  bool no_tests = false;
+  PrecisionArgs precision;
   std::string json_file;
   std::string report_dir;
 };
@@ -112,6 +116,10 @@ struct SelectData {
   io::RunContext context;
   std::string shown_name;
   std::shared_ptr<Progress> progress;
+  /// For --precision other than double: the table with its cells' decimal
+  /// text and the columns' roles (fold column set aside), parsed into the
+  /// arithmetic by table_data(); unused for double.
+  LoadedTable text;
 };
 
 // Reads the fold labels of --fold-column and takes the fold column out of
@@ -155,7 +163,7 @@ void set_folds_aside(SelectData& out, io::ColumnAssignment& columns, const io::T
   }
 }
 
-SelectData read_select_data(const SelectArgs& args, const Global& global) {
+SelectData read_select_data(const SelectArgs& args, const Global& global, bool keep_text) {
   ModelArgs model = args.model;
   const std::string& fold_name = args.fold_column;
   if (!fold_name.empty()) {
@@ -167,7 +175,7 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
     if (!model.use.empty())
       model.use.push_back(fold_name);  // read it; removed from the predictors below
   }
-  LoadedTable loaded = load_table(args.table, model, global, false);
+  LoadedTable loaded = load_table(args.table, model, global, keep_text);
   SelectData out;
   out.shown_name = loaded.shown_name;
   out.progress = loaded.progress;
@@ -177,11 +185,15 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
   io::ColumnAssignment columns = loaded.columns;
 
   if (!fold_name.empty()) set_folds_aside(out, columns, table, fold_name);
+  loaded.columns = columns;
   io::TableSplit split = io::split_table(table, std::move(columns));
   out.y = std::move(split.y);
   out.w = std::move(split.weights);
   out.x = std::move(split.x);
-  table = io::Table();
+  if (keep_text)
+    out.text = std::move(loaded);  // the decimal text stays (split_table took the numbers)
+  else
+    table = io::Table();
 
   // As trace: data with nothing to trace are refused.
   Index used = 0;
@@ -202,63 +214,133 @@ SelectData read_select_data(const SelectArgs& args, const Global& global) {
   return out;
 }
 
-// Everything select computes.
+// Everything select computes, in doubles (a run in another arithmetic is
+// copied here number by number, double_copy.hpp).
 struct Selection {
   CrossValidation<double> cv;
   std::optional<InformationCriteria<double>> criteria;
   std::string criteria_note;  // why there are none
   std::optional<Significance> significance;
   std::string significance_note;
+  // Of the path in the arithmetic of the run (not of its double copy):
+  std::string arithmetic;          // empty for double
+  json precision;                  // the path document's "precision" member (null for double)
+  json health;                     // io::health_document
+  std::string warning;             // io::suspect_warning (empty on a clean path)
+  std::vector<std::string> notes;  // io::audit_notes
+  json path_document;              // io::path_document (null: made from cv.full_path)
 };
 
-Selection run_selection(const SelectData& data, const CrossValidationOptions& cv_options,
-                        std::optional<double> noise_variance) {
+std::string reason_of(const std::exception& e) {
+  std::string why = e.what();
+  if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
+  // The program's users know the option, not the library's field.
+  for (const std::string field :
+       {"CriteriaOptions::noise_variance", "InferenceOptions::noise_variance"})
+    for (auto at = why.find(field); at != std::string::npos; at = why.find(field))
+      why.replace(at, field.size(), "--noise-variance");
+  return why;
+}
+
+// The covariance and spacing tests. Their reduced paths and omega need only
+// the Gram matrix of the active columns, so they run on the sufficient
+// statistics of the data (one O(n p^2) pass; then O(k^2) per step,
+// independent of the number of rows) rather than on the n x p design. sigma^2
+// is the value given, or the criteria's least-squares estimate (the same
+// rule, detail::given_or_least_squares_variance, on the same data: computed
+// once). Without either (the least-angle variant, no criteria) the library's
+// dense route estimates it. The results agree with the dense route to
+// rounding (tests/test_inference.cpp, EntryTestsFromStatistics).
+template <class Scalar>
+Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                         const Path<Scalar>& path,
+                         const std::optional<InformationCriteria<Scalar>>& criteria,
+                         std::optional<double> noise_variance) {
+  double sigma2 = 0;
+  Index df = 0;
+  if (noise_variance) {
+    sigma2 = *noise_variance;
+  } else if (criteria && criteria->source == NoiseVarianceSource::least_squares &&
+             criteria->noise_variance > Scalar(0)) {
+    sigma2 = as_double(criteria->noise_variance);
+    df = static_cast<Index>(as_double(criteria->residual_df));
+  } else {
+    InferenceOptions io;
+    return entry_significance<Scalar>(x, y, path, io);
+  }
+  try {
+    return entry_significance(SufficientStatistics<Scalar>::from_rows(x, y), path, sigma2, df);
+  } catch (const invalid_query&) {
+    // The statistics kept other columns than the path (a column constant
+    // only up to rounding): the dense route, on the path's own preparation.
+    return entry_significance(detail::prepare_for(x, y, path, Vector<Scalar>()).design, path,
+                              sigma2, df);
+  }
+}
+
+template <class Scalar>
+Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                        const Vector<Scalar>& w, const CrossValidationOptions& cv_options,
+                        std::optional<double> noise_variance, bool tests) {
   Selection s;
   if (data.progress)
-    data.progress->status(
-        fmt::format("cross-validating ({} rows, {} predictors)", data.x.rows(), data.x.cols()));
+    data.progress->status(fmt::format(
+        "cross-validation: tracing the full path and the folds ({} rows, {} predictors)",
+        x.rows(), x.cols()));
+  CrossValidation<Scalar> cv;
   try {
-    s.cv = cross_validate<double>(data.x, data.y, data.options, cv_options, data.w);
+    cv = cross_validate<Scalar>(x, y, data.options, cv_options, w);
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
     throw failure(exit_bad_input,
                   data.shown_name + ": " + data_message(e, data.context.predictor_names));
   }
-  const Path<double>& path = s.cv.full_path;
+  const Path<Scalar>& path = cv.full_path;
   if (path.preparation().columns.empty())
     throw failure(exit_bad_input,
                   data.shown_name + ": no predictor can enter the path (every one was left out)");
-  auto reason = [](const std::exception& e) {
-    std::string why = e.what();
-    if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-    // The program's users know the option, not the library's field.
-    for (const std::string field : {"CriteriaOptions::noise_variance", "InferenceOptions::noise_variance"})
-      for (auto at = why.find(field); at != std::string::npos; at = why.find(field))
-        why.replace(at, field.size(), "--noise-variance");
-    return why;
-  };
+  require_finite_path(path);
+  s.health = io::health_document(path, data.context);
+  s.warning = io::suspect_warning(path, data.context);
+  s.notes = io::audit_notes(path, data.context);
   CriteriaOptions co;
-  InferenceOptions io;
-  if (noise_variance) co.noise_variance = io.noise_variance = *noise_variance;
-  co.cross_validated_penalty = s.cv.minimum.lambda;  // Reid et al. (2016) when p >= n
+  if (noise_variance) co.noise_variance = *noise_variance;
+  co.cross_validated_penalty = as_double(cv.minimum.lambda);  // Reid et al. (2016) when p >= n
+  if (data.progress) data.progress->status("information criteria (Cp, AIC, BIC)");
+  std::optional<InformationCriteria<Scalar>> criteria;
   try {
-    s.criteria = information_criteria<double>(data.x, data.y, path, co, data.w);
+    criteria = information_criteria<Scalar>(x, y, path, co, w);
   } catch (const invalid_option& e) {
-    s.criteria_note = reason(e);
+    s.criteria_note = reason_of(e);
   } catch (const invalid_query& e) {
-    s.criteria_note = reason(e);
+    s.criteria_note = reason_of(e);
   }
-  if (data.w.size() != 0) {
+  if (!tests) {
+    s.significance_note = "skipped (--no-tests)";
+  } else if (w.size() != 0) {
     s.significance_note = "the tests are defined for unweighted data (--weights given)";
   } else {
+    if (data.progress)
+      data.progress->status(fmt::format("entry tests (covariance and spacing) of {} knots",
+                                        path.knots().size()));
     try {
-      s.significance = entry_significance<double>(data.x, data.y, path, io);
+      s.significance = entry_tests<Scalar>(x, y, path, criteria, noise_variance);
     } catch (const invalid_option& e) {
-      s.significance_note = reason(e);
+      s.significance_note = reason_of(e);
     } catch (const invalid_query& e) {
-      s.significance_note = reason(e);
+      s.significance_note = reason_of(e);
     }
+  }
+  if constexpr (std::is_same_v<Scalar, double>) {
+    s.cv = std::move(cv);
+    s.criteria = std::move(criteria);
+  } else {
+    s.arithmetic = io::arithmetic_name<Scalar>();
+    s.path_document = io::path_document(path, data.context);
+    s.precision = s.path_document["precision"];
+    s.cv = double_copy(cv);
+    if (criteria) s.criteria = double_copy(*criteria);
   }
   return s;
 }
@@ -300,10 +382,27 @@ void print_audit_with_tests(std::ostream& out, const Selection& s, const SelectD
       tests = fmt::format(" {:>9} {:>10} {:>10}", shown(it->second->covariance_statistic, 4),
                           shown_p_value(it->second->covariance_p_value),
                           shown_p_value(it->second->spacing_p_value));
-    out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7.4f}{}\n", k.step,
+    out << fmt::format("{:>4} {:>10} {:>10}  {:<5}  {:<14} {:>6} {:>7.4f}{}{}\n", k.step,
                        shown(k.penalty), shown(k.penalty / scale), to_string(k.event), name,
-                       k.active_count, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests);
+                       k.active_count, tss > 0 ? 1.0 - k.rss / tss : 0.0, tests,
+                       k.suspect ? "  suspect" : "");
   }
+}
+
+// The arithmetic of the run, the audit's notes (rows dropped, columns
+// skipped, predictors excluded or held out) and a suspect path's warning:
+// the lines trace prints (io::audit_notes, io::suspect_warning).
+void print_health_and_notes(std::ostream& out, const Selection& s) {
+  if (!s.arithmetic.empty())
+    out << "arithmetic: " << s.arithmetic
+        << " (the paths, the cross-validation curve, the criteria and the tests; numbers below "
+           "are rounded to double for display)\n";
+  for (const auto& note : s.notes) out << note << '\n';
+  out << s.warning;
+  if (!s.warning.empty() && s.arithmetic.empty())
+    out << "WARNING: the penalty is chosen on this path and on the folds' paths traced like it: "
+           "make the choice in higher precision with knotpath select --precision 50 (same "
+           "options).\n";
 }
 
 // The reference distribution of the tests and their notes, each once with
@@ -451,6 +550,7 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
                      data.context.response, data.context.predictor_names.size(),
                      prep.used_observations, data.context.source);
   print_audit_with_tests(out, s, data);
+  print_health_and_notes(out, s);
   print_test_notes(out, s);
   print_cross_validation(out, s, args);
   print_criteria(out, s);
@@ -462,10 +562,12 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
 json choice_json(const CurvePoint<double>& c, const Path<double>& path,
                  const std::vector<std::string>& names) {
   const Solution<double> s = path.at_penalty(c.lambda);
+  // Only the nonzero coefficients, as the path document's knots list them.
   json coefficients = json::object();
   for (std::size_t j = 0; j < names.size(); ++j)
-    coefficients[names[j]] = s.coefficients(static_cast<Index>(j));
-  return json{{"lambda", c.lambda},
+    if (s.coefficients(static_cast<Index>(j)) != 0)
+      coefficients[names[j]] = s.coefficients(static_cast<Index>(j));
+  return json{{"penalty", c.lambda},
               {"mu", c.mu},
               {"cv_error", c.error},
               {"standard_error", c.standard_error},
@@ -480,7 +582,16 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   const auto& cv = s.cv;
   json doc;
   doc["format"] = "knotpath-selection";
+  doc["format_version"] = 1;
   doc["program"] = json{{"name", "knotpath"}, {"version", version()}};
+  if (!s.arithmetic.empty()) {
+    doc["precision"] = s.precision;
+    doc["precision"]["numbers"] =
+        "computed in this arithmetic; written as the nearest doubles (\"path\" holds the path "
+        "with every digit)";
+  }
+  doc["health"] = s.health;
+  doc["audit_notes"] = s.notes;
   json folds{{"count", cv.folds.size()}};
   if (!args.fold_column.empty()) {
     folds["from"] = "column";
@@ -494,7 +605,7 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   json curve = json::array();
   for (const auto& p : cv.knot_points())
     curve.push_back(json{{"mu", p.mu},
-                         {"lambda", p.lambda},
+                         {"penalty", p.lambda},
                          {"cv_error", p.error},
                          {"standard_error", p.standard_error}});
   doc["cross_validation"] = json{{"folds", folds},
@@ -509,7 +620,7 @@ json selection_document(const Selection& s, const SelectData& data, const Select
     json knots = json::array();
     for (const auto& c : ic.knots)
       knots.push_back(json{{"step", c.step},
-                           {"lambda", c.penalty},
+                           {"penalty", c.penalty},
                            {"mu", c.mu},
                            {"nonzero", c.nonzero},
                            {"parameters", c.parameters},
@@ -520,7 +631,7 @@ json selection_document(const Selection& s, const SelectData& data, const Select
                            {"bic", c.bic}});
     auto best = [&](std::size_t i) {
       const auto& c = ic.knots[i];
-      return json{{"step", c.step}, {"lambda", c.penalty}, {"mu", c.mu}, {"nonzero", c.nonzero}};
+      return json{{"step", c.step}, {"penalty", c.penalty}, {"mu", c.mu}, {"nonzero", c.nonzero}};
     };
     doc["information_criteria"] = json{
         {"noise_variance", ic.noise_variance}, {"noise_variance_source", source_name(ic.source)},
@@ -538,7 +649,7 @@ json selection_document(const Selection& s, const SelectData& data, const Select
       entries.push_back(json{{"step", e.step},
                              {"predictor", names[static_cast<std::size_t>(e.predictor)]},
                              {"sign", e.sign},
-                             {"lambda", e.penalty},
+                             {"penalty", e.penalty},
                              {"covariance_statistic", number_or_null(e.covariance_statistic)},
                              {"covariance_p_value", number_or_null(e.covariance_p_value)},
                              {"spacing_p_value", number_or_null(e.spacing_p_value)},
@@ -556,8 +667,43 @@ json selection_document(const Selection& s, const SelectData& data, const Select
       json{{"threshold", cv.minimum.error + cv.minimum.standard_error},
            {"standard_error_at_minimum", cv.minimum.standard_error}};
   doc["cautions"] = caution_lines(true);
-  doc["path"] = io::path_document(path, data.context);
+  doc["path"] =
+      s.path_document.is_null() ? io::path_document(path, data.context) : s.path_document;
   return doc;
+}
+
+// The arithmetics select offers beyond double: every floating one of
+// --precision; not exact, since cross-validation compares folds on the
+// size-free penalty lambda / sqrt(n) (scaling.hpp), a square root. --report
+// draws double charts, as with trace.
+void check_select_precision(const SelectArgs& args) {
+  const Arithmetic arithmetic = arithmetic_of(args.precision);
+  if (arithmetic == Arithmetic::exact)
+    throw failure(exit_usage,
+                  "select --precision exact is unavailable: cross-validation compares the folds on "
+                  "the size-free penalty (lambda / sqrt(n) when standardizing), which has no exact "
+                  "rational value; use --precision 50 or --precision mpfr (trace --precision exact "
+                  "traces the path itself exactly)");
+  if (!args.report_dir.empty())
+    throw failure(exit_usage,
+                  "--report draws the double path: it cannot be combined with --precision");
+  check_precision(args.precision, args.model);
+}
+
+// The selection in the arithmetic of --precision: the table's cells parsed
+// exactly from their decimal text, then everything computed in it.
+Selection run_in_precision(SelectData& data, const CrossValidationOptions& cv,
+                           const SelectArgs& args) {
+  return with_arithmetic(arithmetic_of(args.precision), [&](auto zero) {
+    using Scalar = decltype(zero);
+    if constexpr (detail::is_exact_v<Scalar>) {
+      throw failure(exit_usage, "select --precision exact is unavailable");
+      return Selection{};
+    } else {
+      const TableData<Scalar> d = table_data<Scalar>(data.text);
+      return run_selection<Scalar>(data, d.x, d.y, d.w, cv, args.noise_variance, !args.no_tests);
+    }
+  });
 }
 
 // Status of a finished run: numerical trouble when the safety bound on
@@ -603,6 +749,11 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
       ->check(CLI::PositiveNumber)
       ->group("Criteria");
   command
+      ->add_flag("--no-tests", args->no_tests,
+                 "Skip the covariance and spacing tests of each entry")
+      ->group("Criteria");
+  add_precision_options(*command, args->precision);
+  command
       ->add_option("--json", args->json_file,
                    "Write the selection and the path as JSON to this file")
       ->group("Output");
@@ -616,14 +767,18 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
       "selection.json "
       "--report report\n");
   command->callback([args, &global] {
-    SelectData data = read_select_data(*args, global);
+    const bool in_double = args->precision.precision == "double" && args->precision.digits == 0;
+    if (!in_double) check_select_precision(*args);
+    SelectData data = read_select_data(*args, global, !in_double);
     CrossValidationOptions cv;
     cv.folds = args->folds;
     cv.leave_one_out = args->leave_one_out;
     cv.seed = args->seed;
     cv.fold_of = data.fold_of;
     cv.threads = args->model.threads;  // --threads: the folds in parallel
-    Selection s = run_selection(data, cv, args->noise_variance);
+    Selection s = in_double ? run_selection<double>(data, data.x, data.y, data.w, cv,
+                                                    args->noise_variance, !args->no_tests)
+                            : run_in_precision(data, cv, *args);
     require_finite_path(s.cv.full_path);
     std::ostringstream text;
     print_selection(text, s, data, *args);

@@ -107,6 +107,29 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
 template <class Scalar>
 std::string audit_text(const Path<Scalar>& path, const RunContext& context);
 
+/// The numerical health of a path, the "health" member of path_document():
+/// {suspect, worst_estimated_error, suspect_threshold, suspect_steps,
+/// advice} (advice null on a clean path). Every document that reports on a
+/// path (the path JSON, knotpath select's JSON) takes it from here.
+template <class Scalar>
+nlohmann::ordered_json health_document(const Path<Scalar>& path, const RunContext& context);
+
+/// The warning paragraph of a suspect path (two lines starting "WARNING:",
+/// ending with a line break: the estimate, the count of suspect knots, and
+/// the advice of suspect_advice_text for this arithmetic); empty on a clean
+/// path. audit_text() ends with it; every command that reports on a path
+/// prints it.
+template <class Scalar>
+std::string suspect_warning(const Path<Scalar>& path, const RunContext& context);
+
+/// The notes of the audit, one line each without line breaks: rows dropped
+/// for missing cells, predictors excluded up front (with the reason),
+/// predictors held out along the path, text columns skipped. audit_text()
+/// prints them after its stop line; knotpath select prints them and writes
+/// them to its JSON ("audit_notes").
+template <class Scalar>
+std::vector<std::string> audit_notes(const Path<Scalar>& path, const RunContext& context);
+
 /// The coefficients of one solution on the original scale, intercept first:
 /// an aligned table, or with `csv` a "predictor,coefficient" header and one
 /// line per term (number_text digits; exact mode adds a third column,
