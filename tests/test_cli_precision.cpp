@@ -307,6 +307,31 @@ TEST_F(CliPrecision, ExactModePrintsTheHandComputedLeastSquaresFractions) {
   EXPECT_NE(refused.err.find("--no-standardize"), std::string::npos) << refused.err;
 }
 
+// Regression: `at --mu` in exact mode was refused with "lambda = mu *
+// sqrt(n) is irrational", but exact mode needs --no-standardize, where the
+// size-free penalty is mu = lambda / n (scaling.hpp): a rational query. The
+// same point asked as --mu M and as --penalty M * n (n = 5 rows) gives the
+// same fractions.
+TEST_F(CliPrecision, ExactModeAnswersMuThroughLambdaOverN) {
+  spit(file("small.csv"), "x1,x2,y\n0,1,1\n1,0,2.5\n2,1,2\n3,0.5,4\n0.25,0,1.5\n");
+  const std::string common = "at small.csv --response y --precision exact --no-standardize --csv ";
+  const Outcome by_mu = run(common + "--mu 0.03");
+  ASSERT_EQ(by_mu.code, 0) << by_mu.err;
+  const Outcome by_penalty = run(common + "--penalty 0.15");
+  ASSERT_EQ(by_penalty.code, 0) << by_penalty.err;
+  EXPECT_EQ(by_mu.out, by_penalty.out);
+  // A point inside the path (some coefficient not zero), not the start.
+  EXPECT_NE(by_mu.out.find("x1,"), std::string::npos);
+  const auto lines = csv_rows(by_mu.out);
+  ASSERT_EQ(lines.size(), 4u);
+  EXPECT_TRUE(lines[2][1] != "0/1" || lines[3][1] != "0/1") << by_mu.out;
+  // The help text states both conversions.
+  const Outcome help = run("at --help");
+  EXPECT_NE(help.out.find("lambda / sqrt(n) for standardized columns"), std::string::npos) << help.out;
+  EXPECT_NE(help.out.find("mu = lambda / n for columns kept on their own scale"), std::string::npos)
+      << help.out;
+}
+
 // On a well-conditioned table the 50-digit, long double and MPFR traces give
 // the double path's knots; 1e-12 relative to lambda_max is far above double
 // rounding on a design of condition ~10 (common practice) and far below any

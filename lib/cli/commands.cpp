@@ -144,7 +144,8 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
                       ->group("Point");
   auto* mu = command
                  ->add_option("--mu", args->mu,
-                              "Size-free penalty mu = lambda / sqrt(n) (n = sum of weights)")
+                              "Size-free penalty: " + std::string(size_free_penalty_rule) +
+                                  " (--no-standardize keeps the columns' own scale)")
                  ->each(keep(args->point.mu_text))
                  ->group("Point");
   auto* budget =

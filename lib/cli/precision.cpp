@@ -108,16 +108,12 @@ int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
       solution = path.at_penalty(parse_point<Scalar>(point.penalty_text, "--penalty"));
       asked = "penalty " + point.penalty_text;
     } else if (point.mu) {
-      if constexpr (detail::is_exact_v<Scalar>) {
-        throw failure(exit_usage,
-                      "--mu is unavailable with --precision exact (lambda = mu * sqrt(n) is "
-                      "irrational in general); give --penalty, --budget or --fraction");
-      } else {
-        const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
-        if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
-        solution = path.at_mu(mu);
-        asked = "mu " + point.mu_text;
-      }
+      // Exact mode needs --no-standardize, so lambda = mu * n (scaling.hpp)
+      // is rational: the query is exact too.
+      const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
+      if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
+      solution = path.at_mu(mu);
+      asked = "mu " + point.mu_text;
     } else if (point.budget) {
       solution = path.at_budget(parse_point<Scalar>(point.budget_text, "--budget"));
       asked = "L1 budget " + point.budget_text;
