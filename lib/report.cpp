@@ -146,23 +146,6 @@ std::string constraint_name(SignConstraint c) {
   return "none";
 }
 
-std::string stop_explanation(StopReason reason) {
-  switch (reason) {
-    case StopReason::completed:
-      return "the path reached penalty 0";
-    case StopReason::max_knots:
-      return "the knot limit (--max-knots) was reached";
-    case StopReason::min_penalty:
-      return "the penalty floor (--min-penalty) was reached";
-    case StopReason::max_active:
-      return "the active-set limit (--max-active) was reached";
-    case StopReason::step_limit:
-      return "the safety bound on homotopy steps was hit: numerical trouble, the path is "
-             "incomplete";
-  }
-  return "?";
-}
-
 using json = nlohmann::ordered_json;
 
 // Writes scalar numbers into JSON objects: plain numbers for double; beyond
@@ -218,6 +201,23 @@ std::size_t suspect_count(const Path<Scalar>& path) {
 }
 
 }  // namespace
+
+std::string stop_explanation(StopReason reason) {
+  switch (reason) {
+    case StopReason::completed:
+      return "the path reached penalty 0";
+    case StopReason::max_knots:
+      return "the knot limit (--max-knots) was reached";
+    case StopReason::min_penalty:
+      return "the penalty floor (--min-penalty) was reached";
+    case StopReason::max_active:
+      return "the active-set limit (--max-active) was reached";
+    case StopReason::step_limit:
+      return "the safety bound on homotopy steps was hit: numerical trouble, the path is "
+             "incomplete";
+  }
+  return "?";
+}
 
 template <class Scalar>
 void write_knot_table(std::ostream& out, const Path<Scalar>& path,

@@ -343,6 +343,91 @@ TEST_F(Cli, AtAgreesWithTheLibraryQueries) {
   EXPECT_NE(r.out.find("(intercept)"), std::string::npos);
 }
 
+// Issue 18, point 6: a query outside the traced path. Before, `--penalty`
+// below a stopped path's end printed the last knot with exit status 0 (a
+// note on stderr only), and a penalty above lambda_max printed the start's
+// penalty as if it were the answer's.
+TEST_F(Cli, AtRefusesPointsThePathCannotAnswerAndSaysWhenAnAnswerOutsideIsExact) {
+  const auto p = small_problem();
+  write_problem(file("t.csv"), p, small_weights(p.x.rows()));
+  const auto path = knotpath::trace<double>(p.x, p.y);
+  const double top = path.lambda_max();
+  const std::string table = "at t.csv --response y --drop w ";
+  // Below the end of a path stopped by --min-penalty: no answer, status 8
+  // (README, "Exit codes"), no coefficients on stdout.
+  const std::string floor = fmt::format("--min-penalty {:.17g} ", 0.5 * top);
+  for (const std::string& query :
+       {fmt::format("--penalty {:.17g}", 0.25 * top),
+        fmt::format("--mu {:.17g}", 0.25 * top / std::sqrt(60.0)), std::string("--budget 1e6")}) {
+    SCOPED_TRACE(query);
+    for (const std::string& precision : {std::string(), std::string(" --precision 50")}) {
+      const Outcome r = run(table + floor + query + precision);
+      EXPECT_EQ(r.code, 8) << r.out << r.err;
+      EXPECT_EQ(r.out, "");
+      EXPECT_NE(r.err.find("the penalty floor (--min-penalty) was reached"), std::string::npos)
+          << r.err;
+      EXPECT_NE(r.err.find("Trace further"), std::string::npos) << r.err;
+    }
+  }
+  // Above lambda_max: the exact answer (all coefficients 0), said in words,
+  // headed by the penalty asked.
+  {
+    const Outcome r = run(table + fmt::format("--penalty {:.17g}", 5 * top));
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_EQ(r.out.rfind(fmt::format("penalty {:.17g}: penalty {:.10g} ", 5 * top, 5 * top), 0), 0u)
+        << r.out;
+    EXPECT_NE(r.out.find("above lambda_max"), std::string::npos) << r.out;
+    EXPECT_NE(r.out.find("so this answer is exact"), std::string::npos) << r.out;
+    const Outcome csv = run(table + fmt::format("--penalty {:.17g} --csv", 5 * top));
+    ASSERT_EQ(csv.code, 0) << csv.err;
+    EXPECT_NE(csv.err.find("knotpath: note: this is above lambda_max"), std::string::npos) << csv.err;
+    for (Index j = 0; j < p.x.cols(); ++j)
+      EXPECT_NE(csv.out.find(p.names[static_cast<std::size_t>(j)] + ",0\n"), std::string::npos)
+          << csv.out;
+  }
+  // A budget above the end of a completed lasso path does not bind: the end
+  // is the exact answer. With a ridge or on a least-angle path no point of
+  // the path has that norm: status 8.
+  const double beyond = 2 * path.knots().back().penalized_l1;
+  const std::string budget = fmt::format("--budget {:.17g}", beyond);
+  {
+    const Outcome r = run(table + budget);
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_NE(r.out.find("the budget does not bind"), std::string::npos) << r.out;
+    EXPECT_NE(r.out.find(": penalty 0 (mu 0)"), std::string::npos) << r.out;
+  }
+  for (const std::string& model : {std::string("--ridge 0.5 "), std::string("--variant least-angle ")}) {
+    const Outcome r = run(table + model + budget);
+    EXPECT_EQ(r.code, 8) << model << r.out;
+    EXPECT_EQ(r.out, "");
+    EXPECT_NE(r.err.find("Ask for a budget of at most"), std::string::npos) << r.err;
+  }
+}
+
+// Issue 18, point 7: what a budget returns is said in the heading (and in
+// --help): least RSS under the budget for the lasso, the elastic-net point
+// of that norm with a ridge, the first point reaching it on a least-angle
+// path. Before, every heading said "L1 budget S" alone.
+TEST_F(Cli, AtSaysWhatABudgetReturnsOnEachKindOfPath) {
+  const auto p = small_problem();
+  write_problem(file("t.csv"), p, small_weights(p.x.rows()));
+  const std::string table = "at t.csv --response y --drop w --budget 1 ";
+  const std::vector<std::pair<std::string, std::string>> cases = {
+      {"", "(least RSS with L1 norm at most the budget)"},
+      {"--ridge 0.5", "(the elastic-net point with that L1 norm: least RSS plus ridge term"},
+      {"--variant least-angle", "(the first point of the least-angle path whose L1 norm reaches it)"},
+  };
+  for (const auto& [model, words] : cases) {
+    const Outcome r = run(table + model);
+    ASSERT_EQ(r.code, 0) << model << r.err;
+    EXPECT_EQ(r.out.rfind("L1 budget 1 " + words, 0), 0u) << r.out;
+  }
+  const Outcome help = run("at --help");
+  EXPECT_NE(help.out.find("with --ridge the elastic-net point of L1 norm S"), std::string::npos)
+      << help.out;
+  EXPECT_NE(help.out.find("the first"), std::string::npos);
+}
+
 TEST_F(Cli, ReadsStandardInputWithDash) {
   const auto p = small_problem();
   write_problem(file("t.csv"), p, small_weights(p.x.rows()));

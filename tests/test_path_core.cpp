@@ -266,6 +266,22 @@ TEST(PathCore, QueriesAtPenaltyBudgetAndFraction) {
   for (Index j : path.active_at(lambda)) EXPECT_NE(s.coefficients(j), 0.0);
 }
 
+// Issue 18, point 6: above lambda_max the first knot's solution is the
+// exact answer, and the answer names the penalty asked (before, it named
+// lambda_max, so a caller could not tell what it had been given).
+TEST(PathCore, AbovePenaltyMaxTheAnswerIsExactAndNamesThePenaltyAsked) {
+  const kt::Problem prob = kt::ar1_problem(40, 6, 0.4, 5);
+  const kp::Path<double> path = kp::trace<double>(prob.x, prob.y);
+  const double above = 3 * path.lambda_max();
+  const auto s = path.at_penalty(above);
+  EXPECT_EQ(s.penalty, above);
+  EXPECT_FALSE(s.beyond_path);
+  EXPECT_EQ(s.coefficients.cwiseAbs().maxCoeff(), 0.0);
+  EXPECT_EQ(s.intercept, path.knots().front().intercept);
+  EXPECT_EQ(path.at_mu(path.mu_of(above)).coefficients.cwiseAbs().maxCoeff(), 0.0);
+  EXPECT_EQ(path.at_penalty(path.lambda_max()).penalty, path.lambda_max());
+}
+
 TEST(PathCore, EarlyStopIsFlaggedBelowTheLastKnot) {
   const kt::Problem prob = kt::ar1_problem(80, 12, 0.4, 21);
   kp::TraceOptions opt;

@@ -34,6 +34,10 @@ struct RunContext {
 /// command for this table and the higher-precision options.
 std::string suspect_advice_text(const RunContext& context);
 
+/// Why the path ended, in a sentence for the reports ("the penalty floor
+/// (--min-penalty) was reached", ...).
+std::string stop_explanation(StopReason reason);
+
 /// Formats a double with 17 significant digits (round-trips exactly);
 /// "nan"/"inf" never occur in a valid path.
 std::string round_trip(double value);
