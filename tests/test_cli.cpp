@@ -96,8 +96,8 @@ bool close(double a, double b) { return std::abs(a - b) <= kSameComputation * (1
 // Compares a knot table printed by the program with the library's path.
 void expect_same_path(const KnotTable& table, const knotpath::Path<double>& path,
                       const std::vector<std::string>& names) {
-  std::vector<std::string> header{"step",    "penalty",   "event",     "predictor",
-                                  "active",  "l1_norm",   "r_squared", "intercept"};
+  std::vector<std::string> header{"step",   "penalty", "mu",        "event",    "predictor",
+                                  "active", "l1_norm", "r_squared", "intercept"};
   header.insert(header.end(), names.begin(), names.end());
   ASSERT_EQ(table.header, header);
   ASSERT_EQ(table.rows.size(), path.knots().size());
@@ -107,20 +107,21 @@ void expect_same_path(const KnotTable& table, const knotpath::Path<double>& path
     ASSERT_EQ(row.size(), header.size());
     EXPECT_EQ(std::stol(row[0]), knot.step);
     EXPECT_TRUE(close(std::stod(row[1]), knot.penalty)) << row[1] << " vs " << knot.penalty;
+    EXPECT_TRUE(close(std::stod(row[2]), path.mu_of(knot.penalty))) << row[2];
     const std::string event = (knot.event == knotpath::EventKind::end ||
                                knot.event == knotpath::EventKind::stop)
                                   ? knotpath::to_string(path.stop_reason())
                                   : knotpath::to_string(knot.event);
-    EXPECT_EQ(row[2], event);
-    EXPECT_EQ(row[3], knot.predictor >= 0 ? names[static_cast<std::size_t>(knot.predictor)] : "");
-    EXPECT_EQ(std::stol(row[4]), knot.active_count);
-    EXPECT_TRUE(close(std::stod(row[5]), knot.penalized_l1));
+    EXPECT_EQ(row[3], event);
+    EXPECT_EQ(row[4], knot.predictor >= 0 ? names[static_cast<std::size_t>(knot.predictor)] : "");
+    EXPECT_EQ(std::stol(row[5]), knot.active_count);
+    EXPECT_TRUE(close(std::stod(row[6]), knot.penalized_l1));
     const double r2 = 1.0 - knot.rss / path.preparation().total_sum_of_squares;
-    EXPECT_TRUE(close(std::stod(row[6]), r2));
-    EXPECT_TRUE(close(std::stod(row[7]), knot.intercept));
+    EXPECT_TRUE(close(std::stod(row[7]), r2));
+    EXPECT_TRUE(close(std::stod(row[8]), knot.intercept));
     const Vector<double> beta = path.dense_coefficients(k);
     for (Index j = 0; j < beta.size(); ++j)
-      EXPECT_TRUE(close(std::stod(row[8 + static_cast<std::size_t>(j)]), beta(j)))
+      EXPECT_TRUE(close(std::stod(row[9 + static_cast<std::size_t>(j)]), beta(j)))
           << "step " << k << " predictor " << j;
   }
 }
@@ -428,6 +429,52 @@ TEST_F(Cli, AtSaysWhatABudgetReturnsOnEachKindOfPath) {
   EXPECT_NE(help.out.find("the first"), std::string::npos);
 }
 
+// Issue 18, point 7: when p > n every predictor that reaches the boundary
+// after the active set saturated is held out at a rounding-level penalty.
+// The audit listed each on its own line (dozens); it now gives one line
+// with the count, and the JSON names them once each in "saturation".
+TEST_F(Cli, HeldOutAfterSaturationIsOneAuditLineAndNamedInTheJson) {
+  const auto p = knotpath::testing::ar1_problem(12, 40, 0.2, 7, 3, 1.0);
+  write_problem(file("wide.csv"), p, Vector<double>::Ones(p.x.rows()));
+  const auto path = knotpath::trace<double>(p.x, p.y);
+  std::vector<std::string> saturated;
+  std::size_t attempts = 0;
+  for (const auto& h : path.held_out()) {
+    if (!h.saturated) continue;
+    ++attempts;
+    const std::string& name = p.names[static_cast<std::size_t>(h.predictor)];
+    if (std::find(saturated.begin(), saturated.end(), name) == saturated.end())
+      saturated.push_back(name);
+  }
+  ASSERT_GE(saturated.size(), 2u) << "the design must saturate and hold several out";
+  const Outcome r = run("trace wide.csv --response y --drop w --json wide.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  std::size_t lines = 0;
+  for (std::size_t at = r.out.find("held out"); at != std::string::npos;
+       at = r.out.find("held out", at + 1))
+    ++lines;
+  EXPECT_EQ(lines, 1u) << r.out;
+  EXPECT_NE(r.out.find(fmt::format("held out after saturation: {} predictors", saturated.size())),
+            std::string::npos)
+      << r.out;
+  const auto doc = nlohmann::json::parse(slurp(file("wide.json")));
+  EXPECT_EQ(doc["saturation"]["step"], *path.saturation_step());
+  EXPECT_EQ(doc["saturation"]["held_out_count"], saturated.size());
+  EXPECT_EQ(doc["saturation"]["held_out_attempts"], attempts);
+  EXPECT_EQ(doc["saturation"]["held_out"], nlohmann::json(saturated));
+  // Each held-out entry names the knot where it happened: the last knot at
+  // or above its penalty (before, the row its entry would have taken, past
+  // the end of the table or at a lower penalty).
+  for (const auto& h : doc["held_out"]) {
+    const auto step = h["step"].get<std::size_t>();
+    ASSERT_LT(step, doc["knots"].size());
+    EXPECT_GE(doc["knots"][step]["penalty"].get<double>(), h["penalty"].get<double>());
+    if (step + 1 < doc["knots"].size()) {
+      EXPECT_LT(doc["knots"][step + 1]["penalty"].get<double>(), h["penalty"].get<double>());
+    }
+  }
+}
+
 TEST_F(Cli, ReadsStandardInputWithDash) {
   const auto p = small_problem();
   write_problem(file("t.csv"), p, small_weights(p.x.rows()));
@@ -510,7 +557,7 @@ TEST_F(Cli, UsageAndOutputErrorsHaveTheirExitCodes) {
   // A successful run replaces an existing output file.
   spit(file("k.csv"), "previous content\n");
   ASSERT_EQ(run("trace t.csv --response y --knots k.csv").code, 0);
-  EXPECT_EQ(slurp(file("k.csv")).rfind("step,penalty,event,", 0), 0u);
+  EXPECT_EQ(slurp(file("k.csv")).rfind("step,penalty,mu,event,", 0), 0u);
 }
 
 TEST_F(Cli, HelpForEveryCommandHasAnExampleAndVersionIsProjectVersion) {
@@ -532,7 +579,7 @@ TEST_F(Cli, DemoRunsAndItsOutputsParse) {
   const auto data = knotpath::demo::greenhouse();
   const KnotTable table = read_knots(slurp(file("demo-out/knots.csv")));
   // The header fixed in DESIGN.md ("Contracts other code relies on").
-  std::vector<std::string> header{"step",   "penalty", "event",     "predictor",
+  std::vector<std::string> header{"step",   "penalty", "mu",        "event",    "predictor",
                                   "active", "l1_norm", "r_squared", "intercept"};
   header.insert(header.end(), data.predictor_names.begin(), data.predictor_names.end());
   EXPECT_EQ(table.header, header);
@@ -542,7 +589,7 @@ TEST_F(Cli, DemoRunsAndItsOutputsParse) {
   // The demo traces its own table; the library on the in-memory data must
   // give the same path (the table round-trips the doubles).
   expect_same_path(table, knotpath::trace<double>(data.x, data.y), data.predictor_names);
-  EXPECT_EQ(table.rows.back()[2], "end");
+  EXPECT_EQ(table.rows.back()[3], "end");
 }
 
 TEST_F(Cli, DiabetesKnotTableHasThePublishedLassoSequence) {
@@ -561,12 +608,12 @@ TEST_F(Cli, DiabetesKnotTableHasThePublishedLassoSequence) {
   ASSERT_EQ(table.rows.size(), expected.size());
   for (std::size_t k = 0; k < expected.size(); ++k) {
     EXPECT_EQ(table.rows[k][0], std::to_string(k));
-    EXPECT_EQ(table.rows[k][2], expected[k].first) << "step " << k;
-    EXPECT_EQ(table.rows[k][3], expected[k].second) << "step " << k;
+    EXPECT_EQ(table.rows[k][3], expected[k].first) << "step " << k;
+    EXPECT_EQ(table.rows[k][4], expected[k].second) << "step " << k;
   }
   // The end of the path is the least-squares fit; its R^2 on these data is
   // 0.5177 to four places (from memory); 5e-5 is half a unit in the last place.
-  EXPECT_NEAR(std::stod(table.rows.back()[6]), 0.5177, 5e-5);
+  EXPECT_NEAR(std::stod(table.rows.back()[7]), 0.5177, 5e-5);
 }
 
 }  // namespace

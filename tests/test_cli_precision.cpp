@@ -186,13 +186,13 @@ TEST_F(CliPrecision, TraceIn50DigitsEndsAtNistFilipCertifiedValues) {
   const auto rows = csv_rows(slurp(file("k.csv")));
   ASSERT_GE(rows.size(), 3u);
   const auto& last = rows.back();
-  ASSERT_EQ(last.size(), 8u + 10u);
-  EXPECT_EQ(last[2], "end");
+  ASSERT_EQ(last.size(), 9u + 10u);
+  EXPECT_EQ(last[3], "end");
   EXPECT_EQ(last[1], "0");
   const auto certified = certified_values(cert, 11);
-  double worst = lre(kp::parse_decimal<kp::float50>(last[7]), certified[0]);
+  double worst = lre(kp::parse_decimal<kp::float50>(last[8]), certified[0]);
   for (std::size_t j = 1; j <= 10; ++j)
-    worst = std::min(worst, lre(kp::parse_decimal<kp::float50>(last[7 + j]), certified[j]));
+    worst = std::min(worst, lre(kp::parse_decimal<kp::float50>(last[8 + j]), certified[j]));
   EXPECT_GE(worst, 12.0);
   // 50-digit numbers are written with all their digits (53 significant).
   const json doc = json::parse(slurp(file("k.json")));
@@ -266,23 +266,31 @@ TEST_F(CliPrecision, ExactModePrintsTheHandComputedLeastSquaresFractions) {
   EXPECT_NE(r.out.find("arithmetic: exact rational"), std::string::npos) << r.out;
   const auto rows = csv_rows(slurp(file("k.csv")));
   ASSERT_GE(rows.size(), 3u);
-  const std::vector<std::string> header{"step", "penalty", "event", "predictor", "active",
-                                        "l1_norm", "r_squared", "intercept", "x1", "x2",
-                                        "decimal:penalty", "decimal:l1_norm", "decimal:r_squared",
-                                        "decimal:intercept", "decimal:x1", "decimal:x2"};
+  const std::vector<std::string> header{
+      "step",      "penalty",         "mu",         "event",           "predictor",
+      "active",    "l1_norm",         "r_squared",  "intercept",       "x1",
+      "x2",        "decimal:penalty", "decimal:mu", "decimal:l1_norm", "decimal:r_squared",
+      "decimal:intercept", "decimal:x1", "decimal:x2"};
   EXPECT_EQ(rows[0], header);
   const auto& last = rows.back();
   ASSERT_EQ(last.size(), header.size());
-  EXPECT_EQ(last[2], "end");
+  EXPECT_EQ(last[3], "end");
   EXPECT_EQ(last[1], "0/1");
-  EXPECT_EQ(last[7], b0);
-  EXPECT_EQ(last[8], b1);
-  EXPECT_EQ(last[9], b2);
+  EXPECT_EQ(last[2], "0/1");  // mu = lambda / n, exact without standardization
+  EXPECT_EQ(last[8], b0);
+  EXPECT_EQ(last[9], b1);
+  EXPECT_EQ(last[10], b2);
+  // mu of the start is its penalty over n = 5 rows, as an exact fraction.
+  {
+    const kp::rational start(rows[1][1].c_str()), mu(rows[1][2].c_str());  // "p/q" text
+    EXPECT_GT(start, 0);
+    EXPECT_EQ(mu, start / 5) << rows[1][1] << " " << rows[1][2];
+  }
   // Decimal approximations: nearest doubles, within one rounding (2^-53
   // relative) of the fractions.
-  EXPECT_NEAR(std::stod(last[13]), 351.0 / 230.0, 1e-15);
-  EXPECT_NEAR(std::stod(last[14]), 20.0 / 23.0, 1e-15);
-  EXPECT_NEAR(std::stod(last[15]), -19.0 / 23.0, 1e-15);
+  EXPECT_NEAR(std::stod(last[15]), 351.0 / 230.0, 1e-15);
+  EXPECT_NEAR(std::stod(last[16]), 20.0 / 23.0, 1e-15);
+  EXPECT_NEAR(std::stod(last[17]), -19.0 / 23.0, 1e-15);
   // JSON: exact fractions as strings, nearest doubles in "decimal".
   const json doc = json::parse(slurp(file("k.json")));
   EXPECT_EQ(doc["precision"]["exact"], true);
@@ -361,8 +369,8 @@ TEST_F(CliPrecision, OtherArithmeticsAgreeWithDoubleOnAWellConditionedTable) {
     const auto rows = csv_rows(slurp(file("h.csv")));
     ASSERT_EQ(rows.size(), reference.size());
     for (std::size_t k = 1; k < rows.size(); ++k) {
-      EXPECT_EQ(rows[k][2], reference[k][2]);
       EXPECT_EQ(rows[k][3], reference[k][3]);
+      EXPECT_EQ(rows[k][4], reference[k][4]);
       EXPECT_NEAR(std::stod(rows[k][1]), std::stod(reference[k][1]), 1e-12 * top);
     }
   }

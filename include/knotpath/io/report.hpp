@@ -81,11 +81,12 @@ template <class Scalar>
 std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss);
 
 /// Writes the knot table: header
-/// `step,penalty,event,predictor,active,l1_norm,r_squared,intercept,NAMES...`
-/// then one row per knot (see DESIGN.md). The last row's event is
+/// `step,penalty,mu,event,predictor,active,l1_norm,r_squared,intercept,NAMES...`
+/// then one row per knot (see DESIGN.md). `mu` is Path::mu_of(penalty), the
+/// size-free penalty the audit shows. The last row's event is
 /// to_string(path.stop_reason()) ("end" or "stop-..."). An undefined R^2
 /// (constant response) is an empty cell. Exact mode appends the columns
-/// decimal:penalty, decimal:l1_norm, decimal:r_squared, decimal:intercept,
+/// decimal:penalty, decimal:mu, decimal:l1_norm, decimal:r_squared, decimal:intercept,
 /// `decimal:NAME`... (nearest doubles, 17 significant digits).
 template <class Scalar>
 void write_knot_table(std::ostream& out, const Path<Scalar>& path,
