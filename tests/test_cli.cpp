@@ -370,6 +370,15 @@ TEST_F(Cli, AtRefusesPointsThePathCannotAnswerAndSaysWhenAnAnswerOutsideIsExact)
       EXPECT_NE(r.err.find("Trace further"), std::string::npos) << r.err;
     }
   }
+  // A fraction of a stopped path's final norm is answered, and the heading
+  // says whose norm that is.
+  {
+    const Outcome r = run(table + floor + "--fraction 0.5");
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_NE(r.out.find("of the final L1 norm (the traced path stopped early: the penalty floor"),
+              std::string::npos)
+        << r.out;
+  }
   // Above lambda_max: the exact answer (all coefficients 0), said in words,
   // headed by the penalty asked.
   {
