@@ -146,23 +146,6 @@ std::string constraint_name(SignConstraint c) {
   return "none";
 }
 
-std::string stop_explanation(StopReason reason) {
-  switch (reason) {
-    case StopReason::completed:
-      return "the path reached penalty 0";
-    case StopReason::max_knots:
-      return "the knot limit (--max-knots) was reached";
-    case StopReason::min_penalty:
-      return "the penalty floor (--min-penalty) was reached";
-    case StopReason::max_active:
-      return "the active-set limit (--max-active) was reached";
-    case StopReason::step_limit:
-      return "the safety bound on homotopy steps was hit: numerical trouble, the path is "
-             "incomplete";
-  }
-  return "?";
-}
-
 using json = nlohmann::ordered_json;
 
 // Writes scalar numbers into JSON objects: plain numbers for double; beyond
@@ -217,16 +200,81 @@ std::size_t suspect_count(const Path<Scalar>& path) {
   return count;
 }
 
+// Where a held-out column met the path: "at knot K" when knot K (the last
+// at or above its penalty, HeldOut::step) is at its penalty, else "after knot K".
+template <class Scalar>
+std::string held_out_place(const Path<Scalar>& path, const HeldOut<Scalar>& h) {
+  const auto& knot = path.knots().at(static_cast<std::size_t>(h.step));
+  return fmt::format("{} knot {} (penalty {:.6g})", knot.penalty == h.penalty ? "at" : "after",
+                     h.step, nearest_double(h.penalty));
+}
+
+// The held-out notes of the audit: one line per column held out as
+// collinear, and one line for all the attempts after saturation (when p > n
+// they are many, all at rounding-level penalties; the JSON names them).
+template <class Scalar>
+std::string held_out_text(const Path<Scalar>& path, const std::vector<std::string>& names) {
+  std::string out;
+  const HeldOut<Scalar>* first_saturated = nullptr;
+  const HeldOut<Scalar>* last_saturated = nullptr;
+  std::size_t attempts = 0;
+  std::vector<Index> predictors;
+  for (const auto& h : path.held_out()) {
+    if (!h.saturated) {
+      out += fmt::format("held out: {} {}: its column is numerically in the span of the active "
+                         "columns\n",
+                         name_of(names, h.predictor), held_out_place(path, h));
+      continue;
+    }
+    if (!first_saturated) first_saturated = &h;
+    last_saturated = &h;
+    ++attempts;
+    if (std::find(predictors.begin(), predictors.end(), h.predictor) == predictors.end())
+      predictors.push_back(h.predictor);
+  }
+  if (attempts == 1)
+    out += fmt::format("held out: {} {}: the active set already had as many columns as usable "
+                       "rows\n",
+                       name_of(names, first_saturated->predictor),
+                       held_out_place(path, *first_saturated));
+  else if (attempts > 1)
+    out += fmt::format(
+        "held out after saturation: {} predictors{} reached the boundary when the active set "
+        "already had as many columns as usable rows, from {} to {} (names in the JSON "
+        "document's saturation member)\n",
+        predictors.size(),
+        attempts == predictors.size() ? std::string() : fmt::format(" ({} times)", attempts),
+        held_out_place(path, *first_saturated), held_out_place(path, *last_saturated));
+  return out;
+}
+
 }  // namespace
+
+std::string stop_explanation(StopReason reason) {
+  switch (reason) {
+    case StopReason::completed:
+      return "the path reached penalty 0";
+    case StopReason::max_knots:
+      return "the knot limit (--max-knots) was reached";
+    case StopReason::min_penalty:
+      return "the penalty floor (--min-penalty) was reached";
+    case StopReason::max_active:
+      return "the active-set limit (--max-active) was reached";
+    case StopReason::step_limit:
+      return "the safety bound on homotopy steps was hit: numerical trouble, the path is "
+             "incomplete";
+  }
+  return "?";
+}
 
 template <class Scalar>
 void write_knot_table(std::ostream& out, const Path<Scalar>& path,
                       const std::vector<std::string>& names) {
   constexpr bool exact = detail::is_exact_v<Scalar>;
-  out << "step,penalty,event,predictor,active,l1_norm,r_squared,intercept";
+  out << "step,penalty,mu,event,predictor,active,l1_norm,r_squared,intercept";
   for (const auto& name : names) out << ',' << csv_field(name);
   if constexpr (exact) {
-    out << ",decimal:penalty,decimal:l1_norm,decimal:r_squared,decimal:intercept";
+    out << ",decimal:penalty,decimal:mu,decimal:l1_norm,decimal:r_squared,decimal:intercept";
     for (const auto& name : names) out << ',' << csv_field("decimal:" + name);
   }
   out << '\n';
@@ -236,13 +284,18 @@ void write_knot_table(std::ostream& out, const Path<Scalar>& path,
     std::fill(beta.begin(), beta.end(), Scalar(0));
     for (const auto& [j, value] : knot.coefficients) beta[static_cast<std::size_t>(j)] = value;
     const auto r2 = r_squared(path, knot.rss);
-    out << knot.step << ',' << number_text(knot.penalty) << ',' << event_name(path, knot) << ','
+    // mu from Path::mu_of (scaling.hpp); exact paths are never standardized,
+    // so theirs is the exact lambda / n.
+    const Scalar mu = path.mu_of(knot.penalty);
+    out << knot.step << ',' << number_text(knot.penalty) << ',' << number_text(mu) << ','
+        << event_name(path, knot) << ','
         << csv_field(name_of(names, knot.predictor)) << ',' << knot.active_count << ','
         << number_text(knot.penalized_l1) << ',' << (r2 ? number_text(*r2) : std::string()) << ','
         << number_text(knot.intercept);
     for (const Scalar& b : beta) out << ',' << number_text(b);
     if constexpr (exact) {
       out << ',' << round_trip(nearest_double(knot.penalty)) << ','
+          << round_trip(nearest_double(mu)) << ','
           << round_trip(nearest_double(knot.penalized_l1)) << ','
           << (r2 ? round_trip(nearest_double(*r2)) : std::string()) << ','
           << round_trip(nearest_double(knot.intercept));
@@ -388,6 +441,28 @@ json held_out_json(const Path<Scalar>& path, const std::vector<std::string>& nam
   return held;
 }
 
+// Saturation of the active set (Path::saturation_step()) and the
+// predictors held out after it, each named once (the audit's one line).
+template <class Scalar>
+json saturation_json(const Path<Scalar>& path, const std::vector<std::string>& names) {
+  const auto step = path.saturation_step();
+  json saturation;
+  saturation["step"] = step ? json(*step) : json(nullptr);
+  json predictors = json::array();
+  std::size_t attempts = 0;
+  for (const auto& h : path.held_out()) {
+    if (!h.saturated) continue;
+    ++attempts;
+    const std::string name = name_of(names, h.predictor);
+    if (std::find(predictors.begin(), predictors.end(), name) == predictors.end())
+      predictors.push_back(name);
+  }
+  saturation["held_out_count"] = predictors.size();
+  saturation["held_out_attempts"] = attempts;
+  saturation["held_out"] = predictors;
+  return saturation;
+}
+
 }  // namespace
 
 template <class Scalar>
@@ -423,12 +498,14 @@ std::vector<std::string> audit_notes(const Path<Scalar>& path, const RunContext&
     notes.push_back(fmt::format("rows dropped for missing cells: {}", context.rows_dropped));
   for (const auto& e : path.excluded())
     notes.push_back(fmt::format("excluded: {} ({})", name_of(names, e.predictor), e.reason));
-  for (const auto& h : path.held_out())
-    notes.push_back(fmt::format(
-        "held out: {} at step {} (penalty {:.6g}): {}", name_of(names, h.predictor), h.step,
-        nearest_double(h.penalty),
-        h.saturated ? "the active set already had as many columns as usable rows"
-                    : "its column is numerically in the span of the active columns"));
+  // held_out_text(): one line per collinear column, one summary line for
+  // those held out after saturation.
+  const std::string held = held_out_text(path, names);
+  for (std::size_t at = 0, end; at < held.size(); at = end + 1) {
+    end = held.find('\n', at);
+    if (end == std::string::npos) end = held.size();
+    notes.push_back(held.substr(at, end - at));
+  }
   if (!context.text_columns.empty()) {
     std::string list;
     for (const auto& t : context.text_columns) list += (list.empty() ? "" : ", ") + t;
@@ -468,6 +545,7 @@ nlohmann::ordered_json path_document(const Path<Scalar>& path, const RunContext&
     excluded.push_back({{"predictor", name_of(names, e.predictor)}, {"reason", e.reason}});
   doc["excluded"] = excluded;
   doc["held_out"] = held_out_json(path, names);
+  doc["saturation"] = saturation_json(path, names);
   if constexpr (!is_double_v<Scalar>) numbers.finish(doc);
   return doc;
 }

@@ -785,4 +785,26 @@ TEST(RenderCheck, EveryChartRendersToANonBlankPng) {
   std::filesystem::remove_all(dir);
 }
 
+// Issue 18, point 7: the report's notes list each collinear column, but the
+// predictors held out after saturation (p > n: most of them, at rounding-level
+// penalties) in one note with their count. Before, one note each, worded "as
+// collinear" though saturation, not collinearity, kept them out.
+TEST(ChartData, HeldOutAfterSaturationIsOneNote) {
+  const auto prob = knotpath::testing::ar1_problem(12, 40, 0.2, 7, 3);
+  const auto path = knotpath::trace<double>(prob.x, prob.y);
+  std::set<Index> saturated;
+  for (const auto& h : path.held_out())
+    if (h.saturated) saturated.insert(h.predictor);
+  ASSERT_GE(saturated.size(), 2u);
+  const kc::ChartPath chart = kc::chart_path(path);
+  std::size_t held_notes = 0;
+  for (const auto& note : chart.notes)
+    if (note.find("held out") != std::string::npos) ++held_notes;
+  EXPECT_EQ(held_notes, 1u);
+  ASSERT_FALSE(chart.notes.empty());
+  EXPECT_EQ(chart.notes.back().rfind(std::to_string(saturated.size()) + " predictors held out after", 0),
+            0u)
+      << chart.notes.back();
+}
+
 }  // namespace

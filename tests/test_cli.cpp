@@ -96,8 +96,8 @@ bool close(double a, double b) { return std::abs(a - b) <= kSameComputation * (1
 // Compares a knot table printed by the program with the library's path.
 void expect_same_path(const KnotTable& table, const knotpath::Path<double>& path,
                       const std::vector<std::string>& names) {
-  std::vector<std::string> header{"step",    "penalty",   "event",     "predictor",
-                                  "active",  "l1_norm",   "r_squared", "intercept"};
+  std::vector<std::string> header{"step",   "penalty", "mu",        "event",    "predictor",
+                                  "active", "l1_norm", "r_squared", "intercept"};
   header.insert(header.end(), names.begin(), names.end());
   ASSERT_EQ(table.header, header);
   ASSERT_EQ(table.rows.size(), path.knots().size());
@@ -107,20 +107,21 @@ void expect_same_path(const KnotTable& table, const knotpath::Path<double>& path
     ASSERT_EQ(row.size(), header.size());
     EXPECT_EQ(std::stol(row[0]), knot.step);
     EXPECT_TRUE(close(std::stod(row[1]), knot.penalty)) << row[1] << " vs " << knot.penalty;
+    EXPECT_TRUE(close(std::stod(row[2]), path.mu_of(knot.penalty))) << row[2];
     const std::string event = (knot.event == knotpath::EventKind::end ||
                                knot.event == knotpath::EventKind::stop)
                                   ? knotpath::to_string(path.stop_reason())
                                   : knotpath::to_string(knot.event);
-    EXPECT_EQ(row[2], event);
-    EXPECT_EQ(row[3], knot.predictor >= 0 ? names[static_cast<std::size_t>(knot.predictor)] : "");
-    EXPECT_EQ(std::stol(row[4]), knot.active_count);
-    EXPECT_TRUE(close(std::stod(row[5]), knot.penalized_l1));
+    EXPECT_EQ(row[3], event);
+    EXPECT_EQ(row[4], knot.predictor >= 0 ? names[static_cast<std::size_t>(knot.predictor)] : "");
+    EXPECT_EQ(std::stol(row[5]), knot.active_count);
+    EXPECT_TRUE(close(std::stod(row[6]), knot.penalized_l1));
     const double r2 = 1.0 - knot.rss / path.preparation().total_sum_of_squares;
-    EXPECT_TRUE(close(std::stod(row[6]), r2));
-    EXPECT_TRUE(close(std::stod(row[7]), knot.intercept));
+    EXPECT_TRUE(close(std::stod(row[7]), r2));
+    EXPECT_TRUE(close(std::stod(row[8]), knot.intercept));
     const Vector<double> beta = path.dense_coefficients(k);
     for (Index j = 0; j < beta.size(); ++j)
-      EXPECT_TRUE(close(std::stod(row[8 + static_cast<std::size_t>(j)]), beta(j)))
+      EXPECT_TRUE(close(std::stod(row[9 + static_cast<std::size_t>(j)]), beta(j)))
           << "step " << k << " predictor " << j;
   }
 }
@@ -343,6 +344,146 @@ TEST_F(Cli, AtAgreesWithTheLibraryQueries) {
   EXPECT_NE(r.out.find("(intercept)"), std::string::npos);
 }
 
+// Issue 18, point 6: a query outside the traced path. Before, `--penalty`
+// below a stopped path's end printed the last knot with exit status 0 (a
+// note on stderr only), and a penalty above lambda_max printed the start's
+// penalty as if it were the answer's.
+TEST_F(Cli, AtRefusesPointsThePathCannotAnswerAndSaysWhenAnAnswerOutsideIsExact) {
+  const auto p = small_problem();
+  write_problem(file("t.csv"), p, small_weights(p.x.rows()));
+  const auto path = knotpath::trace<double>(p.x, p.y);
+  const double top = path.lambda_max();
+  const std::string table = "at t.csv --response y --drop w ";
+  // Below the end of a path stopped by --min-penalty: no answer, status 8
+  // (README, "Exit codes"), no coefficients on stdout.
+  const std::string floor = fmt::format("--min-penalty {:.17g} ", 0.5 * top);
+  for (const std::string& query :
+       {fmt::format("--penalty {:.17g}", 0.25 * top),
+        fmt::format("--mu {:.17g}", 0.25 * top / std::sqrt(60.0)), std::string("--budget 1e6")}) {
+    SCOPED_TRACE(query);
+    for (const std::string& precision : {std::string(), std::string(" --precision 50")}) {
+      const Outcome r = run(table + floor + query + precision);
+      EXPECT_EQ(r.code, 8) << r.out << r.err;
+      EXPECT_EQ(r.out, "");
+      EXPECT_NE(r.err.find("the penalty floor (--min-penalty) was reached"), std::string::npos)
+          << r.err;
+      EXPECT_NE(r.err.find("Trace further"), std::string::npos) << r.err;
+    }
+  }
+  // A fraction of a stopped path's final norm is answered, and the heading
+  // says whose norm that is.
+  {
+    const Outcome r = run(table + floor + "--fraction 0.5");
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_NE(r.out.find("of the final L1 norm (the traced path stopped early: the penalty floor"),
+              std::string::npos)
+        << r.out;
+  }
+  // Above lambda_max: the exact answer (all coefficients 0), said in words,
+  // headed by the penalty asked.
+  {
+    const Outcome r = run(table + fmt::format("--penalty {:.17g}", 5 * top));
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_EQ(r.out.rfind(fmt::format("penalty {:.17g}: penalty {:.10g} ", 5 * top, 5 * top), 0), 0u)
+        << r.out;
+    EXPECT_NE(r.out.find("above lambda_max"), std::string::npos) << r.out;
+    EXPECT_NE(r.out.find("so this answer is exact"), std::string::npos) << r.out;
+    const Outcome csv = run(table + fmt::format("--penalty {:.17g} --csv", 5 * top));
+    ASSERT_EQ(csv.code, 0) << csv.err;
+    EXPECT_NE(csv.err.find("knotpath: note: this is above lambda_max"), std::string::npos) << csv.err;
+    for (Index j = 0; j < p.x.cols(); ++j)
+      EXPECT_NE(csv.out.find(p.names[static_cast<std::size_t>(j)] + ",0\n"), std::string::npos)
+          << csv.out;
+  }
+  // A budget above the end of a completed lasso path does not bind: the end
+  // is the exact answer. With a ridge or on a least-angle path no point of
+  // the path has that norm: status 8.
+  const double beyond = 2 * path.knots().back().penalized_l1;
+  const std::string budget = fmt::format("--budget {:.17g}", beyond);
+  {
+    const Outcome r = run(table + budget);
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_NE(r.out.find("the budget does not bind"), std::string::npos) << r.out;
+    EXPECT_NE(r.out.find(": penalty 0 (mu 0)"), std::string::npos) << r.out;
+  }
+  for (const std::string& model : {std::string("--ridge 0.5 "), std::string("--variant least-angle ")}) {
+    const Outcome r = run(table + model + budget);
+    EXPECT_EQ(r.code, 8) << model << r.out;
+    EXPECT_EQ(r.out, "");
+    EXPECT_NE(r.err.find("Ask for a budget of at most"), std::string::npos) << r.err;
+  }
+}
+
+// Issue 18, point 7: what a budget returns is said in the heading (and in
+// --help): least RSS under the budget for the lasso, the elastic-net point
+// of that norm with a ridge, the first point reaching it on a least-angle
+// path. Before, every heading said "L1 budget S" alone.
+TEST_F(Cli, AtSaysWhatABudgetReturnsOnEachKindOfPath) {
+  const auto p = small_problem();
+  write_problem(file("t.csv"), p, small_weights(p.x.rows()));
+  const std::string table = "at t.csv --response y --drop w --budget 1 ";
+  const std::vector<std::pair<std::string, std::string>> cases = {
+      {"", "(least RSS with L1 norm at most the budget)"},
+      {"--ridge 0.5", "(the elastic-net point with that L1 norm: least RSS plus ridge term"},
+      {"--variant least-angle", "(the first point of the least-angle path whose L1 norm reaches it)"},
+  };
+  for (const auto& [model, words] : cases) {
+    const Outcome r = run(table + model);
+    ASSERT_EQ(r.code, 0) << model << r.err;
+    EXPECT_EQ(r.out.rfind("L1 budget 1 " + words, 0), 0u) << r.out;
+  }
+  const Outcome help = run("at --help");
+  EXPECT_NE(help.out.find("with --ridge the elastic-net point of L1 norm S"), std::string::npos)
+      << help.out;
+  EXPECT_NE(help.out.find("the first"), std::string::npos);
+}
+
+// Issue 18, point 7: when p > n every predictor that reaches the boundary
+// after the active set saturated is held out at a rounding-level penalty.
+// The audit listed each on its own line (dozens); it now gives one line
+// with the count, and the JSON names them once each in "saturation".
+TEST_F(Cli, HeldOutAfterSaturationIsOneAuditLineAndNamedInTheJson) {
+  const auto p = knotpath::testing::ar1_problem(12, 40, 0.2, 7, 3, 1.0);
+  write_problem(file("wide.csv"), p, Vector<double>::Ones(p.x.rows()));
+  const auto path = knotpath::trace<double>(p.x, p.y);
+  std::vector<std::string> saturated;
+  std::size_t attempts = 0;
+  for (const auto& h : path.held_out()) {
+    if (!h.saturated) continue;
+    ++attempts;
+    const std::string& name = p.names[static_cast<std::size_t>(h.predictor)];
+    if (std::find(saturated.begin(), saturated.end(), name) == saturated.end())
+      saturated.push_back(name);
+  }
+  ASSERT_GE(saturated.size(), 2u) << "the design must saturate and hold several out";
+  const Outcome r = run("trace wide.csv --response y --drop w --json wide.json");
+  ASSERT_EQ(r.code, 0) << r.err;
+  std::size_t lines = 0;
+  for (std::size_t at = r.out.find("held out"); at != std::string::npos;
+       at = r.out.find("held out", at + 1))
+    ++lines;
+  EXPECT_EQ(lines, 1u) << r.out;
+  EXPECT_NE(r.out.find(fmt::format("held out after saturation: {} predictors", saturated.size())),
+            std::string::npos)
+      << r.out;
+  const auto doc = nlohmann::json::parse(slurp(file("wide.json")));
+  EXPECT_EQ(doc["saturation"]["step"], *path.saturation_step());
+  EXPECT_EQ(doc["saturation"]["held_out_count"], saturated.size());
+  EXPECT_EQ(doc["saturation"]["held_out_attempts"], attempts);
+  EXPECT_EQ(doc["saturation"]["held_out"], nlohmann::json(saturated));
+  // Each held-out entry names the knot where it happened: the last knot at
+  // or above its penalty (before, the row its entry would have taken, past
+  // the end of the table or at a lower penalty).
+  for (const auto& h : doc["held_out"]) {
+    const auto step = h["step"].get<std::size_t>();
+    ASSERT_LT(step, doc["knots"].size());
+    EXPECT_GE(doc["knots"][step]["penalty"].get<double>(), h["penalty"].get<double>());
+    if (step + 1 < doc["knots"].size()) {
+      EXPECT_LT(doc["knots"][step + 1]["penalty"].get<double>(), h["penalty"].get<double>());
+    }
+  }
+}
+
 TEST_F(Cli, ReadsStandardInputWithDash) {
   const auto p = small_problem();
   write_problem(file("t.csv"), p, small_weights(p.x.rows()));
@@ -425,7 +566,7 @@ TEST_F(Cli, UsageAndOutputErrorsHaveTheirExitCodes) {
   // A successful run replaces an existing output file.
   spit(file("k.csv"), "previous content\n");
   ASSERT_EQ(run("trace t.csv --response y --knots k.csv").code, 0);
-  EXPECT_EQ(slurp(file("k.csv")).rfind("step,penalty,event,", 0), 0u);
+  EXPECT_EQ(slurp(file("k.csv")).rfind("step,penalty,mu,event,", 0), 0u);
 }
 
 TEST_F(Cli, HelpForEveryCommandHasAnExampleAndVersionIsProjectVersion) {
@@ -447,7 +588,7 @@ TEST_F(Cli, DemoRunsAndItsOutputsParse) {
   const auto data = knotpath::demo::greenhouse();
   const KnotTable table = read_knots(slurp(file("demo-out/knots.csv")));
   // The header fixed in DESIGN.md ("Contracts other code relies on").
-  std::vector<std::string> header{"step",   "penalty", "event",     "predictor",
+  std::vector<std::string> header{"step",   "penalty", "mu",        "event",    "predictor",
                                   "active", "l1_norm", "r_squared", "intercept"};
   header.insert(header.end(), data.predictor_names.begin(), data.predictor_names.end());
   EXPECT_EQ(table.header, header);
@@ -457,7 +598,7 @@ TEST_F(Cli, DemoRunsAndItsOutputsParse) {
   // The demo traces its own table; the library on the in-memory data must
   // give the same path (the table round-trips the doubles).
   expect_same_path(table, knotpath::trace<double>(data.x, data.y), data.predictor_names);
-  EXPECT_EQ(table.rows.back()[2], "end");
+  EXPECT_EQ(table.rows.back()[3], "end");
 }
 
 TEST_F(Cli, DiabetesKnotTableHasThePublishedLassoSequence) {
@@ -476,12 +617,12 @@ TEST_F(Cli, DiabetesKnotTableHasThePublishedLassoSequence) {
   ASSERT_EQ(table.rows.size(), expected.size());
   for (std::size_t k = 0; k < expected.size(); ++k) {
     EXPECT_EQ(table.rows[k][0], std::to_string(k));
-    EXPECT_EQ(table.rows[k][2], expected[k].first) << "step " << k;
-    EXPECT_EQ(table.rows[k][3], expected[k].second) << "step " << k;
+    EXPECT_EQ(table.rows[k][3], expected[k].first) << "step " << k;
+    EXPECT_EQ(table.rows[k][4], expected[k].second) << "step " << k;
   }
   // The end of the path is the least-squares fit; its R^2 on these data is
   // 0.5177 to four places (from memory); 5e-5 is half a unit in the last place.
-  EXPECT_NEAR(std::stod(table.rows.back()[6]), 0.5177, 5e-5);
+  EXPECT_NEAR(std::stod(table.rows.back()[7]), 0.5177, 5e-5);
 }
 
 }  // namespace

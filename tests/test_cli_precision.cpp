@@ -186,13 +186,13 @@ TEST_F(CliPrecision, TraceIn50DigitsEndsAtNistFilipCertifiedValues) {
   const auto rows = csv_rows(slurp(file("k.csv")));
   ASSERT_GE(rows.size(), 3u);
   const auto& last = rows.back();
-  ASSERT_EQ(last.size(), 8u + 10u);
-  EXPECT_EQ(last[2], "end");
+  ASSERT_EQ(last.size(), 9u + 10u);
+  EXPECT_EQ(last[3], "end");
   EXPECT_EQ(last[1], "0");
   const auto certified = certified_values(cert, 11);
-  double worst = lre(kp::parse_decimal<kp::float50>(last[7]), certified[0]);
+  double worst = lre(kp::parse_decimal<kp::float50>(last[8]), certified[0]);
   for (std::size_t j = 1; j <= 10; ++j)
-    worst = std::min(worst, lre(kp::parse_decimal<kp::float50>(last[7 + j]), certified[j]));
+    worst = std::min(worst, lre(kp::parse_decimal<kp::float50>(last[8 + j]), certified[j]));
   EXPECT_GE(worst, 12.0);
   // 50-digit numbers are written with all their digits (53 significant).
   const json doc = json::parse(slurp(file("k.json")));
@@ -266,23 +266,31 @@ TEST_F(CliPrecision, ExactModePrintsTheHandComputedLeastSquaresFractions) {
   EXPECT_NE(r.out.find("arithmetic: exact rational"), std::string::npos) << r.out;
   const auto rows = csv_rows(slurp(file("k.csv")));
   ASSERT_GE(rows.size(), 3u);
-  const std::vector<std::string> header{"step", "penalty", "event", "predictor", "active",
-                                        "l1_norm", "r_squared", "intercept", "x1", "x2",
-                                        "decimal:penalty", "decimal:l1_norm", "decimal:r_squared",
-                                        "decimal:intercept", "decimal:x1", "decimal:x2"};
+  const std::vector<std::string> header{
+      "step",      "penalty",         "mu",         "event",           "predictor",
+      "active",    "l1_norm",         "r_squared",  "intercept",       "x1",
+      "x2",        "decimal:penalty", "decimal:mu", "decimal:l1_norm", "decimal:r_squared",
+      "decimal:intercept", "decimal:x1", "decimal:x2"};
   EXPECT_EQ(rows[0], header);
   const auto& last = rows.back();
   ASSERT_EQ(last.size(), header.size());
-  EXPECT_EQ(last[2], "end");
+  EXPECT_EQ(last[3], "end");
   EXPECT_EQ(last[1], "0/1");
-  EXPECT_EQ(last[7], b0);
-  EXPECT_EQ(last[8], b1);
-  EXPECT_EQ(last[9], b2);
+  EXPECT_EQ(last[2], "0/1");  // mu = lambda / n, exact without standardization
+  EXPECT_EQ(last[8], b0);
+  EXPECT_EQ(last[9], b1);
+  EXPECT_EQ(last[10], b2);
+  // mu of the start is its penalty over n = 5 rows, as an exact fraction.
+  {
+    const kp::rational start(rows[1][1].c_str()), mu(rows[1][2].c_str());  // "p/q" text
+    EXPECT_GT(start, 0);
+    EXPECT_EQ(mu, start / 5) << rows[1][1] << " " << rows[1][2];
+  }
   // Decimal approximations: nearest doubles, within one rounding (2^-53
   // relative) of the fractions.
-  EXPECT_NEAR(std::stod(last[13]), 351.0 / 230.0, 1e-15);
-  EXPECT_NEAR(std::stod(last[14]), 20.0 / 23.0, 1e-15);
-  EXPECT_NEAR(std::stod(last[15]), -19.0 / 23.0, 1e-15);
+  EXPECT_NEAR(std::stod(last[15]), 351.0 / 230.0, 1e-15);
+  EXPECT_NEAR(std::stod(last[16]), 20.0 / 23.0, 1e-15);
+  EXPECT_NEAR(std::stod(last[17]), -19.0 / 23.0, 1e-15);
   // JSON: exact fractions as strings, nearest doubles in "decimal".
   const json doc = json::parse(slurp(file("k.json")));
   EXPECT_EQ(doc["precision"]["exact"], true);
@@ -305,6 +313,31 @@ TEST_F(CliPrecision, ExactModePrintsTheHandComputedLeastSquaresFractions) {
   const Outcome refused = run("trace small.csv --response y --precision exact");
   EXPECT_EQ(refused.code, 2);
   EXPECT_NE(refused.err.find("--no-standardize"), std::string::npos) << refused.err;
+}
+
+// Regression: `at --mu` in exact mode was refused with "lambda = mu *
+// sqrt(n) is irrational", but exact mode needs --no-standardize, where the
+// size-free penalty is mu = lambda / n (scaling.hpp): a rational query. The
+// same point asked as --mu M and as --penalty M * n (n = 5 rows) gives the
+// same fractions.
+TEST_F(CliPrecision, ExactModeAnswersMuThroughLambdaOverN) {
+  spit(file("small.csv"), "x1,x2,y\n0,1,1\n1,0,2.5\n2,1,2\n3,0.5,4\n0.25,0,1.5\n");
+  const std::string common = "at small.csv --response y --precision exact --no-standardize --csv ";
+  const Outcome by_mu = run(common + "--mu 0.03");
+  ASSERT_EQ(by_mu.code, 0) << by_mu.err;
+  const Outcome by_penalty = run(common + "--penalty 0.15");
+  ASSERT_EQ(by_penalty.code, 0) << by_penalty.err;
+  EXPECT_EQ(by_mu.out, by_penalty.out);
+  // A point inside the path (some coefficient not zero), not the start.
+  EXPECT_NE(by_mu.out.find("x1,"), std::string::npos);
+  const auto lines = csv_rows(by_mu.out);
+  ASSERT_EQ(lines.size(), 4u);
+  EXPECT_TRUE(lines[2][1] != "0/1" || lines[3][1] != "0/1") << by_mu.out;
+  // The help text states both conversions.
+  const Outcome help = run("at --help");
+  EXPECT_NE(help.out.find("lambda / sqrt(n) for standardized columns"), std::string::npos) << help.out;
+  EXPECT_NE(help.out.find("mu = lambda / n for columns kept on their own scale"), std::string::npos)
+      << help.out;
 }
 
 // On a well-conditioned table the 50-digit, long double and MPFR traces give
@@ -336,8 +369,8 @@ TEST_F(CliPrecision, OtherArithmeticsAgreeWithDoubleOnAWellConditionedTable) {
     const auto rows = csv_rows(slurp(file("h.csv")));
     ASSERT_EQ(rows.size(), reference.size());
     for (std::size_t k = 1; k < rows.size(); ++k) {
-      EXPECT_EQ(rows[k][2], reference[k][2]);
       EXPECT_EQ(rows[k][3], reference[k][3]);
+      EXPECT_EQ(rows[k][4], reference[k][4]);
       EXPECT_NEAR(std::stod(rows[k][1]), std::stod(reference[k][1]), 1e-12 * top);
     }
   }

@@ -173,7 +173,10 @@ TEST(Degenerate, ExactlyCollinearColumnIsHeldOutWithItsReason) {
   const auto& held = path.held_out()[0];
   EXPECT_EQ(held.predictor, 3);
   EXPECT_EQ(held.penalty, k[0].penalty);  // held out at the tie
-  EXPECT_EQ(held.step, 4);                // the row its entry would have taken
+  // The knot where it happened: the last row at its penalty (x2's entry).
+  // Regression, issue 18: it named row 4 (x4's entry, at a lower penalty),
+  // the row its own entry would have taken.
+  EXPECT_EQ(held.step, 3);
   EXPECT_LE(held.squared_sine, 1e-12);    // exact dependency up to rounding
   EXPECT_FALSE(held.saturated);           // rank 3 active < 7 usable rows
   for (std::size_t i = 0; i < k.size(); ++i) EXPECT_EQ(path.dense_coefficients(i)(3), 0.0);

@@ -266,6 +266,42 @@ TEST(PathCore, QueriesAtPenaltyBudgetAndFraction) {
   for (Index j : path.active_at(lambda)) EXPECT_NE(s.coefficients(j), 0.0);
 }
 
+// Issue 18, point 6: above lambda_max the first knot's solution is the
+// exact answer, and the answer names the penalty asked (before, it named
+// lambda_max, so a caller could not tell what it had been given).
+TEST(PathCore, AbovePenaltyMaxTheAnswerIsExactAndNamesThePenaltyAsked) {
+  const kt::Problem prob = kt::ar1_problem(40, 6, 0.4, 5);
+  const kp::Path<double> path = kp::trace<double>(prob.x, prob.y);
+  const double above = 3 * path.lambda_max();
+  const auto s = path.at_penalty(above);
+  EXPECT_EQ(s.penalty, above);
+  EXPECT_FALSE(s.beyond_path);
+  EXPECT_EQ(s.coefficients.cwiseAbs().maxCoeff(), 0.0);
+  EXPECT_EQ(s.intercept, path.knots().front().intercept);
+  EXPECT_EQ(path.at_mu(path.mu_of(above)).coefficients.cwiseAbs().maxCoeff(), 0.0);
+  EXPECT_EQ(path.at_penalty(path.lambda_max()).penalty, path.lambda_max());
+}
+
+// Issue 18, point 7: HeldOut::step names the knot where the column was held
+// out, the last knot at or above its penalty. Before, it was the row the
+// column's entry would have taken: after saturation (p > n) a row past the
+// end of the table or one at a lower penalty.
+TEST(PathCore, HeldOutStepIsTheKnotWhereItHappened) {
+  const kt::Problem prob = kt::ar1_problem(12, 40, 0.2, 7, 3);
+  const kp::Path<double> path = kp::trace<double>(prob.x, prob.y);
+  ASSERT_TRUE(path.saturation_step().has_value());
+  ASSERT_GE(path.held_out().size(), 2u);
+  const auto& knots = path.knots();
+  for (const auto& h : path.held_out()) {
+    const auto step = static_cast<std::size_t>(h.step);
+    ASSERT_LT(step, knots.size());
+    EXPECT_GE(knots[step].penalty, h.penalty);
+    if (step + 1 < knots.size()) {
+      EXPECT_LT(knots[step + 1].penalty, h.penalty);
+    }
+  }
+}
+
 TEST(PathCore, EarlyStopIsFlaggedBelowTheLastKnot) {
   const kt::Problem prob = kt::ar1_problem(80, 12, 0.4, 21);
   kp::TraceOptions opt;

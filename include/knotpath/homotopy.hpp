@@ -206,6 +206,7 @@ class Homotopy {
       collect_events(segment.nearest);
       if (apply_events()) break;
     }
+    place_held_out_at_knots();
     return {std::move(knots_), std::move(held_out_), reason_};
   }
 
@@ -237,6 +238,19 @@ class Homotopy {
     active_.push_back(j);
     is_active_[at(j)] = 1;
     return true;
+  }
+
+  // HeldOut::step names a row of the knot table: the last knot at or above
+  // the penalty where the column was held out (the state of the path after
+  // every event at that penalty). try_add records the row the column would
+  // have taken, which may be a later predictor's row at a lower penalty or
+  // no row at all, so the steps are set once the knots are.
+  void place_held_out_at_knots() {
+    for (auto& h : held_out_) {
+      const auto below = std::partition_point(
+          knots_.begin(), knots_.end(), [&](const Knot<Scalar>& k) { return k.penalty >= h.penalty; });
+      h.step = std::max<Index>(static_cast<Index>(below - knots_.begin()) - 1, 0);
+    }
   }
 
   // Removes the active column at factor position `position`; columns held

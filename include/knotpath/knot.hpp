@@ -124,7 +124,10 @@ struct Event {
 /// column is numerically in the span of the active columns.
 template <class Scalar>
 struct HeldOut {
-  Index step = 0;           ///< knot-table step at which it happened
+  /// Step of the knot-table row where it happened: the last knot at or
+  /// above its penalty (the last row at that penalty, or the knot before it
+  /// when nothing else happened there).
+  Index step = 0;
   Scalar penalty{0};        ///< penalty at which it happened
   Index predictor = 0;      ///< user's 0-based index
   double squared_sine = 0;  ///< squared sine of its angle to the active span (computed, >= 0; values

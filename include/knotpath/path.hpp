@@ -231,13 +231,19 @@ class Path {
   }
 
   /// Exact solution at penalty `lambda >= 0`. Above lambda_max: the first
-  /// knot (all penalized coefficients 0). Below the last knot: the last
-  /// knot's solution, with beyond_path set when the path stopped early.
-  /// O(log K + p). Throws invalid_query for a negative or NaN penalty.
+  /// knot's solution, which is the exact answer there (every penalized
+  /// coefficient is 0 at any penalty from lambda_max up), with `penalty`
+  /// the lambda asked. Below the last knot: the last knot's solution, with
+  /// beyond_path set (and `penalty` the last knot's) when the path stopped
+  /// early. O(log K + p). Throws invalid_query for a negative or NaN penalty.
   Solution<Scalar> at_penalty(const Scalar& lambda) const {
     if (!(lambda >= Scalar(0))) throw invalid_query("the penalty must be >= 0");
     require_knots();
-    if (lambda >= knots_.front().penalty) return solution_of(0);
+    if (lambda >= knots_.front().penalty) {
+      Solution<Scalar> s = solution_of(0);
+      s.penalty = lambda;
+      return s;
+    }
     const Knot<Scalar>& last = knots_.back();
     if (lambda <= last.penalty) {
       Solution<Scalar> s = solution_of(knots_.size() - 1);
@@ -262,14 +268,23 @@ class Path {
     return at_penalty(lambda_of(mu));
   }
 
-  /// Exact solution whose penalized L1 norm (sum_j f_j s_j |beta_j|, see
-  /// Knot::penalized_l1) equals `budget`: the constrained view, least RSS
-  /// subject to that norm <= budget. It is the first point, from lambda_max
-  /// downward, where the norm reaches the budget (along the lasso path the
-  /// norm is non-decreasing, so this is the unique solution of the
-  /// constrained problem; least angle paths may cross zero inside a segment,
-  /// and the crossings are taken into account). A budget the path never
-  /// reaches gives the last knot with beyond_path set. O(log K + p log p): a
+  /// Exact solution at the first point, from lambda_max downward, where the
+  /// penalized L1 norm (sum_j f_j s_j |beta_j|, see Knot::penalized_l1)
+  /// reaches `budget`. What that point is depends on the path:
+  ///  - the lasso (ridge 0): the constrained view, least RSS subject to
+  ///    norm <= budget (and the sign constraints); the norm is
+  ///    non-decreasing along the path, so the first point is that solution;
+  ///  - the elastic net (ridge > 0): the point of the path with that norm,
+  ///    which minimizes RSS plus the ridge term subject to it (not the RSS
+  ///    alone);
+  ///  - the least-angle variant: the first point whose norm reaches the
+  ///    budget (the norm may fall inside a segment, where a coefficient
+  ///    crosses zero; the crossings are taken into account). It solves no
+  ///    constrained problem.
+  /// A budget the path never reaches gives the last knot with beyond_path
+  /// set: on a completed lasso path without ridge that is still the exact
+  /// constrained answer (the budget does not bind), otherwise no point of
+  /// the traced path answers it. O(log K + p log p): a
   /// search over the largest norm reached up to each knot (indexed when the
   /// path is built) finds the segment. Throws invalid_query for a negative
   /// or NaN budget.

@@ -12,6 +12,8 @@
 /// shows or compares mu (cross-validation, criteria, reports, charts, the
 /// program) takes the divisor from penalty_scale() and nowhere else.
 
+#include <string_view>
+
 #include "detail/scalar.hpp"
 
 namespace knotpath {
@@ -22,5 +24,11 @@ template <class Scalar>
 Scalar penalty_scale(bool standardized, const Scalar& weight_sum) {
   return standardized ? detail::square_root<Scalar>(weight_sum) : weight_sum;
 }
+
+/// The conversion of penalty_scale() in words, for help texts and messages
+/// that state it (so that none of them states it differently).
+inline constexpr std::string_view size_free_penalty_rule =
+    "mu = lambda / sqrt(n) for standardized columns, mu = lambda / n for columns kept on their "
+    "own scale (n = the sum of the weights)";
 
 }  // namespace knotpath

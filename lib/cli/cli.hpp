@@ -34,6 +34,7 @@ enum ExitCode : int {
   exit_io = 5,         ///< a file cannot be read or written
   exit_degraded = 6,   ///< verify: same events, but the double path lost digits
   exit_wrong = 7,      ///< verify: the double path is wrong (events or coefficients)
+  exit_outside_path = 8,  ///< at: the point lies outside the traced path, which cannot answer it
 };
 
 /// An error the program reports with a message and an exit code.

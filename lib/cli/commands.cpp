@@ -10,6 +10,7 @@
 
 #include "cli.hpp"
 #include "path_checks.hpp"
+#include "point_answer.hpp"
 #include "report_folder.hpp"
 #include "typed_trace.hpp"
 
@@ -38,10 +39,10 @@ struct AtArgs {
   bool csv = false;
 };
 
-// The solution at the point `at` asks for, and the question in words.
+// The solution at the point `at` asks for, and the question.
 struct Point {
   Solution<double> solution;
-  std::string asked;
+  AskedPoint<double> asked;
 };
 
 Point point_of(const Path<double>& path, const AtArgs& args) {
@@ -49,17 +50,18 @@ Point point_of(const Path<double>& path, const AtArgs& args) {
   try {
     if (args.penalty) {
       p.solution = path.at_penalty(*args.penalty);
-      p.asked = fmt::format("penalty {:.17g}", *args.penalty);
+      p.asked = {PointKind::penalty, fmt::format("penalty {:.17g}", *args.penalty), *args.penalty};
     } else if (args.mu) {
       if (!(*args.mu >= 0)) throw invalid_query("mu must be >= 0");
       p.solution = path.at_mu(*args.mu);
-      p.asked = fmt::format("mu {:.17g}", *args.mu);
+      p.asked = {PointKind::penalty, fmt::format("mu {:.17g}", *args.mu), path.lambda_of(*args.mu)};
     } else if (args.budget) {
       p.solution = path.at_budget(*args.budget);
-      p.asked = fmt::format("L1 budget {:.17g}", *args.budget);
+      p.asked = {PointKind::budget, fmt::format("L1 budget {:.17g}", *args.budget), *args.budget};
     } else {
       p.solution = path.at_fraction(*args.fraction);
-      p.asked = fmt::format("fraction {:.17g} of the final L1 norm", *args.fraction);
+      p.asked = {PointKind::fraction,
+                 fmt::format("fraction {:.17g} of the final L1 norm", *args.fraction), 0.0};
     }
   } catch (const invalid_query& e) {
     throw failure(exit_usage, e.what());
@@ -144,11 +146,17 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
                       ->group("Point");
   auto* mu = command
                  ->add_option("--mu", args->mu,
-                              "Size-free penalty mu = lambda / sqrt(n) (n = sum of weights)")
+                              "Size-free penalty: " + std::string(size_free_penalty_rule) +
+                                  " (--no-standardize keeps the columns' own scale)")
                  ->each(keep(args->point.mu_text))
                  ->group("Point");
   auto* budget =
-      command->add_option("--budget", args->budget, "L1 budget: sum of f_j s_j |b_j| (>= 0)")
+      command
+          ->add_option("--budget", args->budget,
+                       "L1 budget S >= 0 on sum of f_j s_j |b_j|: the lasso point of least RSS "
+                       "with L1 norm <= S; with --ridge the elastic-net point of L1 norm S "
+                       "(least RSS plus ridge term); with --variant least-angle the first "
+                       "point whose L1 norm reaches S")
           ->each(keep(args->point.budget_text))
           ->group("Point");
   auto* fraction =
@@ -176,15 +184,12 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     const Path<double>& path = traced.path;
     const Point point = point_of(path, *args);
     const Solution<double>& solution = point.solution;
-    const std::string& asked = point.asked;
-    if (solution.beyond_path)
-      std::cerr << "knotpath: note: the point asked for lies beyond the traced path ("
-                << to_string(path.stop_reason()) << "); showing the last knot\n";
+    const PointAnswer answer = describe_point(path, solution, point.asked);
     warn_if_suspect(path, solution, traced.context);
     if (!args->csv)
-      std::cout << fmt::format("{}: penalty {:.10g} (mu {:.10g}), L1 norm {:.10g}\n", asked,
-                               solution.penalty, io::mu_as_double(path, solution.penalty),
-                               solution.penalized_l1);
+      std::cout << answer.heading;
+    else if (!answer.note.empty())
+      std::cerr << "knotpath: note: " << answer.note << '\n';
     std::cout << io::coefficient_table(solution, path, traced.context.predictor_names, args->csv);
     std::cout.flush();
     global.status = finished_status(path);

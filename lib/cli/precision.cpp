@@ -5,6 +5,7 @@
 
 #include <fmt/format.h>
 
+#include "point_answer.hpp"
 #include "typed_trace.hpp"
 
 namespace knotpath::cli {
@@ -64,25 +65,23 @@ int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
   loaded.progress.reset();
   require_finite_path(path);
   Solution<Scalar> solution;
-  std::string asked;
+  AskedPoint<Scalar> asked;
   try {
     if (point.penalty) {
-      solution = path.at_penalty(parse_point<Scalar>(point.penalty_text, "--penalty"));
-      asked = "penalty " + point.penalty_text;
+      const Scalar lambda = parse_point<Scalar>(point.penalty_text, "--penalty");
+      solution = path.at_penalty(lambda);
+      asked = {PointKind::penalty, "penalty " + point.penalty_text, lambda};
     } else if (point.mu) {
-      if constexpr (detail::is_exact_v<Scalar>) {
-        throw failure(exit_usage,
-                      "--mu is unavailable with --precision exact (lambda = mu * sqrt(n) is "
-                      "irrational in general); give --penalty, --budget or --fraction");
-      } else {
-        const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
-        if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
-        solution = path.at_mu(mu);
-        asked = "mu " + point.mu_text;
-      }
+      // Exact mode needs --no-standardize, so lambda = mu * n (scaling.hpp)
+      // is rational: the query is exact too.
+      const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
+      if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
+      solution = path.at_mu(mu);
+      asked = {PointKind::penalty, "mu " + point.mu_text, path.lambda_of(mu)};
     } else if (point.budget) {
-      solution = path.at_budget(parse_point<Scalar>(point.budget_text, "--budget"));
-      asked = "L1 budget " + point.budget_text;
+      const Scalar budget = parse_point<Scalar>(point.budget_text, "--budget");
+      solution = path.at_budget(budget);
+      asked = {PointKind::budget, "L1 budget " + point.budget_text, budget};
     } else {
       const Scalar fraction = parse_point<Scalar>(point.fraction_text, "--fraction");
       if (!(fraction >= Scalar(0) && fraction <= Scalar(1)))
@@ -92,19 +91,18 @@ int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
       solution = fraction == Scalar(1)
                      ? path.at_fraction(1.0)
                      : path.at_budget(Scalar(fraction * path.knots().back().penalized_l1));
-      asked = "fraction " + point.fraction_text + " of the final L1 norm";
+      asked = {PointKind::fraction, "fraction " + point.fraction_text + " of the final L1 norm",
+               Scalar(0)};
     }
   } catch (const invalid_query& e) {
     throw failure(exit_usage, e.what());
   }
-  if (solution.beyond_path)
-    std::cerr << "knotpath: note: the point asked for lies beyond the traced path ("
-              << to_string(path.stop_reason()) << "); showing the last knot\n";
+  const PointAnswer answer = describe_point(path, solution, asked);
   if (!csv) {
-    std::cout << fmt::format(
-        "{}: penalty {} (mu {:.10g}), L1 norm {}\n", asked, io::number_text(solution.penalty),
-        io::mu_as_double(path, solution.penalty), io::number_text(solution.penalized_l1));
+    std::cout << answer.heading;
     std::cout << "arithmetic: " << io::arithmetic_name<Scalar>() << '\n';
+  } else if (!answer.note.empty()) {
+    std::cerr << "knotpath: note: " << answer.note << '\n';
   }
   std::cout << io::coefficient_table(solution, path, loaded.context.predictor_names, csv);
   if (!csv && path.suspect())

@@ -11,5 +11,5 @@ int main() {
   std::ostringstream out;
   knotpath::io::write_knot_table(out, path, data.predictor_names);
   std::printf("%zu bytes of knot table\n", out.str().size());
-  return out.str().rfind("step,penalty,event", 0) == 0 ? 0 : 1;
+  return out.str().rfind("step,penalty,mu,event", 0) == 0 ? 0 : 1;
 }

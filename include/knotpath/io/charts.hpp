@@ -124,9 +124,27 @@ ChartPath chart_path(const Path<Scalar>& path, std::vector<std::string> names = 
   };
   for (const auto& e : prep.excluded)
     out.notes.push_back(name_of(e.predictor) + " excluded: " + e.reason);
-  for (const auto& h : path.held_out())
-    out.notes.push_back(name_of(h.predictor) + " held out as collinear at step " +
+  // Collinear columns one note each; those held out after saturation (many
+  // when p > n) one note together, as in the audit (HeldOut::step is a knot).
+  std::size_t saturated = 0;  // distinct predictors
+  Index first_saturated_step = -1;
+  std::vector<char> seen(static_cast<std::size_t>(path.predictor_count()), 0);
+  for (const auto& h : path.held_out()) {
+    if (h.saturated) {
+      if (first_saturated_step < 0) first_saturated_step = h.step;
+      auto& mark = seen[static_cast<std::size_t>(h.predictor)];
+      if (!mark) ++saturated;
+      mark = 1;
+      continue;
+    }
+    out.notes.push_back(name_of(h.predictor) + " held out as collinear at knot " +
                         std::to_string(h.step));
+  }
+  if (saturated > 0)
+    out.notes.push_back(std::to_string(saturated) +
+                        " predictors held out after the active set had as many columns as "
+                        "usable rows, "
+                        "from knot " + std::to_string(first_saturated_step));
   return out;
 }
 

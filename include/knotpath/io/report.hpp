@@ -39,6 +39,10 @@ std::string suspect_advice_text(const RunContext& context);
 /// that it bounds nothing. Used by every output that quotes an estimate.
 std::string estimated_error_text(double estimate);
 
+/// Why the path ended, in a sentence for the reports ("the penalty floor
+/// (--min-penalty) was reached", ...).
+std::string stop_explanation(StopReason reason);
+
 /// Formats a double with 17 significant digits (round-trips exactly);
 /// "nan"/"inf" never occur in a valid path.
 std::string round_trip(double value);
@@ -82,11 +86,12 @@ template <class Scalar>
 std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss);
 
 /// Writes the knot table: header
-/// `step,penalty,event,predictor,active,l1_norm,r_squared,intercept,NAMES...`
-/// then one row per knot (see DESIGN.md). The last row's event is
+/// `step,penalty,mu,event,predictor,active,l1_norm,r_squared,intercept,NAMES...`
+/// then one row per knot (see DESIGN.md). `mu` is Path::mu_of(penalty), the
+/// size-free penalty the audit shows. The last row's event is
 /// to_string(path.stop_reason()) ("end" or "stop-..."). An undefined R^2
 /// (constant response) is an empty cell. Exact mode appends the columns
-/// decimal:penalty, decimal:l1_norm, decimal:r_squared, decimal:intercept,
+/// decimal:penalty, decimal:mu, decimal:l1_norm, decimal:r_squared, decimal:intercept,
 /// `decimal:NAME`... (nearest doubles, 17 significant digits).
 template <class Scalar>
 void write_knot_table(std::ostream& out, const Path<Scalar>& path,
