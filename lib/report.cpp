@@ -726,13 +726,11 @@ std::string suspect_advice_text(const RunContext& context) {
 std::string estimated_error_text(double estimate) {
   if (estimate > first_order_limit)
     return fmt::format(
-        "estimated relative error {:.2g}, above {:.0e}, where the estimate bounds nothing (the "
-        "events themselves may differ from the exact path's)",
+        "estimated relative error {:.2g}: above {:.0e} the estimate bounds nothing, the events "
+        "themselves may differ from the exact path's",
         estimate, first_order_limit);
   return fmt::format(
-      "estimated relative error up to {:.2g} (of the coefficients and intercept as printed, "
-      "relative to the largest of them)",
-      estimate);
+      "estimated relative error up to {:.2g} of the printed coefficients and intercept", estimate);
 }
 
 }  // namespace knotpath::io

@@ -110,6 +110,27 @@ Case polynomial_case(const std::string& name, Index n, int degree, double lo, do
   return c;
 }
 
+// An invented cure-temperature table: hardness of a resin against the
+// temperature's excess t over 60 C (two decimals in [1, 4]) and its powers
+// up to t^9, all positive and nearly collinear; in double two powers are
+// held out as collinear where the exact problem adds them.
+Case cure_temperature_case() {
+  std::mt19937 engine(20240607u);
+  std::uniform_int_distribution<int> centi(100, 400);
+  std::normal_distribution<double> noise(0.0, 0.002);
+  Case c;
+  c.name = "cure temperature, degree 9 on [1, 4]";
+  c.x.resize(60, 9);
+  c.y.resize(60);
+  for (Index i = 0; i < 60; ++i) {
+    const double t = centi(engine) / 100.0;
+    c.y(i) = 71.5 + 2.0 * t - 1.1 * t * t + 0.35 * t * t * t - 0.04 * t * t * t * t + noise(engine);
+    double power = 1;
+    for (Index j = 0; j < 9; ++j) c.x(i, j) = (power *= t);
+  }
+  return c;
+}
+
 std::vector<Case> generated_corpus() {
   std::vector<Case> corpus;
   auto add = [&](Case c, auto&& adjust) {
@@ -156,6 +177,7 @@ std::vector<Case> generated_corpus() {
   add(polynomial_case("polynomial degree 9 on [0, 1]", 60, 9, 0.0, 1.0, 18), none);
   add(polynomial_case("polynomial degree 6 on [0, 20], ridge 1", 40, 6, 0.0, 20.0, 19),
       [](Case& c) { c.options.ridge = 1.0; });
+  add(cure_temperature_case(), none);
   return corpus;
 }
 

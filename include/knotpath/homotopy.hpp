@@ -231,6 +231,15 @@ class Homotopy {
     AddOutcome outcome = factor_.add(cross, diag, collinear_tol_);
     if (!outcome.added) {
       blocked_[at(j)] = 1;
+      // A column refused near the tolerance (its squared sine within two
+      // orders of it) is one the exact problem adds: from here the events
+      // may differ from the exact path's, which the estimate says by passing
+      // first_order_limit (unit roundoff / tolerance = 1e-4). A sine at
+      // rounding level (an exact duplicate) is collinear in the exact
+      // problem too and says nothing.
+      const bool saturated = active_count() >= usable_rank_;
+      if (!saturated && outcome.squared_sine >= 1e-2 * detail::to_double(collinear_tol_))
+        estimate_.note_tie_decision(1.0 / outcome.squared_sine);
       held_out_.push_back(
           {step, lambda, prep_.columns[at(j)], outcome.squared_sine, active_count() >= usable_rank_});
       return false;
@@ -631,7 +640,9 @@ class Homotopy {
       intercept_error = forward * aligned(v) +
                         eps * (std::abs(detail::to_double(prep_.response_mean)) + mean_shift);
     const double knot_shift = (eps * penalty_scale_ + correlation_noise_) * penalty_slope_;
-    return (std::max(coefficient_error, intercept_error) + knot_shift) / top;
+    const double reported = (std::max(coefficient_error, intercept_error) + knot_shift) / top;
+    // Beyond the first order in the prepared problem, beyond it here too.
+    return prepared > first_order_limit ? std::max(reported, prepared) : reported;
   }
 
   // The rounding of one correlation z_k^T r, an n-term inner product:

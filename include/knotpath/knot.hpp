@@ -101,9 +101,12 @@ struct Knot {
 };
 
 /// Largest Knot::estimated_error that is still a bound: beyond it a
-/// first-order error analysis no longer holds, and on the calibration
-/// corpus (RELIABILITY.md) the one path above it (NIST StRD Filip, 7.5e-4)
-/// made its events in another order than the exact path.
+/// first-order error analysis no longer holds. The estimate passes it when
+/// the factor's condition passes 1 / (1e4 u), and when a column is held out
+/// as collinear with a squared sine near the collinearity tolerance (a
+/// column the exact problem adds). On the calibration corpus
+/// (RELIABILITY.md) the paths above it are the ones whose events differ
+/// from the exact path's (NIST StRD Filip; the cure-temperature polynomial).
 inline constexpr double first_order_limit = 1e-4;
 
 /// One entry of the audit (Path::events()): an enter or leave row of the
