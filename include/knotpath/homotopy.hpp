@@ -582,8 +582,9 @@ class Homotopy {
   // the last term the rounding of the intercept's own sum (u the unit
   // roundoff). ||G^{-1} e_k||_1 is solved for the coefficient of the
   // smallest scale and bounded by ||G^{-1}||_1 for the others. A knot
-  // penalty off by u lambda_max moves the solution along the segment's
-  // slope (penalty_slope_), which adds u lambda_max times that slope. The
+  // penalty off by u lambda_max plus the rounding of a correlation
+  // (correlation_noise_) moves the solution along the segment's slope
+  // (penalty_slope_), which adds that penalty error times the slope. The
   // result is relative to the largest of |a| and |beta_j|, as the
   // cross-check measures it (compare_paths). Without a Hager estimate (exact
   // and multiprecision factors) every ||G^{-1} x||_1 is bounded by
