@@ -18,12 +18,10 @@
 /// preparation run the same operations in the same order.
 
 #include <algorithm>
-#include <atomic>
 #include <cstddef>
 #include <exception>
 #include <memory>
 #include <optional>
-#include <thread>
 #include <utility>
 #include <vector>
 
@@ -132,24 +130,9 @@ class PathSolver {
                          " rows but the design has " + std::to_string(rows_));
     const auto m = static_cast<std::size_t>(responses.cols());
     std::vector<Path<Scalar>> paths(m);
-    std::vector<std::exception_ptr> errors(m);
-    std::atomic<std::size_t> next{0};
-    auto worker = [&] {
-      for (std::size_t i = next.fetch_add(1); i < m; i = next.fetch_add(1)) {
-        try {
-          paths[i] = trace(Vector<Scalar>(responses.col(static_cast<Index>(i))));
-        } catch (...) {
-          errors[i] = std::current_exception();
-        }
-      }
-    };
-    const std::size_t use = std::min(detail::threads_for<Scalar>(threads), std::max<std::size_t>(m, 1));
-    std::vector<std::thread> pool;
-    for (std::size_t t = 1; t < use; ++t) pool.emplace_back(worker);
-    worker();
-    for (std::thread& thread : pool) thread.join();
-    for (const std::exception_ptr& error : errors)
-      if (error) std::rethrow_exception(error);
+    detail::for_each_task(m, detail::threads_for<Scalar>(threads), [&](std::size_t i) {
+      paths[i] = trace(Vector<Scalar>(responses.col(static_cast<Index>(i))));
+    });
     return paths;
   }
 

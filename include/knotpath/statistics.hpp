@@ -261,10 +261,15 @@ struct SufficientStatistics {
       if (weights.size() != 0) wb.head(m) = weights.segment(start, m); else wb.head(m).setOnes();
       return;
     }
-    for (Index r = 0; r < m; ++r) {
-      const Index i = used[static_cast<std::size_t>(r)];
-      xb.row(r) = x.row(i);
-      wb(r) = weights(i);
+    for (Index r = 0; r < m; ++r) wb(r) = weights(used[static_cast<std::size_t>(r)]);
+    if constexpr (Derived::IsRowMajor) {
+      for (Index r = 0; r < m; ++r) xb.row(r) = x.row(used[static_cast<std::size_t>(r)]);
+    } else {
+      // Column by column: the block's rows of one column lie together, so a
+      // sparse selection of rows (a fold's) reads each column's block once
+      // instead of touching every column for every row.
+      for (Index j = 0; j < x.cols(); ++j)
+        for (Index r = 0; r < m; ++r) xb(r, j) = x(used[static_cast<std::size_t>(r)], j);
     }
   }
 

@@ -11,6 +11,7 @@
 #include <algorithm>
 #include <atomic>
 #include <cstddef>
+#include <exception>
 #include <thread>
 #include <type_traits>
 #include <vector>
@@ -62,6 +63,34 @@ void for_each_column_block(std::size_t threads, Index count, double work, Body&&
   for (std::size_t t = 1; t < use; ++t) pool.emplace_back(worker);
   worker();
   for (std::thread& thread : pool) thread.join();
+}
+
+/// Runs job(0), ..., job(count - 1) on up to `threads` threads (tasks taken
+/// in turn from a shared counter; each task's result must depend on its
+/// index only, so nothing depends on the thread count). A task that throws
+/// does not stop the others; the first failure in index order is rethrown
+/// after every task has ended.
+template <class Job>
+void for_each_task(std::size_t count, std::size_t threads, Job&& job) {
+  std::vector<std::exception_ptr> failures(count);
+  std::atomic<std::size_t> next{0};
+  auto worker = [&] {
+    for (std::size_t i = next.fetch_add(1); i < count; i = next.fetch_add(1)) {
+      try {
+        job(i);
+      } catch (...) {
+        failures[i] = std::current_exception();
+      }
+    }
+  };
+  const std::size_t use = std::min(std::max<std::size_t>(threads, 1), std::max<std::size_t>(count, 1));
+  std::vector<std::thread> pool;
+  pool.reserve(use - 1);
+  for (std::size_t t = 1; t < use; ++t) pool.emplace_back(worker);
+  worker();
+  for (std::thread& thread : pool) thread.join();
+  for (const std::exception_ptr& failure : failures)
+    if (failure) std::rethrow_exception(failure);
 }
 
 }  // namespace knotpath::detail
