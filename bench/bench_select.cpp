@@ -2,10 +2,12 @@
 // (issue 18). One benchmark times, in the same run, trace() of the table
 // (reference_s) and the computations select makes on it (path_s), in the
 // order of lib/cli/select_command.cpp run_selection(): cross_validate() (the
-// full path and K folds), information_criteria() (one least-squares fit),
-// and the covariance and spacing tests from the sufficient statistics with
-// the criteria's noise variance (entry_significance() on
-// SufficientStatistics). Counters (medians over the iterations): ratio =
+// full path and K folds; on a tall table the full path is traced from the
+// table's sufficient statistics, kept in CrossValidation::statistics),
+// information_criteria() from those statistics (one least-squares fit by the
+// normal equations, guarded), and the covariance and spacing tests from the
+// same statistics with the criteria's noise variance (entry_significance()
+// on SufficientStatistics). Counters (medians over the iterations): ratio =
 // select / trace (goal of issue 18: <= 5 at n = 200000, p = 100, K = 10,
 // tests on), path_s, reference_s, and the phases' seconds folds_s,
 // criteria_s, tests_s. Table reading and printing are not timed (they are
@@ -68,11 +70,13 @@ void select(benchmark::State& state) {
     const double t_trace = seconds([&] { benchmark::DoNotOptimize(kp::trace<double>(x, y).knots().size()); });
     kp::CrossValidation<double> cv;
     const double t_folds = seconds([&] { cv = kp::cross_validate<double>(x, y, {}, cv_options); });
+    // As select on a tall table: the statistics the full path was traced
+    // from serve the criteria and the tests (select_command.cpp).
     std::optional<kp::InformationCriteria<double>> ic;
-    const double t_criteria = seconds([&] { ic = kp::information_criteria<double>(x, y, cv.full_path); });
+    const double t_criteria = seconds([&] { ic = kp::information_criteria(*cv.statistics, cv.full_path); });
     const double t_tests = !tests ? 0.0 : seconds([&] {
-      const auto stats = kp::SufficientStatistics<double>::from_rows(x, y);
-      entries = kp::entry_significance(stats, cv.full_path, ic->noise_variance, ic->residual_df).entries.size();
+      entries = kp::entry_significance(*cv.statistics, cv.full_path, ic->noise_variance, ic->residual_df)
+                    .entries.size();
     });
     log.path.push_back(t_folds + t_criteria + t_tests);
     log.reference.push_back(t_trace);

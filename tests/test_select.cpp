@@ -765,3 +765,134 @@ TEST(CrossValidation, PathsThatStopEarlyLimitTheDomain) {
   EXPECT_GE(result.minimum.lambda, result.full_path.knots().back().penalty * (1 - 1e-12));
   EXPECT_THROW(result.error_at_mu(0.5 * result.mu_low), kp::invalid_query);
 }
+
+namespace {
+
+// Two cross-validations of one table compared piece by piece on a grid of
+// the size-free axis: the curve, the standard error and both choices.
+void expect_same_curve(const kp::CrossValidation<double>& a, const kp::CrossValidation<double>& b,
+                       double tolerance) {
+  ASSERT_EQ(a.folds.size(), b.folds.size());
+  EXPECT_NEAR(a.mu_high, b.mu_high, tolerance * a.mu_high);
+  EXPECT_NEAR(a.minimum.mu, b.minimum.mu, 1e-6 * a.mu_high);
+  EXPECT_NEAR(a.minimum.error, b.minimum.error, tolerance * a.minimum.error);
+  EXPECT_NEAR(a.parsimonious.mu, b.parsimonious.mu, 1e-6 * a.mu_high);
+  for (double fraction : {0.9, 0.5, 0.2, 0.05, 0.01, 0.001}) {
+    const double mu = fraction * a.mu_high;
+    EXPECT_NEAR(a.error_at_mu(mu), b.error_at_mu(mu), tolerance * a.error_at_mu(mu)) << fraction;
+    EXPECT_NEAR(a.standard_error_at_mu(mu), b.standard_error_at_mu(mu),
+                1e-6 * a.standard_error_at_mu(mu) + tolerance * a.error_at_mu(mu))
+        << fraction;
+  }
+}
+
+}  // namespace
+
+// On a tall table the folds are traced from statistics (each fold's rows
+// summarised once and merged, and the segments read off the held-out rows'
+// statistics); forcing the dense storage traces every fold from its rows.
+// Both solve the same problems, so the curves agree to rounding. Covers
+// weights, rows never held out (fold_of -1) and an unpenalized predictor.
+TEST(CrossValidation, FoldsFromStatisticsEqualFoldsFromRows) {
+  const auto prob = kp::testing::ar1_problem(400, 12, 0.5, 6, 4, 1.0);
+  ASSERT_EQ(kp::choose_storage<double>(400, 12, kp::TraceOptions{}), kp::Storage::gram);
+  ASSERT_TRUE(kp::detail::folds_by_statistics<double>(400, 12, 8, 1, kp::TraceOptions{}));
+  kp::CrossValidationOptions cv;
+  cv.folds = 8;
+  kp::TraceOptions dense;
+  dense.storage = kp::Storage::dense;
+  const auto by_statistics = kp::cross_validate<double>(prob.x, prob.y, {}, cv);
+  const auto by_rows = kp::cross_validate<double>(prob.x, prob.y, dense, cv);
+  ASSERT_TRUE(by_statistics.statistics.has_value());
+  EXPECT_FALSE(by_rows.statistics.has_value());
+  expect_same_curve(by_statistics, by_rows, 1e-10);
+
+  kp::detail::SplitMix64 rng(7);
+  Vector<double> w(400);
+  for (Index i = 0; i < 400; ++i) w(i) = 0.25 + 2.0 * rng.uniform();
+  kp::CrossValidationOptions user;
+  user.fold_of.resize(400);
+  for (std::size_t i = 0; i < 400; ++i) user.fold_of[i] = i % 9 == 0 ? -1 : static_cast<long>(i % 5);
+  kp::TraceOptions factors;
+  factors.penalty_factors.assign(12, 1.0);
+  factors.penalty_factors[3] = 0.0;
+  kp::TraceOptions factors_dense = factors;
+  factors_dense.storage = kp::Storage::dense;
+  expect_same_curve(kp::cross_validate<double>(prob.x, prob.y, factors, user, w),
+                    kp::cross_validate<double>(prob.x, prob.y, factors_dense, user, w), 1e-10);
+}
+
+// The held-out sums read off the statistics cancel when the held-out
+// residuals are tiny against the response's spread: here a fit exact to
+// 1e-9 on a response of size 1e3, so each sum is about 1e-17 while reading
+// it off the statistics would carry an error near u * 1e6 * 50 rows ~ 1e-8.
+// The segments are then built from the rows, and the curve agrees with the
+// dense route to the paths' own rounding (their coefficients, 1e3 in size,
+// differ by ulps: 1e-13 against residuals of 1e-9, so the errors agree to
+// a few parts in 1e3, not to 1e-10 as on an ordinary table).
+TEST(CrossValidation, NearExactFitBuildsSegmentsFromTheRows) {
+  const auto prob = kp::testing::ar1_problem(200, 6, 0.3, 6, 6, 1.0);
+  kp::detail::SplitMix64 rng(11);
+  Vector<double> y = 1000.0 * (prob.x * Vector<double>::LinSpaced(6, 1.0, 6.0));
+  for (Index i = 0; i < y.size(); ++i) y(i) += 1e-9 * (rng.uniform() - 0.5);
+  kp::CrossValidationOptions cv;
+  cv.folds = 4;
+  const auto result = kp::cross_validate<double>(prob.x, y, {}, cv);
+  // Directly: the statistics route refuses the fold's sums.
+  const auto parts = kp::detail::fold_statistics<double>(prob.x, y, Vector<double>::Ones(200),
+                                                         result.fold_of, 4, 1);
+  kp::Fold<double> probe = result.folds[0];
+  probe.segments.clear();
+  EXPECT_FALSE(kp::detail::build_segments_from_statistics(probe, parts[0]));
+  kp::TraceOptions dense;
+  dense.storage = kp::Storage::dense;
+  const auto by_rows = kp::cross_validate<double>(prob.x, y, dense, cv);
+  EXPECT_LT(result.minimum.error, 1e-17);  // the held-out error of an exact fit, not a cancelled sum
+  EXPECT_NEAR(result.minimum.error, by_rows.minimum.error, 1e-2 * by_rows.minimum.error);
+  const double mu = 1e-4 * result.mu_high;  // on the path's last segments, where the fit is exact
+  EXPECT_NEAR(result.error_at_mu(mu), by_rows.error_at_mu(mu), 1e-2 * by_rows.error_at_mu(mu));
+}
+
+// The criteria from the table's statistics (least-squares fit by the
+// normal equations) agree with the data route (pivoted QR) on a
+// well-conditioned table, elastic net included; an ill-conditioned or
+// rank-deficient table is refused, so that callers fit from the data
+// (Higham 2002, section 20.4: the normal equations square the condition).
+TEST(InformationCriteria, FromStatisticsAgreeWithTheDataOrAreRefused) {
+  const auto prob = kp::testing::ar1_problem(300, 10, 0.6, 5, 3, 1.0);
+  for (double ridge : {0.0, 0.5}) {
+    kp::TraceOptions options;
+    options.ridge = ridge;
+    const auto path = kp::trace<double>(prob.x, prob.y, options);
+    const auto stats = kp::SufficientStatistics<double>::from_rows(prob.x, prob.y);
+    const auto a = kp::information_criteria(stats, path);
+    const auto b = kp::information_criteria<double>(prob.x, prob.y, path);
+    EXPECT_NEAR(a.noise_variance, b.noise_variance, 1e-10 * b.noise_variance);
+    EXPECT_EQ(a.source, b.source);
+    EXPECT_EQ(a.best_cp, b.best_cp);
+    EXPECT_EQ(a.best_bic, b.best_bic);
+    ASSERT_EQ(a.knots.size(), b.knots.size());
+    for (std::size_t i = 0; i < a.knots.size(); ++i) {
+      EXPECT_NEAR(a.knots[i].degrees_of_freedom, b.knots[i].degrees_of_freedom, 1e-10);
+      EXPECT_NEAR(a.knots[i].mallows_cp, b.knots[i].mallows_cp, 1e-8 * (1 + std::abs(b.knots[i].mallows_cp)));
+    }
+  }
+  // Degree-9 polynomial on [0, 1]: Gram condition far beyond 1e8 / u.
+  Matrix<double> poly(60, 9);
+  Vector<double> y(60);
+  for (Index i = 0; i < 60; ++i) {
+    const double t = static_cast<double>(i) / 59.0;
+    for (Index j = 0; j < 9; ++j) poly(i, j) = std::pow(t, static_cast<double>(j + 1));
+    y(i) = std::sin(3 * t) + 0.01 * std::cos(37.0 * static_cast<double>(i));
+  }
+  const auto poly_path = kp::trace<double>(poly, y);
+  EXPECT_THROW(kp::information_criteria(kp::SufficientStatistics<double>::from_rows(poly, y), poly_path),
+               kp::invalid_query);
+  EXPECT_NO_THROW(kp::information_criteria<double>(poly, y, poly_path));
+  // Two equal columns: rank-deficient.
+  Matrix<double> twin = prob.x;
+  twin.col(9) = twin.col(8);
+  const auto twin_path = kp::trace<double>(twin, prob.y);
+  EXPECT_THROW(kp::information_criteria(kp::SufficientStatistics<double>::from_rows(twin, prob.y), twin_path),
+               kp::invalid_query);
+}

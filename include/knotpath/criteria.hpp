@@ -95,6 +95,7 @@
 #include "path.hpp"
 #include "prepare.hpp"
 #include "problem.hpp"
+#include "statistics.hpp"
 
 namespace knotpath {
 
@@ -321,12 +322,34 @@ CrossValidatedFit<Scalar> cross_validated_fit(const PreparedDense<Scalar>& probl
   return out;
 }
 
+/// G = Z_A'Z_A of the prepared columns `columns`: a product of the dense
+/// columns, or read off a Gram design.
+template <class Scalar>
+Matrix<Scalar> active_gram(const DenseDesign<Scalar>& design, const std::vector<Index>& columns) {
+  Matrix<Scalar> za(design.columns().rows(), static_cast<Index>(columns.size()));
+  for (std::size_t a = 0; a < columns.size(); ++a)
+    za.col(static_cast<Index>(a)) = design.columns().col(columns[a]);
+  return za.transpose() * za;
+}
+
+/// The same read off a Gram design, O(|A|^2).
+template <class Scalar>
+Matrix<Scalar> active_gram(const GramDesign<Scalar>& design, const std::vector<Index>& columns) {
+  const auto k = static_cast<Index>(columns.size());
+  Matrix<Scalar> g(k, k);
+  for (Index a = 0; a < k; ++a)
+    for (Index b = 0; b < k; ++b)
+      g(a, b) = design.gram()(columns[static_cast<std::size_t>(a)], columns[static_cast<std::size_t>(b)]);
+  return g;
+}
+
 /// The elastic net's degrees of freedom at every knot row:
 /// tr((G + ridge I)^-1 G), G = Z_A'Z_A over the nonzero coefficients' prepared
 /// columns, plus the intercept (file comment).
-template <class Scalar>
-void set_elastic_net_df(InformationCriteria<Scalar>& out, const PreparedDense<Scalar>& problem,
-                        const Path<Scalar>& path) {
+template <class Design>
+void set_elastic_net_df(InformationCriteria<typename Design::Scalar>& out, const Design& design,
+                        const Path<typename Design::Scalar>& path) {
+  using Scalar = typename Design::Scalar;
   const Preparation<Scalar>& prep = path.preparation();
   const Scalar ridge(path.options().ridge);
   std::vector<Index> column_of(static_cast<std::size_t>(prep.predictors), -1);
@@ -335,17 +358,38 @@ void set_elastic_net_df(InformationCriteria<Scalar>& out, const PreparedDense<Sc
   const auto& knots = path.knots();
   for (std::size_t i = 0; i < knots.size(); ++i) {
     const auto& nz = knots[i].coefficients;
-    Matrix<Scalar> za(problem.design.columns().rows(), static_cast<Index>(nz.size()));
-    for (std::size_t a = 0; a < nz.size(); ++a)
-      za.col(static_cast<Index>(a)) =
-          problem.design.columns().col(column_of[static_cast<std::size_t>(nz[a].first)]);
-    const Matrix<Scalar> g = za.transpose() * za;
+    std::vector<Index> columns;
+    for (const auto& entry : nz) columns.push_back(column_of[static_cast<std::size_t>(entry.first)]);
+    const Matrix<Scalar> g = active_gram(design, columns);
     Matrix<Scalar> shifted = g;
     shifted.diagonal().array() += ridge;
     const Scalar trace = nz.empty() ? Scalar(0) : Scalar(Eigen::LLT<Matrix<Scalar>>(shifted).solve(g).trace());
     auto& c = out.knots[i];
     c.degrees_of_freedom = trace + Scalar(static_cast<double>(c.parameters - c.nonzero));
   }
+}
+
+/// The criteria of a path from the prepared design it was traced on (dense
+/// or Gram): the knot rows, the elastic net's degrees of freedom, sigma^2 by
+/// the rule of the file comment and the scores. `fallback(estimate)` gives
+/// the cross-validated fit (or nothing) when the least-squares fit leaves no
+/// residual degree of freedom.
+template <class Design, class Fallback>
+InformationCriteria<typename Design::Scalar> criteria_of(const Design& design,
+                                                         const Path<typename Design::Scalar>& path,
+                                                         const CriteriaOptions& criteria,
+                                                         Fallback&& fallback) {
+  using Scalar = typename Design::Scalar;
+  InformationCriteria<Scalar> out;
+  out.observations = path.preparation().used_observations;
+  out.sample_size = path.preparation().weight_sum;
+  out.knots = criteria_rows(path);
+  if (path.options().ridge != 0.0) set_elastic_net_df(out, design, path);
+  const auto estimate =
+      given_or_least_squares_variance<Scalar>(criteria.noise_variance, design, path.preparation());
+  set_noise_variance(out, estimate, fallback(estimate));
+  score_criteria(out);
+  return out;
 }
 
 }  // namespace detail
@@ -374,19 +418,37 @@ InformationCriteria<Scalar> information_criteria(const PreparedDense<Scalar>& pr
                                                  const CriteriaOptions& criteria = {}) {
   criteria.validate();
   detail::check_same_problem(problem.preparation, path);
-  InformationCriteria<Scalar> out;
-  out.observations = path.preparation().used_observations;
-  out.sample_size = path.preparation().weight_sum;
-  out.knots = detail::criteria_rows(path);
-  if (path.options().ridge != 0.0) detail::set_elastic_net_df(out, problem, path);
-  std::optional<detail::CrossValidatedFit<Scalar>> cv_fit;
-  const auto estimate = detail::given_or_least_squares_variance<Scalar>(
-      criteria.noise_variance, problem.design, path.preparation());
-  if (!estimate.given && estimate.residual_df <= 0 && criteria.cross_validated_penalty >= 0)
-    cv_fit = detail::cross_validated_fit(problem, path, Scalar(criteria.cross_validated_penalty));
-  detail::set_noise_variance(out, estimate, cv_fit);
-  detail::score_criteria(out);
-  return out;
+  return detail::criteria_of(problem.design, path, criteria, [&](const auto& estimate) {
+    std::optional<detail::CrossValidatedFit<Scalar>> cv_fit;
+    if (!estimate.given && estimate.residual_df <= 0 && criteria.cross_validated_penalty >= 0)
+      cv_fit = detail::cross_validated_fit(problem, path, Scalar(criteria.cross_validated_penalty));
+    return cv_fit;
+  });
+}
+
+/// The same from the sufficient statistics of the data the path was traced
+/// on (SufficientStatistics::from_rows() of the same x, y and weights; the
+/// prepared problem must match the path's, invalid_query otherwise): O(p^2)
+/// to prepare and O(p^3) for the full least-squares fit, independent of the
+/// number of rows, where the data route pays a QR of the n x p design. The
+/// fit is solved by the normal equations (detail::least_squares_fit of a
+/// Gram design), which square the condition number: when its estimated
+/// error exceeds detail::gram_fit_tolerance, or the design is rank-deficient,
+/// or no residual degree of freedom is left (the cross-validated fit needs the
+/// data), throws invalid_query, and the data route must be taken. The figures
+/// otherwise agree with the data route to that tolerance.
+template <class Scalar>
+InformationCriteria<Scalar> information_criteria(const SufficientStatistics<Scalar>& statistics,
+                                                 const Path<Scalar>& path,
+                                                 const CriteriaOptions& criteria = {}) {
+  criteria.validate();
+  const PreparedGram<Scalar> problem = prepare_gram(statistics, path.options());
+  detail::check_same_problem(problem.preparation, path);
+  return detail::criteria_of(problem.design, path, criteria, [](const auto& estimate) {
+    if (!estimate.given && estimate.residual_df <= 0)
+      throw invalid_query("no residual degree of freedom is left: the noise variance needs the data");
+    return std::optional<detail::CrossValidatedFit<Scalar>>();
+  });
 }
 
 /// The same from the path alone, for paths traced from any source (sparse

@@ -18,7 +18,8 @@
 /// fold (ridge * n_fold / n) so every fold solves the same per-observation
 /// problem; with standardization it is already size-free.
 ///
-/// Exact cross-validation. Each fold's path is traced on its training rows.
+/// Exact cross-validation. Each fold's path is traced on its training rows
+/// (on the Gram route from their statistics: trace_folds()).
 /// Between two consecutive knots of that path every coefficient is affine in
 /// the fold's lambda, hence in mu, so the fold's held-out mean squared error
 ///     e_k(mu) = sum_{i held out} w_i (y_i - yhat_i(mu))^2 / W_k
@@ -41,16 +42,18 @@
 #include <limits>
 #include <optional>
 #include <string>
-#include <thread>
 #include <utility>
 #include <vector>
 
+#include "detail/parallel.hpp"
 #include "detail/random.hpp"
 #include "detail/scalar.hpp"
 #include "errors.hpp"
 #include "options.hpp"
 #include "path.hpp"
 #include "prepare.hpp"
+#include "problem.hpp"
+#include "statistics.hpp"
 #include "trace.hpp"
 
 namespace knotpath {
@@ -159,6 +162,11 @@ struct CrossValidation {
   std::vector<long> fold_of;        ///< fold of each row (-1: never held out)
   std::vector<Fold<Scalar>> folds;  ///< in fold order
   Path<Scalar> full_path;           ///< the path of all the data
+  /// The sufficient statistics of all the data when the full path took the
+  /// Gram route (choose_storage(): tall tables), from which it was traced;
+  /// empty otherwise. The criteria and the entry tests can reuse them
+  /// (information_criteria and entry_significance of SufficientStatistics).
+  std::optional<SufficientStatistics<Scalar>> statistics;
   Scalar full_scale{0};             ///< penalty_scale of all the data: lambda = mu * full_scale
   Scalar total_weight{0};           ///< W = sum of the held-out weights of all folds
   Scalar mu_high{0};                ///< top of the curve's domain (every fit is empty above it)
@@ -239,7 +247,10 @@ inline std::vector<long> seeded_folds(const std::vector<Index>& usable, Index ro
 }
 
 /// The quadratic segments of a traced fold, from the held-out residuals at
-/// each of its knots (simultaneous events share a point: no segment).
+/// each of its knots (simultaneous events share a point: no segment). The
+/// held-out predictions are made for blocks of knots at once (one matrix
+/// product per block: the held-out rows are read once per block, not once
+/// per knot).
 template <class Scalar>
 void build_segments(Fold<Scalar>& fold, const Matrix<Scalar>& x, const Vector<Scalar>& y,
                     const Vector<Scalar>& w) {
@@ -249,12 +260,24 @@ void build_segments(Fold<Scalar>& fold, const Matrix<Scalar>& x, const Vector<Sc
   Vector<Scalar> yv(m), wv(m);
   for (Index r = 0; r < m; ++r) {
     const Index i = fold.held_out[static_cast<std::size_t>(r)];
-    xv.row(r) = x.row(i);
     yv(r) = y(i);
     wv(r) = w(i);
   }
-  auto residual = [&](std::size_t knot) {
-    Vector<Scalar> r = yv - xv * fold.path.dense_coefficients(knot);
+  for (Index j = 0; j < x.cols(); ++j)  // column by column: x is column-major
+    for (Index r = 0; r < m; ++r) xv(r, j) = x(fold.held_out[static_cast<std::size_t>(r)], j);
+  constexpr std::size_t knots_per_block = 64;
+  std::size_t block_start = 0;
+  Matrix<Scalar> fitted;  // xv times the coefficients of knots block_start, block_start + 1, ...
+  auto residual = [&](std::size_t knot) {  // knots are asked for in ascending order
+    if (fitted.cols() == 0 || knot >= block_start + static_cast<std::size_t>(fitted.cols())) {
+      block_start = knot;
+      const std::size_t count = std::min(knots_per_block, knots.size() - knot);
+      Matrix<Scalar> coefficients(x.cols(), static_cast<Index>(count));
+      for (std::size_t c = 0; c < count; ++c)
+        coefficients.col(static_cast<Index>(c)) = fold.path.dense_coefficients(knot + c);
+      fitted.noalias() = xv * coefficients;
+    }
+    Vector<Scalar> r = yv - fitted.col(static_cast<Index>(knot - block_start));
     r.array() -= knots[knot].intercept;
     return r;
   };
@@ -278,36 +301,123 @@ void build_segments(Fold<Scalar>& fold, const Matrix<Scalar>& x, const Vector<Sc
   }
 }
 
-/// Traces fold k on its training rows (the held-out rows get weight 0) and
-/// builds its quadratic segments.
+/// Largest error, relative to the held-out sum of squares it concerns, that
+/// build_segments_from_statistics() may estimate for a segment's sums
+/// before the fold's segments are built from its rows instead.
+inline constexpr double segment_sum_tolerance = 1e-8;
+
+/// The same segments from the statistics of the fold's held-out rows
+/// (`held_out`), without reading a row: with r = y - b0 - x^T beta,
+/// e = ybar - b0 - m^T beta, C, s, S_yy the held-out comoments, cross
+/// products and response comoment, and W the held-out weight,
+///     sum w r^2 = S_yy - 2 s^T beta + beta^T C beta + W e^2,
+/// and for a segment from knot l (below) to u (above), delta = beta_u -
+/// beta_l and d0 = e_l - e_u (the change of the predictions is x~^T delta +
+/// d0 with x~ the centred row),
+///     b = s^T delta - beta_l^T C delta + W e_l d0,  c = delta^T C delta + W d0^2.
+/// O(p k) per knot instead of O(m p). The first form cancels when the
+/// held-out residuals are small against y's spread: when any knot's
+/// rounding estimate (8 u (S_yy + 2 |s^T beta| + beta^T C beta + W e^2))
+/// exceeds segment_sum_tolerance times its sum, nothing is built and false
+/// is returned (the caller builds from the rows).
 template <class Scalar>
-Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
-                        const std::vector<long>& fold_of, long k, const TraceOptions& options,
-                        const Scalar& full_weight, const Scalar& full_scale) {
+bool build_segments_from_statistics(Fold<Scalar>& fold, const SufficientStatistics<Scalar>& held_out) {
+  const auto& knots = fold.path.knots();
+  const Index p = held_out.predictors();
+  const Scalar u = epsilon<Scalar>() / Scalar(2);
+  const Scalar w = held_out.weight_sum;
+  std::vector<Vector<Scalar>> beta(knots.size()), c_beta(knots.size());
+  std::vector<Scalar> sums(knots.size()), residual_mean(knots.size());
+  for (std::size_t j = 0; j < knots.size(); ++j) {
+    beta[j] = Vector<Scalar>::Zero(p);
+    c_beta[j] = Vector<Scalar>::Zero(p);
+    for (const auto& [col, value] : knots[j].coefficients) {
+      beta[j](col) = value;
+      c_beta[j] += value * held_out.comoments.col(col);
+    }
+    const Scalar e = held_out.response_mean - knots[j].intercept - held_out.means.dot(beta[j]);
+    const Scalar cross = held_out.cross.dot(beta[j]), quadratic = beta[j].dot(c_beta[j]);
+    residual_mean[j] = e;
+    sums[j] = held_out.response_comoment - Scalar(2) * cross + quadratic + w * e * e;
+    const Scalar rounding = Scalar(8) * u *
+                            (held_out.response_comoment + Scalar(2) * abs_value<Scalar>(cross) + quadratic + w * e * e);
+    if (!(rounding <= Scalar(segment_sum_tolerance) * sums[j])) return false;
+  }
+  fold.error_above = sums[0] / fold.held_out_weight;
+  for (std::size_t j = 1; j < knots.size(); ++j) {
+    if (knots[j].penalty == knots[j - 1].penalty) continue;  // a simultaneous event: no segment
+    std::size_t upper = j - 1;  // the last knot at the upper point (simultaneous events: its latest)
+    const Vector<Scalar> delta = beta[upper] - beta[j];
+    const Vector<Scalar> c_delta = c_beta[upper] - c_beta[j];
+    const Scalar d0 = residual_mean[j] - residual_mean[upper];
+    FoldSegment<Scalar> seg;
+    seg.mu_high = knots[j - 1].penalty / fold.scale;
+    seg.mu_low = knots[j].penalty / fold.scale;
+    seg.a = sums[j];
+    seg.b = held_out.cross.dot(delta) - beta[j].dot(c_delta) + w * residual_mean[j] * d0;
+    seg.c = delta.dot(c_delta) + w * d0 * d0;
+    fold.segments.push_back(seg);
+  }
+  return true;
+}
+
+/// A fold before its path is traced: its held-out rows and weight, its
+/// training weights (the held-out rows' set to 0) and the options its path
+/// is traced with (the size-free rescaling of the file comment).
+template <class Scalar>
+struct FoldPlan {
   Fold<Scalar> fold;
-  const Index n = x.rows();
-  Vector<Scalar> training = w;
-  for (Index i = 0; i < n; ++i)
+  Vector<Scalar> training;
+  TraceOptions options;
+};
+
+template <class Scalar>
+FoldPlan<Scalar> plan_fold(const Vector<Scalar>& w, const std::vector<long>& fold_of, long k,
+                           const TraceOptions& options, const Scalar& full_weight,
+                           const Scalar& full_scale) {
+  FoldPlan<Scalar> plan{{}, w, options};
+  Fold<Scalar>& fold = plan.fold;
+  for (Index i = 0; i < w.size(); ++i)
     if (fold_of[static_cast<std::size_t>(i)] == k) {
-      training(i) = Scalar(0);
+      plan.training(i) = Scalar(0);
       if (w(i) > Scalar(0)) {
         fold.held_out.push_back(i);
         fold.held_out_weight += w(i);
       }
     }
-  TraceOptions fold_options = options;
-  fold.training_weight = training.sum();
+  fold.training_weight = plan.training.sum();
   if (!(fold.training_weight > Scalar(0)))
     throw invalid_data("fold " + std::to_string(k) +
                        " leaves no training row with positive weight");
   fold.scale = penalty_scale<Scalar>(options.standardize, fold.training_weight);
   if (!options.standardize && options.ridge != 0.0)
-    fold_options.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
+    plan.options.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
   if (options.min_penalty != 0.0)
-    fold_options.min_penalty = options.min_penalty * to_double(Scalar(fold.scale / full_scale));
-  fold.path = trace<Scalar>(x, y, fold_options, training);
-  build_segments(fold, x, y, w);
-  return fold;
+    plan.options.min_penalty = options.min_penalty * to_double(Scalar(fold.scale / full_scale));
+  return plan;
+}
+
+/// Traces fold k on its training rows (the held-out rows get weight 0) and
+/// builds its quadratic segments. With `training_statistics` (the
+/// statistics of exactly those rows, fold_statistics()) the path is traced
+/// from them, as trace() would on the Gram route; else by trace(). With
+/// `held_out_statistics` (those of the held-out rows) the segments are
+/// built from them when their sums keep segment_sum_tolerance; else from
+/// the held-out rows.
+template <class Scalar>
+Fold<Scalar> trace_fold(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
+                        const std::vector<long>& fold_of, long k, const TraceOptions& options,
+                        const Scalar& full_weight, const Scalar& full_scale,
+                        const SufficientStatistics<Scalar>* training_statistics = nullptr,
+                        const SufficientStatistics<Scalar>* held_out_statistics = nullptr) {
+  FoldPlan<Scalar> plan = plan_fold(w, fold_of, k, options, full_weight, full_scale);
+  if (training_statistics)
+    plan.fold.path = trace_rows_statistics(*training_statistics, x.rows(), plan.options);
+  else
+    plan.fold.path = trace<Scalar>(x, y, plan.options, plan.training);
+  if (!held_out_statistics || !build_segments_from_statistics(plan.fold, *held_out_statistics))
+    build_segments(plan.fold, x, y, w);
+  return std::move(plan.fold);
 }
 
 /// Largest s in [0, 1] with q(s) <= threshold, if any.
@@ -390,41 +500,90 @@ std::size_t checked_fold_count(const std::vector<long>& fold_of, const Vector<Sc
   return k;
 }
 
+/// Memory the fold statistics of fold_statistics() may take (bytes):
+/// K + 1 parts and one training set per thread, p x p each.
+inline constexpr double fold_statistics_budget = 1073741824.0;
+
+/// Whether the folds are traced from statistics (fold_statistics()): when
+/// trace() would take the Gram route on the whole table (choose_storage(),
+/// the same choice for every fold: the folds keep every row, with weight 0
+/// for the held-out ones) and the statistics fit in fold_statistics_budget.
+/// Cost then: one O(n p^2) pass for all the folds' statistics and O(K^2 p^2)
+/// to merge them, against K passes of O(n p^2) when each fold forms its own
+/// Gram matrix.
+template <class Scalar>
+bool folds_by_statistics(Index n, Index p, std::size_t k, std::size_t threads,
+                         const TraceOptions& options) {
+  const double matrices = static_cast<double>(k + 1 + threads);
+  const double bytes = matrices * static_cast<double>(p) * static_cast<double>(p) *
+                       static_cast<double>(sizeof(Scalar));
+  return choose_storage<Scalar>(n, p, options) == Storage::gram && bytes <= fold_statistics_budget;
+}
+
+/// The statistics of each fold's rows (parts 0..K-1) and of the rows never
+/// held out (part K: fold_of < 0 with positive weight; empty when none),
+/// each from the rows in ascending order (SufficientStatistics::from_rows
+/// with the other rows' weights set to 0), on up to `threads` threads.
+template <class Scalar>
+std::vector<SufficientStatistics<Scalar>> fold_statistics(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                                          const Vector<Scalar>& w,
+                                                          const std::vector<long>& fold_of,
+                                                          std::size_t k, std::size_t threads) {
+  std::vector<SufficientStatistics<Scalar>> parts(k + 1);
+  detail::for_each_task(k + 1, threads, [&](std::size_t f) {
+    const long part = f == k ? -1 : static_cast<long>(f);
+    Vector<Scalar> mask = w;
+    for (Index i = 0; i < w.size(); ++i) {
+      const long of = fold_of[static_cast<std::size_t>(i)];
+      if ((part < 0 ? of >= 0 : of != part)) mask(i) = Scalar(0);
+    }
+    parts[f] = SufficientStatistics<Scalar>::from_rows(x, y, mask);
+  });
+  return parts;
+}
+
+/// The statistics of fold f's training rows: every part but f, merged in
+/// ascending order (Chan, Golub & LeVeque's update; the order is fixed, so
+/// the result does not depend on the thread count).
+template <class Scalar>
+SufficientStatistics<Scalar> training_statistics(const std::vector<SufficientStatistics<Scalar>>& parts,
+                                                 std::size_t f, Index p) {
+  SufficientStatistics<Scalar> training = SufficientStatistics<Scalar>::empty(p);
+  for (std::size_t j = 0; j < parts.size(); ++j)
+    if (j != f) training.merge(parts[j]);
+  return training;
+}
+
 /// Traces the k folds of `cv` (its full path and fold_of already set) with
-/// `threads` threads (0: the hardware's count). Fold f is traced by thread
-/// f mod T, so nothing depends on T; the first failure in fold order is
-/// rethrown.
+/// `threads` threads (0: the hardware's count); nothing depends on the
+/// count, and the first failure in fold order is rethrown. On the Gram
+/// route the folds are traced from statistics (folds_by_statistics()): the
+/// same problems as trace() on the training rows, rounded differently (the
+/// training rows' products are summed fold by fold and merged, not block by
+/// block).
 template <class Scalar>
 std::vector<Fold<Scalar>> trace_folds(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                       const Vector<Scalar>& w, const CrossValidation<Scalar>& cv,
                                       std::size_t k, const TraceOptions& options,
                                       std::size_t threads) {
   std::vector<Fold<Scalar>> folds(k);
-  std::vector<std::exception_ptr> failure(k);
   const Scalar full_weight = cv.full_path.preparation().weight_sum;
-  if (threads == 0) threads = std::max(1u, std::thread::hardware_concurrency());
-  threads = std::min(threads, k);
+  threads = std::min(resolve_threads(threads), k);
   TraceOptions fold_options = options;
   if (threads > 1) fold_options.threads = 1;  // folds in parallel: no threads inside a fold
-  auto work = [&](std::size_t first) {
-    for (std::size_t f = first; f < k; f += threads) {
-      try {
-        folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options,
-                                      full_weight, cv.full_scale);
-      } catch (...) {
-        failure[f] = std::current_exception();
-      }
+  std::vector<SufficientStatistics<Scalar>> parts;
+  if (folds_by_statistics<Scalar>(x.rows(), x.cols(), k, threads, options))
+    parts = fold_statistics(x, y, w, cv.fold_of, k, threads);
+  detail::for_each_task(k, threads, [&](std::size_t f) {
+    if (parts.empty()) {
+      folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options,
+                                    full_weight, cv.full_scale);
+    } else {
+      const SufficientStatistics<Scalar> training = training_statistics(parts, f, x.cols());
+      folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options,
+                                    full_weight, cv.full_scale, &training, &parts[f]);
     }
-  };
-  if (threads <= 1) {
-    work(0);
-  } else {
-    std::vector<std::thread> pool;
-    for (std::size_t t = 0; t < threads; ++t) pool.emplace_back(work, t);
-    for (auto& t : pool) t.join();
-  }
-  for (const auto& e : failure)
-    if (e) std::rethrow_exception(e);
+  });
   return folds;
 }
 
@@ -539,8 +698,13 @@ CurvePoint<Scalar> parsimonious_choice(const CrossValidation<Scalar>& cv) {
 /// Exact K-fold cross-validation of the path of y on x (see the file
 /// comment). Every fold is traced with `options` on its training rows
 /// (weights of held-out rows set to 0). Throws invalid_option, invalid_data.
-/// Cost: K path traces (in parallel with cv.threads) plus O(K^2 knots) for
-/// the merge; memory: the K paths.
+/// Cost: on the Gram route (tall designs, folds_by_statistics()) two
+/// O(n p^2) passes over the rows (the full data's statistics, kept in
+/// CrossValidation::statistics, and every fold's), then per fold an O(K p^2)
+/// merge, a trace from statistics and O(p k) per knot for its segments;
+/// otherwise K path traces from the rows (in parallel with cv.threads).
+/// Plus O(K^2 knots) for the curve; memory: the K paths (and K + 1 + T
+/// p x p statistics on the Gram route).
 template <class Scalar>
 CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                        const TraceOptions& options,
@@ -553,7 +717,14 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
     throw invalid_data("there are " + std::to_string(weights.size()) + " weights for " +
                        std::to_string(n) + " rows");
   CrossValidation<Scalar> result;
-  result.full_path = trace<Scalar>(x, y, options, weights);  // validates options and data
+  if (choose_storage<Scalar>(n, x.cols(), options) == Storage::gram) {  // as trace(), keeping the statistics
+    options.validate(static_cast<std::size_t>(x.cols()));
+    detail::check_data(x, y, weights);
+    result.statistics = SufficientStatistics<Scalar>::from_rows(x, y, weights);
+    result.full_path = detail::trace_rows_statistics(*result.statistics, n, options);
+  } else {
+    result.full_path = trace<Scalar>(x, y, options, weights);  // validates options and data
+  }
   result.full_scale = penalty_scale(result.full_path.preparation());
   result.fold_of = make_folds<Scalar>(n, cv, weights);
   const Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;

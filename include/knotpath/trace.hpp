@@ -78,6 +78,21 @@ Path<typename Design::Scalar> trace_design(const Design& design, const Preparati
                       Scalar(options.ridge));
 }
 
+namespace detail {
+
+/// trace()'s Gram route once the statistics of its rows are formed
+/// (`observations` = the table's row count, weight-0 rows included, as
+/// Preparation::observations records it).
+template <class Scalar>
+Path<Scalar> trace_rows_statistics(const SufficientStatistics<Scalar>& statistics, Index observations,
+                                   const TraceOptions& options) {
+  PreparedGram<Scalar> prepared = prepare_gram(statistics, options);
+  prepared.preparation.observations = observations;
+  return trace_design(prepared.design, prepared.preparation, options);
+}
+
+}  // namespace detail
+
 /// Traces the lasso (or least angle) path of y on the columns of x.
 ///
 /// Objective at penalty lambda (see DESIGN notes and TraceOptions):
@@ -131,9 +146,8 @@ Path<Scalar> trace(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
   }
   if (gram) {
     detail::check_data(x, y, weights);
-    PreparedGram<Scalar> prepared = prepare_gram(SufficientStatistics<Scalar>::from_rows(x, y, weights), options);
-    prepared.preparation.observations = x.rows();
-    return trace_design(prepared.design, prepared.preparation, options);
+    return detail::trace_rows_statistics(SufficientStatistics<Scalar>::from_rows(x, y, weights), x.rows(),
+                                         options);
   }
   PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, options, weights);
   prepared.design.set_threads(options.threads);

@@ -242,20 +242,42 @@ std::string reason_of(const std::exception& e) {
   return why;
 }
 
+// The criteria from the statistics when there are some and their
+// least-squares fit keeps detail::gram_fit_tolerance (information_criteria
+// of SufficientStatistics refuses otherwise); else from the data (the QR of
+// the n x p design), which also gives every message.
+template <class Scalar>
+InformationCriteria<Scalar> criteria_for(const Matrix<Scalar>& x, const Vector<Scalar>& y,
+                                         const Vector<Scalar>& w, const Path<Scalar>& path,
+                                         const CriteriaOptions& co,
+                                         const std::optional<SufficientStatistics<Scalar>>& statistics) {
+  if (statistics) {
+    try {
+      return information_criteria(*statistics, path, co);
+    } catch (const invalid_query&) {
+      // ill-conditioned, rank-deficient or no residual degree of freedom: the data decide
+    }
+  }
+  return information_criteria<Scalar>(x, y, path, co, w);
+}
+
 // The covariance and spacing tests. Their reduced paths and omega need only
 // the Gram matrix of the active columns, so they run on the sufficient
-// statistics of the data (one O(n p^2) pass; then O(k^2) per step,
-// independent of the number of rows) rather than on the n x p design. sigma^2
-// is the value given, or the criteria's least-squares estimate (the same
-// rule, detail::given_or_least_squares_variance, on the same data: computed
-// once). Without either (the least-angle variant, no criteria) the library's
-// dense route estimates it. The results agree with the dense route to
-// rounding (tests/test_inference.cpp, EntryTestsFromStatistics).
+// statistics of the data (on tall tables those the full path was traced
+// from, CrossValidation::statistics; else one O(n p^2) pass; then O(k^2) per step, independent of the number of rows)
+// rather than on the n x p design. sigma^2 is the value given, or the
+// criteria's least-squares estimate (the same rule,
+// detail::given_or_least_squares_variance, on the same data: computed once).
+// Without either (the least-angle variant, no criteria) the library's dense
+// route estimates it. The results agree with the dense route to rounding
+// (tests/test_inference.cpp, EntryTestsFromStatistics). Unweighted data only
+// (the caller checks), so `statistics` are those of x and y.
 template <class Scalar>
 Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                          const Path<Scalar>& path,
                          const std::optional<InformationCriteria<Scalar>>& criteria,
-                         std::optional<double> noise_variance) {
+                         std::optional<double> noise_variance,
+                         const std::optional<SufficientStatistics<Scalar>>& statistics) {
   double sigma2 = 0;
   Index df = 0;
   if (noise_variance) {
@@ -269,7 +291,8 @@ Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
     return entry_significance<Scalar>(x, y, path, io);
   }
   try {
-    return entry_significance(SufficientStatistics<Scalar>::from_rows(x, y), path, sigma2, df);
+    return statistics ? entry_significance(*statistics, path, sigma2, df)
+                      : entry_significance(SufficientStatistics<Scalar>::from_rows(x, y), path, sigma2, df);
   } catch (const invalid_query&) {
     // The statistics kept other columns than the path (a column constant
     // only up to rounding): the dense route, on the path's own preparation.
@@ -308,9 +331,13 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
   if (noise_variance) co.noise_variance = *noise_variance;
   co.cross_validated_penalty = as_double(cv.minimum.lambda);  // Reid et al. (2016) when p >= n
   if (data.progress) data.progress->status("information criteria (Cp, AIC, BIC)");
+  // On tall tables the full path was traced from the table's sufficient
+  // statistics: the criteria and the entry tests reuse them (each then
+  // independent of the number of rows).
+  const std::optional<SufficientStatistics<Scalar>>& statistics = cv.statistics;
   std::optional<InformationCriteria<Scalar>> criteria;
   try {
-    criteria = information_criteria<Scalar>(x, y, path, co, w);
+    criteria = criteria_for(x, y, w, path, co, statistics);
   } catch (const invalid_option& e) {
     s.criteria_note = reason_of(e);
   } catch (const invalid_query& e) {
@@ -325,7 +352,7 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
       data.progress->status(fmt::format("entry tests (covariance and spacing) of {} knots",
                                         path.knots().size()));
     try {
-      s.significance = entry_tests<Scalar>(x, y, path, criteria, noise_variance);
+      s.significance = entry_tests<Scalar>(x, y, path, criteria, noise_variance, statistics);
     } catch (const invalid_option& e) {
       s.significance_note = reason_of(e);
     } catch (const invalid_query& e) {

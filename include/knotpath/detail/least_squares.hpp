@@ -5,11 +5,15 @@
 // check of the noise_variance option. Users do not call these.
 
 #include <cmath>
+#include <string>
 #include <utility>
 
+#include <Eigen/Cholesky>
 #include <Eigen/QR>
 
+#include "../design/gram.hpp"
 #include "../errors.hpp"
+#include "../factor.hpp"
 #include "../options.hpp"
 #include "../path.hpp"
 #include "../prepare.hpp"
@@ -68,6 +72,57 @@ std::pair<Scalar, Index> least_squares_fit(const DenseDesign<Scalar>& design) {
   return {r.squaredNorm(), qr.rank()};
 }
 
+/// Largest estimated relative error of the residual sum of squares that
+/// the normal-equations fit of a Gram design may have (least_squares_fit
+/// below): the criteria and the entry tests use sigma^2 to a few digits, so
+/// eight are ample, and a fit that cannot promise them is refused.
+inline constexpr double gram_fit_tolerance = 1e-8;
+
+/// The same fit from the Gram matrix alone, by the normal equations: a
+/// Cholesky factor of the Jacobi-scaled G = Z^T Z, b = G^-1 Z^T y, and
+/// RSS = y^T y - (Z^T y)^T b. O(q^3), independent of the number of rows.
+/// The normal equations square the condition number, and the subtraction
+/// cancels when the fit is close: the RSS's relative error is about
+/// kappa(G) u y^T y / RSS (Higham, Accuracy and Stability of Numerical
+/// Algorithms, 2nd ed. 2002, section 20.4, for the normal equations'
+/// forward error). When that estimate (kappa in the 1-norm, Hager's
+/// estimator of the inverse's norm, factor.hpp) exceeds gram_fit_tolerance, or G is not positive
+/// definite (rank-deficient: only the data's pivoted QR can say which
+/// columns are redundant), throws invalid_query: the caller refits from the
+/// data (the dense overload above).
+template <class Scalar>
+std::pair<Scalar, Index> least_squares_fit(const GramDesign<Scalar>& design) {
+  const Index q = design.cols();
+  if (q == 0) return {design.response_squared_norm(), 0};
+  auto refuse = [](const std::string& why) {
+    throw invalid_query("the least-squares fit from the Gram matrix alone " + why +
+                        "; fit from the data instead");
+  };
+  Vector<Scalar> d(q);  // Jacobi scaling: the scaled G has a unit diagonal
+  for (Index j = 0; j < q; ++j) {
+    if (!(design.squared_norm(j) > Scalar(0))) refuse("meets a column of zero norm");
+    d(j) = Scalar(1) / square_root<Scalar>(design.squared_norm(j));
+  }
+  const Matrix<Scalar> scaled = d.asDiagonal() * design.gram() * d.asDiagonal();
+  const Eigen::LLT<Matrix<Scalar>> factor(scaled);
+  if (factor.info() != Eigen::Success) refuse("is rank-deficient");
+  Vector<Scalar> c;
+  design.response_correlations(c);
+  const Vector<Scalar> scaled_c = d.asDiagonal() * c;
+  const Scalar yy = design.response_squared_norm();
+  const Scalar rss = yy - scaled_c.dot(factor.solve(scaled_c));
+  Matrix<Scalar> work(q, 4);
+  const double inverse_norm = hager_inverse_norm1<Scalar>(
+      q, [&](const auto& in, auto& out) { out = factor.solve(in); }, work);
+  const double condition = to_double(Scalar(scaled.cwiseAbs().colwise().sum().maxCoeff())) * inverse_norm;
+  const double u = to_double(epsilon<Scalar>()) / 2;  // 0 for exact types: no rounding to fear
+  const double share = to_double(Scalar(rss / yy));   // RSS / y^T y
+  if (!(share > 0) || !(u * condition <= gram_fit_tolerance * share))
+    refuse("would lose too many digits (condition estimate " + std::to_string(condition) +
+           ", residual share " + std::to_string(share) + ")");
+  return {rss, q};
+}
+
 /// The check of a noise_variance option: negative asks for an estimate,
 /// anything else must be finite and > 0. Throws invalid_option("noise_variance").
 inline void validate_noise_variance(double noise_variance) {
@@ -94,9 +149,8 @@ struct NoiseVarianceEstimate {
 /// unweighted: frequency weights, see TraceOptions) when that leaves residual
 /// degrees of freedom. What to do otherwise is the caller's (the criteria fall
 /// back on a sparse fit, the entry tests refuse).
-template <class Scalar>
-NoiseVarianceEstimate<Scalar> given_or_least_squares_variance(double given,
-                                                              const DenseDesign<Scalar>& design,
+template <class Scalar, class Design>
+NoiseVarianceEstimate<Scalar> given_or_least_squares_variance(double given, const Design& design,
                                                               const Preparation<Scalar>& prep) {
   NoiseVarianceEstimate<Scalar> out;
   if (given > 0) {
