@@ -59,15 +59,22 @@ struct Measured {
   bool suspect = false;
   std::size_t knots = 0;
   Index max_active = 0;
+  // The worst estimate over the knots with a coefficient: without the
+  // intercept-only start rows, whose estimate is the rounding of the
+  // response mean relative to |ybar| (see the sweep).
+  double fitted_estimate = 0;
 };
 
 Measured calibrate(const Case& c) {
   const auto check = c.text ? kp::cross_check<kp::float50>(*c.text, c.options)
                             : kp::cross_check<kp::float50>(c.x, c.y, c.options, c.weights);
+  double fitted = 0;
+  for (const auto& knot : check.double_path.knots())
+    if (!knot.coefficients.empty()) fitted = std::max(fitted, knot.estimated_error);
   return {check.double_path.worst_estimated_error(), check.max_coefficient_difference,
           check.condition_estimate, check.double_path.preparation().centring_amplification,
           check.same_events, check.double_suspect, check.double_knots,
-          check.double_path.knots().empty() ? 0 : check.double_path.knots().back().active_count};
+          check.double_path.knots().empty() ? 0 : check.double_path.knots().back().active_count, fitted};
 }
 
 // Gaussian design whose columns have correlation rho with a common factor
@@ -313,6 +320,38 @@ TEST(HealthCalibration, RidgeWeightIsNotCountedAsDrift) {
   }
 }
 
+// The start knot of a response whose mean is small against its spread: the
+// intercept-only solution is the response mean, which the preparation
+// computes to about the unit roundoff times the spread of y, not times the
+// mean (a compensated mean). The estimate was eps relative to |ybar|, so a
+// Clang draw of the sweep (50 x 27, mean 0.0025 against a spread near 4)
+// measured 6.5e-14 against an estimate of 5.9e-14. Common practice: the
+// rounding of a mean is relative to the spread of what it averages.
+TEST(HealthCalibration, StartKnotCarriesTheRoundingOfTheResponseMean) {
+  int rounded = 0;
+  for (std::uint64_t seed = 1; seed <= 20; ++seed) {
+    Case c = random_case("small mean", 50, 5, 0.0, 700 + seed);
+    c.y.array() -= c.y.mean() - 1e-3;  // mean about 1e-3, spread about 3
+    const auto check = kp::cross_check<kp::float50>(c.x, c.y, c.options);
+    const auto& low = check.double_path.knots().front();
+    const auto& high = check.high_path.knots().front();
+    ASSERT_TRUE(low.coefficients.empty() && high.coefficients.empty());
+    const double exact = kp::detail::to_double(high.intercept);
+    const double relative = std::abs(low.intercept - exact) / std::abs(exact);
+    EXPECT_LE(relative, low.estimated_error) << "seed " << seed;
+    rounded += relative > 0x1p-52;  // beyond what the old estimate (eps) allowed
+  }
+  EXPECT_GT(rounded, 5);  // the case is not vacuous
+}
+
+// The order of the sweep's first three draws per design. The order in which
+// a call's arguments are evaluated is unspecified: GCC evaluated
+// random_case(name, rows(gen), cols(gen), correlations[pick(gen)], seed)
+// right to left (pick, cols, rows) when the figures of RELIABILITY.md were
+// first taken, Clang left to right (rows, cols, pick) and so drew another
+// corpus, on which the bound once missed. Both corpora run in every build.
+enum class DrawOrder { gcc, clang };
+
 // A random sweep beside the named corpus: 300 small designs over every
 // option combination (intercept, scaling, ridge, weights, penalty factors,
 // sign constraints, variant, p > n, correlation from none to 0.9999). The
@@ -322,21 +361,28 @@ TEST(HealthCalibration, RidgeWeightIsNotCountedAsDrift) {
 // RELIABILITY.md quotes. KNOTPATH_CALIBRATION_DUMP=1 prints one line per
 // design (condition, rows, columns, estimate, measured, knots, final active
 // count) for studying the calibration.
-TEST(HealthCalibration, RandomSweepEstimateBoundsTheMeasuredError) {
+class RandomSweep : public ::testing::TestWithParam<DrawOrder> {};
+
+TEST_P(RandomSweep, EstimateBoundsTheMeasuredError) {
   std::mt19937_64 gen(2026);
   std::uniform_int_distribution<int> rows(8, 80), cols(2, 30), coin(0, 1), pick(0, 3);
   std::uniform_real_distribution<double> u(0, 1);
   const double correlations[] = {0.0, 0.5, 0.9, 0.9999};
-  double smallest = std::numeric_limits<double>::infinity(), largest_well = 0;
+  double smallest = std::numeric_limits<double>::infinity(), largest_well = 0, largest_fitted = 0;
   int designs = 0, well = 0, within_100 = 0, beyond = 0;
   for (int t = 0; t < 300; ++t) {
-    // One draw per statement: the order in which a call's arguments are
-    // evaluated is unspecified (GCC and Clang differ), and the corpus must
-    // be the same in every build. This is the order GCC used when the
-    // figures of RELIABILITY.md were taken.
-    const double rho = correlations[pick(gen)];
-    const Index p_drawn = cols(gen);
-    const Index n_drawn = rows(gen);
+    // One draw per statement, in the order of the parameter.
+    double rho = 0;
+    Index p_drawn = 0, n_drawn = 0;
+    if (GetParam() == DrawOrder::gcc) {
+      rho = correlations[pick(gen)];
+      p_drawn = cols(gen);
+      n_drawn = rows(gen);
+    } else {
+      n_drawn = rows(gen);
+      p_drawn = cols(gen);
+      rho = correlations[pick(gen)];
+    }
     Case c = random_case("sweep " + std::to_string(t), n_drawn, p_drawn, rho,
                          5000 + static_cast<std::uint64_t>(t));
     const auto p = static_cast<std::size_t>(c.x.cols());
@@ -364,28 +410,43 @@ TEST(HealthCalibration, RandomSweepEstimateBoundsTheMeasuredError) {
     const double ratio = m.estimate / std::max(m.measured, unit_roundoff);
     if (m.estimate <= kp::first_order_limit) {
       EXPECT_LE(m.measured, m.estimate) << describe(c) << " cond " << m.condition << " centring " << m.centring;
-      smallest = std::min(smallest, ratio);
+      if (m.measured > 0) smallest = std::min(smallest, ratio);  // 0: the floor says nothing
     } else {
       ++beyond;
       EXPECT_TRUE(m.suspect) << c.name;
     }
+    const double fitted_ratio = m.fitted_estimate / std::max(m.measured, unit_roundoff);
     if (std::getenv("KNOTPATH_CALIBRATION_DUMP"))
-      std::cout << "DUMP " << m.condition << " " << c.x.rows() << " " << c.x.cols() << " " << m.estimate << " "
-                << m.measured << " " << m.knots << " " << m.max_active << "\n";
+      std::cout << "DUMP " << t << " " << m.condition << " " << m.centring << " " << c.x.rows() << " "
+                << c.x.cols() << " " << m.estimate << " " << m.measured << " " << ratio << " " << fitted_ratio
+                << " " << m.knots << " " << m.max_active << " | " << describe(c) << "\n";
     if (m.condition <= well_conditioned && m.centring <= well_centred) {
       ++well;
       within_100 += ratio <= 100;
       largest_well = std::max(largest_well, ratio);
-      // Not yet the factor 100 of the named corpus on every random design
-      // (RELIABILITY.md, "Health check calibration": the knot-penalty term
-      // is loose on weak signals); this pins today's calibration.
-      EXPECT_LE(ratio, 2000) << describe(c) << " cond " << m.condition << " centring " << m.centring;
+      largest_fitted = std::max(largest_fitted, fitted_ratio);
+      // Not yet the factor 100 on every random design (RELIABILITY.md,
+      // "Health check calibration", lists those beyond it and why); this
+      // pins today's calibration. The intercept-only start rows are left
+      // out of this one check: their estimate, the rounding of the
+      // response mean relative to |ybar|, must hold for the exact start
+      // knot alone, while the cross-check measures them against the next
+      // knot's solution whenever the double lambda_max falls below the
+      // exact one (the sweep's Clang-order design 52: 9.8e3 with them,
+      // 52 without).
+      EXPECT_LE(fitted_ratio, 300) << describe(c) << " cond " << m.condition << " centring " << m.centring;
       EXPECT_FALSE(m.suspect) << c.name;
     }
   }
-  std::cout << designs << " designs: smallest estimate/measured " << smallest << "; " << well
+  std::cout << designs << " designs: smallest estimate/measured (measured > 0) " << smallest << "; " << well
             << " well-conditioned, " << within_100 << " of them within a factor 100, largest ratio "
-            << largest_well << "; " << beyond << " beyond the first-order limit\n";
-  EXPECT_GT(well, 50);
+            << largest_well << " (" << largest_fitted << " without the intercept-only start rows); " << beyond
+            << " beyond the first-order limit\n";
+  EXPECT_GT(well, 80);
   EXPECT_GE(within_100, 0.8 * well);
 }
+
+INSTANTIATE_TEST_SUITE_P(HealthCalibration, RandomSweep, ::testing::Values(DrawOrder::gcc, DrawOrder::clang),
+                         [](const ::testing::TestParamInfo<DrawOrder>& info) {
+                           return std::string(info.param == DrawOrder::gcc ? "GccDrawOrder" : "ClangDrawOrder");
+                         });

@@ -168,6 +168,7 @@ class Homotopy {
         scale_work_(q_ + 1),
         scale_solution_(q_ + 1),
         rhs_scale_(q_ + 1),
+        column_norm_(static_cast<std::size_t>(q_), 0.0),
         estimate_(detail::to_double(detail::epsilon<Scalar>()), prep.centring_amplification) {
     for (Index k = 0; k < q_; ++k) factor_of_(k) = Scalar(prep.penalty_factors[static_cast<std::size_t>(k)]);
     design.response_correlations(c_);
@@ -578,9 +579,9 @@ class Homotopy {
   // the intercept a = ybar - v^T b (v_k = m_j / s_j) carry it to the
   // original scale (Hoelder's inequality, G symmetric):
   //   |d beta_j| <= ||G^{-1} e_k||_1 rho / s_j,
-  //   |d a|      <= ||G^{-1} v||_1 rho + u (|ybar| + sum_k |v_k b_k|),
-  // the last term the rounding of the intercept's own sum (u the unit
-  // roundoff). ||G^{-1} e_k||_1 is solved for the coefficient of the
+  //   |d a|      <= ||G^{-1} v||_1 rho + means_rounding(),
+  // the last term the rounding of the means ybar and m_j and of the
+  // intercept's own sum. ||G^{-1} e_k||_1 is solved for the coefficient of the
   // smallest scale and bounded by ||G^{-1}||_1 for the others. A knot
   // penalty off by u lambda_max plus the rounding of a correlation
   // (correlation_noise_) moves the solution along the segment's slope
@@ -596,7 +597,7 @@ class Homotopy {
     const Index k_active = active_count();
     auto v = scale_work_.head(k_active);
     auto w = scale_solution_.head(k_active);
-    double b_size = 0, mean_shift = 0;
+    double b_size = 0;
     double smallest_scale = std::numeric_limits<double>::infinity(), next_scale = smallest_scale;
     Index smallest = -1;
     for (Index i = 0; i < k_active; ++i) {
@@ -613,7 +614,6 @@ class Homotopy {
         next_scale = std::min(next_scale, scale);
       }
       v(i) = prep_.means(j) / prep_.scales(j);
-      mean_shift += std::abs(detail::to_double(v(i))) * b;
     }
     // ||G^{-1}||_1 rho, with sqrt(k) for the rounding of the k-term sums of
     // the factor's solves (rounding errors of a sum of k terms grow like
@@ -636,14 +636,41 @@ class Homotopy {
       coefficient_error = std::max(coefficient_error, forward * aligned(e) / smallest_scale);
     }
     const double eps = detail::to_double(detail::epsilon<Scalar>());
-    double intercept_error = 0;
-    if (prep_.intercept)
-      intercept_error = forward * aligned(v) +
-                        eps * (std::abs(detail::to_double(prep_.response_mean)) + mean_shift);
+    const double intercept_error = prep_.intercept ? forward * aligned(v) + means_rounding(k_active) : 0.0;
     const double knot_shift = (eps * penalty_scale_ + correlation_noise_) * penalty_slope_;
     const double reported = (std::max(coefficient_error, intercept_error) + knot_shift) / top;
     // Beyond the first order in the prepared problem, beyond it here too.
     return prepared > first_order_limit ? std::max(reported, prepared) : reported;
+  }
+
+  // The rounding of the intercept's inputs, absolute. The weighted means
+  // ybar and m_j are compensated means (prepare.hpp, weighted_mean), each
+  // off by about the unit roundoff times the spread of what it averages,
+  // not times the mean itself: the rounding of the correction sum
+  // sum w_i (x_i - mean), whose partial sums wander like a random walk of
+  // that spread (the statistical form of Higham 2002, sections 2.8 and 4.2).
+  // With the final sum a = ybar - sum m_j beta_j:
+  //   e (|ybar| + sum_k |v_k b_k|) + e (||y_c|| + sum_k ||z_k|| |b_k|) / sqrt(W),
+  // e = epsilon<Scalar> (twice the unit roundoff, as everywhere in this
+  // estimate), ||y_c|| / sqrt(W) the spread of the response
+  // (Preparation::total_sum_of_squares) and ||z_k|| s_j / sqrt(W) that of
+  // predictor j (W the weight sum). A response whose mean is small against
+  // its spread thus has a start knot (intercept only) known to this
+  // absolute accuracy and no better. O(k).
+  double means_rounding(Index k_active) const {
+    double mean_shift = 0, spread_shift = 0;
+    for (Index i = 0; i < k_active; ++i) {
+      const Index k = active_[at(i)];
+      const Index j = prep_.columns[at(k)];
+      const double b = std::abs(detail::to_double(b_(k)));
+      mean_shift += std::abs(detail::to_double(Scalar(prep_.means(j) / prep_.scales(j)))) * b;
+      spread_shift += column_norm_[at(k)] * b;
+    }
+    const double eps = detail::to_double(detail::epsilon<Scalar>());
+    const double spread_y = std::sqrt(std::max(detail::to_double(prep_.total_sum_of_squares), 0.0));
+    const double weight = std::max(detail::to_double(prep_.weight_sum), 1.0);
+    return eps * (std::abs(detail::to_double(prep_.response_mean)) + mean_shift) +
+           eps * (spread_y + spread_shift) / std::sqrt(weight);
   }
 
   // The rounding of one correlation z_k^T r, an n-term inner product:
@@ -652,9 +679,14 @@ class Homotopy {
   // It sets how well lambda_max and every knot penalty are known, and how
   // far the active correlations may be off when they are small against
   // ||y|| (a weak signal, a heavy ridge).
+  // Also keeps ||z_k|| per column for means_rounding().
   void note_correlation_noise() {
     double column = 0;
-    for (Index k = 0; k < q_; ++k) column = std::max(column, detail::to_double(design_.squared_norm(k)));
+    for (Index k = 0; k < q_; ++k) {
+      const double squared = std::max(detail::to_double(design_.squared_norm(k)), 0.0);
+      column_norm_[at(k)] = std::sqrt(squared);
+      column = std::max(column, squared);
+    }
     const double n = static_cast<double>(std::max<Index>(prep_.used_observations, 1));
     correlation_noise_ = detail::to_double(detail::epsilon<Scalar>()) * std::sqrt(n) * std::sqrt(column) *
                          std::sqrt(std::max(detail::to_double(rss_), 0.0));
@@ -721,6 +753,7 @@ class Homotopy {
   double penalty_scale_ = 0;  // lambda_max as a double (reported_scale_error)
   double penalty_slope_ = 0;  // note_penalty_slope() of the last segment
   double correlation_noise_ = 0;  // note_correlation_noise()
+  std::vector<double> column_norm_;  // ||z_k|| per prepared column (note_correlation_noise)
   Scalar rss_{0};                      // residual sum of squares of the prepared problem
   Scalar lambda_{0};                   // current penalty
   std::vector<Knot<Scalar>> knots_;    // recorded so far

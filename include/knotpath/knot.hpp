@@ -90,7 +90,10 @@ struct Knot {
   /// original-scale coefficients and the intercept, relative to the largest
   /// of them (the measure of the cross-check, compare_paths()).
   /// prepared_error carried through the scales, the means and the factor's
-  /// inverse (Homotopy's reported_scale_error). It is a first-order bound,
+  /// inverse, plus the rounding of the means themselves (which alone sets
+  /// the intercept-only start knot's error when the response's mean is
+  /// small against its spread) and of the knot penalties
+  /// (Homotopy's reported_scale_error). It is a first-order bound,
   /// calibrated against 50-digit paths (RELIABILITY.md, "Health check
   /// calibration"); above first_order_limit it bounds nothing, because the
   /// order of the events themselves may differ from the exact path's.
