@@ -337,11 +337,35 @@ TEST(HealthCalibration, StartKnotCarriesTheRoundingOfTheResponseMean) {
     const auto& high = check.high_path.knots().front();
     ASSERT_TRUE(low.coefficients.empty() && high.coefficients.empty());
     const double exact = kp::detail::to_double(high.intercept);
-    const double relative = std::abs(low.intercept - exact) / std::abs(exact);
+    // The cross-check's measure: relative to the intercept, at least to the
+    // response's spread (kp::response_spread).
+    const double size = std::max(std::abs(exact), kp::response_spread(check.high_path.preparation()));
+    const double relative = std::abs(low.intercept - exact) / size;
     EXPECT_LE(relative, low.estimated_error) << "seed " << seed;
-    rounded += relative > 0x1p-52;  // beyond what the old estimate (eps) allowed
+    rounded += relative > 0x1p-52 * std::abs(exact) / size;  // beyond the old estimate, eps |ybar|
   }
   EXPECT_GT(rounded, 5);  // the case is not vacuous
+}
+
+// A response centred by its user (mean of order 1e-17 against a spread of
+// order 1) is no reason for alarm: its intercept's relative digits are
+// noise, so the intercept's error is measured against the response's
+// spread, by the estimate and by the cross-check alike. Before that floor
+// verify called such a path wrong (a coefficient difference of 1: the
+// start knot's intercept against itself) and, once the estimate carried
+// the means' rounding, trace flagged every knot (the suspect state is
+// inherited along the path).
+TEST(HealthCalibration, CentredResponseIsNotAFalseAlarm) {
+  for (std::uint64_t seed = 1; seed <= 10; ++seed) {
+    Case c = random_case("centred", 60, 5, 0.3, 900 + seed);
+    c.y.array() -= c.y.mean();
+    const auto check = kp::cross_check<kp::float50>(c.x, c.y, c.options);
+    EXPECT_FALSE(check.double_path.suspect()) << "seed " << seed;
+    EXPECT_LT(check.double_path.worst_estimated_error(), 1e-12) << "seed " << seed;
+    EXPECT_EQ(check.verdict, kp::Verdict::trustworthy) << "seed " << seed;
+    EXPECT_LE(check.max_coefficient_difference, check.double_path.worst_estimated_error())
+        << "seed " << seed;
+  }
 }
 
 // The order of the sweep's first three draws per design. The order in which

@@ -585,9 +585,12 @@ class Homotopy {
   // smallest scale and bounded by ||G^{-1}||_1 for the others. A knot
   // penalty off by u lambda_max plus the rounding of a correlation
   // (correlation_noise_) moves the solution along the segment's slope
-  // (penalty_slope_), which adds that penalty error times the slope. The
-  // result is relative to the largest of |a| and |beta_j|, as the
-  // cross-check measures it (compare_paths). Without a Hager estimate (exact
+  // (penalty_slope_ for the coefficients, intercept_slope_ for the
+  // intercept), which adds that penalty error times the slope. The
+  // coefficients' error is relative to the largest of |a| and |beta_j|, the
+  // intercept's to at least the response's spread (response_spread(),
+  // prepare.hpp), as the cross-check measures them (compare_paths); the
+  // estimate is the larger of the two. Without a Hager estimate (exact
   // and multiprecision factors) every ||G^{-1} x||_1 is bounded by
   // ||G^{-1}||_1 ||x||_1. Cost: two solves, O(k^2).
   double reported_scale_error(double prepared, double inverse_norm, const Knot<Scalar>& knot) {
@@ -637,8 +640,10 @@ class Homotopy {
     }
     const double eps = detail::to_double(detail::epsilon<Scalar>());
     const double intercept_error = prep_.intercept ? forward * aligned(v) + means_rounding(k_active) : 0.0;
-    const double knot_shift = (eps * penalty_scale_ + correlation_noise_) * penalty_slope_;
-    const double reported = (std::max(coefficient_error, intercept_error) + knot_shift) / top;
+    const double penalty_error = eps * penalty_scale_ + correlation_noise_;
+    const double reported =
+        std::max((coefficient_error + penalty_error * penalty_slope_) / top,
+                 (intercept_error + penalty_error * intercept_slope_) / std::max(top, response_spread(prep_)));
     // Beyond the first order in the prepared problem, beyond it here too.
     return prepared > first_order_limit ? std::max(reported, prepared) : reported;
   }
@@ -703,7 +708,8 @@ class Homotopy {
       slope = std::max(slope, std::abs(d) / scale);
       if (prep_.intercept) intercept_slope += detail::to_double(prep_.means(j)) / scale * d;
     }
-    penalty_slope_ = std::max(slope, std::abs(intercept_slope));
+    penalty_slope_ = slope;
+    intercept_slope_ = std::abs(intercept_slope);
   }
 
   // beta_j = b_k / s_j for the nonzero active coefficients (ascending j),
@@ -751,7 +757,8 @@ class Homotopy {
   Vector<Scalar> cross_, d_, rhs_, active_c_, b_active_;  // work buffers of length q + 1
   Vector<Scalar> scale_work_, scale_solution_, rhs_scale_;  // reported_scale_error()'s v, G^{-1} x, e_k
   double penalty_scale_ = 0;  // lambda_max as a double (reported_scale_error)
-  double penalty_slope_ = 0;  // note_penalty_slope() of the last segment
+  double penalty_slope_ = 0;    // note_penalty_slope() of the last segment: max_k |d_k| / s_j
+  double intercept_slope_ = 0;  // and |v^T d|, the intercept's
   double correlation_noise_ = 0;  // note_correlation_noise()
   std::vector<double> column_norm_;  // ||z_k|| per prepared column (note_correlation_noise)
   Scalar rss_{0};                      // residual sum of squares of the prepared problem

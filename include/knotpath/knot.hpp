@@ -88,7 +88,8 @@ struct Knot {
   double prepared_error = 0;
   /// Estimated relative error of this row as reported: of the
   /// original-scale coefficients and the intercept, relative to the largest
-  /// of them (the measure of the cross-check, compare_paths()).
+  /// of them, the intercept's error at least to the response's spread
+  /// (response_spread(); the measure of the cross-check, compare_paths()).
   /// prepared_error carried through the scales, the means and the factor's
   /// inverse, plus the rounding of the means themselves (which alone sets
   /// the intercept-only start knot's error when the response's mean is

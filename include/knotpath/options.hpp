@@ -99,7 +99,8 @@ struct TraceOptions {
   std::size_t max_steps = 0;
   /// A knot is marked suspect when its estimated relative error
   /// (Knot::estimated_error: of the original-scale coefficients and
-  /// intercept, relative to the largest of them; built from the factor's
+  /// intercept, relative to the largest of them (the intercept's at least to
+  /// the response's spread, response_spread()); built from the factor's
   /// condition estimate, the measured drift of the active correlations and
   /// the rounding of the correlations, carried through the scales and
   /// means) exceeds this; default 1e-6, i.e. fewer than about six

@@ -26,7 +26,9 @@
 /// common prefix, the largest coefficient difference along the path (at the
 /// union of both paths' knot penalties, relative to the largest coefficient
 /// or intercept of the high-precision solution over the segment that holds
-/// the penalty: detail::segment_size), and the double factor's worst
+/// the penalty: detail::segment_size; the intercept's difference relative
+/// to at least the response's spread, response_spread()), and the double
+/// factor's worst
 /// condition estimate. Verdict thresholds:
 ///  - wrong:       the event sequences differ, or a coefficient differs by more
 ///                 than 1e-3 relative;
@@ -312,16 +314,22 @@ CrossCheck compare_paths(const Path<double>& low, const Path<High>& high) {
   std::vector<double> penalties;
   for (const auto& k : a) penalties.push_back(k.penalty);
   for (const auto& k : b) penalties.push_back(detail::to_double(k.penalty));
+  // The intercept's difference is relative to at least the response's
+  // spread (response_spread(), prepare.hpp).
   const std::vector<double> knot_size = detail::knot_sizes(high);
+  const double spread = response_spread(high.preparation());
   for (double lambda : penalties) {
     const auto sl = low.at_penalty(lambda);
     const auto sh = high.at_penalty(High(lambda));
-    double diff = std::abs(sl.intercept - detail::to_double(sh.intercept));
+    const double intercept_diff = std::abs(sl.intercept - detail::to_double(sh.intercept));
+    double diff = 0;
     for (Index j = 0; j < sl.coefficients.size(); ++j)
       diff = std::max(diff, std::abs(sl.coefficients(j) - detail::to_double(sh.coefficients(j))));
     const double top = std::max(detail::solution_size(sh), detail::segment_size(high, knot_size, lambda));
-    out.max_coefficient_difference =
-        std::max(out.max_coefficient_difference, top > 0 ? diff / top : diff);
+    const double measured = std::max(top > 0 ? diff / top : diff,
+                                     std::max(top, spread) > 0 ? intercept_diff / std::max(top, spread)
+                                                               : intercept_diff);
+    out.max_coefficient_difference = std::max(out.max_coefficient_difference, measured);
   }
   if (!out.same_events || out.max_coefficient_difference > VerdictThresholds::wrong_coefficient)
     out.verdict = Verdict::wrong;

@@ -62,6 +62,23 @@ struct Preparation {
   double centring_amplification = 1;
 };
 
+/// The response's spread sqrt(TSS / W) (0 without an intercept): the size
+/// below which an intercept's error is not measured relatively. An
+/// intercept is the mean of y less sum m_j beta_j, and a mean is known to
+/// the unit roundoff times the spread of what it averages, not times its
+/// own size: for a response centred by its user (mean 1e-17, spread 1) the
+/// intercept's relative digits are noise, and an error relative to it would
+/// read as 1. The one home of that floor: the per-knot estimate
+/// (Homotopy::reported_scale_error) and the cross-check's measure
+/// (compare_paths) both divide the intercept's error by max(size, spread).
+template <class Scalar>
+double response_spread(const Preparation<Scalar>& prep) {
+  if (!prep.intercept) return 0.0;
+  const double tss = std::max(detail::to_double(prep.total_sum_of_squares), 0.0);
+  const double weight = detail::to_double(prep.weight_sum);
+  return weight > 0 ? std::sqrt(tss / weight) : 0.0;
+}
+
 /// The record of a preparation before any column is looked at: the sizes,
 /// the options that shape it and the weight sum; means 0 and scales 1 until
 /// columns are kept (detail::admit_column()).
