@@ -827,4 +827,57 @@ TEST(FuzzRegression, CentringAmplificationCountsInEveryStorage) {
   expect_kkt(kp::trace_sparse<double>(Eigen::SparseMatrix<double>(shifted.sparseView()), p.y));
 }
 
+// Regression from fuzzing (stop 26's CI: fuzz_trace reported a KKT violation
+// at knot 0). Columns 3 and 4 are unpenalized, and column 4 is in the span
+// of column 3 to rounding (squared sine ~1e-19), so the start fit holds it
+// out. Its HeldOut record carries the start penalty and, by knot.hpp's
+// rule, the step of the *last* row at that penalty (here 1, another event
+// at the same lambda); column 4 is nonetheless out at knot 0 too. The
+// fuzzer's checker matched hold-outs by step and missed knot 0; it now
+// matches by penalty, and this test pins the library side of that contract.
+TEST(FuzzRegression, UnpenalizedColumnHeldOutAtTheStartIsOutAtEveryKnotOfThatPenalty) {
+  Matrix<double> x(7, 5);
+  const double a = 2.86102294921875e-05, m = -2.98023223876953125e-08, big = 272730423296;
+  x << a, big, m, m, a,
+       0.0498046875, big, m, m, 0.0498046875,
+       -2.0023435354232788e-08, 2.9569491744041443e-08, m, m, -2.0023435354232788e-08,
+       m, m, m, m, m,
+       -138, m, m, m, -138,
+       -4.6566128730773926e-09, m, m, m, -4.6566128730773926e-09,
+       -274877906944, m, m, big, -274877906944;
+  const Vector<double> y = Vector<double>::Constant(7, m);
+  kp::TraceOptions o;
+  o.with_intercept = false;
+  o.standardize = false;
+  o.storage = kp::Storage::view;
+  o.penalty_factors = {3, 3, 1.5, 0, 0};
+  o.max_active = 3;
+  const auto path = kp::trace<double>(x, y, o);
+  expect_finite_path(path);
+  const double start = path.knots().front().penalty;
+  bool column4_held = false;
+  for (const auto& h : path.held_out()) {
+    if (h.predictor != 4) continue;
+    column4_held = true;
+    EXPECT_EQ(h.penalty, start);
+    // the last row at the start penalty
+    const auto& row = path.knots()[static_cast<std::size_t>(h.step)];
+    EXPECT_EQ(row.penalty, start);
+    if (static_cast<std::size_t>(h.step) + 1 < path.knots().size()) {
+      EXPECT_LT(path.knots()[static_cast<std::size_t>(h.step) + 1].penalty, start);
+    }
+  }
+  ASSERT_TRUE(column4_held);
+  // At knot 0 column 3 carries the unpenalized fit and column 4 is not
+  // active; its correlation is within the held-out bound sin(theta) ||r||
+  // ||x_4|| with the tolerance's sine (common practice: Cauchy-Schwarz).
+  const Vector<double> b = path.dense_coefficients(0);
+  EXPECT_EQ(b(4), 0.0);
+  EXPECT_NE(b(3), 0.0);
+  const Vector<double> r = y - x * b;
+  const double c4 = x.col(4).dot(r);
+  EXPECT_GT(std::abs(c4), 0.0);  // why the checker needed the allowance
+  EXPECT_LE(std::abs(c4), std::sqrt(1e4 * std::numeric_limits<double>::epsilon()) * r.norm() * x.col(4).norm());
+}
+
 }  // namespace

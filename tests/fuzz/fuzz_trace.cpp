@@ -147,9 +147,13 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
       // sine is computed (in Gram mode as 1 - ||l||^2, absolute error about
       // eps times the condition), so the bound uses the larger of it and the
       // tolerance the rule guarantees (automatic: 1e4 eps, options.hpp).
+      // The hold-out applies to every knot at or below its penalty: a
+      // HeldOut's step is the *last* row at that penalty (knot.hpp), so an
+      // unpenalized column held out while the start fit is made is already
+      // out at knot 0 although its step may say 1 (fuzz crash of stop 26).
       double sine2 = 0;
       for (const auto& h : path.held_out())
-        if (h.predictor == prep.columns[k] && h.step <= knot.step)
+        if (h.predictor == prep.columns[k] && h.penalty >= knot.penalty)
           sine2 = std::max({sine2, h.squared_sine, 1e4 * eps});
       // With a ridge the angle and the bound live in the augmented problem
       // (Z stacked on sqrt(ridge) I, y on 0): residual (r, -sqrt(ridge) b),
