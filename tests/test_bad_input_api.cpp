@@ -174,7 +174,7 @@ TEST(BadInputApi, OptionsAndQueriesThrowTheirTypes) {
   EXPECT_THROW(path.at_penalty(-1), kp::invalid_query);
   EXPECT_THROW(path.at_penalty(std::numeric_limits<double>::quiet_NaN()), kp::invalid_query);
   EXPECT_THROW(path.at_budget(-0.5), kp::invalid_query);
-  EXPECT_THROW(path.at_fraction(1.5), kp::invalid_query);
+  EXPECT_THROW(path.at_relative_budget(1.5), kp::invalid_query);
   EXPECT_THROW(path.predict(Matrix<double>::Ones(2, 3), 1.0), kp::invalid_query);
 }
 

@@ -313,7 +313,7 @@ TEST_F(Cli, AtAgreesWithTheLibraryQueries) {
       {fmt::format("--penalty {:.17g}", lambda), path.at_penalty(lambda)},
       {fmt::format("--mu {:.17g}", lambda / std::sqrt(60.0)), path.at_penalty(lambda)},
       {fmt::format("--budget {:.17g}", budget), path.at_budget(budget)},
-      {"--fraction 0.5", path.at_fraction(0.5)},
+      {"--relative-budget 0.5", path.at_relative_budget(0.5)},
   };
   for (const auto& q : queries) {
     Outcome r = run("at t.csv --response y --drop w --csv " + q.option);
@@ -338,7 +338,7 @@ TEST_F(Cli, AtAgreesWithTheLibraryQueries) {
     EXPECT_FALSE(std::getline(s, line)) << "one line per term only";
   }
   // The aligned form names the point with its penalty and mu.
-  Outcome r = run("at t.csv --response y --drop w --fraction 0.5");
+  Outcome r = run("at t.csv --response y --drop w --relative-budget 0.5");
   ASSERT_EQ(r.code, 0) << r.err;
   EXPECT_NE(r.out.find("(mu "), std::string::npos);
   EXPECT_NE(r.out.find("(intercept)"), std::string::npos);
@@ -373,7 +373,7 @@ TEST_F(Cli, AtRefusesPointsThePathCannotAnswerAndSaysWhenAnAnswerOutsideIsExact)
   // A fraction of a stopped path's final norm is answered, and the heading
   // says whose norm that is.
   {
-    const Outcome r = run(table + floor + "--fraction 0.5");
+    const Outcome r = run(table + floor + "--relative-budget 0.5");
     ASSERT_EQ(r.code, 0) << r.err;
     EXPECT_NE(r.out.find("of the final L1 norm (the traced path stopped early: the penalty floor"),
               std::string::npos)
@@ -552,8 +552,8 @@ TEST_F(Cli, UsageAndOutputErrorsHaveTheirExitCodes) {
   EXPECT_EQ(run("trace t.csv --response y --colour red").code, 2);   // unknown option
   EXPECT_EQ(run("trace t.csv --response y --variant other").code, 2);
   EXPECT_EQ(run("at t.csv --response y").code, 2);                   // no point given
-  EXPECT_EQ(run("at t.csv --response y --penalty 1 --fraction 0.5").code, 2);
-  EXPECT_EQ(run("at t.csv --response y --fraction 1.5").code, 2);
+  EXPECT_EQ(run("at t.csv --response y --penalty 1 --relative-budget 0.5").code, 2);
+  EXPECT_EQ(run("at t.csv --response y --relative-budget 1.5").code, 2);
   EXPECT_EQ(run("trace t.csv --response y --penalty-factor a").code, 2);
   // Sign constraints need the lasso variant (TraceOptions::validate).
   Outcome sign = run("trace t.csv --response y --variant least-angle --nonnegative a");

@@ -301,7 +301,7 @@ TEST_F(CliPrecision, ExactModePrintsTheHandComputedLeastSquaresFractions) {
   EXPECT_NEAR(end["decimal"]["coefficients"]["x1"].get<double>(), 20.0 / 23.0, 1e-15);
   // `at` answers with the same fractions.
   const Outcome at = run("at small.csv --response y --precision exact --no-standardize "
-                         "--fraction 1 --csv");
+                         "--relative-budget 1 --csv");
   ASSERT_EQ(at.code, 0) << at.err;
   const auto lines = csv_rows(at.out);
   ASSERT_EQ(lines.size(), 4u);
@@ -406,11 +406,11 @@ TEST_F(CliPrecision, VerifyOnTheInventedResinTableIsNotTrustworthy) {
 // practice: the all-zero solution at lambda_max needs no solve).
 TEST_F(CliPrecision, AtWarnsWhereTheDoublePathIsSuspect) {
   write_resin_table(file("resin.csv"));
-  const Outcome end = run("at resin.csv --response hardness --fraction 1");
+  const Outcome end = run("at resin.csv --response hardness --relative-budget 1");
   ASSERT_EQ(end.code, 0) << end.err;
   EXPECT_NE(end.err.find("WARNING: SUSPECT POINT"), std::string::npos) << end.err;
   EXPECT_NE(end.err.find("knotpath verify resin.csv --response hardness"), std::string::npos) << end.err;
-  const Outcome start = run("at resin.csv --response hardness --fraction 0");
+  const Outcome start = run("at resin.csv --response hardness --relative-budget 0");
   ASSERT_EQ(start.code, 0) << start.err;
   EXPECT_EQ(start.err.find("SUSPECT"), std::string::npos) << start.err;
 }

@@ -237,7 +237,7 @@ TEST(PathCore, QueriesAtPenaltyBudgetAndFraction) {
   EXPECT_EQ(top.coefficients.cwiseAbs().maxCoeff(), 0.0);
   EXPECT_NEAR(top.intercept, prob.y.mean(), 1e-12 * std::abs(prob.y.mean()));
   EXPECT_THROW((void)path.at_penalty(-1.0), kp::invalid_query);
-  EXPECT_THROW((void)path.at_fraction(1.5), kp::invalid_query);
+  EXPECT_THROW((void)path.at_relative_budget(1.5), kp::invalid_query);
   EXPECT_THROW((void)path.at_budget(-0.1), kp::invalid_query);
   // A budget and the penalty it maps to describe the same point.
   for (double lambda : random_penalties(path.lambda_max(), 77, 20)) {
@@ -249,9 +249,9 @@ TEST(PathCore, QueriesAtPenaltyBudgetAndFraction) {
     EXPECT_NEAR(path.penalized_l1(t.coefficients), s.penalized_l1, 1e-9 * std::max(1.0, s.penalized_l1));
   }
   // Fractions of the final norm: 0 is the start, 1 the end.
-  EXPECT_EQ(path.at_fraction(0.0).coefficients.cwiseAbs().maxCoeff(), 0.0);
-  EXPECT_EQ(path.at_fraction(1.0).penalty, 0.0);
-  const auto half = path.at_fraction(0.5);
+  EXPECT_EQ(path.at_relative_budget(0.0).coefficients.cwiseAbs().maxCoeff(), 0.0);
+  EXPECT_EQ(path.at_relative_budget(1.0).penalty, 0.0);
+  const auto half = path.at_relative_budget(0.5);
   EXPECT_NEAR(half.penalized_l1, 0.5 * path.knots().back().penalized_l1, 1e-9 * path.knots().back().penalized_l1);
   // A budget beyond the final norm gives the end, flagged.
   EXPECT_TRUE(path.at_budget(2 * path.knots().back().penalized_l1).beyond_path);

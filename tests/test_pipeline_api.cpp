@@ -155,7 +155,7 @@ TEST(PathNames, CarryTheNamesAndAnswerNamedCoefficients) {
   EXPECT_EQ(path.predictor_name(1), "dose");
   EXPECT_EQ(path.predictor_index("site"), 4);
   EXPECT_THROW((void)path.predictor_index("bmi"), kp::invalid_query);
-  const auto s = path.at_fraction(0.5);
+  const auto s = path.at_relative_budget(0.5);
   const auto named = path.named_coefficients(s);
   ASSERT_FALSE(named.empty());
   for (const auto& c : named) {
@@ -188,7 +188,7 @@ TEST(PathNorms, NameThePenalizedAndThePlainNorm) {
     for (const auto& [j, v] : knot.coefficients) plain += std::abs(v);
     EXPECT_NEAR(knot.plain_l1, plain, 1e-12 * (1 + plain));
   }
-  const auto half = path.at_fraction(0.5);
+  const auto half = path.at_relative_budget(0.5);
   EXPECT_NEAR(half.plain_l1, half.coefficients.lpNorm<1>(), 1e-12 * (1 + half.plain_l1));
   EXPECT_NEAR(half.penalized_l1, path.penalized_l1(half.coefficients), 1e-12 * half.penalized_l1);
   EXPECT_GT(std::abs(half.penalized_l1 - half.plain_l1), 0.1 * half.plain_l1);
@@ -306,14 +306,14 @@ TEST(HonestEdges, AnswersBeyondAStoppedPathSaySo) {
   const auto prediction = stopped.predict(prob.x.topRows(4), 0.0);
   EXPECT_TRUE(prediction.beyond_path);
   EXPECT_EQ(prediction.penalty, stopped.knots().back().penalty);
-  EXPECT_TRUE(stopped.at_fraction(1.0).stopped_path);
-  EXPECT_FALSE(stopped.at_fraction(1.0).beyond_path);  // the last knot traced is what was asked
+  EXPECT_TRUE(stopped.at_relative_budget(1.0).stopped_path);
+  EXPECT_FALSE(stopped.at_relative_budget(1.0).beyond_path);  // the last knot traced is what was asked
   const auto many = stopped.predict_many(prob.x.topRows(4), {stopped.lambda_max(), 0.0});
   EXPECT_FALSE(many.beyond_path[0]);
   EXPECT_TRUE(many.beyond_path[1]);
   EXPECT_TRUE(many.stopped_path);
   const auto full = kp::trace<double>(prob.x, prob.y);
-  EXPECT_FALSE(full.at_fraction(1.0).stopped_path);
+  EXPECT_FALSE(full.at_relative_budget(1.0).stopped_path);
   EXPECT_FALSE(full.predict(prob.x.topRows(4), 0.0).beyond_path);
 }
 

@@ -108,7 +108,7 @@ data_set() {
     run "$dir/at-penalty.txt" at "${model[@]}" --penalty "$penalty"
     run "$dir/at-penalty-csv.txt" at "${model[@]}" --penalty "$penalty" --csv
     run "$dir/at-budget-csv.txt" at "${model[@]}" --budget "$budget" --csv
-    run "$dir/at-fraction-csv.txt" at "${model[@]}" --fraction 0.5 --csv
+    run "$dir/at-relative-budget-csv.txt" at "${model[@]}" --relative-budget 0.5 --csv
     run "$dir/at-zero-csv.txt" at "${model[@]}" --penalty 0 --csv
     if [ "$mode" = standardized ]; then
       run "$dir/select.txt" select "${model[@]}" --json "$dir/select.json" --report "$dir/select-report"
@@ -127,7 +127,7 @@ extras() {
   run "$dir/trace-least-angle.txt" trace "$table" --response yield_kg_m2 --variant least-angle \
     --knots "$dir/least-angle-knots.csv"
   run "$dir/error-no-response.txt" trace "$table" --response no_such_column
-  run "$dir/error-fraction.txt" at "$table" --response yield_kg_m2 --fraction 1.5
+  run "$dir/error-relative-budget.txt" at "$table" --response yield_kg_m2 --relative-budget 1.5
   run "$dir/error-exact-standardized.txt" trace "$table" --response yield_kg_m2 --precision exact
   printf 'y,a,b\n1,2,3\n2,NA,1\n3,1,oops\n' >"$dir/bad_cells.csv"
   run "$dir/error-bad-cells.txt" trace "$dir/bad_cells.csv" --response y

@@ -74,7 +74,7 @@ class invalid_data : public error {
 };
 
 /// A query was asked outside its domain (negative penalty or budget,
-/// fraction outside [0, 1], new rows of the wrong width, a knot that does
+/// relative budget outside [0, 1], new rows of the wrong width, a knot that does
 /// not exist).
 class invalid_query : public error {
  public:

@@ -2,7 +2,7 @@
 /// \file path.hpp
 /// \brief The traced path: its knots (one row per event), the audit of
 /// events, and exact queries at any penalty (lambda or the size-free mu), L1
-/// budget or fraction of the final L1 norm, one point or many at once, plus
+/// budget or relative budget (a share of the final L1 norm), one point or many at once, plus
 /// predictions and named coefficients.
 ///
 /// Between consecutive knots every coefficient (and the intercept) is an
@@ -53,7 +53,7 @@ struct Solution {
   /// not the point asked for.
   bool beyond_path = false;
   /// The path stopped early (Path::stopped_early()): "the end of the path"
-  /// and fractions of its final norm refer to its last knot, not to penalty 0.
+  /// and relative budgets refer to its last knot, not to penalty 0.
   bool stopped_path = false;
 };
 
@@ -304,16 +304,17 @@ class Path {
     return s;
   }
 
-  /// Solution at a fraction f in [0, 1] of the last knot's penalized L1 norm
-  /// (f = 0: the start; f = 1: the last knot, which is penalty 0 unless the
-  /// path stopped early: Solution::stopped_path says so). O(log K + p log p).
-  /// Throws invalid_query for f outside [0, 1] (or NaN).
-  Solution<Scalar> at_fraction(double fraction) const {
-    if (!(fraction >= 0.0 && fraction <= 1.0))
-      throw invalid_query("the fraction must lie in [0, 1]");
+  /// Solution at the relative budget R in [0, 1]: the L1 budget R times the
+  /// last knot's penalized L1 norm (R = 0: the start; R = 1: the last knot,
+  /// which is penalty 0 unless the path stopped early: Solution::stopped_path
+  /// says so). O(log K + p log p). Throws invalid_query for R outside [0, 1]
+  /// (or NaN).
+  Solution<Scalar> at_relative_budget(double relative) const {
+    if (!(relative >= 0.0 && relative <= 1.0))
+      throw invalid_query("the relative budget must lie in [0, 1]");
     require_knots();
-    if (fraction == 1.0) return solution_of(knots_.size() - 1);
-    return at_budget(Scalar(fraction) * knots_.back().penalized_l1);
+    if (relative == 1.0) return solution_of(knots_.size() - 1);
+    return at_budget(Scalar(relative) * knots_.back().penalized_l1);
   }
 
   /// Predictors with a nonzero coefficient at penalty lambda (ascending user

@@ -127,8 +127,8 @@ void add_precision_options(CLI::App& command, PrecisionArgs& args);
 /// Where `at` evaluates the path; each given value keeps its command-line
 /// text so that it is parsed exactly in the chosen arithmetic.
 struct PointArgs {
-  std::optional<double> penalty, mu, budget, fraction;
-  std::string penalty_text, mu_text, budget_text, fraction_text;
+  std::optional<double> penalty, mu, budget, relative_budget;
+  std::string penalty_text, mu_text, budget_text, relative_budget_text;
 };
 
 /// trace and at in an arithmetic other than double (lib/cli/precision.cpp);

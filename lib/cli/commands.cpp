@@ -35,7 +35,7 @@ struct AtArgs {
   std::optional<double>& penalty = point.penalty;
   std::optional<double>& mu = point.mu;
   std::optional<double>& budget = point.budget;
-  std::optional<double>& fraction = point.fraction;
+  std::optional<double>& relative_budget = point.relative_budget;
   bool csv = false;
 };
 
@@ -59,9 +59,9 @@ Point point_of(const Path<double>& path, const AtArgs& args) {
       p.solution = path.at_budget(*args.budget);
       p.asked = {PointKind::budget, fmt::format("L1 budget {:.17g}", *args.budget), *args.budget};
     } else {
-      p.solution = path.at_fraction(*args.fraction);
-      p.asked = {PointKind::fraction,
-                 fmt::format("fraction {:.17g} of the final L1 norm", *args.fraction), 0.0};
+      p.solution = path.at_relative_budget(*args.relative_budget);
+      p.asked = {PointKind::relative_budget,
+                 fmt::format("relative budget {:.17g} (share of the final L1 norm)", *args.relative_budget), 0.0};
     }
   } catch (const invalid_query& e) {
     throw failure(exit_usage, e.what());
@@ -159,21 +159,23 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
                        "point whose L1 norm reaches S")
           ->each(keep(args->point.budget_text))
           ->group("Point");
-  auto* fraction =
-      command->add_option("--fraction", args->fraction, "Fraction in [0, 1] of the final L1 norm")
-          ->each(keep(args->point.fraction_text))
+  auto* relative =
+      command
+          ->add_option("--relative-budget", args->relative_budget,
+                       "Relative budget R in [0, 1]: the L1 budget R times the final L1 norm")
+          ->each(keep(args->point.relative_budget_text))
           ->group("Point");
-  penalty->excludes(mu)->excludes(budget)->excludes(fraction);
-  mu->excludes(budget)->excludes(fraction);
-  budget->excludes(fraction);
+  penalty->excludes(mu)->excludes(budget)->excludes(relative);
+  mu->excludes(budget)->excludes(relative);
+  budget->excludes(relative);
   command->add_flag("--csv", args->csv, "Print predictor,coefficient lines instead of a table")
       ->group("Output");
   command->footer(
       "Example:\n"
-      "  knotpath at patients.csv --response progression --fraction 0.5 --csv\n");
+      "  knotpath at patients.csv --response progression --relative-budget 0.5 --csv\n");
   command->callback([args, &global] {
-    if (!args->penalty && !args->mu && !args->budget && !args->fraction)
-      throw failure(exit_usage, "at: give one of --penalty, --mu, --budget or --fraction");
+    if (!args->penalty && !args->mu && !args->budget && !args->relative_budget)
+      throw failure(exit_usage, "at: give one of --penalty, --mu, --budget or --relative-budget");
     if (args->precision.precision != "double" || args->precision.digits != 0) {
       global.status = at_with_precision(args->table, args->model, args->precision, args->point,
                                         args->csv, global);

@@ -140,7 +140,7 @@ CLI::App* add_demo_command(CLI::App& app, Global& global) {
               << write_report_dir(report_dir, traced.path, traced.context, &selection).front()
               << " (HTML report with charts; open it in a browser)\n";
     std::cout << "next: knotpath at " << table_file.string() << " --response " << data.response_name
-              << " --fraction 0.5\n";
+              << " --relative-budget 0.5\n";
     std::cout.flush();
     global.status = finished_status(traced.path);
   });

@@ -17,7 +17,7 @@
 namespace knotpath::cli {
 
 /// How a point was asked for (--mu is a penalty: lambda_of(mu)).
-enum class PointKind { penalty, budget, fraction };
+enum class PointKind { penalty, budget, relative_budget };
 
 /// A point asked of `at`: its words ("penalty 50", "mu 0.3", "L1 budget 4")
 /// and its value: lambda for --penalty and --mu, the budget for --budget.
@@ -105,7 +105,7 @@ PointAnswer describe_point(const Path<Scalar>& path, const Solution<Scalar>& sol
   PointAnswer answer;
   std::string words = asked.words;
   if (asked.kind == PointKind::budget) words += " (" + budget_meaning(path) + ")";
-  if (asked.kind == PointKind::fraction && path.stopped_early())
+  if (asked.kind == PointKind::relative_budget && path.stopped_early())
     words += fmt::format(" (the traced path stopped early: {})",
                          io::stop_explanation(path.stop_reason()));
   if (asked.kind == PointKind::penalty && asked.value > path.lambda_max())

@@ -83,15 +83,15 @@ int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
       solution = path.at_budget(budget);
       asked = {PointKind::budget, "L1 budget " + point.budget_text, budget};
     } else {
-      const Scalar fraction = parse_point<Scalar>(point.fraction_text, "--fraction");
-      if (!(fraction >= Scalar(0) && fraction <= Scalar(1)))
-        throw invalid_query("the fraction must lie in [0, 1]");
+      const Scalar relative = parse_point<Scalar>(point.relative_budget_text, "--relative-budget");
+      if (!(relative >= Scalar(0) && relative <= Scalar(1)))
+        throw invalid_query("the relative budget must lie in [0, 1]");
       if (path.knots().empty()) throw invalid_query("the path is empty");
-      // The fraction itself is parsed exactly (at_fraction takes a double).
-      solution = fraction == Scalar(1)
-                     ? path.at_fraction(1.0)
-                     : path.at_budget(Scalar(fraction * path.knots().back().penalized_l1));
-      asked = {PointKind::fraction, "fraction " + point.fraction_text + " of the final L1 norm",
+      // The relative budget itself is parsed exactly (at_relative_budget takes a double).
+      solution = relative == Scalar(1)
+                     ? path.at_relative_budget(1.0)
+                     : path.at_budget(Scalar(relative * path.knots().back().penalized_l1));
+      asked = {PointKind::relative_budget, "relative budget " + point.relative_budget_text + " (share of the final L1 norm)",
                Scalar(0)};
     }
   } catch (const invalid_query& e) {

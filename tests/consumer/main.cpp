@@ -20,7 +20,7 @@ static_assert(std::is_same_v<knotpath::rational, boost::multiprecision::cpp_rati
 int main() {
   const auto data = knotpath::demo::greenhouse();
   const knotpath::Path<double> path = knotpath::trace<double>(data.x, data.y);
-  const auto half = path.at_fraction(0.5);
+  const auto half = path.at_relative_budget(0.5);
   std::printf("knotpath %s: %zu knots, %zu active at half the final L1 norm\n", knotpath::version_string,
               path.knots().size(), path.active_at(half.penalty).size());
   return path.knots().size() > 2 && std::strlen(knotpath::version_string) > 0 ? 0 : 1;

@@ -28,7 +28,7 @@ int main() {
 
   const auto at = path.at_penalty(0.5 * path.lambda_max());
   const auto budget = path.at_budget(0.5);
-  const auto fraction = path.at_fraction(0.25);
+  const auto fraction = path.at_relative_budget(0.25);
   const auto active = path.active_at(at.penalty);
   const knotpath::Vector<double> fitted = path.predict(data.x, at.penalty).values;
   const auto block = path.predict_many(data.x, {at.penalty, 0.0});
