@@ -375,7 +375,7 @@ TEST_F(Cli, AtRefusesPointsThePathCannotAnswerAndSaysWhenAnAnswerOutsideIsExact)
   {
     const Outcome r = run(table + floor + "--relative-budget 0.5");
     ASSERT_EQ(r.code, 0) << r.err;
-    EXPECT_NE(r.out.find("of the final L1 norm (the traced path stopped early: the penalty floor"),
+    EXPECT_NE(r.out.find("(share of the final L1 norm) (the traced path stopped early: the penalty floor"),
               std::string::npos)
         << r.out;
   }
@@ -554,6 +554,9 @@ TEST_F(Cli, UsageAndOutputErrorsHaveTheirExitCodes) {
   EXPECT_EQ(run("at t.csv --response y").code, 2);                   // no point given
   EXPECT_EQ(run("at t.csv --response y --penalty 1 --relative-budget 0.5").code, 2);
   EXPECT_EQ(run("at t.csv --response y --relative-budget 1.5").code, 2);
+  // Names of our own (issue 19): the old spelling of the relative budget is
+  // refused, not kept as an alias.
+  EXPECT_EQ(run("at t.csv --response y --fraction 0.5").code, 2);
   EXPECT_EQ(run("trace t.csv --response y --penalty-factor a").code, 2);
   // Sign constraints need the lasso variant (TraceOptions::validate).
   Outcome sign = run("trace t.csv --response y --variant least-angle --nonnegative a");
