@@ -349,7 +349,7 @@ json data_json(const Path<Scalar>& path, const RunContext& context) {
   return data;
 }
 
-// The trace options, with the penalty factor and sign constraint of every predictor.
+// The trace options, with the penalty scale (or unpenalized, left out) and sign constraint of every predictor.
 template <class Scalar>
 json options_json(const Path<Scalar>& path, const std::vector<std::string>& names) {
   const auto& options = path.options();
@@ -358,13 +358,22 @@ json options_json(const Path<Scalar>& path, const std::vector<std::string>& name
   opts["intercept"] = options.with_intercept;
   opts["standardize"] = options.standardize;
   opts["ridge"] = options.ridge;
-  json factors = json::object();
+  json scales = json::object();
   json signs = json::object();
+  json unpenalized = json::array(), left_out = json::array();
   for (std::size_t j = 0; j < names.size(); ++j) {
-    factors[names[j]] = options.penalty_factor(j);
+    const double weight = options.penalty_weight(j);
+    if (weight == 0.0)
+      unpenalized.push_back(names[j]);
+    else if (std::isinf(weight))
+      left_out.push_back(names[j]);
+    else
+      scales[names[j]] = weight;
     signs[names[j]] = constraint_name(options.sign_constraint(j));
   }
-  opts["penalty_factors"] = factors;
+  opts["penalty_scales"] = scales;
+  opts["unpenalized"] = unpenalized;
+  opts["left_out"] = left_out;
   opts["sign_constraints"] = signs;
   opts["max_knots"] = options.max_knots;
   opts["min_penalty"] = options.min_penalty;

@@ -165,7 +165,7 @@ TEST(BadInputApi, SizesNonFiniteValuesAndWeightsThrowInvalidData) {
 TEST(BadInputApi, OptionsAndQueriesThrowTheirTypes) {
   const auto p = kp::testing::ar1_problem(30, 4, 0.3, 5);
   kp::TraceOptions o;
-  o.penalty_factors = {1, 1};  // wrong length
+  o.penalty_scales = {1, 1};  // wrong length
   EXPECT_THROW(kp::trace<double>(p.x, p.y, o), kp::invalid_option);
   o = {};
   o.ridge = std::numeric_limits<double>::quiet_NaN();
@@ -768,7 +768,7 @@ TEST(FuzzRegression, CentringAmplificationCountsInEveryStorage) {
   y << 1.1063927031522055e+74, 1.0866747906677714e-309, 0;
   kp::TraceOptions o;
   o.standardize = false;
-  o.penalty_factors = {3.5};
+  o.penalty_scales = {3.5};
   o.sign_constraints = {kp::SignConstraint::nonnegative};
   o.max_active = 1;
   const double amplification = amplification_of(x.col(0));
@@ -850,7 +850,7 @@ TEST(FuzzRegression, UnpenalizedColumnHeldOutAtTheStartIsOutAtEveryKnotOfThatPen
   o.with_intercept = false;
   o.standardize = false;
   o.storage = kp::Storage::view;
-  o.penalty_factors = {3, 3, 1.5, 0, 0};
+  kp::testing::set_penalty_weights(o, {3, 3, 1.5, 0, 0});
   o.max_active = 3;
   const auto path = kp::trace<double>(x, y, o);
   expect_finite_path(path);

@@ -166,12 +166,14 @@ TEST_F(Cli, ModelOptionsReachTheLibrary) {
   write_problem(file("t.csv"), p, w);
   {
     Outcome r = run("trace t.csv --response y --weights w --variant least-angle --no-standardize "
-                "--penalty-factor x1=0.5,x3=2 --ridge 0.1 --max-knots 4 --knots k.csv --json k.json");
+                "--penalty-scale x1=0.5,x3=2 --unpenalized x4 --ridge 0.1 --max-knots 4 --knots k.csv "
+                "--json k.json");
     ASSERT_EQ(r.code, 0) << r.err;
     knotpath::TraceOptions o;
     o.variant = knotpath::Variant::least_angle;
     o.standardize = false;
-    o.penalty_factors = {1, 0.5, 1, 2, 1, 1};
+    o.penalty_scales = {1, 0.5, 1, 2, 1, 1};
+    o.unpenalized = {4};
     o.ridge = 0.1;
     o.max_knots = 4;
     const auto path = knotpath::trace<double>(p.x, p.y, o, w);
@@ -179,7 +181,8 @@ TEST_F(Cli, ModelOptionsReachTheLibrary) {
     expect_same_path(read_knots(slurp(file("k.csv"))), path, p.names);
     const auto doc = nlohmann::json::parse(slurp(file("k.json")));
     EXPECT_EQ(doc["options"]["variant"], "least-angle");
-    EXPECT_EQ(doc["options"]["penalty_factors"]["x3"], 2.0);
+    EXPECT_EQ(doc["options"]["penalty_scales"]["x3"], 2.0);
+    EXPECT_EQ(doc["options"]["unpenalized"], nlohmann::json::array({"x4"}));
     EXPECT_EQ(doc["data"]["weights"], "w");
   }
   {
@@ -218,9 +221,9 @@ TEST_F(Cli, TheLibrarysSplitIsWhatTheProgramTraces) {
   const Vector<double> w = small_weights(p.x.rows());
   write_problem(file("t.csv"), p, w);
   {
-    // --use in its own order, a penalty factor naming a column outside it.
+    // --use in its own order, a penalty scale naming a column outside it.
     Outcome r =
-        run("trace t.csv --response y --weights w --use x4,x0,x2 --penalty-factor x3=2 "
+        run("trace t.csv --response y --weights w --use x4,x0,x2 --penalty-scale x3=2 "
             "--knots k.csv");
     ASSERT_EQ(r.code, 0) << r.err;
     knotpath::io::ColumnRoles roles;
@@ -238,7 +241,7 @@ TEST_F(Cli, TheLibrarysSplitIsWhatTheProgramTraces) {
     EXPECT_EQ(split.y, p.y);
     EXPECT_EQ(split.weights, w);
     knotpath::TraceOptions o;
-    o.penalty_factors = {1, 1, 2, 1};
+    o.penalty_scales = {1, 1, 2, 1};
     const auto path = knotpath::trace<double>(split.x, split.y, o, split.weights);
     expect_same_path(read_knots(slurp(file("k.csv"))), path, split.names);
   }
@@ -277,13 +280,13 @@ TEST_F(Cli, ColumnRoleErrorsKeepTheirMessagesAndStatuses) {
        "\"w\" is listed in --drop and used by another option", 2},
       {"t.csv --response y --use a --drop a",
        "\"a\" is listed in --drop and used by another option", 2},
-      {"t.csv --response y --penalty-factor a=2 --drop a",
+      {"t.csv --response y --penalty-scale a=2 --drop a",
        "\"a\" is listed in --drop and used by another option", 2},
       {"t.csv --response y --weights w --drop w --nonnegative a --nonpositive a",
        "\"a\" is listed in both --nonnegative and --nonpositive", 2},
       {"t.csv --response y --drop y --nonnegative a --nonpositive a",
        "the response \"y\" is also listed in --drop", 2},
-      {"t.csv --response y --weights w --penalty-factor w=2",
+      {"t.csv --response y --weights w --penalty-scale w=2",
        "\"w\" is not a predictor (it is the response or the weights)", 2},
       {"yw.csv --response y --weights w",
        "yw.csv: no numeric predictor columns besides the response", 3},
@@ -557,7 +560,12 @@ TEST_F(Cli, UsageAndOutputErrorsHaveTheirExitCodes) {
   // Names of our own (issue 19): the old spelling of the relative budget is
   // refused, not kept as an alias.
   EXPECT_EQ(run("at t.csv --response y --fraction 0.5").code, 2);
-  EXPECT_EQ(run("trace t.csv --response y --penalty-factor a").code, 2);
+  EXPECT_EQ(run("trace t.csv --response y --penalty-scale a").code, 2);
+  // A penalty scale is finite and > 0: 0 and inf have options of their own
+  // (--unpenalized, --drop), and the old spelling is refused (issue 19).
+  EXPECT_EQ(run("trace t.csv --response y --penalty-scale a=0").code, 2);
+  EXPECT_EQ(run("trace t.csv --response y --penalty-scale a=inf").code, 2);
+  EXPECT_EQ(run("trace t.csv --response y --penalty-factor a=2").code, 2);
   // Sign constraints need the lasso variant (TraceOptions::validate).
   Outcome sign = run("trace t.csv --response y --variant least-angle --nonnegative a");
   EXPECT_EQ(sign.code, 2);

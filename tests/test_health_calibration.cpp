@@ -166,7 +166,7 @@ std::vector<Case> generated_corpus() {
     for (Index i = 0; i < c.weights.size(); ++i) c.weights(i) = u(gen);
   });
   add(random_case("penalty factors (one unpenalized), 60x8", 60, 8, 0.3, 10), [](Case& c) {
-    c.options.penalty_factors = {0.0, 1.0, 2.0, 0.5, 1.0, 1.0, 3.0, 1.0};
+    kt::set_penalty_weights(c.options, {0.0, 1.0, 2.0, 0.5, 1.0, 1.0, 3.0, 1.0});
   });
   add(random_case("nonnegative coefficients, 60x8", 60, 8, 0.5, 11), [](Case& c) {
     c.options.sign_constraints.assign(8, kp::SignConstraint::nonnegative);
@@ -235,7 +235,7 @@ std::string describe(const Case& c) {
       << (c.options.with_intercept ? ", intercept" : ", no intercept")
       << (c.options.standardize ? ", standardized" : ", not standardized") << ", ridge " << c.options.ridge
       << (c.options.variant == kp::Variant::lasso ? ", lasso" : ", least angle")
-      << (c.weights.size() ? ", weights" : "") << (c.options.penalty_factors.empty() ? "" : ", factors")
+      << (c.weights.size() ? ", weights" : "") << (c.options.penalty_scales.empty() && c.options.unpenalized.empty() ? "" : ", factors")
       << (c.options.sign_constraints.empty() ? "" : ", nonnegative");
   return out.str();
 }
@@ -419,8 +419,9 @@ TEST_P(RandomSweep, EstimateBoundsTheMeasuredError) {
       for (Index i = 0; i < c.weights.size(); ++i) c.weights(i) = 0.1 + 3 * u(gen);
     }
     if (pick(gen) == 0) {
-      c.options.penalty_factors.resize(p);
-      for (auto& f : c.options.penalty_factors) f = pick(gen) == 0 ? 0.0 : 0.5 + u(gen);
+      std::vector<double> weights(p);
+      for (auto& f : weights) f = pick(gen) == 0 ? 0.0 : 0.5 + u(gen);
+      kt::set_penalty_weights(c.options, weights);
     }
     if (pick(gen) == 0) c.options.sign_constraints.assign(p, kp::SignConstraint::nonnegative);
     if (pick(gen) == 0) c.x.array() += 100 * u(gen);  // offsets: centring at work

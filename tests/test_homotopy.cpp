@@ -53,7 +53,7 @@ TEST(Homotopy, RunsOverAnOperatorBuiltByHand) {
   prep.means = kp::Vector<double>::Zero(2);
   prep.scales = kp::Vector<double>::Ones(2);
   prep.columns = {0, 1};
-  prep.penalty_factors = {1.0, 1.0};
+  prep.penalty_weights = {1.0, 1.0};
   prep.constraints = {kp::SignConstraint::none, kp::SignConstraint::none};
   kp::TraceOptions options;
   options.validate(2);

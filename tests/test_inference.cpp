@@ -98,7 +98,7 @@ kp::Preparation<double> identity_preparation(Index p) {
   prep.means = Vector<double>::Zero(p);
   prep.scales = Vector<double>::Ones(p);
   for (Index j = 0; j < p; ++j) prep.columns.push_back(j);
-  prep.penalty_factors.assign(static_cast<std::size_t>(p), 1.0);
+  prep.penalty_weights.assign(static_cast<std::size_t>(p), 1.0);
   prep.constraints.assign(static_cast<std::size_t>(p), kp::SignConstraint::none);
   return prep;
 }
@@ -309,7 +309,7 @@ TEST(Significance, UnsupportedSettingsAreRefusedWithAClearError) {
   const auto weighted = kp::trace<double>(prob.x, prob.y, {}, w);
   EXPECT_THROW(kp::entry_significance<double>(prob.x, prob.y, weighted), kp::invalid_query);
   kp::TraceOptions factors;
-  factors.penalty_factors = {1, 2, 1, 1, 1};
+  factors.penalty_scales = {1, 2, 1, 1, 1};
   EXPECT_THROW(
       kp::entry_significance<double>(prob.x, prob.y, kp::trace<double>(prob.x, prob.y, factors)),
       kp::invalid_option);

@@ -1,4 +1,4 @@
-// Modelling options of the trace: observation weights, penalty factors, sign
+// Modelling options of the trace: observation weights, penalty scales (and unpenalized, left-out predictors), sign
 // constraints, the ridge term (elastic net), stopping rules and validation.
 //
 // Every check compares the path with an independent construction (replicated
@@ -53,7 +53,8 @@ double kkt_at(const Matrix<double>& x, const Vector<double>& y, const TraceOptio
               const Path<double>& path, double lambda, const Vector<double>& w = Vector<double>()) {
   kt::Centred c = kt::centre(x, y, o.with_intercept, o.standardize, w);
   const auto sol = path.at_penalty(lambda);
-  return kt::kkt_violation(c.z, c.y, kt::to_prepared(c, sol.coefficients), lambda, o.penalty_factors, o.ridge,
+  return kt::kkt_violation(c.z, c.y, kt::to_prepared(c, sol.coefficients), lambda,
+                           kt::penalty_weights(o, static_cast<std::size_t>(x.cols())), o.ridge,
                            sign_vector(o, x.cols()));
 }
 
@@ -159,9 +160,9 @@ TEST(Weights, FractionalWeightsSatisfyWeightedKkt) {
   expect_kkt_along(prob.x, prob.y, o, path, w);
 }
 
-// ------------------------------------------------------- penalty factors
+// ------------------------------------------------------- penalty scales
 
-TEST(PenaltyFactors, SameAsRescalingColumnsByInverseFactor) {
+TEST(PenaltyScales, SameAsRescalingColumnsByInverseScale) {
   kt::Problem prob = kt::ar1_problem(40, 7, 0.4, 21);
   const std::vector<double> f{0.5, 2.0, 1.0, 3.0, 0.25, 1.5, 4.0};
   // Penalty f_j |beta_j| on column x_j equals penalty |gamma_j| on column
@@ -169,7 +170,7 @@ TEST(PenaltyFactors, SameAsRescalingColumnsByInverseFactor) {
   // rescaling is not undone by the preparation, so the two paths coincide.
   TraceOptions o;
   o.standardize = false;
-  o.penalty_factors = f;
+  o.penalty_scales = f;
   Matrix<double> xs = prob.x;
   for (Index j = 0; j < xs.cols(); ++j) xs.col(j) /= f[static_cast<std::size_t>(j)];
   TraceOptions plain;
@@ -193,7 +194,7 @@ TEST(PenaltyFactors, SameAsRescalingColumnsByInverseFactor) {
   // With standardization the factor multiplies the standardized penalty:
   // same as tracing the standardized columns divided by f_j unstandardized.
   TraceOptions os;
-  os.penalty_factors = f;
+  os.penalty_scales = f;
   const auto c = knotpath::trace<double>(prob.x, prob.y, os);
   kt::Centred cen = kt::centre(prob.x, prob.y, true, true);
   Matrix<double> zs = cen.z;
@@ -209,12 +210,12 @@ TEST(PenaltyFactors, SameAsRescalingColumnsByInverseFactor) {
   }
 }
 
-TEST(PenaltyFactors, UnpenalizedPredictorIsAlwaysInAndLambdaMaxUsesPartialResidual) {
+TEST(PenaltyScales, UnpenalizedPredictorIsAlwaysInAndLambdaMaxUsesPartialResidual) {
   kt::Problem prob = kt::ar1_problem(50, 8, 0.5, 22);
   TraceOptions o;
-  o.penalty_factors = std::vector<double>(8, 1.0);
-  o.penalty_factors[3] = 0.0;
-  o.penalty_factors[5] = 2.0;
+  o.penalty_scales = std::vector<double>(8, 1.0);
+  o.unpenalized = {3};
+  o.penalty_scales[5] = 2.0;
   const auto path = knotpath::trace<double>(prob.x, prob.y, o);
   EXPECT_EQ(path.stop_reason(), StopReason::completed);
   for (std::size_t k = 0; k < path.knots().size(); ++k)
@@ -226,7 +227,7 @@ TEST(PenaltyFactors, UnpenalizedPredictorIsAlwaysInAndLambdaMaxUsesPartialResidu
   const Vector<double> r = c.y - z3 * (z3.dot(c.y) / z3.squaredNorm());
   double lmax = 0;
   for (Index j = 0; j < 8; ++j)
-    if (j != 3) lmax = std::max(lmax, std::abs(c.z.col(j).dot(r)) / o.penalty_factors[static_cast<std::size_t>(j)]);
+    if (j != 3) lmax = std::max(lmax, std::abs(c.z.col(j).dot(r)) / o.penalty_weight(static_cast<std::size_t>(j)));
   // Two independent double computations of the same inner products: 1e-12 relative.
   EXPECT_NEAR(path.lambda_max(), lmax, 1e-12 * lmax);
   // The start knot already carries the least-squares coefficient of x3.
@@ -238,21 +239,20 @@ TEST(PenaltyFactors, UnpenalizedPredictorIsAlwaysInAndLambdaMaxUsesPartialResidu
   // stopping error on these well-conditioned designs).
   for (double lambda : random_penalties(path.lambda_max(), 5, 99)) {
     const Vector<double> b = kt::to_prepared(c, path.at_penalty(lambda).coefficients);
-    const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, o.penalty_factors);
+    const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, kt::penalty_weights(o, 8));
     EXPECT_LE((b - cd).cwiseAbs().maxCoeff(), 1e-8 * (1.0 + cd.cwiseAbs().maxCoeff()));
   }
 }
 
-TEST(PenaltyFactors, InfiniteFactorNeverEntersAndIsListed) {
+TEST(PenaltyScales, LeftOutPredictorNeverEntersAndIsListed) {
   kt::Problem prob = kt::ar1_problem(40, 6, 0.2, 23);
   TraceOptions o;
-  o.penalty_factors = std::vector<double>(6, 1.0);
-  o.penalty_factors[0] = std::numeric_limits<double>::infinity();  // x0 carries the largest true effect
+  o.left_out = {0};  // x0 carries the largest true effect
   const auto path = knotpath::trace<double>(prob.x, prob.y, o);
   for (std::size_t k = 0; k < path.knots().size(); ++k) EXPECT_EQ(path.dense_coefficients(k)(0), 0.0);
   ASSERT_EQ(path.excluded().size(), 1u);
   EXPECT_EQ(path.excluded()[0].predictor, 0);
-  EXPECT_NE(path.excluded()[0].reason.find("infinite"), std::string::npos);
+  EXPECT_NE(path.excluded()[0].reason.find("left out"), std::string::npos);
   // Same path as dropping the column. The arithmetic is the same up to the
   // order of vectorized sums over a matrix of different width, so agreement
   // is to rounding: 1e-13 relative.
@@ -265,10 +265,10 @@ TEST(PenaltyFactors, InfiniteFactorNeverEntersAndIsListed) {
   }
 }
 
-TEST(PenaltyFactors, HugeFiniteFactorKeepsPredictorOutUntilTheEnd) {
+TEST(PenaltyScales, HugeFiniteScaleKeepsPredictorOutUntilTheEnd) {
   kt::Problem prob = kt::ar1_problem(40, 5, 0.2, 24);
   TraceOptions o;
-  o.penalty_factors = {1e12, 1.0, 1.0, 1.0, 1.0};
+  o.penalty_scales = {1e12, 1.0, 1.0, 1.0, 1.0};
   const auto path = knotpath::trace<double>(prob.x, prob.y, o);
   // x0 may enter only when lambda < |c_0| / 1e12, i.e. in the last sliver of
   // the path; at any penalty above 1e-6 lambda_max it is out.
@@ -293,7 +293,7 @@ TEST(PenaltyFactors, HugeFiniteFactorKeepsPredictorOutUntilTheEnd) {
   // factor, not a huge finite one, to keep a predictor out).
   for (double f0 : {1e6, 1e10}) {
     TraceOptions of;
-    of.penalty_factors = {f0, 1.0, 1.0, 1.0, 1.0};
+    of.penalty_scales = {f0, 1.0, 1.0, 1.0, 1.0};
     const auto pf = knotpath::trace<double>(prob.x, prob.y, of);
     const Vector<double> end = kt::to_prepared(c, pf.at_penalty(0.0).coefficients);
     EXPECT_LE((end - ls).cwiseAbs().maxCoeff(), 1e3 * f0 * 2.2e-16 * ls.cwiseAbs().maxCoeff()) << f0;
@@ -337,7 +337,7 @@ TEST(SignConstraints, MixedPerPredictorAgreesWithCoordinateDescent) {
   for (double lambda : random_penalties(path.lambda_max(), 8, 5)) {
     const Vector<double> b = kt::to_prepared(c, path.at_penalty(lambda).coefficients);
     const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, {}, 0.0, s);
-    // CD stopping error (see PenaltyFactors above): 1e-8 of max |b|.
+    // CD stopping error (see PenaltyScales above): 1e-8 of max |b|.
     EXPECT_LE((b - cd).cwiseAbs().maxCoeff(), 1e-8 * (1.0 + cd.cwiseAbs().maxCoeff())) << lambda;
   }
 }
@@ -399,9 +399,9 @@ TEST(ElasticNet, RidgeWithWeightsSignsAndFactorsAgreesWithCoordinateDescent) {
   for (Index i = 0; i < 12; ++i) w(i) = u(gen);
   TraceOptions o;
   o.ridge = 0.5;
-  o.penalty_factors = std::vector<double>(20, 1.0);
-  o.penalty_factors[2] = 0.0;
-  o.penalty_factors[7] = 3.0;
+  o.penalty_scales = std::vector<double>(20, 1.0);
+  o.unpenalized = {2};
+  o.penalty_scales[7] = 3.0;
   o.sign_constraints = std::vector<SignConstraint>(20, SignConstraint::none);
   o.sign_constraints[4] = SignConstraint::nonnegative;
   o.sign_constraints[9] = SignConstraint::nonpositive;
@@ -414,7 +414,7 @@ TEST(ElasticNet, RidgeWithWeightsSignsAndFactorsAgreesWithCoordinateDescent) {
   kt::Centred c = kt::centre(prob.x, prob.y, true, true, w);
   for (double lambda : random_penalties(path.lambda_max(), 6, 23)) {
     const Vector<double> b = kt::to_prepared(c, path.at_penalty(lambda).coefficients);
-    const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, o.penalty_factors, o.ridge, sign_vector(o, 20));
+    const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, kt::penalty_weights(o, 20), o.ridge, sign_vector(o, 20));
     EXPECT_LE((b - cd).cwiseAbs().maxCoeff(), 1e-8 * (1.0 + cd.cwiseAbs().maxCoeff())) << lambda;
   }
 }
@@ -470,8 +470,7 @@ TEST(Stopping, MaxActiveIsRecordedAndNeverExceeded) {
   kt::Problem prob = kt::ar1_problem(40, 10, 0.5, 53);
   TraceOptions o;
   o.max_active = 3;
-  o.penalty_factors = std::vector<double>(10, 1.0);
-  o.penalty_factors[9] = 0.0;  // unpenalized predictors do not count
+  o.unpenalized = {9};  // unpenalized predictors do not count
   const auto path = knotpath::trace<double>(prob.x, prob.y, o);
   EXPECT_EQ(path.stop_reason(), StopReason::max_active);
   EXPECT_EQ(path.knots().back().event, knotpath::EventKind::stop);
@@ -511,12 +510,28 @@ std::string bad_field(const TraceOptions& o, Index p = 3) {
 
 TEST(Validation, EachBadOptionNamesItsField) {
   TraceOptions o;
-  o.penalty_factors = {1.0, 1.0};
-  EXPECT_EQ(bad_field(o), "penalty_factors");
-  o.penalty_factors = {1.0, -1.0, 1.0};
-  EXPECT_EQ(bad_field(o), "penalty_factors");
-  o.penalty_factors = {1.0, std::nan(""), 1.0};
-  EXPECT_EQ(bad_field(o), "penalty_factors");
+  o.penalty_scales = {1.0, 1.0};
+  EXPECT_EQ(bad_field(o), "penalty_scales");
+  o.penalty_scales = {1.0, -1.0, 1.0};
+  EXPECT_EQ(bad_field(o), "penalty_scales");
+  o.penalty_scales = {1.0, std::nan(""), 1.0};
+  EXPECT_EQ(bad_field(o), "penalty_scales");
+  // 0 and +infinity are not scales: unpenalized and left_out say those.
+  o.penalty_scales = {1.0, 0.0, 1.0};
+  EXPECT_EQ(bad_field(o), "penalty_scales");
+  o.penalty_scales = {1.0, std::numeric_limits<double>::infinity(), 1.0};
+  EXPECT_EQ(bad_field(o), "penalty_scales");
+  o = {};
+  o.unpenalized = {3};  // p = 3
+  EXPECT_EQ(bad_field(o), "unpenalized");
+  o.unpenalized = {1, 1};
+  EXPECT_EQ(bad_field(o), "unpenalized");
+  o = {};
+  o.left_out = {0, 5};
+  EXPECT_EQ(bad_field(o), "left_out");
+  o.left_out = {1};
+  o.unpenalized = {1};
+  EXPECT_EQ(bad_field(o), "left_out");
 
   o = {};
   o.sign_constraints = {SignConstraint::nonnegative, SignConstraint::none};
@@ -539,7 +554,7 @@ TEST(Validation, EachBadOptionNamesItsField) {
   // the path starts, so it cannot carry a sign constraint (neither one of its
   // own nor the single all-predictor entry).
   o = {};
-  o.penalty_factors = {1.0, 0.0, 1.0};
+  o.unpenalized = {1};
   o.sign_constraints = {SignConstraint::nonnegative};
   EXPECT_EQ(bad_field(o), "sign_constraints");
   o.sign_constraints = {SignConstraint::none, SignConstraint::nonpositive, SignConstraint::none};

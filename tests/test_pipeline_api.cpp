@@ -73,8 +73,7 @@ TEST(PathSolver, TracesTheVeryPathOfTraceInEveryStorage) {
     kp::TraceOptions options;
     options.storage = c.storage;
     options.with_intercept = c.intercept;
-    options.penalty_factors.assign(static_cast<std::size_t>(c.p), 1.0);
-    options.penalty_factors[2] = 0.0;
+    options.unpenalized = {2};
     Vector<double> w;
     if (c.weights) {
       w = Vector<double>::Ones(c.n);

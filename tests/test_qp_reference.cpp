@@ -110,13 +110,14 @@ void check_against_qp(const Case& c) {
   // solver's relative accuracy degrades as the penalty term vanishes).
   std::vector<double> penalties;
   for (int i = 0; i < 20; ++i) penalties.push_back(path.lambda_max() * (0.05 + 0.9 * i / 19.0));
-  const auto qp = qp_solutions(cen.z, cen.y, o.penalty_factors, o.ridge, signs, penalties);
+  const std::vector<double> weights = kt::penalty_weights(o, static_cast<std::size_t>(c.prob.x.cols()));
+  const auto qp = qp_solutions(cen.z, cen.y, weights, o.ridge, signs, penalties);
   ASSERT_EQ(qp.size(), penalties.size());
   for (std::size_t i = 0; i < penalties.size(); ++i) {
     const Vector<double> b = kt::to_prepared(cen, path.at_penalty(penalties[i]).coefficients);
     // KKT of the stated objective first (1e-9 of lambda: double-precision
     // rounding on well-conditioned designs, see test_options.cpp).
-    EXPECT_LE(kt::kkt_violation(cen.z, cen.y, b, penalties[i], o.penalty_factors, o.ridge, signs), 1e-9)
+    EXPECT_LE(kt::kkt_violation(cen.z, cen.y, b, penalties[i], weights, o.ridge, signs), 1e-9)
         << "penalty " << penalties[i];
     // Agreement with CVXOPT's cvxopt.solvers.qp to 1e-6 relative (the
     // issue's bound; the interior-point method, run to a 1e-12 gap, agrees to
@@ -135,7 +136,7 @@ TEST(QpReference, WeightedLassoAgreesWithCvxopt) {
   c.weights.resize(40);
   for (Index i = 0; i < 40; ++i) c.weights(i) = u(gen);
   c.weights(3) = 0.0;  // a row the solution must ignore
-  c.options.penalty_factors = {1.0, 0.5, 2.0, 1.0, 1.0, 0.0, 1.0, 1.5};
+  kt::set_penalty_weights(c.options, {1.0, 0.5, 2.0, 1.0, 1.0, 0.0, 1.0, 1.5});
   check_against_qp(c);
 }
 

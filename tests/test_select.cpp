@@ -814,8 +814,7 @@ TEST(CrossValidation, FoldsFromStatisticsEqualFoldsFromRows) {
   user.fold_of.resize(400);
   for (std::size_t i = 0; i < 400; ++i) user.fold_of[i] = i % 9 == 0 ? -1 : static_cast<long>(i % 5);
   kp::TraceOptions factors;
-  factors.penalty_factors.assign(12, 1.0);
-  factors.penalty_factors[3] = 0.0;
+  factors.unpenalized = {3};
   kp::TraceOptions factors_dense = factors;
   factors_dense.storage = kp::Storage::dense;
   expect_same_curve(kp::cross_validate<double>(prob.x, prob.y, factors, user, w),

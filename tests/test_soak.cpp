@@ -130,7 +130,7 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       held_sine = std::max(held_sine, std::sqrt(h.squared_sine));
     auto check = [&](const Vector<double>& b, double lambda, double kappa, double error,
                      bool suspect) {
-      const double v = violation(c.z, c.y, b, lambda, d.options, prep.penalty_factors);
+      const double v = violation(c.z, c.y, b, lambda, d.options, prep.penalty_weights);
       const double zmax = c.z.colwise().norm().maxCoeff();
       const double allowed =
           kTolFactor * (kEps * std::max(1.0, kappa) * zmax * (ynorm + zmax * b.lpNorm<1>()) +
@@ -171,9 +171,9 @@ TEST(Soak, RandomDesignsSatisfyKktAndMatchCoordinateDescent) {
       if (d.options.variant != kp::Variant::lasso || r > 0 || suspect) continue;
       const int sweeps =
           static_cast<int>(std::min<long>(2000, 4000000 / (xs.rows() * xs.cols() + 1)));
-      const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, prep.penalty_factors,
+      const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, prep.penalty_weights,
                                                        d.options.ridge, {}, 1e-14, sweeps);
-      if (violation(c.z, c.y, cd, lambda, d.options, prep.penalty_factors) > 1e-9 * lambda_max) {
+      if (violation(c.z, c.y, cd, lambda, d.options, prep.penalty_weights) > 1e-9 * lambda_max) {
         ++fig.cd_unconverged;
         continue;
       }

@@ -170,7 +170,7 @@ class Homotopy {
         rhs_scale_(q_ + 1),
         column_norm_(static_cast<std::size_t>(q_), 0.0),
         estimate_(detail::to_double(detail::epsilon<Scalar>()), prep.centring_amplification) {
-    for (Index k = 0; k < q_; ++k) factor_of_(k) = Scalar(prep.penalty_factors[static_cast<std::size_t>(k)]);
+    for (Index k = 0; k < q_; ++k) factor_of_(k) = Scalar(prep.penalty_weights[static_cast<std::size_t>(k)]);
     design.response_correlations(c_);
     rss_ = design.response_squared_norm();
     note_correlation_noise();

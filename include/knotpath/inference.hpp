@@ -48,7 +48,7 @@
 /// predictor improve on the current active set). Supported: the plain lasso
 /// (covariance test) and least-angle steps (spacing test: every step of a
 /// least-angle path; the steps of a lasso path before its first leave event,
-/// where the two paths agree), unweighted data, all penalty factors 1, no
+/// where the two paths agree), unweighted data, every predictor penalized alike (no penalty scales, none unpenalized), no
 /// sign constraints, no ridge. Anything else throws invalid_option.
 
 #include <algorithm>
@@ -225,11 +225,11 @@ void check_testable(const Design& design, const Path<typename Design::Scalar>& p
     throw invalid_option("noise_variance", "must be finite and > 0");
   if (path.options().ridge != 0.0)
     throw invalid_option("ridge", "the significance tests are for the plain lasso (ridge = 0)");
-  for (double f : prep.penalty_factors)
+  for (double f : prep.penalty_weights)
     if (f != 1.0)
-      throw invalid_option("penalty_factors",
-                           "the significance tests assume every predictor is penalized equally "
-                           "(all penalty factors 1)");
+      throw invalid_option("penalty_scales",
+                           "the significance tests assume every predictor is penalized alike "
+                           "(no penalty scales, no unpenalized predictors)");
   for (SignConstraint c : prep.constraints)
     if (c != SignConstraint::none)
       throw invalid_option("sign_constraints", "the significance tests assume no sign constraints");
@@ -374,10 +374,12 @@ class EntryTests {
     Preparation<Scalar> sub = prep_;
     sub.columns.clear();
     for (Index col : cols) sub.columns.push_back(prep_.columns[static_cast<std::size_t>(col)]);
-    sub.penalty_factors.assign(cols.size(), 1.0);
+    sub.penalty_weights.assign(cols.size(), 1.0);
     sub.constraints.assign(cols.size(), SignConstraint::none);
     TraceOptions reduced_options = path_.options();
-    reduced_options.penalty_factors.clear();
+    reduced_options.penalty_scales.clear();
+    reduced_options.unpenalized.clear();
+    reduced_options.left_out.clear();
     reduced_options.sign_constraints.clear();
     reduced_options.max_knots = 0;
     reduced_options.max_active = 0;

@@ -65,7 +65,7 @@ struct Knot {
   int sign = 0;               ///< +1/-1: sign of the entering coefficient, or of the leaving one before it left
   double correlation = 0;     ///< enter/leave: correlation of the (prepared) predictor with the residual
   Index active_count = 0;     ///< number of active predictors after the event (unpenalized ones included)
-  /// The penalized L1 norm sum_j f_j s_j |beta_j| (f_j the penalty factor,
+  /// The penalized L1 norm sum_j f_j s_j |beta_j| (f_j the penalty weight,
   /// s_j the column scale): the norm the objective penalizes, on the
   /// standardized scale, and the one Path::at_budget() constrains.
   Scalar penalized_l1{0};

@@ -47,7 +47,7 @@ enum class SignConstraint {
 ///                                          + 0.5 * ridge * sum_j (s_j b_j)^2
 ///
 /// with s_j the column scale (root weighted sum of squares of the centred
-/// column when standardize is on, else 1) and f_j the penalty factors.
+/// column when standardize is on, else 1) and f_j the penalty weights (TraceOptions::penalty_weight()).
 ///
 /// Weights (the one home of their meaning; everything that counts rows
 /// refers here). The weights w_i are frequency weights: a row of weight w
@@ -67,10 +67,16 @@ struct TraceOptions {
   /// Scale columns to unit length before tracing; coefficients are always
   /// reported on the original scale.
   bool standardize = true;
-  /// Per-predictor penalty factors f_j >= 0 (empty: all 1). f_j = 0 leaves the
-  /// predictor unpenalized (in the model at every penalty); f_j = +infinity
-  /// keeps it out of the model.
-  std::vector<double> penalty_factors;
+  /// Per-predictor penalty scales f_j, finite and > 0 (empty: all 1): the
+  /// penalty on predictor j is lambda f_j |b_j| (on the scale the penalty acts
+  /// on), so a scale of 2 makes it twice as costly to enter.
+  std::vector<double> penalty_scales;
+  /// Predictors (0-based) fitted without penalty: in the model at every
+  /// penalty, fitted with the intercept before the path starts (f_j = 0 in
+  /// the formulas). Distinct, and disjoint from `left_out`.
+  std::vector<std::size_t> unpenalized;
+  /// Predictors (0-based) kept out of the model (listed in Path::excluded()).
+  std::vector<std::size_t> left_out;
   /// Per-predictor sign constraints (empty: none). A single entry applies to
   /// every predictor. Requires the lasso variant.
   std::vector<SignConstraint> sign_constraints;
@@ -121,18 +127,26 @@ struct TraceOptions {
   /// Checks every field against the number of predictors `p` and throws
   /// invalid_option naming the first bad field.
   void validate(std::size_t p) const {
-    if (!penalty_factors.empty()) {
-      if (penalty_factors.size() != p)
-        throw invalid_option("penalty_factors", "has " + std::to_string(penalty_factors.size()) +
-                                                    " entries, expected " + std::to_string(p));
+    if (!penalty_scales.empty()) {
+      if (penalty_scales.size() != p)
+        throw invalid_option("penalty_scales", "has " + std::to_string(penalty_scales.size()) +
+                                                   " entries, expected " + std::to_string(p));
       for (std::size_t j = 0; j < p; ++j) {
-        double f = penalty_factors[j];
-        if (std::isnan(f) || f < 0.0)
-          throw invalid_option("penalty_factors",
-                               "entry " + std::to_string(j) + " must be >= 0 (got " +
-                                   std::to_string(f) + ")");
+        const double f = penalty_scales[j];
+        if (!std::isfinite(f) || !(f > 0.0))
+          throw invalid_option("penalty_scales",
+                               "entry " + std::to_string(j) + " must be finite and > 0 (got " +
+                                   std::to_string(f) +
+                                   "); list a predictor fitted without penalty as unpenalized, "
+                                   "one kept out as left out");
       }
     }
+    validate_index_list(unpenalized, "unpenalized", p);
+    validate_index_list(left_out, "left_out", p);
+    for (std::size_t j : unpenalized)
+      if (std::find(left_out.begin(), left_out.end(), j) != left_out.end())
+        throw invalid_option("left_out", "predictor " + std::to_string(j) +
+                                             " is also listed as unpenalized");
     if (!sign_constraints.empty() && sign_constraints.size() != 1 && sign_constraints.size() != p)
       throw invalid_option("sign_constraints", "needs 1 or " + std::to_string(p) +
                                                    " entries, got " +
@@ -144,14 +158,13 @@ struct TraceOptions {
                                "sign constraints need the lasso variant (a constrained "
                                "coefficient must leave when it reaches zero)");
     }
-    if (!sign_constraints.empty() && !penalty_factors.empty())
-      for (std::size_t j = 0; j < p; ++j)
-        if (penalty_factors[j] == 0.0 && sign_constraint(j) != SignConstraint::none)
+    if (!sign_constraints.empty())
+      for (std::size_t j : unpenalized)
+        if (sign_constraint(j) != SignConstraint::none)
           throw invalid_option("sign_constraints",
                                "predictor " + std::to_string(j) +
-                                   " is unpenalized (penalty factor 0) and is fitted by "
-                                   "unconstrained least squares before the path; it cannot "
-                                   "carry a sign constraint");
+                                   " is unpenalized and is fitted by unconstrained least squares "
+                                   "before the path; it cannot carry a sign constraint");
     if (!std::isfinite(ridge) || ridge < 0.0)
       throw invalid_option("ridge", "must be finite and >= 0");
     if (!std::isfinite(min_penalty) || min_penalty < 0.0)
@@ -165,9 +178,27 @@ struct TraceOptions {
     validate_names(p);
   }
 
-  /// Penalty factor of predictor j (1 when none were given).
-  double penalty_factor(std::size_t j) const {
-    return penalty_factors.empty() ? 1.0 : penalty_factors[j];
+  /// The penalty weight f_j the formulas use for predictor j: 0 when it is
+  /// unpenalized, +infinity when it is left out, else its penalty scale (1
+  /// when none were given). The one place the three fields combine. Costs
+  /// O(|unpenalized| + |left_out|).
+  double penalty_weight(std::size_t j) const {
+    if (std::find(unpenalized.begin(), unpenalized.end(), j) != unpenalized.end()) return 0.0;
+    if (std::find(left_out.begin(), left_out.end(), j) != left_out.end())
+      return std::numeric_limits<double>::infinity();
+    return penalty_scales.empty() ? 1.0 : penalty_scales[j];
+  }
+  /// Checks a list of predictor indices: each < p, no repeats.
+  static void validate_index_list(const std::vector<std::size_t>& list, const char* field,
+                                  std::size_t p) {
+    for (std::size_t i = 0; i < list.size(); ++i) {
+      if (list[i] >= p)
+        throw invalid_option(field, "names predictor " + std::to_string(list[i]) + ", but there are " +
+                                        std::to_string(p));
+      if (std::find(list.begin(), list.begin() + static_cast<std::ptrdiff_t>(i), list[i]) !=
+          list.begin() + static_cast<std::ptrdiff_t>(i))
+        throw invalid_option(field, "lists predictor " + std::to_string(list[i]) + " twice");
+    }
   }
   /// Checks predictor_names: empty, or p non-empty, distinct names.
   void validate_names(std::size_t p) const {

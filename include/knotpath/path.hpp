@@ -119,7 +119,7 @@ class Path {
     l1_weight_ = Vector<Scalar>::Zero(prep_.predictors);
     for (std::size_t k = 0; k < prep_.columns.size(); ++k) {
       const Index j = prep_.columns[k];
-      l1_weight_(j) = Scalar(prep_.penalty_factors[k]) * prep_.scales(j);
+      l1_weight_(j) = Scalar(prep_.penalty_weights[k]) * prep_.scales(j);
     }
     index_budgets();
   }

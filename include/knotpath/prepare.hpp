@@ -1,7 +1,7 @@
 #pragma once
 /// \file prepare.hpp
 /// \brief From the user's data to the prepared problem the homotopy traces:
-/// weighted centring, scaling to unit length, penalty factors and sign
+/// weighted centring, scaling to unit length, penalty weights and sign
 /// constraints per column, exclusion of columns that cannot enter, and the
 /// back-transformation to the original scale.
 ///
@@ -52,7 +52,7 @@ struct Preparation {
   Vector<Scalar> means;         ///< per predictor (0 without intercept or when excluded)
   Vector<Scalar> scales;        ///< per predictor s_j (1 when excluded)
   std::vector<Index> columns;   ///< prepared column k holds predictor columns[k] (ascending)
-  std::vector<double> penalty_factors;      ///< per prepared column f
+  std::vector<double> penalty_weights;      ///< per prepared column f (0: unpenalized)
   std::vector<SignConstraint> constraints;  ///< per prepared column
   std::vector<ExcludedPredictor> excluded;  ///< predictors left out up front
   /// Digits the centring can cost: max over the traced columns of
@@ -239,21 +239,21 @@ void check_data(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, co
 }
 
 /// Why column j is left out before the path starts, in the documented order
-/// (all zero, then constant under an intercept, then an infinite penalty
-/// factor), or nullptr when it may enter. Shared by every storage's
+/// (all zero, then constant under an intercept, then left out by the
+/// options), or nullptr when it may enter. Shared by every storage's
 /// preparation so that all of them exclude the same columns for the same
 /// reasons.
 inline const char* exclusion_reason(bool all_zero, bool constant, const TraceOptions& options, Index j) {
   if (all_zero) return "all-zero column";
   if (options.with_intercept && constant) return "constant column (absorbed by the intercept)";
-  if (std::isinf(options.penalty_factor(static_cast<std::size_t>(j)))) return "infinite penalty factor";
+  if (std::isinf(options.penalty_weight(static_cast<std::size_t>(j)))) return "left out by request";
   return nullptr;
 }
 
 /// Reason recorded for a column whose scale is zero or not finite.
 inline constexpr const char* unscalable_column = "column scale is zero or not representable";
 
-/// Records column j as traced: its mean and scale, penalty factor and sign
+/// Records column j as traced: its mean and scale, penalty weight and sign
 /// constraint, and folds its centring amplification into the preparation's.
 /// `spread` is ||sqrt(w) o (x_j - m_j)|| computed in two passes (the scale
 /// when standardizing; 0 when not computed, as for exact scalar types);
@@ -267,7 +267,7 @@ void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j
   prep.means(j) = mean;
   prep.scales(j) = scale;
   prep.columns.push_back(j);
-  prep.penalty_factors.push_back(options.penalty_factor(static_cast<std::size_t>(j)));
+  prep.penalty_weights.push_back(options.penalty_weight(static_cast<std::size_t>(j)));
   prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
 }
 

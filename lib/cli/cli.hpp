@@ -60,7 +60,8 @@ struct ModelArgs {
   bool no_intercept = false;
   bool no_standardize = false;
   std::string weights;
-  std::vector<std::string> penalty_factors;  // NAME=VALUE
+  std::vector<std::string> penalty_scales;  // NAME=VALUE
+  std::vector<std::string> unpenalized;     // names
   std::vector<std::string> nonnegative;      // names, or "all"
   std::vector<std::string> nonpositive;
   double ridge = 0.0;

@@ -47,9 +47,15 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
   command.add_option("--weights", args.weights, "Column of observation weights (>= 0)")
       ->group("Model");
   command
-      .add_option("--penalty-factor", args.penalty_factors,
-                  "NAME=VALUE: penalty factor of a predictor (0 = never penalized, inf = left "
-                  "out); repeat or separate with commas")
+      .add_option("--penalty-scale", args.penalty_scales,
+                  "NAME=VALUE: scale of a predictor's penalty (finite, > 0; default 1: 2 makes "
+                  "it twice as costly to enter); repeat or separate with commas")
+      ->delimiter(',')
+      ->group("Model");
+  command
+      .add_option("--unpenalized", args.unpenalized,
+                  "Predictors fitted without penalty, in the model at every penalty (names); "
+                  "--drop keeps a column out")
       ->delimiter(',')
       ->group("Model");
   command
@@ -159,13 +165,13 @@ char delimiter_char(const std::string& name) {
   return 0;
 }
 
-// A --penalty-factor item: the predictor's name and its factor.
-using Factor = std::pair<std::string, double>;
+// A --penalty-scale item: the predictor's name and its scale.
+using ScaleItem = std::pair<std::string, double>;
 
-Factor parse_factor(const std::string& item) {
+ScaleItem parse_scale(const std::string& item) {
   const auto eq = item.rfind('=');
   if (eq == std::string::npos || eq == 0 || eq + 1 == item.size())
-    throw failure(exit_usage, "--penalty-factor expects NAME=VALUE, got \"" + item + "\"");
+    throw failure(exit_usage, "--penalty-scale expects NAME=VALUE, got \"" + item + "\"");
   const std::string name = item.substr(0, eq), text = item.substr(eq + 1);
   double value = 0;
   try {
@@ -173,22 +179,25 @@ Factor parse_factor(const std::string& item) {
     value = std::stod(text, &used);
     if (used != text.size()) throw std::invalid_argument(text);
   } catch (const std::exception&) {
-    throw failure(exit_usage, "--penalty-factor " + item + ": \"" + text + "\" is not a number");
+    throw failure(exit_usage, "--penalty-scale " + item + ": \"" + text + "\" is not a number");
   }
-  if (std::isnan(value) || value < 0)
-    throw failure(exit_usage, "--penalty-factor " + item + ": the factor must be >= 0 (or inf)");
+  if (!std::isfinite(value) || !(value > 0))
+    throw failure(exit_usage, "--penalty-scale " + item +
+                                  ": the scale must be finite and > 0 (--unpenalized fits a "
+                                  "predictor without penalty, --drop leaves it out)");
   return {name, value};
 }
 
 // The roles of the table's columns the model options give: the names the
-// penalty factors and sign lists refer to are the roles' `referenced`.
-io::ColumnRoles column_roles(const ModelArgs& args, const std::vector<Factor>& factors) {
+// penalty scales, unpenalized and sign lists refer to are the roles' `referenced`.
+io::ColumnRoles column_roles(const ModelArgs& args, const std::vector<ScaleItem>& scales) {
   io::ColumnRoles roles;
   roles.response = args.response;
   roles.weights = args.weights;
   roles.use = args.use;
   roles.drop = args.drop;
-  for (const auto& [name, value] : factors) roles.referenced.push_back(name);
+  for (const auto& [name, value] : scales) roles.referenced.push_back(name);
+  for (const auto& name : args.unpenalized) roles.referenced.push_back(name);
   for (const auto& name : args.nonnegative)
     if (name != "all") roles.referenced.push_back(name);
   for (const auto& name : args.nonpositive)
@@ -291,7 +300,7 @@ void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
 }
 
 // The trace options of the model arguments for these predictors, validated.
-TraceOptions trace_options(const ModelArgs& args, const std::vector<Factor>& factors,
+TraceOptions trace_options(const ModelArgs& args, const std::vector<ScaleItem>& scales,
                            const std::vector<std::string>& predictor_names) {
   const std::size_t p = predictor_names.size();
   auto predictor_index = [&](const std::string& name) {
@@ -309,10 +318,17 @@ TraceOptions trace_options(const ModelArgs& args, const std::vector<Factor>& fac
   options.min_penalty = args.min_penalty;
   options.max_active = args.max_active;
   options.threads = args.threads;
-  if (!factors.empty()) {
-    options.penalty_factors.assign(p, 1.0);
-    for (const auto& [name, value] : factors)
-      options.penalty_factors[predictor_index(name)] = value;
+  if (!scales.empty()) {
+    options.penalty_scales.assign(p, 1.0);
+    for (const auto& [name, value] : scales) options.penalty_scales[predictor_index(name)] = value;
+  }
+  for (const auto& name : args.unpenalized) {
+    const std::size_t j = predictor_index(name);
+    if (std::find(options.unpenalized.begin(), options.unpenalized.end(), j) ==
+        options.unpenalized.end())
+      options.unpenalized.push_back(j);
+    if (!scales.empty() && options.penalty_scales[j] != 1.0)
+      throw failure(exit_usage, "\"" + name + "\" is unpenalized; it cannot also have a penalty scale");
   }
   if (contains(args.nonnegative, "all")) {
     options.sign_constraints = {SignConstraint::nonnegative};
@@ -380,15 +396,15 @@ void refuse_empty_path(const Path<double>& path, const io::RunContext& context,
 
 LoadedTable load_table(const std::string& table_path, const ModelArgs& args, const Global& global,
                        bool keep_decimal_text) {
-  std::vector<Factor> factors;
-  for (const auto& item : args.penalty_factors) factors.push_back(parse_factor(item));
-  const io::ColumnRoles roles = column_roles(args, factors);
+  std::vector<ScaleItem> scales;
+  for (const auto& item : args.penalty_scales) scales.push_back(parse_scale(item));
+  const io::ColumnRoles roles = column_roles(args, scales);
   check_model_options(roles, args);
   const io::TableReadOptions read = read_options(args, roles, keep_decimal_text);
   LoadedTable out;
   read_with_progress(out, table_path, read, global);
   describe_columns(out, roles);
-  out.options = trace_options(args, factors, out.context.predictor_names);
+  out.options = trace_options(args, scales, out.context.predictor_names);
   return out;
 }
 

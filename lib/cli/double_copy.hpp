@@ -49,7 +49,7 @@ Preparation<double> double_copy(const Preparation<Scalar>& p) {
   d.means = as_double(p.means);
   d.scales = as_double(p.scales);
   d.columns = p.columns;
-  d.penalty_factors = p.penalty_factors;
+  d.penalty_weights = p.penalty_weights;
   d.constraints = p.constraints;
   d.excluded = p.excluded;
   d.centring_amplification = p.centring_amplification;

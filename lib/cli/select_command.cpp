@@ -147,8 +147,13 @@ void set_folds_aside(SelectData& out, io::ColumnAssignment& columns, const io::T
     columns.names.erase(columns.names.begin() + at_k);
     auto& names = out.context.predictor_names;
     names.erase(names.begin() + at_k);
-    auto& factors = out.options.penalty_factors;
-    if (factors.size() == names.size() + 1) factors.erase(factors.begin() + at_k);
+    auto& scales = out.options.penalty_scales;
+    if (scales.size() == names.size() + 1) scales.erase(scales.begin() + at_k);
+    for (auto* list : {&out.options.unpenalized, &out.options.left_out}) {
+      std::erase(*list, k);
+      for (auto& j : *list)
+        if (j > k) --j;
+    }
     auto& signs = out.options.sign_constraints;
     if (signs.size() == names.size() + 1) signs.erase(signs.begin() + at_k);
   }

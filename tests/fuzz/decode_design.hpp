@@ -70,10 +70,17 @@ inline FuzzDesign decode_design(const std::uint8_t* data, std::size_t size) {
   o.storage = static_cast<Storage>((flags >> 3) % 4);  // automatic, dense, gram, view
   if (flags & 32) o.ridge = static_cast<double>(in.next()) / 64.0;
   if (flags & 64) {
-    o.penalty_factors.resize(static_cast<std::size_t>(p));
-    for (auto& f : o.penalty_factors) {
+    // One byte per predictor: 255 leaves it out, b % 8 == 0 leaves it
+    // unpenalized, else its penalty scale is (b % 8) / 2.
+    o.penalty_scales.assign(static_cast<std::size_t>(p), 1.0);
+    for (std::size_t j = 0; j < static_cast<std::size_t>(p); ++j) {
       const std::uint8_t b = in.next();
-      f = b == 255 ? std::numeric_limits<double>::infinity() : static_cast<double>(b % 8) / 2.0;
+      if (b == 255)
+        o.left_out.push_back(j);
+      else if (b % 8 == 0)
+        o.unpenalized.push_back(j);
+      else
+        o.penalty_scales[j] = static_cast<double>(b % 8) / 2.0;
     }
   }
   if (flags & 128) {

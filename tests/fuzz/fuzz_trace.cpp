@@ -98,7 +98,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   // correlation, so that term is scaled by the largest finite factor, at
   // least 1 (common practice: first-order error propagation).
   double fmax = 1;
-  for (double f : prep.penalty_factors)
+  for (double f : prep.penalty_weights)
     if (std::isfinite(f)) fmax = std::max(fmax, f);
   for (const auto& knot : path.knots()) {
     if (!std::isfinite(knot.penalty) || !std::isfinite(knot.rss) || !std::isfinite(knot.intercept))
@@ -126,7 +126,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
                            1e3 * knot.prepared_error * lambda_max * fmax;
     for (std::size_t k = 0; k < q; ++k) {
       const Index kk = static_cast<Index>(k);
-      const double f = prep.penalty_factors[k];
+      const double f = prep.penalty_weights[k];
       const kp::SignConstraint s = prep.constraints[k];
       double v;
       if (b(kk) != 0 && o.variant == kp::Variant::lasso)

@@ -22,6 +22,30 @@ namespace knotpath::testing {
 
 /// Folder of the reference datasets: $KNOTPATH_DATA_DIR, else the configured
 /// default (../shared/data beside the project root).
+/// Sets the per-predictor penalty weights f_j the formulas use (0:
+/// unpenalized, +infinity: left out, else the penalty scale) through
+/// TraceOptions' three fields, so that tests can state designs as weights.
+inline void set_penalty_weights(TraceOptions& options, const std::vector<double>& weights) {
+  options.penalty_scales.assign(weights.size(), 1.0);
+  options.unpenalized.clear();
+  options.left_out.clear();
+  for (std::size_t j = 0; j < weights.size(); ++j) {
+    if (weights[j] == 0.0)
+      options.unpenalized.push_back(j);
+    else if (std::isinf(weights[j]))
+      options.left_out.push_back(j);
+    else
+      options.penalty_scales[j] = weights[j];
+  }
+}
+
+/// The weights f_j of predictors 0..p-1 (TraceOptions::penalty_weight()).
+inline std::vector<double> penalty_weights(const TraceOptions& options, std::size_t p) {
+  std::vector<double> w(p);
+  for (std::size_t j = 0; j < p; ++j) w[j] = options.penalty_weight(j);
+  return w;
+}
+
 inline std::filesystem::path data_dir() {
   if (const char* env = std::getenv("KNOTPATH_DATA_DIR"); env && *env) return env;
   return KNOTPATH_DEFAULT_DATA_DIR;

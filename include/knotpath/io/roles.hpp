@@ -41,7 +41,7 @@ struct ColumnRoles {
   /// Columns that are never read nor used (the response, the weights and the
   /// columns in `use` or `referenced` may not be listed).
   std::vector<std::string> drop;
-  /// Further columns the caller's own settings name (e.g. penalty factors or
+  /// Further columns the caller's own settings name (e.g. penalty scales or
   /// sign constraints given by column name): they must be numeric columns,
   /// and when `use` is given they are predictors as if listed there.
   std::vector<std::string> referenced;
