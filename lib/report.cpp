@@ -520,6 +520,7 @@ std::vector<std::string> audit_notes(const Path<Scalar>& path, const RunContext&
     for (const auto& t : context.text_columns) list += (list.empty() ? "" : ", ") + t;
     notes.push_back("text columns skipped: " + list);
   }
+  for (const auto& note : context.table_notes) notes.push_back(note);
   return notes;
 }
 

@@ -9,15 +9,24 @@
 
 #include <algorithm>
 #include <charconv>
+#include <cctype>
 #include <cmath>
+#include <cstdint>
 #include <cstdlib>
 #include <cstring>
 #include <fstream>
 #include <iostream>
+#include <optional>
+#include <initializer_list>
 #include <set>
+#include <streambuf>
 #include <unordered_map>
 #include <unordered_set>
 #include <utility>
+
+#ifdef KNOTPATH_HAVE_ZLIB
+#include <zlib.h>
+#endif
 
 namespace knotpath::io {
 
@@ -80,12 +89,18 @@ std::string_view trim(std::string_view s) {
   return s;
 }
 
-enum class Parse { number, missing, text, not_finite, overflow };
+enum class Parse { number, text, not_finite, overflow };
 
-// Parses a decimal number; the whole (trimmed) cell must be consumed.
-Parse parse_number(std::string_view cell, double& value) {
-  if (cell.empty() || cell == "NA") return Parse::missing;
-  std::string_view body = cell;
+// Parses a decimal number written with the given mark; the whole (trimmed)
+// cell must be consumed. `normal` receives the text with a decimal point
+// (the cell itself for DecimalMark::point), for exact parsing later.
+Parse parse_number(std::string_view cell, DecimalMark mark, double& value, std::string& normal) {
+  normal.assign(cell);
+  if (mark == DecimalMark::comma) {
+    if (normal.find('.') != std::string::npos) return Parse::text;
+    std::replace(normal.begin(), normal.end(), ',', '.');
+  }
+  std::string_view body = normal;
   if (body.size() > 1 && body.front() == '+') body.remove_prefix(1);
   if (body.empty() || body.front() == '+') return Parse::text;
   const auto [end, ec] =
@@ -102,9 +117,25 @@ Parse parse_number(std::string_view cell, double& value) {
   return Parse::number;
 }
 
+// Whether a text cell is a number written with a decimal comma ("2,5"):
+// one comma, no point, a number once the comma is a point.
+bool reads_as_decimal_comma(std::string_view cell) {
+  if (std::count(cell.begin(), cell.end(), ',') != 1) return false;
+  double value = 0;
+  std::string normal;
+  return parse_number(cell, DecimalMark::comma, value, normal) == Parse::number;
+}
+
+bool blank(char c) {
+  return c == ' ' || c == '\t';
+}
+
+// The delimiter of a header row: the most frequent of comma, semicolon and
+// tab outside quotes (comma on a tie); whitespace when there is none of them
+// but blanks separate two names.
 char detect_delimiter(std::string_view head) {
   std::size_t comma = 0, semicolon = 0, tab = 0;
-  bool quoted = false;
+  bool quoted = false, gap_between_names = false, seen_name = false, in_gap = false;
   for (char c : head) {
     if (c == '"') quoted = !quoted;
     if (quoted) continue;
@@ -112,9 +143,17 @@ char detect_delimiter(std::string_view head) {
     if (c == ',') ++comma;
     if (c == ';') ++semicolon;
     if (c == '\t') ++tab;
+    if (blank(c)) {
+      in_gap = seen_name;
+    } else {
+      if (in_gap) gap_between_names = true;
+      seen_name = true;
+      in_gap = false;
+    }
   }
   if (semicolon > comma && semicolon >= tab) return ';';
   if (tab > comma && tab > semicolon) return '\t';
+  if (comma == 0 && semicolon == 0 && tab == 0 && gap_between_names) return ' ';
   return ',';
 }
 
@@ -158,7 +197,11 @@ std::string quoted_name(const std::string& s) {
   return "\"" + shown(s) + "\"";
 }
 
-enum class ColumnState { skipped, pending, numeric, text };
+enum class ColumnState { skipped, pending, numeric, text, indicator };
+
+bool listed_in(const std::vector<std::string>& list, const std::string& name) {
+  return std::find(list.begin(), list.end(), name) != list.end();
+}
 
 using Kind = table_error::Kind;
 using detail::CharSource;
@@ -166,19 +209,142 @@ using detail::Field;
 using detail::RecordReader;
 
 // The delimiter: the one asked for, else detected from the header row
-// (after skipping a UTF-8 byte order mark).
-char choose_delimiter(CharSource& chars, const TableReadOptions& options) {
+// (after skipping a UTF-8 byte order mark). A decimal comma rules out the
+// comma as delimiter, asked for or detected.
+char choose_delimiter(CharSource& chars, const TableReadOptions& options,
+                      const std::string& source) {
   if (options.delimiter != 0 && options.delimiter != ',' && options.delimiter != ';' &&
-      options.delimiter != '\t')
-    throw invalid_option("delimiter", "must be ',', ';' or a tab");
+      options.delimiter != '\t' && options.delimiter != ' ')
+    throw invalid_option("delimiter", "must be ',', ';', a tab or ' ' (whitespace)");
+  const bool decimal_comma = options.decimal == DecimalMark::comma;
+  if (decimal_comma && options.delimiter == ',')
+    throw invalid_option("delimiter", "cannot be a comma when the decimal mark is a comma");
   {  // UTF-8 byte order mark
     auto [data, size] = chars.lookahead(3);
     if (size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) chars.skip(3);
   }
   if (options.delimiter != 0) return options.delimiter;
   auto [data, size] = chars.lookahead(1u << 16);
-  return detect_delimiter(std::string_view(data, size));
+  const char found = detect_delimiter(std::string_view(data, size));
+  if (decimal_comma && found == ',')
+    throw table_error(table_error::Kind::content, source, 1, 0,
+                      "the header row is separated by commas, which cannot be read with a decimal "
+                      "comma (give the delimiter: semicolon, tab or whitespace)");
+  return found;
 }
+
+// Compressed formats recognised by their magic bytes (the formats' own
+// specifications: gzip RFC 1952, zip APPNOTE 4.3.7, xz file format 1.0,
+// bzip2 "BZh" + block size, zstd RFC 8878).
+enum class Packing { none, gzip, zip, xz, bzip2, zstd };
+
+Packing packing_of(CharSource& chars) {
+  auto [data, size] = chars.lookahead(6);
+  const auto* b = reinterpret_cast<const unsigned char*>(data);
+  auto starts = [&](std::initializer_list<unsigned char> magic) {
+    if (size < magic.size()) return false;
+    std::size_t k = 0;
+    for (unsigned char m : magic)
+      if (b[k++] != m) return false;
+    return true;
+  };
+  if (starts({0x1F, 0x8B})) return Packing::gzip;
+  if (starts({'P', 'K', 3, 4}) || starts({'P', 'K', 5, 6})) return Packing::zip;
+  if (starts({0xFD, '7', 'z', 'X', 'Z', 0})) return Packing::xz;
+  if (size >= 5 && starts({'B', 'Z', 'h'}) && b[3] >= '1' && b[3] <= '9' &&
+      (b[4] == 0x31 || b[4] == 0x17))
+    return Packing::bzip2;
+  if (starts({0x28, 0xB5, 0x2F, 0xFD})) return Packing::zstd;
+  return Packing::none;
+}
+
+[[noreturn]] void refuse_packing(Packing packing, const std::string& source) {
+  std::string what;
+  switch (packing) {
+    case Packing::gzip:
+      throw table_error(table_error::Kind::content, source, 0, 0,
+                        "the input is gzip-compressed and this build reads no gzip (it was built "
+                        "without zlib); decompress it first, e.g. with gunzip");
+    case Packing::zip:
+      what = "a zip archive; extract the table from it (e.g. with unzip)";
+      break;
+    case Packing::xz:
+      what = "xz-compressed; decompress it first (e.g. with unxz)";
+      break;
+    case Packing::bzip2:
+      what = "bzip2-compressed; decompress it first (e.g. with bunzip2)";
+      break;
+    case Packing::zstd:
+      what = "zstd-compressed; decompress it first (e.g. with unzstd)";
+      break;
+    case Packing::none:
+      break;
+  }
+  throw table_error(table_error::Kind::content, source, 0, 0,
+                    "the input is " + what + " and read the text table it holds");
+}
+
+#ifdef KNOTPATH_HAVE_ZLIB
+// A stream buffer that inflates gzip data taken from a CharSource (RFC 1952;
+// members written one after another are read one after another, as gunzip
+// does). Corrupt or truncated data throw table_error (kind content); the
+// istream reading it must have badbit in its exceptions() so that they
+// reach the caller.
+class GzipBuffer : public std::streambuf {
+ public:
+  GzipBuffer(CharSource& raw, std::string source)
+      : raw_(raw), source_(std::move(source)), out_(1u << 16) {
+    if (inflateInit2(&z_, 15 + 16) != Z_OK) throw std::bad_alloc();
+  }
+  ~GzipBuffer() override { inflateEnd(&z_); }
+  GzipBuffer(const GzipBuffer&) = delete;
+  GzipBuffer& operator=(const GzipBuffer&) = delete;
+
+ protected:
+  int_type underflow() override {
+    if (gptr() < egptr()) return traits_type::to_int_type(*gptr());
+    for (;;) {
+      if (z_.avail_in == 0) {
+        auto [data, size] = raw_.lookahead(1);
+        if (size == 0) {
+          if (in_member_) fail("the gzip data ends early (the file is truncated)");
+          return traits_type::eof();
+        }
+        z_.next_in = reinterpret_cast<Bytef*>(const_cast<char*>(data));
+        z_.avail_in = static_cast<uInt>(std::min<std::size_t>(size, 1u << 30));
+      }
+      const uInt offered = z_.avail_in;
+      z_.next_out = reinterpret_cast<Bytef*>(out_.data());
+      z_.avail_out = static_cast<uInt>(out_.size());
+      in_member_ = true;
+      const int rc = inflate(&z_, Z_NO_FLUSH);
+      raw_.skip(offered - z_.avail_in);
+      if (rc == Z_STREAM_END) {
+        inflateReset(&z_);
+        in_member_ = false;
+      } else if (rc != Z_OK && rc != Z_BUF_ERROR) {
+        fail(std::string("the gzip data is corrupt (") + (z_.msg ? z_.msg : "zlib error") + ")");
+      }
+      const std::size_t made = out_.size() - z_.avail_out;
+      if (made > 0) {
+        setg(out_.data(), out_.data(), out_.data() + made);
+        return traits_type::to_int_type(*gptr());
+      }
+    }
+  }
+
+ private:
+  [[noreturn]] void fail(const std::string& message) {
+    throw table_error(table_error::Kind::content, source_, 0, 0, message);
+  }
+
+  CharSource& raw_;
+  std::string source_;
+  std::vector<char> out_;
+  z_stream z_{};
+  bool in_member_ = false;
+};
+#endif
 
 // The header row: column names (trimmed, non-empty, distinct) and where each is.
 struct Header {
@@ -189,10 +355,16 @@ struct Header {
 
   std::size_t width() const { return names.size(); }
 
+  // Position of a column, if the header has it.
+  std::optional<std::size_t> lookup(const std::string& name) const {
+    if (const auto at = position.find(name); at != position.end()) return at->second;
+    return std::nullopt;
+  }
+
   // Position of a column the options name; an unknown name is an error
   // listing (the first 20 of) the header.
   std::size_t find(const std::string& name) const {
-    if (const auto at = position.find(name); at != position.end()) return at->second;
+    if (const auto at = lookup(name)) return *at;
     const std::size_t w = width();
     std::string list;
     for (std::size_t j = 0; j < w && j < 20; ++j) list += (j ? ", " : "") + shown(names[j]);
@@ -230,29 +402,54 @@ Header read_header(RecordReader& reader, std::vector<Field>& fields, const std::
   return h;
 }
 
-// Which columns are read: state per header position, and whether the
-// options asked for it (required or listed in `only`).
+// Which columns are read: state per header position, whether the options
+// asked for it (required or listed in `only`), and the indicator columns
+// the options name ("COLUMN=LEVEL"), checked once the levels are known.
 struct ColumnPlan {
   std::vector<ColumnState> state;
   std::vector<char> asked;
+  std::vector<std::pair<std::string, std::size_t>> indicators_named;  // name, source position
 };
+
+// The source column of an indicator name "COLUMN=LEVEL" when COLUMN is a
+// header column that may be expanded (listed, or any text column when all
+// text columns are). Column names may hold '=': every split is tried.
+std::optional<std::size_t> indicator_source(const Header& header, const std::string& name,
+                                            const IndicatorOptions& indicators) {
+  for (std::size_t eq = name.find('='); eq != std::string::npos; eq = name.find('=', eq + 1)) {
+    const std::string column = name.substr(0, eq);
+    const auto at = header.lookup(column);
+    if (at && (indicators.all_text || listed_in(indicators.columns, column))) return at;
+  }
+  return std::nullopt;
+}
 
 ColumnPlan select_columns(const Header& header, const TableReadOptions& options) {
   const std::size_t width = header.width();
+  const IndicatorOptions& indicators = options.indicators;
   ColumnPlan plan;
   plan.state.assign(width, options.only.empty() ? ColumnState::pending : ColumnState::skipped);
   plan.asked.assign(width, 0);
-  for (const auto& name : options.only) {
+  auto ask = [&](const std::string& name) {
+    if (!header.lookup(name)) {
+      if (const auto source = indicator_source(header, name, indicators)) {
+        if (plan.state[*source] == ColumnState::skipped) plan.state[*source] = ColumnState::pending;
+        plan.indicators_named.emplace_back(name, *source);
+        return;
+      }
+    }
     const std::size_t j = header.find(name);
     plan.state[j] = ColumnState::pending;
     plan.asked[j] = 1;
-  }
-  for (const auto& name : options.required) {
+  };
+  for (const auto& name : options.only) ask(name);
+  for (const auto& name : options.required) ask(name);
+  for (const auto& name : indicators.columns) {
     const std::size_t j = header.find(name);
-    plan.state[j] = ColumnState::pending;
-    plan.asked[j] = 1;
+    plan.state[j] = ColumnState::indicator;
   }
   for (const auto& name : options.skip) {
+    if (!header.lookup(name) && indicator_source(header, name, indicators)) continue;
     const std::size_t j = header.find(name);
     if (std::find(options.required.begin(), options.required.end(), name) == options.required.end())
       plan.state[j] = ColumnState::skipped;
@@ -260,8 +457,24 @@ ColumnPlan select_columns(const Header& header, const TableReadOptions& options)
   return plan;
 }
 
+// The levels of one text column being expanded: each distinct text gets a
+// code in order of appearance; `codes` holds one per kept row.
+struct LevelColumn {
+  std::size_t position = 0;  // in the header
+  std::vector<std::string> levels;
+  std::unordered_map<std::string, std::uint32_t> code;
+  std::vector<std::uint32_t> codes;
+};
+
+// The wording that suggests the decimal comma, appended to messages about a
+// cell that reads as a number written with one.
+const char* const decimal_comma_hint =
+    " (it reads as a number written with a decimal comma: read the table with a decimal comma, "
+    "--decimal comma)";
+
 // Reads the data rows into a table: types each pending column by its first
-// data cell, checks every cell read, drops or refuses rows with missing cells.
+// data cell, checks every cell read, drops or refuses rows with missing
+// cells, and collects the levels of the columns expanded into indicators.
 class RowReader {
  public:
   RowReader(const Header& header, ColumnPlan plan, const TableReadOptions& options, Table& table)
@@ -271,7 +484,12 @@ class RowReader {
         table_(table),
         slot_(header.width(), 0),
         row_value_(header.width(), 0.0),
-        row_has_(header.width(), 0) {}
+        row_has_(header.width(), 0),
+        row_text_(header.width()) {
+    for (const auto& token : options.missing_tokens) missing_tokens_.emplace_back(trim(token));
+    for (std::size_t j = 0; j < header.width(); ++j)
+      if (plan_.state[j] == ColumnState::indicator) start_levels(j);
+  }
 
   // Reads every row; returns the number of data rows seen (kept or dropped).
   std::size_t read(RecordReader& reader, std::vector<Field>& fields, const CharSource& chars) {
@@ -299,6 +517,18 @@ class RowReader {
   // Header position of each numeric column, in the order they were typed.
   const std::vector<std::size_t>& slot_position() const { return slot_position_; }
 
+  // Appends the indicator columns of every expanded column (at its header
+  // position, levels in byte order) and checks the indicator names asked for.
+  void make_indicators() {
+    std::unordered_set<std::string> taken(table_.names.begin(), table_.names.end());
+    for (const auto& name : header_.names) taken.insert(name);
+    std::sort(levels_.begin(), levels_.end(),
+              [](const LevelColumn& a, const LevelColumn& b) { return a.position < b.position; });
+    for (LevelColumn& column : levels_) make_indicators_of(column, taken);
+    for (const auto& [name, source] : plan_.indicators_named)
+      if (table_.find(name) < 0) refuse_indicator_name(name, source);
+  }
+
  private:
   // Parses the cells read into row_value_/row_has_; true when the row is dropped.
   bool parse_row(const std::vector<Field>& fields) {
@@ -312,43 +542,77 @@ class RowReader {
     return drop;
   }
 
+  bool missing(std::string_view cell) const { return is_missing_cell(cell, missing_tokens_); }
+
   // Cell j of a row; true when it is missing and rows with missing cells are dropped.
   bool parse_cell(std::string_view cell, std::size_t cell_line, std::size_t j) {
     const std::string& name = header_.names[j];
     auto refuse = [&](const std::string& message) {
       throw table_error(Kind::content, header_.source, cell_line, j + 1, message);
     };
+    if (missing(cell)) {
+      if (options_.missing == MissingCells::error)
+        refuse(std::string(cell.empty() ? "empty cell" : "missing value \"" + shown(cell) + "\"") +
+               " in column " + quoted_name(name) +
+               " (use --missing drop to drop incomplete rows)");
+      return true;
+    }
+    if (plan_.state[j] == ColumnState::indicator) {
+      row_text_[j].assign(cell);
+      row_has_[j] = 1;
+      return false;
+    }
     double value = 0;
-    switch (parse_number(cell, value)) {
+    switch (parse_number(cell, options_.decimal, value, row_text_[j])) {
       case Parse::number:
         row_value_[j] = value;
         row_has_[j] = 1;
         return false;
-      case Parse::missing:
-        if (options_.missing == MissingCells::error)
-          refuse(std::string(cell.empty() ? "empty cell" : "missing value \"NA\"") + " in column " +
-                 quoted_name(name) + " (use --missing drop to drop incomplete rows)");
-        return true;
       case Parse::not_finite:
         refuse("cell \"" + shown(cell) + "\" in column " + quoted_name(name) +
-               " is not a finite number (NaN and infinite values are not accepted)");
+               " is not a finite number (infinite values are not accepted)");
         return false;
       case Parse::overflow:
         refuse("cell \"" + shown(cell) + "\" in column " + quoted_name(name) +
                " is too large for a double");
         return false;
       case Parse::text:
-        if (plan_.state[j] != ColumnState::pending)
-          refuse("cell \"" + shown(cell) + "\" in numeric column " + quoted_name(name) +
-                 " is not a number");
-        if (plan_.asked[j])
-          refuse("column " + quoted_name(name) + " is a text column (its first data cell is \"" +
-                 shown(cell) + "\") but it was asked for as a number");
-        plan_.state[j] = ColumnState::text;
-        table_.text_columns.push_back(name);
-        return false;
+        return type_as_text(cell, j, refuse);
     }
     return false;
+  }
+
+  // A cell that is no number: an error in a numeric column; otherwise the
+  // column is text, or expanded into indicators when all text columns are.
+  template <class Refuse>
+  bool type_as_text(std::string_view cell, std::size_t j, const Refuse& refuse) {
+    const std::string& name = header_.names[j];
+    const bool comma_number =
+        options_.decimal == DecimalMark::point && reads_as_decimal_comma(cell);
+    if (plan_.state[j] != ColumnState::pending)
+      refuse("cell \"" + shown(cell) + "\" in numeric column " + quoted_name(name) +
+             " is not a number" + (comma_number ? decimal_comma_hint : ""));
+    if (comma_number) table_.decimal_comma_columns.push_back(name);
+    if (options_.indicators.all_text && !comma_number) {
+      start_levels(j);
+      row_text_[j].assign(cell);
+      row_has_[j] = 1;
+      return false;
+    }
+    if (plan_.asked[j])
+      refuse("column " + quoted_name(name) + " is a text column (its first data cell is \"" +
+             shown(cell) + "\") but it was asked for as a number" +
+             (comma_number ? decimal_comma_hint : ""));
+    plan_.state[j] = ColumnState::text;
+    table_.text_columns.push_back(name);
+    return false;
+  }
+
+  void start_levels(std::size_t j) {
+    plan_.state[j] = ColumnState::indicator;
+    slot_[j] = levels_.size();
+    levels_.emplace_back();
+    levels_.back().position = j;
   }
 
   // Appends the parsed values of a kept row; a pending column becomes numeric
@@ -356,6 +620,10 @@ class RowReader {
   void keep_row(const std::vector<Field>& fields) {
     for (std::size_t j = 0; j < header_.width(); ++j) {
       if (!row_has_[j]) continue;
+      if (plan_.state[j] == ColumnState::indicator) {
+        keep_level(j, fields[j].line);
+        continue;
+      }
       if (plan_.state[j] == ColumnState::pending) {
         plan_.state[j] = ColumnState::numeric;
         slot_[j] = table_.columns.size();
@@ -365,29 +633,117 @@ class RowReader {
         if (options_.keep_decimal_text) table_.decimal_text.emplace_back();
       }
       table_.columns[slot_[j]].push_back(row_value_[j]);
-      if (options_.keep_decimal_text)
-        table_.decimal_text[slot_[j]].emplace_back(trim(fields[j].text));
+      if (options_.keep_decimal_text) table_.decimal_text[slot_[j]].push_back(row_text_[j]);
     }
+  }
+
+  // Records the level of a kept row's cell j; a level beyond the limit is an error.
+  void keep_level(std::size_t j, std::size_t cell_line) {
+    LevelColumn& column = levels_[slot_[j]];
+    const std::string& text = row_text_[j];
+    auto at = column.code.find(text);
+    if (at == column.code.end()) {
+      const std::size_t limit = options_.indicators.max_levels;
+      if (column.levels.size() >= limit)
+        throw table_error(
+            Kind::content, header_.source, cell_line, j + 1,
+            "column " + quoted_name(header_.names[j]) + " has more than " +
+                std::to_string(limit) + " distinct values (this one is \"" + shown(text) +
+                "\"), too many to expand into indicator columns (the limit is --max-levels; a "
+                "column of identifiers can be left out with --drop)");
+      at = column.code.emplace(text, static_cast<std::uint32_t>(column.levels.size())).first;
+      column.levels.push_back(text);
+    }
+    column.codes.push_back(at->second);
+  }
+
+  void make_indicators_of(LevelColumn& column, std::unordered_set<std::string>& taken) {
+    const std::string& source = header_.names[column.position];
+    std::vector<std::uint32_t> order(column.levels.size());
+    for (std::uint32_t k = 0; k < order.size(); ++k) order[k] = k;
+    std::sort(order.begin(), order.end(),
+              [&](std::uint32_t a, std::uint32_t b) { return column.levels[a] < column.levels[b]; });
+    IndicatorColumn made;
+    made.source = source;
+    const bool leave_out = options_.indicators.leave_out_reference && !order.empty();
+    for (std::size_t r = 0; r < order.size(); ++r) {
+      const std::string& level = column.levels[order[r]];
+      made.levels.push_back(level);
+      if (r == 0 && leave_out) {
+        made.reference = level;
+        continue;
+      }
+      std::string name = indicator_name(source, level);
+      if (!taken.insert(name).second)
+        throw table_error(Kind::content, header_.source, header_.line, column.position + 1,
+                          "the indicator column " + quoted_name(name) + " of column " +
+                              quoted_name(source) + " has the name of another column");
+      NumericColumn values;
+      for (std::uint32_t code : column.codes) values.push_back(code == order[r] ? 1.0 : 0.0);
+      table_.columns.push_back(std::move(values));
+      table_.names.push_back(name);
+      made.names.push_back(std::move(name));
+      slot_position_.push_back(column.position);
+      if (options_.keep_decimal_text)
+        table_.decimal_text.emplace_back(column.codes.size(), std::string("0"));
+      if (options_.keep_decimal_text) {
+        auto& text = table_.decimal_text.back();
+        for (std::size_t i = 0; i < column.codes.size(); ++i)
+          if (column.codes[i] == order[r]) text[i] = "1";
+      }
+    }
+    column.codes.clear();
+    column.codes.shrink_to_fit();
+    table_.indicator_columns.push_back(std::move(made));
+  }
+
+  [[noreturn]] void refuse_indicator_name(const std::string& name, std::size_t source) {
+    const std::string& column = header_.names[source];
+    std::string why;
+    if (plan_.state[source] != ColumnState::indicator) {
+      why = "column " + quoted_name(column) + " was not expanded into indicator columns (" +
+            (plan_.state[source] == ColumnState::numeric   ? "it is numeric"
+             : plan_.state[source] == ColumnState::skipped ? "it was not read"
+                                                           : "it was kept as text") +
+            ")";
+    } else {
+      const IndicatorColumn* made = nullptr;
+      for (const auto& m : table_.indicator_columns)
+        if (m.source == column) made = &m;
+      std::string list;
+      for (const auto& level : made->levels) list += (list.empty() ? "" : ", ") + quoted_name(level);
+      why = "the levels of column " + quoted_name(column) + " are " + list;
+      if (!made->reference.empty())
+        why += "; " + quoted_name(made->reference) + " is the reference level, left out";
+    }
+    throw table_error(Kind::content, header_.source, header_.line, source + 1,
+                      "no indicator column " + quoted_name(name) + ": " + why);
   }
 
   const Header& header_;
   ColumnPlan plan_;
   const TableReadOptions& options_;
   Table& table_;
-  std::vector<std::size_t> slot_;           // numeric column index once typed
+  std::vector<std::string> missing_tokens_;  // the caller's, trimmed
+  std::vector<std::size_t> slot_;           // numeric column index once typed (levels_ index
+                                            // for an indicator column)
   std::vector<std::size_t> slot_position_;  // header position of each slot
   std::vector<double> row_value_;
   std::vector<char> row_has_;
+  std::vector<std::string> row_text_;  // decimal text (point) or level of each cell read
+  std::vector<LevelColumn> levels_;
 };
 
 // The table with its numeric columns in file order (discovery order can
-// differ when rows were dropped before a column's first value).
+// differ when rows were dropped before a column's first value); the
+// indicator columns of one text column keep their level order.
 Table in_file_order(Table& table, const std::vector<std::size_t>& slot_position,
                     bool keep_decimal_text) {
   std::vector<std::size_t> order(table.columns.size());
   for (std::size_t k = 0; k < order.size(); ++k) order[k] = k;
-  std::sort(order.begin(), order.end(),
-            [&](std::size_t a, std::size_t b) { return slot_position[a] < slot_position[b]; });
+  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
+    return slot_position[a] < slot_position[b];
+  });
   Table sorted;
   sorted.source = table.source;
   sorted.delimiter = table.delimiter;
@@ -398,19 +754,21 @@ Table in_file_order(Table& table, const std::vector<std::size_t>& slot_position,
   }
   sorted.text_columns = std::move(table.text_columns);
   sorted.skipped_columns = std::move(table.skipped_columns);
+  sorted.decimal_comma_columns = std::move(table.decimal_comma_columns);
+  sorted.indicator_columns = std::move(table.indicator_columns);
+  sorted.compression = std::move(table.compression);
   sorted.rows = table.rows;
   sorted.dropped_rows = table.dropped_rows;
   sorted.last_line = table.last_line;
   return sorted;
 }
 
-}  // namespace
-
-Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options) {
-  CharSource chars(in);
+// Reads a table from uncompressed text.
+Table read_text_table(CharSource& chars, const std::string& source,
+                      const TableReadOptions& options) {
   Table table;
   table.source = source;
-  table.delimiter = choose_delimiter(chars, options);
+  table.delimiter = choose_delimiter(chars, options, source);
   RecordReader reader(chars, source, table.delimiter);
   reader.keep_at_most(options.max_columns);
   std::vector<Field> fields;
@@ -432,9 +790,29 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
                           " rows with missing cells");
   // Columns still untyped had only missing cells in dropped rows: impossible
   // once a row was kept, so every pending column is now numeric or text.
+  rows.make_indicators();
   Table sorted = in_file_order(table, rows.slot_position(), options.keep_decimal_text);
   if (options.progress) options.progress(chars.consumed(), sorted.rows);
   return sorted;
+}
+
+}  // namespace
+
+Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options) {
+  CharSource chars(in);
+  const Packing packing = packing_of(chars);
+  if (packing == Packing::none) return read_text_table(chars, source, options);
+#ifdef KNOTPATH_HAVE_ZLIB
+  if (packing == Packing::gzip) {
+    GzipBuffer inflated(chars, source);
+    std::istream text(&inflated);
+    text.exceptions(std::ios::badbit);  // the buffer's errors reach the caller
+    Table table = read_table(text, source, options);
+    table.compression = "gzip";
+    return table;
+  }
+#endif
+  refuse_packing(packing, source);
 }
 
 Table read_table(const std::string& path, const TableReadOptions& options) {
@@ -444,6 +822,33 @@ Table read_table(const std::string& path, const TableReadOptions& options) {
     throw table_error(table_error::Kind::input_output, path, 0, 0,
                       std::string("cannot open the file: ") + std::strerror(errno));
   return read_table(file, path, options);
+}
+
+std::string indicator_name(const std::string& column, const std::string& level) {
+  return column + "=" + level;
+}
+
+bool is_missing_cell(std::string_view cell, const std::vector<std::string>& extra) {
+  if (cell.empty()) return true;
+  if (cell.size() <= 3) {  // NA, N/A, NaN and "." in any letter case
+    std::string lower(cell);
+    for (char& c : lower) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+    if (lower == "na" || lower == "n/a" || lower == "nan" || lower == ".") return true;
+  }
+  return std::find(extra.begin(), extra.end(), cell) != extra.end();
+}
+
+std::string indicator_note(const IndicatorColumn& column) {
+  std::string list;
+  for (const auto& name : column.names) list += (list.empty() ? "" : ", ") + name;
+  std::string note = "text column " + column.source + " expanded into indicator columns: " +
+                     (list.empty() ? "none" : list);
+  if (!column.reference.empty())
+    note += " (reference level \"" + column.reference +
+            "\", the first in byte order, left out: the intercept stands for it)";
+  else
+    note += " (every level has a column: without an intercept none is left out)";
+  return note;
 }
 
 // ---- Column roles (io/roles.hpp) ----
@@ -491,7 +896,15 @@ Index numeric_column(const Table& table, const std::string& name, const std::str
   if (j >= 0) return j;
   const std::string quoted = "\"" + name + "\"";
   if (listed(table.text_columns, name))
-    throw invalid_data(table.source + ": " + role + " " + quoted + " is a text column");
+    throw invalid_data(table.source + ": " + role + " " + quoted + " is a text column" +
+                       (listed(table.decimal_comma_columns, name)
+                            ? " (its cells read as numbers written with a decimal comma: read the "
+                              "table with --decimal comma)"
+                            : ""));
+  for (const auto& made : table.indicator_columns)
+    if (made.source == name)
+      throw invalid_data(table.source + ": " + role + " " + quoted +
+                         " is a text column expanded into indicator columns");
   if (listed(table.skipped_columns, name))
     throw invalid_data(table.source + ": " + role + " " + quoted +
                        " was not read (the read options skipped it)");
@@ -543,16 +956,30 @@ ColumnAssignment assign_columns(const Table& table, const ColumnRoles& roles) {
   out.response = numeric_column(table, roles.response, "the response");
   if (!roles.weights.empty()) out.weights = numeric_column(table, roles.weights, "the weights");
   for (const auto& name : roles.referenced) numeric_column(table, name, "the referenced column");
-  for (const auto& name : roles.use) numeric_column(table, name, "the column to use");
+  // A column to use may be a text column expanded into indicators: it
+  // stands for all of its indicator columns.
+  std::vector<std::string> use;
+  for (const auto& name : roles.use) {
+    const auto made = std::find_if(table.indicator_columns.begin(), table.indicator_columns.end(),
+                                   [&](const IndicatorColumn& c) { return c.source == name; });
+    if (made != table.indicator_columns.end()) {
+      append(use, made->names);
+      continue;
+    }
+    numeric_column(table, name, "the column to use");
+    use.push_back(name);
+  }
   for (const auto& name : roles.drop)
     if (table.find(name) < 0 && !listed(table.text_columns, name) &&
-        !listed(table.skipped_columns, name))
+        !listed(table.skipped_columns, name) &&
+        std::none_of(table.indicator_columns.begin(), table.indicator_columns.end(),
+                     [&](const IndicatorColumn& c) { return c.source == name; }))
       throw invalid_data(table.source + ": no column named \"" + name + "\" (listed in drop)");
   // The rule: numeric columns in table order, less the response and the
   // weights; with `use`, only those listed there or referenced; never a
   // dropped one. Sets keep it linear in the width of wide tables.
   const std::unordered_set<std::string> chosen = [&] {
-    std::unordered_set<std::string> s(roles.use.begin(), roles.use.end());
+    std::unordered_set<std::string> s(use.begin(), use.end());
     s.insert(roles.referenced.begin(), roles.referenced.end());
     return s;
   }();
@@ -567,8 +994,15 @@ ColumnAssignment assign_columns(const Table& table, const ColumnRoles& roles) {
     out.predictors.push_back(static_cast<Index>(j));
     out.names.push_back(name);
   }
-  if (out.predictors.empty())
-    throw invalid_data(table.source + ": no numeric predictor columns besides the response");
+  if (out.predictors.empty()) {
+    std::string hint;
+    for (const auto& name : table.decimal_comma_columns)
+      hint += (hint.empty() ? "" : ", ") + ("\"" + name + "\"");
+    if (!hint.empty())
+      hint = " (the text columns " + hint +
+             " hold numbers written with a decimal comma: read the table with --decimal comma)";
+    throw invalid_data(table.source + ": no numeric predictor columns besides the response" + hint);
+  }
   return out;
 }
 

@@ -78,8 +78,10 @@ struct Field {
 // Splits the input into records. Line numbers are physical lines, 1-based.
 class RecordReader {
  public:
+  // delimiter ' ' means whitespace: runs of spaces and tabs separate fields,
+  // and blanks at the start and end of a line are ignored.
   RecordReader(CharSource& source, std::string name, char delimiter)
-      : in_(source), name_(std::move(name)), delimiter_(delimiter) {}
+      : in_(source), name_(std::move(name)), delimiter_(delimiter), whitespace_(delimiter == ' ') {}
 
   // Fields past this many are parsed and counted but not kept (their text
   // goes to one scratch field), so a huge row costs no memory per field.
@@ -90,6 +92,7 @@ class RecordReader {
   bool next(std::vector<Field>& fields, std::size_t& count) {
     count = 0;
     for (;;) {  // skip blank lines
+      if (whitespace_) skip_blanks();
       const int c = in_.peek();
       if (c == '\n' || c == '\r') {
         consume_line_end();
@@ -131,7 +134,16 @@ class RecordReader {
           if (c == '\n' || (c == '\r' && in_.peek() != '\n')) ++line_;
           f.text.push_back(static_cast<char>(c));
         }
-        while (in_.peek() == ' ' && delimiter_ != ' ') in_.get();
+        if (whitespace_) {  // a run of blanks or the line end closes the field
+          const bool gap = skip_blanks();
+          c = in_.peek();
+          ++count;
+          if (c == '\n' || c == '\r' || c == end_of_input) break;
+          if (gap) continue;
+          throw table_error(table_error::Kind::content, name_, line_, count,
+                            "unexpected text after the closing quote of a quoted field");
+        }
+        while (in_.peek() == ' ') in_.get();
         c = in_.peek();
         ++count;
         if (c == delimiter_) {
@@ -145,9 +157,16 @@ class RecordReader {
       for (;;) {
         c = in_.peek();
         if (c == end_of_input || c == '\n' || c == '\r' || c == delimiter_) break;
+        if (whitespace_ && blank(c)) break;
         f.text.push_back(static_cast<char>(in_.get()));
       }
       ++count;
+      if (whitespace_) {  // trailing blanks end the record, not a field
+        skip_blanks();
+        c = in_.peek();
+        if (c == end_of_input || c == '\n' || c == '\r') break;
+        continue;
+      }
       if (c == delimiter_) {
         in_.get();
         continue;
@@ -162,6 +181,16 @@ class RecordReader {
   std::size_t line() const noexcept { return line_; }
 
  private:
+  static bool blank(int c) { return c == ' ' || c == '\t'; }
+  // Skips spaces and tabs; true when there were any.
+  bool skip_blanks() {
+    bool any = false;
+    while (blank(in_.peek())) {
+      in_.get();
+      any = true;
+    }
+    return any;
+  }
   void consume_line_end() {
     const int c = in_.peek();
     if (c == '\r') {
@@ -183,6 +212,7 @@ class RecordReader {
   CharSource& in_;
   std::string name_;
   char delimiter_;
+  bool whitespace_;
   std::size_t line_ = 1;
   std::size_t record_line_ = 1;
   std::size_t keep_ = static_cast<std::size_t>(-1);

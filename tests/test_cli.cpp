@@ -508,7 +508,7 @@ TEST_F(Cli, BadInputGivesItsMessageExitCodeAndNoOutput) {
       {"non-numeric cell", "a,b,y\n1,2,3\n4,x,5\n",
        "bad.csv, line 3, column 2: cell \"x\" in numeric column \"b\" is not a number"},
       {"empty cell", "a,b,y\n1,,3\n4,5,6\n", "bad.csv, line 2, column 2: empty cell in column \"b\""},
-      {"NaN", "a,b,y\n1,NaN,3\n4,5,6\n", "bad.csv, line 2, column 2: cell \"NaN\" in column \"b\" is not a finite number"},
+      {"NaN", "a,b,y\n1,NaN,3\n4,5,6\n", "bad.csv, line 2, column 2: missing value \"NaN\" in column \"b\""},
       {"Inf", "a,b,y\n1,2,3\n4,5,-Inf\n", "bad.csv, line 3, column 3: cell \"-Inf\" in column \"y\" is not a finite number"},
       {"ragged row", "a,b,y\n1,2,3\n4,5\n", "bad.csv, line 3, column 3: this row has 2 fields but the header has 3 (ragged row)"},
       {"duplicate names", "a,b,a,y\n1,2,3,4\n", "bad.csv, line 1, column 3: duplicate column name \"a\""},

@@ -3,9 +3,18 @@
 // "Common Format and MIME Type for CSV Files"): fields in double quotes may
 // hold delimiters and line breaks, and a doubled quote stands for one quote.
 // Semicolon/tab delimiters, the UTF-8 byte order mark (Unicode Standard,
-// section 23.8) and "NA" for a missing value are common practice.
+// section 23.8) and "NA" for a missing value are common practice; so are the
+// other missing-value tokens (N/A, NaN, "."), the decimal comma of many
+// locales and whitespace-separated columns. The gzip bytes below were written
+// by Python's gzip module (Debian python3, gzip.compress(..., mtime=0)), an
+// implementation of RFC 1952 outside the project; the magic bytes of the other
+// compressed formats are those of their specifications (zip APPNOTE 4.3.7,
+// xz file format 1.0 section 2.1.1.1, bzip2 "BZh" + level, zstd RFC 8878).
 
 #include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cstdint>
 
 #include <optional>
 #include <sstream>
@@ -18,6 +27,7 @@ namespace {
 
 using knotpath::io::ColumnAssignment;
 using knotpath::io::ColumnRoles;
+using knotpath::io::DecimalMark;
 using knotpath::io::MissingCells;
 using knotpath::io::read_table;
 using knotpath::io::role_conflict;
@@ -115,7 +125,7 @@ TEST(TableReader, ErrorsCarryLineAndColumn) {
       {"a,y\n", "no data rows", 2, 0},
       {"a,y\n1,2\n3,abc\n", "is not a number", 3, 2},
       {"a,y\n1,\n", "empty cell", 2, 2},
-      {"a,y\n1,NaN\n", "not a finite number", 2, 2},
+      {"a,y\n1,NaN\n", "missing value \"NaN\" in column \"y\"", 2, 2},
       {"a,y\n-inf,1\n", "not a finite number", 2, 1},
       {"a,y\n1e999,1\n", "too large", 2, 1},
       {"a,y\n1,2,3\n", "ragged", 2, 3},
@@ -468,3 +478,242 @@ TEST(TableReader, TakeVectorMovesOneColumn) {
 }
 
 }  // namespace
+
+namespace {
+
+std::string message_of(const std::string& text, const TableReadOptions& options = {}) {
+  return error_of(text, options).what();
+}
+
+bool contains(const std::string& text, const std::string& fragment) {
+  return text.find(fragment) != std::string::npos;
+}
+
+TableReadOptions dropping() {
+  TableReadOptions options;
+  options.missing = MissingCells::drop;
+  return options;
+}
+
+}  // namespace
+
+TEST(TableMissing, EveryBuiltInTokenInAnyRowAndLetterCaseIsMissing) {
+  // Column a's first cell is missing: it stays numeric (it was a text column
+  // before); nan in a later row is dropped like NA (it stopped the run before).
+  Table t = read_text("a,b,y\nn/a,1,2\n3,nan,4\n5,.,6\n7,N/A,8\n9,na,10\n11,NaN,12\n13,14,15\n",
+                      dropping());
+  EXPECT_EQ(t.names, (std::vector<std::string>{"a", "b", "y"}));
+  EXPECT_TRUE(t.text_columns.empty());
+  ASSERT_EQ(t.rows, 1u);
+  EXPECT_EQ(t.dropped_rows, 6u);
+  EXPECT_EQ(t.columns[0][0], 13.0);
+}
+
+TEST(TableMissing, AMissingFirstCellIsReportedWhereItIs) {
+  table_error e = error_of("a,y\nn/a,1\n2,3\n");
+  EXPECT_TRUE(contains(e.what(), "missing value \"n/a\" in column \"a\"")) << e.what();
+  EXPECT_EQ(e.line(), 2u);
+  EXPECT_EQ(e.column(), 1u);
+}
+
+TEST(TableMissing, TheCallersTokensMatchExactly) {
+  TableReadOptions options = dropping();
+  options.missing_tokens = {"-999", "unknown"};
+  Table t = read_text("a,y\n-999,1\n2, unknown \n3,4\n5,6\n", options);
+  EXPECT_EQ(t.rows, 2u);
+  EXPECT_EQ(t.dropped_rows, 2u);
+  // Case-sensitive: "Unknown" is not one of them, so it is a text cell.
+  EXPECT_TRUE(contains(message_of("a,y\n1,2\n2,Unknown\n", options), "is not a number"));
+  // "-999.0" is a number, not the token "-999".
+  Table u = read_text("a,y\n-999.0,1\n", options);
+  EXPECT_EQ(u.columns[0][0], -999.0);
+  EXPECT_TRUE(knotpath::io::is_missing_cell("N/a"));
+  EXPECT_FALSE(knotpath::io::is_missing_cell("none"));
+}
+
+TEST(TableDecimalComma, IsReadWhenAskedAndKeptAsPointText) {
+  TableReadOptions options;
+  options.decimal = DecimalMark::comma;
+  options.keep_decimal_text = true;
+  Table t = read_text("a;b;y\n1,5;2;-3,25\n0,125;1e3;7\n", options);
+  EXPECT_EQ(t.delimiter, ';');
+  ASSERT_EQ(t.names, (std::vector<std::string>{"a", "b", "y"}));
+  EXPECT_EQ(t.columns[0][0], 1.5);
+  EXPECT_EQ(t.columns[0][1], 0.125);
+  EXPECT_EQ(t.columns[2][0], -3.25);
+  EXPECT_EQ(t.columns[1][1], 1000.0);
+  EXPECT_EQ(t.decimal_text[0], (std::vector<std::string>{"1.5", "0.125"}));
+  // With a decimal comma a point is no decimal mark.
+  EXPECT_TRUE(contains(message_of("a;y\n1,5;2\n2.5;3\n", options), "is not a number"));
+  options.delimiter = ',';
+  EXPECT_THROW(read_text("a;y\n1,5;2\n", options), knotpath::invalid_option);
+  options.delimiter = 0;  // detected as comma: refused with the reason
+  EXPECT_TRUE(contains(message_of("a,y\n1,2\n", options), "separated by commas"));
+}
+
+TEST(TableDecimalComma, IsDetectedAndNamedWhenNotAsked) {
+  Table t = read_text("a;b;y\n1,5;2,0;3,25\n");
+  EXPECT_EQ(t.decimal_comma_columns, (std::vector<std::string>{"a", "b", "y"}));
+  TableReadOptions options;
+  options.required = {"y"};
+  const std::string asked = message_of("a;b;y\n1,5;2,0;3,25\n", options);
+  EXPECT_TRUE(contains(asked, "decimal comma")) << asked;
+  // The predictors' rule says why none is left (it said only "no numeric
+  // predictor columns" before).
+  Table u = read_text("a;b;y\n1,5;2,0;3\n");
+  ColumnRoles roles;
+  roles.response = "y";
+  try {
+    knotpath::io::assign_columns(u, roles);
+    ADD_FAILURE() << "no error";
+  } catch (const knotpath::invalid_data& e) {
+    EXPECT_TRUE(contains(e.what(), "no numeric predictor columns")) << e.what();
+    EXPECT_TRUE(contains(e.what(), "--decimal comma")) << e.what();
+  }
+  // A later cell with a decimal comma in a numeric column says so too.
+  EXPECT_TRUE(contains(message_of("a;y\n1;2\n2,5;3\n"), "decimal comma"));
+}
+
+TEST(TableWhitespace, RunsOfBlanksSeparateFieldsWhenDetectedOrGiven) {
+  // Tabs in the header would make it tab-separated; in the rows they are blanks.
+  Table t = read_text("  a   \"b c\"  y  \n 1  2\t3 \n   \n4 \"5\" 6\n");
+  EXPECT_EQ(t.delimiter, ' ');
+  ASSERT_EQ(t.names, (std::vector<std::string>{"a", "b c", "y"}));
+  ASSERT_EQ(t.rows, 2u);
+  EXPECT_EQ(t.columns[1][1], 5.0);
+  EXPECT_EQ(t.columns[2][0], 3.0);
+  TableReadOptions given = dropping();
+  given.delimiter = ' ';
+  Table g = read_text("a y\n1 NA\n2 3\n", given);
+  EXPECT_EQ(g.names, (std::vector<std::string>{"a", "y"}));
+  EXPECT_EQ(g.dropped_rows, 1u);
+  EXPECT_TRUE(contains(message_of("a y\n1 2 3\n", given), "ragged"));
+  // A single name is no whitespace table; commas still win over blanks.
+  EXPECT_EQ(read_text("a b,y\n1,2\n").delimiter, ',');
+}
+
+TEST(TableCompressed, OtherFormatsAreNamedWithoutQuotingTheirBytes) {
+  struct Case {
+    std::string bytes, format;
+  };
+  const Case cases[] = {
+      {std::string("PK\x03\x04\x14\x00\x00\x00", 8), "zip archive"},
+      {std::string("\xFD" "7zXZ\x00\x00\x04", 8), "xz-compressed"},
+      {std::string("BZh91AY&SY\x01\x02", 12), "bzip2-compressed"},
+      {std::string("\x28\xB5\x2F\xFD\x00\x58", 6), "zstd-compressed"},
+  };
+  for (const Case& c : cases) {
+    const std::string m = message_of(c.bytes);
+    EXPECT_TRUE(contains(m, c.format)) << m;
+    EXPECT_TRUE(std::all_of(m.begin(), m.end(), [](char ch) { return ch >= 0x20 && ch < 0x7F; }))
+        << m;
+    EXPECT_FALSE(contains(m, "\\x")) << m;
+  }
+  // A header that merely starts like a magic number is a table.
+  EXPECT_EQ(read_text("BZh,y\n1,2\n").names, (std::vector<std::string>{"BZh", "y"}));
+}
+
+namespace {
+
+// "a,y\n1,2\n3,4.5\n" as written by Python's gzip module (see the file's head).
+const unsigned char gzip_table[] = {
+    0x1F, 0x8B, 0x08, 0x00, 0x00, 0x00, 0x00, 0x00, 0x02, 0x03, 0x4B, 0xD4,
+    0xA9, 0xE4, 0x32, 0xD4, 0x31, 0xE2, 0x32, 0xD6, 0x31, 0xD1, 0x33, 0xE5,
+    0x02, 0x00, 0x3A, 0x0D, 0x2C, 0xBB, 0x0E, 0x00, 0x00, 0x00};
+
+std::string gzip_bytes() {
+  return std::string(reinterpret_cast<const char*>(gzip_table), sizeof gzip_table);
+}
+
+}  // namespace
+
+TEST(TableCompressed, GzipIsReadDirectlyOrRefusedByName) {
+  const std::string gz = gzip_bytes();
+#ifdef KNOTPATH_HAVE_ZLIB
+  Table t = read_text(gz);
+  EXPECT_EQ(t.compression, "gzip");
+  ASSERT_EQ(t.names, (std::vector<std::string>{"a", "y"}));
+  ASSERT_EQ(t.rows, 2u);
+  EXPECT_EQ(t.columns[1][1], 4.5);
+  // Two members one after the other read as one text (as gunzip does): the
+  // second repeats the data rows... and its header, a text cell in "a".
+  EXPECT_TRUE(contains(message_of(gz + gz), "line 4, column 1"));
+  // Truncated and corrupt data are content errors.
+  EXPECT_TRUE(contains(message_of(gz.substr(0, gz.size() - 6)), "truncated"));
+  std::string corrupt = gz;
+  corrupt[12] = static_cast<char>(corrupt[12] ^ 0x55);
+  EXPECT_EQ(error_of(corrupt).kind(), table_error::Kind::content);
+#else
+  EXPECT_TRUE(contains(message_of(gz), "gzip-compressed")) << message_of(gz);
+#endif
+}
+
+TEST(TableIndicators, AListedColumnGetsOneColumnPerLevelButTheReference) {
+  TableReadOptions options;
+  options.indicators.columns = {"smoker", "region"};
+  options.keep_decimal_text = true;
+  Table t = read_text(
+      "age,smoker,region,y\n30,yes,north,1\n40,no,south,2\n50,yes,east,3\n60,no,north,4\n",
+      options);
+  ASSERT_EQ(t.names, (std::vector<std::string>{"age", "smoker=yes", "region=north",
+                                               "region=south", "y"}));
+  ASSERT_EQ(t.rows, 4u);
+  const double yes[] = {1, 0, 1, 0}, south[] = {0, 1, 0, 0};
+  for (std::size_t i = 0; i < 4; ++i) {
+    EXPECT_EQ(t.columns[1][i], yes[i]);
+    EXPECT_EQ(t.columns[3][i], south[i]);
+  }
+  EXPECT_EQ(t.decimal_text[1], (std::vector<std::string>{"1", "0", "1", "0"}));
+  ASSERT_EQ(t.indicator_columns.size(), 2u);
+  EXPECT_EQ(t.indicator_columns[0].source, "smoker");
+  EXPECT_EQ(t.indicator_columns[0].reference, "no");
+  EXPECT_EQ(t.indicator_columns[1].reference, "east");  // first in byte order
+  EXPECT_TRUE(contains(knotpath::io::indicator_note(t.indicator_columns[0]), "\"no\""));
+  // Without a reference left out every level has a column.
+  TableReadOptions every_level;
+  every_level.indicators.columns = {"smoker"};
+  every_level.indicators.leave_out_reference = false;
+  Table all = read_text("smoker,y\nyes,1\nno,2\n", every_level);
+  EXPECT_EQ(all.names, (std::vector<std::string>{"smoker=no", "smoker=yes", "y"}));
+  EXPECT_TRUE(all.indicator_columns[0].reference.empty());
+}
+
+TEST(TableIndicators, AllTextColumnsMissingCellsAndTheLevelLimit) {
+  TableReadOptions options = dropping();
+  options.indicators.all_text = true;
+  Table t = read_text("flag,a,y\nNA,1,2\nTRUE,2,3\nFALSE,3,4\nTRUE,4,5\n", options);
+  EXPECT_EQ(t.names, (std::vector<std::string>{"flag=TRUE", "a", "y"}));
+  EXPECT_EQ(t.dropped_rows, 1u);
+  EXPECT_EQ(t.indicator_columns.at(0).reference, "FALSE");
+  // A decimal-comma column is not mistaken for levels.
+  Table c = read_text("a;y\n1,5;2\n2,5;3\n", options);
+  EXPECT_TRUE(c.indicator_columns.empty());
+  EXPECT_EQ(c.decimal_comma_columns, (std::vector<std::string>{"a"}));
+  options.indicators.max_levels = 2;
+  table_error e = error_of("id,y\nu1,1\nu2,2\nu3,3\n", options);
+  EXPECT_TRUE(contains(e.what(), "more than 2 distinct values")) << e.what();
+  EXPECT_EQ(e.line(), 4u);
+  EXPECT_EQ(e.column(), 1u);
+}
+
+TEST(TableIndicators, IndicatorNamesCanBeRequiredAndUnknownLevelsAreNamed) {
+  TableReadOptions options;
+  options.indicators.columns = {"smoker"};
+  options.required = {"smoker=yes", "y"};
+  Table t = read_text("smoker,y\nyes,1\nno,2\n", options);
+  EXPECT_GE(t.find("smoker=yes"), 0);
+  options.required = {"smoker=maybe"};
+  const std::string m = message_of("smoker,y\nyes,1\nno,2\n", options);
+  EXPECT_TRUE(contains(m, "no indicator column \"smoker=maybe\"")) << m;
+  options.required = {"smoker=no"};
+  EXPECT_TRUE(contains(message_of("smoker,y\nyes,1\nno,2\n", options), "reference level"));
+  // Using the text column's name uses all of its indicator columns.
+  TableReadOptions plain;
+  plain.indicators.columns = {"smoker"};
+  Table u = read_text("a,smoker,y\n1,yes,1\n2,no,2\n3,yes,5\n", plain);
+  ColumnRoles roles;
+  roles.response = "y";
+  roles.use = {"smoker"};
+  const ColumnAssignment chosen = knotpath::io::assign_columns(u, roles);
+  EXPECT_EQ(chosen.names, (std::vector<std::string>{"smoker=yes"}));
+}

@@ -8,7 +8,7 @@ packages=(
   g++ cmake make
   libeigen3-dev libboost-dev libgmp-dev libmpfr-dev
   libgtest-dev libbenchmark-dev
-  libcli11-dev libfmt-dev nlohmann-json3-dev
+  libcli11-dev libfmt-dev nlohmann-json3-dev zlib1g-dev
   libtinyxml2-dev libpng-dev librsvg2-bin pkg-config
   python3 python3-cvxopt python3-numpy doxygen
   clang libclang-rt-14-dev

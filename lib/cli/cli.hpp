@@ -72,9 +72,23 @@ struct ModelArgs {
   std::size_t max_active = 0;
   std::string delimiter = "auto";
   std::string missing = "error";
+  std::vector<std::string> na_tokens;   // --na: further cell texts that mean missing
+  std::string decimal = "point";        // --decimal point|comma
+  std::vector<std::string> indicators;  // --indicators: text columns to expand, or "all"
+  std::size_t max_levels = 20;          // --max-levels of one expanded column
   std::size_t max_columns = 100000;  // reader's limit on header width
   std::size_t threads = 1;           // TraceOptions::threads (select: also the folds)
 };
+
+/// The items of a list option's values (--use, --drop, --na, --indicators,
+/// --nonnegative, --nonpositive, --penalty-scale, --unpenalized, ...), the one home of the
+/// quoting rule: items are separated by commas; a comma inside double quotes
+/// belongs to the item, the quotes are removed, and "" inside quotes is one
+/// quote character. So --drop '"height, cm",age' names two columns. Each
+/// value of a repeated option is split the same way. An empty item or an
+/// unclosed quote is failure(exit_usage) naming `option`.
+std::vector<std::string> split_list(const std::vector<std::string>& values,
+                                    const std::string& option);
 
 /// Adds the table-reading and model options to a command.
 void add_model_options(CLI::App& command, ModelArgs& args);

@@ -50,32 +50,26 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
       .add_option("--penalty-scale", args.penalty_scales,
                   "NAME=VALUE: scale of a predictor's penalty (finite, > 0; default 1: 2 makes "
                   "it twice as costly to enter); repeat or separate with commas")
-      ->delimiter(',')
       ->group("Model");
   command
       .add_option("--unpenalized", args.unpenalized,
                   "Predictors fitted without penalty, in the model at every penalty (names); "
                   "--drop keeps a column out")
-      ->delimiter(',')
       ->group("Model");
   command
       .add_option("--nonnegative", args.nonnegative,
                   "Predictors whose coefficient must be >= 0 (names, or all)")
-      ->delimiter(',')
       ->group("Model");
   command
       .add_option("--nonpositive", args.nonpositive,
                   "Predictors whose coefficient must be <= 0 (names, or all)")
-      ->delimiter(',')
       ->group("Model");
   command.add_option("--ridge", args.ridge, "Ridge weight (elastic net); 0 = plain lasso")
       ->check(CLI::NonNegativeNumber)
       ->group("Model");
   command.add_option("--use", args.use, "Use only these predictors (names, comma separated)")
-      ->delimiter(',')
       ->group("Model");
   command.add_option("--drop", args.drop, "Do not use these columns (names, comma separated)")
-      ->delimiter(',')
       ->group("Model");
   command.add_option("--max-knots", args.max_knots, "Stop after this many knots (0 = no limit)")
       ->group("Stopping");
@@ -88,15 +82,43 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
       .add_option("--max-active", args.max_active,
                   "Stop before more than this many predictors are active (0 = no limit)")
       ->group("Stopping");
-  command.add_option("--delimiter", args.delimiter, "Field delimiter: auto, comma, semicolon, tab")
-      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab"}))
+  command
+      .add_option("--delimiter", args.delimiter,
+                  "Field delimiter: auto, comma, semicolon, tab, or whitespace (runs of spaces "
+                  "and tabs)")
+      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab", "whitespace"}))
       ->default_str("auto")
       ->group("Table");
   command
       .add_option("--missing", args.missing,
-                  "Empty or NA cells: error (stop) or drop (drop the row and count it)")
+                  "Missing cells (empty, NA, N/A, NaN, '.', and --na): error (stop) or drop (drop "
+                  "the row and count it)")
       ->check(CLI::IsMember({"error", "drop"}))
       ->default_str("error")
+      ->group("Table");
+  command
+      .add_option("--na", args.na_tokens,
+                  "Further cell texts that mean missing, matched exactly (comma separated; "
+                  "quote one holding a comma)")
+      ->group("Table");
+  command
+      .add_option("--decimal", args.decimal,
+                  "Decimal mark of the numbers: point (2.5) or comma (2,5; the delimiter is then "
+                  "not a comma)")
+      ->check(CLI::IsMember({"point", "comma"}))
+      ->default_str("point")
+      ->group("Table");
+  command
+      .add_option("--indicators", args.indicators,
+                  "Text columns to expand into 0/1 indicator predictors, one per level named "
+                  "COLUMN=LEVEL (names, or all for every text column); the first level in byte "
+                  "order is left out when there is an intercept")
+      ->group("Table");
+  command
+      .add_option("--max-levels", args.max_levels,
+                  "Refuse to expand a column with more distinct values than this")
+      ->check(CLI::PositiveNumber)
+      ->default_str("20")
       ->group("Table");
   command
       .add_option("--max-columns", args.max_columns,
@@ -162,7 +184,39 @@ char delimiter_char(const std::string& name) {
   if (name == "comma") return ',';
   if (name == "semicolon") return ';';
   if (name == "tab") return '\t';
+  if (name == "whitespace") return ' ';
   return 0;
+}
+
+// The model arguments with every list option's values split into items
+// (split_list, the one quoting rule).
+ModelArgs with_lists_split(const ModelArgs& given) {
+  ModelArgs args = given;
+  args.penalty_scales = split_list(given.penalty_scales, "--penalty-scale");
+  args.unpenalized = split_list(given.unpenalized, "--unpenalized");
+  args.nonnegative = split_list(given.nonnegative, "--nonnegative");
+  args.nonpositive = split_list(given.nonpositive, "--nonpositive");
+  args.use = split_list(given.use, "--use");
+  args.drop = split_list(given.drop, "--drop");
+  args.na_tokens = split_list(given.na_tokens, "--na");
+  args.indicators = split_list(given.indicators, "--indicators");
+  return args;
+}
+
+// Contradictions of --indicators with the other column options.
+void check_indicator_list(const ModelArgs& args) {
+  const bool all = contains(args.indicators, "all");
+  if (all && args.indicators.size() > 1)
+    throw failure(exit_usage, "\"all\" in --indicators cannot be combined with names");
+  for (const auto& name : args.indicators) {
+    if (name == args.response)
+      throw failure(exit_usage, "the response \"" + name + "\" cannot be expanded (--indicators)");
+    if (!args.weights.empty() && name == args.weights)
+      throw failure(exit_usage,
+                    "the weights column \"" + name + "\" cannot be expanded (--indicators)");
+    if (contains(args.drop, name))
+      throw failure(exit_usage, "\"" + name + "\" is listed in both --drop and --indicators");
+  }
 }
 
 // A --penalty-scale item: the predictor's name and its scale.
@@ -258,6 +312,16 @@ io::TableReadOptions read_options(const ModelArgs& args, const io::ColumnRoles& 
   io::TableReadOptions read;
   read.delimiter = delimiter_char(args.delimiter);
   read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
+  read.missing_tokens = args.na_tokens;
+  read.decimal = args.decimal == "comma" ? io::DecimalMark::comma : io::DecimalMark::point;
+  if (read.decimal == io::DecimalMark::comma && read.delimiter == ',')
+    throw failure(exit_usage, "--decimal comma cannot be read with --delimiter comma");
+  if (contains(args.indicators, "all"))
+    read.indicators.all_text = true;
+  else
+    read.indicators.columns = args.indicators;
+  read.indicators.max_levels = args.max_levels;
+  read.indicators.leave_out_reference = !args.no_intercept;
   read.max_columns = args.max_columns;
   read.keep_decimal_text = keep_decimal_text;
   return roles.read_options(std::move(read));
@@ -297,6 +361,15 @@ void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
   context.program_version = version();
   if (!roles.weights.empty()) context.weights = roles.weights;
   context.predictor_names = out.columns.names;
+  for (const auto& made : table.indicator_columns)
+    context.table_notes.push_back(io::indicator_note(made));
+  if (!table.decimal_comma_columns.empty()) {
+    std::string list;
+    for (const auto& name : table.decimal_comma_columns) list += (list.empty() ? "" : ", ") + name;
+    context.table_notes.push_back("text columns that read as numbers written with a decimal "
+                                  "comma (use them with --decimal comma): " +
+                                  list);
+  }
 }
 
 // The trace options of the model arguments for these predictors, validated.
@@ -394,8 +467,10 @@ void refuse_empty_path(const Path<double>& path, const io::RunContext& context,
 
 }  // namespace
 
-LoadedTable load_table(const std::string& table_path, const ModelArgs& args, const Global& global,
-                       bool keep_decimal_text) {
+LoadedTable load_table(const std::string& table_path, const ModelArgs& given,
+                       const Global& global, bool keep_decimal_text) {
+  const ModelArgs args = with_lists_split(given);
+  check_indicator_list(args);
   std::vector<ScaleItem> scales;
   for (const auto& item : args.penalty_scales) scales.push_back(parse_scale(item));
   const io::ColumnRoles roles = column_roles(args, scales);
@@ -436,6 +511,42 @@ int step_limit_status(bool hit, const std::string& which) {
   std::cerr << "knotpath: numerical trouble: the homotopy hit its safety bound on steps; " << which
             << " is incomplete (outputs describe the part traced)\n";
   return exit_numerical;
+}
+
+std::vector<std::string> split_list(const std::vector<std::string>& values,
+                                    const std::string& option) {
+  std::vector<std::string> items;
+  for (const std::string& text : values) {
+    std::string item;
+    bool quoted = false, was_quoted = false;
+    auto close_item = [&] {
+      if (item.empty() && !was_quoted)
+        throw failure(exit_usage, option + ": an empty name in \"" + text + "\"");
+      items.push_back(std::move(item));
+      item.clear();
+      was_quoted = false;
+    };
+    for (std::size_t i = 0; i < text.size(); ++i) {
+      const char c = text[i];
+      if (c == '"') {
+        if (quoted && i + 1 < text.size() && text[i + 1] == '"') {
+          item += '"';
+          ++i;
+        } else {
+          quoted = !quoted;
+          was_quoted = true;
+        }
+      } else if (c == ',' && !quoted) {
+        close_item();
+      } else {
+        item += c;
+      }
+    }
+    if (quoted)
+      throw failure(exit_usage, option + ": a double quote in \"" + text + "\" is never closed");
+    close_item();
+  }
+  return items;
 }
 
 std::string data_message(const invalid_data& e, const std::vector<std::string>& names) {

@@ -27,6 +27,7 @@ struct RunContext {
   std::size_t rows_dropped = 0;              ///< rows dropped for missing cells
   std::vector<std::string> text_columns;     ///< text columns skipped by the reader
   std::vector<std::string> unused_columns;   ///< numeric columns not used as predictors
+  std::vector<std::string> table_notes;      ///< sentences about how the table was read (indicators, ...)
   std::string program_version;               ///< knotpath version
 };
 

@@ -36,7 +36,9 @@ struct ColumnRoles {
   std::string weights;
   /// When non-empty, only these columns are predictors (table order is kept,
   /// not the order of this list). The weights column is never a predictor,
-  /// even when listed here; the response may not be listed.
+  /// even when listed here; the response may not be listed. A text column
+  /// expanded into indicator columns (IndicatorOptions) stands for all of
+  /// them; an indicator column ("COLUMN=LEVEL") may be listed by itself.
   std::vector<std::string> use;
   /// Columns that are never read nor used (the response, the weights and the
   /// columns in `use` or `referenced` may not be listed).
@@ -103,7 +105,8 @@ struct ColumnAssignment {
 /// invalid_data, whose detail() reads "SOURCE: ..." with SOURCE the table's
 /// source, when a column the roles name is missing, a text column or was not
 /// read, and when no predictor remains ("SOURCE: no numeric predictor columns
-/// besides the response").
+/// besides the response", followed by a hint naming the text columns that
+/// read as numbers written with a decimal comma, if any).
 ColumnAssignment assign_columns(const Table& table, const ColumnRoles& roles);
 
 /// Checks that an assignment fits this table before anything is moved: every

@@ -6,18 +6,30 @@
 /// Format accepted (RFC 4180 with common extensions, "common practice"):
 ///  - fields separated by comma, semicolon or tab: detected from the header
 ///    row (the most frequent of the three outside quotes; comma on a tie) or
-///    given;
+///    given; or by whitespace (runs of spaces and tabs; leading and trailing
+///    blanks ignored), detected when the header row has none of the three
+///    outside quotes but blanks between names, or given as ' ';
+///  - input compressed with gzip is read directly when the library was built
+///    with zlib (KNOTPATH_HAVE_ZLIB); gzip without zlib, zip, xz, bzip2 and
+///    zstd data are refused with a message naming the format (detected by
+///    their magic bytes, never quoted);
 ///  - fields may be quoted with '"'; a doubled quote inside a quoted field is
 ///    one quote; quoted fields may hold delimiters and line breaks;
 ///  - line ends LF, CRLF or CR; a UTF-8 byte order mark is skipped; blank
 ///    lines are ignored;
 ///  - numeric cells are decimal numbers (optional sign, exponent; spaces
-///    around them are ignored). NaN and infinite values are rejected.
+///    around them are ignored), with a decimal point, or a decimal comma
+///    when TableReadOptions::decimal says so (then a '.' makes a cell text).
+///    Infinite values are rejected;
+///  - missing cells (is_missing_cell): empty, and NA, N/A, NaN, "." in any
+///    letter case, and the caller's TableReadOptions::missing_tokens matched
+///    exactly (case-sensitive), in any row of any column read.
 ///
-/// Column kinds: a column whose first data cell is not a number is a text
-/// column; text columns are skipped (listed in Table::text_columns) unless
-/// they are required, which is an error naming them. A later non-numeric
-/// cell in a numeric column is an error with file, line and column.
+/// Column kinds: a column whose first non-missing data cell is not a number
+/// is a text column; text columns are skipped (listed in Table::text_columns)
+/// unless they are required, which is an error naming them, or expanded into
+/// indicator columns (IndicatorOptions). A later non-numeric cell in a
+/// numeric column is an error with file, line and column.
 ///
 /// Memory: one pass; numeric values are stored in fixed-size blocks per
 /// column (no reallocation copies), so the table needs its numeric size plus
@@ -29,6 +41,7 @@
 #include <istream>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "../detail/scalar.hpp"
@@ -37,18 +50,52 @@
 
 namespace knotpath::io {
 
-/// What to do with a row that has an empty (or "NA") cell in a column read.
+/// What to do with a row that has a missing cell (is_missing_cell) in a column read.
 enum class MissingCells {
   error,  ///< stop with an error naming the cell (default)
   drop,   ///< drop the row and count it (Table::dropped_rows)
 };
 
+/// The character that marks the fraction of a decimal number.
+enum class DecimalMark {
+  point,  ///< 2.5 (default)
+  comma,  ///< 2,5 (then the field delimiter cannot be a comma)
+};
+
+/// Text columns expanded into indicator (0/1) columns, one per level. The
+/// levels of a column are its distinct cell texts (trimmed, exact bytes:
+/// "Yes" and "yes" are two levels; numbers are levels by their text). The
+/// reference level is the first in byte order (so "no" before "yes", "false"
+/// before "true"); when leave_out_reference is set it gets no column, because
+/// with an intercept the indicators of all levels add up to the intercept's
+/// column of ones and the intercept stands for the reference level.
+struct IndicatorOptions {
+  /// Columns to expand, whatever their cells (numbers are read as level texts).
+  std::vector<std::string> columns;
+  /// Also expand every column whose first non-missing data cell is text,
+  /// unless it reads as a number written with a decimal comma.
+  bool all_text = false;
+  /// Largest number of levels of one expanded column; more is an error at
+  /// the first cell beyond it (a guard against expanding an identifier).
+  std::size_t max_levels = 20;
+  /// Leave the reference level out (set it when the model has an intercept).
+  bool leave_out_reference = true;
+};
+
 /// Options of read_table.
 struct TableReadOptions {
-  /// Field delimiter: ',', ';' or TAB ('\\t'); 0 detects it from the header row.
+  /// Field delimiter: ',', ';', TAB ('\\t') or ' ' (whitespace: runs of
+  /// spaces and tabs); 0 detects it from the header row.
   char delimiter = 0;
-  /// Handling of empty / "NA" cells.
+  /// Handling of missing cells (is_missing_cell).
   MissingCells missing = MissingCells::error;
+  /// Further cell texts that mean "missing" (matched exactly, after trimming
+  /// the cell's surrounding spaces), besides the built-in ones.
+  std::vector<std::string> missing_tokens;
+  /// Decimal point or decimal comma in numeric cells.
+  DecimalMark decimal = DecimalMark::point;
+  /// Text columns expanded into indicator columns.
+  IndicatorOptions indicators;
   /// Columns that must exist and be numeric (response, weights, listed
   /// predictors). A missing one is an "unknown column" error; a text one is
   /// an error naming it.
@@ -119,6 +166,26 @@ class NumericColumn {
   std::size_t size_ = 0;
 };
 
+/// The name of the indicator column of one level of a text column:
+/// "COLUMN=LEVEL" (the one home of this naming).
+std::string indicator_name(const std::string& column, const std::string& level);
+
+/// Whether a (trimmed) cell is missing: empty, or NA, N/A, NaN or "." in any
+/// letter case, or exactly one of `extra` (TableReadOptions::missing_tokens).
+bool is_missing_cell(std::string_view cell, const std::vector<std::string>& extra = {});
+
+/// A text column expanded into indicator columns.
+struct IndicatorColumn {
+  std::string source;               ///< the text column's name
+  std::vector<std::string> levels;  ///< its levels, in byte order
+  std::string reference;            ///< the level left out; empty when none was
+  std::vector<std::string> names;   ///< the indicator columns made, in Table::names
+};
+
+/// One sentence about an expansion for the reports: its columns and which
+/// level was left out and why.
+std::string indicator_note(const IndicatorColumn& column);
+
 /// A table read from text: its numeric columns, in file order.
 struct Table {
   std::string source;                                  ///< file name or "<stdin>"
@@ -127,6 +194,13 @@ struct Table {
   std::vector<NumericColumn> columns;                  ///< values, one per name
   std::vector<std::vector<std::string>> decimal_text;  ///< per column when keep_decimal_text
   std::vector<std::string> text_columns;               ///< text columns skipped
+  /// Text columns whose first cell reads as a number written with a decimal
+  /// comma ("2,5"): a hint that TableReadOptions::decimal should be comma.
+  std::vector<std::string> decimal_comma_columns;
+  /// Text columns expanded into indicator columns, in file order (their
+  /// indicator columns are in `names`, at the text column's place).
+  std::vector<IndicatorColumn> indicator_columns;
+  std::string compression;  ///< "gzip" when the input was decompressed, else empty
   std::vector<std::string> skipped_columns;            ///< columns skipped by `only` / `skip`
   std::size_t rows = 0;                                ///< data rows kept
   std::size_t dropped_rows = 0;                        ///< rows dropped for missing cells
@@ -181,7 +255,8 @@ inline Vector<double> Table::take_vector(Index j) {
 
 /// Reads a table from a file; "-" reads standard input. Throws table_error
 /// (kind content for a bad table, input_output for an unreadable file), and
-/// invalid_option when options.delimiter is not 0, ',', ';' or a tab.
+/// invalid_option when options.delimiter is not 0, ',', ';', a tab or ' ',
+/// or is ',' with a decimal comma.
 Table read_table(const std::string& path, const TableReadOptions& options = {});
 /// Reads a table from a stream; `source` names it in error messages.
 Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options = {});
