@@ -471,11 +471,11 @@ TEST(CoefficientTraces, KnotsAreMarkedAndTheEndValuesMatchThePath) {
 std::pair<double, double> plot_frame(const tinyxml2::XMLElement* svg) {
   const tinyxml2::XMLElement* frame = nullptr;
   walk(svg->FirstChildElement(), [&](const tinyxml2::XMLElement* e) {
-    if (!frame && std::string(e->Name()) == "rect" && e->DoubleAttribute("height") > 100)
-      frame = e;
+    if (!frame && std::string(e->Name()) == "rect" && e->DoubleAttribute("height") > 100) frame = e;
   });
   if (!frame) return {0, 0};
-  return {frame->DoubleAttribute("y"), frame->DoubleAttribute("y") + frame->DoubleAttribute("height")};
+  return {frame->DoubleAttribute("y"),
+          frame->DoubleAttribute("y") + frame->DoubleAttribute("height")};
 }
 
 // Issue 19, point 4: the budget chart (and the penalty chart, drawn by the

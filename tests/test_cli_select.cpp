@@ -409,12 +409,11 @@ TEST_F(Select, WordingNamesEstimatorsThresholdAndTheLimitsOfTheTests) {
   EXPECT_EQ(r.out.find("  choice "), std::string::npos) << r.out;
   const auto plural = [](std::size_t n) { return n == 1 ? "" : "s"; };
   const auto least_active = c["minimum"]["active"].get<std::size_t>();
-  EXPECT_NE(r.out.find(fmt::format("  least CV error (exact): {:.7g} (standard error {:.4g}) at "
-                                   "lambda {:.7g}, mu {:.7g}, with {} predictor{} active\n",
-                                   c["minimum"]["cv_error"].get<double>(), se,
-                                   c["minimum"]["penalty"].get<double>(),
-                                   c["minimum"]["mu"].get<double>(), least_active,
-                                   plural(least_active))),
+  EXPECT_NE(r.out.find(fmt::format(
+                "  least CV error (exact): {:.7g} (standard error {:.4g}) at "
+                "lambda {:.7g}, mu {:.7g}, with {} predictor{} active\n",
+                c["minimum"]["cv_error"].get<double>(), se, c["minimum"]["penalty"].get<double>(),
+                c["minimum"]["mu"].get<double>(), least_active, plural(least_active))),
             std::string::npos)
       << r.out;
   const auto lean_active = c["parsimonious"]["active"].get<std::size_t>();
@@ -540,7 +539,8 @@ TEST_F(Select, ReportShowsBothChoicesTheirCoefficientsTheCriteriaAndTheTests) {
   for (const char* start : {"  least CV error (exact): ", "  parsimonious (within 1 SE): "}) {
     const auto at = r.out.find(start);
     ASSERT_NE(at, std::string::npos) << r.out;
-    const std::string sentence = r.out.substr(at + 2, r.out.find_first_of(",\n", r.out.find("active", at)) - at - 2);
+    const std::string sentence =
+        r.out.substr(at + 2, r.out.find_first_of(",\n", r.out.find("active", at)) - at - 2);
     EXPECT_NE(html.find(sentence), std::string::npos) << sentence;
   }
 
@@ -555,12 +555,16 @@ TEST_F(Select, ReportShowsBothChoicesTheirCoefficientsTheCriteriaAndTheTests) {
     row_of[coefficients[i][0]] = coefficients[i];
   }
   std::set<std::string> nonzero;
-  for (const auto& [column, key] : {std::pair<std::size_t, const char*>{1, "minimum"}, {2, "parsimonious"}}) {
-    EXPECT_LE(relative(std::stod(row_of["(intercept)"][column]), cv[key]["intercept"].get<double>()), 1e-7);
+  for (const auto& [column, key] :
+       {std::pair<std::size_t, const char*>{1, "minimum"}, {2, "parsimonious"}}) {
+    EXPECT_LE(
+        relative(std::stod(row_of["(intercept)"][column]), cv[key]["intercept"].get<double>()),
+        1e-7);
     for (const auto& [name, value] : cv[key]["coefficients"].items()) {
       nonzero.insert(name);
       ASSERT_TRUE(row_of.count(name)) << name;
-      EXPECT_LE(relative(std::stod(row_of[name][column]), value.get<double>()), 1e-7) << name << ' ' << key;
+      EXPECT_LE(relative(std::stod(row_of[name][column]), value.get<double>()), 1e-7)
+          << name << ' ' << key;
     }
   }
   EXPECT_EQ(coefficients.size(), nonzero.size() + 2);  // header, intercept, the nonzero ones
@@ -576,8 +580,10 @@ TEST_F(Select, ReportShowsBothChoicesTheirCoefficientsTheCriteriaAndTheTests) {
     EXPECT_LE(relative(std::stod(criteria[k + 1][8]), c["bic"].get<double>()), 1e-6);
   }
   for (const char* best : {"best_mallows_cp", "best_aic", "best_bic"})
-    EXPECT_NE(html.find(fmt::format("<tr class=\"marked\"><td>{}</td>", ic[best]["step"].get<long>())),
-              std::string::npos) << best;
+    EXPECT_NE(
+        html.find(fmt::format("<tr class=\"marked\"><td>{}</td>", ic[best]["step"].get<long>())),
+        std::string::npos)
+        << best;
 
   // The entry tests: one row per entry, the predictor named, the p-values shown.
   const auto tests = table_cells(root, "kp-entry-tests");
@@ -588,8 +594,9 @@ TEST_F(Select, ReportShowsBothChoicesTheirCoefficientsTheCriteriaAndTheTests) {
     EXPECT_EQ(tests[k + 1][1], entries[k]["predictor"].get<std::string>());
     if (entries[k]["covariance_p_value"].is_number() &&
         entries[k]["covariance_p_value"].get<double>() >= 1e-10) {
-      EXPECT_LE(relative(std::stod(tests[k + 1][6]), entries[k]["covariance_p_value"].get<double>()),
-                5e-3);
+      EXPECT_LE(
+          relative(std::stod(tests[k + 1][6]), entries[k]["covariance_p_value"].get<double>()),
+          5e-3);
     }
   }
   EXPECT_NE(html.find("multiple-testing problem"), std::string::npos);

@@ -145,8 +145,8 @@ void write_table(std::ostringstream& out, const ReportTable& table, const std::s
   for (std::size_t c = 0; c < table.columns.size(); ++c) cell("th", c, table.columns[c]);
   out << "</tr></thead>\n<tbody>\n";
   for (std::size_t r = 0; r < table.rows.size(); ++r) {
-    const bool marked = std::find(table.marked_rows.begin(), table.marked_rows.end(), r) !=
-                        table.marked_rows.end();
+    const bool marked =
+        std::find(table.marked_rows.begin(), table.marked_rows.end(), r) != table.marked_rows.end();
     out << (marked ? "<tr class=\"marked\">" : "<tr>");
     for (std::size_t c = 0; c < table.columns.size(); ++c) cell("td", c, table.rows[r][c]);
     out << "</tr>\n";

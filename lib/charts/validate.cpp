@@ -74,8 +74,8 @@ void ReportTable::validate() const {
                                              " columns");
   for (std::size_t r : marked_rows)
     if (r >= rows.size())
-      throw invalid_option("table.marked_rows", "row " + std::to_string(r) + " of table '" + id +
-                                                    "' does not exist");
+      throw invalid_option("table.marked_rows",
+                           "row " + std::to_string(r) + " of table '" + id + "' does not exist");
 }
 
 }  // namespace knotpath::charts

@@ -547,9 +547,10 @@ std::string noise_source_phrase(const InformationCriteria<double>& ic) {
 // How to read the criteria: the AIC's form and what d counts.
 std::string criteria_reading(const Selection& s) {
   const auto& options = s.cv.full_path.options();
-  return std::string("AIC in its unknown-variance form n log(RSS/n) + 2 d; Cp and BIC use the "
-                     "noise variance above; d: ") +
-         (options.ridge != 0.0                     ? "the elastic net's trace degrees of freedom"
+  return std::string(
+             "AIC in its unknown-variance form n log(RSS/n) + 2 d; Cp and BIC use the "
+             "noise variance above; d: ") +
+         (options.ridge != 0.0                      ? "the elastic net's trace degrees of freedom"
           : options.variant == Variant::least_angle ? "the number of steps (Efron et al. 2004)"
                                                     : "the number of nonzero coefficients") +
          ", plus the intercept";
@@ -665,9 +666,10 @@ charts::ReportTable criteria_table(const Selection& s) {
     return t;
   }
   const auto& ic = *s.criteria;
-  t.lead = {fmt::format("Mallows' Cp, AIC and BIC at every knot of the path; noise variance {} "
-                        "({}).",
-                        shown(ic.noise_variance), noise_source_phrase(ic))};
+  t.lead = {
+      fmt::format("Mallows' Cp, AIC and BIC at every knot of the path; noise variance {} "
+                  "({}).",
+                  shown(ic.noise_variance), noise_source_phrase(ic))};
   for (const auto& [label, i] : {std::pair<const char*, std::size_t>{"Mallows' Cp", ic.best_cp},
                                  {"AIC", ic.best_aic},
                                  {"BIC", ic.best_bic}}) {
@@ -700,7 +702,7 @@ charts::ReportTable entry_tests_table(const Selection& s, const SelectData& data
   const auto& sig = *s.significance;
   const auto& names = data.context.predictor_names;
   t.lead = {"Each entry of the path: " + tests_phrase(sig) + "."};
-  t.columns = {"step", "predictor", "sign", "lambda", "mu", "covariance statistic",
+  t.columns = {"step",           "predictor",   "sign", "lambda", "mu", "covariance statistic",
                "p (covariance)", "p (spacing)", "note"};
   t.text_columns = {false, true, false, false, false, false, false, false, true};
   for (const auto& e : sig.entries)
