@@ -454,15 +454,72 @@ TEST(CoefficientTraces, KnotsAreMarkedAndTheEndValuesMatchThePath) {
   auto p = parse(kc::coefficient_traces_svg(d.chart, o));
   ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS);
   const auto* root = p->doc.RootElement();
-  // One knot line per distinct knot penalty (the demo path has no ties at
-  // pixel resolution: its knots are at least a pixel apart on a linear axis
-  // except near 0, so count at least half of them).
-  EXPECT_GE(with_class(root, "knot").size(), d.path.knots().size() / 2);
-  // Entry markers: one per enter event of the shown predictors.
-  std::size_t enters = 0;
-  for (const auto& k : d.path.knots()) enters += k.event == knotpath::EventKind::enter;
+  // Entry and exit markers: one per event of the shown predictors; the
+  // demo path has few knots, so the other knots are dots on the traces.
+  std::size_t enters = 0, leaves = 0;
+  for (const auto& k : d.path.knots()) {
+    enters += k.event == knotpath::EventKind::enter;
+    leaves += k.event == knotpath::EventKind::leave;
+  }
   EXPECT_EQ(with_class(root, "enter").size(), enters);
+  EXPECT_EQ(with_class(root, "leave").size(), leaves);
+  EXPECT_GT(with_class(root, "knot-dot").size(), d.path.knots().size());
   expect_inside_view_box(root);
+}
+
+// The plotting frame of a traces chart: (top, bottom) of its first rect.
+std::pair<double, double> plot_frame(const tinyxml2::XMLElement* svg) {
+  const tinyxml2::XMLElement* frame = nullptr;
+  walk(svg->FirstChildElement(), [&](const tinyxml2::XMLElement* e) {
+    if (!frame && std::string(e->Name()) == "rect" && e->DoubleAttribute("height") > 100) frame = e;
+  });
+  if (!frame) return {0, 0};
+  return {frame->DoubleAttribute("y"),
+          frame->DoubleAttribute("y") + frame->DoubleAttribute("height")};
+}
+
+// Issue 19, point 4: the budget chart (and the penalty chart, drawn by the
+// same code) has a look of our own: no dashed line across the plot at every
+// knot and no row of knot ticks along its top edge. The only lines across
+// the plot are the grid lines of the labelled axis ticks; nothing is drawn
+// between the heading and the frame. The knots stay marked on the curves:
+// every entry and exit has its ring, on hidden traces too.
+TEST(CoefficientTraces, KnotsAreMarkedOnTheCurvesNotByLinesOrATickRow) {
+  const auto check = [](const kc::ChartPath& chart, std::size_t max_predictors,
+                        const knotpath::Path<double>& path) {
+    for (kc::HorizontalAxis axis : {kc::HorizontalAxis::l1_budget, kc::HorizontalAxis::penalty}) {
+      kc::ChartOptions o;
+      o.axis = axis;
+      o.max_predictors = max_predictors;
+      auto p = parse(kc::coefficient_traces_svg(chart, o));
+      ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+      const auto* root = p->doc.RootElement();
+      EXPECT_TRUE(with_class(root, "knot").empty());
+      const auto [top, bottom] = plot_frame(root);
+      ASSERT_LT(top, bottom);
+      std::vector<double> tick_x;
+      for (const auto& [x, v] : x_ticks(root)) tick_x.push_back(x);
+      std::size_t vertical = 0;
+      walk(root->FirstChildElement(), [&](const tinyxml2::XMLElement* e) {
+        if (std::string(e->Name()) != "line") return;
+        EXPECT_EQ(e->Attribute("stroke-dasharray"), nullptr);
+        const double x1 = e->DoubleAttribute("x1"), x2 = e->DoubleAttribute("x2");
+        const double y1 = e->DoubleAttribute("y1"), y2 = e->DoubleAttribute("y2");
+        EXPECT_GE(std::min(y1, y2), top - 0.011) << "a line above the plot at x " << x1;
+        if (x1 != x2 || std::fabs(y2 - y1) < (bottom - top) / 2) return;
+        ++vertical;  // across the plot: only at a labelled tick of the axis
+        EXPECT_TRUE(std::any_of(tick_x.begin(), tick_x.end(),
+                                [&](double t) { return std::fabs(t - x1) < 0.011; }))
+            << "a line across the plot at x " << x1 << " is no axis tick";
+      });
+      EXPECT_LE(vertical, tick_x.size() + 1);  // + the zero slot of a log axis
+      std::size_t enters = 0;
+      for (const auto& k : path.knots()) enters += k.event == knotpath::EventKind::enter;
+      EXPECT_EQ(with_class(root, "enter").size(), enters);
+    }
+  };
+  check(demo().chart, 25, demo().path);
+  check(wide().chart, 20, wide().path);  // many knots, hidden traces: rings only
 }
 
 // --------------------------------------------------------- chart 3: selection
@@ -697,6 +754,64 @@ TEST(Report, ParsesEmbedsEveryChartAndReferencesNothingOutside) {
   EXPECT_EQ(audit_rows, d.path.knots().size());
   EXPECT_STREQ(root->FirstChildElement("head")->FirstChildElement("title")->GetText(),
                "demo <report> & test");
+}
+
+// ReportOptions::tables: each under its heading, cells escaped and in
+// order, marked rows highlighted with their meaning, a section without
+// columns shows only its sentences; a row of the wrong width, a marked row
+// out of range, a bad or repeated id are refused before anything is written.
+TEST(Report, TablesOfNumbersAreShownAsGiven) {
+  const auto& d = demo();
+  kc::ReportOptions ro;
+  kc::ReportTable numbers;
+  numbers.heading = "Numbers & more";
+  numbers.id = "numbers";
+  numbers.lead = {"Two rows <of> numbers."};
+  numbers.columns = {"name", "value"};
+  numbers.rows = {{"a<b", "1.5"}, {"c", "-2"}};
+  numbers.marked_rows = {1};
+  numbers.marked_meaning = "Highlighted: the least.";
+  numbers.notes = {"a note"};
+  kc::ReportTable words;
+  words.heading = "Only words";
+  words.id = "words";
+  words.lead = {"Not computed: no reason."};
+  ro.tables = {numbers, words};
+  const std::string html = kc::report_html(d.chart, ro);
+  auto p = parse(html);
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << p->doc.ErrorStr();
+  const tinyxml2::XMLElement* table = nullptr;
+  walk(p->doc.RootElement(), [&](const tinyxml2::XMLElement* e) {
+    if (e->Attribute("id") && std::string(e->Attribute("id")) == "kp-numbers") table = e;
+  });
+  ASSERT_NE(table, nullptr);
+  std::vector<std::string> cells;
+  walk(table->FirstChildElement(), [&](const tinyxml2::XMLElement* e) {
+    if (std::string(e->Name()) == "td" || std::string(e->Name()) == "th")
+      cells.push_back(e->GetText() ? e->GetText() : "");
+  });
+  EXPECT_EQ(cells, (std::vector<std::string>{"name", "value", "a<b", "1.5", "c", "-2"}));
+  EXPECT_NE(html.find("<h2>Numbers &amp; more</h2>\n<p>Two rows &lt;of&gt; numbers.</p>"),
+            std::string::npos);
+  EXPECT_NE(html.find("<tr class=\"marked\"><td class=\"text\">c</td><td>-2</td></tr>"),
+            std::string::npos);
+  EXPECT_NE(html.find("Highlighted: the least."), std::string::npos);
+  EXPECT_NE(html.find("<h2>Only words</h2>\n<p>Not computed: no reason.</p>\n<h2>Audit"),
+            std::string::npos);
+  // The tables come after the charts and before the audit of events.
+  EXPECT_LT(html.find("<h2>Coefficients</h2>"), html.find("<h2>Numbers &amp; more</h2>"));
+
+  auto refused = [&](const std::function<void(kc::ReportOptions&)>& spoil) {
+    kc::ReportOptions bad = ro;
+    spoil(bad);
+    EXPECT_THROW(kc::report_html(d.chart, bad), knotpath::invalid_option);
+  };
+  refused([](kc::ReportOptions& o) { o.tables[0].rows[1].pop_back(); });
+  refused([](kc::ReportOptions& o) { o.tables[0].marked_rows = {2}; });
+  refused([](kc::ReportOptions& o) { o.tables[0].id = "9 lives"; });
+  refused([](kc::ReportOptions& o) { o.tables[1].id = "numbers"; });
+  refused([](kc::ReportOptions& o) { o.tables[0].text_columns = {true}; });
+  refused([](kc::ReportOptions& o) { o.tables[1].rows = {{}}; });
 }
 
 TEST(Report, WriteReportWritesEveryFile) {

@@ -15,7 +15,9 @@
 #include <fstream>
 #include <functional>
 #include <iterator>
+#include <map>
 #include <random>
+#include <set>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -401,12 +403,26 @@ TEST_F(Select, WordingNamesEstimatorsThresholdAndTheLimitsOfTheTests) {
                                    threshold, c["minimum"]["cv_error"].get<double>(), se)),
             std::string::npos)
       << r.out;
-  // The parsimonious row has no SE of its own: label (4 words), lambda, mu, error, active.
-  const auto row = r.out.find("  parsimonious (within 1 SE)");
-  ASSERT_NE(row, std::string::npos);
-  std::istringstream words(r.out.substr(row, r.out.find('\n', row) - row));
-  std::vector<std::string> tokens{std::istream_iterator<std::string>(words), {}};
-  EXPECT_EQ(tokens.size(), 8u) << r.out;
+  // Issue 19, point 4: the two choices in sentences of our own, not a
+  // table with a header row; each sentence carries the JSON's numbers, and
+  // the standard error only where it belongs (at the minimum).
+  EXPECT_EQ(r.out.find("  choice "), std::string::npos) << r.out;
+  const auto plural = [](std::size_t n) { return n == 1 ? "" : "s"; };
+  const auto least_active = c["minimum"]["active"].get<std::size_t>();
+  EXPECT_NE(r.out.find(fmt::format(
+                "  least CV error (exact): {:.7g} (standard error {:.4g}) at "
+                "lambda {:.7g}, mu {:.7g}, with {} predictor{} active\n",
+                c["minimum"]["cv_error"].get<double>(), se, c["minimum"]["penalty"].get<double>(),
+                c["minimum"]["mu"].get<double>(), least_active, plural(least_active))),
+            std::string::npos)
+      << r.out;
+  const auto lean_active = c["parsimonious"]["active"].get<std::size_t>();
+  const std::string lean = fmt::format(
+      "  parsimonious (within 1 SE): lambda {:.7g}, mu {:.7g}, with {} predictor{} active and CV "
+      "error {:.7g},\n    the largest mu",
+      c["parsimonious"]["penalty"].get<double>(), c["parsimonious"]["mu"].get<double>(),
+      lean_active, plural(lean_active), c["parsimonious"]["cv_error"].get<double>());
+  EXPECT_NE(r.out.find(lean), std::string::npos) << lean << '\n' << r.out;
   for (const char* needle :
        {"different questions", "exact only at step 1 and only with a known noise variance",
         "reference law is asymptotic", "multiple-testing problem",
@@ -474,6 +490,124 @@ TEST_F(Select, ReportParsesAndNothingIsLeftOnError) {
   ASSERT_EQ(again.code, 0) << again.err;
   EXPECT_NE(slurp(file("rep/report.html")), old);
   expect_report(file("rep"), true);
+}
+
+// The cells of the table with this id in a parsed report (header row first).
+std::vector<std::vector<std::string>> table_cells(const tinyxml2::XMLElement* root,
+                                                  const std::string& id) {
+  std::vector<std::vector<std::string>> rows;
+  std::function<void(const tinyxml2::XMLElement*)> rows_of = [&](const tinyxml2::XMLElement* e) {
+    for (; e; e = e->NextSiblingElement()) {
+      if (std::string(e->Name()) == "tr") {
+        rows.emplace_back();
+        for (const auto* c = e->FirstChildElement(); c; c = c->NextSiblingElement())
+          rows.back().push_back(c->GetText() ? c->GetText() : "");
+      } else {
+        rows_of(e->FirstChildElement());
+      }
+    }
+  };
+  std::function<void(const tinyxml2::XMLElement*)> find = [&](const tinyxml2::XMLElement* e) {
+    for (; e; e = e->NextSiblingElement()) {
+      if (const char* at = e->Attribute("id"); at && id == at && std::string(e->Name()) == "table")
+        rows_of(e->FirstChildElement());
+      else
+        find(e->FirstChildElement());
+    }
+  };
+  find(root);
+  return rows;
+}
+
+// Issue 19, point 3: the select report shows the numbers, not only the
+// charts: the two choices in the printout's sentences, the coefficients at
+// each (the JSON's values to the 8 digits shown), the criteria at every knot
+// with the least rows marked, the entry tests; plain tables (no script).
+TEST_F(Select, ReportShowsBothChoicesTheirCoefficientsTheCriteriaAndTheTests) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p);
+  Outcome r = run("select t.csv --response y --folds 4 --json s.json --report rep");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  const auto parsed = parse_xml(file("rep/report.html"));
+  ASSERT_EQ(parsed->error, tinyxml2::XML_SUCCESS) << parsed->doc.ErrorStr();
+  const auto* root = parsed->doc.RootElement();
+  const std::string html = slurp(file("rep/report.html"));
+  EXPECT_EQ(html.find("<script"), std::string::npos);
+
+  // The sentences of the printout, word for word.
+  for (const char* start : {"  least CV error (exact): ", "  parsimonious (within 1 SE): "}) {
+    const auto at = r.out.find(start);
+    ASSERT_NE(at, std::string::npos) << r.out;
+    const std::string sentence =
+        r.out.substr(at + 2, r.out.find_first_of(",\n", r.out.find("active", at)) - at - 2);
+    EXPECT_NE(html.find(sentence), std::string::npos) << sentence;
+  }
+
+  // Coefficients: intercept first, then every predictor nonzero at either choice.
+  const auto coefficients = table_cells(root, "kp-choices");
+  ASSERT_GE(coefficients.size(), 2u);
+  EXPECT_EQ(coefficients[1][0], "(intercept)");
+  const auto& cv = doc["cross_validation"];
+  std::map<std::string, std::vector<std::string>> row_of;
+  for (std::size_t i = 1; i < coefficients.size(); ++i) {
+    ASSERT_EQ(coefficients[i].size(), 3u);
+    row_of[coefficients[i][0]] = coefficients[i];
+  }
+  std::set<std::string> nonzero;
+  for (const auto& [column, key] :
+       {std::pair<std::size_t, const char*>{1, "minimum"}, {2, "parsimonious"}}) {
+    EXPECT_LE(
+        relative(std::stod(row_of["(intercept)"][column]), cv[key]["intercept"].get<double>()),
+        1e-7);
+    for (const auto& [name, value] : cv[key]["coefficients"].items()) {
+      nonzero.insert(name);
+      ASSERT_TRUE(row_of.count(name)) << name;
+      EXPECT_LE(relative(std::stod(row_of[name][column]), value.get<double>()), 1e-7)
+          << name << ' ' << key;
+    }
+  }
+  EXPECT_EQ(coefficients.size(), nonzero.size() + 2);  // header, intercept, the nonzero ones
+
+  // The criteria at every knot; the rows where each is least are marked.
+  const auto criteria = table_cells(root, "kp-criteria");
+  const auto& ic = doc["information_criteria"];
+  ASSERT_EQ(criteria.size(), ic["knots"].size() + 1);
+  for (std::size_t k = 0; k < ic["knots"].size(); ++k) {
+    const auto& c = ic["knots"][k];
+    EXPECT_EQ(criteria[k + 1][0], std::to_string(c["step"].get<long>()));
+    EXPECT_LE(relative(std::stod(criteria[k + 1][6]), c["mallows_cp"].get<double>()), 1e-6);
+    EXPECT_LE(relative(std::stod(criteria[k + 1][8]), c["bic"].get<double>()), 1e-6);
+  }
+  for (const char* best : {"best_mallows_cp", "best_aic", "best_bic"})
+    EXPECT_NE(
+        html.find(fmt::format("<tr class=\"marked\"><td>{}</td>", ic[best]["step"].get<long>())),
+        std::string::npos)
+        << best;
+
+  // The entry tests: one row per entry, the predictor named, the p-values shown.
+  const auto tests = table_cells(root, "kp-entry-tests");
+  const auto& entries = doc["significance"]["entries"];
+  ASSERT_EQ(tests.size(), entries.size() + 1);
+  for (std::size_t k = 0; k < entries.size(); ++k) {
+    EXPECT_EQ(tests[k + 1][0], std::to_string(entries[k]["step"].get<long>()));
+    EXPECT_EQ(tests[k + 1][1], entries[k]["predictor"].get<std::string>());
+    if (entries[k]["covariance_p_value"].is_number() &&
+        entries[k]["covariance_p_value"].get<double>() >= 1e-10) {
+      EXPECT_LE(
+          relative(std::stod(tests[k + 1][6]), entries[k]["covariance_p_value"].get<double>()),
+          5e-3);
+    }
+  }
+  EXPECT_NE(html.find("multiple-testing problem"), std::string::npos);
+  EXPECT_NE(html.find("sole basis for decisions with consequences for people"), std::string::npos);
+
+  // Without the tests, the section says why instead of showing an empty table.
+  Outcome quiet = run("select t.csv --response y --folds 4 --no-tests --report rep2");
+  ASSERT_EQ(quiet.code, 0) << quiet.err;
+  const std::string html2 = slurp(file("rep2/report.html"));
+  EXPECT_NE(html2.find("<p>Not computed: skipped (--no-tests)</p>"), std::string::npos);
+  EXPECT_EQ(html2.find("id=\"kp-entry-tests\""), std::string::npos);
 }
 
 // The size-free penalty of the report follows the scaling of the path:

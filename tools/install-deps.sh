@@ -10,6 +10,7 @@ packages=(
   libgtest-dev libbenchmark-dev
   libcli11-dev libfmt-dev nlohmann-json3-dev zlib1g-dev
   libtinyxml2-dev libpng-dev librsvg2-bin pkg-config
+  chromium  # headless: tests/browser_report.py renders the select report
   python3 python3-cvxopt python3-numpy doxygen
   clang libclang-rt-14-dev
 )

@@ -1,10 +1,12 @@
 // Chart 2: coefficient traces against the penalty (log or linear, either
-// direction) or the L1 budget, knots marked, and each shown predictor named
-// at the end of its trace, labels spread without overlap (leader lines when
-// a label had to move).
+// direction) or the L1 budget, and each shown predictor named at the end of
+// its trace, labels spread without overlap (leader lines when a label had to
+// move). Knots are marked on the curves themselves: a ring where a predictor
+// enters (filled) or leaves (open), on hidden traces too, and while the
+// knots are few a dot on every trace at every knot. No marks outside the
+// plotting area and no lines across it: the chart's look is our own.
 #include <algorithm>
 #include <cmath>
-#include <set>
 
 #include <knotpath/io/charts.hpp>
 
@@ -30,7 +32,7 @@ struct TracesLayout {
   // increases to the right (then the path ends on the left).
   bool labels_right = true;
   double left = 0, right = 0;
-  double top = 76;
+  double top = 60;  // below the heading: nothing is drawn between it and the plot
   double label_gap = 13;
   double plot_h = 0, bottom = 0;
 };
@@ -85,7 +87,7 @@ class TracesChart {
   Vertical vertical() const;
   void draw_heading(const std::string& title);
   void draw_y_axis();
-  void draw_knots();
+  void draw_hidden_traces();
   Points trace_points(Index j) const;
   void draw_trace(std::size_t ii, double end_y, double label_y);
 
@@ -95,7 +97,7 @@ class TracesChart {
   Canvas c_;
   const PathAxis axis_;
   const Vertical y_;
-  const bool few_knots_;  // dots and vertical lines at knots while readable
+  const bool few_knots_;  // a dot on every trace at every knot while readable
 };
 
 Vertical TracesChart::vertical() const {
@@ -123,8 +125,8 @@ void TracesChart::draw_heading(const std::string& title) {
       l_.per_sd ? "coefficient \xC3\x97 SD of its predictor" : "coefficient as fitted";
   c_.text(16, 43,
           p_.variant + " path of " + p_.response_name + "; " + what +
-              (p_.knots.size() <= 40 ? "; dots mark knots" : "; ticks above the plot mark knots") +
-              "; rings mark entries (filled) and exits (open)",
+              "; rings mark entries (filled) and exits (open)" +
+              (few_knots_ ? "; dots mark the other knots" : ""),
           "start", 12, "fill=\"" + std::string(kMuted) + "\"");
 }
 
@@ -155,20 +157,26 @@ void TracesChart::draw_y_axis() {
                  labels_right ? -90 : 90);
 }
 
-// Knots: a rug of ticks along the top edge, and faint vertical lines while
-// there are few enough to stay readable.
-void TracesChart::draw_knots() {
-  std::set<long long> seen;
-  for (double x : axis_.knot_x)
-    if (seen.insert(std::llround(x * 2)).second) {
-      c_.line(x, l_.top - 6, x, l_.top,
-              "class=\"knot\" stroke=\"" + std::string(kMuted) + "\" stroke-width=\"0.8\"");
-      if (few_knots_)
-        c_.line(x, l_.top, x, l_.bottom,
-                "stroke=\"#D0D4DA\" stroke-width=\"0.7\" stroke-dasharray=\"2 3\"");
+// Hidden predictors, grey and thin under the labelled ones, with small grey
+// rings at their entries and exits so that every event knot is marked on a curve.
+void TracesChart::draw_hidden_traces() {
+  if (l_.ever <= l_.shown) return;
+  c_.open_group("class=\"hidden-traces\"");
+  for (std::size_t i = l_.shown; i < l_.ever; ++i)
+    c_.polyline(trace_points(l_.entries.order[i]), "stroke=\"#C4C4C4\" stroke-width=\"0.8\"");
+  for (std::size_t i = l_.shown; i < l_.ever; ++i) {
+    const Index j = l_.entries.order[i];
+    for (std::size_t k = l_.entries.first_knot.at(j); k < p_.knots.size(); ++k) {
+      const ChartKnot& knot = p_.knots[k];
+      if (knot.predictor != j) continue;
+      const double x = axis_.knot_x[k], y = y_(coefficient(knot, j) * scale_of(j));
+      if (knot.event == EventKind::enter)
+        c_.circle(x, y, 2.4, "class=\"enter\" fill=\"#A8A8A8\"");
+      else if (knot.event == EventKind::leave)
+        c_.circle(x, y, 2.4, "class=\"leave\" fill=\"#FFFFFF\" stroke=\"#A8A8A8\"");
     }
-  c_.text(l_.labels_right ? l_.left : l_.right, l_.top - 9, "knots",
-          l_.labels_right ? "start" : "end", 9, "fill=\"" + std::string(kMuted) + "\"");
+  }
+  c_.close_group();
 }
 
 // One trace: the points of predictor j from its first entry to the end.
@@ -219,7 +227,7 @@ void TracesChart::draw_trace(std::size_t ii, double end_y, double label_y) {
       c_.circle(x, y, 4,
                 "class=\"leave\" fill=\"#FFFFFF\" stroke=\"" + colour + "\" stroke-width=\"1.8\"");
     else if (few_knots_)
-      c_.circle(x, y, 1.9, "fill=\"" + colour + "\"");
+      c_.circle(x, y, 1.9, "class=\"knot-dot\" fill=\"" + colour + "\"");
   }
   const bool labels_right = l_.labels_right;
   const double lx = labels_right ? l_.right + 22 : l_.left - 22;
@@ -236,14 +244,7 @@ std::string TracesChart::draw() {
       o_.title.empty() ? "How each coefficient moves along the path" : o_.title;
   draw_heading(title);
   draw_y_axis();
-  draw_knots();
-  // Hidden predictors first, grey and thin, under the labelled ones.
-  if (l_.ever > l_.shown) {
-    c_.open_group("class=\"hidden-traces\"");
-    for (std::size_t i = l_.shown; i < l_.ever; ++i)
-      c_.polyline(trace_points(l_.entries.order[i]), "stroke=\"#C4C4C4\" stroke-width=\"0.8\"");
-    c_.close_group();
-  }
+  draw_hidden_traces();  // first: under the labelled ones
   // Label positions at the end of the path, spread without overlap.
   std::vector<double> wanted;
   for (std::size_t i = 0; i < l_.shown; ++i) {

@@ -1,12 +1,14 @@
 // The one-page HTML report: XHTML-compatible (it parses as XML), every chart
-// inline as SVG, the audit table of events, no scripts, fonts or links to
-// anything outside the file.
+// inline as SVG, the caller's tables of numbers, the audit table of events,
+// no scripts, fonts or links to anything outside the file.
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <fstream>
 #include <sstream>
 #include <stdexcept>
 
+#include <knotpath/errors.hpp>
 #include <knotpath/io/charts.hpp>
 #include <knotpath/io/report.hpp>
 
@@ -35,6 +37,12 @@ table.audit th, table.audit td { padding: 3px 10px; text-align: right; border-bo
 table.audit th { background: #F4F6F8; position: sticky; top: 0; }
 table.audit td.text, table.audit th.text { text-align: left; }
 table.audit tr.leave td { background: #FFF4E0; }
+table.numbers th, table.numbers td { padding: 3px 10px; text-align: right;
+       border-bottom: 1px solid #E3E3E3; font-variant-numeric: tabular-nums; }
+table.numbers th { background: #F4F6F8; }
+table.numbers td.text, table.numbers th.text { text-align: left; }
+table.numbers tr.marked td { background: #E6F1F8; font-weight: bold; }
+p.marked { color: #5A5A5A; font-size: 13px; margin-top: 4px; }
 figure { margin: 12px 0; overflow-x: auto; }
 figure svg { max-width: 100%; height: auto; }
 figcaption { color: #5A5A5A; font-size: 13px; }
@@ -120,6 +128,39 @@ void write_charts(std::ostringstream& out, const ChartPath& path, const ReportOp
   }
 }
 
+// One of the caller's tables: heading, lead sentences, header, rows (the
+// marked ones highlighted, with their meaning below), notes.
+void write_table(std::ostringstream& out, const ReportTable& table, const std::string& prefix) {
+  auto is_text = [&](std::size_t c) {
+    return table.text_columns.empty() ? c == 0 : static_cast<bool>(table.text_columns[c]);
+  };
+  auto cell = [&](const char* tag, std::size_t c, const std::string& text) {
+    out << '<' << tag << (is_text(c) ? " class=\"text\"" : "") << '>' << xml_escape(text) << "</"
+        << tag << '>';
+  };
+  out << "<h2>" << xml_escape(table.heading) << "</h2>\n";
+  for (const auto& line : table.lead) out << "<p>" << xml_escape(line) << "</p>\n";
+  if (table.columns.empty()) return;
+  out << "<table class=\"numbers\" id=\"" << prefix << '-' << table.id << "\">\n<thead><tr>";
+  for (std::size_t c = 0; c < table.columns.size(); ++c) cell("th", c, table.columns[c]);
+  out << "</tr></thead>\n<tbody>\n";
+  for (std::size_t r = 0; r < table.rows.size(); ++r) {
+    const bool marked =
+        std::find(table.marked_rows.begin(), table.marked_rows.end(), r) != table.marked_rows.end();
+    out << (marked ? "<tr class=\"marked\">" : "<tr>");
+    for (std::size_t c = 0; c < table.columns.size(); ++c) cell("td", c, table.rows[r][c]);
+    out << "</tr>\n";
+  }
+  out << "</tbody>\n</table>\n";
+  if (!table.marked_rows.empty() && !table.marked_meaning.empty())
+    out << "<p class=\"marked\">" << xml_escape(table.marked_meaning) << "</p>\n";
+  if (!table.notes.empty()) {
+    out << "<ul class=\"notes\">\n";
+    for (const auto& n : table.notes) out << "<li>" << xml_escape(n) << "</li>\n";
+    out << "</ul>\n";
+  }
+}
+
 // One row of the audit table: knot i.
 void write_audit_row(std::ostringstream& out, const ChartPath& path, std::size_t i) {
   const ChartKnot& k = path.knots[i];
@@ -176,10 +217,17 @@ std::string report_html(const ChartPath& path, const ReportOptions& options,
                         const SelectionCurve* selection) {
   path.validate();
   options.charts.validate();
+  for (std::size_t i = 0; i < options.tables.size(); ++i) {
+    options.tables[i].validate();
+    for (std::size_t k = 0; k < i; ++k)
+      if (options.tables[k].id == options.tables[i].id)
+        throw invalid_option("tables", "two tables have the id '" + options.tables[i].id + "'");
+  }
   std::ostringstream out;
   write_head(out, path, options);
   write_summary(out, path, options);
   write_charts(out, path, options, selection);
+  for (const auto& table : options.tables) write_table(out, table, options.charts.id_prefix);
   write_audit(out, path);
   write_notes_and_footer(out, path);
   return out.str();

@@ -1,4 +1,5 @@
-// Validation of the chart inputs (ChartPath, ChartOptions, SelectionCurve):
+// Validation of the chart inputs (ChartPath, ChartOptions, SelectionCurve,
+// ReportTable):
 // each names the first bad field.
 #include <cctype>
 #include <cmath>
@@ -53,6 +54,28 @@ void SelectionCurve::validate() const {
       if (!std::isfinite(x) || x < 0 || !std::isfinite(v))
         throw invalid_option("selection.criteria",
                              "criterion '" + c.name + "' has a non-finite value");
+}
+
+void ReportTable::validate() const {
+  if (id.empty() || !std::isalpha(static_cast<unsigned char>(id[0])))
+    throw invalid_option("table.id", "must start with a letter");
+  for (char c : id)
+    if (!std::isalnum(static_cast<unsigned char>(c)) && c != '-' && c != '_')
+      throw invalid_option("table.id", "letters, digits, '-' and '_' only");
+  if (columns.empty() && !rows.empty())
+    throw invalid_option("table.columns", "table '" + id + "' has rows but no columns");
+  if (!text_columns.empty() && text_columns.size() != columns.size())
+    throw invalid_option("table.text_columns", "needs one entry per column or none");
+  for (std::size_t r = 0; r < rows.size(); ++r)
+    if (rows[r].size() != columns.size())
+      throw invalid_option("table.rows", "row " + std::to_string(r) + " of table '" + id +
+                                             "' has " + std::to_string(rows[r].size()) +
+                                             " cells for " + std::to_string(columns.size()) +
+                                             " columns");
+  for (std::size_t r : marked_rows)
+    if (r >= rows.size())
+      throw invalid_option("table.marked_rows",
+                           "row " + std::to_string(r) + " of table '" + id + "' does not exist");
 }
 
 }  // namespace knotpath::charts

@@ -20,10 +20,12 @@ std::vector<std::string> caution_lines(bool with_selection);
 /// into `dir`. Every file is first written into a fresh temporary folder
 /// beside `dir` and moved into `dir` only when all of them were written, so
 /// a failure leaves no partial file and replaces nothing. Returns the files
-/// written (report.html first). Throws failure(exit_io) when the file system
-/// refuses.
+/// written (report.html first). `tables` are shown in report.html after the
+/// charts (select's choices, criteria and entry tests). Throws
+/// failure(exit_io) when the file system refuses.
 std::vector<std::string> write_report_dir(const std::filesystem::path& dir,
                                           const Path<double>& path, const io::RunContext& context,
-                                          const charts::SelectionCurve* selection);
+                                          const charts::SelectionCurve* selection,
+                                          std::vector<charts::ReportTable> tables = {});
 
 }  // namespace knotpath::cli

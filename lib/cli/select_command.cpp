@@ -437,6 +437,14 @@ void print_health_and_notes(std::ostream& out, const Selection& s) {
            "options).\n";
 }
 
+// The tests' reference laws and noise variance (printout and report).
+std::string tests_phrase(const Significance& sig) {
+  return fmt::format(
+      "covariance statistic with {} p-value, spacing p-value; noise variance {} ({})",
+      sig.residual_df > 0 ? fmt::format("F(2, {})", sig.residual_df) : std::string("Exp(1)"),
+      shown(sig.noise_variance), sig.residual_df > 0 ? "least-squares fit" : "given");
+}
+
 // The reference distribution of the tests and their notes, each once with
 // the steps it applies to.
 void print_test_notes(std::ostream& out, const Selection& s) {
@@ -455,12 +463,7 @@ void print_test_notes(std::ostream& out, const Selection& s) {
     for (const auto& [note, steps] : grouped)
       notes += fmt::format("  note (step{} {}): {}\n",
                            steps.find(',') == std::string::npos ? "" : "s", steps, note);
-    out << fmt::format(
-        "tests: covariance statistic with {} p-value, spacing p-value; noise variance {} ({})\n",
-        s.significance->residual_df > 0 ? fmt::format("F(2, {})", s.significance->residual_df)
-                                        : std::string("Exp(1)"),
-        shown(s.significance->noise_variance),
-        s.significance->residual_df > 0 ? "least-squares fit" : "given");
+    out << "tests: " << tests_phrase(*s.significance) << '\n';
     for (const auto& line : test_reading_notes()) out << "  " << line << '\n';
     out << notes;
   } else {
@@ -468,64 +471,101 @@ void print_test_notes(std::ostream& out, const Selection& s) {
   }
 }
 
-// How the folds were made, the exact curve and the two choices.
-void print_cross_validation(std::ostream& out, const Selection& s, const SelectArgs& args) {
+// The two choices in sentences (the printout and the HTML report say the
+// same): each names its penalty, its error and its size. The standard error
+// belongs to the minimum, where it sets the parsimonious choice's threshold;
+// the parsimonious choice has none of its own.
+struct ChoiceSentences {
+  std::string least, parsimonious, threshold;
+};
+
+ChoiceSentences choice_sentences(const Selection& s) {
   const Path<double>& path = s.cv.full_path;
   const auto& cv = s.cv;
-  std::string how;
+  const std::size_t least_active = active_count(path, cv.minimum.lambda);
+  const std::size_t lean_active = active_count(path, cv.parsimonious.lambda);
+  ChoiceSentences said;
+  said.least = fmt::format(
+      "least CV error (exact): {} (standard error {}) at lambda {}, mu {}, with {} predictor{} "
+      "active",
+      shown(cv.minimum.error, 7), shown(cv.minimum.standard_error, 4), shown(cv.minimum.lambda, 7),
+      shown(cv.minimum.mu, 7), least_active, least_active == 1 ? "" : "s");
+  said.parsimonious = fmt::format(
+      "parsimonious (within 1 SE): lambda {}, mu {}, with {} predictor{} active and CV error {}",
+      shown(cv.parsimonious.lambda, 7), shown(cv.parsimonious.mu, 7), lean_active,
+      lean_active == 1 ? "" : "s", shown(cv.parsimonious.error, 7));
+  said.threshold = fmt::format(
+      "the largest mu whose CV error is at most {} = least CV error {} + its standard error {}",
+      shown(cv.minimum.error + cv.minimum.standard_error, 7), shown(cv.minimum.error, 7),
+      shown(cv.minimum.standard_error, 4));
+  return said;
+}
+
+// How the folds were made (a phrase of the printout and the report).
+std::string folds_phrase(const Selection& s, const SelectArgs& args) {
+  const auto& cv = s.cv;
   if (!args.fold_column.empty())
-    how = fmt::format("{} folds from column \"{}\"", cv.folds.size(), args.fold_column);
-  else if (args.leave_one_out)
-    how = fmt::format("leave-one-out ({} folds)", cv.folds.size());
-  else
-    how = fmt::format("{} folds, seed {}", cv.folds.size(), args.seed);
+    return fmt::format("{} folds from column \"{}\"", cv.folds.size(), args.fold_column);
+  if (args.leave_one_out) return fmt::format("leave-one-out ({} folds)", cv.folds.size());
+  return fmt::format("{} folds, seed {}", cv.folds.size(), args.seed);
+}
+
+// How the folds were made, the exact curve and the two choices.
+void print_cross_validation(std::ostream& out, const Selection& s, const SelectArgs& args) {
+  const auto& cv = s.cv;
+  const std::string how = folds_phrase(s, args);
   out << fmt::format(
       "\nexact cross-validation: {}; the curve is {} quadratic pieces on mu in [{}, {}]\n", how,
       cv.pieces.size(), shown(cv.mu_low), shown(cv.mu_high));
   out << "  (exact: the grid-free minimizer of this K-fold curve, not of the unknown "
          "prediction error)\n";
-  out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", "choice", "lambda", "mu",
-                     "CV error", "SE", "active");
-  // The SE column holds the standard error that sets the threshold (at the
-  // minimum); the parsimonious row has none of its own.
-  auto choice = [&](const char* label, const CurvePoint<double>& c, const std::string& se) {
-    out << fmt::format("  {:<26} {:>11} {:>11} {:>11} {:>10} {:>7}\n", label, shown(c.lambda, 7),
-                       shown(c.mu, 7), shown(c.error, 7), se, active_count(path, c.lambda));
-  };
-  choice("least CV error (exact)", cv.minimum, shown(cv.minimum.standard_error, 4));
-  choice("parsimonious (within 1 SE)", cv.parsimonious, "");
-  out << fmt::format(
-      "  parsimonious: the largest mu whose CV error is at most {} = least CV error {} + its "
-      "standard error {}\n",
-      shown(cv.minimum.error + cv.minimum.standard_error, 7), shown(cv.minimum.error, 7),
-      shown(cv.minimum.standard_error, 4));
+  const ChoiceSentences said = choice_sentences(s);
+  out << "  " << said.least << "\n  " << said.parsimonious << ",\n    " << said.threshold << '\n';
+}
+
+// Where the criteria's noise variance came from (printout and report).
+std::string noise_source_phrase(const InformationCriteria<double>& ic) {
+  std::string source;
+  switch (ic.source) {
+    case NoiseVarianceSource::given:
+      source = "given";
+      break;
+    case NoiseVarianceSource::least_squares:
+      source = fmt::format("least-squares fit, {} residual df", shown(ic.residual_df));
+      break;
+    case NoiseVarianceSource::cross_validated_fit:
+      source = fmt::format(
+          "RSS / (n - active) of the lasso fit at the least CV error, {} residual df "
+          "(Reid, Tibshirani & Friedman 2016); give --noise-variance when it matters",
+          shown(ic.residual_df));
+      break;
+    case NoiseVarianceSource::sparse_fit:
+      source = fmt::format(
+          "rough estimate from a sparse lasso fit, {} residual df; give --noise-variance when "
+          "it matters",
+          shown(ic.residual_df));
+      break;
+  }
+  return source;
+}
+
+// How to read the criteria: the AIC's form and what d counts.
+std::string criteria_reading(const Selection& s) {
+  const auto& options = s.cv.full_path.options();
+  return std::string(
+             "AIC in its unknown-variance form n log(RSS/n) + 2 d; Cp and BIC use the "
+             "noise variance above; d: ") +
+         (options.ridge != 0.0                      ? "the elastic net's trace degrees of freedom"
+          : options.variant == Variant::least_angle ? "the number of steps (Efron et al. 2004)"
+                                                    : "the number of nonzero coefficients") +
+         ", plus the intercept";
 }
 
 // Where Mallows' Cp, AIC and BIC are least.
 void print_criteria(std::ostream& out, const Selection& s) {
   if (s.criteria) {
     const auto& ic = *s.criteria;
-    std::string source;
-    switch (ic.source) {
-      case NoiseVarianceSource::given:
-        source = "given";
-        break;
-      case NoiseVarianceSource::least_squares:
-        source = fmt::format("least-squares fit, {} residual df", shown(ic.residual_df));
-        break;
-      case NoiseVarianceSource::cross_validated_fit:
-        source = fmt::format(
-            "RSS / (n - active) of the lasso fit at the least CV error, {} residual df "
-            "(Reid, Tibshirani & Friedman 2016); give --noise-variance when it matters",
-            shown(ic.residual_df));
-        break;
-      case NoiseVarianceSource::sparse_fit:
-        source = fmt::format(
-            "rough estimate from a sparse lasso fit, {} residual df; give --noise-variance when "
-            "it matters",
-            shown(ic.residual_df));
-        break;
-    }
+    const std::string source = noise_source_phrase(ic);
     out << fmt::format("\ninformation criteria (noise variance {}, {}):\n",
                        shown(ic.noise_variance), source);
     auto best = [&](const char* label, std::size_t i) {
@@ -536,13 +576,7 @@ void print_criteria(std::ostream& out, const Selection& s) {
     best("Mallows' Cp", ic.best_cp);
     best("AIC", ic.best_aic);  // n log(RSS / n) + 2 d: sigma^2 not used
     best("BIC", ic.best_bic);
-    out << "  (AIC in its unknown-variance form n log(RSS/n) + 2 d; Cp and BIC use the noise "
-           "variance above; d: "
-        << (s.cv.full_path.options().ridge != 0.0 ? "the elastic net's trace degrees of freedom"
-            : s.cv.full_path.options().variant == Variant::least_angle
-                ? "the number of steps (Efron et al. 2004)"
-                : "the number of nonzero coefficients")
-        << ", plus the intercept)\n";
+    out << "  (" << criteria_reading(s) << ")\n";
   } else {
     out << "\ninformation criteria: not computed: " << s.criteria_note << '\n';
   }
@@ -589,6 +623,106 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   print_choice_coefficients(out, s, data);
   out << '\n';
   for (const auto& line : caution_lines(true)) out << "caution: " << line << '\n';
+}
+
+// The numbers of the HTML report (issue 19, point 3): the two choices and
+// the coefficients at each, the criteria at every knot, the entry tests.
+// Cells hold the digits of the printout (shown()), so the page and the text
+// agree; the JSON keeps every digit.
+charts::ReportTable choices_table(const Selection& s, const SelectData& data,
+                                  const SelectArgs& args) {
+  const Path<double>& path = s.cv.full_path;
+  const auto& names = data.context.predictor_names;
+  const ChoiceSentences said = choice_sentences(s);
+  charts::ReportTable t;
+  t.heading = "Choices of the penalty";
+  t.id = "choices";
+  t.lead = {fmt::format("Exact cross-validation: {}; the curve is {} quadratic pieces on mu in "
+                        "[{}, {}]. Exact means the grid-free minimizer of this K-fold curve, not "
+                        "of the unknown prediction error.",
+                        folds_phrase(s, args), s.cv.pieces.size(), shown(s.cv.mu_low),
+                        shown(s.cv.mu_high)),
+            said.least + ".", said.parsimonious + ": " + said.threshold + "."};
+  t.columns = {"predictor", "at the least CV error", "parsimonious"};
+  const Solution<double> least = path.at_penalty(s.cv.minimum.lambda);
+  const Solution<double> lean = path.at_penalty(s.cv.parsimonious.lambda);
+  t.rows.push_back({"(intercept)", shown(least.intercept, 8), shown(lean.intercept, 8)});
+  std::size_t zero = 0;
+  for (std::size_t j = 0; j < names.size(); ++j) {
+    const double a = least.coefficients(static_cast<Index>(j)),
+                 b = lean.coefficients(static_cast<Index>(j));
+    if (a == 0 && b == 0) {
+      ++zero;
+      continue;
+    }
+    t.rows.push_back({names[j], shown(a, 8), shown(b, 8)});
+  }
+  t.notes.push_back("Coefficients on the original scale of the data, intercept first.");
+  if (zero) t.notes.push_back(fmt::format("{} more predictors are 0 at both choices.", zero));
+  return t;
+}
+
+charts::ReportTable criteria_table(const Selection& s) {
+  charts::ReportTable t;
+  t.heading = "Information criteria";
+  t.id = "criteria";
+  if (!s.criteria) {
+    t.lead = {"Not computed: " + s.criteria_note};
+    return t;
+  }
+  const auto& ic = *s.criteria;
+  t.lead = {
+      fmt::format("Mallows' Cp, AIC and BIC at every knot of the path; noise variance {} "
+                  "({}).",
+                  shown(ic.noise_variance), noise_source_phrase(ic))};
+  for (const auto& [label, i] : {std::pair<const char*, std::size_t>{"Mallows' Cp", ic.best_cp},
+                                 {"AIC", ic.best_aic},
+                                 {"BIC", ic.best_bic}}) {
+    const auto& c = ic.knots[i];
+    t.lead.push_back(fmt::format("{} is least at step {}: lambda {}, mu {}, {} nonzero.", label,
+                                 c.step, shown(c.penalty, 7), shown(c.mu, 7), c.nonzero));
+    if (std::find(t.marked_rows.begin(), t.marked_rows.end(), i) == t.marked_rows.end())
+      t.marked_rows.push_back(i);
+  }
+  t.columns = {"step", "lambda", "mu", "nonzero", "d", "RSS", "Mallows' Cp", "AIC", "BIC"};
+  t.text_columns.assign(t.columns.size(), false);
+  for (const auto& c : ic.knots)
+    t.rows.push_back({std::to_string(c.step), shown(c.penalty, 7), shown(c.mu, 7),
+                      std::to_string(c.nonzero), shown(c.degrees_of_freedom), shown(c.rss, 7),
+                      shown(c.mallows_cp, 7), shown(c.aic, 7), shown(c.bic, 7)});
+  t.marked_meaning = "Highlighted: a step where at least one criterion is least.";
+  t.notes = {criteria_reading(s) + ".",
+             "AIC is not defined (-) where RSS = 0 or d reaches the number of rows."};
+  return t;
+}
+
+charts::ReportTable entry_tests_table(const Selection& s, const SelectData& data) {
+  charts::ReportTable t;
+  t.heading = "Entry tests";
+  t.id = "entry-tests";
+  if (!s.significance) {
+    t.lead = {"Not computed: " + s.significance_note};
+    return t;
+  }
+  const auto& sig = *s.significance;
+  const auto& names = data.context.predictor_names;
+  t.lead = {"Each entry of the path: " + tests_phrase(sig) + "."};
+  t.columns = {"step",           "predictor",   "sign", "lambda", "mu", "covariance statistic",
+               "p (covariance)", "p (spacing)", "note"};
+  t.text_columns = {false, true, false, false, false, false, false, false, true};
+  for (const auto& e : sig.entries)
+    t.rows.push_back({std::to_string(e.step), names[static_cast<std::size_t>(e.predictor)],
+                      e.sign > 0 ? "+" : "\xE2\x88\x92", shown(e.penalty),
+                      shown(e.penalty / s.cv.full_scale), shown(e.covariance_statistic, 4),
+                      shown_p_value(e.covariance_p_value), shown_p_value(e.spacing_p_value),
+                      e.note});
+  t.notes = test_reading_notes();
+  return t;
+}
+
+std::vector<charts::ReportTable> report_tables(const Selection& s, const SelectData& data,
+                                               const SelectArgs& args) {
+  return {choices_table(s, data, args), criteria_table(s), entry_tests_table(s, data)};
 }
 
 json choice_json(const CurvePoint<double>& c, const Path<double>& path,
@@ -829,7 +963,8 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
       std::cout << "wrote " << args->json_file << '\n';
     }
     if (!args->report_dir.empty()) {
-      const auto files = write_report_dir(args->report_dir, s.cv.full_path, data.context, &curve);
+      const auto files = write_report_dir(args->report_dir, s.cv.full_path, data.context, &curve,
+                                          report_tables(s, data, *args));
       std::cout << "wrote " << files.front() << " (HTML report; charts beside it)\n";
     }
     std::cout.flush();

@@ -294,6 +294,37 @@ std::string coefficient_traces_svg(const ChartPath& path, const ChartOptions& op
 /// follows options.log_penalty and options.decreasing_penalty_left_to_right.
 std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions& options = {});
 
+/// A table of numbers in the HTML report, under its own heading. Plain
+/// data: the caller formats every cell (the report prints them as given),
+/// so a table shows the same digits as the caller's text output.
+struct ReportTable {
+  /// Heading of the section (an h2 element).
+  std::string heading;
+  /// id of the table element: letters, digits, '-' and '_', starting with a
+  /// letter, unique on the page.
+  std::string id;
+  /// Sentences above the table, one paragraph each (may be empty).
+  std::vector<std::string> lead;
+  /// Header cells, one per column; empty (with no rows): the section shows
+  /// only its sentences, e.g. why the numbers are missing.
+  std::vector<std::string> columns;
+  /// Whether each column holds text (left-aligned) rather than numbers
+  /// (right-aligned); empty: the first column is text, the others numbers.
+  std::vector<bool> text_columns;
+  /// The rows, each with exactly one cell per column.
+  std::vector<std::vector<std::string>> rows;
+  /// Rows to highlight (indices into `rows`), e.g. where a criterion is least.
+  std::vector<std::size_t> marked_rows;
+  /// What a highlighted row means, shown under the table when some are marked.
+  std::string marked_meaning;
+  /// Notes under the table, one list item each.
+  std::vector<std::string> notes;
+
+  /// Throws invalid_option naming the first problem (a bad id, a row of the
+  /// wrong width, a marked row out of range).
+  void validate() const;
+};
+
 /// Options of the HTML report.
 struct ReportOptions {
   /// Title of the page (HTML title and heading).
@@ -307,10 +338,14 @@ struct ReportOptions {
   /// Cautions shown in a box below the summary, one item each (e.g. the
   /// assumptions behind p-values); empty: no box.
   std::vector<std::string> cautions;
+  /// Tables of numbers shown after the charts and before the audit of
+  /// events (e.g. a selection's choices, criteria and tests), in this order.
+  std::vector<ReportTable> tables;
 };
 
 /// Chart 4: the one-page report as XHTML-compatible HTML text: summary,
-/// the charts inline as SVG, and the audit table of events. `selection`
+/// the charts inline as SVG, the tables of ReportOptions::tables, and the
+/// audit table of events. `selection`
 /// may be null (no selection section).
 std::string report_html(const ChartPath& path, const ReportOptions& options = {},
                         const SelectionCurve* selection = nullptr);
