@@ -5,6 +5,7 @@
 #include "knotpath/precision.hpp"
 
 #include <fcntl.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -678,55 +679,144 @@ KNOTPATH_REPORTS_FOR(mpfr_float)
 #endif
 #undef KNOTPATH_REPORTS_FOR
 
-void write_atomically(const std::filesystem::path& target,
-                      const std::function<void(std::ostream&)>& write) {
-  std::ostringstream buffer;
-  write(buffer);  // an exception here leaves nothing on disk
-  const std::string content = buffer.str();
+namespace {
 
-  const std::filesystem::path directory =
-      target.has_parent_path() ? target.parent_path() : std::filesystem::path(".");
-  static std::atomic<unsigned> counter{0};
-  std::filesystem::path temporary;
-  int fd = -1;
-  for (int attempt = 0; attempt < 100 && fd < 0; ++attempt) {
-    temporary = directory / fmt::format(".{}.tmp-{}-{}", target.filename().string(),
-                                        static_cast<long>(::getpid()), counter++);
-    fd = ::open(temporary.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
-    if (fd < 0 && errno != EEXIST) break;
-  }
-  if (fd < 0)
-    throw output_error(fmt::format("cannot write {}: {}", target.string(), std::strerror(errno)));
-  auto fail = [&](const char* what) {
-    const int saved = errno;
-    ::close(fd);
-    std::error_code ignored;
-    std::filesystem::remove(temporary, ignored);
+[[noreturn]] void refuse_output(const std::filesystem::path& target, int error, const char* what) {
+  if (what)
     throw output_error(
-        fmt::format("cannot write {}: {} ({})", target.string(), std::strerror(saved), what));
-  };
+        fmt::format("cannot write {}: {} ({})", target.string(), std::strerror(error), what));
+  throw output_error(fmt::format("cannot write {}: {}", target.string(), std::strerror(error)));
+}
+
+// Writes all of `content` to `fd`; false (errno set) on the first error.
+bool write_all(int fd, const std::string& content) {
   std::size_t done = 0;
   while (done < content.size()) {
     const ssize_t n = ::write(fd, content.data() + done, content.size() - done);
     if (n < 0) {
       if (errno == EINTR) continue;
-      fail("write");
+      return false;
     }
     done += static_cast<std::size_t>(n);
   }
-  if (::fsync(fd) != 0 && errno != EINVAL) fail("fsync");
-  if (::close(fd) != 0) {
+  return true;
+}
+
+// How an output path is written (the rules are those of write_atomically).
+struct OutputTarget {
+  std::filesystem::path file;  ///< the path written or renamed over
+  bool direct = false;         ///< written in place: a device, a pipe, a socket, a descriptor
+  int descriptor = -1;         ///< one of this process's descriptors the path names (-1: none)
+};
+
+// Whether `link` (a symbolic link) lives in /proc: a process's descriptor
+// link (/proc/self/fd/N, reached from /dev/stdout or /dev/fd/N) names an open
+// descriptor, not a file one could rename over. When it is one of this
+// process's descriptors, its number goes to `descriptor`: writing through
+// it shares its offset with what the process already wrote there (a second
+// opening of a regular file would write over it).
+bool descriptor_link(const std::filesystem::path& link, int& descriptor) {
+  std::error_code ec;
+  const auto folder = std::filesystem::canonical(
+      link.has_parent_path() ? link.parent_path() : std::filesystem::path("."), ec);
+  if (ec || folder.string().rfind("/proc/", 0) != 0) return false;
+  const std::string own = fmt::format("/proc/{}/fd", static_cast<long>(::getpid()));
+  const std::string name = link.filename().string();
+  if (folder == std::filesystem::path(own) && !name.empty() &&
+      std::all_of(name.begin(), name.end(), [](char c) { return c >= '0' && c <= '9'; }) &&
+      name.size() < 9)
+    descriptor = std::stoi(name);
+  return true;
+}
+
+// Follows the symbolic links of `target` one by one to the path the content
+// belongs to, and says whether it is written in place.
+OutputTarget resolve_output(const std::filesystem::path& target) {
+  OutputTarget out{target, false};
+  for (int hop = 0;; ++hop) {
+    struct stat info {};
+    if (::lstat(out.file.c_str(), &info) != 0) {
+      if (errno == ENOENT) return out;  // a new file (or the missing end of a link)
+      refuse_output(target, errno, nullptr);
+    }
+    if (S_ISREG(info.st_mode)) return out;
+    if (S_ISDIR(info.st_mode)) refuse_output(target, EISDIR, nullptr);
+    if (!S_ISLNK(info.st_mode) || descriptor_link(out.file, out.descriptor)) {
+      out.direct = true;  // device, pipe, socket, open descriptor: never replaced
+      return out;
+    }
+    if (hop == 40) refuse_output(target, ELOOP, nullptr);
+    std::error_code ec;
+    const std::filesystem::path next = std::filesystem::read_symlink(out.file, ec);
+    if (ec) refuse_output(target, ec.value(), nullptr);
+    out.file = next.is_absolute() ? next : out.file.parent_path() / next;
+  }
+}
+
+// In place: the file is opened as it is (no creation, no truncation of a
+// device) and written once; appending keeps what a descriptor already holds.
+void write_in_place(const std::filesystem::path& target, const OutputTarget& where,
+                    const std::string& content) {
+  if (where.descriptor >= 0) {  // the process's own descriptor: written through, left open
+    if (!write_all(where.descriptor, content)) refuse_output(target, errno, "write");
+    return;
+  }
+  const int fd = ::open(where.file.c_str(), O_WRONLY | O_APPEND | O_CLOEXEC | O_NOCTTY);
+  if (fd < 0) refuse_output(target, errno, nullptr);
+  if (!write_all(fd, content)) {
     const int saved = errno;
+    ::close(fd);
+    refuse_output(target, saved, "write");
+  }
+  if (::close(fd) != 0) refuse_output(target, errno, "close");
+}
+
+// A temporary file beside the file, renamed over it when complete.
+void replace_atomically(const std::filesystem::path& target, const std::filesystem::path& file,
+                        const std::string& content) {
+  const std::filesystem::path directory =
+      file.has_parent_path() ? file.parent_path() : std::filesystem::path(".");
+  static std::atomic<unsigned> counter{0};
+  std::filesystem::path temporary;
+  int fd = -1;
+  for (int attempt = 0; attempt < 100 && fd < 0; ++attempt) {
+    temporary = directory / fmt::format(".{}.tmp-{}-{}", file.filename().string(),
+                                        static_cast<long>(::getpid()), counter++);
+    fd = ::open(temporary.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
+    if (fd < 0 && errno != EEXIST) break;
+  }
+  if (fd < 0) refuse_output(target, errno, nullptr);
+  auto fail = [&](int saved, const char* what) {
     std::error_code ignored;
     std::filesystem::remove(temporary, ignored);
-    throw output_error(fmt::format("cannot write {}: {}", target.string(), std::strerror(saved)));
-  }
-  if (::rename(temporary.c_str(), target.c_str()) != 0) {
+    refuse_output(target, saved, what);
+  };
+  if (!write_all(fd, content)) {
     const int saved = errno;
-    std::error_code ignored;
-    std::filesystem::remove(temporary, ignored);
-    throw output_error(fmt::format("cannot write {}: {}", target.string(), std::strerror(saved)));
+    ::close(fd);
+    fail(saved, "write");
   }
+  if (::fsync(fd) != 0 && errno != EINVAL) {
+    const int saved = errno;
+    ::close(fd);
+    fail(saved, "fsync");
+  }
+  if (::close(fd) != 0) fail(errno, nullptr);
+  if (::rename(temporary.c_str(), file.c_str()) != 0) fail(errno, nullptr);
+}
+
+}  // namespace
+
+void write_atomically(const std::filesystem::path& target,
+                      const std::function<void(std::ostream&)>& write) {
+  std::ostringstream buffer;
+  write(buffer);  // an exception here leaves nothing on disk
+  const std::string content = buffer.str();
+  const OutputTarget where = resolve_output(target);
+  if (where.direct)
+    write_in_place(target, where, content);
+  else
+    replace_atomically(target, where.file, content);
 }
 
 std::string suspect_advice_text(const RunContext& context) {

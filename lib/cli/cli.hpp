@@ -99,10 +99,43 @@ struct TracedTable {
   io::RunContext context;
 };
 
-/// Writes `file` atomically (io::write_atomically); a file system that
-/// refuses becomes failure(exit_io).
+/// Writes `file` by io::write_atomically's rules (atomic for files, in
+/// place for devices and pipes); "-" is standard output. What the program
+/// printed before is flushed first, so that an output sharing its
+/// descriptor (/dev/fd/1) follows it. A refusal becomes failure(exit_io).
 void write_output(const std::filesystem::path& file,
                   const std::function<void(std::ostream&)>& write);
+
+/// Hands standard output to the machine-readable output `option` names
+/// ("--knots -", "--json -"): from then on the printed text (audit, notes,
+/// "wrote" lines) goes to standard error, and write_output("-") writes to
+/// the real standard output. A second claim is a usage error naming both.
+void give_standard_output_to(const std::string& option);
+
+/// Flushes standard output (the printed text and any output given to it)
+/// and returns the reason when any write to it failed (empty: all written).
+std::string finish_standard_output();
+
+/// Descriptors 0, 1 and 2 closed at start are reopened on /dev/null in the
+/// direction that fails (stdin write-only, stdout and stderr read-only): a
+/// file the program opens never takes their number, and a write to a
+/// closed standard output is an error, not a write into that file.
+void reserve_standard_descriptors();
+
+/// The one home of the wording of a message for the user: the library's
+/// "knotpath: " prefix removed (main() adds exactly one), and the library's
+/// names of options (`option 'sign_constraints'`, InferenceOptions::
+/// noise_variance, ...) replaced by the program's options.
+std::string user_text(std::string message);
+
+/// Prints "knotpath: " + user_text(message) on standard error.
+void print_error(const std::string& message);
+
+/// "must be a number >= 0" (and "> 0") checks for numeric options, with the
+/// text given quoted in the message.
+CLI::Validator non_negative_number();
+/// \copydoc non_negative_number
+CLI::Validator positive_number();
 
 /// The message of a data error for the user: a whole predictor column is
 /// named by its table name (the library counts columns from 0), any other

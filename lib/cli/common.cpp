@@ -2,13 +2,17 @@
 // tracing a table, writing outputs, the exit status of a finished run, the
 // progress line.
 
+#include <fcntl.h>
 #include <unistd.h>
 
 #include <algorithm>
 #include <cctype>
 #include <chrono>
+#include <cerrno>
 #include <cmath>
 #include <cstdio>
+#include <cstring>
+#include <sstream>
 #include <iostream>
 
 #include <fmt/format.h>
@@ -65,7 +69,7 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
                   "Predictors whose coefficient must be <= 0 (names, or all)")
       ->group("Model");
   command.add_option("--ridge", args.ridge, "Ridge weight (elastic net); 0 = plain lasso")
-      ->check(CLI::NonNegativeNumber)
+      ->check(non_negative_number())
       ->group("Model");
   command.add_option("--use", args.use, "Use only these predictors (names, comma separated)")
       ->group("Model");
@@ -76,7 +80,7 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
   command
       .add_option("--min-penalty", args.min_penalty,
                   "Stop when the penalty would fall below this value")
-      ->check(CLI::NonNegativeNumber)
+      ->check(non_negative_number())
       ->group("Stopping");
   command
       .add_option("--max-active", args.max_active,
@@ -123,7 +127,7 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
   command
       .add_option("--max-columns", args.max_columns,
                   "Refuse a table whose header has more columns than this")
-      ->check(CLI::PositiveNumber)
+      ->check(positive_number())
       ->default_str("100000")
       ->group("Table");
   command
@@ -497,13 +501,137 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   return out;
 }
 
+namespace {
+// The real standard output's buffer while a machine-readable output holds
+// standard output (std::cout then prints to standard error); null otherwise.
+std::streambuf* given_stdout = nullptr;
+std::string given_to;  // the option holding it
+}  // namespace
+
+void give_standard_output_to(const std::string& option) {
+  if (given_stdout)
+    throw failure(exit_usage, fmt::format("{} - and {} - would both write to standard output; "
+                                          "give one of them a file name",
+                                          given_to, option));
+  std::cout.flush();
+  given_to = option;
+  given_stdout = std::cout.rdbuf(std::cerr.rdbuf());
+}
+
 void write_output(const std::filesystem::path& file,
                   const std::function<void(std::ostream&)>& write) {
+  std::cout.flush();
+  std::fflush(stdout);
+  if (file == "-") {
+    std::ostringstream buffer;
+    write(buffer);
+    std::ostream out(given_stdout ? given_stdout : std::cout.rdbuf());
+    out << buffer.str();
+    out.flush();
+    errno = 0;
+    if (!out || std::fflush(stdout) != 0)
+      throw failure(exit_io, "cannot write standard output" +
+                                 (errno ? std::string(": ") + std::strerror(errno) : ""));
+    return;
+  }
   try {
     io::write_atomically(file, write);
   } catch (const io::output_error& e) {
     throw failure(exit_io, e.what());
   }
+}
+
+std::string finish_standard_output() {
+  std::cout.flush();
+  if (given_stdout) {
+    std::cout.rdbuf(given_stdout);  // the state of the text sent to stderr is not stdout's
+    std::cout.clear();
+    given_stdout = nullptr;
+  }
+  errno = 0;
+  bool failed = !std::cout.flush();
+  if (std::fflush(stdout) != 0) failed = true;
+  if (std::ferror(stdout)) failed = true;
+  if (!failed) return {};
+  const int error = errno;
+  return error ? fmt::format("cannot write standard output: {}", std::strerror(error))
+               : "cannot write standard output";
+}
+
+void reserve_standard_descriptors() {
+  for (const int fd : {STDIN_FILENO, STDOUT_FILENO, STDERR_FILENO}) {
+    if (::fcntl(fd, F_GETFD) != -1 || errno != EBADF) continue;
+    const int spare = ::open("/dev/null", fd == STDIN_FILENO ? O_WRONLY : O_RDONLY);
+    if (spare >= 0 && spare != fd) {
+      ::dup2(spare, fd);
+      ::close(spare);
+    }
+  }
+}
+
+std::string user_text(std::string message) {
+  static const std::string prefix = "knotpath: ";
+  while (message.rfind(prefix, 0) == 0) message.erase(0, prefix.size());
+  // The library's option fields as the program's users know them.
+  struct Name {
+    const char* library;
+    const char* program;
+  };
+  static const Name names[] = {
+      {"option 'sign_constraints'", "--nonnegative/--nonpositive"},
+      {"option 'penalty_scales'", "--penalty-scale"},
+      {"option 'unpenalized'", "--unpenalized"},
+      {"option 'left_out'", "--drop"},
+      {"option 'ridge'", "--ridge"},
+      {"option 'min_penalty'", "--min-penalty"},
+      {"option 'max_knots'", "--max-knots"},
+      {"option 'max_active'", "--max-active"},
+      {"option 'standardize'", "--no-standardize"},
+      {"option 'with_intercept'", "--no-intercept"},
+      {"option 'variant'", "--variant"},
+      {"option 'threads'", "--threads"},
+      {"option 'delimiter'", "--delimiter"},
+      {"option 'noise_variance'", "--noise-variance"},
+      {"option 'folds'", "--folds"},
+      {"option 'fold_of'", "--fold-column"},
+      {"option 'predictor_names'", "the predictor names"},
+      {"CriteriaOptions::noise_variance", "--noise-variance"},
+      {"InferenceOptions::noise_variance", "--noise-variance"},
+  };
+  for (const Name& name : names) {
+    const std::string library = name.library;
+    for (auto at = message.find(library); at != std::string::npos; at = message.find(library))
+      message.replace(at, library.size(), name.program);
+  }
+  return message;
+}
+
+void print_error(const std::string& message) {
+  std::cerr << "knotpath: " << user_text(message) << '\n';
+  std::cerr.flush();
+}
+
+namespace {
+CLI::Validator number_check(bool zero_allowed) {
+  return CLI::Validator(
+      [zero_allowed](std::string& text) -> std::string {
+        double value = 0;
+        std::istringstream in(text);
+        in >> value;
+        const bool number = in && (in >> std::ws).eof() && std::isfinite(value);
+        if (number && (zero_allowed ? value >= 0 : value > 0)) return {};
+        return fmt::format("\"{}\" is not a finite number {} 0", text, zero_allowed ? ">=" : ">");
+      },
+      zero_allowed ? "NUMBER >= 0" : "NUMBER > 0");
+}
+}  // namespace
+
+CLI::Validator non_negative_number() {
+  return number_check(true);
+}
+
+CLI::Validator positive_number() {
+  return number_check(false);
 }
 
 int step_limit_status(bool hit, const std::string& which) {
@@ -552,9 +680,7 @@ std::vector<std::string> split_list(const std::vector<std::string>& values,
 std::string data_message(const invalid_data& e, const std::vector<std::string>& names) {
   if (e.whole_column() && *e.column() < names.size())
     return "predictor \"" + names[*e.column()] + "\"" + e.detail();
-  std::string why = e.what();
-  if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-  return why;
+  return user_text(e.what());
 }
 
 }  // namespace knotpath::cli

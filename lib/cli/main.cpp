@@ -7,14 +7,47 @@
 #include "cli.hpp"
 #include "select_command.hpp"
 
+namespace {
+
+using namespace knotpath::cli;
+
+// --knots - and --json - of every command hand standard output to that
+// output before the command runs (give_standard_output_to).
+void route_dash_outputs(CLI::App& app) {
+  for (CLI::App* command : app.get_subcommands({}))
+    for (const char* name : {"--knots", "--json"})
+      if (CLI::Option* option = command->get_option_no_throw(name)) {
+        option->description(option->get_description() + " (-: standard output)");
+        option->each([name = std::string(name)](const std::string& value) {
+          if (value == "-") give_standard_output_to(name);
+        });
+      }
+}
+
+// Standard output is checked last, after the command's own status: a
+// failed write to it (a full disk, a closed pipe) is an I/O error.
+int checked_exit(int status) {
+  const std::string failed = finish_standard_output();
+  if (failed.empty()) return status;
+  print_error(failed);
+  return status == exit_ok ? exit_io : status;
+}
+
+}  // namespace
+
 int main(int argc, char** argv) {
   using namespace knotpath::cli;
+  reserve_standard_descriptors();
   CLI::App app{"knotpath " + version() +
                ": exact lasso and least-angle regularization paths of a table"};
   app.name("knotpath");
   app.set_version_flag("--version", "knotpath " + version());
   app.require_subcommand(1);
   app.fallthrough();
+  app.failure_message([](const CLI::App*, const CLI::Error& e) {
+    return "knotpath: " + user_text(e.what()) +
+           "\n(knotpath --help lists the commands, knotpath COMMAND --help their options)\n";
+  });
   Global global;
   app.add_flag("--quiet,-q", global.quiet, "Show no progress line on stderr");
   app.footer(
@@ -30,23 +63,26 @@ int main(int argc, char** argv) {
   add_demo_command(app, global);
   add_verify_command(app, global);
   add_select_command(app, global);
+  route_dash_outputs(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
     const int code = app.exit(e);  // prints help, version or the parse error
-    return code == 0 ? exit_ok : exit_usage;
+    return checked_exit(code == 0 ? exit_ok : exit_usage);
   } catch (const failure& e) {
-    std::cerr << "knotpath: " << e.what() << '\n';
-    return e.code();
+    print_error(e.what());
+    return checked_exit(e.code());
   } catch (const knotpath::io::table_error& e) {
-    std::cerr << "knotpath: " << e.what() << '\n';
-    return e.kind() == knotpath::io::table_error::Kind::input_output ? exit_io : exit_bad_input;
+    print_error(e.what());
+    return checked_exit(e.kind() == knotpath::io::table_error::Kind::input_output ? exit_io
+                                                                                  : exit_bad_input);
   } catch (const std::bad_alloc&) {
-    std::cerr << "knotpath: out of memory\n";
-    return exit_internal;
+    print_error("out of memory");
+    return checked_exit(exit_internal);
   } catch (const std::exception& e) {
-    std::cerr << "knotpath: internal error: " << e.what() << '\n';
-    return exit_internal;
+    const std::string why = user_text(e.what());
+    print_error(why.rfind("internal error: ", 0) == 0 ? why : "internal error: " + why);
+    return checked_exit(exit_internal);
   }
-  return global.status;
+  return checked_exit(global.status);
 }

@@ -237,14 +237,7 @@ struct Selection {
 };
 
 std::string reason_of(const std::exception& e) {
-  std::string why = e.what();
-  if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-  // The program's users know the option, not the library's field.
-  for (const std::string field :
-       {"CriteriaOptions::noise_variance", "InferenceOptions::noise_variance"})
-    for (auto at = why.find(field); at != std::string::npos; at = why.find(field))
-      why.replace(at, field.size(), "--noise-variance");
-  return why;
+  return user_text(e.what());  // the program's users know the option, not the library's field
 }
 
 // The criteria from the statistics when there are some and their
@@ -912,7 +905,7 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
   command
       ->add_option("--noise-variance", args->noise_variance,
                    "Noise variance sigma^2 for the criteria and tests (default: estimated)")
-      ->check(CLI::PositiveNumber)
+      ->check(positive_number())
       ->group("Criteria");
   command
       ->add_flag("--no-tests", args->no_tests,

@@ -144,11 +144,19 @@ template <class Scalar>
 std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scalar>& path,
                               const std::vector<std::string>& names, bool csv);
 
-/// Writes a file atomically: `write` fills a temporary file in the same
-/// directory, which is flushed and renamed over `target` only when `write`
-/// returns normally and every byte was written. On any failure the
-/// temporary file is removed, `target` is untouched, and the exception
-/// propagates (output_error with the file name for I/O failures).
+/// Writes an output file: `write` fills a buffer first, so an exception from
+/// it leaves nothing on disk. Then, by what `target` is:
+/// - a regular file or a new path: a temporary file in the same directory is
+///   written, flushed and renamed over it only when every byte was written;
+///   on any failure the temporary file is removed and the file is untouched;
+/// - a symbolic link: followed link by link; the rule above applies next to
+///   the file it finally names (the link stays a link);
+/// - anything else (a device, a named pipe, a socket, an open descriptor
+///   such as /dev/stdout): opened as it is, without creating or replacing it,
+///   and written once (appending);
+/// - a directory: refused.
+/// Every failure, a write to a full device included, throws output_error
+/// with the file name and the system's reason.
 void write_atomically(const std::filesystem::path& target,
                       const std::function<void(std::ostream&)>& write);
 
