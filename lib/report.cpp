@@ -833,4 +833,6 @@ std::string estimated_error_text(double estimate) {
       "estimated relative error up to {:.2g} of the printed coefficients and intercept", estimate);
 }
 
+std::string csv_text_field(const std::string& text) { return csv_field(text); }
+
 }  // namespace knotpath::io

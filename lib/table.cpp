@@ -448,6 +448,7 @@ ColumnPlan select_columns(const Header& header, const TableReadOptions& options)
     const std::size_t j = header.find(name);
     plan.state[j] = ColumnState::indicator;
   }
+  if (options.keep_row_keys && !options.key_column.empty()) header.find(options.key_column);  // must exist
   for (const auto& name : options.skip) {
     if (!header.lookup(name) && indicator_source(header, name, indicators)) continue;
     const std::size_t j = header.find(name);
@@ -635,6 +636,23 @@ class RowReader {
       table_.columns[slot_[j]].push_back(row_value_[j]);
       if (options_.keep_decimal_text) table_.decimal_text[slot_[j]].push_back(row_text_[j]);
     }
+    if (options_.keep_row_keys) keep_key(fields);
+  }
+
+  // The row's key (TableReadOptions::keep_row_keys). The key column is fixed
+  // at the first kept row, when every column read has been typed.
+  void keep_key(const std::vector<Field>& fields) {
+    if (!key_chosen_) {
+      key_chosen_ = true;
+      for (std::size_t j = 0; j < header_.width(); ++j)
+        if (options_.key_column.empty() ? plan_.state[j] == ColumnState::text
+                                        : header_.names[j] == options_.key_column) {
+          key_position_ = j;
+          table_.key_name = header_.names[j];
+          break;
+        }
+    }
+    if (key_position_ < header_.width()) table_.keys.emplace_back(trim(fields[key_position_].text));
   }
 
   // Records the level of a kept row's cell j; a level beyond the limit is an error.
@@ -732,6 +750,8 @@ class RowReader {
   std::vector<char> row_has_;
   std::vector<std::string> row_text_;  // decimal text (point) or level of each cell read
   std::vector<LevelColumn> levels_;
+  bool key_chosen_ = false;
+  std::size_t key_position_ = static_cast<std::size_t>(-1);  // header position of the key column
 };
 
 // The table with its numeric columns in file order (discovery order can
@@ -753,6 +773,8 @@ Table in_file_order(Table& table, const std::vector<std::size_t>& slot_position,
     if (keep_decimal_text) sorted.decimal_text.push_back(std::move(table.decimal_text[k]));
   }
   sorted.text_columns = std::move(table.text_columns);
+  sorted.key_name = std::move(table.key_name);
+  sorted.keys = std::move(table.keys);
   sorted.skipped_columns = std::move(table.skipped_columns);
   sorted.decimal_comma_columns = std::move(table.decimal_comma_columns);
   sorted.indicator_columns = std::move(table.indicator_columns);

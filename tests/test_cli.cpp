@@ -324,6 +324,8 @@ TEST_F(Cli, AtAgreesWithTheLibraryQueries) {
     std::stringstream s(r.out);
     std::string line;
     std::getline(s, line);
+    EXPECT_EQ(line.rfind("# point: penalty ", 0), 0u) << line;  // the point answered
+    std::getline(s, line);
     EXPECT_EQ(line, "predictor,coefficient");
     std::getline(s, line);
     auto cells = split(line);

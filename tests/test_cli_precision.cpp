@@ -303,7 +303,8 @@ TEST_F(CliPrecision, ExactModePrintsTheHandComputedLeastSquaresFractions) {
   const Outcome at = run("at small.csv --response y --precision exact --no-standardize "
                          "--relative-budget 1 --csv");
   ASSERT_EQ(at.code, 0) << at.err;
-  const auto lines = csv_rows(at.out);
+  ASSERT_EQ(at.out.rfind("# point: penalty 0/1, mu 0\n", 0), 0u) << at.out;  // the point, exactly
+  const auto lines = csv_rows(at.out.substr(at.out.find('\n') + 1));
   ASSERT_EQ(lines.size(), 4u);
   EXPECT_EQ(lines[0], (std::vector<std::string>{"predictor", "coefficient", "decimal:coefficient"}));
   EXPECT_EQ(lines[1][1], b0);
@@ -330,7 +331,8 @@ TEST_F(CliPrecision, ExactModeAnswersMuThroughLambdaOverN) {
   EXPECT_EQ(by_mu.out, by_penalty.out);
   // A point inside the path (some coefficient not zero), not the start.
   EXPECT_NE(by_mu.out.find("x1,"), std::string::npos);
-  const auto lines = csv_rows(by_mu.out);
+  ASSERT_EQ(by_mu.out.rfind("# point: penalty 3/20, mu 0.029999999999999999\n", 0), 0u) << by_mu.out;
+  const auto lines = csv_rows(by_mu.out.substr(by_mu.out.find('\n') + 1));
   ASSERT_EQ(lines.size(), 4u);
   EXPECT_TRUE(lines[2][1] != "0/1" || lines[3][1] != "0/1") << by_mu.out;
   // The help text states both conversions.

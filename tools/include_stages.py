@@ -30,7 +30,7 @@ STAGES = [
     ("front door", ["core.hpp"]),
     ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
                                          "inference.hpp", "precision.hpp"]),
-    ("io", ["io/table.hpp", "io/roles.hpp", "io/report.hpp", "io/charts.hpp"]),
+    ("io", ["io/table.hpp", "io/roles.hpp", "io/report.hpp", "io/charts.hpp", "io/saved.hpp"]),
     ("umbrella", ["knotpath.hpp"]),
 ]
 

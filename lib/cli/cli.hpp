@@ -90,6 +90,9 @@ struct ModelArgs {
 std::vector<std::string> split_list(const std::vector<std::string>& values,
                                     const std::string& option);
 
+/// The delimiter of a --delimiter word (auto: 0, comma, semicolon, tab, whitespace).
+char table_delimiter(const std::string& word);
+
 /// Adds the table-reading and model options to a command.
 void add_model_options(CLI::App& command, ModelArgs& args);
 
@@ -179,13 +182,21 @@ struct PointArgs {
   std::string penalty_text, mu_text, budget_text, relative_budget_text;
 };
 
+/// How `at` prints its answer (print_point in point_answer.hpp).
+enum class PointOutput {
+  table,  ///< the heading, then the aligned coefficient table
+  csv,    ///< "# point: penalty L, mu M", then predictor,coefficient lines
+  json,   ///< the JSON document of the point (point_document)
+};
+
 /// trace and at in an arithmetic other than double (lib/cli/precision.cpp);
 /// each returns the exit status.
 int trace_with_precision(const std::string& table, const ModelArgs& model,
                          const PrecisionArgs& precision, const std::string& knots_file,
-                         const std::string& json_file, const Global& global);
+                         const std::string& json_file, const std::string& save_file,
+                         const Global& global);
 int at_with_precision(const std::string& table, const ModelArgs& model,
-                      const PrecisionArgs& precision, const PointArgs& point, bool csv,
+                      const PrecisionArgs& precision, const PointArgs& point, PointOutput output,
                       const Global& global);
 
 /// A progress line on stderr: shown only when stderr is a terminal, the
@@ -218,5 +229,6 @@ CLI::App* add_trace_command(CLI::App& app, Global& global);
 CLI::App* add_at_command(CLI::App& app, Global& global);
 CLI::App* add_demo_command(CLI::App& app, Global& global);
 CLI::App* add_verify_command(CLI::App& app, Global& global);
+CLI::App* add_predict_command(CLI::App& app, Global& global);
 
 }  // namespace knotpath::cli

@@ -12,6 +12,7 @@
 #include "path_checks.hpp"
 #include "point_answer.hpp"
 #include "report_folder.hpp"
+#include "saved_file.hpp"
 #include "typed_trace.hpp"
 
 namespace knotpath::cli {
@@ -25,6 +26,7 @@ struct TraceArgs {
   std::string knots_file;
   std::string json_file;
   std::string report_dir;
+  std::string save_file;
 };
 
 struct AtArgs {
@@ -37,7 +39,48 @@ struct AtArgs {
   std::optional<double>& budget = point.budget;
   std::optional<double>& relative_budget = point.relative_budget;
   bool csv = false;
+  bool json = false;
+  std::string saved;   // --path: a saved path instead of TABLE
+  std::string choice;  // --choice: a penalty saved with it
 };
+
+// A saved path asked at the point of `at` (the values' command-line text).
+SavedPointArgs saved_point_args(const AtArgs& args) {
+  SavedPointArgs p;
+  if (args.penalty) p.penalty = args.point.penalty_text;
+  if (args.mu) p.mu = args.point.mu_text;
+  if (args.budget) p.budget = args.point.budget_text;
+  if (args.relative_budget) p.relative_budget = args.point.relative_budget_text;
+  p.choice = args.choice;
+  return p;
+}
+
+// `at --path SAVED`: the table options describe a trace, which a saved path
+// has had already; giving one is a usage error rather than silently ignored.
+void refuse_trace_options(const CLI::App& command) {
+  for (const CLI::Option* option : command.get_options()) {
+    const std::string& group = option->get_group();
+    if ((group == "Model" || group == "Stopping" || group == "Table" || group == "Arithmetic" ||
+         group == "Performance") &&
+        option->count() > 0)
+      throw failure(exit_usage, option->get_name() +
+                                    " describes how a table is traced; with --path the saved path is "
+                                    "used as it was traced");
+  }
+}
+
+int at_saved_path(const AtArgs& args, PointOutput output) {
+  return with_saved_path(args.saved, [&](const auto& saved) {
+    const auto& path = saved.path;
+    const auto [solution, asked] = saved_point(saved, saved_point_args(args), args.saved);
+    const PointAnswer answer = describe_point(path, solution, asked);
+    std::vector<std::string> names;
+    for (Index j = 0; j < path.predictor_count(); ++j) names.push_back(path.predictor_name(j));
+    print_point(path, solution, asked, answer, names, output);
+    std::cout.flush();
+    return exit_ok;
+  });
+}
 
 // The solution at the point `at` asks for, and the question.
 struct Point {
@@ -105,16 +148,21 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
       ->add_option("--report", args->report_dir,
                    "Write an HTML report with charts (report.html and SVG files) into this folder")
       ->group("Output");
+  command
+      ->add_option("--save", args->save_file,
+                   "Save the path, exactly, for knotpath predict and knotpath at --path")
+      ->group("Output");
   command->footer(
       "Example:\n"
-      "  knotpath trace patients.csv --response progression --knots knots.csv --json path.json\n");
+      "  knotpath trace patients.csv --response progression --knots knots.csv --json path.json\n"
+      "  knotpath trace patients.csv --response progression --save model.kpath\n");
   command->callback([args, &global] {
     if (args->precision.precision != "double" || args->precision.digits != 0) {
       if (!args->report_dir.empty())
         throw failure(exit_usage,
                       "--report draws the double path: it cannot be combined with --precision");
       global.status = trace_with_precision(args->table, args->model, args->precision,
-                                           args->knots_file, args->json_file, global);
+                                           args->knots_file, args->json_file, args->save_file, global);
       return;
     }
     TracedTable traced = trace_table(args->table, args->model, global);
@@ -122,6 +170,10 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
     std::cout << io::audit_text(traced.path, traced.context);
     std::vector<std::string> written;
     write_path_outputs(traced.path, traced.context, args->knots_file, args->json_file, written);
+    if (!args->save_file.empty()) {
+      write_saved(args->save_file, traced.path, traced.context);
+      written.push_back(args->save_file);
+    }
     if (!args->report_dir.empty())
       written.push_back(
           write_report_dir(args->report_dir, traced.path, traced.context, nullptr).front());
@@ -136,9 +188,15 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
   auto args = std::make_shared<AtArgs>();
   CLI::App* command = app.add_subcommand(
       "at", "Coefficients (original scale, intercept first) at one point of the path");
-  command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
-      ->required();
+  command->add_option("TABLE", args->table,
+                      "Delimited text table with a header row; - reads stdin (or give --path instead)");
+  command
+      ->add_option("--path", args->saved,
+                   "A path saved by knotpath trace --save or select --save, asked instead of tracing a "
+                   "TABLE (in the arithmetic it was saved in)")
+      ->group("Saved path");
   add_model_options(*command, args->model);
+  command->get_option("--response")->required(false);  // required with TABLE (checked below)
   add_precision_options(*command, args->precision);
   auto keep = [](std::string& text) { return [&text](const std::string& s) { text = s; }; };
   auto* penalty = command->add_option("--penalty", args->penalty, "Penalty lambda (>= 0)")
@@ -165,20 +223,47 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
                        "Relative budget R in [0, 1]: the L1 budget R times the final L1 norm")
           ->each(keep(args->point.relative_budget_text))
           ->group("Point");
-  penalty->excludes(mu)->excludes(budget)->excludes(relative);
-  mu->excludes(budget)->excludes(relative);
-  budget->excludes(relative);
-  command->add_flag("--csv", args->csv, "Print predictor,coefficient lines instead of a table")
+  auto* choice = command
+                     ->add_option("--choice", args->choice,
+                                  std::string("With --path: a penalty saved by knotpath select --save (") +
+                                      least_error_choice + " or " + parsimonious_choice + ")")
+                     ->group("Point");
+  penalty->excludes(mu)->excludes(budget)->excludes(relative)->excludes(choice);
+  mu->excludes(budget)->excludes(relative)->excludes(choice);
+  budget->excludes(relative)->excludes(choice);
+  relative->excludes(choice);
+  auto* csv = command->add_flag("--csv", args->csv,
+                                "Print a '# point: penalty L, mu M' line, then predictor,coefficient lines")
+                  ->group("Output");
+  command
+      ->add_flag("--json", args->json,
+                 "Print the point as a JSON document: what was asked, penalty, mu, L1 norm, "
+                 "intercept and every coefficient by name")
+      ->excludes(csv)
       ->group("Output");
   command->footer(
       "Example:\n"
-      "  knotpath at patients.csv --response progression --relative-budget 0.5 --csv\n");
-  command->callback([args, &global] {
-    if (!args->penalty && !args->mu && !args->budget && !args->relative_budget)
-      throw failure(exit_usage, "at: give one of --penalty, --mu, --budget or --relative-budget");
+      "  knotpath at patients.csv --response progression --relative-budget 0.5 --csv\n"
+      "  knotpath at --path model.kpath --choice parsimonious --json\n");
+  command->callback([args, command, &global] {
+    const PointOutput output = args->json ? PointOutput::json : args->csv ? PointOutput::csv : PointOutput::table;
+    if (!args->penalty && !args->mu && !args->budget && !args->relative_budget && args->choice.empty())
+      throw failure(exit_usage, "at: give one of --penalty, --mu, --budget, --relative-budget or (with --path) --choice");
+    if (!args->saved.empty()) {
+      if (!args->table.empty())
+        throw failure(exit_usage, "at: give a TABLE to trace or --path SAVED, not both");
+      refuse_trace_options(*command);
+      global.status = at_saved_path(*args, output);
+      return;
+    }
+    if (args->table.empty()) throw failure(exit_usage, "at: give a TABLE to trace (or --path SAVED)");
+    if (args->model.response.empty()) throw failure(exit_usage, "at: --response is required with a TABLE");
+    if (!args->choice.empty())
+      throw failure(exit_usage,
+                    "--choice names a penalty saved with a path: use it with --path SAVED (a file written "
+                    "by knotpath select --save)");
     if (args->precision.precision != "double" || args->precision.digits != 0) {
-      global.status = at_with_precision(args->table, args->model, args->precision, args->point,
-                                        args->csv, global);
+      global.status = at_with_precision(args->table, args->model, args->precision, args->point, output, global);
       return;
     }
     TracedTable traced = trace_table(args->table, args->model, global);
@@ -188,11 +273,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     const Solution<double>& solution = point.solution;
     const PointAnswer answer = describe_point(path, solution, point.asked);
     warn_if_suspect(path, solution, traced.context);
-    if (!args->csv)
-      std::cout << answer.heading;
-    else if (!answer.note.empty())
-      std::cerr << "knotpath: note: " << answer.note << '\n';
-    std::cout << io::coefficient_table(solution, path, traced.context.predictor_names, args->csv);
+    print_point(path, solution, point.asked, answer, traced.context.predictor_names, output);
     std::cout.flush();
     global.status = finished_status(path);
   });

@@ -683,4 +683,6 @@ std::string data_message(const invalid_data& e, const std::vector<std::string>& 
   return user_text(e.what());
 }
 
+char table_delimiter(const std::string& word) { return delimiter_char(word); }
+
 }  // namespace knotpath::cli

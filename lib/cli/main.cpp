@@ -57,6 +57,8 @@ int main(int argc, char** argv) {
       "  knotpath at data.csv --response y --penalty 2.5\n"
       "  knotpath verify data.csv --response y\n"
       "  knotpath select data.csv --response y --report report\n"
+      "  knotpath select data.csv --response y --save model.kpath\n"
+      "  knotpath predict model.kpath new.csv --choice least-error --out scores.csv\n"
       "Run 'knotpath COMMAND --help' for the options of one command.\n");
   add_trace_command(app, global);
   add_at_command(app, global);
@@ -64,6 +66,7 @@ int main(int argc, char** argv) {
   add_verify_command(app, global);
   add_select_command(app, global);
   route_dash_outputs(app);
+  add_predict_command(app, global);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

@@ -7,10 +7,13 @@
 // then prints no coefficients: a script must not read the last knot's as
 // the answer).
 
+#include <iostream>
 #include <string>
 #include <type_traits>
+#include <vector>
 
 #include <fmt/format.h>
+#include <nlohmann/json.hpp>
 
 #include "cli.hpp"
 
@@ -126,6 +129,73 @@ PointAnswer describe_point(const Path<Scalar>& path, const Solution<Scalar>& sol
                                shown(solution.penalized_l1));
   if (!answer.note.empty()) answer.heading += answer.note + '\n';
   return answer;
+}
+
+/// The word of a point's kind in the JSON document.
+inline const char* point_kind_word(PointKind kind) {
+  switch (kind) {
+    case PointKind::budget: return "budget";
+    case PointKind::relative_budget: return "relative_budget";
+    case PointKind::penalty: break;
+  }
+  return "penalty";
+}
+
+/// The JSON document of `at --json` ("format" "knotpath-point", version 1):
+/// what was asked (words and kind), the arithmetic, the penalty answered,
+/// its mu, the penalized L1 norm, the intercept, every predictor's
+/// coefficient by name (zeros included, in the path's order), and the note.
+/// Numbers are JSON numbers for double, else exact text (io::number_text);
+/// mu is always a number (square roots have no exact value).
+template <class Scalar>
+nlohmann::ordered_json point_document(const Path<Scalar>& path, const Solution<Scalar>& solution,
+                                      const AskedPoint<Scalar>& asked, const PointAnswer& answer,
+                                      const std::vector<std::string>& names) {
+  using json = nlohmann::ordered_json;
+  auto number = [](const Scalar& v) -> json {
+    if constexpr (std::is_same_v<Scalar, double>)
+      return v;
+    else
+      return io::number_text(v);
+  };
+  json doc;
+  doc["format"] = "knotpath-point";
+  doc["format_version"] = 1;
+  doc["asked"] = asked.words;
+  doc["asked_kind"] = point_kind_word(asked.kind);
+  doc["arithmetic"] = io::arithmetic_name<Scalar>();
+  doc["penalty"] = number(solution.penalty);
+  doc["mu"] = io::mu_as_double(path, solution.penalty);
+  doc["l1_norm"] = number(solution.penalized_l1);
+  doc["intercept"] = number(solution.intercept);
+  json coefficients = json::array();
+  for (Index j = 0; j < solution.coefficients.size(); ++j)
+    coefficients.push_back({{"name", names.at(static_cast<std::size_t>(j))},
+                            {"value", number(solution.coefficients(j))}});
+  doc["coefficients"] = coefficients;
+  doc["note"] = answer.note.empty() ? json(nullptr) : json(answer.note);
+  return doc;
+}
+
+/// Prints the answer of `at` to stdout in the chosen output (the note of a
+/// CSV or JSON answer goes to stderr as well as into the JSON document).
+template <class Scalar>
+void print_point(const Path<Scalar>& path, const Solution<Scalar>& solution, const AskedPoint<Scalar>& asked,
+                 const PointAnswer& answer, const std::vector<std::string>& names, PointOutput output) {
+  if (output == PointOutput::table) {
+    std::cout << answer.heading;
+    if constexpr (!std::is_same_v<Scalar, double>) std::cout << "arithmetic: " << io::arithmetic_name<Scalar>() << '\n';
+  } else if (!answer.note.empty()) {
+    std::cerr << "knotpath: note: " << answer.note << '\n';
+  }
+  if (output == PointOutput::json) {
+    std::cout << point_document(path, solution, asked, answer, names).dump(2) << '\n';
+    return;
+  }
+  if (output == PointOutput::csv)
+    std::cout << "# point: penalty " << io::number_text(solution.penalty) << ", mu "
+              << io::round_trip(io::mu_as_double(path, solution.penalty)) << '\n';
+  std::cout << io::coefficient_table(solution, path, names, output == PointOutput::csv);
 }
 
 }  // namespace knotpath::cli

@@ -6,6 +6,7 @@
 #include <fmt/format.h>
 
 #include "point_answer.hpp"
+#include "saved_file.hpp"
 #include "typed_trace.hpp"
 
 namespace knotpath::cli {
@@ -38,13 +39,18 @@ void add_precision_options(CLI::App& command, PrecisionArgs& args) {
 namespace {
 
 template <class Scalar>
-int trace_in(LoadedTable& loaded, const std::string& knots_file, const std::string& json_file) {
+int trace_in(LoadedTable& loaded, const std::string& knots_file, const std::string& json_file,
+             const std::string& save_file) {
   const Path<Scalar> path = trace_loaded<Scalar>(loaded);
   loaded.progress.reset();  // the progress line ends before the audit is printed
   require_finite_path(path);
   std::cout << io::audit_text(path, loaded.context);
   std::vector<std::string> written;
   write_path_outputs(path, loaded.context, knots_file, json_file, written);
+  if (!save_file.empty()) {
+    write_saved(save_file, path, loaded.context);
+    written.push_back(save_file);
+  }
   for (const auto& file : written) std::cout << "wrote " << file << '\n';
   std::cout.flush();
   return finished_status(path);
@@ -60,7 +66,7 @@ Scalar parse_point(const std::string& text, const char* option) {
 }
 
 template <class Scalar>
-int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
+int at_in(LoadedTable& loaded, const PointArgs& point, PointOutput output) {
   const Path<Scalar> path = trace_loaded<Scalar>(loaded);
   loaded.progress.reset();
   require_finite_path(path);
@@ -98,14 +104,8 @@ int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
     throw failure(exit_usage, e.what());
   }
   const PointAnswer answer = describe_point(path, solution, asked);
-  if (!csv) {
-    std::cout << answer.heading;
-    std::cout << "arithmetic: " << io::arithmetic_name<Scalar>() << '\n';
-  } else if (!answer.note.empty()) {
-    std::cerr << "knotpath: note: " << answer.note << '\n';
-  }
-  std::cout << io::coefficient_table(solution, path, loaded.context.predictor_names, csv);
-  if (!csv && path.suspect())
+  print_point(path, solution, asked, answer, loaded.context.predictor_names, output);
+  if (output == PointOutput::table && path.suspect())
     std::cout << fmt::format(
         "WARNING: the path is SUSPECT in this arithmetic ({}); trace it with more digits or "
         "--precision exact\n",
@@ -118,23 +118,24 @@ int at_in(LoadedTable& loaded, const PointArgs& point, bool csv) {
 
 int trace_with_precision(const std::string& table, const ModelArgs& model,
                          const PrecisionArgs& precision, const std::string& knots_file,
-                         const std::string& json_file, const Global& global) {
+                         const std::string& json_file, const std::string& save_file,
+                         const Global& global) {
   check_precision(precision, model);
   LoadedTable loaded = load_table(table, model, global, true);
   return with_arithmetic(arithmetic_of(precision), [&](auto zero) {
     using Scalar = decltype(zero);
-    return trace_in<Scalar>(loaded, knots_file, json_file);
+    return trace_in<Scalar>(loaded, knots_file, json_file, save_file);
   });
 }
 
 int at_with_precision(const std::string& table, const ModelArgs& model,
-                      const PrecisionArgs& precision, const PointArgs& point, bool csv,
+                      const PrecisionArgs& precision, const PointArgs& point, PointOutput output,
                       const Global& global) {
   check_precision(precision, model);
   LoadedTable loaded = load_table(table, model, global, true);
   return with_arithmetic(arithmetic_of(precision), [&](auto zero) {
     using Scalar = decltype(zero);
-    return at_in<Scalar>(loaded, point, csv);
+    return at_in<Scalar>(loaded, point, output);
   });
 }
 

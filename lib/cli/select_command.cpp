@@ -25,6 +25,7 @@
 #include "double_copy.hpp"
 #include "path_checks.hpp"
 #include "report_folder.hpp"
+#include "saved_file.hpp"
 #include "typed_trace.hpp"
 
 namespace knotpath::cli {
@@ -45,6 +46,7 @@ struct SelectArgs {
   PrecisionArgs precision;
   std::string json_file;
   std::string report_dir;
+  std::string save_file;
 };
 
 // A number that is finite, else JSON null (NaN marks "not defined").
@@ -920,6 +922,11 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
       ->add_option("--report", args->report_dir,
                    "Write an HTML report with charts (report.html and SVG files) into this folder")
       ->group("Output");
+  command
+      ->add_option("--save", args->save_file,
+                   std::string("Save the path with its two choices (") + least_error_choice + ", " +
+                       parsimonious_choice + ") for knotpath predict and knotpath at --path --choice")
+      ->group("Output");
   command->footer(
       "Example:\n"
       "  knotpath select patients.csv --response progression --folds 10 --seed 7 --json "
@@ -954,6 +961,11 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     if (!args->json_file.empty()) {
       write_output(args->json_file, [&](std::ostream& out) { out << doc.dump(2) << '\n'; });
       std::cout << "wrote " << args->json_file << '\n';
+    }
+    if (!args->save_file.empty()) {
+      write_saved(args->save_file, s.cv.full_path, data.context,
+                  {{least_error_choice, s.cv.minimum.lambda}, {parsimonious_choice, s.cv.parsimonious.lambda}});
+      std::cout << "wrote " << args->save_file << '\n';
     }
     if (!args->report_dir.empty()) {
       const auto files = write_report_dir(args->report_dir, s.cv.full_path, data.context, &curve,

@@ -44,6 +44,10 @@ std::string estimated_error_text(double estimate);
 /// (--min-penalty) was reached", ...).
 std::string stop_explanation(StopReason reason);
 
+/// A CSV field as every CSV output of knotpath writes it: quoted (quotes
+/// doubled) when it holds a comma, a quote or a line break, else as is.
+std::string csv_text_field(const std::string& text);
+
 /// Formats a double with 17 significant digits (round-trips exactly);
 /// "nan"/"inf" never occur in a valid path.
 std::string round_trip(double value);

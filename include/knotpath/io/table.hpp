@@ -108,6 +108,13 @@ struct TableReadOptions {
   /// Keep the exact decimal text of every numeric cell read (trimmed), for
   /// exact rational parsing later. Costs the text's memory.
   bool keep_decimal_text = false;
+  /// Keep each kept row's key in Table::keys: the trimmed cell text of the
+  /// column `key_column`, or, when that is empty, of the table's first text
+  /// column (a column of names or identifiers), if it has one.
+  bool keep_row_keys = false;
+  /// The column of row keys (any kind) when keep_row_keys is set; empty: the
+  /// first text column. A name the header lacks is an "unknown column" error.
+  std::string key_column;
   /// Largest number of columns accepted; a header with more is an error (a
   /// guard against binary or run-together input: a 10 MB line without line
   /// breaks is read in O(its length) time and O(max_columns) memory). Data
@@ -193,6 +200,8 @@ struct Table {
   std::vector<std::string> names;                      ///< numeric columns read, file order
   std::vector<NumericColumn> columns;                  ///< values, one per name
   std::vector<std::vector<std::string>> decimal_text;  ///< per column when keep_decimal_text
+  std::string key_name;                                ///< column of `keys` ("" when none)
+  std::vector<std::string> keys;                       ///< row keys when keep_row_keys, one per kept row
   std::vector<std::string> text_columns;               ///< text columns skipped
   /// Text columns whose first cell reads as a number written with a decimal
   /// comma ("2,5"): a hint that TableReadOptions::decimal should be comma.

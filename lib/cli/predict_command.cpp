@@ -1,0 +1,162 @@
+// knotpath predict: scores the rows of a new table with a saved path, at a
+// penalty, a size-free penalty, an L1 budget or a saved choice, without
+// tracing again. Columns are matched by name; the predictions are on the
+// response's scale (the path's coefficients are on the original scale).
+
+#include <algorithm>
+#include <iostream>
+#include <memory>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+
+#include "cli.hpp"
+#include "point_answer.hpp"
+#include "report_folder.hpp"
+#include "saved_file.hpp"
+#include "typed_trace.hpp"
+
+namespace knotpath::cli {
+
+namespace {
+
+struct PredictArgs {
+  std::string saved;
+  std::string table;
+  SavedPointArgs point;
+  std::string out_file;
+  std::string id_column;
+  std::string delimiter = "auto";
+};
+
+bool listed(const std::vector<std::string>& list, const std::string& name) {
+  return std::find(list.begin(), list.end(), name) != list.end();
+}
+
+// The new table's columns of the path's predictors as a matrix, in the
+// path's order (exactly parsed beyond double); a missing predictor column is
+// failure(exit_bad_input) naming it; the columns not used are noted on stderr.
+template <class Scalar>
+Matrix<Scalar> predictor_rows(io::Table& table, const Path<Scalar>& path, const std::string& shown) {
+  std::vector<Index> where;
+  std::vector<std::string> names;
+  for (Index j = 0; j < path.predictor_count(); ++j) {
+    const std::string name = path.predictor_name(j);
+    const Index at = table.find(name);
+    if (at < 0) {
+      if (listed(table.text_columns, name))
+        throw failure(exit_bad_input,
+                      fmt::format("{}: column \"{}\", a predictor of the saved path, holds text, not numbers",
+                                  shown, name));
+      throw failure(exit_bad_input,
+                    fmt::format("{}: no column \"{}\", a predictor of the saved path (columns are matched by name)",
+                                shown, name));
+    }
+    where.push_back(at);
+    names.push_back(name);
+  }
+  std::vector<std::string> ignored;
+  for (const auto& name : table.names)
+    if (!listed(names, name) && name != table.key_name) ignored.push_back(name);
+  for (const auto& name : table.text_columns)
+    if (name != table.key_name) ignored.push_back(name);
+  if (!ignored.empty()) {
+    std::string list;
+    for (const auto& name : ignored) list += (list.empty() ? "\"" : ", \"") + name + "\"";
+    std::cerr << fmt::format("knotpath: note: {}: columns the saved path does not use, ignored: {}\n", shown, list);
+  }
+  if constexpr (std::is_same_v<Scalar, double>) {
+    return table.take_matrix(where);
+  } else {
+    Matrix<Scalar> x(static_cast<Index>(table.rows), static_cast<Index>(where.size()));
+    for (std::size_t k = 0; k < where.size(); ++k) {
+      const auto& text = table.decimal_text.at(table.checked_column(where[k], "predict"));
+      x.col(static_cast<Index>(k)) = parse_decimal_cells<Scalar>(text);
+    }
+    return x;
+  }
+}
+
+// The predictions as CSV: a key column (the table's key column by its name,
+// else "row": the data row's number) and "prediction".
+template <class Scalar>
+void write_predictions(std::ostream& out, const io::Table& table, const Vector<Scalar>& values) {
+  const bool keyed = !table.keys.empty();
+  out << (keyed ? io::csv_text_field(table.key_name) : std::string("row")) << ",prediction\n";
+  for (Index i = 0; i < values.size(); ++i) {
+    const auto u = static_cast<std::size_t>(i);
+    out << (keyed ? io::csv_text_field(table.keys[u]) : std::to_string(u + 1)) << ',' << io::number_text(values(i))
+        << '\n';
+  }
+}
+
+template <class Scalar>
+int predict_with(const io::SavedPath<Scalar>& saved, const PredictArgs& args, const Global& global) {
+  const Path<Scalar>& path = saved.path;
+  const auto [solution, asked] = saved_point(saved, args.point, args.saved);
+  const PointAnswer answer = describe_point(path, solution, asked);  // refuses points outside the path
+  io::TableReadOptions read;
+  read.delimiter = table_delimiter(args.delimiter);
+  read.keep_decimal_text = !std::is_same_v<Scalar, double>;
+  read.keep_row_keys = true;
+  read.key_column = args.id_column;
+  const std::string shown = args.table == "-" ? "<stdin>" : args.table;
+  io::Table table = io::read_table(args.table, read);
+  const Matrix<Scalar> x = predictor_rows(table, path, shown);
+  Vector<Scalar> values = x * solution.coefficients;
+  values.array() += solution.intercept;
+  if (!global.quiet)
+    std::cerr << "knotpath: predictions of " << (saved.response.empty() ? "the response" : "\"" + saved.response + "\"")
+              << " at " << answer.heading;
+  // Predictions score rows, often people: the cautions go with them, always.
+  for (const auto& line : caution_lines(false)) std::cerr << "knotpath: caution: " << line << '\n';
+  if (args.out_file.empty()) {
+    write_predictions(std::cout, table, values);
+    std::cout.flush();
+  } else {
+    write_output(args.out_file, [&](std::ostream& out) { write_predictions(out, table, values); });
+    std::cout << "wrote " << args.out_file << '\n';
+  }
+  return exit_ok;
+}
+
+}  // namespace
+
+CLI::App* add_predict_command(CLI::App& app, Global& global) {
+  auto args = std::make_shared<PredictArgs>();
+  CLI::App* command = app.add_subcommand(
+      "predict", "Predict the response of new rows with a saved path (no new trace)");
+  command->add_option("SAVED", args->saved, "A path saved by knotpath trace --save or knotpath select --save")
+      ->required();
+  command->add_option("NEW_TABLE", args->table, "Delimited text table of new rows with a header row; - reads stdin")
+      ->required();
+  add_saved_point_options(*command, args->point);
+  command
+      ->add_option("--id", args->id_column,
+                   "Column whose cells name the rows in the output (default: the table's first text column; "
+                   "without one, rows are numbered from 1)")
+      ->group("Table");
+  command->add_option("--delimiter", args->delimiter, "Field delimiter of NEW_TABLE: auto, comma, semicolon or tab")
+      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab"}))
+      ->default_str("auto")
+      ->group("Table");
+  command->add_option("--out", args->out_file, "Write the predictions (CSV) to this file instead of stdout")
+      ->group("Output");
+  command->footer(
+      "Columns of NEW_TABLE are matched to the saved path's predictors by name; a missing one is an error,\n"
+      "others are ignored with a note. Output: CSV with a row key (the key column, or \"row\") and the\n"
+      "prediction on the response's scale.\n"
+      "Example:\n"
+      "  knotpath select patients.csv --response progression --save model.kpath\n"
+      "  knotpath predict model.kpath new_patients.csv --choice parsimonious --out scores.csv\n");
+  command->callback([args, &global] {
+    if (!any_saved_point(args->point))
+      throw failure(exit_usage, "predict: give one of --penalty, --mu, --budget or --choice");
+    global.status = with_saved_path(args->saved, [&](const auto& saved) { return predict_with(saved, *args, global); });
+  });
+  return command;
+}
+
+}  // namespace knotpath::cli

@@ -1,0 +1,242 @@
+// The program's saved paths end to end: trace --save and select --save,
+// knotpath predict (columns by name, row keys, --out, --choice), at --path,
+// at --json and the point line of at --csv.
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
+#include <knotpath/io/report.hpp>
+#include <knotpath/io/saved.hpp>
+
+#include "cli_runner.hpp"
+
+namespace {
+
+namespace kp = knotpath;
+using kp::testing::Outcome;
+using kp::testing::slurp;
+
+class CliPredict : public kp::testing::ProgramTest {
+ protected:
+  CliPredict() : ProgramTest("predict", "--quiet") {}
+
+  // Training table: a text key, three predictors and the response.
+  void write_training() {
+    std::ofstream out(file("t.csv"));
+    out << "id,a,b,c,y\n";
+    for (int i = 0; i < 30; ++i) {
+      const double a = std::sin(i * 1.3), b = std::cos(i * 0.7) * 2, c = (i % 5) - 2.0;
+      const double y = 1.5 + 3 * a - 2 * b + 0.5 * c + 0.3 * std::sin(i * 5.1);
+      out << "r" << i << ',' << kp::io::round_trip(a) << ',' << kp::io::round_trip(b) << ','
+          << kp::io::round_trip(c) << ',' << kp::io::round_trip(y) << '\n';
+    }
+  }
+  // New rows: columns shuffled, an extra numeric column, the key last.
+  void write_new(const std::string& name, bool with_key, bool with_b = true) {
+    std::ofstream out(file(name));
+    out << "c,extra," << (with_b ? "b," : "") << "a" << (with_key ? ",patient" : "") << '\n';
+    for (int i = 0; i < 4; ++i) {
+      out << (i - 1.5) << ',' << 100 + i << ',';
+      if (with_b) out << 0.25 * i << ',';
+      out << 1.0 - 0.5 * i;
+      if (with_key) out << ",p" << i;
+      out << '\n';
+    }
+  }
+  kp::io::SavedPath<double> load(const std::string& name) {
+    std::ifstream in(file(name));
+    return kp::io::load_path<double>(in, name);
+  }
+};
+
+std::vector<std::string> lines(const std::string& text) {
+  std::vector<std::string> out;
+  std::stringstream s(text);
+  for (std::string line; std::getline(s, line);) out.push_back(line);
+  return out;
+}
+
+// The prediction the saved path gives for new row i of write_new (a, b, c).
+double expected(const kp::Path<double>& path, double lambda, int i) {
+  kp::Matrix<double> x(1, 3);
+  x << 1.0 - 0.5 * i, 0.25 * i, i - 1.5;  // the path's order: a, b, c
+  return path.predict(x, lambda).values(0);
+}
+
+TEST_F(CliPredict, PredictsByNameWithRowKeysAndNotesExtraColumns) {
+  write_training();
+  write_new("new.csv", true);
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const auto saved = load("m.kpath");
+  EXPECT_EQ(saved.response, "y");
+  const double lambda = saved.path.lambda_max() / 4;
+  const std::string penalty = kp::io::round_trip(lambda);
+  const Outcome r = run("predict m.kpath new.csv --penalty " + penalty);
+  ASSERT_EQ(r.code, 0) << r.err;
+  const auto out = lines(r.out);
+  ASSERT_EQ(out.size(), 5u) << r.out;
+  EXPECT_EQ(out[0], "patient,prediction");
+  for (int i = 0; i < 4; ++i)
+    EXPECT_EQ(out[static_cast<std::size_t>(i) + 1],
+              "p" + std::to_string(i) + "," + kp::io::round_trip(expected(saved.path, lambda, i)));
+  EXPECT_NE(r.err.find("\"extra\""), std::string::npos) << r.err;  // the ignored column is noted
+  // --out writes the same CSV to a file.
+  const Outcome w = run("predict m.kpath new.csv --penalty " + penalty + " --out p.csv");
+  ASSERT_EQ(w.code, 0) << w.err;
+  EXPECT_EQ(slurp(file("p.csv")), r.out);
+  EXPECT_NE(w.out.find("wrote p.csv"), std::string::npos);
+}
+
+TEST_F(CliPredict, RowsAreNumberedWithoutAKeyColumn) {
+  write_training();
+  write_new("new.csv", false);
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const Outcome r = run("predict m.kpath new.csv --mu 0");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const auto out = lines(r.out);
+  ASSERT_EQ(out.size(), 5u);
+  EXPECT_EQ(out[0], "row,prediction");
+  EXPECT_EQ(out[1].substr(0, 2), "1,");
+  EXPECT_EQ(out[4].substr(0, 2), "4,");
+}
+
+TEST_F(CliPredict, AMissingPredictorColumnIsNamed) {
+  write_training();
+  write_new("new.csv", true, false);
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const Outcome r = run("predict m.kpath new.csv --penalty 0");
+  EXPECT_EQ(r.code, 3);
+  EXPECT_NE(r.err.find("no column \"b\""), std::string::npos) << r.err;
+  EXPECT_TRUE(r.out.empty());
+}
+
+TEST_F(CliPredict, ChoicesOfSelectReachPredictAndAt) {
+  write_training();
+  write_new("new.csv", true);
+  const Outcome s = run("select t.csv --response y --folds 5 --no-tests --save s.kpath");
+  ASSERT_EQ(s.code, 0) << s.err;
+  const auto saved = load("s.kpath");
+  for (const char* name : {"least-error", "parsimonious"}) {
+    SCOPED_TRACE(name);
+    const auto* choice = saved.choice(name);
+    ASSERT_NE(choice, nullptr);
+    // at on the table at the chosen penalty (17 digits read back exactly) ...
+    const Outcome at = run("at t.csv --response y --json --penalty " + kp::io::round_trip(choice->penalty));
+    ASSERT_EQ(at.code, 0) << at.err;
+    const auto doc = nlohmann::json::parse(at.out);
+    EXPECT_EQ(doc["penalty"].get<double>(), choice->penalty);
+    // ... and at --path --choice give the same point ...
+    const Outcome by_choice = run(std::string("at --path s.kpath --json --choice ") + name);
+    ASSERT_EQ(by_choice.code, 0) << by_choice.err;
+    const auto doc2 = nlohmann::json::parse(by_choice.out);
+    EXPECT_EQ(doc2["penalty"], doc["penalty"]);
+    EXPECT_EQ(doc2["intercept"], doc["intercept"]);
+    EXPECT_EQ(doc2["coefficients"], doc["coefficients"]);
+    // ... whose coefficients give predict's values.
+    const Outcome p = run(std::string("predict s.kpath new.csv --choice ") + name);
+    ASSERT_EQ(p.code, 0) << p.err;
+    const auto out = lines(p.out);
+    ASSERT_EQ(out.size(), 5u);
+    for (int i = 0; i < 4; ++i) {
+      const double a = 1.0 - 0.5 * i, b = 0.25 * i, c = i - 1.5;
+      double value = doc["intercept"].get<double>();
+      for (const auto& term : doc["coefficients"]) {
+        const std::string n = term["name"];
+        value += term["value"].get<double>() * (n == "a" ? a : n == "b" ? b : c);
+      }
+      const std::string cell = out[static_cast<std::size_t>(i) + 1].substr(3);
+      EXPECT_NEAR(std::stod(cell), value, 1e-12 * (1 + std::abs(value))) << out[static_cast<std::size_t>(i) + 1];
+    }
+  }
+}
+
+TEST_F(CliPredict, AChoiceOfAFileWithoutChoicesIsAUsageError) {
+  write_training();
+  write_new("new.csv", true);
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const Outcome r = run("predict m.kpath new.csv --choice least-error");
+  EXPECT_EQ(r.code, 2);
+  EXPECT_NE(r.err.find("holds no choices"), std::string::npos) << r.err;
+  const Outcome a = run("at --path m.kpath --choice parsimonious");
+  EXPECT_EQ(a.code, 2);
+  const Outcome t = run("at t.csv --response y --choice parsimonious");
+  EXPECT_EQ(t.code, 2);
+  EXPECT_NE(t.err.find("--path"), std::string::npos) << t.err;
+  const Outcome mixed = run("at --path m.kpath --penalty 1 --ridge 2");
+  EXPECT_EQ(mixed.code, 2);
+}
+
+TEST_F(CliPredict, ADamagedSavedFileIsAClearError) {
+  write_training();
+  write_new("new.csv", true);
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const std::string text = slurp(file("m.kpath"));
+  std::ofstream(file("cut.kpath")) << text.substr(0, text.size() / 3);
+  const Outcome r = run("predict cut.kpath new.csv --penalty 1");
+  EXPECT_EQ(r.code, 3);
+  EXPECT_NE(r.err.find("cut.kpath"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("not a saved path"), std::string::npos) << r.err;
+  EXPECT_EQ(run("predict t.csv new.csv --penalty 1").code, 3);  // a table is not a saved path
+}
+
+TEST_F(CliPredict, AtJsonStatesThePointAndItsCoefficients) {
+  write_training();
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const auto saved = load("m.kpath");
+  const double lambda = saved.path.lambda_max() / 3;
+  const auto s = saved.path.at_penalty(lambda);
+  const Outcome r = run("at t.csv --response y --json --penalty " + kp::io::round_trip(lambda));
+  ASSERT_EQ(r.code, 0) << r.err;
+  const auto doc = nlohmann::json::parse(r.out);
+  EXPECT_EQ(doc["format"], "knotpath-point");
+  EXPECT_EQ(doc["asked_kind"], "penalty");
+  EXPECT_EQ(doc["penalty"].get<double>(), lambda);
+  EXPECT_EQ(doc["mu"].get<double>(), kp::io::mu_as_double(saved.path, lambda));
+  EXPECT_EQ(doc["intercept"].get<double>(), s.intercept);
+  ASSERT_EQ(doc["coefficients"].size(), 3u);
+  EXPECT_EQ(doc["coefficients"][1]["name"], "b");
+  EXPECT_EQ(doc["coefficients"][1]["value"].get<double>(), s.coefficients(1));
+  // The same from the saved path.
+  const Outcome p = run("at --path m.kpath --json --penalty " + kp::io::round_trip(lambda));
+  ASSERT_EQ(p.code, 0) << p.err;
+  EXPECT_EQ(nlohmann::json::parse(p.out)["coefficients"], doc["coefficients"]);
+}
+
+TEST_F(CliPredict, AtCsvStartsWithThePointItAnswers) {
+  write_training();
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const auto saved = load("m.kpath");
+  const double lambda = saved.path.lambda_max() / 2;
+  const Outcome r = run("at t.csv --response y --csv --penalty " + kp::io::round_trip(lambda));
+  ASSERT_EQ(r.code, 0) << r.err;
+  const auto out = lines(r.out);
+  ASSERT_GE(out.size(), 2u);
+  EXPECT_EQ(out[0], "# point: penalty " + kp::io::round_trip(lambda) + ", mu " +
+                        kp::io::round_trip(kp::io::mu_as_double(saved.path, lambda)));
+  EXPECT_EQ(out[1], "predictor,coefficient");
+}
+
+TEST_F(CliPredict, AnExactPathPredictsInFractions) {
+  std::ofstream(file("e.csv")) << "a,b,y\n1,2,3\n2,1,5\n3,5,4\n4,2,9\n5,7,8\n";
+  std::ofstream(file("n.csv")) << "b,a\n1,1\n";
+  ASSERT_EQ(run("trace e.csv --response y --no-standardize --precision exact --save e.kpath").code, 0);
+  const Outcome r = run("predict e.kpath n.csv --penalty 1/2");
+  // 1/2 is not a decimal: refused as a usage error; the decimal 0.5 is exact.
+  EXPECT_EQ(r.code, 2);
+  const Outcome ok = run("predict e.kpath n.csv --penalty 0.5");
+  ASSERT_EQ(ok.code, 0) << ok.err;
+  const auto out = lines(ok.out);
+  ASSERT_EQ(out.size(), 2u);
+  EXPECT_NE(out[1].find('/'), std::string::npos) << out[1];  // an exact fraction
+}
+
+}  // namespace
