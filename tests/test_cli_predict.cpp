@@ -109,6 +109,40 @@ TEST_F(CliPredict, RowsAreNumberedWithoutAKeyColumn) {
   EXPECT_EQ(out[4].substr(0, 2), "4,");
 }
 
+// predict reads new rows by the cell rules of the commands that trace:
+// --decimal comma (with a semicolon or whitespace delimiter) gives the same
+// predictions as the decimal-point file, and a --na token is a missing cell
+// (refused: no prediction can be made for that row) rather than text.
+TEST_F(CliPredict, NewRowsAreReadByTheTableOptionsOfTrace) {
+  write_training();
+  write_new("new.csv", true);
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const Outcome plain = run("predict m.kpath new.csv --mu 0");
+  ASSERT_EQ(plain.code, 0) << plain.err;
+  // The same rows with decimal commas and semicolons.
+  std::string text = slurp(file("new.csv"));
+  for (char& ch : text) ch = ch == ',' ? ';' : ch == '.' ? ',' : ch;
+  std::ofstream(file("comma.csv")) << text;
+  const Outcome comma = run("predict m.kpath comma.csv --mu 0 --decimal comma");
+  ASSERT_EQ(comma.code, 0) << comma.err;
+  EXPECT_EQ(comma.out, plain.out);
+  // Whitespace-delimited.
+  std::string blanks = slurp(file("new.csv"));
+  for (char& ch : blanks) ch = ch == ',' ? ' ' : ch;
+  std::ofstream(file("blank.txt")) << blanks;
+  const Outcome blank = run("predict m.kpath blank.txt --mu 0 --delimiter whitespace");
+  ASSERT_EQ(blank.code, 0) << blank.err;
+  EXPECT_EQ(blank.out, plain.out);
+  // A token of the user's own marks a missing cell: the row is refused with
+  // a message, not read as a text column that leaves "a" missing.
+  std::ofstream(file("na.csv")) << "a,b,c\n1,2,3\n-99,2,3\n";
+  const Outcome na = run("predict m.kpath na.csv --mu 0 --na -99");
+  EXPECT_NE(na.code, 0);
+  EXPECT_NE(na.err.find("-99"), std::string::npos) << na.err;
+  EXPECT_EQ(na.err.find("no column \"a\""), std::string::npos) << na.err;
+  EXPECT_EQ(run("predict m.kpath comma.csv --mu 0 --decimal comma --delimiter comma").code, 2);
+}
+
 TEST_F(CliPredict, AMissingPredictorColumnIsNamed) {
   write_training();
   write_new("new.csv", true, false);

@@ -29,6 +29,8 @@ struct PredictArgs {
   std::string out_file;
   std::string id_column;
   std::string delimiter = "auto";
+  std::vector<std::string> na_tokens;  // --na, split by split_list
+  std::string decimal = "point";
 };
 
 bool listed(const std::vector<std::string>& list, const std::string& name) {
@@ -99,6 +101,13 @@ int predict_with(const io::SavedPath<Scalar>& saved, const PredictArgs& args, co
   const PointAnswer answer = describe_point(path, solution, asked);  // refuses points outside the path
   io::TableReadOptions read;
   read.delimiter = table_delimiter(args.delimiter);
+  // The same cell rules as the commands that trace (common.cpp's
+  // read_options): missing tokens and the decimal mark. A row with a
+  // missing predictor cell is refused (no prediction can be made for it).
+  read.missing_tokens = split_list(args.na_tokens, "--na");
+  read.decimal = args.decimal == "comma" ? io::DecimalMark::comma : io::DecimalMark::point;
+  if (read.decimal == io::DecimalMark::comma && read.delimiter == ',')
+    throw failure(exit_usage, "--decimal comma cannot be read with --delimiter comma");
   read.keep_decimal_text = !std::is_same_v<Scalar, double>;
   read.keep_row_keys = true;
   read.key_column = args.id_column;
@@ -138,9 +147,22 @@ CLI::App* add_predict_command(CLI::App& app, Global& global) {
                    "Column whose cells name the rows in the output (default: the table's first text column; "
                    "without one, rows are numbered from 1)")
       ->group("Table");
-  command->add_option("--delimiter", args->delimiter, "Field delimiter of NEW_TABLE: auto, comma, semicolon or tab")
-      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab"}))
+  command
+      ->add_option("--delimiter", args->delimiter,
+                   "Field delimiter of NEW_TABLE: auto, comma, semicolon, tab or whitespace")
+      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab", "whitespace"}))
       ->default_str("auto")
+      ->group("Table");
+  command
+      ->add_option("--na", args->na_tokens,
+                   "Further cell texts that mean missing, matched exactly (comma separated; quote one "
+                   "holding a comma); a row missing a predictor's cell is refused")
+      ->group("Table");
+  command
+      ->add_option("--decimal", args->decimal,
+                   "Decimal mark of the numbers: point (2.5) or comma (2,5; the delimiter is then not a comma)")
+      ->check(CLI::IsMember({"point", "comma"}))
+      ->default_str("point")
       ->group("Table");
   command->add_option("--out", args->out_file, "Write the predictions (CSV) to this file instead of stdout")
       ->group("Output");
