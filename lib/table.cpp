@@ -239,8 +239,11 @@ char choose_delimiter(CharSource& chars, const TableReadOptions& options,
 enum class Packing { none, gzip, zip, xz, bzip2, zstd };
 
 Packing packing_of(CharSource& chars) {
-  auto [data, size] = chars.lookahead(6);
-  const auto* b = reinterpret_cast<const unsigned char*>(data);
+  // Not a structured binding: the lambda below captures the size, which
+  // Clang 14 (the sanitizer and fuzz builds) refuses for bindings.
+  const std::pair<const char*, std::size_t> ahead = chars.lookahead(6);
+  const std::size_t size = ahead.second;
+  const auto* b = reinterpret_cast<const unsigned char*>(ahead.first);
   auto starts = [&](std::initializer_list<unsigned char> magic) {
     if (size < magic.size()) return false;
     std::size_t k = 0;
