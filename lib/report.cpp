@@ -131,22 +131,6 @@ std::string name_of(const std::vector<std::string>& names, Index j) {
   return names.at(static_cast<std::size_t>(j));
 }
 
-std::string variant_name(Variant v) {
-  return v == Variant::lasso ? "lasso" : "least-angle";
-}
-
-std::string constraint_name(SignConstraint c) {
-  switch (c) {
-    case SignConstraint::nonnegative:
-      return "nonnegative";
-    case SignConstraint::nonpositive:
-      return "nonpositive";
-    case SignConstraint::none:
-      break;
-  }
-  return "none";
-}
-
 using json = nlohmann::ordered_json;
 
 // Writes scalar numbers into JSON objects: plain numbers for double; beyond
@@ -355,22 +339,23 @@ template <class Scalar>
 json options_json(const Path<Scalar>& path, const std::vector<std::string>& names) {
   const auto& options = path.options();
   json opts;
-  opts["variant"] = variant_name(options.variant);
+  opts["variant"] = to_string(options.variant);
   opts["intercept"] = options.with_intercept;
   opts["standardize"] = options.standardize;
   opts["ridge"] = options.ridge;
   json scales = json::object();
   json signs = json::object();
   json unpenalized = json::array(), left_out = json::array();
+  const std::vector<double> penalty_weights = options.penalty_weights(names.size());
   for (std::size_t j = 0; j < names.size(); ++j) {
-    const double weight = options.penalty_weight(j);
+    const double weight = penalty_weights[j];
     if (weight == 0.0)
       unpenalized.push_back(names[j]);
     else if (std::isinf(weight))
       left_out.push_back(names[j]);
     else
       scales[names[j]] = weight;
-    signs[names[j]] = constraint_name(options.sign_constraint(j));
+    signs[names[j]] = to_string(options.sign_constraint(j));
   }
   opts["penalty_scales"] = scales;
   opts["unpenalized"] = unpenalized;
@@ -566,7 +551,7 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
   const auto& names = context.predictor_names;
   const bool suspect = path.suspect();
   std::string out = fmt::format("{} path of {} on {} predictors, {} rows used ({})\n",
-                                path.options().variant == Variant::lasso ? "lasso" : "least-angle",
+                                to_string(path.options().variant),
                                 context.response, names.size(),
                                 path.preparation().used_observations, context.source);
   if constexpr (!is_double_v<Scalar>)

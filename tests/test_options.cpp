@@ -226,8 +226,9 @@ TEST(PenaltyScales, UnpenalizedPredictorIsAlwaysInAndLambdaMaxUsesPartialResidua
   const Vector<double> z3 = c.z.col(3);
   const Vector<double> r = c.y - z3 * (z3.dot(c.y) / z3.squaredNorm());
   double lmax = 0;
+  const std::vector<double> f = kt::penalty_weights(o, 8);
   for (Index j = 0; j < 8; ++j)
-    if (j != 3) lmax = std::max(lmax, std::abs(c.z.col(j).dot(r)) / o.penalty_weight(static_cast<std::size_t>(j)));
+    if (j != 3) lmax = std::max(lmax, std::abs(c.z.col(j).dot(r)) / f[static_cast<std::size_t>(j)]);
   // Two independent double computations of the same inner products: 1e-12 relative.
   EXPECT_NEAR(path.lambda_max(), lmax, 1e-12 * lmax);
   // The start knot already carries the least-squares coefficient of x3.
@@ -242,6 +243,21 @@ TEST(PenaltyScales, UnpenalizedPredictorIsAlwaysInAndLambdaMaxUsesPartialResidua
     const Vector<double> cd = kt::coordinate_descent(c.z, c.y, lambda, kt::penalty_weights(o, 8));
     EXPECT_LE((b - cd).cwiseAbs().maxCoeff(), 1e-8 * (1.0 + cd.cwiseAbs().maxCoeff()));
   }
+}
+
+// The combination rule of TraceOptions::penalty_weights() (common practice:
+// an unpenalized predictor has weight 0, a left-out one an infinite weight,
+// the others their scale), written out by hand for one mixed set of fields.
+TEST(PenaltyScales, WeightsCombineScalesUnpenalizedAndLeftOut) {
+  TraceOptions o;
+  EXPECT_EQ(o.penalty_weights(3), (std::vector<double>{1.0, 1.0, 1.0}));
+  o.penalty_scales = {0.5, 2.0, 3.0, 4.0, 5.0};
+  o.unpenalized = {3};
+  o.left_out = {1, 4};
+  const double inf = std::numeric_limits<double>::infinity();
+  EXPECT_EQ(o.penalty_weights(5), (std::vector<double>{0.5, inf, 3.0, 0.0, inf}));
+  o.penalty_scales.clear();
+  EXPECT_EQ(o.penalty_weights(5), (std::vector<double>{1.0, inf, 1.0, 0.0, inf}));
 }
 
 TEST(PenaltyScales, LeftOutPredictorNeverEntersAndIsListed) {

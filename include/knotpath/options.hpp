@@ -38,6 +38,35 @@ enum class SignConstraint {
   nonpositive,  ///< b_j <= 0
 };
 
+/// The word of a variant in every output and saved file ("lasso",
+/// "least-angle"; the program's --variant words): the one home of it.
+inline std::string to_string(Variant variant) {
+  return variant == Variant::least_angle ? "least-angle" : "lasso";
+}
+
+/// The word of a storage in outputs and saved files ("automatic", "dense",
+/// "gram", "view").
+inline std::string to_string(Storage storage) {
+  switch (storage) {
+    case Storage::dense: return "dense";
+    case Storage::gram: return "gram";
+    case Storage::view: return "view";
+    case Storage::automatic: break;
+  }
+  return "automatic";
+}
+
+/// The word of a sign constraint in outputs and saved files ("none",
+/// "nonnegative", "nonpositive").
+inline std::string to_string(SignConstraint constraint) {
+  switch (constraint) {
+    case SignConstraint::nonnegative: return "nonnegative";
+    case SignConstraint::nonpositive: return "nonpositive";
+    case SignConstraint::none: break;
+  }
+  return "none";
+}
+
 /// Options of a path trace. Every field has a documented default; call
 /// validate() (the entry points do) to check them.
 ///
@@ -47,7 +76,7 @@ enum class SignConstraint {
 ///                                          + 0.5 * ridge * sum_j (s_j b_j)^2
 ///
 /// with s_j the column scale (root weighted sum of squares of the centred
-/// column when standardize is on, else 1) and f_j the penalty weights (TraceOptions::penalty_weight()).
+/// column when standardize is on, else 1) and f_j the penalty weights (TraceOptions::penalty_weights()).
 ///
 /// Weights (the one home of their meaning; everything that counts rows
 /// refers here). The weights w_i are frequency weights: a row of weight w
@@ -178,15 +207,20 @@ struct TraceOptions {
     validate_names(p);
   }
 
-  /// The penalty weight f_j the formulas use for predictor j: 0 when it is
-  /// unpenalized, +infinity when it is left out, else its penalty scale (1
-  /// when none were given). The one place the three fields combine. Costs
-  /// O(|unpenalized| + |left_out|).
-  double penalty_weight(std::size_t j) const {
-    if (std::find(unpenalized.begin(), unpenalized.end(), j) != unpenalized.end()) return 0.0;
-    if (std::find(left_out.begin(), left_out.end(), j) != left_out.end())
-      return std::numeric_limits<double>::infinity();
-    return penalty_scales.empty() ? 1.0 : penalty_scales[j];
+  /// The penalty weights f_j the formulas use for predictors 0..p-1: 0 when
+  /// predictor j is unpenalized, +infinity when it is left out, else its
+  /// penalty scale (1 when none were given). The one place the three fields
+  /// combine; O(p + |unpenalized| + |left_out|), so loops over the
+  /// predictors call it once. Indices >= p in the lists are ignored here
+  /// (validate() refuses them).
+  std::vector<double> penalty_weights(std::size_t p) const {
+    std::vector<double> f(p, 1.0);
+    for (std::size_t j = 0; j < p && j < penalty_scales.size(); ++j) f[j] = penalty_scales[j];
+    for (std::size_t j : left_out)
+      if (j < p) f[j] = std::numeric_limits<double>::infinity();
+    for (std::size_t j : unpenalized)
+      if (j < p) f[j] = 0.0;
+    return f;
   }
   /// Checks a list of predictor indices: each < p, no repeats.
   static void validate_index_list(const std::vector<std::size_t>& list, const char* field,

@@ -225,16 +225,15 @@ void check_data(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, co
                        std::to_string(n) + " rows");
   for (Index i = 0; i < n; ++i) {
     if (!is_finite_value(y(i)))
-      throw invalid_data("the response is not finite at row " + std::to_string(i), static_cast<std::size_t>(i));
+      throw invalid_data::at_row(static_cast<std::size_t>(i), "the response is not finite");
     if (weights.size() != 0 && (!is_finite_value(weights(i)) || weights(i) < Scalar(0)))
-      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite", static_cast<std::size_t>(i));
+      throw invalid_data::at_row(static_cast<std::size_t>(i), "the weight is negative or not finite");
   }
   for (Index j = 0; j < x.cols(); ++j)
     for (Index i = 0; i < n; ++i)
       if (!is_finite_value(x(i, j)))
-        throw invalid_data("the design is not finite at row " + std::to_string(i) + ", column " +
-                               std::to_string(j),
-                           static_cast<std::size_t>(i), static_cast<std::size_t>(j));
+        throw invalid_data::at_row(static_cast<std::size_t>(i), "the design value is not finite",
+                                   static_cast<std::size_t>(j));
   check_magnitudes(x, y, weights);
 }
 
@@ -243,31 +242,32 @@ void check_data(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, co
 /// options), or nullptr when it may enter. Shared by every storage's
 /// preparation so that all of them exclude the same columns for the same
 /// reasons.
-inline const char* exclusion_reason(bool all_zero, bool constant, const TraceOptions& options, Index j) {
+/// `weight` is the column's TraceOptions::penalty_weights() entry.
+inline const char* exclusion_reason(bool all_zero, bool constant, const TraceOptions& options, double weight) {
   if (all_zero) return "all-zero column";
   if (options.with_intercept && constant) return "constant column (absorbed by the intercept)";
-  if (std::isinf(options.penalty_weight(static_cast<std::size_t>(j)))) return "left out by request";
+  if (std::isinf(weight)) return "left out by request";
   return nullptr;
 }
 
 /// Reason recorded for a column whose scale is zero or not finite.
 inline constexpr const char* unscalable_column = "column scale is zero or not representable";
 
-/// Records column j as traced: its mean and scale, penalty weight and sign
+/// Records column j as traced: its mean and scale, penalty weight `weight` and sign
 /// constraint, and folds its centring amplification into the preparation's.
 /// `spread` is ||sqrt(w) o (x_j - m_j)|| computed in two passes (the scale
 /// when standardizing; 0 when not computed, as for exact scalar types);
 /// prep.weight_sum must be set.
 template <class Scalar>
-void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j, const Scalar& mean,
-                 const Scalar& scale, const Scalar& spread) {
+void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j, double weight,
+                 const Scalar& mean, const Scalar& scale, const Scalar& spread) {
   if (options.with_intercept)
     prep.centring_amplification =
         std::max(prep.centring_amplification, centring_amplification(mean, spread, prep.weight_sum));
   prep.means(j) = mean;
   prep.scales(j) = scale;
   prep.columns.push_back(j);
-  prep.penalty_weights.push_back(options.penalty_weight(static_cast<std::size_t>(j)));
+  prep.penalty_weights.push_back(weight);
   prep.constraints.push_back(options.sign_constraint(static_cast<std::size_t>(j)));
 }
 
@@ -278,7 +278,7 @@ void keep_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j
 /// Returns the scale, or nothing when the column was left out.
 template <class Scalar>
 std::optional<Scalar> admit_column(Preparation<Scalar>& prep, const TraceOptions& options, Index j,
-                                   const Scalar& mean, const Scalar& spread) {
+                                   double weight, const Scalar& mean, const Scalar& spread) {
   Scalar scale(1);
   if (options.standardize) {
     scale = spread;
@@ -287,7 +287,7 @@ std::optional<Scalar> admit_column(Preparation<Scalar>& prep, const TraceOptions
       return std::nullopt;
     }
   }
-  keep_column(prep, options, j, mean, scale, spread);
+  keep_column(prep, options, j, weight, mean, scale, spread);
   return scale;
 }
 
@@ -312,7 +312,7 @@ UsedRows<Scalar> used_rows(const Vector<Scalar>& weights, Index n, const TraceOp
   UsedRows<Scalar> used;
   for (Index i = 0; i < n; ++i) {
     if (!is_finite_value(w(i)) || w(i) < Scalar(0))
-      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
+      throw invalid_data::at_row(static_cast<std::size_t>(i), "the weight is negative or not finite");
     if (w(i) > Scalar(0)) used.rows.push_back(i);
   }
   if (used.rows.empty()) throw invalid_data("no observation has a positive weight");
@@ -404,14 +404,16 @@ Preparation<Scalar> prepare_dense_columns(const Eigen::MatrixBase<Derived>& x, c
   prepare_response(y, options, used, prep, response);
 
   Vector<Scalar> column(m);
+  const std::vector<double> penalty_weights = options.penalty_weights(static_cast<std::size_t>(x.cols()));
   for (Index j = 0; j < x.cols(); ++j) {
+    const double weight = penalty_weights[static_cast<std::size_t>(j)];
     bool constant = true, all_zero = true;
     for (Index r = 0; r < m; ++r) {
       const Scalar v = x(row(r), j);
       if (v != x(row(0), j)) constant = false;
       if (v != Scalar(0)) all_zero = false;
     }
-    if (const char* reason = exclusion_reason(all_zero, constant, options, j)) {
+    if (const char* reason = exclusion_reason(all_zero, constant, options, weight)) {
       prep.excluded.push_back({j, reason});
       continue;
     }
@@ -421,7 +423,8 @@ Preparation<Scalar> prepare_dense_columns(const Eigen::MatrixBase<Derived>& x, c
     Scalar spread(0);
     if (options.standardize || !is_exact_v<Scalar>) spread = weighted_norm<Scalar>(column, used.weights);
     const Index k = static_cast<Index>(prep.columns.size());
-    if (const std::optional<Scalar> scale = admit_column(prep, options, j, mean, spread)) keep(k, column, *scale);
+    if (const std::optional<Scalar> scale = admit_column(prep, options, j, weight, mean, spread))
+      keep(k, column, *scale);
   }
   return prep;
 }

@@ -206,8 +206,9 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
   Scalar top_y(0), top_y_used(0);
   for (Index i = 0; i < n; ++i) {
     if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
-      throw invalid_data("weight " + std::to_string(i) + " is negative or not finite");
-    if (!detail::is_finite_value(y(i))) throw invalid_data("the response is not finite at row " + std::to_string(i));
+      throw invalid_data::at_row(static_cast<std::size_t>(i), "the weight is negative or not finite");
+    if (!detail::is_finite_value(y(i)))
+      throw invalid_data::at_row(static_cast<std::size_t>(i), "the response is not finite");
     used += w(i) > Scalar(0);
     top_y = std::max<Scalar>(top_y, detail::abs_value<Scalar>(y(i)));
     if (w(i) > Scalar(0)) top_y_used = std::max<Scalar>(top_y_used, detail::abs_value<Scalar>(y(i)));
@@ -217,8 +218,8 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
     Scalar top(0), top_used(0);
     for (typename SparseMatrix<Scalar, StorageIndex>::InnerIterator it(x, j); it; ++it) {
       if (!detail::is_finite_value(it.value()))
-        throw invalid_data("the design is not finite at row " + std::to_string(it.row()) + ", column " +
-                           std::to_string(j));
+        throw invalid_data::at_row(static_cast<std::size_t>(it.row()), "the design value is not finite",
+                                   static_cast<std::size_t>(j));
       top = std::max<Scalar>(top, detail::abs_value<Scalar>(it.value()));
       if (w(it.row()) > Scalar(0)) top_used = std::max<Scalar>(top_used, detail::abs_value<Scalar>(it.value()));
     }
@@ -230,13 +231,15 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
   Preparation<Scalar> prep = start_preparation<Scalar>(n, used, p, options, rows.weight_sum);
   Vector<Scalar> used_response;
   detail::prepare_response(y, options, rows, prep, used_response);
+  const std::vector<double> penalty_weights = options.penalty_weights(static_cast<std::size_t>(p));
   for (Index j = 0; j < p; ++j) {
+    const double weight = penalty_weights[static_cast<std::size_t>(j)];
     const detail::SparseColumn<Scalar> column = detail::summarize_sparse_column(x, j, w, used, prep.weight_sum);
-    if (const char* reason = detail::exclusion_reason(column.all_zero, column.constant, options, j)) {
+    if (const char* reason = detail::exclusion_reason(column.all_zero, column.constant, options, weight)) {
       prep.excluded.push_back({j, reason});
       continue;
     }
-    detail::admit_column(prep, options, j, options.with_intercept ? column.mean : Scalar(0),
+    detail::admit_column(prep, options, j, weight, options.with_intercept ? column.mean : Scalar(0),
                          options.with_intercept ? column.spread : column.root_sum_of_squares);
   }
   Vector<Scalar> sqrt_w = detail::on_all_rows(rows, rows.sqrt_weights, n);
@@ -290,10 +293,12 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
   prep.total_sum_of_squares = options.with_intercept
                                   ? stats.response_comoment
                                   : Scalar(stats.response_comoment + n * stats.response_mean * stats.response_mean);
+  const std::vector<double> penalty_weights = options.penalty_weights(static_cast<std::size_t>(p));
   for (Index j = 0; j < p; ++j) {
+    const double weight = penalty_weights[static_cast<std::size_t>(j)];
     const bool constant = stats.minimum(j) == stats.maximum(j);
     const bool all_zero = constant && stats.minimum(j) == Scalar(0);
-    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, j)) {
+    if (const char* reason = detail::exclusion_reason(all_zero, constant, options, weight)) {
       prep.excluded.push_back({j, reason});
       continue;
     }
@@ -305,7 +310,7 @@ PreparedGram<Scalar> prepare_gram(const SufficientStatistics<Scalar>& stats, con
     Scalar spread(0);
     if constexpr (!detail::is_exact_v<Scalar>)
       if (m2 > Scalar(0)) spread = detail::square_root<Scalar>(m2);
-    detail::admit_column(prep, options, j, options.with_intercept ? stats.means(j) : Scalar(0), spread);
+    detail::admit_column(prep, options, j, weight, options.with_intercept ? stats.means(j) : Scalar(0), spread);
   }
   const Index q = static_cast<Index>(prep.columns.size());
   Matrix<Scalar> g(q, q);

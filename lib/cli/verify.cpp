@@ -145,7 +145,7 @@ std::string verify_text(const Comparison& c, const RunFacts& run) {
   return fmt::format(
              "{} path of {} on {} predictors, {} rows used ({})\n"
              "traced in double and in {}; the table's decimals were parsed exactly into both\n\n",
-             run.low.options().variant == Variant::lasso ? "lasso" : "least-angle",
+             to_string(run.low.options().variant),
              context.response, run.names.size(), run.low.preparation().used_observations,
              context.source, c.high_name) +
          comparison_text(c, run) + verdict_text(c.check.verdict);
@@ -180,7 +180,7 @@ json verify_document(const Comparison& c, const RunFacts& run, unsigned digits, 
   doc["response"] = context.response;
   doc["predictors"] = run.names;
   doc["rows_used"] = run.low.preparation().used_observations;
-  doc["variant"] = run.low.options().variant == Variant::lasso ? "lasso" : "least-angle";
+  doc["variant"] = to_string(run.low.options().variant);
   doc["intercept"] = run.low.options().with_intercept;
   doc["standardize"] = run.low.options().standardize;
   doc["high_precision"] = {{"arithmetic", c.high_name}, {"digits", digits}};

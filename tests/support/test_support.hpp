@@ -5,10 +5,12 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <limits>
 #include <map>
 #include <optional>
 #include <random>
@@ -39,10 +41,18 @@ inline void set_penalty_weights(TraceOptions& options, const std::vector<double>
   }
 }
 
-/// The weights f_j of predictors 0..p-1 (TraceOptions::penalty_weight()).
+/// The weights f_j of predictors 0..p-1 read from the option fields here
+/// (0 unpenalized, infinity left out, else the scale or 1), not through
+/// TraceOptions::penalty_weights(), so that the tests check the library's rule.
 inline std::vector<double> penalty_weights(const TraceOptions& options, std::size_t p) {
-  std::vector<double> w(p);
-  for (std::size_t j = 0; j < p; ++j) w[j] = options.penalty_weight(j);
+  std::vector<double> w(p, 1.0);
+  for (std::size_t j = 0; j < p; ++j) {
+    if (!options.penalty_scales.empty()) w[j] = options.penalty_scales.at(j);
+    if (std::find(options.left_out.begin(), options.left_out.end(), j) != options.left_out.end())
+      w[j] = std::numeric_limits<double>::infinity();
+    if (std::find(options.unpenalized.begin(), options.unpenalized.end(), j) != options.unpenalized.end())
+      w[j] = 0.0;
+  }
   return w;
 }
 
