@@ -511,6 +511,7 @@ class RowReader {
         continue;
       }
       keep_row(fields);
+      mark_line(reader.record_line());
       ++table_.rows;
       if (options_.progress && (table_.rows & 0xFFFF) == 0)
         options_.progress(chars.consumed(), table_.rows);
@@ -558,7 +559,7 @@ class RowReader {
       if (options_.missing == MissingCells::error)
         refuse(std::string(cell.empty() ? "empty cell" : "missing value \"" + shown(cell) + "\"") +
                " in column " + quoted_name(name) +
-               " (use --missing drop to drop incomplete rows)");
+               (options_.missing_advice.empty() ? std::string() : " (" + options_.missing_advice + ")"));
       return true;
     }
     if (plan_.state[j] == ColumnState::indicator) {
@@ -640,6 +641,13 @@ class RowReader {
       if (options_.keep_decimal_text) table_.decimal_text[slot_[j]].push_back(row_text_[j]);
     }
     if (options_.keep_row_keys) keep_key(fields);
+  }
+
+  // Records where the kept row about to be counted starts, when not on the
+  // line after the previous kept row's start (RowLines::marks).
+  void mark_line(std::size_t line) {
+    if (table_.rows == 0 || line != previous_line_ + 1) table_.row_lines.marks.emplace_back(table_.rows, line);
+    previous_line_ = line;
   }
 
   // The row's key (TableReadOptions::keep_row_keys). The key column is fixed
@@ -754,6 +762,7 @@ class RowReader {
   std::vector<std::string> row_text_;  // decimal text (point) or level of each cell read
   std::vector<LevelColumn> levels_;
   bool key_chosen_ = false;
+  std::size_t previous_line_ = 0;  // start line of the last kept row (mark_line)
   std::size_t key_position_ = static_cast<std::size_t>(-1);  // header position of the key column
 };
 
@@ -785,6 +794,7 @@ Table in_file_order(Table& table, const std::vector<std::size_t>& slot_position,
   sorted.rows = table.rows;
   sorted.dropped_rows = table.dropped_rows;
   sorted.last_line = table.last_line;
+  sorted.row_lines = std::move(table.row_lines);
   return sorted;
 }
 

@@ -189,6 +189,25 @@ TEST(TableReader, MissingDropCountsDroppedRows) {
   EXPECT_NE(std::string(all.what()).find("no rows remain"), std::string::npos);
 }
 
+// Kept rows map to the lines people see (RowLines): the header, blank lines,
+// dropped rows and a quoted line break all move the lines of later rows.
+TEST(TableReader, KeptRowsKnowTheLineTheyStartOn) {
+  TableReadOptions keep;
+  keep.missing = MissingCells::drop;
+  keep.skip = {"note"};
+  // Lines: 1 header, 2 row, 3 blank, 4 dropped (missing a), 5 row, 6-7 one
+  // row with a quoted line break, 8 row.
+  Table u = read_text("a,y,note\n1,2,x\n\n,3,x\n4,5,x\n6,7,\"two\nlines\"\n9,10,x\n", keep);
+  ASSERT_EQ(u.rows, 4u);
+  EXPECT_EQ(u.row_lines.line_of(0), 2u);
+  EXPECT_EQ(u.row_lines.line_of(1), 5u);  // after a blank line and a dropped row
+  EXPECT_EQ(u.row_lines.line_of(2), 6u);
+  EXPECT_EQ(u.row_lines.line_of(3), 8u);  // after a quoted line break
+  EXPECT_EQ(u.row_lines.marks.size(), 3u) << "one mark per jump";
+  // A table not made by the reader knows no lines.
+  EXPECT_EQ(Table().row_lines.line_of(0), 0u);
+}
+
 TEST(TableReader, OnlyAndSkipChooseColumns) {
   TableReadOptions options;
   options.only = {"c", "a"};
@@ -514,6 +533,15 @@ TEST(TableMissing, AMissingFirstCellIsReportedWhereItIs) {
   EXPECT_TRUE(contains(e.what(), "missing value \"n/a\" in column \"a\"")) << e.what();
   EXPECT_EQ(e.line(), 2u);
   EXPECT_EQ(e.column(), 1u);
+  // The advice is the library's own by default, the caller's when given.
+  EXPECT_TRUE(contains(e.what(), "(TableReadOptions::missing = MissingCells::drop drops incomplete rows)"))
+      << e.what();
+  TableReadOptions quiet;
+  quiet.missing_advice = "";
+  const std::string bare = error_of("a,y\nn/a,1\n2,3\n", quiet).what();
+  EXPECT_EQ(bare.find('('), std::string::npos) << bare;
+  quiet.missing_advice = "fill it in";
+  EXPECT_TRUE(contains(error_of("a,y\nn/a,1\n2,3\n", quiet).what(), "in column \"a\" (fill it in)"));
 }
 
 TEST(TableMissing, TheCallersTokensMatchExactly) {

@@ -57,6 +57,19 @@ class invalid_data : public error {
     return e;
   }
 
+  /// A problem of row `row` (of predictor column `column`, when given):
+  /// what() reads "knotpath: row R: WHAT" or "knotpath: row R, column C:
+  /// WHAT" (0-based), and detail() is WHAT alone, for a front end that names
+  /// the place in its own terms (a file's line and a column's name).
+  static invalid_data at_row(std::size_t row, const std::string& what,
+                             std::optional<std::size_t> column = {}) {
+    invalid_data e("row " + std::to_string(row) +
+                       (column ? ", column " + std::to_string(*column) : std::string()) + ": " + what,
+                   row, column);
+    e.detail_ = what;
+    return e;
+  }
+
   /// Row concerned (0-based), if any.
   std::optional<std::size_t> row() const noexcept { return row_; }
   /// Predictor column concerned (0-based), if any.
@@ -64,7 +77,8 @@ class invalid_data : public error {
   /// True when the problem is one of a whole predictor column (of_predictor()).
   bool whole_column() const noexcept { return whole_column_; }
   /// The message without the "knotpath: " prefix; for a whole-column
-  /// problem, the text after "predictor column K".
+  /// problem, the text after "predictor column K"; for a row's problem
+  /// (at_row()), the text after the place.
   const std::string& detail() const noexcept { return detail_; }
 
  private:

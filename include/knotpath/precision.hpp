@@ -354,8 +354,7 @@ Vector<Scalar> parse_decimal_cells(const std::vector<std::string>& cells) {
     try {
       out(static_cast<Index>(i)) = parse_decimal<Scalar>(cells[i]);
     } catch (const invalid_data&) {
-      throw invalid_data("row " + std::to_string(i) + ": '" + cells[i] + "' is not a decimal number",
-                         i);
+      throw invalid_data::at_row(i, "'" + cells[i] + "' is not a decimal number");
     }
   }
   return out;
@@ -394,7 +393,7 @@ ParsedProblem<Scalar> parse_decimal_problem(const DecimalProblem& text) {
     try {
       return parse_decimal_cells<Scalar>(cells);
     } catch (const invalid_data& e) {
-      throw invalid_data(what + ", " + e.detail(), e.row(), column);
+      throw invalid_data::at_row(e.row().value_or(0), what + " cell " + e.detail(), column);
     }
   };
   ParsedProblem<Scalar> out;
@@ -403,7 +402,7 @@ ParsedProblem<Scalar> parse_decimal_problem(const DecimalProblem& text) {
     if (text.weights.size() != n)
       throw invalid_data("weights have " + std::to_string(text.weights.size()) +
                          " cells, the response " + std::to_string(n));
-    out.weights = parse(text.weights, "weights", std::nullopt);
+    out.weights = parse(text.weights, "weight", std::nullopt);
   }
   out.x.resize(static_cast<Index>(n), static_cast<Index>(text.columns.size()));
   for (std::size_t j = 0; j < text.columns.size(); ++j) {
@@ -413,7 +412,7 @@ ParsedProblem<Scalar> parse_decimal_problem(const DecimalProblem& text) {
                              std::to_string(n),
                          std::nullopt, j);
     out.x.col(static_cast<Index>(j)) =
-        parse(text.columns[j], "predictor column " + std::to_string(j), j);
+        parse(text.columns[j], "predictor", j);
   }
   return out;
 }

@@ -50,7 +50,7 @@ void check_response(const Vector<Scalar>& y, Index n, const Vector<Scalar>& weig
   Scalar largest(0), largest_used(0);
   for (Index i = 0; i < n; ++i) {
     if (!is_finite_value(y(i)))
-      throw invalid_data("the response is not finite at row " + std::to_string(i), static_cast<std::size_t>(i));
+      throw invalid_data::at_row(static_cast<std::size_t>(i), "the response is not finite");
     if constexpr (std::is_floating_point_v<Scalar>) {
       largest = std::max<Scalar>(largest, std::abs(y(i)));
       if (weights.size() == 0 || weights(i) > Scalar(0)) largest_used = std::max<Scalar>(largest_used, std::abs(y(i)));

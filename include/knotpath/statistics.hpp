@@ -283,9 +283,7 @@ struct SufficientStatistics {
         for (Index r = 0; r < xm.rows(); ++r)
           if (!std::isfinite(xm(r, j))) {
             const auto row = static_cast<std::size_t>(used[static_cast<std::size_t>(r)]);
-            throw invalid_data("the design is not finite at row " + std::to_string(row) + ", column " +
-                                   std::to_string(j),
-                               row, static_cast<std::size_t>(j));
+            throw invalid_data::at_row(row, "the design value is not finite", static_cast<std::size_t>(j));
           }
     }
   }

@@ -36,12 +36,14 @@
 /// a few blocks. Table::take_matrix moves the values into an Eigen matrix
 /// block by block, so the peak stays near one copy.
 
+#include <algorithm>
 #include <cstddef>
 #include <functional>
 #include <istream>
 #include <memory>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 #include "../detail/scalar.hpp"
@@ -89,6 +91,10 @@ struct TableReadOptions {
   char delimiter = 0;
   /// Handling of missing cells (is_missing_cell).
   MissingCells missing = MissingCells::error;
+  /// What the error for a missing cell advises, in parentheses after it
+  /// (with MissingCells::error; "" for none). A front end that offers no
+  /// dropping says what its users can do instead.
+  std::string missing_advice = "TableReadOptions::missing = MissingCells::drop drops incomplete rows";
   /// Further cell texts that mean "missing" (matched exactly, after trimming
   /// the cell's surrounding spaces), besides the built-in ones.
   std::vector<std::string> missing_tokens;
@@ -193,6 +199,29 @@ struct IndicatorColumn {
 /// level was left out and why.
 std::string indicator_note(const IndicatorColumn& column);
 
+/// Where the kept rows of a table start in its file, so that a row the
+/// library names (invalid_data::row(), 0-based over the kept rows) can be
+/// told as the line people see.
+struct RowLines {
+  /// A (row, line) pair for the first kept row and for every kept row that
+  /// does not start on the line after the previous kept row's start (after
+  /// blank lines, dropped rows or quoted line breaks); rows are 0-based,
+  /// lines 1-based. Compact: one pair in the common case.
+  std::vector<std::pair<std::size_t, std::size_t>> marks;
+
+  /// The 1-based line where kept row `row` starts; 0 when there is no
+  /// record of it (a table not made by read_table). O(log marks).
+  std::size_t line_of(std::size_t row) const {
+    auto after = std::upper_bound(marks.begin(), marks.end(), row,
+                                  [](std::size_t r, const std::pair<std::size_t, std::size_t>& mark) {
+                                    return r < mark.first;
+                                  });
+    if (after == marks.begin()) return 0;
+    --after;
+    return after->second + (row - after->first);
+  }
+};
+
 /// A table read from text: its numeric columns, in file order.
 struct Table {
   std::string source;                                  ///< file name or "<stdin>"
@@ -214,6 +243,7 @@ struct Table {
   std::size_t rows = 0;                                ///< data rows kept
   std::size_t dropped_rows = 0;                        ///< rows dropped for missing cells
   std::size_t last_line = 0;                           ///< physical lines consumed
+  RowLines row_lines;                                  ///< where each kept row starts
 
   /// Index of a numeric column by name, or -1.
   Index find(const std::string& name) const;
