@@ -160,9 +160,15 @@ Data<S> small_data(int n = 24) {
 
 template <class S>
 void expect_round_trip(const kp::Path<S>& path, const Matrix<S>& new_rows) {
-  kp::io::SavedPath<S> saved{path, "y", {{"least-error", path.lambda_max() / S(3)}}};
+  kp::io::SavedPath<S> saved{path, "y", {{"least-error", path.lambda_max() / S(3)}},
+                             {{"colour, shade", {"blue", "red \"dark\"", "x=y"}, "blue", {"colour, shade=red \"dark\"", "colour, shade=x=y"}}}};
   const auto loaded = round_trip(saved);
   EXPECT_EQ(loaded.response, "y");
+  ASSERT_EQ(loaded.expanded.size(), 1u);
+  EXPECT_EQ(loaded.expanded[0].source, saved.expanded[0].source);
+  EXPECT_EQ(loaded.expanded[0].levels, saved.expanded[0].levels);
+  EXPECT_EQ(loaded.expanded[0].reference, "blue");
+  EXPECT_EQ(loaded.expanded[0].names, saved.expanded[0].names);
   ASSERT_EQ(loaded.choices.size(), 1u);
   EXPECT_TRUE(same(loaded.choices[0].penalty, saved.choices[0].penalty));
   ASSERT_NE(loaded.choice("least-error"), nullptr);
@@ -233,7 +239,7 @@ TEST(SavedPath, ExactPathKeepsItsFractions) {
   o.standardize = false;
   const auto path = kp::trace<kp::rational>(d.x, d.y, o);
   std::stringstream file;
-  kp::io::save_path(file, kp::io::SavedPath<kp::rational>{path, "y", {}});
+  kp::io::save_path(file, kp::io::SavedPath<kp::rational>{path, "y", {}, {}});
   EXPECT_NE(file.str().find("\"arithmetic\": \"exact\""), std::string::npos);
   EXPECT_NE(file.str().find('/'), std::string::npos);  // fractions, not decimals
   expect_round_trip(path, Matrix<kp::rational>(d.x.topRows(4)));
@@ -253,7 +259,7 @@ TEST(SavedPath, MultiprecisionPathsKeepEveryDigit) {
   const auto d = small_data<kp::mpfr_float>();
   const auto path = kp::trace<kp::mpfr_float>(d.x, d.y, kp::TraceOptions{});
   std::stringstream file;
-  kp::io::save_path(file, kp::io::SavedPath<kp::mpfr_float>{path, "y", {}});
+  kp::io::save_path(file, kp::io::SavedPath<kp::mpfr_float>{path, "y", {}, {}});
   kp::set_mpfr_digits(20);  // the loader restores the file's precision
   const auto loaded = kp::io::load_path<kp::mpfr_float>(file, "test");
   EXPECT_EQ(kp::mpfr_float::default_precision(), 40u);
@@ -265,7 +271,7 @@ TEST(SavedPath, MultiprecisionPathsKeepEveryDigit) {
 TEST(SavedPath, TheAuditOfALoadedPathIsTheOriginals) {
   const auto d = small_data<double>();
   const auto path = kp::trace<double>(d.x, d.y, kp::TraceOptions{});
-  const auto loaded = round_trip(kp::io::SavedPath<double>{path, "y", {}});
+  const auto loaded = round_trip(kp::io::SavedPath<double>{path, "y", {}, {}});
   kp::io::RunContext context;
   context.source = "test";
   context.response = "y";
@@ -277,7 +283,7 @@ TEST(SavedPath, TheAuditOfALoadedPathIsTheOriginals) {
 std::string saved_text() {
   const auto d = small_data<double>();
   std::stringstream file;
-  kp::io::save_path(file, kp::io::SavedPath<double>{kp::trace<double>(d.x, d.y, kp::TraceOptions{}), "y", {}});
+  kp::io::save_path(file, kp::io::SavedPath<double>{kp::trace<double>(d.x, d.y, kp::TraceOptions{}), "y", {}, {}});
   return file.str();
 }
 

@@ -14,6 +14,7 @@
 #include <nlohmann/json.hpp>
 
 #include "../path.hpp"
+#include "table.hpp"
 
 namespace knotpath::io {
 
@@ -28,6 +29,7 @@ struct RunContext {
   std::vector<std::string> text_columns;     ///< text columns skipped by the reader
   std::vector<std::string> unused_columns;   ///< numeric columns not used as predictors
   std::vector<std::string> table_notes;      ///< sentences about how the table was read (indicators, ...)
+  std::vector<IndicatorColumn> indicator_columns;  ///< text columns expanded into indicator predictors
   std::string program_version;               ///< knotpath version
 };
 

@@ -17,7 +17,10 @@
 ///    "numbers": how numbers are written (below),
 ///    "checksum": 64-bit FNV-1a of the compact text of "body", 16 hex digits,
 ///    "body": {"response", "choices", "options", "preparation", "knots",
-///             "held_out", "stop", "ridge"}}
+///             "held_out", "stop", "ridge", "expanded"}}
+/// "expanded" lists the text columns expanded into indicator predictors
+/// (column, levels, reference, names), so that new rows are expanded alike;
+/// a file without it expanded none.
 /// Numbers of the path are JSON strings, each exact in its arithmetic:
 ///  - double and long double (and every double field of the records, such as
 ///    health figures and options): the C hexadecimal floating form of
@@ -55,6 +58,7 @@
 #include "../path.hpp"
 #include "../precision.hpp"
 #include "../prepare.hpp"
+#include "table.hpp"
 
 namespace knotpath::io {
 
@@ -87,6 +91,9 @@ struct SavedPath {
   Path<Scalar> path;                         ///< the traced path
   std::string response;                      ///< the response's name ("" when unknown)
   std::vector<NamedPenalty<Scalar>> choices; ///< named penalties, in the order saved
+  /// Text columns of the traced table expanded into indicator predictors
+  /// (their levels and reference), so that new rows can be expanded alike.
+  std::vector<IndicatorColumn> expanded;
 
   /// The named penalty `name`, or nullptr when the file has none of that name.
   const NamedPenalty<Scalar>* choice(const std::string& name) const {
@@ -186,58 +193,19 @@ Vector<Scalar> vector_of(const json& a) {
   return v;
 }
 
-inline const char* word_of(Variant v) { return v == Variant::lasso ? "lasso" : "least-angle"; }
-inline const char* word_of(Storage s) {
-  switch (s) {
-    case Storage::dense: return "dense";
-    case Storage::gram: return "gram";
-    case Storage::view: return "view";
-    case Storage::automatic: break;
-  }
-  return "automatic";
-}
-inline const char* word_of(SignConstraint c) {
-  switch (c) {
-    case SignConstraint::nonnegative: return "nonnegative";
-    case SignConstraint::nonpositive: return "nonpositive";
-    case SignConstraint::none: break;
-  }
-  return "none";
-}
-
-inline const char* word_of(EventKind e) {
-  switch (e) {
-    case EventKind::enter: return "enter";
-    case EventKind::leave: return "leave";
-    case EventKind::end: return "end";
-    case EventKind::stop: return "stop";
-    case EventKind::start: break;
-  }
-  return "start";
-}
-inline const char* word_of(StopReason r) {
-  switch (r) {
-    case StopReason::max_knots: return "max-knots";
-    case StopReason::min_penalty: return "min-penalty";
-    case StopReason::max_active: return "max-active";
-    case StopReason::step_limit: return "step-limit";
-    case StopReason::completed: break;
-  }
-  return "completed";
-}
-
-// The enumeration value whose word_of() is `word` (invalid_argument otherwise).
+// The enumeration value whose to_string() (the one home of each enum's
+// words: options.hpp, knot.hpp) is `word` (invalid_argument otherwise).
 template <class Enum>
 Enum enum_of(const std::string& word, std::initializer_list<Enum> values) {
   for (Enum e : values)
-    if (word == word_of(e)) return e;
+    if (word == to_string(e)) return e;
   throw std::invalid_argument("unknown word \"" + word + "\"");
 }
 
 inline json options_json(const TraceOptions& o) {
   json j;
-  j["variant"] = word_of(o.variant);
-  j["storage"] = word_of(o.storage);
+  j["variant"] = to_string(o.variant);
+  j["storage"] = to_string(o.storage);
   j["with_intercept"] = o.with_intercept;
   j["standardize"] = o.standardize;
   json scales = json::array();
@@ -246,7 +214,7 @@ inline json options_json(const TraceOptions& o) {
   j["unpenalized"] = o.unpenalized;
   j["left_out"] = o.left_out;
   json signs = json::array();
-  for (SignConstraint c : o.sign_constraints) signs.push_back(word_of(c));
+  for (SignConstraint c : o.sign_constraints) signs.push_back(to_string(c));
   j["sign_constraints"] = signs;
   j["ridge"] = write_number(o.ridge);
   j["max_knots"] = o.max_knots;
@@ -305,7 +273,7 @@ json preparation_json(const Preparation<Scalar>& p) {
   for (double f : p.penalty_weights) factors.push_back(write_number(f));
   j["penalty_weights"] = factors;
   json signs = json::array();
-  for (SignConstraint c : p.constraints) signs.push_back(word_of(c));
+  for (SignConstraint c : p.constraints) signs.push_back(to_string(c));
   j["constraints"] = signs;
   json excluded = json::array();
   for (const auto& e : p.excluded) excluded.push_back({{"predictor", e.predictor}, {"reason", e.reason}});
@@ -343,7 +311,7 @@ json knot_json(const Knot<Scalar>& k) {
   json j;
   j["step"] = k.step;
   j["penalty"] = write_number(k.penalty);
-  j["event"] = word_of(k.event);
+  j["event"] = to_string(k.event);
   j["predictor"] = k.predictor;
   j["sign"] = k.sign;
   j["correlation"] = write_number(k.correlation);
@@ -443,8 +411,12 @@ void save_path(std::ostream& out, const SavedPath<Scalar>& saved) {
                     {"squared_sine", write_number(h.squared_sine)},
                     {"saturated", h.saturated}});
   body["held_out"] = held;
-  body["stop"] = saved_detail::word_of(path.stop_reason());
+  body["stop"] = to_string(path.stop_reason());
   body["ridge"] = write_number(path.ridge());
+  json expanded = json::array();
+  for (const auto& e : saved.expanded)
+    expanded.push_back({{"column", e.source}, {"levels", e.levels}, {"reference", e.reference}, {"names", e.names}});
+  body["expanded"] = expanded;
   json doc;
   doc["format"] = "knotpath-saved-path";
   doc["format_version"] = saved_format_version;
@@ -536,6 +508,10 @@ SavedPath<Scalar> load_path(std::istream& in, const std::string& source) {
     saved.response = body.at("response").get<std::string>();
     for (const auto& c : body.at("choices"))
       saved.choices.push_back({c.at("name").get<std::string>(), read_number<Scalar>(c.at("penalty").get<std::string>())});
+    if (body.contains("expanded"))
+      for (const auto& e : body.at("expanded"))
+        saved.expanded.push_back({e.at("column").get<std::string>(), e.at("levels").get<std::vector<std::string>>(),
+                                  e.at("reference").get<std::string>(), e.at("names").get<std::vector<std::string>>()});
     TraceOptions options = saved_detail::options_of(body.at("options"));
     Preparation<Scalar> prep = saved_detail::preparation_of<Scalar>(body.at("preparation"));
     std::vector<Knot<Scalar>> knots;
