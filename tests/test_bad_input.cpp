@@ -91,6 +91,24 @@ TEST_F(BadInput, DataWithNothingToTraceIsRefused) {
   EXPECT_EQ(run("trace c.csv --response y --no-intercept").code, 0);
 }
 
+// The library's row problems are named by the file's line (the library
+// counts kept rows from 0): after a blank line and a dropped row, the bad
+// weight of the third kept row is on line 6 (common practice: editors and
+// error messages count lines from 1, the header included).
+TEST_F(BadInput, RowProblemsNameTheLineOfTheFile) {
+  const std::string table = "a,b,y,w\n1,2,3,1\n\n4,NA,5,1\n2,5,1,1\n3,1,2,-1\n5,5,5,1\n";
+  expect_refused(table, "bad.csv, line 6: the weight is negative or not finite", "--weights w --missing drop");
+  spit(file("bad.csv"), table);
+  Outcome r = run("select bad.csv --response y --weights w --missing drop");
+  EXPECT_EQ(r.code, 3) << r.err;
+  EXPECT_NE(r.err.find("knotpath: bad.csv, line 6: the weight is negative or not finite"), std::string::npos)
+      << r.err;
+  r = run("trace bad.csv --response y --weights w --missing drop --precision 50");
+  EXPECT_EQ(r.code, 3) << r.err;
+  EXPECT_NE(r.err.find("knotpath: bad.csv, line 6: the weight is negative or not finite"), std::string::npos)
+      << r.err;
+}
+
 TEST_F(BadInput, MoreColumnsThanTheLimitIsRefused) {
   std::string header, row, other;
   for (int j = 0; j < 50; ++j) {

@@ -140,7 +140,50 @@ TEST_F(CliPredict, NewRowsAreReadByTheTableOptionsOfTrace) {
   EXPECT_NE(na.code, 0);
   EXPECT_NE(na.err.find("-99"), std::string::npos) << na.err;
   EXPECT_EQ(na.err.find("no column \"a\""), std::string::npos) << na.err;
+  // predict has no --missing drop: its message says what to do instead.
+  EXPECT_EQ(na.err.find("--missing"), std::string::npos) << na.err;
+  EXPECT_NE(na.err.find("fill the cell, or leave the row out"), std::string::npos) << na.err;
   EXPECT_EQ(run("predict m.kpath comma.csv --mu 0 --decimal comma --delimiter comma").code, 2);
+}
+
+// A path traced with text columns expanded into indicators predicts new
+// rows from the text columns themselves, expanded by the saved levels: the
+// same predictions as the 0/1 columns written by hand, a level the new rows
+// lack is a column of zeros, and a level the path never saw is refused.
+TEST_F(CliPredict, TextColumnsAreExpandedByTheSavedLevels) {
+  std::ofstream train(file("text.csv")), hand(file("hand.csv"));
+  train << "x,colour,y\n";
+  hand << "x,colour=green,colour=red,y\n";
+  const char* levels[] = {"blue", "green", "red"};
+  for (int i = 0; i < 24; ++i) {
+    const double x = std::sin(i * 0.9);
+    const std::string level = levels[i % 3];
+    const double y = 2 * x + (level == "green" ? 1.0 : level == "red" ? -1.5 : 0.0) + 0.2 * std::cos(i * 3.7);
+    train << kp::io::round_trip(x) << ',' << level << ',' << kp::io::round_trip(y) << '\n';
+    hand << kp::io::round_trip(x) << ',' << (level == "green") << ',' << (level == "red") << ','
+         << kp::io::round_trip(y) << '\n';
+  }
+  train.close();
+  hand.close();
+  ASSERT_EQ(run("trace text.csv --response y --indicators colour --save m.kpath").code, 0);
+  ASSERT_EQ(run("trace hand.csv --response y --save h.kpath").code, 0);
+  ASSERT_EQ(load("m.kpath").expanded.size(), 1u);
+  EXPECT_EQ(load("m.kpath").expanded[0].reference, "blue");
+  // New rows without "green": its indicator is zero in every row.
+  std::ofstream(file("new.csv")) << "colour,x\nred,0.5\nblue,-0.25\nred,1\n";
+  std::ofstream(file("new_hand.csv")) << "colour=green,colour=red,x\n0,1,0.5\n0,0,-0.25\n0,1,1\n";
+  const Outcome text = run("predict m.kpath new.csv --mu 0.01");
+  ASSERT_EQ(text.code, 0) << text.err;
+  const Outcome by_hand = run("predict h.kpath new_hand.csv --mu 0.01");
+  ASSERT_EQ(by_hand.code, 0) << by_hand.err;
+  EXPECT_EQ(text.out, by_hand.out);
+  // A level the path never saw cannot be scored as the reference.
+  std::ofstream(file("odd.csv")) << "colour,x\nred,0.5\npurple,1\n";
+  const Outcome odd = run("predict m.kpath odd.csv --mu 0.01");
+  EXPECT_EQ(odd.code, 3);
+  EXPECT_NE(odd.err.find("column \"colour\" holds \"purple\", a level the saved path was not traced with"),
+            std::string::npos) << odd.err;
+  EXPECT_TRUE(odd.out.empty());
 }
 
 TEST_F(CliPredict, AMissingPredictorColumnIsNamed) {

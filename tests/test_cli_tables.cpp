@@ -203,6 +203,23 @@ TEST_F(Tables, IndicatorsAreTheColumnsOneWouldWriteByHand) {
   EXPECT_NE(none.out.find("smoker=no, smoker=yes"), std::string::npos) << none.out;
 }
 
+// A column literally named "all" is named by quoting it; unquoted, all
+// still means every text column.
+TEST_F(Tables, AQuotedAllNamesAColumnCalledAll) {
+  std::string text = text_table(), hand = hand_made_indicators();
+  text.replace(text.find("smoker"), 6, "all");
+  hand.replace(hand.find("smoker=yes"), 10, "all=yes");
+  write("text.csv", text);
+  write("hand.csv", hand);
+  // Only "all" expanded; region, still text, is skipped.
+  EXPECT_EQ(knots_of("text.csv --response y --indicators '\"all\"'"),
+            knots_of("hand.csv --response y --drop region=north,region=south"));
+  EXPECT_EQ(knots_of("text.csv --response y --indicators all"), knots_of("hand.csv --response y"));
+  EXPECT_EQ(run("trace text.csv --response y --indicators 'all,\"all\"'").code, 2);
+  EXPECT_EQ(run("trace hand.csv --response y --nonnegative '\"all\"'").code, 3)
+      << "a quoted all names a column, and hand.csv has none so called";
+}
+
 TEST_F(Tables, ExpandingAnIdentifierIsRefusedWithTheLimit) {
   std::string t = "id,x1,x2,y\n";
   int i = 0;

@@ -53,6 +53,13 @@ struct Global {
   int status = 0;  ///< exit status set by the command that ran
 };
 
+/// How the cells of a table are written (--delimiter, --na, --decimal).
+struct CellArgs {
+  std::string delimiter = "auto";      ///< auto, comma, semicolon, tab, whitespace
+  std::vector<std::string> na_tokens;  ///< --na: further cell texts that mean missing, as given
+  std::string decimal = "point";       ///< --decimal point|comma
+};
+
 /// Options that shape the model and how the table is read.
 struct ModelArgs {
   std::string response;
@@ -70,11 +77,12 @@ struct ModelArgs {
   std::size_t max_knots = 0;
   double min_penalty = 0.0;
   std::size_t max_active = 0;
-  std::string delimiter = "auto";
+  CellArgs cells;                       // --delimiter, --na, --decimal
   std::string missing = "error";
-  std::vector<std::string> na_tokens;   // --na: further cell texts that mean missing
-  std::string decimal = "point";        // --decimal point|comma
   std::vector<std::string> indicators;  // --indicators: text columns to expand, or "all"
+  bool indicators_all = false;           // unquoted "all" in --indicators (split_list)
+  bool nonnegative_all = false;          // unquoted "all" in --nonnegative
+  bool nonpositive_all = false;          // unquoted "all" in --nonpositive
   std::size_t max_levels = 20;          // --max-levels of one expanded column
   std::size_t max_columns = 100000;  // reader's limit on header width
   std::size_t threads = 1;           // TraceOptions::threads (select: also the folds)
@@ -86,12 +94,34 @@ struct ModelArgs {
 /// belongs to the item, the quotes are removed, and "" inside quotes is one
 /// quote character. So --drop '"height, cm",age' names two columns. Each
 /// value of a repeated option is split the same way. An empty item or an
-/// unclosed quote is failure(exit_usage) naming `option`.
+/// unclosed quote is failure(exit_usage) naming `option`. With `every` (the
+/// lists that accept it), an unquoted item `all` means every column: it sets
+/// *every and is not an item, while a quoted "all" names a column so called
+/// (--indicators '"all"').
 std::vector<std::string> split_list(const std::vector<std::string>& values,
-                                    const std::string& option);
+                                    const std::string& option, bool* every = nullptr);
 
-/// The delimiter of a --delimiter word (auto: 0, comma, semicolon, tab, whitespace).
-char table_delimiter(const std::string& word);
+/// `name` as one item of a list option (split_list's rule): in double
+/// quotes, a quote inside doubled.
+inline std::string quoted_list_item(const std::string& name) {
+  std::string out = "\"";
+  for (char c : name) out += c == '"' ? std::string("\"\"") : std::string(1, c);
+  return out + "\"";
+}
+
+/// The word that stands for every column in --indicators, --nonnegative and
+/// --nonpositive (split_list).
+inline constexpr const char* every_column_word = "all";
+
+/// Adds --delimiter, --na and --decimal to a command (group "Table");
+/// `na_note`, when not empty, ends the help of --na (what a missing cell does).
+void add_cell_options(CLI::App& command, CellArgs& args, const std::string& na_note);
+
+/// The reader's cell rules of the options (delimiter, the --na tokens split
+/// by split_list, decimal mark), the one home of their reading for every
+/// command that reads a table; --decimal comma with --delimiter comma is
+/// failure(exit_usage).
+io::TableReadOptions cell_read_options(const CellArgs& args);
 
 /// Adds the table-reading and model options to a command.
 void add_model_options(CLI::App& command, ModelArgs& args);
@@ -140,10 +170,15 @@ CLI::Validator non_negative_number();
 /// \copydoc non_negative_number
 CLI::Validator positive_number();
 
-/// The message of a data error for the user: a whole predictor column is
-/// named by its table name (the library counts columns from 0), any other
-/// message is the library's without its "knotpath: " prefix.
-std::string data_message(const invalid_data& e, const std::vector<std::string>& names);
+/// The message of the library's data refusal for the user, with the place
+/// in the table's terms (the library counts kept rows and predictor columns
+/// from 0): "SOURCE, line L[, column \"NAME\"]: WHAT" for a row's problem
+/// (`lines` maps kept rows to the file's lines), "SOURCE: predictor
+/// \"NAME\"DETAIL" for a whole predictor column, else "SOURCE: MESSAGE"
+/// (the library's, without its "knotpath: " prefix). `names` are the
+/// predictors' table names in the design's order.
+std::string data_message(const invalid_data& e, const std::string& source, const std::vector<std::string>& names,
+                         const io::RowLines& lines);
 
 /// Reads the table and traces its path (progress on stderr when enabled).
 TracedTable trace_table(const std::string& table, const ModelArgs& args, const Global& global);
@@ -175,11 +210,15 @@ struct PrecisionArgs {
 /// Adds --precision and --digits to a command.
 void add_precision_options(CLI::App& command, PrecisionArgs& args);
 
-/// Where `at` evaluates the path; each given value keeps its command-line
-/// text so that it is parsed exactly in the chosen arithmetic.
+/// Where a path is asked (`at`, `predict`): each value as typed, "" when not
+/// given, parsed exactly in the path's arithmetic by answer_point()
+/// (point_answer.hpp). `choice` names a penalty saved with a path.
 struct PointArgs {
-  std::optional<double> penalty, mu, budget, relative_budget;
-  std::string penalty_text, mu_text, budget_text, relative_budget_text;
+  std::string penalty, mu, budget, relative_budget, choice;
+  /// True when one of the values was given.
+  bool any() const {
+    return !penalty.empty() || !mu.empty() || !budget.empty() || !relative_budget.empty() || !choice.empty();
+  }
 };
 
 /// How `at` prints its answer (print_point in point_answer.hpp).

@@ -33,27 +33,11 @@ struct AtArgs {
   std::string table;
   ModelArgs model;
   PrecisionArgs precision;
-  PointArgs point;  // the point's values with their command-line text
-  std::optional<double>& penalty = point.penalty;
-  std::optional<double>& mu = point.mu;
-  std::optional<double>& budget = point.budget;
-  std::optional<double>& relative_budget = point.relative_budget;
+  PointArgs point;     // --choice only with --path: a penalty saved with it
   bool csv = false;
   bool json = false;
   std::string saved;   // --path: a saved path instead of TABLE
-  std::string choice;  // --choice: a penalty saved with it
 };
-
-// A saved path asked at the point of `at` (the values' command-line text).
-SavedPointArgs saved_point_args(const AtArgs& args) {
-  SavedPointArgs p;
-  if (args.penalty) p.penalty = args.point.penalty_text;
-  if (args.mu) p.mu = args.point.mu_text;
-  if (args.budget) p.budget = args.point.budget_text;
-  if (args.relative_budget) p.relative_budget = args.point.relative_budget_text;
-  p.choice = args.choice;
-  return p;
-}
 
 // `at --path SAVED`: the table options describe a trace, which a saved path
 // has had already; giving one is a usage error rather than silently ignored.
@@ -72,7 +56,7 @@ void refuse_trace_options(const CLI::App& command) {
 int at_saved_path(const AtArgs& args, PointOutput output) {
   return with_saved_path(args.saved, [&](const auto& saved) {
     const auto& path = saved.path;
-    const auto [solution, asked] = saved_point(saved, saved_point_args(args), args.saved);
+    const auto [solution, asked] = saved_point(saved, args.point, args.saved);
     const PointAnswer answer = describe_point(path, solution, asked);
     std::vector<std::string> names;
     for (Index j = 0; j < path.predictor_count(); ++j) names.push_back(path.predictor_name(j));
@@ -80,36 +64,6 @@ int at_saved_path(const AtArgs& args, PointOutput output) {
     std::cout.flush();
     return exit_ok;
   });
-}
-
-// The solution at the point `at` asks for, and the question.
-struct Point {
-  Solution<double> solution;
-  AskedPoint<double> asked;
-};
-
-Point point_of(const Path<double>& path, const AtArgs& args) {
-  Point p;
-  try {
-    if (args.penalty) {
-      p.solution = path.at_penalty(*args.penalty);
-      p.asked = {PointKind::penalty, fmt::format("penalty {:.17g}", *args.penalty), *args.penalty};
-    } else if (args.mu) {
-      if (!(*args.mu >= 0)) throw invalid_query("mu must be >= 0");
-      p.solution = path.at_mu(*args.mu);
-      p.asked = {PointKind::penalty, fmt::format("mu {:.17g}", *args.mu), path.lambda_of(*args.mu)};
-    } else if (args.budget) {
-      p.solution = path.at_budget(*args.budget);
-      p.asked = {PointKind::budget, fmt::format("L1 budget {:.17g}", *args.budget), *args.budget};
-    } else {
-      p.solution = path.at_relative_budget(*args.relative_budget);
-      p.asked = {PointKind::relative_budget,
-                 fmt::format("relative budget {:.17g} (share of the final L1 norm)", *args.relative_budget), 0.0};
-    }
-  } catch (const invalid_query& e) {
-    throw failure(exit_usage, e.what());
-  }
-  return p;
 }
 
 // The point lies on the segment after the last knot at or above its
@@ -198,33 +152,28 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
   add_model_options(*command, args->model);
   command->get_option("--response")->required(false);  // required with TABLE (checked below)
   add_precision_options(*command, args->precision);
-  auto keep = [](std::string& text) { return [&text](const std::string& s) { text = s; }; };
-  auto* penalty = command->add_option("--penalty", args->penalty, "Penalty lambda (>= 0)")
-                      ->each(keep(args->point.penalty_text))
-                      ->group("Point");
+  auto* penalty =
+      command->add_option("--penalty", args->point.penalty, "Penalty lambda (>= 0)")->type_name("NUMBER")->group("Point");
   auto* mu = command
-                 ->add_option("--mu", args->mu,
+                 ->add_option("--mu", args->point.mu,
                               "Size-free penalty: " + std::string(size_free_penalty_rule) +
                                   " (--no-standardize keeps the columns' own scale)")
-                 ->each(keep(args->point.mu_text))
-                 ->group("Point");
+                 ->type_name("NUMBER")->group("Point");
   auto* budget =
       command
-          ->add_option("--budget", args->budget,
+          ->add_option("--budget", args->point.budget,
                        "L1 budget S >= 0 on sum of f_j s_j |b_j|: the lasso point of least RSS "
                        "with L1 norm <= S; with --ridge the elastic-net point of L1 norm S "
                        "(least RSS plus ridge term); with --variant least-angle the first "
                        "point whose L1 norm reaches S")
-          ->each(keep(args->point.budget_text))
-          ->group("Point");
+          ->type_name("NUMBER")->group("Point");
   auto* relative =
       command
-          ->add_option("--relative-budget", args->relative_budget,
+          ->add_option("--relative-budget", args->point.relative_budget,
                        "Relative budget R in [0, 1]: the L1 budget R times the final L1 norm")
-          ->each(keep(args->point.relative_budget_text))
-          ->group("Point");
+          ->type_name("NUMBER")->group("Point");
   auto* choice = command
-                     ->add_option("--choice", args->choice,
+                     ->add_option("--choice", args->point.choice,
                                   std::string("With --path: a penalty saved by knotpath select --save (") +
                                       least_error_choice + " or " + parsimonious_choice + ")")
                      ->group("Point");
@@ -247,7 +196,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
       "  knotpath at --path model.kpath --choice parsimonious --json\n");
   command->callback([args, command, &global] {
     const PointOutput output = args->json ? PointOutput::json : args->csv ? PointOutput::csv : PointOutput::table;
-    if (!args->penalty && !args->mu && !args->budget && !args->relative_budget && args->choice.empty())
+    if (!args->point.any())
       throw failure(exit_usage, "at: give one of --penalty, --mu, --budget, --relative-budget or (with --path) --choice");
     if (!args->saved.empty()) {
       if (!args->table.empty())
@@ -258,7 +207,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     }
     if (args->table.empty()) throw failure(exit_usage, "at: give a TABLE to trace (or --path SAVED)");
     if (args->model.response.empty()) throw failure(exit_usage, "at: --response is required with a TABLE");
-    if (!args->choice.empty())
+    if (!args->point.choice.empty())
       throw failure(exit_usage,
                     "--choice names a penalty saved with a path: use it with --path SAVED (a file written "
                     "by knotpath select --save)");
@@ -269,11 +218,10 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     TracedTable traced = trace_table(args->table, args->model, global);
     require_finite_path(traced.path);
     const Path<double>& path = traced.path;
-    const Point point = point_of(path, *args);
-    const Solution<double>& solution = point.solution;
-    const PointAnswer answer = describe_point(path, solution, point.asked);
+    const auto [solution, asked] = answer_point(path, args->point);
+    const PointAnswer answer = describe_point(path, solution, asked);
     warn_if_suspect(path, solution, traced.context);
-    print_point(path, solution, point.asked, answer, traced.context.predictor_names, output);
+    print_point(path, solution, asked, answer, traced.context.predictor_names, output);
     std::cout.flush();
     global.status = finished_status(path);
   });

@@ -37,7 +37,7 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
   command
       .add_option("--variant", args.variant,
                   "lasso (predictors may leave) or least-angle (they only enter)")
-      ->check(CLI::IsMember({"lasso", "least-angle"}))
+      ->check(CLI::IsMember({to_string(Variant::lasso), to_string(Variant::least_angle)}))
       ->default_str("lasso")
       ->group("Model");
   command
@@ -87,35 +87,18 @@ void add_model_options(CLI::App& command, ModelArgs& args) {
                   "Stop before more than this many predictors are active (0 = no limit)")
       ->group("Stopping");
   command
-      .add_option("--delimiter", args.delimiter,
-                  "Field delimiter: auto, comma, semicolon, tab, or whitespace (runs of spaces "
-                  "and tabs)")
-      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab", "whitespace"}))
-      ->default_str("auto")
-      ->group("Table");
-  command
       .add_option("--missing", args.missing,
                   "Missing cells (empty, NA, N/A, NaN, '.', and --na): error (stop) or drop (drop "
                   "the row and count it)")
       ->check(CLI::IsMember({"error", "drop"}))
       ->default_str("error")
       ->group("Table");
-  command
-      .add_option("--na", args.na_tokens,
-                  "Further cell texts that mean missing, matched exactly (comma separated; "
-                  "quote one holding a comma)")
-      ->group("Table");
-  command
-      .add_option("--decimal", args.decimal,
-                  "Decimal mark of the numbers: point (2.5) or comma (2,5; the delimiter is then "
-                  "not a comma)")
-      ->check(CLI::IsMember({"point", "comma"}))
-      ->default_str("point")
-      ->group("Table");
+  add_cell_options(command, args.cells, "");
   command
       .add_option("--indicators", args.indicators,
                   "Text columns to expand into 0/1 indicator predictors, one per level named "
-                  "COLUMN=LEVEL (names, or all for every text column); the first level in byte "
+                  "COLUMN=LEVEL (names, or all for every text column; quote \"all\" for a column so "
+                  "named); the first level in byte "
                   "order is left out when there is an intercept")
       ->group("Table");
   command
@@ -198,19 +181,17 @@ ModelArgs with_lists_split(const ModelArgs& given) {
   ModelArgs args = given;
   args.penalty_scales = split_list(given.penalty_scales, "--penalty-scale");
   args.unpenalized = split_list(given.unpenalized, "--unpenalized");
-  args.nonnegative = split_list(given.nonnegative, "--nonnegative");
-  args.nonpositive = split_list(given.nonpositive, "--nonpositive");
+  args.nonnegative = split_list(given.nonnegative, "--nonnegative", &args.nonnegative_all);
+  args.nonpositive = split_list(given.nonpositive, "--nonpositive", &args.nonpositive_all);
   args.use = split_list(given.use, "--use");
   args.drop = split_list(given.drop, "--drop");
-  args.na_tokens = split_list(given.na_tokens, "--na");
-  args.indicators = split_list(given.indicators, "--indicators");
+  args.indicators = split_list(given.indicators, "--indicators", &args.indicators_all);
   return args;
 }
 
 // Contradictions of --indicators with the other column options.
 void check_indicator_list(const ModelArgs& args) {
-  const bool all = contains(args.indicators, "all");
-  if (all && args.indicators.size() > 1)
+  if (args.indicators_all && !args.indicators.empty())
     throw failure(exit_usage, "\"all\" in --indicators cannot be combined with names");
   for (const auto& name : args.indicators) {
     if (name == args.response)
@@ -256,10 +237,8 @@ io::ColumnRoles column_roles(const ModelArgs& args, const std::vector<ScaleItem>
   roles.drop = args.drop;
   for (const auto& [name, value] : scales) roles.referenced.push_back(name);
   for (const auto& name : args.unpenalized) roles.referenced.push_back(name);
-  for (const auto& name : args.nonnegative)
-    if (name != "all") roles.referenced.push_back(name);
-  for (const auto& name : args.nonpositive)
-    if (name != "all") roles.referenced.push_back(name);
+  for (const auto& name : args.nonnegative) roles.referenced.push_back(name);
+  for (const auto& name : args.nonpositive) roles.referenced.push_back(name);
   return roles;
 }
 
@@ -285,12 +264,9 @@ void check_sign_lists(const ModelArgs& args) {
     if (contains(args.nonpositive, name))
       throw failure(exit_usage,
                     "\"" + name + "\" is listed in both --nonnegative and --nonpositive");
-  const bool all_nonnegative = contains(args.nonnegative, "all");
-  const bool all_nonpositive = contains(args.nonpositive, "all");
-  if ((all_nonnegative && args.nonnegative.size() > 1) ||
-      (all_nonpositive && args.nonpositive.size() > 1) ||
-      (all_nonnegative && !args.nonpositive.empty()) ||
-      (all_nonpositive && !args.nonnegative.empty()))
+  const bool all_nonnegative = args.nonnegative_all, all_nonpositive = args.nonpositive_all;
+  if ((all_nonnegative && (!args.nonnegative.empty() || all_nonpositive || !args.nonpositive.empty())) ||
+      (all_nonpositive && (!args.nonpositive.empty() || !args.nonnegative.empty())))
     throw failure(exit_usage,
                   "\"all\" in --nonnegative/--nonpositive cannot be combined with names");
 }
@@ -313,14 +289,9 @@ void check_model_options(const io::ColumnRoles& roles, const ModelArgs& args) {
 // (checked by the reader) and choose, with --use and --drop, the ones read.
 io::TableReadOptions read_options(const ModelArgs& args, const io::ColumnRoles& roles,
                                   bool keep_decimal_text) {
-  io::TableReadOptions read;
-  read.delimiter = delimiter_char(args.delimiter);
+  io::TableReadOptions read = cell_read_options(args.cells);
   read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
-  read.missing_tokens = args.na_tokens;
-  read.decimal = args.decimal == "comma" ? io::DecimalMark::comma : io::DecimalMark::point;
-  if (read.decimal == io::DecimalMark::comma && read.delimiter == ',')
-    throw failure(exit_usage, "--decimal comma cannot be read with --delimiter comma");
-  if (contains(args.indicators, "all"))
+  if (args.indicators_all)
     read.indicators.all_text = true;
   else
     read.indicators.columns = args.indicators;
@@ -367,6 +338,7 @@ void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
   context.predictor_names = out.columns.names;
   for (const auto& made : table.indicator_columns)
     context.table_notes.push_back(io::indicator_note(made));
+  context.indicator_columns = table.indicator_columns;
   if (!table.decimal_comma_columns.empty()) {
     std::string list;
     for (const auto& name : table.decimal_comma_columns) list += (list.empty() ? "" : ", ") + name;
@@ -387,7 +359,7 @@ TraceOptions trace_options(const ModelArgs& args, const std::vector<ScaleItem>& 
                   "\"" + name + "\" is not a predictor (it is the response or the weights)");
   };
   TraceOptions options;
-  options.variant = args.variant == "least-angle" ? Variant::least_angle : Variant::lasso;
+  options.variant = args.variant == to_string(Variant::least_angle) ? Variant::least_angle : Variant::lasso;
   options.with_intercept = !args.no_intercept;
   options.standardize = !args.no_standardize;
   options.ridge = args.ridge;
@@ -407,9 +379,9 @@ TraceOptions trace_options(const ModelArgs& args, const std::vector<ScaleItem>& 
     if (!scales.empty() && options.penalty_scales[j] != 1.0)
       throw failure(exit_usage, "\"" + name + "\" is unpenalized; it cannot also have a penalty scale");
   }
-  if (contains(args.nonnegative, "all")) {
+  if (args.nonnegative_all) {
     options.sign_constraints = {SignConstraint::nonnegative};
-  } else if (contains(args.nonpositive, "all")) {
+  } else if (args.nonpositive_all) {
     options.sign_constraints = {SignConstraint::nonpositive};
   } else if (!args.nonnegative.empty() || !args.nonpositive.empty()) {
     options.sign_constraints.assign(p, SignConstraint::none);
@@ -491,7 +463,9 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
                         const Global& global) {
   LoadedTable loaded = load_table(table_path, args, global, false);
   const TableData<double> d = table_data<double>(loaded);
+  io::RowLines lines = std::move(loaded.table.row_lines);
   loaded.table = io::Table();  // free what is left before the trace copies the design
+  loaded.table.row_lines = std::move(lines);  // data_message names rows by their lines
   refuse_nothing_to_trace(d, loaded.options, loaded.shown_name, args.response);
   TracedTable out;
   out.path = trace_table_data(
@@ -578,6 +552,8 @@ std::string user_text(std::string message) {
     const char* program;
   };
   static const Name names[] = {
+      {"TableReadOptions::missing = MissingCells::drop drops incomplete rows",
+       "use --missing drop to drop incomplete rows"},
       {"option 'sign_constraints'", "--nonnegative/--nonpositive"},
       {"option 'penalty_scales'", "--penalty-scale"},
       {"option 'unpenalized'", "--unpenalized"},
@@ -642,7 +618,7 @@ int step_limit_status(bool hit, const std::string& which) {
 }
 
 std::vector<std::string> split_list(const std::vector<std::string>& values,
-                                    const std::string& option) {
+                                    const std::string& option, bool* every) {
   std::vector<std::string> items;
   for (const std::string& text : values) {
     std::string item;
@@ -650,7 +626,10 @@ std::vector<std::string> split_list(const std::vector<std::string>& values,
     auto close_item = [&] {
       if (item.empty() && !was_quoted)
         throw failure(exit_usage, option + ": an empty name in \"" + text + "\"");
-      items.push_back(std::move(item));
+      if (every && !was_quoted && item == every_column_word)
+        *every = true;
+      else
+        items.push_back(std::move(item));
       item.clear();
       was_quoted = false;
     };
@@ -677,12 +656,48 @@ std::vector<std::string> split_list(const std::vector<std::string>& values,
   return items;
 }
 
-std::string data_message(const invalid_data& e, const std::vector<std::string>& names) {
-  if (e.whole_column() && *e.column() < names.size())
-    return "predictor \"" + names[*e.column()] + "\"" + e.detail();
-  return user_text(e.what());
+std::string data_message(const invalid_data& e, const std::string& source, const std::vector<std::string>& names,
+                         const io::RowLines& lines) {
+  const bool named_column = e.column() && *e.column() < names.size();
+  if (e.whole_column() && named_column) return source + ": predictor \"" + names[*e.column()] + "\"" + e.detail();
+  if (!e.row()) return source + ": " + user_text(e.what());
+  const std::size_t line = lines.line_of(*e.row());
+  std::string place = line > 0 ? fmt::format("{}, line {}", source, line)
+                               : fmt::format("{}, data row {}", source, *e.row() + 1);
+  if (named_column) place += ", column \"" + names[*e.column()] + "\"";
+  return place + ": " + user_text(e.detail());  // a row's detail() is what is wrong (at_row)
 }
 
-char table_delimiter(const std::string& word) { return delimiter_char(word); }
+void add_cell_options(CLI::App& command, CellArgs& args, const std::string& na_note) {
+  command
+      .add_option("--delimiter", args.delimiter,
+                  "Field delimiter: auto, comma, semicolon, tab, or whitespace (runs of spaces "
+                  "and tabs)")
+      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab", "whitespace"}))
+      ->default_str("auto")
+      ->group("Table");
+  command
+      .add_option("--na", args.na_tokens,
+                  "Further cell texts that mean missing, matched exactly (comma separated; "
+                  "quote one holding a comma)" + (na_note.empty() ? "" : "; " + na_note))
+      ->group("Table");
+  command
+      .add_option("--decimal", args.decimal,
+                  "Decimal mark of the numbers: point (2.5) or comma (2,5; the delimiter is then "
+                  "not a comma)")
+      ->check(CLI::IsMember({"point", "comma"}))
+      ->default_str("point")
+      ->group("Table");
+}
+
+io::TableReadOptions cell_read_options(const CellArgs& args) {
+  io::TableReadOptions read;
+  read.delimiter = delimiter_char(args.delimiter);
+  read.missing_tokens = split_list(args.na_tokens, "--na");
+  read.decimal = args.decimal == "comma" ? io::DecimalMark::comma : io::DecimalMark::point;
+  if (read.decimal == io::DecimalMark::comma && read.delimiter == ',')
+    throw failure(exit_usage, "--decimal comma cannot be read with --delimiter comma");
+  return read;
+}
 
 }  // namespace knotpath::cli

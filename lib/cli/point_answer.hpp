@@ -10,6 +10,7 @@
 #include <iostream>
 #include <string>
 #include <type_traits>
+#include <utility>
 #include <vector>
 
 #include <fmt/format.h>
@@ -129,6 +130,61 @@ PointAnswer describe_point(const Path<Scalar>& path, const Solution<Scalar>& sol
                                shown(solution.penalized_l1));
   if (!answer.note.empty()) answer.heading += answer.note + '\n';
   return answer;
+}
+
+namespace point_detail {
+
+template <class Scalar>
+Scalar parsed(const std::string& text, const char* option) {
+  try {
+    return parse_decimal<Scalar>(text);
+  } catch (const invalid_data&) {
+    throw failure(exit_usage, fmt::format("{} {}: not a decimal number", option, text));
+  }
+}
+
+}  // namespace point_detail
+
+/// The solution of `path` at the point asked by --penalty, --mu, --budget or
+/// --relative-budget (the first given of `point`; its choice is not read
+/// here), and the question: the one home of a point's reading for `at` on a
+/// table in every arithmetic, `at --path` and `predict`. Each value is
+/// parsed exactly from its text in the path's arithmetic (a relative budget
+/// too: at_relative_budget takes a double). A value that is not a decimal
+/// number, or lies outside its domain, is failure(exit_usage).
+template <class Scalar>
+std::pair<Solution<Scalar>, AskedPoint<Scalar>> answer_point(const Path<Scalar>& path, const PointArgs& point) {
+  using point_detail::parsed;
+  try {
+    if (!point.penalty.empty()) {
+      const Scalar lambda = parsed<Scalar>(point.penalty, "--penalty");
+      return {path.at_penalty(lambda), {PointKind::penalty, "penalty " + point.penalty, lambda}};
+    }
+    if (!point.mu.empty()) {
+      // Exact mode needs --no-standardize, so lambda = mu * n (scaling.hpp)
+      // is rational: the query is exact too.
+      const Scalar mu = parsed<Scalar>(point.mu, "--mu");
+      if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
+      return {path.at_mu(mu), {PointKind::penalty, "mu " + point.mu, path.lambda_of(mu)}};
+    }
+    if (!point.budget.empty()) {
+      const Scalar budget = parsed<Scalar>(point.budget, "--budget");
+      return {path.at_budget(budget), {PointKind::budget, "L1 budget " + point.budget, budget}};
+    }
+    if (point.relative_budget.empty()) throw failure(exit_usage, "no point was asked");
+    const Scalar relative = parsed<Scalar>(point.relative_budget, "--relative-budget");
+    if (!(relative >= Scalar(0) && relative <= Scalar(1)))
+      throw invalid_query("the relative budget must lie in [0, 1]");
+    if (path.knots().empty()) throw invalid_query("the path is empty");
+    const Solution<Scalar> solution =
+        relative == Scalar(1) ? path.at_relative_budget(1.0)
+                              : path.at_budget(Scalar(relative * path.knots().back().penalized_l1));
+    return {solution,
+            {PointKind::relative_budget,
+             "relative budget " + point.relative_budget + " (share of the final L1 norm)", Scalar(0)}};
+  } catch (const invalid_query& e) {
+    throw failure(exit_usage, e.what());
+  }
 }
 
 /// The word of a point's kind in the JSON document.

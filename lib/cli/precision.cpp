@@ -57,52 +57,11 @@ int trace_in(LoadedTable& loaded, const std::string& knots_file, const std::stri
 }
 
 template <class Scalar>
-Scalar parse_point(const std::string& text, const char* option) {
-  try {
-    return parse_decimal<Scalar>(text);
-  } catch (const invalid_data&) {
-    throw failure(exit_usage, fmt::format("{} {}: not a decimal number", option, text));
-  }
-}
-
-template <class Scalar>
 int at_in(LoadedTable& loaded, const PointArgs& point, PointOutput output) {
   const Path<Scalar> path = trace_loaded<Scalar>(loaded);
   loaded.progress.reset();
   require_finite_path(path);
-  Solution<Scalar> solution;
-  AskedPoint<Scalar> asked;
-  try {
-    if (point.penalty) {
-      const Scalar lambda = parse_point<Scalar>(point.penalty_text, "--penalty");
-      solution = path.at_penalty(lambda);
-      asked = {PointKind::penalty, "penalty " + point.penalty_text, lambda};
-    } else if (point.mu) {
-      // Exact mode needs --no-standardize, so lambda = mu * n (scaling.hpp)
-      // is rational: the query is exact too.
-      const Scalar mu = parse_point<Scalar>(point.mu_text, "--mu");
-      if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
-      solution = path.at_mu(mu);
-      asked = {PointKind::penalty, "mu " + point.mu_text, path.lambda_of(mu)};
-    } else if (point.budget) {
-      const Scalar budget = parse_point<Scalar>(point.budget_text, "--budget");
-      solution = path.at_budget(budget);
-      asked = {PointKind::budget, "L1 budget " + point.budget_text, budget};
-    } else {
-      const Scalar relative = parse_point<Scalar>(point.relative_budget_text, "--relative-budget");
-      if (!(relative >= Scalar(0) && relative <= Scalar(1)))
-        throw invalid_query("the relative budget must lie in [0, 1]");
-      if (path.knots().empty()) throw invalid_query("the path is empty");
-      // The relative budget itself is parsed exactly (at_relative_budget takes a double).
-      solution = relative == Scalar(1)
-                     ? path.at_relative_budget(1.0)
-                     : path.at_budget(Scalar(relative * path.knots().back().penalized_l1));
-      asked = {PointKind::relative_budget, "relative budget " + point.relative_budget_text + " (share of the final L1 norm)",
-               Scalar(0)};
-    }
-  } catch (const invalid_query& e) {
-    throw failure(exit_usage, e.what());
-  }
+  const auto [solution, asked] = answer_point(path, point);
   const PointAnswer answer = describe_point(path, solution, asked);
   print_point(path, solution, asked, answer, loaded.context.predictor_names, output);
   if (output == PointOutput::table && path.suspect())

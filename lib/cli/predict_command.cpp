@@ -5,6 +5,7 @@
 
 #include <algorithm>
 #include <iostream>
+#include <limits>
 #include <memory>
 #include <sstream>
 #include <string>
@@ -25,29 +26,53 @@ namespace {
 struct PredictArgs {
   std::string saved;
   std::string table;
-  SavedPointArgs point;
+  PointArgs point;  // no relative budget: predict offers none
   std::string out_file;
   std::string id_column;
-  std::string delimiter = "auto";
-  std::vector<std::string> na_tokens;  // --na, split by split_list
-  std::string decimal = "point";
+  CellArgs cells;
 };
 
 bool listed(const std::vector<std::string>& list, const std::string& name) {
   return std::find(list.begin(), list.end(), name) != list.end();
 }
 
+// The new table's text columns that the saved path's were expanded from
+// hold only levels the path knows (a level it never saw has no indicator
+// predictor, so its rows would be scored as the reference level): another
+// level is failure(exit_bad_input) naming it.
+void check_levels(const io::Table& table, const std::vector<io::IndicatorColumn>& expanded, const std::string& shown) {
+  for (const auto& saved : expanded)
+    for (const auto& made : table.indicator_columns) {
+      if (made.source != saved.source) continue;
+      for (const auto& level : made.levels)
+        if (!listed(saved.levels, level)) {
+          std::string known;
+          for (const auto& l : saved.levels) known += (known.empty() ? "\"" : ", \"") + l + "\"";
+          throw failure(exit_bad_input,
+                        fmt::format("{}: column \"{}\" holds \"{}\", a level the saved path was not traced with "
+                                    "(it knows {}); rows with it cannot be scored",
+                                    shown, saved.source, level, known));
+        }
+    }
+}
+
 // The new table's columns of the path's predictors as a matrix, in the
-// path's order (exactly parsed beyond double); a missing predictor column is
-// failure(exit_bad_input) naming it; the columns not used are noted on stderr.
+// path's order (exactly parsed beyond double). An indicator predictor of a
+// level the new rows lack is a column of zeros; any other missing predictor
+// column is failure(exit_bad_input) naming it. The columns not used are
+// noted on stderr.
 template <class Scalar>
-Matrix<Scalar> predictor_rows(io::Table& table, const Path<Scalar>& path, const std::string& shown) {
-  std::vector<Index> where;
+Matrix<Scalar> predictor_rows(io::Table& table, const Path<Scalar>& path,
+                              const std::vector<io::IndicatorColumn>& expanded, const std::string& shown) {
+  std::vector<std::string> indicator_names, made_names;
+  for (const auto& e : expanded) indicator_names.insert(indicator_names.end(), e.names.begin(), e.names.end());
+  for (const auto& made : table.indicator_columns) made_names.insert(made_names.end(), made.names.begin(), made.names.end());
+  std::vector<Index> where;  // -1: an absent level's indicator (zeros)
   std::vector<std::string> names;
   for (Index j = 0; j < path.predictor_count(); ++j) {
     const std::string name = path.predictor_name(j);
     const Index at = table.find(name);
-    if (at < 0) {
+    if (at < 0 && !listed(indicator_names, name)) {
       if (listed(table.text_columns, name))
         throw failure(exit_bad_input,
                       fmt::format("{}: column \"{}\", a predictor of the saved path, holds text, not numbers",
@@ -61,7 +86,7 @@ Matrix<Scalar> predictor_rows(io::Table& table, const Path<Scalar>& path, const 
   }
   std::vector<std::string> ignored;
   for (const auto& name : table.names)
-    if (!listed(names, name) && name != table.key_name) ignored.push_back(name);
+    if (!listed(names, name) && !listed(made_names, name) && name != table.key_name) ignored.push_back(name);
   for (const auto& name : table.text_columns)
     if (name != table.key_name) ignored.push_back(name);
   if (!ignored.empty()) {
@@ -69,16 +94,19 @@ Matrix<Scalar> predictor_rows(io::Table& table, const Path<Scalar>& path, const 
     for (const auto& name : ignored) list += (list.empty() ? "\"" : ", \"") + name + "\"";
     std::cerr << fmt::format("knotpath: note: {}: columns the saved path does not use, ignored: {}\n", shown, list);
   }
-  if constexpr (std::is_same_v<Scalar, double>) {
-    return table.take_matrix(where);
-  } else {
-    Matrix<Scalar> x(static_cast<Index>(table.rows), static_cast<Index>(where.size()));
-    for (std::size_t k = 0; k < where.size(); ++k) {
-      const auto& text = table.decimal_text.at(table.checked_column(where[k], "predict"));
-      x.col(static_cast<Index>(k)) = parse_decimal_cells<Scalar>(text);
-    }
-    return x;
+  const bool all_present = std::find(where.begin(), where.end(), Index(-1)) == where.end();
+  if constexpr (std::is_same_v<Scalar, double>)
+    if (all_present) return table.take_matrix(where);  // block by block: the peak stays near one copy
+  Matrix<Scalar> x = Matrix<Scalar>::Zero(static_cast<Index>(table.rows), static_cast<Index>(where.size()));
+  for (std::size_t k = 0; k < where.size(); ++k) {
+    if (where[k] < 0) continue;
+    if constexpr (std::is_same_v<Scalar, double>)
+      x.col(static_cast<Index>(k)) = table.take_vector(where[k]);
+    else
+      x.col(static_cast<Index>(k)) =
+          parse_decimal_cells<Scalar>(table.decimal_text.at(table.checked_column(where[k], "predict")));
   }
+  return x;
 }
 
 // The predictions as CSV: a key column (the table's key column by its name,
@@ -99,21 +127,23 @@ int predict_with(const io::SavedPath<Scalar>& saved, const PredictArgs& args, co
   const Path<Scalar>& path = saved.path;
   const auto [solution, asked] = saved_point(saved, args.point, args.saved);
   const PointAnswer answer = describe_point(path, solution, asked);  // refuses points outside the path
-  io::TableReadOptions read;
-  read.delimiter = table_delimiter(args.delimiter);
-  // The same cell rules as the commands that trace (common.cpp's
-  // read_options): missing tokens and the decimal mark. A row with a
-  // missing predictor cell is refused (no prediction can be made for it).
-  read.missing_tokens = split_list(args.na_tokens, "--na");
-  read.decimal = args.decimal == "comma" ? io::DecimalMark::comma : io::DecimalMark::point;
-  if (read.decimal == io::DecimalMark::comma && read.delimiter == ',')
-    throw failure(exit_usage, "--decimal comma cannot be read with --delimiter comma");
+  // The cell rules of the commands that trace; a row with a missing
+  // predictor cell is refused (no prediction can be made for it).
+  io::TableReadOptions read = cell_read_options(args.cells);
+  read.missing_advice = "predict scores every row it reads: fill the cell, or leave the row out of NEW_TABLE";
+  // The text columns the path's were expanded from, expanded alike: every
+  // level becomes a column (the reference's unused), checked against the
+  // saved levels below.
+  for (const auto& e : saved.expanded) read.indicators.columns.push_back(e.source);
+  read.indicators.leave_out_reference = false;
+  read.indicators.max_levels = std::numeric_limits<std::size_t>::max();
   read.keep_decimal_text = !std::is_same_v<Scalar, double>;
   read.keep_row_keys = true;
   read.key_column = args.id_column;
   const std::string shown = args.table == "-" ? "<stdin>" : args.table;
   io::Table table = io::read_table(args.table, read);
-  const Matrix<Scalar> x = predictor_rows(table, path, shown);
+  check_levels(table, saved.expanded, shown);
+  const Matrix<Scalar> x = predictor_rows(table, path, saved.expanded, shown);
   Vector<Scalar> values = x * solution.coefficients;
   values.array() += solution.intercept;
   if (!global.quiet)
@@ -147,23 +177,7 @@ CLI::App* add_predict_command(CLI::App& app, Global& global) {
                    "Column whose cells name the rows in the output (default: the table's first text column; "
                    "without one, rows are numbered from 1)")
       ->group("Table");
-  command
-      ->add_option("--delimiter", args->delimiter,
-                   "Field delimiter of NEW_TABLE: auto, comma, semicolon, tab or whitespace")
-      ->check(CLI::IsMember({"auto", "comma", "semicolon", "tab", "whitespace"}))
-      ->default_str("auto")
-      ->group("Table");
-  command
-      ->add_option("--na", args->na_tokens,
-                   "Further cell texts that mean missing, matched exactly (comma separated; quote one "
-                   "holding a comma); a row missing a predictor's cell is refused")
-      ->group("Table");
-  command
-      ->add_option("--decimal", args->decimal,
-                   "Decimal mark of the numbers: point (2.5) or comma (2,5; the delimiter is then not a comma)")
-      ->check(CLI::IsMember({"point", "comma"}))
-      ->default_str("point")
-      ->group("Table");
+  add_cell_options(*command, args->cells, "a row missing a predictor's cell is refused");
   command->add_option("--out", args->out_file, "Write the predictions (CSV) to this file instead of stdout")
       ->group("Output");
   command->footer(
@@ -174,7 +188,7 @@ CLI::App* add_predict_command(CLI::App& app, Global& global) {
       "  knotpath select patients.csv --response progression --save model.kpath\n"
       "  knotpath predict model.kpath new_patients.csv --choice parsimonious --out scores.csv\n");
   command->callback([args, &global] {
-    if (!any_saved_point(args->point))
+    if (!args->point.any())
       throw failure(exit_usage, "predict: give one of --penalty, --mu, --budget or --choice");
     global.status = with_saved_path(args->saved, [&](const auto& saved) { return predict_with(saved, *args, global); });
   });

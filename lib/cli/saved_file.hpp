@@ -28,7 +28,8 @@ inline constexpr const char* parsimonious_choice = "parsimonious";
 /// Writes a saved path (io::save_path) to `file` atomically, its predictors
 /// named by the table's column names (`context`), which a path traced
 /// without TraceOptions::predictor_names (select's) does not carry itself:
-/// predict matches new tables' columns by these names.
+/// predict matches new tables' columns by these names, and expands the
+/// text columns the context says were expanded by their saved levels.
 template <class Scalar>
 void write_saved(const std::string& file, const Path<Scalar>& path, const io::RunContext& context,
                  std::vector<io::NamedPenalty<Scalar>> choices = {}) {
@@ -37,7 +38,7 @@ void write_saved(const std::string& file, const Path<Scalar>& path, const io::Ru
   const Path<Scalar> named(path.preparation(), std::move(options), path.knots(), path.held_out(),
                            path.stop_reason(), path.ridge());
   write_output(file, [&](std::ostream& out) {
-    io::save_path(out, io::SavedPath<Scalar>{named, context.response, std::move(choices)});
+    io::save_path(out, io::SavedPath<Scalar>{named, context.response, std::move(choices), context.indicator_columns});
   });
 }
 
@@ -83,20 +84,13 @@ int with_saved_path(const std::string& file, F&& f) {
   }
 }
 
-/// Where a saved path is asked (--penalty, --mu, --budget or --choice); the
-/// values keep their command-line text, parsed exactly in the path's arithmetic.
-struct SavedPointArgs {
-  std::string penalty, mu, budget, choice;
-  std::string relative_budget;  ///< at --path only: a share of the final L1 norm
-};
-
 /// Adds --penalty, --mu, --budget and --choice (one of them) to a command
 /// that asks a saved path.
-inline void add_saved_point_options(CLI::App& command, SavedPointArgs& args) {
-  auto* penalty = command.add_option("--penalty", args.penalty, "Penalty lambda (>= 0)")->group("Point");
+inline void add_saved_point_options(CLI::App& command, PointArgs& args) {
+  auto* penalty = command.add_option("--penalty", args.penalty, "Penalty lambda (>= 0)")->type_name("NUMBER")->group("Point");
   auto* mu = command.add_option("--mu", args.mu, "Size-free penalty: " + std::string(size_free_penalty_rule))
-                 ->group("Point");
-  auto* budget = command.add_option("--budget", args.budget, "L1 budget S >= 0 (as in knotpath at)")->group("Point");
+                 ->type_name("NUMBER")->group("Point");
+  auto* budget = command.add_option("--budget", args.budget, "L1 budget S >= 0 (as in knotpath at)")->type_name("NUMBER")->group("Point");
   auto* choice = command
                      .add_option("--choice", args.choice,
                                  std::string("A penalty saved by knotpath select --save: ") + least_error_choice +
@@ -111,40 +105,8 @@ inline void add_saved_point_options(CLI::App& command, SavedPointArgs& args) {
 /// bad values and unknown choices are failure(exit_usage).
 template <class Scalar>
 std::pair<Solution<Scalar>, AskedPoint<Scalar>> saved_point(const io::SavedPath<Scalar>& saved,
-                                                            const SavedPointArgs& args, const std::string& file) {
-  const Path<Scalar>& path = saved.path;
-  auto parse = [](const std::string& text, const char* option) {
-    try {
-      return parse_decimal<Scalar>(text);
-    } catch (const invalid_data&) {
-      throw failure(exit_usage, fmt::format("{} {}: not a decimal number", option, text));
-    }
-  };
-  try {
-    if (!args.penalty.empty()) {
-      const Scalar lambda = parse(args.penalty, "--penalty");
-      return {path.at_penalty(lambda), {PointKind::penalty, "penalty " + args.penalty, lambda}};
-    }
-    if (!args.mu.empty()) {
-      const Scalar mu = parse(args.mu, "--mu");
-      if (!(mu >= Scalar(0))) throw invalid_query("mu must be >= 0");
-      return {path.at_mu(mu), {PointKind::penalty, "mu " + args.mu, path.lambda_of(mu)}};
-    }
-    if (!args.budget.empty()) {
-      const Scalar budget = parse(args.budget, "--budget");
-      return {path.at_budget(budget), {PointKind::budget, "L1 budget " + args.budget, budget}};
-    }
-    if (!args.relative_budget.empty()) {
-      const Scalar relative = parse(args.relative_budget, "--relative-budget");
-      if (!(relative >= Scalar(0) && relative <= Scalar(1))) throw invalid_query("the relative budget must lie in [0, 1]");
-      // The relative budget is parsed exactly, as in at on a table (precision.cpp).
-      const Solution<Scalar> s = relative == Scalar(1) ? path.at_relative_budget(1.0)
-                                                       : path.at_budget(Scalar(relative * path.knots().back().penalized_l1));
-      return {s, {PointKind::relative_budget, "relative budget " + args.relative_budget + " (share of the final L1 norm)", Scalar(0)}};
-    }
-  } catch (const invalid_query& e) {
-    throw failure(exit_usage, saved_file_detail::without_prefix(e.what()));
-  }
+                                                            const PointArgs& args, const std::string& file) {
+  if (args.choice.empty()) return answer_point(saved.path, args);
   if (saved.choices.empty())
     throw failure(exit_usage, fmt::format("--choice {}: {} holds no choices (knotpath select ... --save FILE "
                                           "saves a path with its choices; knotpath trace --save saves none)",
@@ -156,15 +118,9 @@ std::pair<Solution<Scalar>, AskedPoint<Scalar>> saved_point(const io::SavedPath<
     throw failure(exit_usage, fmt::format("--choice {}: {} has no choice of that name (it has: {})", args.choice,
                                           file, names));
   }
-  return {path.at_penalty(chosen->penalty),
+  return {saved.path.at_penalty(chosen->penalty),
           {PointKind::penalty, "choice " + chosen->name + " (penalty " + io::number_text(chosen->penalty) + ")",
            chosen->penalty}};
-}
-
-/// True when one of the saved-point options was given.
-inline bool any_saved_point(const SavedPointArgs& args) {
-  return !args.penalty.empty() || !args.mu.empty() || !args.budget.empty() || !args.choice.empty() ||
-         !args.relative_budget.empty();
 }
 
 }  // namespace knotpath::cli

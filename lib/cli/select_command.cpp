@@ -117,6 +117,7 @@ struct SelectData {
   TraceOptions options;
   io::RunContext context;
   std::string shown_name;
+  io::RowLines row_lines;  // where the table's kept rows start (data_message)
   std::shared_ptr<Progress> progress;
   /// For --precision other than double: the table with its cells' decimal
   /// text and the columns' roles (fold column set aside), parsed into the
@@ -180,11 +181,12 @@ SelectData read_select_data(const SelectArgs& args, const Global& global, bool k
     if (std::find(model.drop.begin(), model.drop.end(), fold_name) != model.drop.end())
       throw failure(exit_usage, "the fold column \"" + fold_name + "\" is listed in --drop");
     if (!model.use.empty())
-      model.use.push_back(fold_name);  // read it; removed from the predictors below
+      model.use.push_back(quoted_list_item(fold_name));  // read it; removed from the predictors below
   }
   LoadedTable loaded = load_table(args.table, model, global, keep_text);
   SelectData out;
   out.shown_name = loaded.shown_name;
+  out.row_lines = loaded.table.row_lines;
   out.progress = loaded.progress;
   io::Table& table = loaded.table;
   out.options = loaded.options;
@@ -316,8 +318,7 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
-    throw failure(exit_bad_input,
-                  data.shown_name + ": " + data_message(e, data.context.predictor_names));
+    throw failure(exit_bad_input, data_message(e, data.shown_name, data.context.predictor_names, data.row_lines));
   }
   const Path<Scalar>& path = cv.full_path;
   if (path.preparation().columns.empty())
@@ -607,7 +608,7 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   const Path<double>& path = s.cv.full_path;
   const auto& prep = path.preparation();
   out << fmt::format("{} path of {} on {} predictors, {} rows used ({})\n",
-                     path.options().variant == Variant::lasso ? "lasso" : "least-angle",
+                     to_string(path.options().variant),
                      data.context.response, data.context.predictor_names.size(),
                      prep.used_observations, data.context.source);
   print_audit_with_tests(out, s, data);

@@ -81,11 +81,12 @@ Vector<Scalar> exact_column(const LoadedTable& loaded, Index column) {
     return parse_decimal_cells<Scalar>(text);
   } catch (const invalid_data& e) {
     const std::size_t i = e.row().value_or(0);
+    const std::size_t line = loaded.table.row_lines.line_of(i);
     throw failure(exit_bad_input,
-                  fmt::format("{}: data row {}: cell \"{}\" in column \"{}\" is not a decimal "
+                  fmt::format("{}, {} {}: cell \"{}\" in column \"{}\" is not a decimal "
                               "number that can be parsed exactly",
-                              loaded.shown_name, i + 1, text.at(i),
-                              loaded.table.names[static_cast<std::size_t>(column)]));
+                              loaded.shown_name, line > 0 ? "line" : "data row", line > 0 ? line : i + 1,
+                              text.at(i), loaded.table.names[static_cast<std::size_t>(column)]));
   }
 }
 
@@ -140,7 +141,7 @@ Path<Scalar> trace_table_data(const LoadedTable& loaded, const TableData<Scalar>
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
     throw failure(exit_bad_input,
-                  loaded.shown_name + ": " + data_message(e, loaded.context.predictor_names));
+                  data_message(e, loaded.shown_name, loaded.context.predictor_names, loaded.table.row_lines));
   }
 }
 
