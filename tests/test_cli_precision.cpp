@@ -1,8 +1,9 @@
 // End-to-end tests of the program's arithmetics: `trace`/`at` with
 // --precision, and `knotpath verify` (double against 50 digits), on NIST
 // StRD Filip and Longley, on a small table whose exact least-squares fit is
-// worked out by hand, and on the invented ill-conditioned table of the
-// README's verify example.
+// worked out by hand, and on an invented ill-conditioned resin table of the
+// kind the README's verify example uses (made here; the README's own table
+// comes from tools/resin-table.py and is checked in test_cli_outputs.cpp).
 
 #include <sys/wait.h>
 #include <unistd.h>
@@ -107,8 +108,8 @@ std::string verdict_from_figures(const json& doc) {
   return "trustworthy";
 }
 
-// The invented ill-conditioned design of the README's verify example (fixed
-// seed): the hardness of a cured resin against the cure temperature's
+// An invented ill-conditioned design of the kind of the README's verify
+// example (fixed seed; not the README's table itself): the hardness of a cured resin against the cure temperature's
 // excess over 60 C as a degree-9 polynomial. Excesses have 2 decimals in
 // [1, 4], so the power columns are exact finite decimals, all positive and
 // nearly collinear.
@@ -386,10 +387,9 @@ TEST_F(CliPrecision, OtherArithmeticsAgreeWithDoubleOnAWellConditionedTable) {
   EXPECT_EQ(run("trace t.csv --response y --precision 50 --digits 60").code, 2);
 }
 
-// The README's verify example: the invented resin table (fixed seed). The
-// degree-9 polynomial columns make double unreliable; verify must not call
-// it trustworthy. KNOTPATH_KEEP_EXAMPLE=DIR keeps a copy of the table for
-// the README session.
+// The invented resin table (fixed seed), as in the README's verify example:
+// the degree-9 polynomial columns make double unreliable; verify must not
+// call it trustworthy. KNOTPATH_KEEP_EXAMPLE=DIR keeps a copy of the table.
 TEST_F(CliPrecision, VerifyOnTheInventedResinTableIsNotTrustworthy) {
   write_resin_table(file("resin.csv"));
   if (const char* keep = std::getenv("KNOTPATH_KEEP_EXAMPLE"); keep && *keep)
