@@ -39,13 +39,15 @@ if grep -q '^KNOTPATH_USE_GMP:BOOL=ON' "$build/CMakeCache.txt" &&
   parts=all
 fi
 
-consume() {  # name, parts (core, extras, all), extra compiler flags, extra configure arguments...
-  local name=$1 which=$2 flags=$3
-  shift 3
+consume() {  # name, parts (core, extras, all), targets ("" for all), extra compiler flags, extra configure arguments...
+  local name=$1 which=$2 targets=$3 flags=$4
+  shift 4
   cmake -S "$source/tests/consumer" -B "$work/$name" -DCMAKE_PREFIX_PATH="$work/prefix" \
     --no-warn-unused-cli -DCMAKE_BUILD_TYPE=Release -DKNOTPATH_CONSUMER_PARTS="$which" -DCMAKE_CXX_FLAGS="$flags" "$@" \
     > "$work/$name-configure.log" || { cat "$work/$name-configure.log"; return 1; }
-  cmake --build "$work/$name" -j2 > "$work/$name-build.log" || { cat "$work/$name-build.log"; return 1; }
+  # shellcheck disable=SC2086
+  cmake --build "$work/$name" -j2 ${targets:+--target $targets} > "$work/$name-build.log" ||
+    { cat "$work/$name-build.log"; return 1; }
   local program
   for program in consumer consumer_io consumer_table consumer_multiprecision; do
     if [ -x "$work/$name/$program" ]; then "$work/$name/$program"; fi
@@ -53,16 +55,20 @@ consume() {  # name, parts (core, extras, all), extra compiler flags, extra conf
 }
 # The header-only core alone, with fmt's and nlohmann_json's packages hidden:
 # find_package(knotpath) without components needs neither (nor GMP/MPFR).
-consume consumer-core core "" -DCMAKE_DISABLE_FIND_PACKAGE_fmt=ON -DCMAKE_DISABLE_FIND_PACKAGE_nlohmann_json=ON
+consume consumer-core core "" "" -DCMAKE_DISABLE_FIND_PACKAGE_fmt=ON -DCMAKE_DISABLE_FIND_PACKAGE_nlohmann_json=ON
 # The compiled extras (and, when built with them, the multiprecision back
-# ends) three times: as a user's default build, with -march=native (wider
-# vector units, so another Eigen alignment than the installed library's: the
-# compiled reader must hand no Eigen object across), and with
-# AddressSanitizer and UndefinedBehaviorSanitizer.
-consume consumer "$parts" ""
-consume consumer-native extras "-march=native"
+# ends) as a user's default build; then the programs that cross the compiled
+# extras' boundary (the reader and the report writer: consumer_table,
+# consumer_io) twice more: with -march=native (wider vector units, so another
+# Eigen alignment than the installed library's: the compiled reader must hand
+# no Eigen object across), and with AddressSanitizer and
+# UndefinedBehaviorSanitizer. The header-only core's program is not built
+# again in those two: nothing of it crosses a compiled boundary, and the
+# sanitizer suite (tools/sanitize.sh) runs the same code.
+consume consumer "$parts" "" ""
+consume consumer-native extras "consumer_table consumer_io" "-march=native"
 export ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=halt_on_error=1:print_stacktrace=1
-consume consumer-sanitized extras "-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
+consume consumer-sanitized extras "consumer_table consumer_io" "-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
 unset ASAN_OPTIONS UBSAN_OPTIONS
 
 # pkg-config route: the core (no GMP/MPFR definitions), and the
