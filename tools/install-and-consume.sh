@@ -43,7 +43,7 @@ consume() {  # name, parts (core, extras, all), targets ("" for all), extra comp
   local name=$1 which=$2 targets=$3 flags=$4
   shift 4
   cmake -S "$source/tests/consumer" -B "$work/$name" -DCMAKE_PREFIX_PATH="$work/prefix" \
-    --no-warn-unused-cli -DCMAKE_BUILD_TYPE=Release -DKNOTPATH_CONSUMER_PARTS="$which" -DCMAKE_CXX_FLAGS="$flags" "$@" \
+    --no-warn-unused-cli -DCMAKE_BUILD_TYPE= -DKNOTPATH_CONSUMER_PARTS="$which" -DCMAKE_CXX_FLAGS="$flags" "$@" \
     > "$work/$name-configure.log" || { cat "$work/$name-configure.log"; return 1; }
   # shellcheck disable=SC2086
   cmake --build "$work/$name" -j2 ${targets:+--target $targets} > "$work/$name-build.log" ||
@@ -56,6 +56,9 @@ consume() {  # name, parts (core, extras, all), targets ("" for all), extra comp
 # The header-only core alone, with fmt's and nlohmann_json's packages hidden:
 # find_package(knotpath) without components needs neither (nor GMP/MPFR).
 consume consumer-core core "" "" -DCMAKE_DISABLE_FIND_PACKAGE_fmt=ON -DCMAKE_DISABLE_FIND_PACKAGE_nlohmann_json=ON
+# Every consumer is configured with no build type, CMake's default (no
+# optimization flags): what crosses the package's boundary does not depend
+# on the optimization level, and it compiles in a fraction of Release's time.
 # The compiled extras (and, when built with them, the multiprecision back
 # ends) as a user's default build; then the programs that cross the compiled
 # extras' boundary (the reader and the report writer: consumer_table,
