@@ -110,7 +110,11 @@ class CholeskyFactor {
     grown.topLeftCorner(size_, size_) = r_.topLeftCorner(size_, size_);
     r_.swap(grown);
     work_.resize(capacity);
-    if constexpr (std::is_floating_point_v<Scalar>) health_work_.resize(capacity, 5);
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      // conservativeResize keeps the row sums of |R| in the fifth column.
+      health_work_.conservativeResize(capacity, 5);
+      column_sums_.conservativeResize(capacity);
+    }
   }
 
   /// Appends a column whose inner products with the active columns are
@@ -139,6 +143,7 @@ class CholeskyFactor {
     r_(size_, size_) = detail::square_root(pivot2);
     for (Index i = 0; i < size_; ++i) r_(size_, i) = Scalar(0);
     ++size_;
+    if constexpr (std::is_floating_point_v<Scalar>) add_norms(size_ - 1);
     outcome.added = true;
     return outcome;
   }
@@ -171,6 +176,11 @@ class CholeskyFactor {
     r_.col(k - 1).head(k).setZero();
     r_.row(k - 1).head(k).setZero();
     --size_;
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      // Givens rotations change every row from `position` on: sum again.
+      health_work_.col(4).head(size_).setZero();
+      for (Index i = 0; i < size_; ++i) add_norms(i);
+    }
   }
 
   /// Solves (R^T R) x = rhs for x (two triangular solves, O(k^2)). `rhs` and
@@ -222,17 +232,10 @@ class CholeskyFactor {
       // for hardware floats also estimate ||G||_1 ||G^{-1}||_1: ||G||_1 <=
       // ||R||_1 ||R||_inf (G = R^T R) and Hager's estimator for ||G^{-1}||_1
       // (a few solves, O(k^2)). The larger of the two estimates is reported.
-      // One pass down R's columns (contiguous): column sums, and row sums
-      // accumulated in the fifth work column.
-      auto rows = health_work_.col(4).head(size_);
-      rows.setZero();
-      double col_max = 0;
-      for (Index i = 0; i < size_; ++i) {
-        const auto column = r_.col(i).head(i + 1).cwiseAbs();
-        col_max = std::max(col_max, static_cast<double>(column.sum()));
-        rows.head(i + 1) += column;
-      }
-      const double row_max = static_cast<double>(rows.maxCoeff());
+      // The column and row sums of |R| are kept up to date by add() and
+      // remove() (add_norms), O(k) here.
+      const double col_max = static_cast<double>(column_sums_.head(size_).maxCoeff());
+      const double row_max = static_cast<double>(health_work_.col(4).head(size_).maxCoeff());
       const double inverse = detail::hager_inverse_norm1<Scalar>(
           size_, [&](const auto& in, auto& out) { this->solve(in, out); }, health_work_);
       h.condition_estimate = std::max(h.condition_estimate, col_max * row_max * inverse);
@@ -242,9 +245,23 @@ class CholeskyFactor {
   }
 
  private:
+  // Adds column i of R (contiguous) to the sums of |R| health() reads:
+  // its own sum into column_sums_, and each entry into its row's sum, kept
+  // in the fifth column of health_work_. Summed column by column in factor
+  // order, so the sums equal a fresh pass over R bit for bit.
+  void add_norms(Index i) {
+    const auto column = r_.col(i).head(i + 1).cwiseAbs();
+    column_sums_(i) = column.sum();
+    auto rows = health_work_.col(4).head(i + 1);
+    rows(i) = Scalar(0);
+    rows += column;
+  }
+
   Matrix<Scalar> r_;               // capacity x capacity; leading size_ block is R
   mutable Vector<Scalar> work_;    // scratch for the triangular solves
-  mutable Matrix<Scalar> health_work_;  // capacity x 5 scratch of health() (hardware floats)
+  mutable Matrix<Scalar> health_work_;  // capacity x 5 scratch of health() (hardware floats);
+                                        // its fifth column holds the row sums of |R|
+  Vector<Scalar> column_sums_;     // column sums of |R| (hardware floats)
   Index size_ = 0;                 // number of factored columns
 };
 

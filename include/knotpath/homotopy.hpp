@@ -246,6 +246,7 @@ class Homotopy {
       return false;
     }
     active_.push_back(j);
+    active_ascending_.insert(std::lower_bound(active_ascending_.begin(), active_ascending_.end(), j), j);
     is_active_[at(j)] = 1;
     return true;
   }
@@ -269,6 +270,7 @@ class Homotopy {
     const Index j = active_[at(position)];
     factor_.remove(position);
     active_.erase(active_.begin() + position);
+    active_ascending_.erase(std::lower_bound(active_ascending_.begin(), active_ascending_.end(), j));
     is_active_[at(j)] = 0;
     std::fill(blocked_.begin(), blocked_.end(), 0);
   }
@@ -715,19 +717,26 @@ class Homotopy {
   // beta_j = b_k / s_j for the nonzero active coefficients (ascending j),
   // the penalized L1 norm sum f_k |b_k|, the plain one sum |beta_j| and the
   // intercept ybar - sum m_j beta_j.
+  // The sums run in factor order (their rounding is part of the knot's
+  // value); the coefficients are listed in ascending predictor order from
+  // active_ascending_ (prepared columns ascend with the predictors), which
+  // saves sorting them at every knot.
   void record_coefficients(Knot<Scalar>& knot) const {
     Scalar l1(0), plain(0), fitted_mean_shift(0);
     for (Index k : active_) {
       if (b_(k) == zero_) continue;
       const Index j = prep_.columns[at(k)];
       const Scalar beta = b_(k) / prep_.scales(j);
-      knot.coefficients.emplace_back(j, beta);
       l1 += factor_of_(k) * detail::abs_value<Scalar>(b_(k));
       plain += detail::abs_value<Scalar>(beta);
       fitted_mean_shift += prep_.means(j) * beta;
     }
-    std::sort(knot.coefficients.begin(), knot.coefficients.end(),
-              [](const auto& x, const auto& y) { return x.first < y.first; });
+    knot.coefficients.reserve(active_ascending_.size());
+    for (Index k : active_ascending_) {
+      if (b_(k) == zero_) continue;
+      const Index j = prep_.columns[at(k)];
+      knot.coefficients.emplace_back(j, Scalar(b_(k) / prep_.scales(j)));
+    }
     knot.penalized_l1 = l1;
     knot.plain_l1 = plain;
     knot.intercept = prep_.intercept ? Scalar(prep_.response_mean - fitted_mean_shift) : zero_;
@@ -749,6 +758,7 @@ class Homotopy {
   Vector<Scalar> c_;                   // correlations with the residual (ridge-adjusted)
   Vector<Scalar> a_;                   // Z^T Z_A d
   std::vector<Index> active_;          // A, in factor order
+  std::vector<Index> active_ascending_;  // A, ascending (record_coefficients)
   std::vector<int> sign_;              // s_k of each column that entered
   std::vector<char> is_active_;        // k in A
   std::vector<char> blocked_;          // held out as collinear until the active set loses a member
