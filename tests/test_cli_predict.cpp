@@ -109,6 +109,29 @@ TEST_F(CliPredict, RowsAreNumberedWithoutAKeyColumn) {
   EXPECT_EQ(out[4].substr(0, 2), "4,");
 }
 
+// predict takes the points `at` takes (one registration, add_point_options):
+// a relative budget R predicts at the path's point of L1 budget R times the
+// final penalized norm, as Path::at_relative_budget answers it.
+TEST_F(CliPredict, ARelativeBudgetPredictsAtThePathsPointOfThatBudget) {
+  write_training();
+  write_new("new.csv", false);
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  const auto saved = load("m.kpath");
+  const Outcome r = run("predict m.kpath new.csv --relative-budget 0.5");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const auto out = lines(r.out);
+  ASSERT_EQ(out.size(), 5u) << r.out;
+  const kp::Solution<double> point = saved.path.at_relative_budget(0.5);
+  for (int i = 0; i < 4; ++i) {
+    kp::Matrix<double> x(1, 3);
+    x << 1.0 - 0.5 * i, 0.25 * i, i - 1.5;
+    const double value = point.intercept + x.row(0).dot(point.coefficients);
+    const std::string cell = out[static_cast<std::size_t>(i) + 1];
+    EXPECT_NEAR(std::stod(cell.substr(cell.find(',') + 1)), value, 1e-12 * (1 + std::abs(value))) << cell;
+  }
+  EXPECT_EQ(run("predict m.kpath new.csv --relative-budget 0.5 --penalty 1").code, 2);
+}
+
 // predict reads new rows by the cell rules of the commands that trace:
 // --decimal comma (with a semicolon or whitespace delimiter) gives the same
 // predictions as the decimal-point file, and a --na token is a missing cell

@@ -109,6 +109,14 @@ inline std::string quoted_list_item(const std::string& name) {
   return out + "\"";
 }
 
+/// Names as a message lists them: each in double quotes, separated by
+/// ", " ("a", "b, c").
+inline std::string quoted_names(const std::vector<std::string>& names) {
+  std::string list;
+  for (const auto& name : names) list += (list.empty() ? "\"" : ", \"") + name + "\"";
+  return list;
+}
+
 /// The word that stands for every column in --indicators, --nonnegative and
 /// --nonpositive (split_list).
 inline constexpr const char* every_column_word = "all";

@@ -152,35 +152,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
   add_model_options(*command, args->model);
   command->get_option("--response")->required(false);  // required with TABLE (checked below)
   add_precision_options(*command, args->precision);
-  auto* penalty =
-      command->add_option("--penalty", args->point.penalty, "Penalty lambda (>= 0)")->type_name("NUMBER")->group("Point");
-  auto* mu = command
-                 ->add_option("--mu", args->point.mu,
-                              "Size-free penalty: " + std::string(size_free_penalty_rule) +
-                                  " (--no-standardize keeps the columns' own scale)")
-                 ->type_name("NUMBER")->group("Point");
-  auto* budget =
-      command
-          ->add_option("--budget", args->point.budget,
-                       "L1 budget S >= 0 on sum of f_j s_j |b_j|: the lasso point of least RSS "
-                       "with L1 norm <= S; with --ridge the elastic-net point of L1 norm S "
-                       "(least RSS plus ridge term); with --variant least-angle the first "
-                       "point whose L1 norm reaches S")
-          ->type_name("NUMBER")->group("Point");
-  auto* relative =
-      command
-          ->add_option("--relative-budget", args->point.relative_budget,
-                       "Relative budget R in [0, 1]: the L1 budget R times the final L1 norm")
-          ->type_name("NUMBER")->group("Point");
-  auto* choice = command
-                     ->add_option("--choice", args->point.choice,
-                                  std::string("With --path: a penalty saved by knotpath select --save (") +
-                                      least_error_choice + " or " + parsimonious_choice + ")")
-                     ->group("Point");
-  penalty->excludes(mu)->excludes(budget)->excludes(relative)->excludes(choice);
-  mu->excludes(budget)->excludes(relative)->excludes(choice);
-  budget->excludes(relative)->excludes(choice);
-  relative->excludes(choice);
+  add_point_options(*command, args->point);
   auto* csv = command->add_flag("--csv", args->csv,
                                 "Print a '# point: penalty L, mu M' line, then predictor,coefficient lines")
                   ->group("Output");

@@ -46,12 +46,10 @@ void check_levels(const io::Table& table, const std::vector<io::IndicatorColumn>
       if (made.source != saved.source) continue;
       for (const auto& level : made.levels)
         if (!listed(saved.levels, level)) {
-          std::string known;
-          for (const auto& l : saved.levels) known += (known.empty() ? "\"" : ", \"") + l + "\"";
           throw failure(exit_bad_input,
                         fmt::format("{}: column \"{}\" holds \"{}\", a level the saved path was not traced with "
                                     "(it knows {}); rows with it cannot be scored",
-                                    shown, saved.source, level, known));
+                                    shown, saved.source, level, quoted_names(saved.levels)));
         }
     }
 }
@@ -90,9 +88,8 @@ Matrix<Scalar> predictor_rows(io::Table& table, const Path<Scalar>& path,
   for (const auto& name : table.text_columns)
     if (name != table.key_name) ignored.push_back(name);
   if (!ignored.empty()) {
-    std::string list;
-    for (const auto& name : ignored) list += (list.empty() ? "\"" : ", \"") + name + "\"";
-    std::cerr << fmt::format("knotpath: note: {}: columns the saved path does not use, ignored: {}\n", shown, list);
+    std::cerr << fmt::format("knotpath: note: {}: columns the saved path does not use, ignored: {}\n", shown,
+                             quoted_names(ignored));
   }
   const bool all_present = std::find(where.begin(), where.end(), Index(-1)) == where.end();
   if constexpr (std::is_same_v<Scalar, double>)
@@ -171,7 +168,7 @@ CLI::App* add_predict_command(CLI::App& app, Global& global) {
       ->required();
   command->add_option("NEW_TABLE", args->table, "Delimited text table of new rows with a header row; - reads stdin")
       ->required();
-  add_saved_point_options(*command, args->point);
+  add_point_options(*command, args->point);
   command
       ->add_option("--id", args->id_column,
                    "Column whose cells name the rows in the output (default: the table's first text column; "
@@ -189,7 +186,7 @@ CLI::App* add_predict_command(CLI::App& app, Global& global) {
       "  knotpath predict model.kpath new_patients.csv --choice parsimonious --out scores.csv\n");
   command->callback([args, &global] {
     if (!args->point.any())
-      throw failure(exit_usage, "predict: give one of --penalty, --mu, --budget or --choice");
+      throw failure(exit_usage, "predict: give one of --penalty, --mu, --budget, --relative-budget or --choice");
     global.status = with_saved_path(args->saved, [&](const auto& saved) { return predict_with(saved, *args, global); });
   });
   return command;

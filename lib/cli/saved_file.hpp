@@ -44,11 +44,6 @@ void write_saved(const std::string& file, const Path<Scalar>& path, const io::Ru
 
 namespace saved_file_detail {
 
-inline std::string without_prefix(std::string why) {
-  if (why.rfind("knotpath: ", 0) == 0) why.erase(0, 10);
-  return why;
-}
-
 inline std::ifstream open_saved(const std::string& file) {
   std::ifstream in(file, std::ios::binary);
   if (!in) throw failure(exit_io, "cannot open the saved path " + file);
@@ -64,7 +59,6 @@ inline std::ifstream open_saved(const std::string& file) {
 template <class F>
 int with_saved_path(const std::string& file, F&& f) {
   using saved_file_detail::open_saved;
-  using saved_file_detail::without_prefix;
   try {
     std::ifstream head = open_saved(file);
     const io::SavedHeader header = io::read_saved_header(head, file);
@@ -80,25 +74,41 @@ int with_saved_path(const std::string& file, F&& f) {
       return f(saved);
     });
   } catch (const io::saved_path_error& e) {
-    throw failure(exit_bad_input, without_prefix(e.what()));
+    throw failure(exit_bad_input, e.what());  // user_text() drops the library's prefix
   }
 }
 
-/// Adds --penalty, --mu, --budget and --choice (one of them) to a command
-/// that asks a saved path.
-inline void add_saved_point_options(CLI::App& command, PointArgs& args) {
+/// Adds the point options, one of which names the point asked:
+/// --penalty, --mu, --budget, --relative-budget and --choice (a penalty
+/// saved with the path). The one registration for `at` and `predict`;
+/// answer_point() and saved_point() read them.
+inline void add_point_options(CLI::App& command, PointArgs& args) {
   auto* penalty = command.add_option("--penalty", args.penalty, "Penalty lambda (>= 0)")->type_name("NUMBER")->group("Point");
-  auto* mu = command.add_option("--mu", args.mu, "Size-free penalty: " + std::string(size_free_penalty_rule))
+  auto* mu = command
+                 .add_option("--mu", args.mu,
+                             "Size-free penalty: " + std::string(size_free_penalty_rule) +
+                                 " (--no-standardize keeps the columns' own scale)")
                  ->type_name("NUMBER")->group("Point");
-  auto* budget = command.add_option("--budget", args.budget, "L1 budget S >= 0 (as in knotpath at)")->type_name("NUMBER")->group("Point");
+  auto* budget = command
+                     .add_option("--budget", args.budget,
+                                 "L1 budget S >= 0 on sum of f_j s_j |b_j|: the lasso point of least RSS "
+                                 "with L1 norm <= S; with --ridge the elastic-net point of L1 norm S "
+                                 "(least RSS plus ridge term); with --variant least-angle the first "
+                                 "point whose L1 norm reaches S")
+                     ->type_name("NUMBER")->group("Point");
+  auto* relative = command
+                       .add_option("--relative-budget", args.relative_budget,
+                                   "Relative budget R in [0, 1]: the L1 budget R times the final L1 norm")
+                       ->type_name("NUMBER")->group("Point");
   auto* choice = command
                      .add_option("--choice", args.choice,
-                                 std::string("A penalty saved by knotpath select --save: ") + least_error_choice +
-                                     " or " + parsimonious_choice)
+                                 std::string("Of a saved path: a penalty saved by knotpath select --save (") +
+                                     least_error_choice + " or " + parsimonious_choice + ")")
                      ->group("Point");
-  penalty->excludes(mu)->excludes(budget)->excludes(choice);
-  mu->excludes(budget)->excludes(choice);
-  budget->excludes(choice);
+  penalty->excludes(mu)->excludes(budget)->excludes(relative)->excludes(choice);
+  mu->excludes(budget)->excludes(relative)->excludes(choice);
+  budget->excludes(relative)->excludes(choice);
+  relative->excludes(choice);
 }
 
 /// The solution a saved path gives at the point asked, and the question;

@@ -178,7 +178,8 @@ SelectData read_select_data(const SelectArgs& args, const Global& global, bool k
     if (fold_name == model.response || fold_name == model.weights)
       throw failure(exit_usage,
                     "the fold column \"" + fold_name + "\" is also the response or the weights");
-    if (std::find(model.drop.begin(), model.drop.end(), fold_name) != model.drop.end())
+    const std::vector<std::string> dropped = split_list(model.drop, "--drop");  // names may hold commas
+    if (std::find(dropped.begin(), dropped.end(), fold_name) != dropped.end())
       throw failure(exit_usage, "the fold column \"" + fold_name + "\" is listed in --drop");
     if (!model.use.empty())
       model.use.push_back(quoted_list_item(fold_name));  // read it; removed from the predictors below
