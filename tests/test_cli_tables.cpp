@@ -258,6 +258,21 @@ TEST_F(Tables, AFoldColumnWhoseNameHoldsACommaIsReadWithUse) {
   EXPECT_EQ(from_choices(a.out), from_choices(b.out));
 }
 
+// Regression (RELIABILITY.md "Found in review"): the fold column was
+// compared with --drop's values before they were split, so a quoted name
+// holding a comma was not recognised as the fold column dropped.
+TEST_F(Tables, AFoldColumnListedInDropIsRefusedWhenItsNameHoldsAComma) {
+  std::string commas = "x1,x2,height,\"part, of five\",y\n";
+  int i = 0;
+  for (const Row& r : rows())
+    commas += fmt::format("{},{},{},{},{}\n", number(r.x1), number(r.x2), number(r.height), i++ % 5, number(r.y));
+  write("commas.csv", commas);
+  const Outcome out =
+      run("select commas.csv --response y --fold-column 'part, of five' --drop '\"part, of five\"' --no-tests");
+  EXPECT_EQ(out.code, 2) << out.err;
+  EXPECT_NE(out.err.find("is listed in --drop"), std::string::npos) << out.err;
+}
+
 TEST_F(Tables, ListOptionsNameColumnsHoldingCommasInDoubleQuotes) {
   write("plain.csv", numeric_table());
   std::string t = "\"height, cm\",x1,x2,y\n";
