@@ -131,6 +131,112 @@ TEST(SufficientStatistics, PathFromStatisticsEqualsPathFromRows) {
   expect_same_path(kp::trace<double>(prob.x, prob.y, opt), kp::trace_statistics(stats), 1e-10, "statistics");
 }
 
+// The streamed statistics (issue 20): rows added in pieces of any size give
+// from_rows() of all the rows bit for bit, because blocks have a height that
+// does not depend on the row count and each block is summarised by the same
+// operations. Bit-for-bit equality is the design's own contract (a fixed
+// block boundary and order), so this is compared with EXPECT_EQ, not a
+// tolerance.
+void expect_identical(const kp::SufficientStatistics<double>& a, const kp::SufficientStatistics<double>& b,
+                      const std::string& what) {
+  EXPECT_EQ(a.rows, b.rows) << what;
+  EXPECT_EQ(a.weight_sum, b.weight_sum) << what;
+  EXPECT_EQ(a.response_mean, b.response_mean) << what;
+  EXPECT_EQ(a.response_comoment, b.response_comoment) << what;
+  EXPECT_TRUE(a.means == b.means) << what;
+  EXPECT_TRUE(a.comoments == b.comoments) << what;
+  EXPECT_TRUE(a.cross == b.cross) << what;
+  EXPECT_TRUE(a.minimum == b.minimum) << what;
+  EXPECT_TRUE(a.maximum == b.maximum) << what;
+}
+
+TEST(StatisticsAccumulator, PiecesOfAnySizeGiveFromRowsBitForBit) {
+  using Stats = kp::SufficientStatistics<double>;
+  for (const bool weighted : {false, true})
+    for (const Index block : {Index(0), Index(7), Index(64)}) {
+      kt::Problem prob = kt::ar1_problem(301, 6, 0.5, 21);
+      prob.x.col(2).array() += 1e4;  // an offset the shift must carry
+      Vec w;
+      if (weighted) {
+        w = Vec::LinSpaced(301, 0.0, 3.0);
+        for (Index i = 0; i < 301; i += 5) w(i) = 0;  // weight-0 rows inside blocks
+      }
+      const Stats whole = Stats::from_rows(prob.x, prob.y, w, block);
+      std::mt19937_64 gen(static_cast<unsigned>(block) + (weighted ? 100u : 0u));
+      std::uniform_int_distribution<Index> piece(1, 40);
+      kp::StatisticsAccumulator<double> acc(6, weighted, block);
+      for (Index start = 0; start < 301;) {
+        const Index m = std::min<Index>(piece(gen), 301 - start);
+        acc.add(prob.x.middleRows(start, m), Vec(prob.y.segment(start, m)),
+                weighted ? Vec(w.segment(start, m)) : Vec());
+        start += m;
+      }
+      EXPECT_EQ(acc.rows_added(), 301);
+      const std::string what = std::string(weighted ? "weighted" : "unweighted") + ", block " + std::to_string(block);
+      expect_identical(acc.finish(), whole, what);
+    }
+}
+
+TEST(StatisticsAccumulator, StreamedPathEqualsTheInMemoryGramPath) {
+  // trace() on a tall design takes the Gram route from from_rows(); the
+  // streamed statistics trace the same knots, bit for bit.
+  kt::Problem prob = kt::ar1_problem(3000, 12, 0.6, 4);
+  kp::TraceOptions opt;
+  opt.storage = kp::Storage::gram;
+  const kp::Path<double> memory = kp::trace<double>(prob.x, prob.y, opt);
+  kp::StatisticsAccumulator<double> acc(12, false);
+  for (Index start = 0; start < 3000; start += 250)
+    acc.add(prob.x.middleRows(start, 250), Vec(prob.y.segment(start, 250)));
+  const kp::Path<double> streamed = kp::trace_statistics(acc.finish(), opt);
+  ASSERT_EQ(streamed.knots().size(), memory.knots().size());
+  for (std::size_t k = 0; k < memory.knots().size(); ++k) {
+    EXPECT_EQ(streamed.knots()[k].penalty, memory.knots()[k].penalty) << k;
+    EXPECT_EQ(streamed.knots()[k].predictor, memory.knots()[k].predictor) << k;
+    EXPECT_TRUE(streamed.dense_coefficients(k) == memory.dense_coefficients(k)) << k;
+    EXPECT_EQ(streamed.knots()[k].intercept, memory.knots()[k].intercept) << k;
+  }
+  // Against the dense storage, the documented agreement of the two routes.
+  opt.storage = kp::Storage::dense;
+  expect_same_path(kp::trace<double>(prob.x, prob.y, opt), streamed, 1e-10, "streamed vs dense");
+}
+
+TEST(StatisticsAccumulator, BadRowsAreNamedByTheirIndexInTheStream) {
+  kt::Problem prob = kt::ar1_problem(40, 3, 0.2, 2);
+  kp::StatisticsAccumulator<double> acc(3, true);
+  acc.add(prob.x.topRows(25), Vec(prob.y.head(25)), Vec::Ones(25));
+  kp::Matrix<double> rest = prob.x.bottomRows(15);
+  rest(4, 2) = std::numeric_limits<double>::quiet_NaN();  // row 29 of the stream
+  try {
+    acc.add(rest, Vec(prob.y.tail(15)), Vec::Ones(15));
+    ADD_FAILURE() << "a NaN design value was accepted";
+  } catch (const kp::invalid_data& e) {
+    ASSERT_TRUE(e.row().has_value());
+    EXPECT_EQ(*e.row(), 29u);
+    ASSERT_TRUE(e.column().has_value());
+    EXPECT_EQ(*e.column(), 2u);
+  }
+  Vec w = Vec::Ones(15);
+  w(1) = -1;  // row 26
+  try {
+    acc.add(prob.x.bottomRows(15), Vec(prob.y.tail(15)), w);
+    ADD_FAILURE() << "a negative weight was accepted";
+  } catch (const kp::invalid_data& e) {
+    ASSERT_TRUE(e.row().has_value());
+    EXPECT_EQ(*e.row(), 26u);
+  }
+  EXPECT_THROW(acc.add(prob.x.bottomRows(15), Vec(prob.y.tail(15))), kp::invalid_data);  // weights missing
+  EXPECT_THROW(acc.add(prob.x.leftCols(2), Vec(prob.y)), kp::invalid_data);               // wrong width
+  // A design whose squares would overflow is refused at finish(), as trace() refuses it.
+  kp::StatisticsAccumulator<double> huge(3, false);
+  kp::Matrix<double> big = prob.x;
+  big.col(1) *= 1e300;
+  huge.add(big, prob.y);
+  EXPECT_THROW((void)huge.finish(), kp::invalid_data);
+  kp::StatisticsAccumulator<double> none(3, false);
+  EXPECT_THROW((void)none.finish(), kp::invalid_data);
+  EXPECT_THROW((void)none.finish(), kp::invalid_query);  // finished once already
+}
+
 // The library's edges (issue: a dangling design, silent copies). The view and
 // sparse designs read the caller's memory in place, so a temporary must not
 // bind to the functions that return such a design: the deleted rvalue

@@ -24,6 +24,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <type_traits>
 #include <string>
 #include <utility>
@@ -31,8 +32,12 @@
 
 #include "detail/scalar.hpp"
 #include "errors.hpp"
+#include "prepare.hpp"
 
 namespace knotpath {
+
+template <class Scalar>
+class StatisticsAccumulator;
 
 /// Weighted sufficient statistics of (X, y): everything the Gram design needs.
 /// Mergeable: statistics of disjoint row blocks combine exactly as if the
@@ -117,32 +122,10 @@ struct SufficientStatistics {
       gather_block(x, weights, used, start, len, xb, wb);
       auto xm = xb.topRows(m);
       auto wm = wb.head(m);
-      check_finite(xm, used);
-      for (Index j = 0; j < p; ++j) {
-        const Scalar lo = xm.col(j).minCoeff(), hi = xm.col(j).maxCoeff();
-        s.minimum(j) = s.rows == 0 ? lo : std::min<Scalar>(s.minimum(j), lo);
-        s.maximum(j) = s.rows == 0 ? hi : std::max<Scalar>(s.maximum(j), hi);
-      }
-      if (s.rows == 0) {
-        const Scalar wsum = wm.sum();
-        for (Index j = 0; j < p; ++j) shift(j) = xm.col(j).dot(wm) / wsum;
-      }
-      for (Index j = 0; j < p; ++j) xm.col(j).array() -= shift(j);
-      s.rows += m;
-      s.weight_sum += wm.sum();
-      for (Index j = 0; j < p; ++j) sum_x(j) += xm.col(j).dot(wm);
-      accumulate_comoments(s, xm, wm, weighted);
+      add_design_block(s, shift, sum_x, xm, wm, used, weighted);
       block(xm, used, wm);
     }
-    if (s.rows == 0) return;
-    // Remove the shift: C = S - sum_x sum_x^T / W, mean = K + sum_x / W.
-    const Scalar wsum = s.weight_sum;
-    for (Index j = 0; j < p; ++j)
-      for (Index i = j; i < p; ++i) {
-        s.comoments(i, j) -= sum_x(i) * sum_x(j) / wsum;
-        s.comoments(j, i) = s.comoments(i, j);
-      }
-    for (Index j = 0; j < p; ++j) s.means(j) = shift(j) + sum_x(j) / wsum;
+    remove_design_shift(s, shift, sum_x);
   }
 
   /// The response side of from_rows(), block by block, in the order the
@@ -273,6 +256,50 @@ struct SufficientStatistics {
     }
   }
 
+  template <class>
+  friend class StatisticsAccumulator;
+
+  // One block's share of design_pass(): `xm` holds the block's rows of
+  // positive weight (gathered), `wm` their weights, `used` their rows.
+  // Checks the values, updates rows, weight_sum, minimum and maximum, sets
+  // the shift from the first block, shifts xm, adds sum w (x - shift) to
+  // sum_x and the block's comoments to s. xm is left shifted (and
+  // root-weighted, for floating types with weights): what ResponsePass reads.
+  template <class XBlock, class WBlock>
+  static void add_design_block(SufficientStatistics& s, Vector<Scalar>& shift, Vector<Scalar>& sum_x, XBlock& xm,
+                               const WBlock& wm, const std::vector<Index>& used, bool weighted) {
+    const Index p = xm.cols(), m = xm.rows();
+    check_finite(xm, used);
+    for (Index j = 0; j < p; ++j) {
+      const Scalar lo = xm.col(j).minCoeff(), hi = xm.col(j).maxCoeff();
+      s.minimum(j) = s.rows == 0 ? lo : std::min<Scalar>(s.minimum(j), lo);
+      s.maximum(j) = s.rows == 0 ? hi : std::max<Scalar>(s.maximum(j), hi);
+    }
+    if (s.rows == 0) {
+      const Scalar wsum = wm.sum();
+      for (Index j = 0; j < p; ++j) shift(j) = xm.col(j).dot(wm) / wsum;
+    }
+    for (Index j = 0; j < p; ++j) xm.col(j).array() -= shift(j);
+    s.rows += m;
+    s.weight_sum += wm.sum();
+    for (Index j = 0; j < p; ++j) sum_x(j) += xm.col(j).dot(wm);
+    accumulate_comoments(s, xm, wm, weighted);
+  }
+
+  // The end of the design side: C = S - sum_x sum_x^T / W and
+  // mean = K + sum_x / W remove the shift K (nothing when no row was used).
+  static void remove_design_shift(SufficientStatistics& s, const Vector<Scalar>& shift, const Vector<Scalar>& sum_x) {
+    if (s.rows == 0) return;
+    const Index p = s.predictors();
+    const Scalar wsum = s.weight_sum;
+    for (Index j = 0; j < p; ++j)
+      for (Index i = j; i < p; ++i) {
+        s.comoments(i, j) -= sum_x(i) * sum_x(j) / wsum;
+        s.comoments(j, i) = s.comoments(i, j);
+      }
+    for (Index j = 0; j < p; ++j) s.means(j) = shift(j) + sum_x(j) / wsum;
+  }
+
   // A NaN or infinite design value is reported as such, with its place
   // (the Gram preparation would otherwise see only non-finite sums).
   template <class XBlock>
@@ -306,6 +333,186 @@ struct SufficientStatistics {
         }
     }
   }
+};
+
+/// Sufficient statistics of rows handed over in pieces of any size: a
+/// table read a block at a time, rows arriving from a stream, a file larger
+/// than memory. The streamed form of SufficientStatistics::from_rows().
+///
+/// Rows are collected into blocks of a fixed height, block_height(p,
+/// block_rows), which does not depend on the number of rows, and each full
+/// block is summarised by the very operations from_rows() applies to its
+/// blocks (SufficientStatistics::add_design_block and ResponsePass), so
+/// finish() returns from_rows() of all the rows, bit for bit, however the
+/// rows were cut into pieces. Memory: one block and the p x p comoments,
+/// O(height p + p^2), whatever the number of rows.
+///
+/// Checks: each row as it arrives (a response or design value that is not
+/// finite, a weight that is negative or not finite: invalid_data::at_row
+/// with the row's index counted from the first row ever added), and at
+/// finish() the magnitudes trace() refuses (detail::check_magnitude, the
+/// same messages) and the data with no rows. A stream reports the first
+/// bad row it meets; trace() checks every response before any design value,
+/// so with two faults the two may name different ones.
+///
+/// Usage:
+///     StatisticsAccumulator<double> acc(p, false);
+///     while (read_block(x_block, y_block)) acc.add(x_block, y_block);
+///     Path<double> path = trace_statistics(acc.finish(), options);
+/// Not thread-safe: one accumulator per stream; statistics of streams read
+/// in parallel combine with SufficientStatistics::merge (in a fixed order
+/// for reproducible bits).
+template <class Scalar>
+class StatisticsAccumulator {
+ public:
+  using Statistics = SufficientStatistics<Scalar>;  ///< the statistics it accumulates
+
+  /// Rows per block for `p` predictors: from_rows()'s automatic height
+  /// (about 2^20 entries, at least 1024 rows) for block_rows = 0, else
+  /// block_rows. A table of n rows traced in memory uses min(this, n), the
+  /// same blocks.
+  static Index block_height(Index p, Index block_rows = 0) {
+    return Statistics::block_height(std::numeric_limits<Index>::max(), p, block_rows);
+  }
+
+  /// An accumulator of rows with `predictors` columns; `weighted`: every
+  /// add() gives one weight per row (else every row weighs 1).
+  StatisticsAccumulator(Index predictors, bool weighted, Index block_rows = 0)
+      : weighted_(weighted),
+        height_(block_height(predictors, block_rows)),
+        statistics_(Statistics::empty(predictors)),
+        shift_(Vector<Scalar>::Zero(predictors)),
+        sum_x_(Vector<Scalar>::Zero(predictors)),
+        xb_(height_, predictors),
+        yb_(height_),
+        wb_(height_),
+        largest_(Vector<Scalar>::Zero(predictors)),
+        largest_used_(Vector<Scalar>::Zero(predictors)) {
+    if (predictors < 0) throw invalid_data("a negative number of predictors");
+    used_.reserve(static_cast<std::size_t>(height_));
+  }
+
+  /// Number of predictors.
+  Index predictors() const noexcept { return statistics_.predictors(); }
+  /// Rows added so far (weight-0 rows included).
+  Index rows_added() const noexcept { return added_; }
+
+  /// Adds the rows of x (m x p) with responses y (m) and, for a weighted
+  /// accumulator, weights w (m; empty otherwise). Throws invalid_data for
+  /// sizes that disagree and for a bad value (naming its row), and
+  /// invalid_query after finish().
+  template <class Derived>
+  void add(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const Vector<Scalar>& w = Vector<Scalar>()) {
+    if (finished_) throw invalid_query("rows added to statistics already finished");
+    if (x.cols() != predictors())
+      throw invalid_data("rows of " + std::to_string(x.cols()) + " predictors added to statistics of " +
+                         std::to_string(predictors()));
+    if (y.size() != x.rows())
+      throw invalid_data("the response has " + std::to_string(y.size()) + " values but the rows added are " +
+                         std::to_string(x.rows()));
+    if (w.size() != (weighted_ ? x.rows() : 0))
+      throw invalid_data(weighted_ ? "weighted statistics need one weight per row added"
+                                   : "weights given to statistics made without weights");
+    for (Index i = 0; i < x.rows(); ++i) {
+      check_row(x.row(i), y(i), weighted_ ? w(i) : Scalar(1), added_ + i);
+      note_magnitudes(x.row(i), y(i), weighted_ ? w(i) : Scalar(1));
+    }
+    for (Index i = 0; i < x.rows(); ++i) {
+      xb_.row(filled_) = x.row(i);
+      yb_(filled_) = y(i);
+      wb_(filled_) = weighted_ ? w(i) : Scalar(1);
+      ++added_;
+      if (++filled_ == height_) summarise_block();
+    }
+  }
+
+  /// The statistics of every row added. Summarises the last, partial block,
+  /// removes the shifts and checks the magnitudes; the accumulator takes no
+  /// rows after it. Throws invalid_data for no rows, or values whose squares
+  /// would overflow or underflow (as trace() does).
+  Statistics finish() {
+    if (finished_) throw invalid_query("statistics already finished");
+    finished_ = true;
+    if (added_ == 0) throw invalid_data("the data have no rows");
+    if (filled_ > 0) summarise_block();
+    Statistics::remove_design_shift(statistics_, shift_, sum_x_);
+    if (statistics_.rows != 0) response_.finish(statistics_, sum_x_);
+    for (Index j = 0; j < predictors(); ++j)
+      detail::check_magnitude(largest_(j), largest_used_(j), std::string(), static_cast<std::size_t>(j));
+    detail::check_magnitude(largest_y_, largest_used_y_, std::string("the response"));
+    if (weighted_) detail::check_magnitude(largest_w_, largest_w_, std::string("the weight vector"));
+    return std::move(statistics_);
+  }
+
+ private:
+  template <class Row>
+  static void check_row(const Row& x, const Scalar& y, const Scalar& w, Index row) {
+    const auto at = static_cast<std::size_t>(row);
+    if (!detail::is_finite_value(y)) throw invalid_data::at_row(at, "the response is not finite");
+    if (!detail::is_finite_value(w) || w < Scalar(0))
+      throw invalid_data::at_row(at, "the weight is negative or not finite");
+    for (Index j = 0; j < x.size(); ++j)
+      if (!detail::is_finite_value(x(j)))
+        throw invalid_data::at_row(at, "the design value is not finite", static_cast<std::size_t>(j));
+  }
+
+  // The largest magnitudes detail::check_magnitudes() reads: over every
+  // row, and over the rows of positive weight.
+  template <class Row>
+  void note_magnitudes(const Row& x, const Scalar& y, const Scalar& w) {
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      const bool used = w > Scalar(0);
+      for (Index j = 0; j < x.size(); ++j) {
+        const Scalar a = std::abs(x(j));
+        largest_(j) = std::max(largest_(j), a);
+        if (used) largest_used_(j) = std::max(largest_used_(j), a);
+      }
+      largest_y_ = std::max(largest_y_, Scalar(std::abs(y)));
+      if (used) largest_used_y_ = std::max(largest_used_y_, Scalar(std::abs(y)));
+      largest_w_ = std::max(largest_w_, Scalar(std::abs(w)));
+    }
+  }
+
+  // The block's rows of positive weight, moved up in place (as from_rows()
+  // gathers them), then summarised by the design side and the response side.
+  void summarise_block() {
+    used_.clear();
+    for (Index i = 0; i < filled_; ++i)
+      if (!weighted_ || wb_(i) > Scalar(0)) used_.push_back(block_start_ + i);
+    const Index m = static_cast<Index>(used_.size());
+    if (m < filled_)
+      for (Index r = 0; r < m; ++r) {
+        const Index from = used_[static_cast<std::size_t>(r)] - block_start_;
+        if (from == r) continue;
+        xb_.row(r) = xb_.row(from);
+        yb_(r) = yb_(from);
+        wb_(r) = wb_(from);
+      }
+    if (m > 0) {
+      auto xm = xb_.topRows(m);
+      auto wm = wb_.head(m);
+      auto ym = yb_.head(m);
+      Statistics::add_design_block(statistics_, shift_, sum_x_, xm, wm, used_, weighted_);
+      response_.add(xm, ym, wm, weighted_, statistics_.cross);
+    }
+    block_start_ += filled_;
+    filled_ = 0;
+  }
+
+  bool weighted_;
+  Index height_;
+  Statistics statistics_;                      // design and response sides, shifts not yet removed
+  typename Statistics::ResponsePass response_;
+  Vector<Scalar> shift_, sum_x_;               // the design side's shift and sum w (x - shift)
+  Matrix<Scalar> xb_;                          // height x p: the block being filled
+  Vector<Scalar> yb_, wb_;
+  std::vector<Index> used_;                    // rows of positive weight of the block
+  Index filled_ = 0;                           // rows in the block
+  Index block_start_ = 0;                      // row index of the block's first row
+  Index added_ = 0;                            // rows added
+  bool finished_ = false;
+  Vector<Scalar> largest_, largest_used_;      // magnitudes per column (check_magnitude)
+  Scalar largest_y_{0}, largest_used_y_{0}, largest_w_{0};
 };
 
 }  // namespace knotpath
