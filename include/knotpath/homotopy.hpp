@@ -596,8 +596,7 @@ class Homotopy {
   // and multiprecision factors) every ||G^{-1} x||_1 is bounded by
   // ||G^{-1}||_1 ||x||_1. Cost: two solves, O(k^2).
   double reported_scale_error(double prepared, double inverse_norm, const Knot<Scalar>& knot) {
-    double top = std::abs(detail::to_double(knot.intercept));
-    for (const auto& [j, beta] : knot.coefficients) top = std::max(top, std::abs(detail::to_double(beta)));
+    const double top = solution_size(knot);
     if (!(top > 0)) return prepared;
     const Index k_active = active_count();
     auto v = scale_work_.head(k_active);

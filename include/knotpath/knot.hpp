@@ -5,6 +5,8 @@
 /// as collinear, and why the path ended. Path (path.hpp) answers queries
 /// from these records.
 
+#include <algorithm>
+#include <cmath>
 #include <string>
 #include <utility>
 #include <vector>
@@ -103,6 +105,17 @@ struct Knot {
                                ///< earlier knot (errors are inherited): cross-check
                                ///< with a higher precision (knotpath verify) before trusting it
 };
+
+/// max(|intercept|, max_j |beta_j|) of a knot's solution, as a double: the
+/// size its errors are relative to (the health estimate, Homotopy's
+/// reported_scale_error, and the cross-check, compare_paths, measure
+/// against the same size).
+template <class Scalar>
+double solution_size(const Knot<Scalar>& knot) {
+  double size = std::abs(detail::to_double(knot.intercept));
+  for (const auto& [j, beta] : knot.coefficients) size = std::max(size, std::abs(detail::to_double(beta)));
+  return size;
+}
 
 /// Largest Knot::estimated_error that is still a bound: beyond it a
 /// first-order error analysis no longer holds. The estimate passes it when

@@ -227,11 +227,7 @@ template <class Scalar>
 std::vector<double> knot_sizes(const Path<Scalar>& path) {
   std::vector<double> out;
   out.reserve(path.knots().size());
-  for (const auto& k : path.knots()) {
-    double size = std::abs(to_double(k.intercept));
-    for (const auto& [j, beta] : k.coefficients) size = std::max(size, std::abs(to_double(beta)));
-    out.push_back(size);
-  }
+  for (const auto& k : path.knots()) out.push_back(knotpath::solution_size(k));
   return out;
 }
 
