@@ -719,9 +719,7 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
   CrossValidation<Scalar> result;
   if (choose_storage<Scalar>(n, x.cols(), options) == Storage::gram) {  // as trace(), keeping the statistics
     options.validate(static_cast<std::size_t>(x.cols()));
-    detail::check_data(x, y, weights);
-    result.statistics = SufficientStatistics<Scalar>::from_rows(x, y, weights);
-    result.full_path = detail::trace_rows_statistics(*result.statistics, n, options);
+    result.full_path = detail::trace_rows_gram(x, y, options, weights, &result.statistics);
   } else {
     result.full_path = trace<Scalar>(x, y, options, weights);  // validates options and data
   }

@@ -7,6 +7,7 @@
 
 #include <algorithm>
 #include <cstddef>
+#include <optional>
 #include <utility>
 
 #include "design/concept.hpp"
@@ -91,6 +92,20 @@ Path<Scalar> trace_rows_statistics(const SufficientStatistics<Scalar>& statistic
   return trace_design(prepared.design, prepared.preparation, options);
 }
 
+/// trace()'s Gram route from the rows (options already validated): checks
+/// the data, forms the statistics of the rows and traces from them; they
+/// are kept in `*kept` when given (cross-validation reuses them).
+template <class Scalar, class Derived>
+Path<Scalar> trace_rows_gram(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const TraceOptions& options,
+                             const Vector<Scalar>& weights,
+                             std::optional<SufficientStatistics<Scalar>>* kept = nullptr) {
+  check_data(x, y, weights);
+  SufficientStatistics<Scalar> statistics = SufficientStatistics<Scalar>::from_rows(x, y, weights);
+  Path<Scalar> path = trace_rows_statistics(statistics, x.rows(), options);
+  if (kept) *kept = std::move(statistics);
+  return path;
+}
+
 }  // namespace detail
 
 /// Traces the lasso (or least angle) path of y on the columns of x.
@@ -144,11 +159,7 @@ Path<Scalar> trace(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y,
       }
     }
   }
-  if (gram) {
-    detail::check_data(x, y, weights);
-    return detail::trace_rows_statistics(SufficientStatistics<Scalar>::from_rows(x, y, weights), x.rows(),
-                                         options);
-  }
+  if (gram) return detail::trace_rows_gram(x, y, options, weights);
   PreparedDense<Scalar> prepared = prepare_dense<Scalar>(x, y, options, weights);
   prepared.design.set_threads(options.threads);
   return trace_design(prepared.design, prepared.preparation, options);
