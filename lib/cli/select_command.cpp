@@ -837,16 +837,18 @@ json selection_document(const Selection& s, const SelectData& data, const Select
 
 // The arithmetics select offers beyond double: every floating one of
 // --precision; not exact, since cross-validation compares folds on the
-// size-free penalty lambda / sqrt(n) (scaling.hpp), a square root. --report
+// size-free penalty (a square root with standardized columns, scaling.hpp)
+// and its standard errors are square roots. --report
 // draws double charts, as with trace.
 void check_select_precision(const SelectArgs& args) {
   const Arithmetic arithmetic = arithmetic_of(args.precision);
   if (arithmetic == Arithmetic::exact)
     throw failure(exit_usage,
                   "select --precision exact is unavailable: cross-validation compares the folds on "
-                  "the size-free penalty (lambda / sqrt(n) when standardizing), which has no exact "
-                  "rational value; use --precision 50 or --precision mpfr (trace --precision exact "
-                  "traces the path itself exactly)");
+                  "the size-free penalty (" + std::string(size_free_penalty_rule) +
+                      "), and the square roots of that rule with standardized columns and of the "
+                      "standard errors have no exact rational value; use --precision 50 or --precision "
+                      "mpfr (trace --precision exact traces the path itself exactly)");
   if (!args.report_dir.empty())
     throw failure(exit_usage,
                   "--report draws the double path: it cannot be combined with --precision");
