@@ -513,10 +513,19 @@ class RowReader {
       keep_row(fields);
       mark_line(reader.record_line());
       ++table_.rows;
+      if (block_rows_ != 0 && table_.rows - emitted_ == block_rows_) emit_block();
       if (options_.progress && (table_.rows & 0xFFFF) == 0)
         options_.progress(chars.consumed(), table_.rows);
     }
+    if (block_rows_ != 0 && table_.rows > emitted_) emit_block();
     return seen;
+  }
+
+  // Block mode (read_table_blocks): every `block_rows` kept rows go to
+  // `on_block` as a table of their own, and the reader keeps none of them.
+  void stream_blocks(std::size_t block_rows, const std::function<void(Table&)>& on_block) {
+    block_rows_ = block_rows;
+    on_block_ = &on_block;
   }
 
   // Header position of each numeric column, in the order they were typed.
@@ -749,10 +758,53 @@ class RowReader {
                       "no indicator column " + quoted_name(name) + ": " + why);
   }
 
+  // Hands the kept rows since the last block to on_block_ as a table of
+  // their own, and empties the reader's columns. Every column is typed at
+  // the first kept row (a kept row has a value in each), in header order,
+  // so a block's columns are in file order and the same in every block.
+  void emit_block() {
+    Table block;
+    block.source = table_.source;
+    block.delimiter = table_.delimiter;
+    block.names = table_.names;
+    block.columns.swap(table_.columns);
+    table_.columns.resize(block.columns.size());
+    if (options_.keep_decimal_text) {
+      block.decimal_text.swap(table_.decimal_text);
+      table_.decimal_text.resize(block.decimal_text.size());
+    }
+    block.key_name = table_.key_name;
+    block.keys.swap(table_.keys);
+    block.text_columns = table_.text_columns;
+    block.decimal_comma_columns = table_.decimal_comma_columns;
+    block.skipped_columns = table_.skipped_columns;
+    block.rows = table_.rows - emitted_;
+    block.first_row = emitted_;
+    block.row_lines = lines_from(emitted_);
+    emitted_ = table_.rows;
+    (*on_block_)(block);
+  }
+
+  // The reader's RowLines for the rows from `first` on, counted from it.
+  RowLines lines_from(std::size_t first) const {
+    RowLines out;
+    const auto& marks = table_.row_lines.marks;
+    out.marks.emplace_back(0, table_.row_lines.line_of(first));
+    auto later = std::upper_bound(marks.begin(), marks.end(), first,
+                                  [](std::size_t r, const std::pair<std::size_t, std::size_t>& mark) {
+                                    return r < mark.first;
+                                  });
+    for (; later != marks.end(); ++later) out.marks.emplace_back(later->first - first, later->second);
+    return out;
+  }
+
   const Header& header_;
   ColumnPlan plan_;
   const TableReadOptions& options_;
   Table& table_;
+  std::size_t block_rows_ = 0;                               // block mode: rows per block (0: off)
+  const std::function<void(Table&)>* on_block_ = nullptr;   // block mode: the caller's callback
+  std::size_t emitted_ = 0;                                  // kept rows already handed over
   std::vector<std::string> missing_tokens_;  // the caller's, trimmed
   std::vector<std::size_t> slot_;           // numeric column index once typed (levels_ index
                                             // for an indicator column)
@@ -799,8 +851,8 @@ Table in_file_order(Table& table, const std::vector<std::size_t>& slot_position,
 }
 
 // Reads a table from uncompressed text.
-Table read_text_table(CharSource& chars, const std::string& source,
-                      const TableReadOptions& options) {
+Table read_text_table(CharSource& chars, const std::string& source, const TableReadOptions& options,
+                      std::size_t block_rows = 0, const std::function<void(Table&)>* on_block = nullptr) {
   Table table;
   table.source = source;
   table.delimiter = choose_delimiter(chars, options, source);
@@ -814,6 +866,7 @@ Table read_text_table(CharSource& chars, const std::string& source,
     if (plan.state[j] == ColumnState::skipped) table.skipped_columns.push_back(header.names[j]);
 
   RowReader rows(header, std::move(plan), options, table);
+  if (on_block) rows.stream_blocks(block_rows, *on_block);
   const std::size_t data_rows_seen = rows.read(reader, fields, chars);
   table.last_line = reader.line();
   if (data_rows_seen == 0)
@@ -831,18 +884,19 @@ Table read_text_table(CharSource& chars, const std::string& source,
   return sorted;
 }
 
-}  // namespace
-
-Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options) {
+// read_table() and read_table_blocks() (on_block non-null): the input's
+// packing, then the text.
+Table read_any(std::istream& in, const std::string& source, const TableReadOptions& options,
+               std::size_t block_rows, const std::function<void(Table&)>* on_block) {
   CharSource chars(in);
   const Packing packing = packing_of(chars);
-  if (packing == Packing::none) return read_text_table(chars, source, options);
+  if (packing == Packing::none) return read_text_table(chars, source, options, block_rows, on_block);
 #ifdef KNOTPATH_HAVE_ZLIB
   if (packing == Packing::gzip) {
     GzipBuffer inflated(chars, source);
     std::istream text(&inflated);
     text.exceptions(std::ios::badbit);  // the buffer's errors reach the caller
-    Table table = read_table(text, source, options);
+    Table table = read_any(text, source, options, block_rows, on_block);
     table.compression = "gzip";
     return table;
   }
@@ -850,13 +904,45 @@ Table read_table(std::istream& in, const std::string& source, const TableReadOpt
   refuse_packing(packing, source);
 }
 
-Table read_table(const std::string& path, const TableReadOptions& options) {
-  if (path == "-") return read_table(std::cin, "<stdin>", options);
+template <class Read>
+Table read_file(const std::string& path, Read&& read) {
+  if (path == "-") return read(std::cin, "<stdin>");
   std::ifstream file(path, std::ios::binary);
   if (!file)
     throw table_error(table_error::Kind::input_output, path, 0, 0,
                       std::string("cannot open the file: ") + std::strerror(errno));
-  return read_table(file, path, options);
+  return read(file, path);
+}
+
+void check_block_options(const TableReadOptions& options, std::size_t block_rows) {
+  if (block_rows == 0) throw invalid_option("block_rows", "must be at least 1");
+  if (!options.indicators.columns.empty() || options.indicators.all_text)
+    throw invalid_option("indicators",
+                         "text columns cannot be expanded while the table is read in blocks (their "
+                         "levels are known only after the last row): read the table whole");
+}
+
+}  // namespace
+
+Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options) {
+  return read_any(in, source, options, 0, nullptr);
+}
+
+Table read_table(const std::string& path, const TableReadOptions& options) {
+  return read_file(path, [&](std::istream& in, const std::string& source) { return read_table(in, source, options); });
+}
+
+Table read_table_blocks(std::istream& in, const std::string& source, const TableReadOptions& options,
+                        std::size_t block_rows, const std::function<void(Table&)>& on_block) {
+  check_block_options(options, block_rows);
+  return read_any(in, source, options, block_rows, &on_block);
+}
+
+Table read_table_blocks(const std::string& path, const TableReadOptions& options, std::size_t block_rows,
+                        const std::function<void(Table&)>& on_block) {
+  return read_file(path, [&](std::istream& in, const std::string& source) {
+    return read_table_blocks(in, source, options, block_rows, on_block);
+  });
 }
 
 std::string indicator_name(const std::string& column, const std::string& level) {

@@ -208,6 +208,82 @@ TEST(TableReader, KeptRowsKnowTheLineTheyStartOn) {
   EXPECT_EQ(Table().row_lines.line_of(0), 0u);
 }
 
+// read_table_blocks (issue 20): the same table a block of rows at a time.
+// Reference: read_table() of the same text (the reader's own whole-table
+// mode, itself checked above against hand-written tables).
+TEST(TableBlocks, BlocksHoldTheRowsTheWholeTableHolds) {
+  TableReadOptions options;
+  options.missing = MissingCells::drop;
+  options.keep_decimal_text = true;
+  options.keep_row_keys = true;
+  std::string text = "id,a,note,y\n";
+  for (int i = 0; i < 23; ++i) {
+    if (i % 7 == 3) text += "\n";                                       // a blank line
+    if (i % 5 == 4) text += "gone" + std::to_string(i) + ",,x,1\n";      // a dropped row
+    text += "r" + std::to_string(i) + "," + std::to_string(i) + ".25,\"n\n" + std::to_string(i) + "\"," +
+            std::to_string(2 * i) + "e-1\n";                            // a quoted line break
+  }
+  const Table whole = read_text(text, options);
+  for (const std::size_t height : {std::size_t(1), std::size_t(4), std::size_t(23), std::size_t(100)}) {
+    std::vector<std::vector<double>> values(whole.names.size());
+    std::vector<std::string> keys, text_a;
+    std::size_t blocks = 0, next_row = 0;
+    std::istringstream in(text);
+    const Table summary = knotpath::io::read_table_blocks(in, "t.csv", options, height, [&](Table& block) {
+      ++blocks;
+      EXPECT_EQ(block.names, whole.names);
+      EXPECT_EQ(block.first_row, next_row);
+      EXPECT_LE(block.rows, height);
+      for (std::size_t r = 0; r < block.rows; ++r)
+        EXPECT_EQ(block.row_lines.line_of(r), whole.row_lines.line_of(block.first_row + r)) << "row " << r;
+      for (std::size_t j = 0; j < block.columns.size(); ++j) {
+        ASSERT_EQ(block.columns[j].size(), block.rows);
+        for (std::size_t r = 0; r < block.rows; ++r) values[j].push_back(block.columns[j][r]);
+      }
+      keys.insert(keys.end(), block.keys.begin(), block.keys.end());
+      text_a.insert(text_a.end(), block.decimal_text[0].begin(), block.decimal_text[0].end());
+      next_row += block.rows;
+    });
+    EXPECT_EQ(blocks, (whole.rows + height - 1) / height) << "height " << height;
+    EXPECT_EQ(summary.rows, whole.rows);
+    EXPECT_EQ(summary.dropped_rows, whole.dropped_rows);
+    EXPECT_EQ(summary.names, whole.names);
+    EXPECT_EQ(summary.text_columns, whole.text_columns);
+    EXPECT_EQ(summary.last_line, whole.last_line);
+    for (std::size_t j = 0; j < whole.columns.size(); ++j) {
+      ASSERT_EQ(values[j].size(), whole.rows);
+      for (std::size_t r = 0; r < whole.rows; ++r) EXPECT_EQ(values[j][r], whole.columns[j][r]);
+    }
+    EXPECT_EQ(keys, whole.keys);
+    EXPECT_EQ(text_a, whole.decimal_text[0]);
+  }
+}
+
+TEST(TableBlocks, ErrorsAndRefusals) {
+  // A bad cell after a full block: the earlier block was handed over, then
+  // the same error as read_table() names the cell's line.
+  const std::string text = "a,y\n1,2\n3,4\n5,x\n";
+  const table_error expected = error_of(text);
+  std::istringstream in(text);
+  std::size_t blocks = 0;
+  try {
+    (void)knotpath::io::read_table_blocks(in, "t.csv", {}, 2, [&](Table&) { ++blocks; });
+    ADD_FAILURE() << "no error";
+  } catch (const table_error& e) {
+    EXPECT_EQ(std::string(e.what()), std::string(expected.what()));
+    EXPECT_EQ(e.line(), 4u);
+  }
+  EXPECT_EQ(blocks, 1u);
+  // Indicators need every level first; a block height of 0 is no height.
+  TableReadOptions expand;
+  expand.indicators.all_text = true;
+  std::istringstream again(text);
+  EXPECT_THROW((void)knotpath::io::read_table_blocks(again, "t.csv", expand, 2, [](Table&) {}),
+               knotpath::invalid_option);
+  std::istringstream third(text);
+  EXPECT_THROW((void)knotpath::io::read_table_blocks(third, "t.csv", {}, 0, [](Table&) {}), knotpath::invalid_option);
+}
+
 TEST(TableReader, OnlyAndSkipChooseColumns) {
   TableReadOptions options;
   options.only = {"c", "a"};

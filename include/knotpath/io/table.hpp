@@ -167,6 +167,11 @@ class NumericColumn {
   void push_back(double value);
   /// Removes the last value (used when a row turns out to be dropped).
   void pop_back();
+  /// Removes every value and frees the blocks.
+  void clear() noexcept {
+    blocks_.clear();
+    size_ = 0;
+  }
   /// Number of values stored.
   std::size_t size() const noexcept { return size_; }
   /// Value i (0-based, unchecked: i must be < size() and the blocks not yet moved out).
@@ -244,6 +249,10 @@ struct Table {
   std::size_t dropped_rows = 0;                        ///< rows dropped for missing cells
   std::size_t last_line = 0;                           ///< physical lines consumed
   RowLines row_lines;                                  ///< where each kept row starts
+  /// In a block of read_table_blocks(): the index, among the table's kept
+  /// rows, of the block's first row (0 otherwise). The block's row_lines
+  /// count from the block's first row.
+  std::size_t first_row = 0;
 
   /// Index of a numeric column by name, or -1.
   Index find(const std::string& name) const;
@@ -297,6 +306,22 @@ inline Vector<double> Table::take_vector(Index j) {
 /// invalid_option when options.delimiter is not 0, ',', ';', a tab or ' ',
 /// or is ',' with a decimal comma.
 Table read_table(const std::string& path, const TableReadOptions& options = {});
+/// Reads a table a block of rows at a time, for tables larger than memory:
+/// `on_block(block)` receives each run of `block_rows` kept rows (the last
+/// run may be shorter) as a Table of those rows alone (every column read,
+/// in file order; keys and decimal text when asked; Table::first_row and
+/// row_lines placing the rows in the file), and may take its columns. The
+/// same cells, rules and errors as read_table(), except that text columns
+/// cannot be expanded into indicators (their levels are known only after
+/// the last row: invalid_option). Returns the table without values: names,
+/// text and skipped columns, rows kept and dropped, lines read, where every
+/// kept row starts. Memory: one block of rows. Throws as read_table(), and
+/// invalid_option for block_rows = 0 or indicator options.
+Table read_table_blocks(const std::string& path, const TableReadOptions& options, std::size_t block_rows,
+                        const std::function<void(Table&)>& on_block);
+/// read_table_blocks() from a stream; `source` names it in error messages.
+Table read_table_blocks(std::istream& in, const std::string& source, const TableReadOptions& options,
+                        std::size_t block_rows, const std::function<void(Table&)>& on_block);
 /// Reads a table from a stream; `source` names it in error messages.
 Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options = {});
 
