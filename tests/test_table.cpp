@@ -22,6 +22,7 @@
 
 #include <knotpath/io/roles.hpp>
 #include <knotpath/io/table.hpp>
+#include <knotpath/trace.hpp>
 
 namespace {
 
@@ -256,6 +257,50 @@ TEST(TableBlocks, BlocksHoldTheRowsTheWholeTableHolds) {
     }
     EXPECT_EQ(keys, whole.keys);
     EXPECT_EQ(text_a, whole.decimal_text[0]);
+  }
+}
+
+// The streamed route end to end (issue 20, point 1): a table read in blocks,
+// each block split by the roles and added to a StatisticsAccumulator,
+// traces the path the in-memory Gram route traces from the whole table,
+// bit for bit (fixed block boundaries of the statistics, fixed order).
+TEST(TableBlocks, AStreamedTableTracesTheInMemoryGramPathBitForBit) {
+  std::string text = "x1,x2,x3,w,y\n";
+  std::uint64_t state = 7;
+  auto next = [&] {  // a small LCG (common practice); fixed seed
+    state = state * 6364136223846793005ULL + 1442695040888963407ULL;
+    return static_cast<double>(state >> 11) / 9007199254740992.0 - 0.5;
+  };
+  for (int i = 0; i < 2500; ++i) {
+    const double a = next(), b = next() + 0.5 * a, c = next();
+    text += std::to_string(a) + "," + std::to_string(b) + "," + std::to_string(c) + "," +
+            std::to_string(1 + i % 3) + "," + std::to_string(2 * a - b + 0.3 * next()) + "\n";
+  }
+  ColumnRoles roles;
+  roles.response = "y";
+  roles.weights = "w";
+  knotpath::TraceOptions options;
+  options.storage = knotpath::Storage::gram;
+  Table whole = read_text(text, roles.read_options());
+  const TableSplit all = knotpath::io::split_table(whole, roles);
+  const knotpath::Path<double> memory = knotpath::trace<double>(all.x, all.y, options, all.weights);
+
+  // The reader's blocks of 700 rows are gathered into the statistics' own
+  // blocks, whose height depends on p only (one block here: 2500 rows
+  // against a height of 349525 at p = 3; the StatisticsAccumulator tests of
+  // test_designs.cpp cover several).
+  knotpath::StatisticsAccumulator<double> acc(3, true);
+  std::istringstream in(text);
+  (void)knotpath::io::read_table_blocks(in, "t.csv", roles.read_options(), 700, [&](Table& block) {
+    const TableSplit part = knotpath::io::split_table(block, roles);
+    acc.add(part.x, part.y, part.weights);
+  });
+  const knotpath::Path<double> streamed = knotpath::trace_statistics(acc.finish(), options);
+  ASSERT_EQ(streamed.knots().size(), memory.knots().size());
+  for (std::size_t k = 0; k < memory.knots().size(); ++k) {
+    EXPECT_EQ(streamed.knots()[k].penalty, memory.knots()[k].penalty) << k;
+    EXPECT_TRUE(streamed.dense_coefficients(k) == memory.dense_coefficients(k)) << k;
+    EXPECT_EQ(streamed.knots()[k].intercept, memory.knots()[k].intercept) << k;
   }
 }
 
