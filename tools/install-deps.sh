@@ -11,7 +11,7 @@ packages=(
   libcli11-dev libfmt-dev nlohmann-json3-dev zlib1g-dev
   libtinyxml2-dev libpng-dev librsvg2-bin pkg-config
   chromium  # headless: tests/browser_report.py renders the select report
-  python3 python3-cvxopt python3-numpy doxygen
+  python3 python3-cvxopt python3-numpy python3-scipy doxygen
   clang libclang-rt-14-dev
 )
 
