@@ -259,11 +259,19 @@ Matrix<Scalar> spd_inverse(const Matrix<Scalar>& gram) {
   return factor.solve(Matrix<Scalar>::Identity(gram.rows(), gram.cols()));
 }
 
-/// The truncated-normal summary of one contrast, on the original scale.
+/// z with P(|Z| <= z) = level for a standard normal Z: the untruncated
+/// interval's half-width in sd (the same bisection as the adjusted ends).
+inline double normal_quantile_for(double level) {
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  return truncated_normal_interval(0.0, 1.0, -inf, inf, level).second;
+}
+
+/// The truncated-normal summary of one contrast, on the original scale; z
+/// is normal_quantile_for(level) (the naive interval's half-width in sd).
 template <class Scalar>
 AdjustedCoefficient summarize_contrast(Index predictor, int sign, const Scalar& estimate,
                                        const Scalar& variance_factor, const Limits<Scalar>& limits,
-                                       double noise_variance, double scale, double level) {
+                                       double noise_variance, double scale, double level, double z) {
   constexpr double inf = std::numeric_limits<double>::infinity();
   AdjustedCoefficient c;
   c.predictor = predictor;
@@ -276,14 +284,13 @@ AdjustedCoefficient summarize_contrast(Index predictor, int sign, const Scalar& 
   lower = std::min(lower, x);
   upper = std::max(upper, x);
   const auto [low, high] = truncated_normal_interval(x, sd, lower, upper, level);
-  const auto [naive_low, naive_high] = truncated_normal_interval(x, sd, -inf, inf, level);
   const TruncatedTails at_zero = truncated_normal_tails(x, 0.0, sd, lower, upper);
   c.estimate = x / scale;
   c.standard_error = sd / scale;
   c.lower = low / scale;
   c.upper = high / scale;
-  c.naive_lower = naive_low / scale;
-  c.naive_upper = naive_high / scale;
+  c.naive_lower = (x - z * sd) / scale;
+  c.naive_upper = (x + z * sd) / scale;
   c.truncation_lower = lower / scale;
   c.truncation_upper = upper / scale;
   c.p_value = std::min(1.0, 2.0 * std::exp(std::min(at_zero.log_lower, at_zero.log_upper)));
@@ -328,6 +335,7 @@ AdjustedInference adjusted_at_penalty(const Design& design, const Path<typename 
       columns.push_back(position[static_cast<std::size_t>(j)]);
     }
   if (columns.empty()) return out;
+  const double z = normal_quantile_for(level);
   const Index m = static_cast<Index>(columns.size());
   const Matrix<Scalar> inverse = spd_inverse(gram_block(design, columns));
   Vector<Scalar> all_correlations;
@@ -349,7 +357,7 @@ AdjustedInference adjusted_at_penalty(const Design& design, const Path<typename 
     const Index j = predictors[static_cast<std::size_t>(i)];
     out.coefficients.push_back(summarize_contrast(j, signs(i) > Scalar(0) ? 1 : -1, estimates(i),
                                                   inverse(i, i), limits, noise_variance,
-                                                  to_double(prep.scales(j)), level));
+                                                  to_double(prep.scales(j)), level, z));
   }
   return out;
 }
@@ -399,6 +407,8 @@ class StepPolyhedron {
     for (const StepEvent& e : events_)
       if (std::find(ever_.begin(), ever_.end(), e.column) == ever_.end()) ever_.push_back(e.column);
     const Index q = design_.cols(), u = static_cast<Index>(ever_.size());
+    ever_position_.assign(static_cast<std::size_t>(q), -1);
+    for (Index i = 0; i < u; ++i) ever_position_[static_cast<std::size_t>(ever_[static_cast<std::size_t>(i)])] = i;
     gram_columns_.resize(q, u);
     Vector<Scalar> unit = Vector<Scalar>::Ones(1), column(q);
     for (Index i = 0; i < u; ++i) {
@@ -473,44 +483,28 @@ class StepPolyhedron {
       for (Index i = 0; i + 1 < width; ++i)
         out[static_cast<std::size_t>(i)].tighten(constraint(0), constraint(i + 1), x(i));
     };
-    std::vector<std::pair<Index, int>> active;
+    Projection projection(*this, projected);
+    std::vector<int> sign_of(static_cast<std::size_t>(q), 0);  // 0: inactive
     Row previous(width);
     bool have_previous = false;
     Index entered_last = -1, left_last = -1;
     int left_sign = 0;
     for (const StepEvent& event : events_) {
-      const Index a = static_cast<Index>(active.size());
-      Matrix<Scalar> active_gram(q, a), block(a, a);
+      const auto& order = projection.order;
+      const Index a = static_cast<Index>(order.size());
       Vector<Scalar> signs(a);
-      Matrix<Scalar> active_projected(a, width);
-      for (Index i = 0; i < a; ++i) {
-        const Index col = active[static_cast<std::size_t>(i)].first;
-        active_gram.col(i) = gram_columns_.col(ever_index(col));
-        signs(i) = Scalar(active[static_cast<std::size_t>(i)].second);
-        active_projected.row(i) = projected.row(col);
-      }
-      for (Index i = 0; i < a; ++i)
-        for (Index k = 0; k < a; ++k) block(i, k) = active_gram(active[static_cast<std::size_t>(i)].first, k);
-      Matrix<Scalar> fit(a, width);           // (Z_A^T Z_A)^{-1} Z_A^T [y, c]
-      Vector<Scalar> direction(a);            // (Z_A^T Z_A)^{-1} s_A
-      Matrix<Scalar> residual = projected;    // Z^T (I - P_A) [y, c]
-      Vector<Scalar> equiangular = Vector<Scalar>::Zero(q);  // Z^T Z_A (Z_A^T Z_A)^{-1} s_A
-      if (a > 0) {
-        const Eigen::LDLT<Matrix<Scalar>> factor(block);
-        fit = factor.solve(active_projected);
-        direction = factor.solve(signs);
-        residual.noalias() -= active_gram * fit;
-        equiangular = active_gram * direction;
-      }
-      std::vector<bool> is_active(static_cast<std::size_t>(q), false);
-      for (const auto& [col, s] : active) is_active[static_cast<std::size_t>(col)] = true;
+      for (Index i = 0; i < a; ++i) signs(i) = Scalar(sign_of[static_cast<std::size_t>(order[static_cast<std::size_t>(i)])]);
+      const Vector<Scalar> direction = projection.inverse * signs;  // (Z_A^T Z_A)^{-1} s_A
+      Vector<Scalar> equiangular = Vector<Scalar>::Zero(q);         // Z^T Z_A (Z_A^T Z_A)^{-1} s_A
+      for (Index i = 0; i < a; ++i) equiangular += column(order[static_cast<std::size_t>(i)]) * direction(i);
+      const Matrix<Scalar>& fit = projection.fit;            // (Z_A^T Z_A)^{-1} Z_A^T [y, c]
+      const Matrix<Scalar>& residual = projection.residual;  // Z^T (I - P_A) [y, c]
       // The winner's time.
       Row winner(width);
       if (event.enter) {
         winner = residual.row(event.column) / Scalar(Scalar(event.sign) - equiangular(event.column));
       } else {
-        Index i = 0;
-        while (active[static_cast<std::size_t>(i)].first != event.column) ++i;
+        const Index i = projection.position(event.column);
         winner = fit.row(i) / direction(i);
       }
       add(winner);                                     // lambda_l >= 0
@@ -519,7 +513,7 @@ class StepPolyhedron {
       // comment: the sign of s * delta says so on the event) must not beat
       // the winner; lambda_l > 0 covers its times <= 0.
       for (Index j = 0; j < q; ++j) {
-        if (is_active[static_cast<std::size_t>(j)]) continue;
+        if (sign_of[static_cast<std::size_t>(j)] != 0) continue;
         for (int s : {1, -1}) {
           if (event.enter && j == event.column && s == event.sign) continue;
           if (j == left_last && s == left_sign) continue;  // joins at lambda_{l-1} exactly
@@ -530,10 +524,10 @@ class StepPolyhedron {
       }
       if (lasso_)
         for (Index i = 0; i < a; ++i) {
-          const Index col = active[static_cast<std::size_t>(i)].first;
+          const Index col = order[static_cast<std::size_t>(i)];
           if ((!event.enter && col == event.column) || col == entered_last) continue;  // winner; leaves at lambda_{l-1}
           // b_a(lambda) = d_a (t - lambda) keeps the sign s_a down to lambda_{l-1}: t < lambda_{l-1} iff s_a d_a < 0.
-          if (!(Scalar(active[static_cast<std::size_t>(i)].second) * direction(i) < Scalar(0))) continue;
+          if (!(Scalar(sign_of[static_cast<std::size_t>(col)]) * direction(i) < Scalar(0))) continue;
           add(Row(winner - fit.row(i) / direction(i)));
         }
       previous = winner;
@@ -541,14 +535,95 @@ class StepPolyhedron {
       entered_last = event.enter ? event.column : -1;
       left_last = event.enter ? -1 : event.column;
       left_sign = event.sign;
-      apply(active, event);
+      if (event.enter) {
+        projection.enter(event.column);
+        sign_of[static_cast<std::size_t>(event.column)] = event.sign;
+      } else {
+        projection.leave(event.column);
+        sign_of[static_cast<std::size_t>(event.column)] = 0;
+      }
     }
   }
+
+  /// Z^T z_col (a column ever active).
+  auto column(Index col) const { return gram_columns_.col(ever_position_[static_cast<std::size_t>(col)]); }
+
+  /// The projection on the active columns, one column per event: the inverse
+  /// Gram matrix bordered when a column enters and reduced when one leaves
+  /// (the partitioned inverse, e.g. Golub & Van Loan, Matrix Computations,
+  /// 4th ed., section 3.5 on block inverses), with the fit and the residual
+  /// correlations moved by the same rank-one terms. O(q t + a t + a^2) per
+  /// event instead of a new factorization and O(q a t) products.
+  struct Projection {
+    const StepPolyhedron& owner;
+    std::vector<Index> order;  ///< active prepared columns, in the order of the rows below
+    Matrix<Scalar> inverse;    ///< (Z_A^T Z_A)^{-1}
+    Matrix<Scalar> fit;        ///< (Z_A^T Z_A)^{-1} Z_A^T [y, c]
+    Matrix<Scalar> residual;   ///< Z^T (I - P_A) [y, c]
+
+    Projection(const StepPolyhedron& o, const Matrix<Scalar>& projected)
+        : owner(o), inverse(0, 0), fit(0, projected.cols()), residual(projected) {}
+
+    Index position(Index col) const {
+      return static_cast<Index>(std::find(order.begin(), order.end(), col) - order.begin());
+    }
+    /// Z^T (I - P_A) z_col = Z^T z_col - Z^T Z_A pi, for pi the fit of z_col on A.
+    Vector<Scalar> projected_column(Index col, const Vector<Scalar>& pi) const {
+      Vector<Scalar> f = owner.column(col);
+      for (std::size_t k = 0; k < order.size(); ++k) f -= owner.column(order[k]) * pi(static_cast<Index>(k));
+      return f;
+    }
+    void enter(Index col) {
+      const Index a = static_cast<Index>(order.size());
+      Vector<Scalar> g(a);  // Z_A^T z_col
+      for (Index k = 0; k < a; ++k) g(k) = owner.column(col)(order[static_cast<std::size_t>(k)]);
+      const Vector<Scalar> pi = inverse * g;
+      const Vector<Scalar> f = projected_column(col, pi);
+      const Scalar h = f(col);  // ||(I - P_A) z_col||^2
+      const Eigen::Matrix<Scalar, 1, Eigen::Dynamic> gamma = residual.row(col) / h;
+      residual.noalias() -= f * gamma;
+      Matrix<Scalar> next_fit(a + 1, fit.cols());
+      next_fit.topRows(a) = fit - pi * gamma;
+      next_fit.row(a) = gamma;
+      Matrix<Scalar> next_inverse(a + 1, a + 1);
+      next_inverse.topLeftCorner(a, a) = inverse + pi * pi.transpose() / h;
+      next_inverse.topRightCorner(a, 1) = -pi / h;
+      next_inverse.bottomLeftCorner(1, a) = -pi.transpose() / h;
+      next_inverse(a, a) = Scalar(1) / h;
+      fit = std::move(next_fit);
+      inverse = std::move(next_inverse);
+      order.push_back(col);
+    }
+    void leave(Index col) {
+      const Index i = position(col), a = static_cast<Index>(order.size());
+      std::vector<Index> keep;
+      for (Index k = 0; k < a; ++k)
+        if (k != i) keep.push_back(k);
+      const Index b = a - 1;
+      Vector<Scalar> pi(b);  // the fit of z_col on the others: -inverse_{-i,i} / inverse_ii
+      Matrix<Scalar> next_inverse(b, b), next_fit(b, fit.cols());
+      const Eigen::Matrix<Scalar, 1, Eigen::Dynamic> gamma = fit.row(i);
+      for (Index r = 0; r < b; ++r) {
+        const Index kr = keep[static_cast<std::size_t>(r)];
+        pi(r) = -inverse(kr, i) / inverse(i, i);
+        for (Index c = 0; c < b; ++c) {
+          const Index kc = keep[static_cast<std::size_t>(c)];
+          next_inverse(r, c) = inverse(kr, kc) - inverse(kr, i) * inverse(i, kc) / inverse(i, i);
+        }
+      }
+      for (Index r = 0; r < b; ++r) next_fit.row(r) = fit.row(keep[static_cast<std::size_t>(r)]) + pi(r) * gamma;
+      order.erase(order.begin() + i);
+      inverse = std::move(next_inverse);
+      fit = std::move(next_fit);
+      residual.noalias() += projected_column(col, pi) * gamma;
+    }
+  };
 
   const Design& design_;
   std::vector<StepEvent> events_;
   bool lasso_ = true;                         ///< leave events compete (lasso variant)
   std::vector<Index> ever_;                   ///< prepared columns active at some step, by first entry
+  std::vector<Index> ever_position_;          ///< position in ever_ of each prepared column (-1: never active)
   Matrix<Scalar> gram_columns_;               ///< Z^T z_u for u in ever_ (q x |ever_|)
   Vector<Scalar> correlations_;               ///< Z^T y
   std::vector<std::pair<Index, int>> final_;  ///< active set after the steps, ascending column
@@ -581,11 +656,12 @@ AdjustedInference adjusted_after_steps(const Design& design, const Path<typename
   for (std::size_t i = 0; i < set.size(); ++i) targets[i] = static_cast<Index>(i);
   Vector<Scalar> estimates;
   const std::vector<Limits<Scalar>> limits = polyhedron.limits(targets, estimates);
+  const double z = normal_quantile_for(level);
   for (std::size_t i = 0; i < set.size(); ++i) {
     const Index j = predictor_of(prep, set[i].first);
     const Index k = static_cast<Index>(i);
     out.coefficients.push_back(summarize_contrast(j, set[i].second, estimates(k), polyhedron.inverse()(k, k),
-                                                  limits[i], noise_variance, to_double(prep.scales(j)), level));
+                                                  limits[i], noise_variance, to_double(prep.scales(j)), level, z));
   }
   return out;
 }
@@ -685,7 +761,7 @@ std::vector<EntryPValue> entry_p_values(const Design& design, const Path<typenam
     const auto limits = polyhedron.limits({target}, estimates);
     const AdjustedCoefficient c = detail::summarize_contrast(
         row.predictor, row.sign, estimates(target), polyhedron.inverse()(target, target), limits[0],
-        noise_variance, 1.0, 0.9);
+        noise_variance, 1.0, 0.9, 1.6448536269514722);  // only the p-value is read
     out.push_back({row.step, row.predictor, row.sign, c.one_sided_p_value});
   }
   return out;

@@ -145,8 +145,8 @@ inline TruncatedTails truncated_normal_tails(double x, double mean, double sd, d
 ///     P_m(X > x | lower <= X <= upper) in [alpha/2, 1 - alpha/2],
 /// alpha = 1 - level. The upper tail increases in m (the truncated normal
 /// family has a monotone likelihood ratio), so each end is one root, found
-/// by bracketing (doubling steps of sd from x) and bisection on the log of
-/// the tail that is small there. An end whose root lies beyond 2^400 sd
+/// by bracketing (doubling steps of sd from x) and the Illinois method on
+/// the log of the tail that is small there. An end whose root lies beyond 2^400 sd
 /// from x is returned as -infinity / +infinity: that happens when x sits on
 /// a truncation limit to rounding, where the tail does not move with the
 /// mean, so no finite mean is excluded on that side (a half-line, or the
@@ -155,49 +155,67 @@ inline std::pair<double, double> truncated_normal_interval(double x, double sd, 
                                                            double upper, double level) {
   constexpr double inf = std::numeric_limits<double>::infinity();
   const double log_half_alpha = std::log(0.5 * (1.0 - level));
-  // g(m) > 0 once m is past the root: for the lower end the upper tail has
-  // grown above alpha/2; for the upper end the lower tail has fallen below.
-  auto lower_end_past = [&](double m) {
-    return truncated_normal_tails(x, m, sd, lower, upper).log_upper > log_half_alpha;
+  // The log of the tail that is small at each end against log(alpha/2),
+  // both increasing in m: the upper tail grows with m, the lower one shrinks.
+  auto lower_gap = [&](double m) {
+    return truncated_normal_tails(x, m, sd, lower, upper).log_upper - log_half_alpha;
   };
-  auto upper_end_past = [&](double m) {
-    return truncated_normal_tails(x, m, sd, lower, upper).log_lower < log_half_alpha;
+  auto upper_gap = [&](double m) {
+    return log_half_alpha - truncated_normal_tails(x, m, sd, lower, upper).log_lower;
   };
-  auto solve = [&](auto past, double direction) {
-    // Bracket: `inside` is on the near side of the root, `outside` past it.
-    double step = sd, inside = x, outside = x;
+  // Root of an increasing gap: bracket by doubling steps of sd from x, then
+  // the Illinois variant of regula falsi (superlinear, and never leaves the
+  // bracket), to 1e-12 relative to the larger of sd and the ends: far below
+  // the sampling error of any interval.
+  auto solve = [&](auto gap) {
+    double a = x, b = x, ga = gap(x), gb = ga, step = sd;
     int doublings = 0;
-    if (past(x)) {  // the root lies on the other side of x
-      direction = -direction;
-      while (past(inside)) {
-        outside = inside;
-        inside = x + direction * step;
+    if (ga > 0) {  // the root lies below x
+      while (ga > 0) {
+        b = a;
+        gb = ga;
+        a = x - step;
         step *= 2;
-        if (++doublings > 400) return direction * inf;
+        if (++doublings > 400) return -inf;
+        ga = gap(a);
       }
     } else {
-      while (!past(outside)) {
-        inside = outside;
-        outside = x + direction * step;
+      while (gb <= 0) {
+        a = b;
+        ga = gb;
+        b = x + step;
         step *= 2;
-        if (++doublings > 400) return direction * inf;
+        if (++doublings > 400) return inf;
+        gb = gap(b);
       }
     }
-    // To 1e-12 relative to the larger of sd and the ends: far below the
-    // sampling error of any interval, and about 40 halvings of a bracket.
+    // gap(a) <= 0 < gap(b); a -inf gap (a tail of exactly 0) is bisected.
+    int side = 0;
     for (int i = 0; i < 200; ++i) {
-      const double mid = 0.5 * (inside + outside);
-      if (mid == inside || mid == outside ||
-          std::abs(outside - inside) <= 1e-12 * std::max({sd, std::abs(inside), std::abs(outside)}))
-        break;
-      (past(mid) ? outside : inside) = mid;
+      if (std::abs(b - a) <= 1e-12 * std::max({sd, std::abs(a), std::abs(b)})) break;
+      double m = 0.5 * (a + b);
+      if (std::isfinite(ga) && std::isfinite(gb)) {
+        const double falsi = (a * gb - b * ga) / (gb - ga);
+        if (falsi > a && falsi < b) m = falsi;
+      }
+      if (m == a || m == b) break;
+      const double gm = gap(m);
+      if (gm > 0) {
+        b = m;
+        gb = gm;
+        if (side == 1) ga *= 0.5;  // Illinois: halve the stale end's value
+        side = 1;
+      } else {
+        a = m;
+        ga = gm;
+        if (side == -1) gb *= 0.5;
+        side = -1;
+      }
     }
-    return 0.5 * (inside + outside);
+    return 0.5 * (a + b);
   };
-  // The lower end is below x when the observed tail is ordinary; `past`
-  // for it holds for means above the root, so search downward from x.
-  const double low = solve([&](double m) { return !lower_end_past(m); }, -1.0);
-  const double high = solve(upper_end_past, 1.0);
+  const double low = solve(lower_gap);
+  const double high = solve(upper_gap);
   return {low, high};
 }
 
