@@ -291,6 +291,26 @@ TEST(AdjustedInference, FixedPenaltyLimitsAreWhereTheSignedSupportChanges) {
   }
 }
 
+// At penalty 0 the lasso is the least-squares fit on every predictor: no
+// selection, so the adjusted interval and p-value are the naive ones.
+TEST(AdjustedInference, AtPenaltyZeroNothingIsConditionedOn) {
+  const Matrix<double> x = design(40, 5, 0.3, 8);
+  kp::detail::SplitMix64 rng(3);
+  Vector<double> y(40);
+  for (Index i = 0; i < 40; ++i) y(i) = 0.5 * x(i, 0) + rng.normal();
+  const kp::Path<double> path = kp::trace<double>(x, y);
+  const auto r = kp::adjusted_inference_at_penalty(kp::prepare_dense<double>(x, y, path.options()).design, path, 0.0,
+                                                   0.9, 1.0);
+  ASSERT_EQ(r.coefficients.size(), 5u);
+  for (const auto& c : r.coefficients) {
+    EXPECT_EQ(c.truncation_lower, -inf);
+    EXPECT_EQ(c.truncation_upper, inf);
+    EXPECT_NEAR(c.lower, c.naive_lower, 1e-9 * c.standard_error);  // the same root, by two routes
+    EXPECT_NEAR(c.upper, c.naive_upper, 1e-9 * c.standard_error);
+    EXPECT_NEAR(c.p_value, c.naive_p_value, 1e-12);
+  }
+}
+
 // After k steps every point of the truncation interval gives a path whose
 // first k events are the same (Tibshirani et al. 2016: the polyhedron lies
 // inside the event), and just past a finite limit they differ (it is the

@@ -57,7 +57,9 @@
 /// (ii) |z_k^T (y - Z_M b_M)| < lambda for every inactive k. The constraints
 /// (ii) are functions of (I - P_M) y, orthogonal to every contrast in the
 /// span of Z_M: they do not truncate eta^T y. So V-, V+ come from the m sign
-/// constraints s_a b_a >= 0 alone, O(m^3) after the Gram block of M.
+/// constraints s_a b_a >= 0 alone, O(m^3) after the Gram block of M. At
+/// penalty 0 (the least-squares fit on every predictor) nothing is chosen
+/// and nothing is conditioned on: the adjusted results are the naive ones.
 ///
 /// After k steps (least-angle or lasso path, Tibshirani et al.). At step l
 /// the active set A = A_{l-1} with signs s_A is fixed; an inactive j would
@@ -347,11 +349,16 @@ AdjustedInference adjusted_at_penalty(const Design& design, const Path<typename 
   }
   const Vector<Scalar> estimates = inverse * correlations;          // least squares on M
   const Vector<Scalar> lasso = estimates - penalty * (inverse * signs);  // b_M of the KKT conditions
+  // At penalty 0 the lasso is the least-squares fit on every predictor it
+  // can hold: that active set is not chosen by y (its event is certain), so
+  // the union over the signs, the whole space, is conditioned on and
+  // nothing truncates the estimates: the adjusted interval is the naive one.
+  const bool chosen = penalty > Scalar(0);
   for (Index i = 0; i < m; ++i) {
     Limits<Scalar> limits;
     // Sign constraint of a: s_a b_a >= 0; along c_i = eta_i / ||eta_i||^2
     // it moves by s_a (Z_M^T Z_M)^{-1}_ai / (Z_M^T Z_M)^{-1}_ii.
-    for (Index a = 0; a < m; ++a)
+    for (Index a = 0; a < m && chosen; ++a)
       limits.tighten(Scalar(signs(a) * lasso(a)), Scalar(signs(a) * inverse(a, i) / inverse(i, i)),
                      estimates(i));
     const Index j = predictors[static_cast<std::size_t>(i)];
