@@ -324,6 +324,9 @@ json data_json(const Path<Scalar>& path, const RunContext& context) {
   data["rows_read"] = context.rows_read;
   data["rows_dropped_missing"] = context.rows_dropped;
   data["rows_used"] = prep.used_observations;
+  data["reading"] = context.block_rows == 0 ? "whole" : "blocks";
+  data["block_rows"] = context.block_rows == 0 ? json(nullptr) : json(context.block_rows);
+  data["shards"] = context.shards;
   data_numbers.put(data, "weight_sum", prep.weight_sum);
   data["predictors"] = context.predictor_names;
   data["text_columns_skipped"] = context.text_columns;
@@ -507,6 +510,15 @@ std::vector<std::string> audit_notes(const Path<Scalar>& path, const RunContext&
     notes.push_back("text columns skipped: " + list);
   }
   for (const auto& note : context.table_notes) notes.push_back(note);
+  if (!context.shards.empty())
+    notes.push_back(fmt::format("table read from {} shards, each in blocks of {} rows into its own "
+                                "statistics, merged in a fixed pairwise tree over the shards in the order "
+                                "given (the same path for any number of processes)",
+                                context.shards.size(), context.block_rows));
+  else if (context.block_rows != 0)
+    notes.push_back(fmt::format("table read in blocks of {} rows into its sufficient statistics "
+                                "(the path of the Gram storage; memory independent of the row count)",
+                                context.block_rows));
   return notes;
 }
 

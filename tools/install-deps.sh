@@ -13,6 +13,7 @@ packages=(
   chromium  # headless: tests/browser_report.py renders the select report
   python3 python3-cvxopt python3-numpy doxygen
   clang libclang-rt-14-dev
+  libopenmpi-dev openmpi-bin  # MPI: tables spread over the processes of a job
 )
 
 missing=()

@@ -36,7 +36,8 @@ cmake -S . -B "$build" \
   -DKNOTPATH_WARNINGS_AS_ERRORS=ON \
   -DKNOTPATH_BUILD_BENCHMARKS=OFF \
   -DKNOTPATH_BUILD_EXAMPLES=OFF \
-  -DKNOTPATH_BUILD_TESTS=ON
+  -DKNOTPATH_BUILD_TESTS=ON \
+  -DKNOTPATH_USE_MPI=OFF
 cmake --build "$build" -j "$jobs"
 built=$(date +%s)
 

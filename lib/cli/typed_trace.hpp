@@ -122,9 +122,24 @@ TableData<Scalar> table_data(LoadedTable& loaded) {
   return d;
 }
 
-/// Traces the data of a loaded table with its options, showing `status` on
-/// the progress line; the library's refusals become usage (bad option) and
+/// Runs `trace` (which returns a Path) with `status` on the loaded table's
+/// progress line; the library's refusals become usage (bad option) and
 /// bad-input (bad data, named through data_message) failures.
+template <class Trace>
+auto trace_with_messages(const LoadedTable& loaded, const std::string& status, Trace&& trace)
+    -> decltype(trace()) {
+  if (loaded.progress) loaded.progress->status(status);
+  try {
+    return trace();
+  } catch (const invalid_option& e) {
+    throw failure(exit_usage, e.what());
+  } catch (const invalid_data& e) {
+    throw failure(exit_bad_input,
+                  data_message(e, loaded.shown_name, loaded.context.predictor_names, loaded.table.row_lines));
+  }
+}
+
+/// Traces the data of a loaded table with its options (trace_with_messages).
 template <class Scalar>
 Path<Scalar> trace_table_data(const LoadedTable& loaded, const TableData<Scalar>& d,
                               const std::string& status) {
@@ -134,15 +149,7 @@ Path<Scalar> trace_table_data(const LoadedTable& loaded, const TableData<Scalar>
     // weights); it is exact too.
     if (d.w.size() != 0) options.storage = Storage::gram;
   }
-  if (loaded.progress) loaded.progress->status(status);
-  try {
-    return trace<Scalar>(d.x, d.y, options, d.w);
-  } catch (const invalid_option& e) {
-    throw failure(exit_usage, e.what());
-  } catch (const invalid_data& e) {
-    throw failure(exit_bad_input,
-                  data_message(e, loaded.shown_name, loaded.context.predictor_names, loaded.table.row_lines));
-  }
+  return trace_with_messages(loaded, status, [&] { return trace<Scalar>(d.x, d.y, options, d.w); });
 }
 
 /// Traces a loaded table in Scalar (table_data, then trace_table_data with

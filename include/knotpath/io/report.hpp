@@ -31,6 +31,11 @@ struct RunContext {
   std::vector<std::string> table_notes;      ///< sentences about how the table was read (indicators, ...)
   std::vector<IndicatorColumn> indicator_columns;  ///< text columns expanded into indicator predictors
   std::string program_version;               ///< knotpath version
+  /// Rows per block when the table was read a block at a time into the
+  /// sufficient statistics (its rows never all in memory); 0: read whole.
+  std::size_t block_rows = 0;
+  /// The tables read as the shards of one, in order (empty: one table).
+  std::vector<std::string> shards;
 };
 
 /// What to do about a suspect double path: names the `knotpath verify`
