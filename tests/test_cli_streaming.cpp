@@ -215,6 +215,36 @@ TEST_F(Streaming, BadRowsAndRefusalsNameTheFilesLine) {
   EXPECT_NE(precise.err.find("--read blocks traces in double precision"), std::string::npos) << precise.err;
 }
 
+// Every member named `name` removed from a JSON document, at any depth.
+nlohmann::json without_member(nlohmann::json doc, const std::string& name) {
+  if (doc.is_object()) {
+    doc.erase(name);
+    for (auto& [key, value] : doc.items()) value = without_member(value, name);
+  } else if (doc.is_array()) {
+    for (auto& value : doc) value = without_member(value, name);
+  }
+  return doc;
+}
+
+TEST_F(Streaming, VerifyReadsATallTableInBlocksWithTheSameVerdictAndNumbers) {
+  // verify traces in double and in 50 digits; read in blocks, each
+  // arithmetic has its own stream of statistics (the 50-digit one parsed
+  // exactly from the cells' text), so the table is never held in high
+  // precision, and the two paths are those of reading it whole.
+  write_table("t.csv", 2500);
+  const std::string ask = "verify t.csv --response y --weights w --missing drop";
+  const Outcome whole = run(ask + " --read whole --json a.json");
+  const Outcome blocks = run(ask + " --read blocks --block-rows 250 --json b.json");
+  EXPECT_EQ(whole.code, 0) << whole.err;
+  EXPECT_EQ(blocks.code, whole.code) << blocks.err;
+  std::string blocks_out = without_block_note(blocks.out);
+  blocks_out.replace(blocks_out.find("wrote b.json"), 12, "wrote a.json");
+  EXPECT_EQ(blocks_out, whole.out);
+  const auto a = nlohmann::json::parse(slurp(file("a.json"))), b = nlohmann::json::parse(slurp(file("b.json")));
+  EXPECT_EQ(without_member(without_member(b, "reading"), "block_rows"),
+            without_member(without_member(a, "reading"), "block_rows"));
+}
+
 // The lines of a table split into `count` tables of consecutive rows, each
 // with the header: the shards of one table.
 std::vector<std::string> shards_of(const std::string& text, std::size_t count) {

@@ -237,6 +237,22 @@ struct LoadedTable {
 LoadedTable load_table(const std::string& table, const ModelArgs& args, const Global& global,
                        bool keep_decimal_text);
 
+/// A table traced in double and in a higher precision (verify).
+template <class High>
+struct TracedTwice {
+  LoadedTable loaded;  ///< the table's context and options (values taken)
+  Path<High> high;     ///< traced in High from the cells' decimal text parsed exactly
+  Path<double> low;    ///< traced in double from the reader's values
+};
+
+/// Reads the table and traces it in High and in double (verify), the
+/// table read whole or a block at a time by --read (trace_table's rules:
+/// blocks go into one stream of statistics per arithmetic, so that a tall
+/// table is never held in high precision). Compiled for float50 and, with
+/// MPFR, mpfr_float.
+template <class High>
+TracedTwice<High> trace_twice(const std::string& table, const ModelArgs& args, const Global& global);
+
 /// --precision and --digits of trace and at.
 struct PrecisionArgs {
   std::string precision = "double";  ///< double, long-double, 50, mpfr (with MPFR), exact

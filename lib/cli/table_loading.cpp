@@ -9,6 +9,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <type_traits>
 #include <utility>
 #include <vector>
 
@@ -363,23 +364,30 @@ bool reads_whole(const ModelArgs& args) {
   return args.reading == "whole" || indicators;
 }
 
-// One block of the table split by the columns' roles, with the place of its
-// rows in the file (data_message names a bad row by its line).
+// One block of the table split by the columns' roles, in an arithmetic,
+// with the place of its rows in the file (data_message names a bad row by
+// its line).
+template <class Scalar>
 struct Piece {
-  io::TableSplit split;
+  TableData<Scalar> data;
   io::RowLines lines;  // counted from the table's first kept row
 };
 
-// A table read a block at a time (read_table_blocks). Each block is split by
-// the roles (the assignment of the first block: every block has the same
-// columns) and either added to the sufficient statistics (the stream) or
-// kept. `--read blocks` streams from the first block; `--read auto` keeps the
-// blocks until the rows read make the trace take the Gram route at this and
-// every larger row count (gram_for_more_rows) and another block follows,
-// then streams: so a table that streams gives the very path of reading it
-// whole, and a table that ends sooner (one block, or rows too few to
-// qualify) or never qualifies is traced from its kept rows in memory, as
-// `--read whole` would trace it.
+// A table read a block at a time (read_table_blocks) in one arithmetic.
+// Each block is split by the roles (the assignment of the first block:
+// every block has the same columns; double takes the reader's values, other
+// arithmetics parse the block's decimal text exactly) and either added to
+// the sufficient statistics (the stream) or kept. `--read blocks` streams
+// from the first block; `--read auto` keeps the blocks until the rows read
+// make the trace take the Gram route at this and every larger row count
+// (gram_for_more_rows) and another block follows, then streams: so a table
+// that streams gives the very path of reading it whole, and a table that
+// ends sooner (one block, or rows too few to qualify) or never qualifies is
+// traced from its kept rows in memory, as `--read whole` would trace it.
+// Several readings may share one loaded table and take the same blocks
+// (verify: its high precision first, as it parses the text, then double,
+// which moves the values out).
+template <class Scalar>
 class BlockReading {
  public:
   BlockReading(const ReadPlan& plan, bool forced, LoadedTable& loaded)
@@ -388,20 +396,20 @@ class BlockReading {
   // The reader's callback: one block of rows.
   void take(io::Table& block) {
     if (!columns_) begin(block);
-    Piece piece;
-    piece.split = io::split_table(block, *columns_);
+    Piece<Scalar> piece;
+    piece.data = table_data<Scalar>(block, *columns_, loaded_.shown_name);
     piece.lines = block.row_lines;
     for (auto& mark : piece.lines.marks) mark.first += block.first_row;
-    spread_.add(piece.split.y, piece.split.weights);
+    if constexpr (std::is_same_v<Scalar, double>) spread_.add(piece.data.y, piece.data.w);
     // The rows before this block qualify and more follow: stream from here.
-    if (!stream_ && (forced_ || (rows_ > 0 && gram_for_more_rows<double>(static_cast<Index>(rows_), predictors(),
+    if (!stream_ && (forced_ || (rows_ > 0 && gram_for_more_rows<Scalar>(static_cast<Index>(rows_), predictors(),
                                                                           loaded_.options)))) {
       stream_.emplace(predictors(), columns_->weights >= 0);
     }
     rows_ += block.rows;
     kept_.push_back(std::move(piece));
     if (stream_) {
-      for (Piece& kept : kept_) add_to_stream(kept);
+      for (Piece<Scalar>& kept : kept_) add_to_stream(kept);
       kept_.clear();
     }
   }
@@ -409,21 +417,21 @@ class BlockReading {
   // After the last block: the path, from the statistics when the table
   // streamed, else from the kept rows in memory. `loaded.table` holds the
   // reader's table without values (names, counts, every row's line).
-  Path<double> trace() {
-    refuse_nothing_to_trace(spread_, loaded_.options, loaded_.shown_name, plan_.args.response);
-    if (!stream_) return trace_kept();
+  Path<Scalar> trace() {
+    const std::string in = std::is_same_v<Scalar, double> ? "" : " in " + io::arithmetic_name<Scalar>();
+    if (!stream_) return trace_kept(in);
     loaded_.context.block_rows = plan_.args.block_rows;
-    const SufficientStatistics<double> statistics = finish_stream();
+    const SufficientStatistics<Scalar> statistics = finish_stream();
     return trace_with_messages(
         loaded_,
-        fmt::format("tracing the path from the statistics ({} rows, {} predictors)", rows_, predictors()),
+        fmt::format("tracing the path{} from the statistics ({} rows, {} predictors)", in, rows_, predictors()),
         [&] { return detail::trace_rows_statistics(statistics, static_cast<Index>(rows_), loaded_.options); });
   }
 
   // The statistics of the rows streamed (--read blocks: every row); a bad
   // value found at the end is named as the whole reading names it.
-  SufficientStatistics<double> finish_stream() {
-    SufficientStatistics<double> statistics =
+  SufficientStatistics<Scalar> finish_stream() {
+    SufficientStatistics<Scalar> statistics =
         with_data_messages(loaded_.table.row_lines, [&] { return stream_->finish(); });
     stream_.reset();
     return statistics;
@@ -431,7 +439,7 @@ class BlockReading {
 
   // The predictors' names (after the first block).
   const std::vector<std::string>& predictor_names() const { return columns_->names; }
-  // Kept rows read, and their responses' spread.
+  // Kept rows read, and (double) their responses' spread.
   std::size_t rows() const { return rows_; }
   const ResponseSpread& spread() const { return spread_; }
 
@@ -459,40 +467,40 @@ class BlockReading {
     }
   }
 
-  void add_to_stream(Piece& piece) {
+  void add_to_stream(Piece<Scalar>& piece) {
     with_data_messages(piece.lines, [&] {
-      stream_->add(piece.split.x, piece.split.y, piece.split.weights);
+      stream_->add(piece.data.x, piece.data.y, piece.data.w);
       return 0;
     });
   }
 
   // The kept rows joined into one design, each piece freed once copied.
-  Path<double> trace_kept() {
-    TableData<double> d;
+  Path<Scalar> trace_kept(const std::string& in) {
+    TableData<Scalar> d;
     const bool weighted = columns_->weights >= 0;
     d.x.resize(static_cast<Index>(rows_), predictors());
     d.y.resize(static_cast<Index>(rows_));
     if (weighted) d.w.resize(static_cast<Index>(rows_));
     Index at = 0;
-    for (Piece& piece : kept_) {
-      const Index m = piece.split.y.size();
-      d.x.middleRows(at, m) = piece.split.x;
-      d.y.segment(at, m) = piece.split.y;
-      if (weighted) d.w.segment(at, m) = piece.split.weights;
+    for (Piece<Scalar>& piece : kept_) {
+      const Index m = piece.data.y.size();
+      d.x.middleRows(at, m) = piece.data.x;
+      d.y.segment(at, m) = piece.data.y;
+      if (weighted) d.w.segment(at, m) = piece.data.w;
       at += m;
-      piece = Piece();
+      piece = Piece<Scalar>();
     }
     kept_.clear();
     return trace_table_data(loaded_, d,
-                            fmt::format("tracing the path ({} rows, {} predictors)", d.x.rows(), d.x.cols()));
+                            fmt::format("tracing the path{} ({} rows, {} predictors)", in, d.x.rows(), d.x.cols()));
   }
 
   const ReadPlan& plan_;
   const bool forced_;
   LoadedTable& loaded_;
   std::optional<io::ColumnAssignment> columns_;
-  std::vector<Piece> kept_;
-  std::optional<StatisticsAccumulator<double>> stream_;
+  std::vector<Piece<Scalar>> kept_;
+  std::optional<StatisticsAccumulator<Scalar>> stream_;
   ResponseSpread spread_;
   std::size_t rows_ = 0;
 };
@@ -501,10 +509,11 @@ class BlockReading {
 TracedTable trace_in_blocks(const std::string& table_path, const ReadPlan& plan, const Global& global) {
   LoadedTable loaded;
   const io::TableReadOptions read = start_reading(loaded, table_path, plan.read, global);
-  BlockReading reading(plan, plan.args.reading == "blocks", loaded);
+  BlockReading<double> reading(plan, plan.args.reading == "blocks", loaded);
   loaded.table = io::read_table_blocks(table_path, read, plan.args.block_rows,
                                        [&](io::Table& block) { reading.take(block); });
   describe_columns(loaded, plan.roles);  // the context of the reader's whole table
+  refuse_nothing_to_trace(reading.spread(), loaded.options, loaded.shown_name, plan.args.response);
   TracedTable out;
   out.path = reading.trace();
   out.context = std::move(loaded.context);
@@ -524,7 +533,7 @@ struct ShardRead {
 ShardRead read_shard(const std::string& path, const ReadPlan& plan, const Global& global) {
   LoadedTable loaded;
   const io::TableReadOptions read = start_reading(loaded, path, plan.read, global);
-  BlockReading reading(plan, true, loaded);
+  BlockReading<double> reading(plan, true, loaded);
   loaded.table = io::read_table_blocks(path, read, plan.args.block_rows,
                                        [&](io::Table& block) { reading.take(block); });
   ShardRead out;
@@ -737,6 +746,38 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   refuse_empty_path(out.path, out.context, loaded.shown_name);
   return out;
 }
+
+template <class High>
+TracedTwice<High> trace_twice(const std::string& table_path, const ModelArgs& args, const Global& global) {
+  const ReadPlan plan = plan_reading(args, true);
+  if (!reads_whole(plan.args)) {
+    LoadedTable loaded;
+    const io::TableReadOptions read = start_reading(loaded, table_path, plan.read, global);
+    // The high precision takes each block first: it parses the decimal
+    // text; double then moves the reader's values out of the block.
+    BlockReading<High> high(plan, plan.args.reading == "blocks", loaded);
+    BlockReading<double> low(plan, plan.args.reading == "blocks", loaded);
+    loaded.table = io::read_table_blocks(table_path, read, plan.args.block_rows, [&](io::Table& block) {
+      high.take(block);
+      low.take(block);
+    });
+    describe_columns(loaded, plan.roles);
+    Path<High> high_path = high.trace();
+    Path<double> low_path = low.trace();
+    return {std::move(loaded), std::move(high_path), std::move(low_path)};
+  }
+  LoadedTable loaded = load_planned(table_path, plan, global);
+  // The high-precision path first: it reads the decimal text; the double
+  // trace then moves the reader's doubles out of the table.
+  Path<High> high_path = trace_loaded<High>(loaded);
+  Path<double> low_path = trace_loaded<double>(loaded);
+  return {std::move(loaded), std::move(high_path), std::move(low_path)};
+}
+
+template TracedTwice<float50> trace_twice<float50>(const std::string&, const ModelArgs&, const Global&);
+#ifdef KNOTPATH_HAVE_MPFR
+template TracedTwice<mpfr_float> trace_twice<mpfr_float>(const std::string&, const ModelArgs&, const Global&);
+#endif
 
 TracedTable trace_tables(const std::vector<std::string>& tables, const ModelArgs& args, const Global& global) {
   if (tables.size() == 1) {
