@@ -48,3 +48,38 @@ def test_ctrl_c_stops_a_long_trace_within_a_fraction_of_a_second(tmp_path):
     # One knot (15 ms) plus the 50 ms polling interval, with room for a
     # shared machine; without the hook the trace would run to its end first.
     assert stopped_after < 1.0, (stopped_after, out)
+
+
+def test_other_python_threads_run_while_a_trace_works():
+    # The trace releases the GIL: a Python thread keeps counting meanwhile.
+    # Were the GIL held, the counter would stand still for the whole trace.
+    import threading
+
+    import numpy as np
+
+    import knotpath
+
+    rng = np.random.default_rng(9)
+    x = np.asfortranarray(rng.standard_normal((300, 8000)))  # a dense copy, 200 knots: 0.3 to 2 s
+    y = rng.standard_normal(300)
+    done = threading.Event()
+    ticks = []
+
+    def count():
+        while not done.is_set():
+            ticks.append(time.monotonic())
+            time.sleep(0.001)
+
+    counter = threading.Thread(target=count)
+    counter.start()
+    time.sleep(0.05)
+    start = time.monotonic()
+    knotpath.trace(x, y, max_knots=200, storage="dense")
+    end = time.monotonic()
+    done.set()
+    counter.join()
+    during = [t for t in ticks if start <= t <= end]
+    assert end - start > 0.2, "the trace was too short to tell"
+    # At least one tick per 20 ms of trace (the counter asks for one per ms;
+    # a shared machine may delay it).
+    assert len(during) >= (end - start) / 0.02, (len(during), end - start)
