@@ -26,11 +26,13 @@ int main(int argc, char** argv) {
   kp::Matrix<double> x(n, p);
   kp::Vector<double> y(n);
   std::ifstream in(argv[1], std::ios::binary);
-  in.read(reinterpret_cast<char*>(x.data()), static_cast<std::streamsize>(sizeof(double) * x.size()));
-  in.read(reinterpret_cast<char*>(y.data()), static_cast<std::streamsize>(sizeof(double) * y.size()));
+  in.read(reinterpret_cast<char*>(x.data()),
+          static_cast<std::streamsize>(sizeof(double) * x.size()));
+  in.read(reinterpret_cast<char*>(y.data()),
+          static_cast<std::streamsize>(sizeof(double) * y.size()));
   if (!in) {
-    std::fprintf(stderr, "cannot read %ld x %ld doubles and the response from %s\n", static_cast<long>(n),
-                 static_cast<long>(p), argv[1]);
+    std::fprintf(stderr, "cannot read %ld x %ld doubles and the response from %s\n",
+                 static_cast<long>(n), static_cast<long>(p), argv[1]);
     return 2;
   }
   kp::TraceOptions options;
@@ -39,7 +41,8 @@ int main(int argc, char** argv) {
   std::vector<double> times;
   std::size_t knots = 0;
   for (int r = 0; r < repeats; ++r)
-    times.push_back(knotpath::bench::seconds([&] { knots = kp::trace<double>(x, y, options).knots().size(); }));
+    times.push_back(
+        knotpath::bench::seconds([&] { knots = kp::trace<double>(x, y, options).knots().size(); }));
   std::printf("%.9f %zu\n", knotpath::bench::median(times), knots);
   return 0;
 }
