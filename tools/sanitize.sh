@@ -39,8 +39,8 @@ cmake -S . -B "$build" \
   -DCMAKE_EXE_LINKER_FLAGS="-fsanitize=address,undefined" \
   -DKNOTPATH_WARNINGS_AS_ERRORS=ON \
   -DKNOTPATH_BUILD_BENCHMARKS=OFF \
-  -DKNOTPATH_BUILD_EXAMPLES=OFF \
   -DKNOTPATH_BUILD_PYTHON=OFF \
+  -DKNOTPATH_BUILD_EXAMPLES=OFF \
   -DKNOTPATH_BUILD_TESTS=ON
 cmake --build "$build" -j "$jobs"
 built=$(date +%s)
