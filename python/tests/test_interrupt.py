@@ -16,9 +16,9 @@ LONG_TRACE = textwrap.dedent("""
     rng = np.random.default_rng(5)
     x = rng.standard_normal((500, 30000)).T.copy().T  # Fortran-ordered, 120 MB
     y = rng.standard_normal(500)
-    print("tracing", flush=True)
     start = time.monotonic()
-    try:
+    try:  # a signal before the trace starts is a KeyboardInterrupt too (not a failure)
+        print("tracing", flush=True)
         knotpath.trace(x, y)
     except KeyboardInterrupt:
         print(f"interrupted after {time.monotonic() - start:.2f} s", flush=True)
@@ -80,6 +80,6 @@ def test_other_python_threads_run_while_a_trace_works():
     counter.join()
     during = [t for t in ticks if start <= t <= end]
     assert end - start > 0.2, "the trace was too short to tell"
-    # At least one tick per 20 ms of trace (the counter asks for one per ms;
-    # a shared machine may delay it).
-    assert len(during) >= (end - start) / 0.02, (len(during), end - start)
+    # At least one tick per 50 ms of trace (the counter asks for one per ms;
+    # a loaded machine may delay it); with the GIL held there is one or two.
+    assert len(during) >= max(5, (end - start) / 0.05), (len(during), end - start)
