@@ -147,9 +147,9 @@ def _per_predictor(value, names, field, default, p):
     return list(value)
 
 
-def _options(data, p, predictor_names=None, penalty_scales=None, unpenalized=(), left_out=(),
-             sign_constraints=None, **fixed):
-    """The keyword arguments of a trace as TraceOptions fields."""
+def _options(data, p, penalty_scales=None, unpenalized=(), left_out=(), sign_constraints=None, **fixed):
+    """The keyword arguments of a trace as TraceOptions fields (names resolved
+    against the data's predictor names; the other fields passed as given)."""
     names = data.names
     options = dict(fixed)
     options["predictor_names"] = names
@@ -169,15 +169,16 @@ def _trace_options(data, kwargs):
     return _options(data, p, **kwargs)
 
 
-_TRACE_DEFAULTS = dict(variant="lasso", with_intercept=True, standardize=True, ridge=0.0, max_knots=0,
-                       min_penalty=0.0, max_active=0, storage="automatic", threads=1,
-                       collinearity_tolerance=None, tie_tolerance=None, max_steps=0, suspect_threshold=None)
+# The TraceOptions fields a trace takes as keyword arguments (defaults: the
+# library's, listed in trace()'s docstring).
+_TRACE_FIELDS = {"variant", "with_intercept", "standardize", "ridge", "max_knots", "min_penalty", "max_active",
+                 "storage", "threads", "collinearity_tolerance", "tie_tolerance", "max_steps", "suspect_threshold",
+                 "penalty_scales", "unpenalized", "left_out", "sign_constraints"}
 
 
 def _split_options(kwargs):
-    known = set(_TRACE_DEFAULTS) | {"penalty_scales", "unpenalized", "left_out", "sign_constraints"}
     for key in kwargs:
-        if key not in known:
+        if key not in _TRACE_FIELDS:
             raise InvalidOption(f"knotpath: option '{key}': is not an option of a trace")
     return kwargs
 
