@@ -92,7 +92,7 @@ def test_criteria_use_the_least_squares_noise_variance(diabetes):
     assert from_path["noise_variance"] == pytest.approx(sigma2, rel=1e-9)
 
 
-def test_entry_tests_give_the_covariance_statistics_exponential_tail(diabetes):
+def test_entry_tests_refer_the_covariance_statistic_to_scipys_f_distribution(diabetes):
     names, x, y = diabetes
     path = knotpath.trace(x, y, predictor_names=names)
     tests = knotpath.entry_tests(path, x, y)
