@@ -97,6 +97,13 @@ double mu_as_double(const Path<Scalar>& path, const Scalar& lambda);
 template <class Scalar>
 std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss);
 
+/// The word of a knot's event in every output (the knot table's `event`
+/// column, the JSON document, the audit, the Python module): to_string of
+/// its EventKind, except the last row, which says why the path ended
+/// (to_string(StopReason): "end", "stop-max-knots", ...).
+template <class Scalar>
+std::string event_word(const Path<Scalar>& path, const Knot<Scalar>& knot);
+
 /// Writes the knot table: header
 /// `step,penalty,mu,event,predictor,active,l1_norm,r_squared,intercept,NAMES...`
 /// then one row per knot (see DESIGN.md). `mu` is Path::mu_of(penalty), the
