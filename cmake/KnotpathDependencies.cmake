@@ -67,4 +67,16 @@ foreach(_lib GMP MPFR)
       INTERFACE_INCLUDE_DIRECTORIES "${KNOTPATH_${_lib}_INCLUDE}")
   endif()
 endforeach()
-message(STATUS "knotpath: GMP rationals ${KNOTPATH_HAVE_GMP}, MPFR floats ${KNOTPATH_HAVE_MPFR}, gzip tables ${KNOTPATH_HAVE_ZLIB}")
+# Optional MPI (Debian libopenmpi-dev and openmpi-bin): the program reads the
+# shards of a table on the processes of an MPI job, and the MPI tests run
+# under mpiexec. Without it everything else builds, and the MPI tests are
+# registered as skipped with a message.
+option(KNOTPATH_USE_MPI "Build the program and its MPI tests with MPI when available" ON)
+set(KNOTPATH_HAVE_MPI OFF)
+if(KNOTPATH_USE_MPI AND KNOTPATH_BUILD_CLI)
+  find_package(MPI COMPONENTS CXX QUIET)
+  if(MPI_CXX_FOUND AND MPIEXEC_EXECUTABLE)
+    set(KNOTPATH_HAVE_MPI ON)
+  endif()
+endif()
+message(STATUS "knotpath: GMP rationals ${KNOTPATH_HAVE_GMP}, MPFR floats ${KNOTPATH_HAVE_MPFR}, gzip tables ${KNOTPATH_HAVE_ZLIB}, MPI ${KNOTPATH_HAVE_MPI}")

@@ -106,6 +106,13 @@ std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss) {
   return Scalar(Scalar(1) - rss / tss);
 }
 
+template <class Scalar>
+std::string event_word(const Path<Scalar>& path, const Knot<Scalar>& knot) {
+  if (knot.event == EventKind::end || knot.event == EventKind::stop)
+    return to_string(path.stop_reason());
+  return to_string(knot.event);
+}
+
 namespace {
 
 // CSV field: quoted when it holds a delimiter, quote or line break.
@@ -117,13 +124,6 @@ std::string csv_field(const std::string& s) {
     out += c;
   }
   return out + "\"";
-}
-
-template <class Scalar>
-std::string event_name(const Path<Scalar>& path, const Knot<Scalar>& knot) {
-  if (knot.event == EventKind::end || knot.event == EventKind::stop)
-    return to_string(path.stop_reason());
-  return to_string(knot.event);
 }
 
 std::string name_of(const std::vector<std::string>& names, Index j) {
@@ -273,7 +273,7 @@ void write_knot_table(std::ostream& out, const Path<Scalar>& path,
     // so theirs is the exact lambda / n.
     const Scalar mu = path.mu_of(knot.penalty);
     out << knot.step << ',' << number_text(knot.penalty) << ',' << number_text(mu) << ','
-        << event_name(path, knot) << ','
+        << event_word(path, knot) << ','
         << csv_field(name_of(names, knot.predictor)) << ',' << knot.active_count << ','
         << number_text(knot.penalized_l1) << ',' << (r2 ? number_text(*r2) : std::string()) << ','
         << number_text(knot.intercept);
@@ -324,6 +324,9 @@ json data_json(const Path<Scalar>& path, const RunContext& context) {
   data["rows_read"] = context.rows_read;
   data["rows_dropped_missing"] = context.rows_dropped;
   data["rows_used"] = prep.used_observations;
+  data["reading"] = context.block_rows == 0 ? "whole" : "blocks";
+  data["block_rows"] = context.block_rows == 0 ? json(nullptr) : json(context.block_rows);
+  data["shards"] = context.shards;
   data_numbers.put(data, "weight_sum", prep.weight_sum);
   data["predictors"] = context.predictor_names;
   data["text_columns_skipped"] = context.text_columns;
@@ -376,7 +379,7 @@ json knot_json(const Path<Scalar>& path, const Knot<Scalar>& knot,
   k["step"] = knot.step;
   knot_numbers.put(k, "penalty", knot.penalty);
   k["mu"] = mu_as_double(path, knot.penalty);
-  k["event"] = event_name(path, knot);
+  k["event"] = event_word(path, knot);
   k["predictor"] = knot.predictor >= 0 ? json(name_of(names, knot.predictor)) : json(nullptr);
   k["active"] = knot.active_count;
   knot_numbers.put(k, "l1_norm", knot.penalized_l1);
@@ -507,6 +510,15 @@ std::vector<std::string> audit_notes(const Path<Scalar>& path, const RunContext&
     notes.push_back("text columns skipped: " + list);
   }
   for (const auto& note : context.table_notes) notes.push_back(note);
+  if (!context.shards.empty())
+    notes.push_back(fmt::format("table read from {} shards, each in blocks of {} rows into its own "
+                                "statistics, merged in a fixed pairwise tree over the shards in the order "
+                                "given (the same path for any number of processes)",
+                                context.shards.size(), context.block_rows));
+  else if (context.block_rows != 0)
+    notes.push_back(fmt::format("table read in blocks of {} rows into its sufficient statistics "
+                                "(the path of the Gram storage; memory independent of the row count)",
+                                context.block_rows));
   return notes;
 }
 
@@ -570,7 +582,7 @@ std::string audit_text(const Path<Scalar>& path, const RunContext& context) {
     const auto r2 = r_squared(path, knot.rss);
     rows.push_back(
         {{fmt::format("{}", knot.step), fmt::format("{:.6g}", nearest_double(knot.penalty)),
-          fmt::format("{:.6g}", mu_as_double(path, knot.penalty)), event_name(path, knot),
+          fmt::format("{:.6g}", mu_as_double(path, knot.penalty)), event_word(path, knot),
           name_of(names, knot.predictor), fmt::format("{}", knot.active_count),
           fmt::format("{:.6g}", nearest_double(knot.penalized_l1)),
           r2 ? fmt::format("{:.4f}", nearest_double(*r2)) : std::string("-"),
@@ -644,6 +656,7 @@ std::string coefficient_table(const Solution<Scalar>& solution, const Path<Scala
   template std::string arithmetic_name<Scalar>();                                                \
   template double mu_as_double<Scalar>(const Path<Scalar>&, const Scalar&);                      \
   template std::optional<Scalar> r_squared<Scalar>(const Path<Scalar>&, const Scalar&);          \
+  template std::string event_word<Scalar>(const Path<Scalar>&, const Knot<Scalar>&);             \
   template void write_knot_table<Scalar>(std::ostream&, const Path<Scalar>&,                     \
                                          const std::vector<std::string>&);                       \
   template nlohmann::ordered_json path_document<Scalar>(const Path<Scalar>&, const RunContext&); \

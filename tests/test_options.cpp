@@ -600,4 +600,27 @@ TEST(Validation, BadWeightsAreInvalidData) {
   EXPECT_THROW((void)knotpath::trace<double>(x, y, {}, Vector<double>::Ones(3)), knotpath::invalid_data);
 }
 
+// TraceOptions::interrupt_requested (issue 21): asked once per homotopy step
+// (one knot, or one group of simultaneous knots), it changes no number while
+// it answers false, and true abandons the trace with knotpath::interrupted.
+TEST(Interruption, AskedOncePerStepAndTrueAbandonsTheTrace) {
+  const kt::Problem prob = kt::ar1_problem(40, 8, 0.3, 5);
+  const auto plain = knotpath::trace<double>(prob.x, prob.y);
+  knotpath::TraceOptions o;
+  std::size_t asked = 0;
+  o.interrupt_requested = [&asked] {
+    ++asked;
+    return false;
+  };
+  const auto polled = knotpath::trace<double>(prob.x, prob.y, o);
+  ASSERT_EQ(polled.knots().size(), plain.knots().size());
+  for (std::size_t k = 0; k < plain.knots().size(); ++k)
+    EXPECT_EQ(polled.knots()[k].penalty, plain.knots()[k].penalty);  // the same bits
+  EXPECT_EQ(asked, plain.knots().size() - 1);  // every step after the start knot, no ties here
+  asked = 0;
+  o.interrupt_requested = [&asked] { return ++asked > 3; };
+  EXPECT_THROW((void)knotpath::trace<double>(prob.x, prob.y, o), knotpath::interrupted);
+  EXPECT_EQ(asked, 4u);
+}
+
 }  // namespace

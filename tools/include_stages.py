@@ -20,7 +20,7 @@ STAGES = [
     ("foundation", ["errors.hpp", "scaling.hpp", "detail/scalar.hpp", "detail/parallel.hpp",
                     "detail/centring.hpp", "detail/random.hpp", "detail/truncated_gaussian.hpp"]),
     ("options", ["options.hpp", "demo.hpp"]),
-    ("preparation", ["prepare.hpp", "statistics.hpp"]),
+    ("preparation", ["prepare.hpp", "statistics.hpp", "shards.hpp", "mpi_statistics.hpp"]),
     ("operators and factor", ["design/concept.hpp", "design/dense.hpp", "design/dense_view.hpp",
                               "design/gram.hpp", "design/sparse.hpp", "factor.hpp"]),
     ("prepared problem", ["problem.hpp"]),

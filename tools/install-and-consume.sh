@@ -16,6 +16,19 @@ test -f "$work/prefix/include/knotpath/version.hpp"
 test -x "$work/prefix/bin/knotpath"
 "$work/prefix/bin/knotpath" --version
 
+# The Python module, when built: `cmake --install` puts the package in the
+# prefix's site folder (KNOTPATH_PYTHON_INSTALL_DIR), where the interpreter
+# imports it (python/CMakeLists.txt); imported from there, not the build tree.
+if grep -q '^KNOTPATH_BUILD_PYTHON:BOOL=ON' "$build/CMakeCache.txt"; then
+  site=$(sed -n 's/^KNOTPATH_PYTHON_INSTALL_DIR:STRING=//p' "$build/CMakeCache.txt")
+  python=$(sed -n 's/^_Python3_EXECUTABLE:INTERNAL=//p' "$build/CMakeCache.txt")
+  (cd "$work" && PYTHONPATH="$work/prefix/$site" "$python" -c "
+import numpy, knotpath
+assert knotpath.__file__.startswith('$work/prefix/'), knotpath.__file__
+path = knotpath.trace(numpy.eye(4)[:, :3], numpy.arange(4.0))
+assert path.stop_reason == 'end', path")
+fi
+
 # The installed CMake and pkg-config files carry no absolute path (a library
 # of the building machine such as /usr/lib/.../libgmp.so would break on
 # another one): every path is relative to the installed prefix.

@@ -11,8 +11,10 @@ packages=(
   libcli11-dev libfmt-dev nlohmann-json3-dev zlib1g-dev
   libtinyxml2-dev libpng-dev librsvg2-bin pkg-config
   chromium  # headless: tests/browser_report.py renders the select report
-  python3 python3-cvxopt python3-numpy python3-scipy doxygen
+  python3 python3-cvxopt python3-numpy doxygen
+  python3-dev pybind11-dev python3-pytest python3-pandas python3-scipy  # the Python module (python/)
   clang libclang-rt-14-dev
+  libopenmpi-dev openmpi-bin  # MPI: tables spread over the processes of a job
 )
 
 missing=()

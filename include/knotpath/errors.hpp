@@ -96,6 +96,14 @@ class invalid_query : public error {
   explicit invalid_query(const std::string& why) : error("knotpath: " + why) {}
 };
 
+/// A trace was abandoned because TraceOptions::interrupt_requested asked
+/// for it (a user's Ctrl-C in a front end); no path was made.
+class interrupted : public error {
+ public:
+  /// what() reads "knotpath: the trace was interrupted".
+  interrupted() : error("knotpath: the trace was interrupted") {}
+};
+
 /// A broken contract between parts of knotpath or a user's own design
 /// operator (sizes that disagree, a square root asked of exact arithmetic):
 /// a bug to report, never a property of the data.

@@ -189,6 +189,7 @@ class Homotopy {
         stop(StopReason::step_limit);
         break;
       }
+      if (options_.interrupt_requested && options_.interrupt_requested()) throw interrupted();
       const Index k = active_count();
       solve_direction();
       design_.direction_correlations(std::span<const Index>(active_), d_.head(k), a_);

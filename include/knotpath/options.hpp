@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstddef>
+#include <functional>
 #include <limits>
 #include <stdexcept>
 #include <string>
@@ -152,6 +153,15 @@ struct TraceOptions {
   /// carries them (Path::predictor_name(), Path::named_coefficients()); they
   /// change no number of the trace. Each name must be non-empty and unique.
   std::vector<std::string> predictor_names;
+  /// Asked once per knot, when set, whether the trace should be abandoned
+  /// (empty, the default: never asked, no cost). Returning true makes the
+  /// trace throw knotpath::interrupted; nothing is returned. For front ends
+  /// that let a user stop a long trace (the Python module polls Ctrl-C
+  /// through it). Any callable is valid, so validate() has nothing to check;
+  /// it changes no number of the trace, is not saved with a path, and is
+  /// called on the thread that traces (cross-validation's fold threads
+  /// included), so it must be safe to call from any thread.
+  std::function<bool()> interrupt_requested;
 
   /// Checks every field against the number of predictors `p` and throws
   /// invalid_option naming the first bad field.

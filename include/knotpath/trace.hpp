@@ -62,6 +62,19 @@ Storage choose_storage(Index n, Index p, const TraceOptions& options, std::size_
   return Storage::dense;
 }
 
+/// Whether choose_storage() takes the Gram route for n rows of p predictors
+/// and for every larger row count (the clause for small designs holds for
+/// no large n, so the rule is tested at n and at a row count where that
+/// clause is false). A reader of rows in blocks that has seen n rows can
+/// then trace from its streamed statistics and get the very path trace()
+/// would give for the whole table (the program's automatic --read).
+template <class Scalar>
+bool gram_for_more_rows(Index n, Index p, const TraceOptions& options) {
+  const Index large = std::max<Index>(n, Index{1} << 26);
+  return choose_storage<Scalar>(n, p, options) == Storage::gram &&
+         choose_storage<Scalar>(large, p, options) == Storage::gram;
+}
+
 /// Traces the path of a prepared problem: `design` is any DesignOperator
 /// over the prepared columns described by `prep` (prep.columns[k] is the
 /// user's index of column k). Throws invalid_option (options.validate()).

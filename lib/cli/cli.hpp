@@ -4,6 +4,7 @@
 #include <atomic>
 #include <condition_variable>
 #include <cstddef>
+#include <exception>
 #include <filesystem>
 #include <functional>
 #include <iosfwd>
@@ -86,7 +87,26 @@ struct ModelArgs {
   std::size_t max_levels = 20;          // --max-levels of one expanded column
   std::size_t max_columns = 100000;  // reader's limit on header width
   std::size_t threads = 1;           // TraceOptions::threads (select: also the folds)
+  std::string reading = "auto";      // --read: auto, whole or blocks (commands that stream)
+  std::size_t block_rows = 4096;     // --block-rows: rows per block read
 };
+
+/// The exit status and message of a run stopped by an exception.
+struct ErrorOutcome {
+  int code = 0;         ///< exit status
+  std::string message;  ///< for print_error
+};
+
+/// The one mapping of exceptions to exit statuses and messages (main() and
+/// the processes of a sharded reading): failure keeps its code; a table
+/// error is exit_io when the input could not be read, else exit_bad_input;
+/// out of memory and anything else are internal errors.
+ErrorOutcome error_outcome(std::exception_ptr error);
+
+/// Adds --read and --block-rows (how the table is read: whole, or a block of
+/// rows at a time into the sufficient statistics) to a command whose
+/// tracing goes through trace_table().
+void add_reading_options(CLI::App& command, ModelArgs& args);
 
 /// The items of a list option's values (--use, --drop, --na, --indicators,
 /// --nonnegative, --nonpositive, --penalty-scale, --unpenalized, ...), the one home of the
@@ -191,6 +211,14 @@ std::string data_message(const invalid_data& e, const std::string& source, const
 /// Reads the table and traces its path (progress on stderr when enabled).
 TracedTable trace_table(const std::string& table, const ModelArgs& args, const Global& global);
 
+/// trace_table() for the tables of trace and at: one table as trace_table()
+/// reads it (on rank 0 of an MPI job; the other processes end quietly), or
+/// several as the shards of one table, each read in blocks into its
+/// statistics by the process that owns it (shards.hpp), the statistics
+/// merged in the shard tree and traced on rank 0: the same path for any
+/// number of processes. Processes other than rank 0 end with quiet_exit.
+TracedTable trace_tables(const std::vector<std::string>& tables, const ModelArgs& args, const Global& global);
+
 class Progress;
 
 /// A table read and checked against the model options, not yet traced: the
@@ -208,6 +236,22 @@ struct LoadedTable {
 /// each cell's decimal text for exact parsing into other arithmetics.
 LoadedTable load_table(const std::string& table, const ModelArgs& args, const Global& global,
                        bool keep_decimal_text);
+
+/// A table traced in double and in a higher precision (verify).
+template <class High>
+struct TracedTwice {
+  LoadedTable loaded;  ///< the table's context and options (values taken)
+  Path<High> high;     ///< traced in High from the cells' decimal text parsed exactly
+  Path<double> low;    ///< traced in double from the reader's values
+};
+
+/// Reads the table and traces it in High and in double (verify), the
+/// table read whole or a block at a time by --read (trace_table's rules:
+/// blocks go into one stream of statistics per arithmetic, so that a tall
+/// table is never held in high precision). Compiled for float50 and, with
+/// MPFR, mpfr_float.
+template <class High>
+TracedTwice<High> trace_twice(const std::string& table, const ModelArgs& args, const Global& global);
 
 /// --precision and --digits of trace and at.
 struct PrecisionArgs {

@@ -9,6 +9,7 @@
 #include <fmt/format.h>
 
 #include "cli.hpp"
+#include "ranks.hpp"
 #include "path_checks.hpp"
 #include "point_answer.hpp"
 #include "report_folder.hpp"
@@ -20,7 +21,7 @@ namespace knotpath::cli {
 namespace {
 
 struct TraceArgs {
-  std::string table;
+  std::vector<std::string> tables;  // one table, or the shards of one
   ModelArgs model;
   PrecisionArgs precision;
   std::string knots_file;
@@ -30,7 +31,7 @@ struct TraceArgs {
 };
 
 struct AtArgs {
-  std::string table;
+  std::vector<std::string> tables;  // one table, or the shards of one (none with --path)
   ModelArgs model;
   PrecisionArgs precision;
   PointArgs point;     // --choice only with --path: a penalty saved with it
@@ -84,15 +85,37 @@ void warn_if_suspect(const Path<double>& path, const Solution<double>& solution,
         io::suspect_advice_text(context));
 }
 
+// The one table of a trace in another arithmetic (read whole, by rank 0 of
+// an MPI job; the other processes end quietly).
+const std::string& single_table(const std::vector<std::string>& tables) {
+  if (tables.size() != 1)
+    throw failure(exit_usage, "several tables (shards) are traced in double precision: --precision reads one "
+                              "table whole");
+  if (Ranks::world().rank() != 0) throw quiet_exit{0};
+  return tables.front();
+}
+
+// Tables are read in blocks in double only; another arithmetic reads the
+// table whole (the automatic reading does so without a word).
+void refuse_blocks_with_precision(const ModelArgs& model) {
+  if (model.reading == "blocks")
+    throw failure(exit_usage, "--read blocks traces in double precision: with --precision the table is "
+                              "read whole (--read whole or auto)");
+}
+
 }  // namespace
 
 CLI::App* add_trace_command(CLI::App& app, Global& global) {
   auto args = std::make_shared<TraceArgs>();
   CLI::App* command = app.add_subcommand(
       "trace", "Trace the whole path of a table and print its audit (one line per knot)");
-  command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
+  command
+      ->add_option("TABLE", args->tables,
+                   "Delimited text table with a header row; - reads stdin. Several tables are read as "
+                   "the shards of one (the same columns; see --read)")
       ->required();
   add_model_options(*command, args->model);
+  add_reading_options(*command, args->model);
   add_precision_options(*command, args->precision);
   command->add_option("--knots", args->knots_file, "Write the knot table (CSV) to this file")
       ->group("Output");
@@ -112,14 +135,15 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
       "  knotpath trace patients.csv --response progression --save model.kpath\n");
   command->callback([args, &global] {
     if (args->precision.precision != "double" || args->precision.digits != 0) {
+      refuse_blocks_with_precision(args->model);
       if (!args->report_dir.empty())
         throw failure(exit_usage,
                       "--report draws the double path: it cannot be combined with --precision");
-      global.status = trace_with_precision(args->table, args->model, args->precision,
+      global.status = trace_with_precision(single_table(args->tables), args->model, args->precision,
                                            args->knots_file, args->json_file, args->save_file, global);
       return;
     }
-    TracedTable traced = trace_table(args->table, args->model, global);
+    TracedTable traced = trace_tables(args->tables, args->model, global);
     require_finite_path(traced.path);
     std::cout << io::audit_text(traced.path, traced.context);
     std::vector<std::string> written;
@@ -142,14 +166,16 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
   auto args = std::make_shared<AtArgs>();
   CLI::App* command = app.add_subcommand(
       "at", "Coefficients (original scale, intercept first) at one point of the path");
-  command->add_option("TABLE", args->table,
-                      "Delimited text table with a header row; - reads stdin (or give --path instead)");
+  command->add_option("TABLE", args->tables,
+                      "Delimited text table with a header row; - reads stdin (or give --path instead); "
+                      "several tables are read as the shards of one");
   command
       ->add_option("--path", args->saved,
                    "A path saved by knotpath trace --save or select --save, asked instead of tracing a "
                    "TABLE (in the arithmetic it was saved in)")
       ->group("Saved path");
   add_model_options(*command, args->model);
+  add_reading_options(*command, args->model);
   command->get_option("--response")->required(false);  // required with TABLE (checked below)
   add_precision_options(*command, args->precision);
   add_point_options(*command, args->point);
@@ -171,23 +197,24 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
     if (!args->point.any())
       throw failure(exit_usage, "at: give one of --penalty, --mu, --budget, --relative-budget or (with --path) --choice");
     if (!args->saved.empty()) {
-      if (!args->table.empty())
+      if (!args->tables.empty())
         throw failure(exit_usage, "at: give a TABLE to trace or --path SAVED, not both");
       refuse_trace_options(*command);
       global.status = at_saved_path(*args, output);
       return;
     }
-    if (args->table.empty()) throw failure(exit_usage, "at: give a TABLE to trace (or --path SAVED)");
+    if (args->tables.empty()) throw failure(exit_usage, "at: give a TABLE to trace (or --path SAVED)");
     if (args->model.response.empty()) throw failure(exit_usage, "at: --response is required with a TABLE");
     if (!args->point.choice.empty())
       throw failure(exit_usage,
                     "--choice names a penalty saved with a path: use it with --path SAVED (a file written "
                     "by knotpath select --save)");
     if (args->precision.precision != "double" || args->precision.digits != 0) {
-      global.status = at_with_precision(args->table, args->model, args->precision, args->point, output, global);
+      refuse_blocks_with_precision(args->model);
+      global.status = at_with_precision(single_table(args->tables), args->model, args->precision, args->point, output, global);
       return;
     }
-    TracedTable traced = trace_table(args->table, args->model, global);
+    TracedTable traced = trace_tables(args->tables, args->model, global);
     require_finite_path(traced.path);
     const Path<double>& path = traced.path;
     const auto [solution, asked] = answer_point(path, args->point);

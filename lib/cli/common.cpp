@@ -1,6 +1,6 @@
-// Shared pieces of the command-line program: model options, reading and
-// tracing a table, writing outputs, the exit status of a finished run, the
-// progress line.
+// Shared pieces of the command-line program: model options, writing
+// outputs, the exit status of a finished run, the progress line (reading and
+// tracing a table: table_loading.cpp).
 
 #include <fcntl.h>
 #include <unistd.h>
@@ -14,6 +14,7 @@
 #include <cstring>
 #include <sstream>
 #include <iostream>
+#include <new>
 
 #include <fmt/format.h>
 
@@ -163,10 +164,6 @@ void Progress::run() {
 
 namespace {
 
-bool contains(const std::vector<std::string>& list, const std::string& name) {
-  return std::find(list.begin(), list.end(), name) != list.end();
-}
-
 char delimiter_char(const std::string& name) {
   if (name == "comma") return ',';
   if (name == "semicolon") return ';';
@@ -175,305 +172,7 @@ char delimiter_char(const std::string& name) {
   return 0;
 }
 
-// The model arguments with every list option's values split into items
-// (split_list, the one quoting rule).
-ModelArgs with_lists_split(const ModelArgs& given) {
-  ModelArgs args = given;
-  args.penalty_scales = split_list(given.penalty_scales, "--penalty-scale");
-  args.unpenalized = split_list(given.unpenalized, "--unpenalized");
-  args.nonnegative = split_list(given.nonnegative, "--nonnegative", &args.nonnegative_all);
-  args.nonpositive = split_list(given.nonpositive, "--nonpositive", &args.nonpositive_all);
-  args.use = split_list(given.use, "--use");
-  args.drop = split_list(given.drop, "--drop");
-  args.indicators = split_list(given.indicators, "--indicators", &args.indicators_all);
-  return args;
-}
-
-// Contradictions of --indicators with the other column options.
-void check_indicator_list(const ModelArgs& args) {
-  if (args.indicators_all && !args.indicators.empty())
-    throw failure(exit_usage, "\"all\" in --indicators cannot be combined with names");
-  for (const auto& name : args.indicators) {
-    if (name == args.response)
-      throw failure(exit_usage, "the response \"" + name + "\" cannot be expanded (--indicators)");
-    if (!args.weights.empty() && name == args.weights)
-      throw failure(exit_usage,
-                    "the weights column \"" + name + "\" cannot be expanded (--indicators)");
-    if (contains(args.drop, name))
-      throw failure(exit_usage, "\"" + name + "\" is listed in both --drop and --indicators");
-  }
-}
-
-// A --penalty-scale item: the predictor's name and its scale.
-using ScaleItem = std::pair<std::string, double>;
-
-ScaleItem parse_scale(const std::string& item) {
-  const auto eq = item.rfind('=');
-  if (eq == std::string::npos || eq == 0 || eq + 1 == item.size())
-    throw failure(exit_usage, "--penalty-scale expects NAME=VALUE, got \"" + item + "\"");
-  const std::string name = item.substr(0, eq), text = item.substr(eq + 1);
-  double value = 0;
-  try {
-    std::size_t used = 0;
-    value = std::stod(text, &used);
-    if (used != text.size()) throw std::invalid_argument(text);
-  } catch (const std::exception&) {
-    throw failure(exit_usage, "--penalty-scale " + item + ": \"" + text + "\" is not a number");
-  }
-  if (!std::isfinite(value) || !(value > 0))
-    throw failure(exit_usage, "--penalty-scale " + item +
-                                  ": the scale must be finite and > 0 (--unpenalized fits a "
-                                  "predictor without penalty, --drop leaves it out)");
-  return {name, value};
-}
-
-// The roles of the table's columns the model options give: the names the
-// penalty scales, unpenalized and sign lists refer to are the roles' `referenced`.
-io::ColumnRoles column_roles(const ModelArgs& args, const std::vector<ScaleItem>& scales) {
-  io::ColumnRoles roles;
-  roles.response = args.response;
-  roles.weights = args.weights;
-  roles.use = args.use;
-  roles.drop = args.drop;
-  for (const auto& [name, value] : scales) roles.referenced.push_back(name);
-  for (const auto& name : args.unpenalized) roles.referenced.push_back(name);
-  for (const auto& name : args.nonnegative) roles.referenced.push_back(name);
-  for (const auto& name : args.nonpositive) roles.referenced.push_back(name);
-  return roles;
-}
-
-// The program's wording of a contradiction among the column roles.
-std::string role_message(const io::role_conflict& e) {
-  const std::string& name = e.column();
-  switch (e.rule()) {
-    case io::role_conflict::Rule::response_dropped:
-      return "the response \"" + name + "\" is also listed in --drop";
-    case io::role_conflict::Rule::weights_as_response:
-      return "the weights column cannot be the response";
-    case io::role_conflict::Rule::response_in_use:
-      return "the response \"" + name + "\" is also listed in --use";
-    case io::role_conflict::Rule::needed_but_dropped:
-      break;
-  }
-  return "\"" + name + "\" is listed in --drop and used by another option";
-}
-
-// Contradictions among --nonnegative and --nonpositive.
-void check_sign_lists(const ModelArgs& args) {
-  for (const auto& name : args.nonnegative)
-    if (contains(args.nonpositive, name))
-      throw failure(exit_usage,
-                    "\"" + name + "\" is listed in both --nonnegative and --nonpositive");
-  const bool all_nonnegative = args.nonnegative_all, all_nonpositive = args.nonpositive_all;
-  if ((all_nonnegative && (!args.nonnegative.empty() || all_nonpositive || !args.nonpositive.empty())) ||
-      (all_nonpositive && (!args.nonpositive.empty() || !args.nonnegative.empty())))
-    throw failure(exit_usage,
-                  "\"all\" in --nonnegative/--nonpositive cannot be combined with names");
-}
-
-// Contradictions among the model options that need no table to see. The
-// sign lists are checked after the roles' first three rules and before a
-// needed column found in --drop, the order the program has always had, so
-// that a command line with two faults keeps reporting the same one.
-void check_model_options(const io::ColumnRoles& roles, const ModelArgs& args) {
-  try {
-    roles.validate();
-  } catch (const io::role_conflict& e) {
-    if (e.rule() == io::role_conflict::Rule::needed_but_dropped) check_sign_lists(args);
-    throw failure(exit_usage, role_message(e));
-  }
-  check_sign_lists(args);
-}
-
-// How to read the table: the roles name the columns that must be numeric
-// (checked by the reader) and choose, with --use and --drop, the ones read.
-io::TableReadOptions read_options(const ModelArgs& args, const io::ColumnRoles& roles,
-                                  bool keep_decimal_text) {
-  io::TableReadOptions read = cell_read_options(args.cells);
-  read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
-  if (args.indicators_all)
-    read.indicators.all_text = true;
-  else
-    read.indicators.columns = args.indicators;
-  read.indicators.max_levels = args.max_levels;
-  read.indicators.leave_out_reference = !args.no_intercept;
-  read.max_columns = args.max_columns;
-  read.keep_decimal_text = keep_decimal_text;
-  return roles.read_options(std::move(read));
-}
-
-// Reads the table, reporting progress on the loaded table's progress line.
-void read_with_progress(LoadedTable& out, const std::string& table_path, io::TableReadOptions read,
-                        const Global& global) {
-  out.progress = std::make_shared<Progress>(!global.quiet);
-  Progress& progress = *out.progress;
-  const std::string shown_name = table_path == "-" ? "<stdin>" : table_path;
-  out.shown_name = shown_name;
-  progress.status("reading " + shown_name);
-  read.progress = [&](std::size_t bytes, std::size_t rows) {
-    progress.status(fmt::format("reading {}: {:.1f} MB, {} rows", shown_name,
-                                static_cast<double>(bytes) / 1e6, rows));
-  };
-  out.table = io::read_table(table_path, read);
-}
-
-// What the reports say about the data, and the columns' roles: the
-// predictors are chosen by the library's rule (io::assign_columns).
-void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
-  const io::Table& table = out.table;
-  try {
-    out.columns = io::assign_columns(table, roles);
-  } catch (const invalid_data& e) {
-    throw failure(exit_bad_input, e.detail());
-  }
-  io::RunContext& context = out.context;
-  context.source = table.source;
-  context.response = roles.response;
-  context.rows_read = table.rows;
-  context.rows_dropped = table.dropped_rows;
-  context.text_columns = table.text_columns;
-  context.unused_columns = table.skipped_columns;
-  context.program_version = version();
-  if (!roles.weights.empty()) context.weights = roles.weights;
-  context.predictor_names = out.columns.names;
-  for (const auto& made : table.indicator_columns)
-    context.table_notes.push_back(io::indicator_note(made));
-  context.indicator_columns = table.indicator_columns;
-  if (!table.decimal_comma_columns.empty()) {
-    std::string list;
-    for (const auto& name : table.decimal_comma_columns) list += (list.empty() ? "" : ", ") + name;
-    context.table_notes.push_back("text columns that read as numbers written with a decimal "
-                                  "comma (use them with --decimal comma): " +
-                                  list);
-  }
-}
-
-// The trace options of the model arguments for these predictors, validated.
-TraceOptions trace_options(const ModelArgs& args, const std::vector<ScaleItem>& scales,
-                           const std::vector<std::string>& predictor_names) {
-  const std::size_t p = predictor_names.size();
-  auto predictor_index = [&](const std::string& name) {
-    for (std::size_t j = 0; j < p; ++j)
-      if (predictor_names[j] == name) return j;
-    throw failure(exit_usage,
-                  "\"" + name + "\" is not a predictor (it is the response or the weights)");
-  };
-  TraceOptions options;
-  options.variant = args.variant == to_string(Variant::least_angle) ? Variant::least_angle : Variant::lasso;
-  options.with_intercept = !args.no_intercept;
-  options.standardize = !args.no_standardize;
-  options.ridge = args.ridge;
-  options.max_knots = args.max_knots;
-  options.min_penalty = args.min_penalty;
-  options.max_active = args.max_active;
-  options.threads = args.threads;
-  if (!scales.empty()) {
-    options.penalty_scales.assign(p, 1.0);
-    for (const auto& [name, value] : scales) options.penalty_scales[predictor_index(name)] = value;
-  }
-  for (const auto& name : args.unpenalized) {
-    const std::size_t j = predictor_index(name);
-    if (std::find(options.unpenalized.begin(), options.unpenalized.end(), j) ==
-        options.unpenalized.end())
-      options.unpenalized.push_back(j);
-    if (!scales.empty() && options.penalty_scales[j] != 1.0)
-      throw failure(exit_usage, "\"" + name + "\" is unpenalized; it cannot also have a penalty scale");
-  }
-  if (args.nonnegative_all) {
-    options.sign_constraints = {SignConstraint::nonnegative};
-  } else if (args.nonpositive_all) {
-    options.sign_constraints = {SignConstraint::nonpositive};
-  } else if (!args.nonnegative.empty() || !args.nonpositive.empty()) {
-    options.sign_constraints.assign(p, SignConstraint::none);
-    for (const auto& name : args.nonnegative)
-      options.sign_constraints[predictor_index(name)] = SignConstraint::nonnegative;
-    for (const auto& name : args.nonpositive)
-      options.sign_constraints[predictor_index(name)] = SignConstraint::nonpositive;
-  }
-  try {
-    options.validate(p);
-  } catch (const invalid_option& e) {
-    throw failure(exit_usage, e.what());
-  }
-  return options;
-}
-
-// Data with nothing to trace are refused (the library returns a one-knot
-// path for them; a user of the program almost surely gave the wrong table).
-void refuse_nothing_to_trace(const TableData<double>& d, const TraceOptions& options,
-                             const std::string& shown_name, const std::string& response) {
-  if (!options.with_intercept) return;
-  Index used = 0;
-  double first = 0;
-  bool constant = true;
-  for (Index i = 0; i < d.y.size(); ++i) {
-    if (d.w.size() != 0 && !(d.w(i) > 0)) continue;
-    if (used++ == 0)
-      first = d.y(i);
-    else if (d.y(i) != first)
-      constant = false;
-  }
-  if (used == 1)
-    throw failure(exit_bad_input, shown_name + ": only one row" +
-                                      (d.w.size() ? " has a positive weight" : " of data") +
-                                      "; with an intercept every column is constant there, so "
-                                      "there is no path to trace (at least 2 rows are needed)");
-  if (used > 1 && constant)
-    throw failure(exit_bad_input, fmt::format("{}: the response \"{}\" is constant (every row "
-                                              "holds {:.17g}); there is no path to trace",
-                                              shown_name, response, first));
-}
-
-// A path no predictor can enter is refused, naming (up to ten of) the
-// predictors left out and why.
-void refuse_empty_path(const Path<double>& path, const io::RunContext& context,
-                       const std::string& shown_name) {
-  if (!path.preparation().columns.empty()) return;
-  std::string list;
-  const auto& excluded = path.excluded();
-  for (std::size_t k = 0; k < excluded.size() && k < 10; ++k) {
-    const auto& ex = excluded[k];
-    list += fmt::format("{}\"{}\" ({})", list.empty() ? "" : ", ",
-                        context.predictor_names[static_cast<std::size_t>(ex.predictor)], ex.reason);
-  }
-  if (excluded.size() > 10) list += fmt::format(" and {} more", excluded.size() - 10);
-  throw failure(exit_bad_input,
-                shown_name + ": no predictor can enter the path; every one was left out: " + list);
-}
-
 }  // namespace
-
-LoadedTable load_table(const std::string& table_path, const ModelArgs& given,
-                       const Global& global, bool keep_decimal_text) {
-  const ModelArgs args = with_lists_split(given);
-  check_indicator_list(args);
-  std::vector<ScaleItem> scales;
-  for (const auto& item : args.penalty_scales) scales.push_back(parse_scale(item));
-  const io::ColumnRoles roles = column_roles(args, scales);
-  check_model_options(roles, args);
-  const io::TableReadOptions read = read_options(args, roles, keep_decimal_text);
-  LoadedTable out;
-  read_with_progress(out, table_path, read, global);
-  describe_columns(out, roles);
-  out.options = trace_options(args, scales, out.context.predictor_names);
-  return out;
-}
-
-TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
-                        const Global& global) {
-  LoadedTable loaded = load_table(table_path, args, global, false);
-  const TableData<double> d = table_data<double>(loaded);
-  io::RowLines lines = std::move(loaded.table.row_lines);
-  loaded.table = io::Table();  // free what is left before the trace copies the design
-  loaded.table.row_lines = std::move(lines);  // data_message names rows by their lines
-  refuse_nothing_to_trace(d, loaded.options, loaded.shown_name, args.response);
-  TracedTable out;
-  out.path = trace_table_data(
-      loaded, d, fmt::format("tracing the path ({} rows, {} predictors)", d.x.rows(), d.x.cols()));
-  out.context = std::move(loaded.context);
-  refuse_empty_path(out.path, out.context, loaded.shown_name);
-  return out;
-}
 
 namespace {
 // The real standard output's buffer while a machine-readable output holds
@@ -580,6 +279,21 @@ std::string user_text(std::string message) {
       message.replace(at, library.size(), name.program);
   }
   return message;
+}
+
+ErrorOutcome error_outcome(std::exception_ptr error) {
+  try {
+    std::rethrow_exception(error);
+  } catch (const failure& e) {
+    return {e.code(), e.what()};
+  } catch (const io::table_error& e) {
+    return {e.kind() == io::table_error::Kind::input_output ? exit_io : exit_bad_input, e.what()};
+  } catch (const std::bad_alloc&) {
+    return {exit_internal, "out of memory"};
+  } catch (const std::exception& e) {
+    const std::string why = user_text(e.what());
+    return {exit_internal, why.rfind("internal error: ", 0) == 0 ? why : "internal error: " + why};
+  }
 }
 
 void print_error(const std::string& message) {

@@ -5,6 +5,7 @@
 #include <new>
 
 #include "cli.hpp"
+#include "ranks.hpp"
 #include "select_command.hpp"
 
 namespace {
@@ -38,6 +39,10 @@ int checked_exit(int status) {
 int main(int argc, char** argv) {
   using namespace knotpath::cli;
   reserve_standard_descriptors();
+  Ranks::world().start(argc, argv);  // an MPI job's rank, or one process
+  struct LeaveJob {
+    ~LeaveJob() { Ranks::world().finish(); }
+  } leave_job;
   CLI::App app{"knotpath " + version() +
                ": exact lasso and least-angle regularization paths of a table"};
   app.name("knotpath");
@@ -67,25 +72,21 @@ int main(int argc, char** argv) {
   add_select_command(app, global);
   route_dash_outputs(app);
   add_predict_command(app, global);
+  for (CLI::App* command : app.get_subcommands({}))
+    if (command->get_name() != "trace" && command->get_name() != "at")
+      command->preparse_callback(
+          [name = command->get_name()](std::size_t) { Ranks::world().require_one_process(name); });
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
     const int code = app.exit(e);  // prints help, version or the parse error
     return checked_exit(code == 0 ? exit_ok : exit_usage);
-  } catch (const failure& e) {
-    print_error(e.what());
-    return checked_exit(e.code());
-  } catch (const knotpath::io::table_error& e) {
-    print_error(e.what());
-    return checked_exit(e.kind() == knotpath::io::table_error::Kind::input_output ? exit_io
-                                                                                  : exit_bad_input);
-  } catch (const std::bad_alloc&) {
-    print_error("out of memory");
-    return checked_exit(exit_internal);
-  } catch (const std::exception& e) {
-    const std::string why = user_text(e.what());
-    print_error(why.rfind("internal error: ", 0) == 0 ? why : "internal error: " + why);
-    return checked_exit(exit_internal);
+  } catch (const quiet_exit& e) {  // a process of a multi-process run that has no word to say
+    return checked_exit(e.code);
+  } catch (...) {
+    const ErrorOutcome error = error_outcome(std::current_exception());
+    print_error(error.message);
+    return checked_exit(error.code);
   }
   return checked_exit(global.status);
 }

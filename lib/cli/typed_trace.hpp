@@ -73,20 +73,22 @@ auto with_arithmetic(Arithmetic arithmetic, F&& f) -> decltype(f(0.0)) {
 }
 
 /// One column of a table parsed exactly into Scalar from its decimal text
-/// (knotpath::parse_decimal_cells, the library's home of this parsing).
+/// (knotpath::parse_decimal_cells, the library's home of this parsing); a
+/// cell that is not such a number is named by its line (`table`'s
+/// row_lines: a whole table, or a block of read_table_blocks) in `shown_name`.
 template <class Scalar>
-Vector<Scalar> exact_column(const LoadedTable& loaded, Index column) {
-  const auto& text = loaded.table.decimal_text.at(static_cast<std::size_t>(column));
+Vector<Scalar> exact_column(const io::Table& table, const std::string& shown_name, Index column) {
+  const auto& text = table.decimal_text.at(static_cast<std::size_t>(column));
   try {
     return parse_decimal_cells<Scalar>(text);
   } catch (const invalid_data& e) {
     const std::size_t i = e.row().value_or(0);
-    const std::size_t line = loaded.table.row_lines.line_of(i);
+    const std::size_t line = table.row_lines.line_of(i);
     throw failure(exit_bad_input,
                   fmt::format("{}, {} {}: cell \"{}\" in column \"{}\" is not a decimal "
                               "number that can be parsed exactly",
-                              loaded.shown_name, line > 0 ? "line" : "data row", line > 0 ? line : i + 1,
-                              text.at(i), loaded.table.names[static_cast<std::size_t>(column)]));
+                              shown_name, line > 0 ? "line" : "data row", line > 0 ? line : table.first_row + i + 1,
+                              text.at(i), table.names[static_cast<std::size_t>(column)]));
   }
 }
 
@@ -97,34 +99,54 @@ struct TableData {
   Vector<Scalar> y, w;  ///< w empty: unweighted
 };
 
-/// Takes the data out of a loaded table, by the positions of its roles. For
-/// double the reader's values are moved out of the table (io::split_table:
-/// the response, weights and predictor columns are left empty); for every
-/// other arithmetic the decimal text (LoadedTable read with
-/// keep_decimal_text) is parsed exactly and the table is left as it was.
+/// Takes the data out of a table (a whole one, or a block of
+/// read_table_blocks) by the positions of its roles. For double the
+/// reader's values are moved out of the table (io::split_table: the
+/// response, weights and predictor columns are left empty); for every other
+/// arithmetic the decimal text (read with keep_decimal_text) is parsed
+/// exactly and the table is left as it was.
 template <class Scalar>
-TableData<Scalar> table_data(LoadedTable& loaded) {
-  const io::ColumnAssignment& columns = loaded.columns;
+TableData<Scalar> table_data(io::Table& table, const io::ColumnAssignment& columns, const std::string& shown_name) {
   TableData<Scalar> d;
   if constexpr (std::is_same_v<Scalar, double>) {
-    io::TableSplit split = io::split_table(loaded.table, columns);
+    io::TableSplit split = io::split_table(table, columns);
     d.x = std::move(split.x);
     d.y = std::move(split.y);
     d.w = std::move(split.weights);
   } else {
-    d.y = exact_column<Scalar>(loaded, columns.response);
-    if (columns.weights >= 0) d.w = exact_column<Scalar>(loaded, columns.weights);
-    d.x.resize(static_cast<Index>(loaded.table.rows),
-               static_cast<Index>(columns.predictors.size()));
+    d.y = exact_column<Scalar>(table, shown_name, columns.response);
+    if (columns.weights >= 0) d.w = exact_column<Scalar>(table, shown_name, columns.weights);
+    d.x.resize(static_cast<Index>(table.rows), static_cast<Index>(columns.predictors.size()));
     for (std::size_t k = 0; k < columns.predictors.size(); ++k)
-      d.x.col(static_cast<Index>(k)) = exact_column<Scalar>(loaded, columns.predictors[k]);
+      d.x.col(static_cast<Index>(k)) = exact_column<Scalar>(table, shown_name, columns.predictors[k]);
   }
   return d;
 }
 
-/// Traces the data of a loaded table with its options, showing `status` on
-/// the progress line; the library's refusals become usage (bad option) and
+/// table_data() of a loaded table.
+template <class Scalar>
+TableData<Scalar> table_data(LoadedTable& loaded) {
+  return table_data<Scalar>(loaded.table, loaded.columns, loaded.shown_name);
+}
+
+/// Runs `trace` (which returns a Path) with `status` on the loaded table's
+/// progress line; the library's refusals become usage (bad option) and
 /// bad-input (bad data, named through data_message) failures.
+template <class Trace>
+auto trace_with_messages(const LoadedTable& loaded, const std::string& status, Trace&& trace)
+    -> decltype(trace()) {
+  if (loaded.progress) loaded.progress->status(status);
+  try {
+    return trace();
+  } catch (const invalid_option& e) {
+    throw failure(exit_usage, e.what());
+  } catch (const invalid_data& e) {
+    throw failure(exit_bad_input,
+                  data_message(e, loaded.shown_name, loaded.context.predictor_names, loaded.table.row_lines));
+  }
+}
+
+/// Traces the data of a loaded table with its options (trace_with_messages).
 template <class Scalar>
 Path<Scalar> trace_table_data(const LoadedTable& loaded, const TableData<Scalar>& d,
                               const std::string& status) {
@@ -134,15 +156,7 @@ Path<Scalar> trace_table_data(const LoadedTable& loaded, const TableData<Scalar>
     // weights); it is exact too.
     if (d.w.size() != 0) options.storage = Storage::gram;
   }
-  if (loaded.progress) loaded.progress->status(status);
-  try {
-    return trace<Scalar>(d.x, d.y, options, d.w);
-  } catch (const invalid_option& e) {
-    throw failure(exit_usage, e.what());
-  } catch (const invalid_data& e) {
-    throw failure(exit_bad_input,
-                  data_message(e, loaded.shown_name, loaded.context.predictor_names, loaded.table.row_lines));
-  }
+  return trace_with_messages(loaded, status, [&] { return trace<Scalar>(d.x, d.y, options, d.w); });
 }
 
 /// Traces a loaded table in Scalar (table_data, then trace_table_data with

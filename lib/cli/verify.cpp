@@ -205,11 +205,11 @@ json verify_document(const Comparison& c, const RunFacts& run, unsigned digits, 
 }
 
 template <class High>
-int run_verify(LoadedTable& loaded, const VerifyArgs& args) {
-  // The high-precision path first: it reads the decimal text; the double
-  // trace then moves the reader's doubles out of the table.
-  const Path<High> high = trace_loaded<High>(loaded);
-  const Path<double> low = trace_loaded<double>(loaded);
+int run_verify(const VerifyArgs& args, const Global& global) {
+  TracedTwice<High> traced = trace_twice<High>(args.table, args.model, global);
+  LoadedTable& loaded = traced.loaded;
+  const Path<High>& high = traced.high;
+  const Path<double>& low = traced.low;
   loaded.progress.reset();
   Comparison c;
   c.high_name = io::arithmetic_name<High>();
@@ -245,6 +245,7 @@ CLI::App* add_verify_command(CLI::App& app, Global& global) {
   command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
       ->required();
   add_model_options(*command, args->model);
+  add_reading_options(*command, args->model);
   command
       ->add_option("--digits", args->digits,
                    "Significant decimal digits of the high-precision trace (default 50; other "
@@ -258,14 +259,13 @@ CLI::App* add_verify_command(CLI::App& app, Global& global) {
       "Example:\n"
       "  knotpath verify mixtures.csv --response hardness --json check.json\n");
   command->callback([args, &global] {
-    LoadedTable loaded = load_table(args->table, args->model, global, true);
     if (args->digits == 50) {
-      global.status = run_verify<float50>(loaded, *args);
+      global.status = run_verify<float50>(*args, global);
       return;
     }
 #ifdef KNOTPATH_HAVE_MPFR
     set_mpfr_digits(args->digits);
-    global.status = run_verify<mpfr_float>(loaded, *args);
+    global.status = run_verify<mpfr_float>(*args, global);
 #else
     throw failure(exit_usage, "this build has no MPFR: verify runs at --digits 50 only");
 #endif

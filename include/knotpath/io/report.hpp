@@ -31,6 +31,11 @@ struct RunContext {
   std::vector<std::string> table_notes;      ///< sentences about how the table was read (indicators, ...)
   std::vector<IndicatorColumn> indicator_columns;  ///< text columns expanded into indicator predictors
   std::string program_version;               ///< knotpath version
+  /// Rows per block when the table was read a block at a time into the
+  /// sufficient statistics (its rows never all in memory); 0: read whole.
+  std::size_t block_rows = 0;
+  /// The tables read as the shards of one, in order (empty: one table).
+  std::vector<std::string> shards;
 };
 
 /// What to do about a suspect double path: names the `knotpath verify`
@@ -91,6 +96,13 @@ double mu_as_double(const Path<Scalar>& path, const Scalar& lambda);
 /// R^2 = 1 - RSS / TSS of a knot; nullopt when TSS = 0.
 template <class Scalar>
 std::optional<Scalar> r_squared(const Path<Scalar>& path, const Scalar& rss);
+
+/// The word of a knot's event in every output (the knot table's `event`
+/// column, the JSON document, the audit, the Python module): to_string of
+/// its EventKind, except the last row, which says why the path ended
+/// (to_string(StopReason): "end", "stop-max-knots", ...).
+template <class Scalar>
+std::string event_word(const Path<Scalar>& path, const Knot<Scalar>& knot);
 
 /// Writes the knot table: header
 /// `step,penalty,mu,event,predictor,active,l1_norm,r_squared,intercept,NAMES...`

@@ -1,0 +1,129 @@
+// The processes of one run (ranks.hpp): MPI when built with it and launched
+// by an MPI starter, else one process.
+
+#include "ranks.hpp"
+
+#include <fcntl.h>
+#include <unistd.h>
+
+#include <cstdlib>
+
+#include <knotpath/shards.hpp>
+
+#include "cli.hpp"
+
+#ifdef KNOTPATH_HAVE_MPI
+#include <knotpath/mpi_statistics.hpp>
+#endif
+
+namespace knotpath::cli {
+
+namespace {
+
+// Whether an MPI starter launched this process: Open MPI, PMIx and the PMI
+// of other implementations name the rank in the environment.
+bool launched_by_mpi() {
+  for (const char* name : {"OMPI_COMM_WORLD_RANK", "PMIX_RANK", "PMI_RANK"})
+    if (std::getenv(name) != nullptr) return true;
+  return false;
+}
+
+#ifdef KNOTPATH_HAVE_MPI
+void check(int code, const char* what) {
+  if (code != MPI_SUCCESS) throw failure(exit_internal, std::string("internal error: MPI failed to ") + what);
+}
+#endif
+
+}  // namespace
+
+Ranks& Ranks::world() {
+  static Ranks ranks;
+  return ranks;
+}
+
+void Ranks::start([[maybe_unused]] int& argc, [[maybe_unused]] char**& argv) {
+#ifdef KNOTPATH_HAVE_MPI
+  if (!launched_by_mpi()) return;
+  if (MPI_Init(&argc, &argv) != MPI_SUCCESS) return;
+  joined_ = true;
+  MPI_Comm_rank(MPI_COMM_WORLD, &rank_);
+  MPI_Comm_size(MPI_COMM_WORLD, &size_);
+  if (rank_ != 0) {  // rank 0 speaks for the run
+    const int quiet = ::open("/dev/null", O_WRONLY);
+    if (quiet >= 0) {
+      ::dup2(quiet, STDOUT_FILENO);
+      ::dup2(quiet, STDERR_FILENO);
+      ::close(quiet);
+    }
+  }
+#else
+  (void)launched_by_mpi;
+#endif
+}
+
+void Ranks::finish() {
+#ifdef KNOTPATH_HAVE_MPI
+  if (joined_) MPI_Finalize();
+  joined_ = false;
+#endif
+}
+
+std::vector<std::string> Ranks::gather(const std::string& text) const {
+  if (size_ == 1) return {text};
+#ifdef KNOTPATH_HAVE_MPI
+  int length = static_cast<int>(text.size());
+  std::vector<int> lengths(static_cast<std::size_t>(size_)), offsets(static_cast<std::size_t>(size_));
+  check(MPI_Gather(&length, 1, MPI_INT, lengths.data(), 1, MPI_INT, 0, MPI_COMM_WORLD), "gather sizes");
+  std::string all;
+  if (rank_ == 0) {
+    int total = 0;
+    for (std::size_t r = 0; r < lengths.size(); ++r) {
+      offsets[r] = total;
+      total += lengths[r];
+    }
+    all.resize(static_cast<std::size_t>(total));
+  }
+  check(MPI_Gatherv(text.data(), length, MPI_CHAR, all.data(), lengths.data(), offsets.data(), MPI_CHAR, 0,
+                    MPI_COMM_WORLD),
+        "gather the shards' records");
+  std::vector<std::string> out;
+  if (rank_ == 0)
+    for (std::size_t r = 0; r < lengths.size(); ++r)
+      out.push_back(all.substr(static_cast<std::size_t>(offsets[r]), static_cast<std::size_t>(lengths[r])));
+  return out;
+#else
+  return {text};
+#endif
+}
+
+std::vector<long long> Ranks::broadcast(std::vector<long long> values) const {
+#ifdef KNOTPATH_HAVE_MPI
+  if (size_ > 1)
+    check(MPI_Bcast(values.data(), static_cast<int>(values.size()), MPI_LONG_LONG, 0, MPI_COMM_WORLD), "broadcast");
+#endif
+  return values;
+}
+
+std::optional<SufficientStatistics<double>> Ranks::reduce(
+    std::vector<std::pair<std::size_t, SufficientStatistics<double>>> mine, std::size_t shards,
+    Index predictors) const {
+#ifdef KNOTPATH_HAVE_MPI
+  if (size_ > 1) return mpi::reduce_shard_tree<double>(MPI_COMM_WORLD, std::move(mine), shards, predictors);
+#endif
+  (void)predictors;
+  std::vector<SufficientStatistics<double>> all;  // one process holds every shard, in order
+  for (auto& [index, statistics] : mine) {
+    if (index != all.size()) throw failure(exit_internal, "internal error: shards out of order");
+    all.push_back(std::move(statistics));
+  }
+  if (all.size() != shards) throw failure(exit_internal, "internal error: a shard is missing");
+  return merge_shard_tree(std::move(all));
+}
+
+void Ranks::require_one_process(const std::string& command) const {
+  if (size_ > 1)
+    throw failure(exit_usage, command + " runs in one process: under mpirun only trace and at read a table's "
+                                        "shards (run it without mpirun)");
+}
+
+}  // namespace knotpath::cli

@@ -1,0 +1,790 @@
+// Reading a table for the program and tracing it: the model options
+// checked and turned into the reader's options and the trace options, the
+// columns' roles, and the two ways of reading (load_table and trace_table):
+// the whole table in memory, or a block of rows at a time into the
+// sufficient statistics (--read, issue of tables larger than memory).
+
+#include <algorithm>
+#include <cmath>
+#include <memory>
+#include <optional>
+#include <string>
+#include <type_traits>
+#include <utility>
+#include <vector>
+
+#include <fmt/format.h>
+
+#include <nlohmann/json.hpp>
+
+#include <knotpath/shards.hpp>
+#include <knotpath/trace.hpp>
+
+#include "cli.hpp"
+#include "ranks.hpp"
+#include "typed_trace.hpp"
+
+namespace knotpath::cli {
+
+namespace {
+
+bool contains(const std::vector<std::string>& list, const std::string& name) {
+  return std::find(list.begin(), list.end(), name) != list.end();
+}
+
+
+// The model arguments with every list option's values split into items
+// (split_list, the one quoting rule).
+ModelArgs with_lists_split(const ModelArgs& given) {
+  ModelArgs args = given;
+  args.penalty_scales = split_list(given.penalty_scales, "--penalty-scale");
+  args.unpenalized = split_list(given.unpenalized, "--unpenalized");
+  args.nonnegative = split_list(given.nonnegative, "--nonnegative", &args.nonnegative_all);
+  args.nonpositive = split_list(given.nonpositive, "--nonpositive", &args.nonpositive_all);
+  args.use = split_list(given.use, "--use");
+  args.drop = split_list(given.drop, "--drop");
+  args.indicators = split_list(given.indicators, "--indicators", &args.indicators_all);
+  return args;
+}
+
+// Contradictions of --indicators with the other column options.
+void check_indicator_list(const ModelArgs& args) {
+  if (args.indicators_all && !args.indicators.empty())
+    throw failure(exit_usage, "\"all\" in --indicators cannot be combined with names");
+  for (const auto& name : args.indicators) {
+    if (name == args.response)
+      throw failure(exit_usage, "the response \"" + name + "\" cannot be expanded (--indicators)");
+    if (!args.weights.empty() && name == args.weights)
+      throw failure(exit_usage,
+                    "the weights column \"" + name + "\" cannot be expanded (--indicators)");
+    if (contains(args.drop, name))
+      throw failure(exit_usage, "\"" + name + "\" is listed in both --drop and --indicators");
+  }
+}
+
+// A --penalty-scale item: the predictor's name and its scale.
+using ScaleItem = std::pair<std::string, double>;
+
+ScaleItem parse_scale(const std::string& item) {
+  const auto eq = item.rfind('=');
+  if (eq == std::string::npos || eq == 0 || eq + 1 == item.size())
+    throw failure(exit_usage, "--penalty-scale expects NAME=VALUE, got \"" + item + "\"");
+  const std::string name = item.substr(0, eq), text = item.substr(eq + 1);
+  double value = 0;
+  try {
+    std::size_t used = 0;
+    value = std::stod(text, &used);
+    if (used != text.size()) throw std::invalid_argument(text);
+  } catch (const std::exception&) {
+    throw failure(exit_usage, "--penalty-scale " + item + ": \"" + text + "\" is not a number");
+  }
+  if (!std::isfinite(value) || !(value > 0))
+    throw failure(exit_usage, "--penalty-scale " + item +
+                                  ": the scale must be finite and > 0 (--unpenalized fits a "
+                                  "predictor without penalty, --drop leaves it out)");
+  return {name, value};
+}
+
+// The roles of the table's columns the model options give: the names the
+// penalty scales, unpenalized and sign lists refer to are the roles' `referenced`.
+io::ColumnRoles column_roles(const ModelArgs& args, const std::vector<ScaleItem>& scales) {
+  io::ColumnRoles roles;
+  roles.response = args.response;
+  roles.weights = args.weights;
+  roles.use = args.use;
+  roles.drop = args.drop;
+  for (const auto& [name, value] : scales) roles.referenced.push_back(name);
+  for (const auto& name : args.unpenalized) roles.referenced.push_back(name);
+  for (const auto& name : args.nonnegative) roles.referenced.push_back(name);
+  for (const auto& name : args.nonpositive) roles.referenced.push_back(name);
+  return roles;
+}
+
+// The program's wording of a contradiction among the column roles.
+std::string role_message(const io::role_conflict& e) {
+  const std::string& name = e.column();
+  switch (e.rule()) {
+    case io::role_conflict::Rule::response_dropped:
+      return "the response \"" + name + "\" is also listed in --drop";
+    case io::role_conflict::Rule::weights_as_response:
+      return "the weights column cannot be the response";
+    case io::role_conflict::Rule::response_in_use:
+      return "the response \"" + name + "\" is also listed in --use";
+    case io::role_conflict::Rule::needed_but_dropped:
+      break;
+  }
+  return "\"" + name + "\" is listed in --drop and used by another option";
+}
+
+// Contradictions among --nonnegative and --nonpositive.
+void check_sign_lists(const ModelArgs& args) {
+  for (const auto& name : args.nonnegative)
+    if (contains(args.nonpositive, name))
+      throw failure(exit_usage,
+                    "\"" + name + "\" is listed in both --nonnegative and --nonpositive");
+  const bool all_nonnegative = args.nonnegative_all, all_nonpositive = args.nonpositive_all;
+  if ((all_nonnegative && (!args.nonnegative.empty() || all_nonpositive || !args.nonpositive.empty())) ||
+      (all_nonpositive && (!args.nonpositive.empty() || !args.nonnegative.empty())))
+    throw failure(exit_usage,
+                  "\"all\" in --nonnegative/--nonpositive cannot be combined with names");
+}
+
+// Contradictions among the model options that need no table to see. The
+// sign lists are checked after the roles' first three rules and before a
+// needed column found in --drop, the order the program has always had, so
+// that a command line with two faults keeps reporting the same one.
+void check_model_options(const io::ColumnRoles& roles, const ModelArgs& args) {
+  try {
+    roles.validate();
+  } catch (const io::role_conflict& e) {
+    if (e.rule() == io::role_conflict::Rule::needed_but_dropped) check_sign_lists(args);
+    throw failure(exit_usage, role_message(e));
+  }
+  check_sign_lists(args);
+}
+
+// How to read the table: the roles name the columns that must be numeric
+// (checked by the reader) and choose, with --use and --drop, the ones read.
+io::TableReadOptions read_options(const ModelArgs& args, const io::ColumnRoles& roles,
+                                  bool keep_decimal_text) {
+  io::TableReadOptions read = cell_read_options(args.cells);
+  read.missing = args.missing == "drop" ? io::MissingCells::drop : io::MissingCells::error;
+  if (args.indicators_all)
+    read.indicators.all_text = true;
+  else
+    read.indicators.columns = args.indicators;
+  read.indicators.max_levels = args.max_levels;
+  read.indicators.leave_out_reference = !args.no_intercept;
+  read.max_columns = args.max_columns;
+  read.keep_decimal_text = keep_decimal_text;
+  return roles.read_options(std::move(read));
+}
+
+// Starts the loaded table's progress line and names its source; returns
+// the reader's options reporting on that line.
+io::TableReadOptions start_reading(LoadedTable& out, const std::string& table_path,
+                                   io::TableReadOptions read, const Global& global) {
+  out.progress = std::make_shared<Progress>(!global.quiet);
+  const std::string shown_name = table_path == "-" ? "<stdin>" : table_path;
+  out.shown_name = shown_name;
+  out.progress->status("reading " + shown_name);
+  read.progress = [progress = out.progress, shown_name](std::size_t bytes, std::size_t rows) {
+    progress->status(fmt::format("reading {}: {:.1f} MB, {} rows", shown_name,
+                                 static_cast<double>(bytes) / 1e6, rows));
+  };
+  return read;
+}
+
+// What the reports say about the data, and the columns' roles: the
+// predictors are chosen by the library's rule (io::assign_columns).
+void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
+  const io::Table& table = out.table;
+  try {
+    out.columns = io::assign_columns(table, roles);
+  } catch (const invalid_data& e) {
+    throw failure(exit_bad_input, e.detail());
+  }
+  io::RunContext& context = out.context;
+  context.source = table.source;
+  context.response = roles.response;
+  context.rows_read = table.rows;
+  context.rows_dropped = table.dropped_rows;
+  context.text_columns = table.text_columns;
+  context.unused_columns = table.skipped_columns;
+  context.program_version = version();
+  if (!roles.weights.empty()) context.weights = roles.weights;
+  context.predictor_names = out.columns.names;
+  for (const auto& made : table.indicator_columns)
+    context.table_notes.push_back(io::indicator_note(made));
+  context.indicator_columns = table.indicator_columns;
+  if (!table.decimal_comma_columns.empty()) {
+    std::string list;
+    for (const auto& name : table.decimal_comma_columns) list += (list.empty() ? "" : ", ") + name;
+    context.table_notes.push_back("text columns that read as numbers written with a decimal "
+                                  "comma (use them with --decimal comma): " +
+                                  list);
+  }
+}
+
+// The trace options of the model arguments for these predictors, validated.
+TraceOptions trace_options(const ModelArgs& args, const std::vector<ScaleItem>& scales,
+                           const std::vector<std::string>& predictor_names) {
+  const std::size_t p = predictor_names.size();
+  auto predictor_index = [&](const std::string& name) {
+    for (std::size_t j = 0; j < p; ++j)
+      if (predictor_names[j] == name) return j;
+    throw failure(exit_usage,
+                  "\"" + name + "\" is not a predictor (it is the response or the weights)");
+  };
+  TraceOptions options;
+  options.variant = args.variant == to_string(Variant::least_angle) ? Variant::least_angle : Variant::lasso;
+  options.with_intercept = !args.no_intercept;
+  options.standardize = !args.no_standardize;
+  options.ridge = args.ridge;
+  options.max_knots = args.max_knots;
+  options.min_penalty = args.min_penalty;
+  options.max_active = args.max_active;
+  options.threads = args.threads;
+  if (!scales.empty()) {
+    options.penalty_scales.assign(p, 1.0);
+    for (const auto& [name, value] : scales) options.penalty_scales[predictor_index(name)] = value;
+  }
+  for (const auto& name : args.unpenalized) {
+    const std::size_t j = predictor_index(name);
+    if (std::find(options.unpenalized.begin(), options.unpenalized.end(), j) ==
+        options.unpenalized.end())
+      options.unpenalized.push_back(j);
+    if (!scales.empty() && options.penalty_scales[j] != 1.0)
+      throw failure(exit_usage, "\"" + name + "\" is unpenalized; it cannot also have a penalty scale");
+  }
+  if (args.nonnegative_all) {
+    options.sign_constraints = {SignConstraint::nonnegative};
+  } else if (args.nonpositive_all) {
+    options.sign_constraints = {SignConstraint::nonpositive};
+  } else if (!args.nonnegative.empty() || !args.nonpositive.empty()) {
+    options.sign_constraints.assign(p, SignConstraint::none);
+    for (const auto& name : args.nonnegative)
+      options.sign_constraints[predictor_index(name)] = SignConstraint::nonnegative;
+    for (const auto& name : args.nonpositive)
+      options.sign_constraints[predictor_index(name)] = SignConstraint::nonpositive;
+  }
+  try {
+    options.validate(p);
+  } catch (const invalid_option& e) {
+    throw failure(exit_usage, e.what());
+  }
+  return options;
+}
+
+// The rows of positive weight and whether their responses are all equal:
+// what refuse_nothing_to_trace reads, gathered a piece of the table at a time.
+struct ResponseSpread {
+  Index used = 0;
+  double first = 0;
+  bool constant = true;
+  bool weighted = false;
+
+  void add(const Vector<double>& y, const Vector<double>& w) {
+    weighted = w.size() != 0;
+    for (Index i = 0; i < y.size(); ++i) {
+      if (weighted && !(w(i) > 0)) continue;
+      if (used++ == 0)
+        first = y(i);
+      else if (y(i) != first)
+        constant = false;
+    }
+  }
+
+  // Adds the spread of rows that follow these (the next shard).
+  void merge(const ResponseSpread& other) {
+    weighted = weighted || other.weighted;
+    if (other.used == 0) return;
+    if (used == 0) {
+      first = other.first;
+      constant = other.constant;
+    } else {
+      constant = constant && other.constant && other.first == first;
+    }
+    used += other.used;
+  }
+};
+
+// Data with nothing to trace are refused (the library returns a one-knot
+// path for them; a user of the program almost surely gave the wrong table).
+void refuse_nothing_to_trace(const ResponseSpread& spread, const TraceOptions& options,
+                             const std::string& shown_name, const std::string& response) {
+  if (!options.with_intercept) return;
+  if (spread.used == 1)
+    throw failure(exit_bad_input, shown_name + ": only one row" +
+                                      (spread.weighted ? " has a positive weight" : " of data") +
+                                      "; with an intercept every column is constant there, so "
+                                      "there is no path to trace (at least 2 rows are needed)");
+  if (spread.used > 1 && spread.constant)
+    throw failure(exit_bad_input, fmt::format("{}: the response \"{}\" is constant (every row "
+                                              "holds {:.17g}); there is no path to trace",
+                                              shown_name, response, spread.first));
+}
+
+// A path no predictor can enter is refused, naming (up to ten of) the
+// predictors left out and why.
+void refuse_empty_path(const Path<double>& path, const io::RunContext& context,
+                       const std::string& shown_name) {
+  if (!path.preparation().columns.empty()) return;
+  std::string list;
+  const auto& excluded = path.excluded();
+  for (std::size_t k = 0; k < excluded.size() && k < 10; ++k) {
+    const auto& ex = excluded[k];
+    list += fmt::format("{}\"{}\" ({})", list.empty() ? "" : ", ",
+                        context.predictor_names[static_cast<std::size_t>(ex.predictor)], ex.reason);
+  }
+  if (excluded.size() > 10) list += fmt::format(" and {} more", excluded.size() - 10);
+  throw failure(exit_bad_input,
+                shown_name + ": no predictor can enter the path; every one was left out: " + list);
+}
+
+// The model arguments prepared for reading one table: the lists split, the
+// penalty scales parsed, the columns' roles and the reader's options, with
+// every contradiction that needs no table refused.
+struct ReadPlan {
+  ModelArgs args;
+  std::vector<ScaleItem> scales;
+  io::ColumnRoles roles;
+  io::TableReadOptions read;
+};
+
+ReadPlan plan_reading(const ModelArgs& given, bool keep_decimal_text) {
+  ReadPlan plan;
+  plan.args = with_lists_split(given);
+  check_indicator_list(plan.args);
+  for (const auto& item : plan.args.penalty_scales) plan.scales.push_back(parse_scale(item));
+  plan.roles = column_roles(plan.args, plan.scales);
+  check_model_options(plan.roles, plan.args);
+  plan.read = read_options(plan.args, plan.roles, keep_decimal_text);
+  return plan;
+}
+
+// load_table() once the arguments are planned: the whole table in memory.
+LoadedTable load_planned(const std::string& table_path, const ReadPlan& plan, const Global& global) {
+  LoadedTable out;
+  out.table = io::read_table(table_path, start_reading(out, table_path, plan.read, global));
+  describe_columns(out, plan.roles);
+  out.options = trace_options(plan.args, plan.scales, out.context.predictor_names);
+  return out;
+}
+
+// Whether --read (with the options that rule blocks out) reads the table
+// whole. Indicators need every level of a text column before the first row
+// can be coded, so they are read whole; --read blocks with them is refused.
+bool reads_whole(const ModelArgs& args) {
+  const bool indicators = args.indicators_all || !args.indicators.empty();
+  if (args.reading == "blocks" && indicators)
+    throw failure(exit_usage,
+                  "--read blocks cannot expand --indicators: a text column's levels are known only "
+                  "after its last row (use --read whole)");
+  return args.reading == "whole" || indicators;
+}
+
+// One block of the table split by the columns' roles, in an arithmetic,
+// with the place of its rows in the file (data_message names a bad row by
+// its line).
+template <class Scalar>
+struct Piece {
+  TableData<Scalar> data;
+  io::RowLines lines;  // counted from the table's first kept row
+};
+
+// A table read a block at a time (read_table_blocks) in one arithmetic.
+// Each block is split by the roles (the assignment of the first block:
+// every block has the same columns; double takes the reader's values, other
+// arithmetics parse the block's decimal text exactly) and either added to
+// the sufficient statistics (the stream) or kept. `--read blocks` streams
+// from the first block; `--read auto` keeps the blocks until the rows read
+// make the trace take the Gram route at this and every larger row count
+// (gram_for_more_rows) and another block follows, then streams: so a table
+// that streams gives the very path of reading it whole, and a table that
+// ends sooner (one block, or rows too few to qualify) or never qualifies is
+// traced from its kept rows in memory, as `--read whole` would trace it.
+// Several readings may share one loaded table and take the same blocks
+// (verify: its high precision first, as it parses the text, then double,
+// which moves the values out).
+template <class Scalar>
+class BlockReading {
+ public:
+  BlockReading(const ReadPlan& plan, bool forced, LoadedTable& loaded)
+      : plan_(plan), forced_(forced), loaded_(loaded) {}
+
+  // The reader's callback: one block of rows.
+  void take(io::Table& block) {
+    if (!columns_) begin(block);
+    Piece<Scalar> piece;
+    piece.data = table_data<Scalar>(block, *columns_, loaded_.shown_name);
+    piece.lines = block.row_lines;
+    for (auto& mark : piece.lines.marks) mark.first += block.first_row;
+    if constexpr (std::is_same_v<Scalar, double>) spread_.add(piece.data.y, piece.data.w);
+    // The rows before this block qualify and more follow: stream from here.
+    if (!stream_ && (forced_ || (rows_ > 0 && gram_for_more_rows<Scalar>(static_cast<Index>(rows_), predictors(),
+                                                                          loaded_.options)))) {
+      stream_.emplace(predictors(), columns_->weights >= 0);
+    }
+    rows_ += block.rows;
+    kept_.push_back(std::move(piece));
+    if (stream_) {
+      for (Piece<Scalar>& kept : kept_) add_to_stream(kept);
+      kept_.clear();
+    }
+  }
+
+  // After the last block: the path, from the statistics when the table
+  // streamed, else from the kept rows in memory. `loaded.table` holds the
+  // reader's table without values (names, counts, every row's line).
+  Path<Scalar> trace() {
+    const std::string in = std::is_same_v<Scalar, double> ? "" : " in " + io::arithmetic_name<Scalar>();
+    if (!stream_) return trace_kept(in);
+    loaded_.context.block_rows = plan_.args.block_rows;
+    const SufficientStatistics<Scalar> statistics = finish_stream();
+    return trace_with_messages(
+        loaded_,
+        fmt::format("tracing the path{} from the statistics ({} rows, {} predictors)", in, rows_, predictors()),
+        [&] { return detail::trace_rows_statistics(statistics, static_cast<Index>(rows_), loaded_.options); });
+  }
+
+  // The statistics of the rows streamed (--read blocks: every row); a bad
+  // value found at the end is named as the whole reading names it.
+  SufficientStatistics<Scalar> finish_stream() {
+    SufficientStatistics<Scalar> statistics =
+        with_data_messages(loaded_.table.row_lines, [&] { return stream_->finish(); });
+    stream_.reset();
+    return statistics;
+  }
+
+  // The predictors' names (after the first block).
+  const std::vector<std::string>& predictor_names() const { return columns_->names; }
+  // Kept rows read, and (double) their responses' spread.
+  std::size_t rows() const { return rows_; }
+  const ResponseSpread& spread() const { return spread_; }
+
+ private:
+  Index predictors() const { return static_cast<Index>(columns_->predictors.size()); }
+
+  // The first block names the columns: their roles and the trace options.
+  void begin(const io::Table& block) {
+    try {
+      columns_ = io::assign_columns(block, plan_.roles);
+    } catch (const invalid_data& e) {
+      throw failure(exit_bad_input, e.detail());
+    }
+    loaded_.options = trace_options(plan_.args, plan_.scales, columns_->names);
+    loaded_.context.predictor_names = columns_->names;
+  }
+
+  // Runs f, naming a bad row of the data by its line in the file.
+  template <class F>
+  auto with_data_messages(const io::RowLines& lines, F&& f) -> decltype(f()) {
+    try {
+      return f();
+    } catch (const invalid_data& e) {
+      throw failure(exit_bad_input, data_message(e, loaded_.shown_name, columns_->names, lines));
+    }
+  }
+
+  void add_to_stream(Piece<Scalar>& piece) {
+    with_data_messages(piece.lines, [&] {
+      stream_->add(piece.data.x, piece.data.y, piece.data.w);
+      return 0;
+    });
+  }
+
+  // The kept rows joined into one design, each piece freed once copied.
+  Path<Scalar> trace_kept(const std::string& in) {
+    TableData<Scalar> d;
+    const bool weighted = columns_->weights >= 0;
+    d.x.resize(static_cast<Index>(rows_), predictors());
+    d.y.resize(static_cast<Index>(rows_));
+    if (weighted) d.w.resize(static_cast<Index>(rows_));
+    Index at = 0;
+    for (Piece<Scalar>& piece : kept_) {
+      const Index m = piece.data.y.size();
+      d.x.middleRows(at, m) = piece.data.x;
+      d.y.segment(at, m) = piece.data.y;
+      if (weighted) d.w.segment(at, m) = piece.data.w;
+      at += m;
+      piece = Piece<Scalar>();
+    }
+    kept_.clear();
+    return trace_table_data(loaded_, d,
+                            fmt::format("tracing the path{} ({} rows, {} predictors)", in, d.x.rows(), d.x.cols()));
+  }
+
+  const ReadPlan& plan_;
+  const bool forced_;
+  LoadedTable& loaded_;
+  std::optional<io::ColumnAssignment> columns_;
+  std::vector<Piece<Scalar>> kept_;
+  std::optional<StatisticsAccumulator<Scalar>> stream_;
+  ResponseSpread spread_;
+  std::size_t rows_ = 0;
+};
+
+// trace_table() reading the table a block at a time (BlockReading).
+TracedTable trace_in_blocks(const std::string& table_path, const ReadPlan& plan, const Global& global) {
+  LoadedTable loaded;
+  const io::TableReadOptions read = start_reading(loaded, table_path, plan.read, global);
+  BlockReading<double> reading(plan, plan.args.reading == "blocks", loaded);
+  loaded.table = io::read_table_blocks(table_path, read, plan.args.block_rows,
+                                       [&](io::Table& block) { reading.take(block); });
+  describe_columns(loaded, plan.roles);  // the context of the reader's whole table
+  refuse_nothing_to_trace(reading.spread(), loaded.options, loaded.shown_name, plan.args.response);
+  TracedTable out;
+  out.path = reading.trace();
+  out.context = std::move(loaded.context);
+  refuse_empty_path(out.path, out.context, loaded.shown_name);
+  return out;
+}
+
+// ---- Shards: several tables, or the processes of an MPI job ----
+
+// One table read by this process as a shard: its statistics (every row
+// streamed, block by block) and the record rank 0 needs besides them.
+struct ShardRead {
+  SufficientStatistics<double> statistics;
+  nlohmann::json record;
+};
+
+ShardRead read_shard(const std::string& path, const ReadPlan& plan, const Global& global) {
+  LoadedTable loaded;
+  const io::TableReadOptions read = start_reading(loaded, path, plan.read, global);
+  BlockReading<double> reading(plan, true, loaded);
+  loaded.table = io::read_table_blocks(path, read, plan.args.block_rows,
+                                       [&](io::Table& block) { reading.take(block); });
+  ShardRead out;
+  out.statistics = reading.finish_stream();
+  const io::Table& table = loaded.table;
+  const ResponseSpread& spread = reading.spread();
+  out.record = {{"source", table.source},
+                {"rows", table.rows},
+                {"dropped", table.dropped_rows},
+                {"names", table.names},
+                {"predictors", reading.predictor_names()},
+                {"text_columns", table.text_columns},
+                {"skipped_columns", table.skipped_columns},
+                {"decimal_comma_columns", table.decimal_comma_columns},
+                {"spread", {{"used", spread.used}, {"first", spread.first}, {"constant", spread.constant},
+                            {"weighted", spread.weighted}}}};
+  return out;
+}
+
+// What rank 0 knows of every shard once their records are gathered: the
+// table they make together (names, counts; no values) and the responses'
+// spread, in shard order.
+struct ShardSummary {
+  io::Table table;
+  ResponseSpread spread;
+  long long predictors = 0;
+};
+
+// The first table's list differs from another's: shards must share columns.
+void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what) {
+  const auto list = [](const nlohmann::json& names) {
+    std::vector<std::string> items = names.get<std::vector<std::string>>();
+    return quoted_names(items);
+  };
+  throw failure(exit_bad_input,
+                fmt::format("{}: its {} ({}) differ from those of {}, the first table ({}): the shards of a "
+                            "table must have the same columns",
+                            shard["source"].get<std::string>(), what, list(shard[what]),
+                            first["source"].get<std::string>(), list(first[what])));
+}
+
+// The shards' sources as the reports name the table they make.
+std::string shards_source(const std::vector<nlohmann::json>& records) {
+  std::string list;
+  for (std::size_t s = 0; s < records.size(); ++s) {
+    if (records.size() > 4 && s == 2) {
+      list += ", ...";
+      s = records.size() - 1;
+    }
+    list += (list.empty() ? "" : ", ") + records[s]["source"].get<std::string>();
+  }
+  return fmt::format("{} ({} shards)", list, records.size());
+}
+
+// Rank 0's reading of the gathered records: the error of the first shard
+// that failed (the same for any number of processes: each process stops at
+// its first failure, and shards are spread in order), shards whose columns
+// differ, else the summary.
+ShardSummary summarise_shards(const std::vector<std::string>& texts, std::size_t count) {
+  std::vector<nlohmann::json> records(count);
+  for (const auto& text : texts)
+    for (auto& record : nlohmann::json::parse(text)) {
+      const auto index = record["index"].get<std::size_t>();
+      records.at(index) = std::move(record);
+    }
+  for (const auto& record : records) {
+    if (record.is_null()) continue;  // after an earlier failure of its process
+    if (record.contains("error"))
+      throw failure(static_cast<ExitCode>(record["code"].get<int>()), record["error"].get<std::string>());
+  }
+  for (const auto& record : records)
+    if (record.is_null()) throw failure(exit_internal, "internal error: a shard was read by no process");
+  ShardSummary out;
+  const nlohmann::json& first = records.front();
+  io::Table& table = out.table;
+  table.source = shards_source(records);
+  table.names = first["names"].get<std::vector<std::string>>();
+  table.text_columns = first["text_columns"].get<std::vector<std::string>>();
+  table.skipped_columns = first["skipped_columns"].get<std::vector<std::string>>();
+  table.decimal_comma_columns = first["decimal_comma_columns"].get<std::vector<std::string>>();
+  for (const auto& record : records) {
+    for (const char* what : {"names", "predictors"})
+      if (record[what] != first[what]) refuse_unlike_shard(first, record, what);
+    table.rows += record["rows"].get<std::size_t>();
+    table.dropped_rows += record["dropped"].get<std::size_t>();
+    const nlohmann::json& spread = record["spread"];
+    ResponseSpread part;
+    part.used = spread["used"].get<Index>();
+    part.first = spread["first"].get<double>();
+    part.constant = spread["constant"].get<bool>();
+    part.weighted = spread["weighted"].get<bool>();
+    out.spread.merge(part);
+  }
+  out.predictors = static_cast<long long>(first["predictors"].size());
+  return out;
+}
+
+// Several tables read as the shards of one (or any table under an MPI job
+// of several processes, trace_tables()): shard s is read by process
+// shard_owner(s), each into its own statistics in blocks; rank 0 gathers
+// the shards' records and decides for all (the first failure stops every
+// process with its message and status), the statistics are merged in the
+// shard tree (the same bits for any number of processes), and rank 0
+// traces; the other processes end quietly (quiet_exit).
+TracedTable trace_shards(const std::vector<std::string>& tables, const ReadPlan& plan, const Global& global) {
+  if (plan.args.reading == "whole")
+    throw failure(exit_usage, "several tables are read as the shards of one, each in blocks into its statistics: "
+                              "--read whole reads one table");
+  if (plan.args.indicators_all || !plan.args.indicators.empty())
+    throw failure(exit_usage, "several tables (shards) cannot expand --indicators: a text column's levels would "
+                              "have to agree across them (read one table with --read whole)");
+  for (const auto& table : tables)
+    if (table == "-") throw failure(exit_usage, "standard input (-) cannot be one of several tables");
+  const Ranks& ranks = Ranks::world();
+  const std::size_t count = tables.size();
+  std::vector<std::pair<std::size_t, SufficientStatistics<double>>> mine;
+  nlohmann::json records = nlohmann::json::array();
+  for (std::size_t s = 0; s < count; ++s) {
+    if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
+    try {
+      ShardRead shard = read_shard(tables[s], plan, global);
+      shard.record["index"] = s;
+      records.push_back(std::move(shard.record));
+      mine.emplace_back(s, std::move(shard.statistics));
+    } catch (...) {
+      const ErrorOutcome error = error_outcome(std::current_exception());
+      records.push_back({{"index", s}, {"error", error.message}, {"code", error.code}});
+      break;  // this process reads no further shard
+    }
+  }
+  const std::vector<std::string> texts = ranks.gather(records.dump());
+  ShardSummary summary;
+  ErrorOutcome verdict;
+  if (ranks.rank() == 0) {
+    try {
+      summary = summarise_shards(texts, count);
+    } catch (...) {
+      verdict = error_outcome(std::current_exception());
+    }
+  }
+  const std::vector<long long> shared = ranks.broadcast({verdict.code, summary.predictors});
+  if (shared[0] != 0) {
+    if (ranks.rank() == 0) throw failure(static_cast<ExitCode>(verdict.code), verdict.message);
+    throw quiet_exit{static_cast<int>(shared[0])};
+  }
+  std::optional<SufficientStatistics<double>> statistics =
+      ranks.reduce(std::move(mine), count, static_cast<Index>(shared[1]));
+  if (ranks.rank() != 0) throw quiet_exit{0};
+
+  LoadedTable loaded;
+  loaded.progress = std::make_shared<Progress>(!global.quiet);
+  loaded.shown_name = summary.table.source;
+  const std::size_t rows = summary.table.rows;
+  loaded.table = std::move(summary.table);
+  describe_columns(loaded, plan.roles);
+  loaded.options = trace_options(plan.args, plan.scales, loaded.context.predictor_names);
+  loaded.context.block_rows = plan.args.block_rows;
+  loaded.context.shards = tables;
+  refuse_nothing_to_trace(summary.spread, loaded.options, loaded.shown_name, plan.args.response);
+  TracedTable out;
+  out.path = trace_with_messages(
+      loaded,
+      fmt::format("tracing the path from the statistics ({} rows in {} shards, {} predictors)", rows, count,
+                  loaded.context.predictor_names.size()),
+      [&] { return detail::trace_rows_statistics(*statistics, static_cast<Index>(rows), loaded.options); });
+  out.context = std::move(loaded.context);
+  refuse_empty_path(out.path, out.context, loaded.shown_name);
+  return out;
+}
+
+}  // namespace
+
+void add_reading_options(CLI::App& command, ModelArgs& args) {
+  command
+      .add_option("--read", args.reading,
+                  "How the table is read: whole (every row in memory), blocks (a block of rows at a "
+                  "time into the sufficient statistics, memory independent of the row count), or "
+                  "auto (blocks once the rows far outnumber the predictors, when that gives the "
+                  "same path as reading whole)")
+      ->check(CLI::IsMember({"auto", "whole", "blocks"}))
+      ->default_str("auto")
+      ->group("Table");
+  command.add_option("--block-rows", args.block_rows, "Rows per block read (--read blocks and auto)")
+      ->check(CLI::PositiveNumber)
+      ->default_str("4096")
+      ->group("Table");
+}
+
+LoadedTable load_table(const std::string& table_path, const ModelArgs& given,
+                       const Global& global, bool keep_decimal_text) {
+  return load_planned(table_path, plan_reading(given, keep_decimal_text), global);
+}
+
+TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
+                        const Global& global) {
+  const ReadPlan plan = plan_reading(args, false);
+  if (!reads_whole(plan.args)) return trace_in_blocks(table_path, plan, global);
+  LoadedTable loaded = load_planned(table_path, plan, global);
+  const TableData<double> d = table_data<double>(loaded);
+  io::RowLines lines = std::move(loaded.table.row_lines);
+  loaded.table = io::Table();  // free what is left before the trace copies the design
+  loaded.table.row_lines = std::move(lines);  // data_message names rows by their lines
+  ResponseSpread spread;
+  spread.add(d.y, d.w);
+  refuse_nothing_to_trace(spread, loaded.options, loaded.shown_name, args.response);
+  TracedTable out;
+  out.path = trace_table_data(
+      loaded, d, fmt::format("tracing the path ({} rows, {} predictors)", d.x.rows(), d.x.cols()));
+  out.context = std::move(loaded.context);
+  refuse_empty_path(out.path, out.context, loaded.shown_name);
+  return out;
+}
+
+template <class High>
+TracedTwice<High> trace_twice(const std::string& table_path, const ModelArgs& args, const Global& global) {
+  const ReadPlan plan = plan_reading(args, true);
+  if (!reads_whole(plan.args)) {
+    LoadedTable loaded;
+    const io::TableReadOptions read = start_reading(loaded, table_path, plan.read, global);
+    // The high precision takes each block first: it parses the decimal
+    // text; double then moves the reader's values out of the block.
+    BlockReading<High> high(plan, plan.args.reading == "blocks", loaded);
+    BlockReading<double> low(plan, plan.args.reading == "blocks", loaded);
+    loaded.table = io::read_table_blocks(table_path, read, plan.args.block_rows, [&](io::Table& block) {
+      high.take(block);
+      low.take(block);
+    });
+    describe_columns(loaded, plan.roles);
+    Path<High> high_path = high.trace();
+    Path<double> low_path = low.trace();
+    return {std::move(loaded), std::move(high_path), std::move(low_path)};
+  }
+  LoadedTable loaded = load_planned(table_path, plan, global);
+  // The high-precision path first: it reads the decimal text; the double
+  // trace then moves the reader's doubles out of the table.
+  Path<High> high_path = trace_loaded<High>(loaded);
+  Path<double> low_path = trace_loaded<double>(loaded);
+  return {std::move(loaded), std::move(high_path), std::move(low_path)};
+}
+
+template TracedTwice<float50> trace_twice<float50>(const std::string&, const ModelArgs&, const Global&);
+#ifdef KNOTPATH_HAVE_MPFR
+template TracedTwice<mpfr_float> trace_twice<mpfr_float>(const std::string&, const ModelArgs&, const Global&);
+#endif
+
+TracedTable trace_tables(const std::vector<std::string>& tables, const ModelArgs& args, const Global& global) {
+  if (tables.size() == 1) {
+    if (Ranks::world().rank() != 0) throw quiet_exit{0};  // one table: rank 0 reads it
+    return trace_table(tables.front(), args, global);
+  }
+  return trace_shards(tables, plan_reading(args, false), global);
+}
+
+}  // namespace knotpath::cli

@@ -1,0 +1,175 @@
+// The program under MPI (Open MPI's mpirun from the Debian archive, run with
+// 1, 2 and 4 processes on any machine: --oversubscribe): the shards of a
+// table read by the processes of a job give the path of the program run
+// without MPI on the same shards, bit for bit; NIST StRD Longley spread over
+// processes reproduces its certified least-squares fit; a failure on any
+// process stops them all with one message. Skipped with a message when the
+// build has no MPI. CI runs as root, which Open MPI refuses unless
+// OMPI_ALLOW_RUN_AS_ROOT and OMPI_ALLOW_RUN_AS_ROOT_CONFIRM are set: the
+// runs below set them.
+
+#include <gtest/gtest.h>
+
+#include <sys/wait.h>
+
+#include <cmath>
+#include <cstdint>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+
+#include "cli_runner.hpp"
+#include "test_support.hpp"
+
+namespace {
+
+using knotpath::testing::Outcome;
+using knotpath::testing::slurp;
+
+class Mpi : public knotpath::testing::ProgramTest {
+ protected:
+  Mpi() : ProgramTest("mpi", "--quiet") {}
+
+  void SetUp() override {
+    ProgramTest::SetUp();
+#ifndef KNOTPATH_MPIEXEC
+    GTEST_SKIP() << "this build has no MPI (install libopenmpi-dev and openmpi-bin, then configure again)";
+#endif
+  }
+
+  // Runs the program under mpirun with `processes` processes.
+  Outcome run_mpi(int processes, const std::string& args) const {
+#ifdef KNOTPATH_MPIEXEC
+    const std::filesystem::path out = dir_ / ".stdout", err = dir_ / ".stderr";
+    const std::string command = fmt::format(
+        "cd '{}' && OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1 '{}' -n {} --oversubscribe '{}' "
+        "--quiet {} </dev/null >'{}' 2>'{}'",
+        dir_.string(), KNOTPATH_MPIEXEC, processes, KNOTPATH_CLI_PATH, args, out.string(), err.string());
+    const int status = std::system(command.c_str());
+    Outcome r;
+    r.code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+    r.out = slurp(out);
+    r.err = slurp(err);
+    return r;
+#else
+    (void)processes;
+    (void)args;
+    return {};
+#endif
+  }
+
+  // Writes `count` shards of `rows` invented rows (a fixed-seed generator;
+  // four predictors, weights) and returns their names, space separated.
+  std::string write_shards(std::size_t count, int rows) const {
+    std::uint64_t state = 5;
+    auto next = [&] {  // a 64-bit LCG (Knuth's MMIX constants; common practice)
+      state = state * 6364136223846793005ULL + 1442695040888963407ULL;
+      return static_cast<double>(state >> 11) / 9007199254740992.0 - 0.5;
+    };
+    std::vector<std::ofstream> files;
+    std::string names;
+    for (std::size_t s = 0; s < count; ++s) {
+      const std::string name = fmt::format("shard{}.csv", s);
+      files.emplace_back(file(name)) << "a,b,c,d,w,y\n";
+      names += " " + name;
+    }
+    for (int i = 0; i < rows; ++i) {
+      const double a = next(), b = 0.5 * a + next(), c = next(), d = next();
+      files[static_cast<std::size_t>(i) * count / static_cast<std::size_t>(rows)]
+          << a << ',' << b << ',' << c << ',' << d << ',' << 1 + i % 4 << ',' << 2 * a - c + 0.3 * next() << '\n';
+    }
+    return names;
+  }
+};
+
+TEST_F(Mpi, TheShardsGiveTheSamePathBitForBitOnOneTwoAndFourProcesses) {
+  const std::string shards = write_shards(7, 1500);
+  const std::string options = " --response y --weights w --block-rows 64 --knots k.csv --json p.json";
+  const Outcome alone = run("trace" + shards + options);
+  ASSERT_EQ(alone.code, 0) << alone.err;
+  const std::string knots = slurp(file("k.csv")), json = slurp(file("p.json"));
+  ASSERT_FALSE(knots.empty());
+  for (int processes : {1, 2, 4}) {
+    SCOPED_TRACE(fmt::format("{} processes", processes));
+    std::filesystem::remove(file("k.csv"));
+    std::filesystem::remove(file("p.json"));
+    const Outcome r = run_mpi(processes, "trace" + shards + options);
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_EQ(r.out, alone.out);  // the audit, printed once (by rank 0)
+    EXPECT_EQ(slurp(file("k.csv")), knots);
+    EXPECT_EQ(slurp(file("p.json")), json);
+  }
+  // `at` too.
+  const std::string ask = "at" + shards + " --response y --weights w --relative-budget 0.5 --csv";
+  const Outcome at_alone = run(ask);
+  const Outcome at_mpi = run_mpi(2, ask);
+  ASSERT_EQ(at_mpi.code, 0) << at_mpi.err;
+  EXPECT_EQ(at_mpi.out, at_alone.out);
+}
+
+TEST_F(Mpi, LongleySpreadOverProcessesReproducesTheCertifiedFit) {
+  KNOTPATH_REQUIRE_REFERENCE(data, "strd/longley.csv");
+  KNOTPATH_REQUIRE_REFERENCE(cert, "strd/longley.certified");
+  // NIST StRD Longley (16 rows) cut into four shards of four rows.
+  std::ifstream in(data);
+  std::string header, line;
+  std::getline(in, header);
+  std::vector<std::string> rows;
+  while (std::getline(in, line))
+    if (!line.empty()) rows.push_back(line);
+  ASSERT_EQ(rows.size(), 16u);
+  std::string shards;
+  for (std::size_t s = 0; s < 4; ++s) {
+    std::ofstream out(file(fmt::format("longley{}.csv", s)));
+    out << header << '\n';
+    for (std::size_t i = 4 * s; i < 4 * s + 4; ++i) out << rows[i] << '\n';
+    shards += fmt::format(" longley{}.csv", s);
+  }
+  const Outcome r = run_mpi(3, "at" + shards + " --response y --penalty 0 --csv");
+  ASSERT_EQ(r.code, 0) << r.err;
+  // The end of the path is the least-squares fit: NIST's certified values
+  // (15 digits) with at least 7 correct digits in double, as for the table
+  // read whole (test_external_reference.cpp).
+  const auto certified = knotpath::testing::read_reference_values(cert);
+  std::istringstream lines(r.out);
+  std::getline(lines, line);  // "# point: ..."
+  std::getline(lines, line);  // predictor,coefficient
+  int checked = 0;
+  while (std::getline(lines, line)) {
+    const std::string name = line.substr(0, line.find(','));
+    const double value = std::stod(line.substr(line.find(',') + 1));
+    const std::string key = name == "(intercept)" ? "B0" : "B" + name.substr(1);
+    const double reference = certified.at(key);
+    EXPECT_LE(std::abs(value - reference), 1e-7 * std::abs(reference)) << name << " = " << value;
+    ++checked;
+  }
+  EXPECT_EQ(checked, 7) << r.out;
+}
+
+TEST_F(Mpi, AFailureOnAnyProcessStopsEveryProcessWithOneMessage) {
+  const std::string shards = write_shards(4, 400);
+  // A bad cell in the last shard, read by the last of two processes.
+  std::ofstream(file("shard3.csv"), std::ios::app) << "1,2,oops,4,1,5\n";
+  const Outcome bad = run_mpi(2, "trace" + shards + " --response y --weights w");
+  EXPECT_EQ(bad.code, 3) << bad.err;  // exit_bad_input, the status of every process
+  EXPECT_NE(bad.err.find("knotpath: shard3.csv, line 102, column 3: cell \"oops\""), std::string::npos) << bad.err;
+  std::size_t messages = 0;
+  for (std::size_t at = bad.err.find("knotpath: "); at != std::string::npos; at = bad.err.find("knotpath: ", at + 1))
+    ++messages;
+  EXPECT_EQ(messages, 1u) << bad.err;
+  // A missing file: an input/output error naming it.
+  const Outcome missing = run_mpi(4, "trace shard0.csv shard1.csv nowhere.csv --response y");
+  EXPECT_EQ(missing.code, 5) << missing.err;
+  EXPECT_NE(missing.err.find("nowhere.csv"), std::string::npos) << missing.err;
+  // Commands that run in one process say so.
+  const Outcome select = run_mpi(2, "select shard0.csv --response y");
+  EXPECT_EQ(select.code, 2) << select.err;
+  EXPECT_NE(select.err.find("select runs in one process"), std::string::npos) << select.err;
+}
+
+}  // namespace

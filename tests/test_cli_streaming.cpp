@@ -1,0 +1,324 @@
+// End-to-end tests of reading a table a block of rows at a time (--read):
+// the program's outputs from a table streamed into its sufficient statistics
+// are the outputs of reading it whole, byte for byte, apart from the one
+// audit line and the JSON members that say how the table was read. The
+// rows are invented in the test (a fixed-seed generator) or come from the
+// diabetes data of Efron, Hastie, Johnstone & Tibshirani (2004), "Least
+// angle regression", Ann. Statist. 32(2), whose published lasso sequence
+// test_cli.cpp checks for the whole reading.
+
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdint>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
+#include "cli_runner.hpp"
+#include "test_support.hpp"
+
+namespace {
+
+using knotpath::testing::Outcome;
+using knotpath::testing::slurp;
+
+class Streaming : public knotpath::testing::ProgramTest {
+ protected:
+  Streaming() : ProgramTest("streaming", "--quiet") {}
+
+  // Writes a table of `rows` invented rows: five predictors (two of them
+  // correlated), a weight column of 1, 2 and 3, a text column, and a
+  // response from three of the predictors plus noise. Every 97th row has a
+  // missing cell (read with --missing drop) and a blank line follows every
+  // 500th, so the kept rows and the file's lines part ways.
+  void write_table(const std::string& name, int rows, std::uint64_t seed = 11) const {
+    std::uint64_t state = seed;
+    auto next = [&] {  // a 64-bit LCG (Knuth's MMIX constants; common practice)
+      state = state * 6364136223846793005ULL + 1442695040888963407ULL;
+      return static_cast<double>(state >> 11) / 9007199254740992.0 - 0.5;
+    };
+    std::ofstream out(file(name));
+    out << "site,a,b,c,d,e,w,y\n";
+    for (int i = 0; i < rows; ++i) {
+      const double a = next(), b = 0.6 * a + next(), c = next(), d = next(), e = next();
+      const double y = 3 * a - 2 * c + 0.5 * e + 0.4 * next();
+      out << (i % 2 ? "north" : "south") << ',' << a << ',' << b << ',' << c << ',';
+      if (i % 97 == 5)
+        out << "NA";
+      else
+        out << d;
+      out << ',' << e << ',' << 1 + i % 3 << ',' << y << '\n';
+      if (i % 500 == 499) out << '\n';
+    }
+  }
+
+  // Runs trace with the given reading options and returns {audit, knot
+  // table, JSON document}; the run must succeed.
+  struct Traced {
+    std::string audit, knots;
+    nlohmann::json json;
+  };
+  Traced trace(const std::string& table, const std::string& options) const {
+    const Outcome r = run(fmt::format("trace {} --response y --weights w --missing drop {} --knots k.csv "
+                                      "--json p.json",
+                                      table, options));
+    EXPECT_EQ(r.code, 0) << options << "\n" << r.err;
+    Traced t{r.out, slurp(file("k.csv")), nlohmann::json::parse(slurp(file("p.json")), nullptr, false)};
+    std::filesystem::remove(file("k.csv"));
+    std::filesystem::remove(file("p.json"));
+    return t;
+  }
+};
+
+// The audit without the line that says the table was read in blocks.
+std::string without_block_note(const std::string& audit) {
+  std::string out;
+  std::size_t at = 0;
+  while (at < audit.size()) {
+    std::size_t end = audit.find('\n', at);
+    if (end == std::string::npos) end = audit.size() - 1;
+    const std::string line = audit.substr(at, end + 1 - at);
+    if (line.find("table read in blocks of") == std::string::npos) out += line;
+    at = end + 1;
+  }
+  return out;
+}
+
+// The JSON document without the members that say how the table was read.
+nlohmann::json without_reading(nlohmann::json doc) {
+  doc["data"].erase("reading");
+  doc["data"].erase("block_rows");
+  return doc;
+}
+
+TEST_F(Streaming, BlocksOfAnyHeightGiveTheWholeReadingsOutputsByteForByte) {
+  write_table("t.csv", 3000);
+  const Traced whole = trace("t.csv", "--read whole");
+  ASSERT_FALSE(whole.knots.empty());
+  EXPECT_EQ(whole.json["data"]["reading"], "whole");
+  EXPECT_TRUE(whole.json["data"]["block_rows"].is_null());
+  EXPECT_EQ(whole.audit.find("table read in blocks"), std::string::npos);
+  // Block heights that divide nothing, one row, and more rows than the table.
+  for (const std::string height : {"1", "97", "1000", "5000"}) {
+    SCOPED_TRACE("block rows " + height);
+    const Traced blocks = trace("t.csv", "--read blocks --block-rows " + height);
+    EXPECT_EQ(blocks.knots, whole.knots);
+    EXPECT_EQ(without_block_note(blocks.audit), whole.audit);
+    EXPECT_NE(blocks.audit.find("table read in blocks of " + height + " rows"), std::string::npos)
+        << blocks.audit;
+    EXPECT_EQ(blocks.json["data"]["reading"], "blocks");
+    EXPECT_EQ(blocks.json["data"]["block_rows"], std::stoul(height));
+    EXPECT_EQ(without_reading(blocks.json), without_reading(whole.json));
+  }
+  // Standard input reads in blocks too.
+  const Outcome piped = run("trace - --response y --weights w --missing drop --read blocks --block-rows 64 "
+                            "--knots k.csv",
+                            file("t.csv").string());
+  ASSERT_EQ(piped.code, 0) << piped.err;
+  EXPECT_EQ(slurp(file("k.csv")), whole.knots);
+}
+
+TEST_F(Streaming, AtAnswersFromTheStreamAsFromTheWholeTable) {
+  write_table("t.csv", 2000);
+  const std::string ask = "at t.csv --response y --weights w --missing drop --relative-budget 0.4 --csv";
+  const Outcome whole = run(ask + " --read whole");
+  ASSERT_EQ(whole.code, 0) << whole.err;
+  const Outcome blocks = run(ask + " --read blocks --block-rows 333");
+  ASSERT_EQ(blocks.code, 0) << blocks.err;
+  EXPECT_EQ(blocks.out, whole.out);
+}
+
+TEST_F(Streaming, AutomaticReadingStreamsOnlyWhereTheWholeReadingTakesTheStatistics) {
+  write_table("t.csv", 3000);
+  // More rows than a block, and a full path: the whole reading takes the
+  // Gram route (n >= 2p, TraceOptions::storage automatic), so the automatic
+  // reading streams and changes nothing but the note.
+  const Traced whole = trace("t.csv", "--read whole");
+  const Traced automatic = trace("t.csv", "--block-rows 200");
+  EXPECT_EQ(automatic.json["data"]["reading"], "blocks");
+  EXPECT_EQ(automatic.knots, whole.knots);
+  // A table shorter than one block is read whole.
+  const Traced short_table = trace("t.csv", "--block-rows 4000");
+  EXPECT_EQ(short_table.json["data"]["reading"], "whole");
+  EXPECT_EQ(short_table.audit, whole.audit);
+  // Stopped after one predictor, a long table's path is cheaper from the
+  // centred copy of the rows than from the statistics (choose_storage:
+  // p > 4 K); only the small-design clause keeps this table on the Gram
+  // route, and no larger one would be: the automatic reading keeps the rows
+  // and traces them as the whole reading does.
+  const Traced one_whole = trace("t.csv", "--read whole --max-active 1");
+  const Traced one_auto = trace("t.csv", "--max-active 1 --block-rows 200");
+  EXPECT_EQ(one_auto.json["data"]["reading"], "whole");
+  EXPECT_EQ(one_auto.knots, one_whole.knots);
+  EXPECT_EQ(one_auto.audit, one_whole.audit);
+}
+
+TEST_F(Streaming, ThePublishedDiabetesPathStreamsUnchanged) {
+  KNOTPATH_REQUIRE_REFERENCE(diabetes, "open/diabetes.csv");
+  const std::string table = "'" + diabetes.string() + "' --response progression --knots k.csv";
+  ASSERT_EQ(run("trace " + table + " --read whole").code, 0);
+  const std::string whole = slurp(file("k.csv"));
+  const Outcome r = run("trace " + table + " --read blocks --block-rows 50");
+  ASSERT_EQ(r.code, 0) << r.err;
+  EXPECT_EQ(slurp(file("k.csv")), whole);
+  // The whole reading's knot table holds the published sequence (test_cli.cpp,
+  // DiabetesKnotTableHasThePublishedLassoSequence); its first entry is bmi.
+  EXPECT_NE(whole.find(",enter,bmi,"), std::string::npos) << whole;
+}
+
+TEST_F(Streaming, BadRowsAndRefusalsNameTheFilesLine) {
+  // A negative weight on line 1503 (a header, 1500 rows, and a blank line
+  // after row 500 and row 1000 of write_table's rows): found by the stream
+  // in the third block, named by its line.
+  write_table("t.csv", 1600);
+  std::string text = slurp(file("t.csv"));
+  std::size_t at = 0;
+  for (int line = 1; line < 1503; ++line) at = text.find('\n', at) + 1;
+  const std::size_t end = text.find('\n', at);
+  std::vector<std::string> cells;
+  for (std::size_t from = at, comma; from <= end; from = comma + 1) {
+    comma = std::min(text.find(',', from), end);
+    cells.push_back(text.substr(from, comma - from));
+  }
+  ASSERT_EQ(cells.size(), 8u);
+  cells[6] = "-" + cells[6];  // the weight (1, 2 or 3) made negative
+  std::string row;
+  for (const auto& cell : cells) row += (row.empty() ? "" : ",") + cell;
+  text.replace(at, end - at, row);
+  std::ofstream(file("bad.csv")) << text;
+  const Outcome r = run("trace bad.csv --response y --weights w --missing drop --read blocks --block-rows 600");
+  EXPECT_EQ(r.code, 3) << r.err;  // exit_bad_input
+  EXPECT_NE(r.err.find("bad.csv, line 1503"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("weight"), std::string::npos) << r.err;
+
+  // A constant response is refused as the whole reading refuses it.
+  std::ofstream(file("flat.csv")) << "a,y\n1,5\n2,5\n3,5\n4,5\n";
+  const Outcome flat_whole = run("trace flat.csv --response y --read whole");
+  const Outcome flat_blocks = run("trace flat.csv --response y --read blocks --block-rows 3");
+  EXPECT_EQ(flat_blocks.code, flat_whole.code);
+  EXPECT_NE(flat_whole.code, 0);
+  EXPECT_EQ(flat_blocks.err, flat_whole.err);
+
+  // Indicators need every level first; another arithmetic reads whole.
+  const Outcome levels = run("trace t.csv --response y --indicators site --missing drop --read blocks");
+  EXPECT_EQ(levels.code, 2) << levels.err;  // exit_usage
+  EXPECT_NE(levels.err.find("--read blocks cannot expand --indicators"), std::string::npos) << levels.err;
+  const Outcome precise = run("trace t.csv --response y --missing drop --precision 50 --read blocks");
+  EXPECT_EQ(precise.code, 2) << precise.err;
+  EXPECT_NE(precise.err.find("--read blocks traces in double precision"), std::string::npos) << precise.err;
+}
+
+// Every member named `name` removed from a JSON document, at any depth.
+nlohmann::json without_member(nlohmann::json doc, const std::string& name) {
+  if (doc.is_object()) {
+    doc.erase(name);
+    for (auto& [key, value] : doc.items()) value = without_member(value, name);
+  } else if (doc.is_array()) {
+    for (auto& value : doc) value = without_member(value, name);
+  }
+  return doc;
+}
+
+TEST_F(Streaming, VerifyReadsATallTableInBlocksWithTheSameVerdictAndNumbers) {
+  // verify traces in double and in 50 digits; read in blocks, each
+  // arithmetic has its own stream of statistics (the 50-digit one parsed
+  // exactly from the cells' text), so the table is never held in high
+  // precision, and the two paths are those of reading it whole.
+  write_table("t.csv", 2500);
+  const std::string ask = "verify t.csv --response y --weights w --missing drop";
+  const Outcome whole = run(ask + " --read whole --json a.json");
+  const Outcome blocks = run(ask + " --read blocks --block-rows 250 --json b.json");
+  EXPECT_EQ(whole.code, 0) << whole.err;
+  EXPECT_EQ(blocks.code, whole.code) << blocks.err;
+  std::string blocks_out = without_block_note(blocks.out);
+  blocks_out.replace(blocks_out.find("wrote b.json"), 12, "wrote a.json");
+  EXPECT_EQ(blocks_out, whole.out);
+  const auto a = nlohmann::json::parse(slurp(file("a.json"))), b = nlohmann::json::parse(slurp(file("b.json")));
+  EXPECT_EQ(without_member(without_member(b, "reading"), "block_rows"),
+            without_member(without_member(a, "reading"), "block_rows"));
+}
+
+// The lines of a table split into `count` tables of consecutive rows, each
+// with the header: the shards of one table.
+std::vector<std::string> shards_of(const std::string& text, std::size_t count) {
+  const std::size_t header_end = text.find('\n') + 1;
+  const std::string header = text.substr(0, header_end);
+  std::vector<std::string> rows;
+  for (std::size_t at = header_end; at < text.size();) {
+    const std::size_t end = text.find('\n', at);
+    rows.push_back(text.substr(at, end - at + 1));
+    at = end + 1;
+  }
+  std::vector<std::string> out(count, header);
+  for (std::size_t i = 0; i < rows.size(); ++i) out[i * count / rows.size()] += rows[i];
+  return out;
+}
+
+// Numbers of a knot table (step, penalty, mu, event, predictor, active,
+// L1 norm, R^2), by row.
+std::vector<std::vector<std::string>> cells_of(const std::string& csv) {
+  std::vector<std::vector<std::string>> out;
+  std::istringstream in(csv);
+  std::string line;
+  while (std::getline(in, line)) {
+    std::vector<std::string> cells;
+    std::istringstream fields(line);
+    std::string cell;
+    while (std::getline(fields, cell, ',')) cells.push_back(cell);
+    out.push_back(cells);
+  }
+  return out;
+}
+
+TEST_F(Streaming, SeveralTablesAreTracedAsTheShardsOfOne) {
+  write_table("t.csv", 2400);
+  const std::vector<std::string> parts = shards_of(slurp(file("t.csv")), 5);
+  std::string names;
+  for (std::size_t s = 0; s < parts.size(); ++s) {
+    std::ofstream(file(fmt::format("part{}.csv", s))) << parts[s];
+    names += fmt::format(" part{}.csv", s);
+  }
+  const Traced whole = trace("t.csv", "--read whole");
+  const Traced sharded = trace(names, "--block-rows 100");
+  EXPECT_EQ(sharded.json["data"]["shards"].size(), 5u);
+  EXPECT_EQ(sharded.json["data"]["rows_read"], whole.json["data"]["rows_read"]);
+  EXPECT_EQ(sharded.json["data"]["rows_dropped_missing"], whole.json["data"]["rows_dropped_missing"]);
+  EXPECT_NE(sharded.audit.find("table read from 5 shards"), std::string::npos) << sharded.audit;
+  // Merged in the shard tree, the statistics differ from one stream's in the
+  // last bits only: the same events, and numbers equal to 1e-10 relative
+  // (the Gram route's agreement with itself under a reordered sum, common
+  // practice for well-conditioned data like these).
+  const auto a = cells_of(whole.knots), b = cells_of(sharded.knots);
+  ASSERT_EQ(a.size(), b.size());
+  for (std::size_t k = 1; k < a.size(); ++k) {
+    ASSERT_EQ(a[k].size(), b[k].size());
+    for (std::size_t c : {3u, 4u, 5u}) EXPECT_EQ(a[k][c], b[k][c]) << "knot " << k;
+    for (std::size_t c : {1u, 2u, 6u, 7u}) {
+      const double x = std::stod(a[k][c]), y = std::stod(b[k][c]);
+      EXPECT_LE(std::abs(x - y), 1e-10 * std::max(1.0, std::abs(x))) << "knot " << k << " column " << c;
+    }
+  }
+  // Refusals: standard input among shards, --read whole, unlike columns.
+  EXPECT_EQ(run("trace - part1.csv --response y").code, 2);
+  const Outcome read_whole = run("trace part0.csv part1.csv --response y --weights w --missing drop --read whole");
+  EXPECT_EQ(read_whole.code, 2) << read_whole.err;
+  std::ofstream(file("other.csv")) << "site,a,b,c,d,z,w,y\nnorth,1,2,3,4,5,1,6\nsouth,2,1,3,5,4,2,7\n";
+  const Outcome unlike = run("trace part0.csv other.csv --response y --weights w --missing drop");
+  EXPECT_EQ(unlike.code, 3) << unlike.err;
+  EXPECT_NE(unlike.err.find("other.csv: its names"), std::string::npos) << unlike.err;
+  EXPECT_NE(unlike.err.find("the shards of a table must have the same columns"), std::string::npos) << unlike.err;
+  // A bad cell in the third shard is named by that file and its line.
+  std::ofstream(file("bad.csv")) << "site,a,b,c,d,e,w,y\nnorth,1,2,3,4,5,1,6\nsouth,2,x,3,5,4,2,7\n";
+  const Outcome bad = run("trace part0.csv part1.csv bad.csv --response y --weights w --missing drop");
+  EXPECT_EQ(bad.code, 3) << bad.err;
+  EXPECT_NE(bad.err.find("bad.csv, line 3"), std::string::npos) << bad.err;
+}
+
+}  // namespace
