@@ -13,6 +13,7 @@
 #include <filesystem>
 #include <fstream>
 #include <functional>
+#include <limits>
 #include <set>
 #include <sstream>
 #include <string>
@@ -926,3 +927,36 @@ TEST(ChartData, HeldOutAfterSaturationIsOneNote) {
 }
 
 }  // namespace
+
+// Chart 5: one row per predictor with an adjusted and a naive bar on a
+// shared axis in standard errors, the bar's ends at value / SE, an arrow
+// where an interval is unbounded, and a well-formed document.
+TEST(AdjustedIntervals, OneRowPerPredictorWithBarsInStandardErrorsAndArrowsWhenUnbounded) {
+  kc::AdjustedIntervals a;
+  a.level = 0.9;
+  kc::IntervalPanel panel;
+  panel.heading = "at the least CV error";
+  panel.rows.push_back({"dose", 2.0, 0.5, 0.4, 3.1, 1.18, 2.82, 0.03, 1e-4});
+  panel.rows.push_back({"age", -0.3, 0.1, -std::numeric_limits<double>::infinity(), 0.2, -0.46, -0.14, 0.4, 0.002});
+  a.panels.push_back(panel);
+  const std::string svg = kc::adjusted_intervals_svg(a);
+  auto p = parse(svg);
+  ASSERT_EQ(p->error, tinyxml2::XML_SUCCESS) << svg;
+  const auto rows = with_class(p->doc.RootElement(), "interval-row");
+  ASSERT_EQ(rows.size(), 2u);
+  EXPECT_NE(title_of(rows[0]).find("dose"), std::string::npos);
+  const auto adjusted = with_class(p->doc.RootElement(), "adjusted");
+  const auto naive = with_class(p->doc.RootElement(), "naive");
+  ASSERT_EQ(adjusted.size(), 2u);
+  ASSERT_EQ(naive.size(), 2u);
+  // The naive bar of "dose" spans (2.82 - 1.18) / 0.5 = 3.28 SE, the
+  // adjusted one (3.1 - 0.4) / 0.5 = 5.4 SE: their pixel lengths keep that ratio.
+  auto length = [](const tinyxml2::XMLElement* e) { return e->DoubleAttribute("x2") - e->DoubleAttribute("x1"); };
+  EXPECT_NEAR(length(adjusted[0]) / length(naive[0]), 5.4 / 3.28, 0.01);  // coordinates rounded to 0.01 px
+  // The unbounded lower end of "age" ends in an arrow (a polygon in its row).
+  int arrows = 0;
+  walk(rows[1]->FirstChildElement(), [&](const tinyxml2::XMLElement* e) { arrows += std::string(e->Name()) == "polygon"; });
+  EXPECT_EQ(arrows, 1);
+  kc::AdjustedIntervals empty;
+  EXPECT_THROW(kc::adjusted_intervals_svg(empty), knotpath::invalid_option);
+}

@@ -136,6 +136,8 @@ void expect_only_embedded(const tinyxml2::XMLElement* e, const std::string& file
 void expect_report(const fs::path& dir, bool with_selection) {
   std::vector<std::string> want{"activity.svg", "budget.svg", "report.html", "traces.svg"};
   if (with_selection) want.push_back("selection.svg");
+  // select's adjusted intervals (chart 5) when some predictor is active at a choice.
+  if (with_selection && fs::exists(dir / "intervals.svg")) want.push_back("intervals.svg");
   std::sort(want.begin(), want.end());
   std::vector<std::string> have;
   for (const auto& entry : fs::directory_iterator(dir)) have.push_back(entry.path().filename());

@@ -18,7 +18,7 @@ import sys
 # Stage order (an arrow may only point to the same or a lower number).
 STAGES = [
     ("foundation", ["errors.hpp", "scaling.hpp", "detail/scalar.hpp", "detail/parallel.hpp",
-                    "detail/centring.hpp", "detail/random.hpp"]),
+                    "detail/centring.hpp", "detail/random.hpp", "detail/truncated_gaussian.hpp"]),
     ("options", ["options.hpp", "demo.hpp"]),
     ("preparation", ["prepare.hpp", "statistics.hpp", "shards.hpp", "mpi_statistics.hpp"]),
     ("operators and factor", ["design/concept.hpp", "design/dense.hpp", "design/dense_view.hpp",
@@ -29,7 +29,7 @@ STAGES = [
     ("trace front end", ["trace.hpp", "solver.hpp"]),
     ("front door", ["core.hpp"]),
     ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
-                                         "inference.hpp", "precision.hpp"]),
+                                         "inference.hpp", "adjusted_inference.hpp", "precision.hpp"]),
     ("io", ["io/table.hpp", "io/roles.hpp", "io/report.hpp", "io/charts.hpp", "io/saved.hpp"]),
     ("umbrella", ["knotpath.hpp"]),
 ]

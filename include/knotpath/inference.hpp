@@ -65,6 +65,7 @@
 #include "design/concept.hpp"
 #include "detail/least_squares.hpp"
 #include "detail/scalar.hpp"
+#include "detail/truncated_gaussian.hpp"
 #include "errors.hpp"
 #include "options.hpp"
 #include "path.hpp"
@@ -108,46 +109,6 @@ struct Significance {
 };
 
 namespace detail {
-
-/// log Q(x), Q the standard normal upper tail, accurate and finite for every
-/// finite x (no underflow: for x >= 5, log phi(x) + log of the Mills ratio
-/// by its continued fraction R(x) = 1/(x + 1/(x + 2/(x + 3/(x + ...))))).
-inline double log_upper_tail(double x) {
-  if (std::isnan(x)) return x;
-  if (x == std::numeric_limits<double>::infinity()) return -std::numeric_limits<double>::infinity();
-  if (x < 5.0) return std::log(0.5 * std::erfc(x / std::numbers::sqrt2));
-  // Backward evaluation of the continued fraction; 120 terms reach double
-  // precision at x = 5 and converge faster beyond.
-  double tail = x;
-  for (int k = 120; k >= 1; --k) tail = x + k / tail;
-  const double log_mills = -std::log(tail);
-  return -0.5 * x * x - 0.5 * std::log(2.0 * std::numbers::pi) + log_mills;
-}
-
-/// log(Q(a) - Q(b)) = log P(a < Z < b) for a < b (b may be +infinity);
-/// -infinity when a == b.
-inline double log_gaussian_interval(double a, double b) {
-  if (!(a < b)) return -std::numeric_limits<double>::infinity();
-  if (b <= 0.0) return log_gaussian_interval(-b, -a);  // symmetry: keep the tails small
-  if (a < 0.0) {
-    // The interval holds 0: Phi(b) - Phi(a) by erf has no cancellation.
-    const double bb = std::isinf(b) ? 1.0 : std::erf(b / std::numbers::sqrt2);
-    return std::log(0.5 * (bb - std::erf(a / std::numbers::sqrt2)));
-  }
-  const double la = log_upper_tail(a), lb = log_upper_tail(b);
-  return la + std::log(-std::expm1(lb - la));
-}
-
-/// P(Z > z | lower < Z < upper) for a standard normal Z (upper may be
-/// +infinity), as a ratio of logs of Gaussian interval probabilities.
-inline double truncated_gaussian_upper_tail(double z, double lower, double upper) {
-  if (!(lower < upper)) return std::numeric_limits<double>::quiet_NaN();
-  z = std::clamp(z, lower, upper);
-  const double numerator = log_gaussian_interval(z, upper);
-  const double denominator = log_gaussian_interval(lower, upper);
-  if (std::isinf(numerator) && numerator < 0) return 0.0;
-  return std::min(1.0, std::exp(numerator - denominator));
-}
 
 /// P(F(2, d) > t) = (1 + 2 t / d)^(-d/2), in logs for large d.
 inline double f2_upper_tail(double t, double d) {
@@ -235,6 +196,26 @@ void check_testable(const Design& design, const Path<typename Design::Scalar>& p
       throw invalid_option("sign_constraints", "the significance tests assume no sign constraints");
   if (design.cols() != static_cast<Index>(prep.columns.size()))
     throw invalid_query("the design does not match the path's prepared columns");
+}
+
+/// sigma^2 for the tests on a prepared dense problem: `given` when > 0,
+/// else the full least-squares fit's residual variance (the rule of
+/// given_or_least_squares_variance), with its residual degrees of freedom
+/// (0 when given). Throws invalid_query when it cannot be estimated (too few
+/// rows, or an exact fit): the caller must give it, through the option
+/// `option` names. The one home of this refusal for the entry tests and the
+/// adjusted inference.
+template <class Scalar>
+std::pair<double, Index> noise_variance_for(const PreparedDense<Scalar>& prepared, const Path<Scalar>& path,
+                                            double given, const std::string& option) {
+  const auto estimate = given_or_least_squares_variance<Scalar>(given, prepared.design, path.preparation());
+  if (!estimate.given && estimate.residual_df <= 0)
+    throw invalid_query("the noise variance cannot be estimated by least squares with " +
+                        std::to_string(path.preparation().used_observations) + " rows and rank " +
+                        std::to_string(estimate.rank) + "; give " + option);
+  if (!(estimate.variance > Scalar(0)))
+    throw invalid_query("the least-squares fit is exact (zero residual variance); give " + option);
+  return {to_double(estimate.variance), estimate.given ? Index(0) : estimate.residual_df};
 }
 
 /// True for the knot-table rows that change the active set.
@@ -525,18 +506,9 @@ Significance entry_significance(const PreparedDense<Scalar>& prepared, const Pat
                                 const InferenceOptions& options = {}) {
   options.validate();
   detail::check_same_problem(prepared.preparation, path);
-  const auto estimate = detail::given_or_least_squares_variance<Scalar>(
-      options.noise_variance, prepared.design, path.preparation());
-  if (!estimate.given && estimate.residual_df <= 0)
-    throw invalid_query("the noise variance cannot be estimated by least squares with " +
-                        std::to_string(path.preparation().used_observations) + " rows and rank " +
-                        std::to_string(estimate.rank) + "; give InferenceOptions::noise_variance");
-  if (!(estimate.variance > Scalar(0)))
-    throw invalid_query(
-        "the least-squares fit is exact (zero residual variance); give "
-        "InferenceOptions::noise_variance");
-  return entry_significance(prepared.design, path, detail::to_double(estimate.variance),
-                            estimate.given ? Index(0) : estimate.residual_df);
+  const auto [variance, df] = detail::noise_variance_for(prepared, path, options.noise_variance,
+                                                         "InferenceOptions::noise_variance");
+  return entry_significance(prepared.design, path, variance, df);
 }
 
 }  // namespace knotpath

@@ -12,6 +12,7 @@
 /// auto at = path.at_penalty(0.5 * path.lambda_max());
 /// \endcode
 
+#include "adjusted_inference.hpp"
 #include "core.hpp"
 #include "criteria.hpp"
 #include "cross_validation.hpp"

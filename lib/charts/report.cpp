@@ -126,6 +126,13 @@ void write_charts(std::ostringstream& out, const ChartPath& path, const ReportOp
            "one-standard-error "
            "choice are marked.");
   }
+  if (!options.adjusted_intervals.panels.empty()) {
+    out << "<h2>Selection-adjusted intervals</h2>\n";
+    co.id_prefix = prefix + "-intervals";
+    figure(out, adjusted_intervals_svg(options.adjusted_intervals, co),
+           "Per selected predictor: the interval adjusted for the selection (blue) above the naive one "
+           "(grey), in standard errors of the estimate; the numbers on the original scale beside.");
+  }
 }
 
 // One of the caller's tables: heading, lead sentences, header, rows (the
@@ -259,11 +266,14 @@ std::vector<std::filesystem::path> write_report(const std::filesystem::path& dir
     co = options.charts;
   }
   if (selection) chosen = selection_curve_svg(*selection, co);
+  const std::string intervals =
+      options.adjusted_intervals.panels.empty() ? std::string() : adjusted_intervals_svg(options.adjusted_intervals, co);
   save("report.html", html);
   save("activity.svg", activity);
   save("traces.svg", traces);
   if (!budget.empty()) save("budget.svg", budget);
   if (!chosen.empty()) save("selection.svg", chosen);
+  if (!intervals.empty()) save("intervals.svg", intervals);
   return written;
 }
 

@@ -21,11 +21,14 @@ std::vector<std::string> caution_lines(bool with_selection);
 /// beside `dir` and moved into `dir` only when all of them were written, so
 /// a failure leaves no partial file and replaces nothing. Returns the files
 /// written (report.html first). `tables` are shown in report.html after the
-/// charts (select's choices, criteria and entry tests). Throws
+/// charts (select's choices, criteria and entry tests); `intervals`, when it
+/// has panels, is drawn after the selection curve (select's adjusted
+/// inference, intervals.svg). Throws
 /// failure(exit_io) when the file system refuses.
 std::vector<std::string> write_report_dir(const std::filesystem::path& dir,
                                           const Path<double>& path, const io::RunContext& context,
                                           const charts::SelectionCurve* selection,
-                                          std::vector<charts::ReportTable> tables = {});
+                                          std::vector<charts::ReportTable> tables = {},
+                                          charts::AdjustedIntervals intervals = {});
 
 }  // namespace knotpath::cli

@@ -20,6 +20,7 @@
 
 #include <knotpath/criteria.hpp>
 #include <knotpath/cross_validation.hpp>
+#include <knotpath/adjusted_inference.hpp>
 #include <knotpath/inference.hpp>
 
 #include "double_copy.hpp"
@@ -43,6 +44,8 @@ struct SelectArgs {
   std::string fold_column;
   std::optional<double> noise_variance;
   bool no_tests = false;
+  double level = AdjustedInferenceOptions{}.level;  // of the adjusted intervals
+  double fdr = 0.10;                                // ForwardStop's target
   PrecisionArgs precision;
   std::string json_file;
   std::string report_dir;
@@ -224,6 +227,26 @@ SelectData read_select_data(const SelectArgs& args, const Global& global, bool k
   return out;
 }
 
+// Inference after selection at the two choices (adjusted_inference.hpp):
+// per active predictor, the selection-adjusted interval and p-value beside
+// the naive ones, and the entries' sequential p-values with ForwardStop.
+struct AdjustedPoint {
+  std::string choice;  // "least CV error" or "parsimonious"
+  double mu = 0;
+  AdjustedInference inference;
+};
+
+struct AdjustedSummary {
+  std::vector<AdjustedPoint> points;
+  std::vector<EntryPValue> entries;  // the first entries (at most max_adjusted_entries)
+  ForwardStopChoice forward_stop;
+  bool entries_capped = false;  // the path has more entries than were tested
+};
+
+// The sequential p-values cost one polyhedron per entry: select stops at
+// this many (a path longer than that is rarely read entry by entry).
+constexpr Index max_adjusted_entries = 40;
+
 // Everything select computes, in doubles (a run in another arithmetic is
 // copied here number by number, double_copy.hpp).
 struct Selection {
@@ -232,6 +255,8 @@ struct Selection {
   std::string criteria_note;  // why there are none
   std::optional<Significance> significance;
   std::string significance_note;
+  std::optional<AdjustedSummary> adjusted;  // inference after selection (issue 22)
+  std::string adjusted_note;                // why there is none
   // Of the path in the arithmetic of the run (not of its double copy):
   std::string arithmetic;          // empty for double
   json precision;                  // the path document's "precision" member (null for double)
@@ -304,10 +329,58 @@ Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
   }
 }
 
+// Runs on the prepared Gram problem of the data (the statistics the path
+// was traced from, or one O(n p^2) pass): everything the polyhedra need is
+// Z^T y and Gram columns. sigma^2 and its degrees of freedom are the entry
+// tests' (the same rule). On a lasso path the choices are fixed-penalty
+// points (Lee et al.); on a least-angle path, the steps down to the knot at
+// or above each choice (Tibshirani et al.).
+template <class Scalar>
+AdjustedSummary adjusted_at_choices(const Matrix<Scalar>& x, const Vector<Scalar>& y, const CrossValidation<Scalar>& cv,
+                                    const Significance& significance,
+                                    const std::optional<SufficientStatistics<Scalar>>& statistics,
+                                    double level, double fdr) {
+  const Path<Scalar>& path = cv.full_path;
+  const PreparedGram<Scalar> prepared =
+      prepare_gram(statistics ? *statistics : SufficientStatistics<Scalar>::from_rows(x, y), path.options());
+  detail::check_same_problem(prepared.preparation, path);
+  const double sigma2 = significance.noise_variance;
+  const Index df = significance.residual_df;
+  AdjustedSummary out;
+  for (const auto& [choice, point] : {std::pair{"least CV error", &cv.minimum}, std::pair{"parsimonious", &cv.parsimonious}}) {
+    AdjustedPoint a{choice, as_double(point->mu), {}};
+    if (path.options().variant == Variant::lasso) {
+      a.inference = adjusted_inference_at_penalty(prepared.design, path, point->lambda, level, sigma2, df);
+    } else {
+      Index steps = 0;
+      for (const auto& k : path.knots())
+        if (k.step > 0 && k.penalty >= point->lambda && (k.event == EventKind::enter || k.event == EventKind::leave)) steps = k.step;
+      if (steps > 0) a.inference = adjusted_inference_after_steps(prepared.design, path, steps, level, sigma2, df);
+      a.inference.level = level;
+    }
+    out.points.push_back(std::move(a));
+  }
+  Index entries = 0;
+  for (const auto& k : path.knots()) entries += k.event == EventKind::enter;
+  out.entries_capped = entries > max_adjusted_entries;
+  Index rows = 0, seen = 0;  // rows covering the first max_adjusted_entries entries
+  for (const auto& k : path.knots()) {
+    if (k.step == 0) continue;
+    if (k.event == EventKind::enter && ++seen > max_adjusted_entries) break;
+    rows = k.step;
+  }
+  out.entries = entry_p_values(prepared.design, path, sigma2, std::max<Index>(rows, 1));
+  std::vector<double> p;
+  for (const auto& e : out.entries) p.push_back(e.p_value);
+  out.forward_stop = forward_stop(p, fdr);
+  return out;
+}
+
 template <class Scalar>
 Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const Vector<Scalar>& y,
                         const Vector<Scalar>& w, const CrossValidationOptions& cv_options,
-                        std::optional<double> noise_variance, bool tests) {
+                        std::optional<double> noise_variance, bool tests, double level = 0.9,
+                        double fdr = 0.1) {
   Selection s;
   if (data.progress)
     data.progress->status(fmt::format(
@@ -359,6 +432,18 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
       s.significance_note = reason_of(e);
     } catch (const invalid_query& e) {
       s.significance_note = reason_of(e);
+    }
+  }
+  if (!s.significance) {
+    s.adjusted_note = "needs the entry tests: " + s.significance_note;
+  } else {
+    if (data.progress) data.progress->status("inference after selection (adjusted intervals)");
+    try {
+      s.adjusted = adjusted_at_choices<Scalar>(x, y, cv, *s.significance, statistics, level, fdr);
+    } catch (const invalid_option& e) {
+      s.adjusted_note = reason_of(e);
+    } catch (const invalid_query& e) {
+      s.adjusted_note = reason_of(e);
     }
   }
   if constexpr (std::is_same_v<Scalar, double>) {
@@ -603,6 +688,197 @@ void print_choice_coefficients(std::ostream& out, const Selection& s, const Sele
   if (zero) out << fmt::format("  ({} more predictors are 0 at both)\n", zero);
 }
 
+// How to read the adjusted inference (printout, report and JSON): what is
+// conditioned on, what the interval is for, when the law is exact, the
+// stopping rule's assumption, and the limits of any such analysis.
+std::vector<std::string> adjusted_reading_notes(const Selection& s) {
+  const bool lasso = s.cv.full_path.options().variant == Variant::lasso;
+  std::vector<std::string> notes{
+      lasso ? "conditioned on: the active set and the signs of the lasso coefficients at each chosen penalty "
+              "(Lee, Sun, Sun & Taylor 2016); the penalty is treated as fixed, although cross-validation chose "
+              "it from the same data: the adjustment does not cover that choice"
+            : "conditioned on: the path's steps down to each chosen penalty with their signs (Tibshirani, "
+              "Taylor, Lockhart & Tibshirani 2016); the number of steps is treated as fixed, although "
+              "cross-validation chose it from the same data",
+      "each interval is for the projected coefficient: the coefficient of that predictor in the "
+      "least-squares fit of the mean response on the intercept and the predictors selected at that point, "
+      "not its coefficient in a model with all predictors, and not a causal effect",
+      "the truncated normal law is exact for Gaussian noise of known variance (--noise-variance) and a "
+      "fixed design; with the variance estimated from the full least-squares fit it is approximate",
+      "an end shown as inf is unbounded: the data cannot bound the coefficient on that side; an adjusted "
+      "interval can be far wider than the naive one, and need not contain the estimate when the estimate lies "
+      "close to the edge of what the selection allows",
+      "ForwardStop (G'Sell, Wager, Chouldechova & Tibshirani 2016) keeps the first k entries with "
+      "-1/k sum log(1 - p_i) <= the FDR asked; it assumes independent p-values, uniform for the null "
+      "entries, which the sequential adjusted p-values (each conditioned on the steps up to its entry) "
+      "satisfy exactly only at the first step",
+      "no substitute for a designed study (a new sample, a randomized trial) where decisions affect people"};
+  return notes;
+}
+
+// An interval's end as text: inf for an unbounded one.
+std::string shown_end(double v) {
+  if (std::isinf(v)) return v > 0 ? "inf" : "-inf";
+  return shown(v, 4);
+}
+
+std::string interval_text(double lo, double hi) {
+  return "[" + shown_end(lo) + ", " + shown_end(hi) + "]";
+}
+
+// The noise variance the adjustment used, and whether the law is exact.
+std::string adjusted_variance_phrase(const AdjustedInference& a) {
+  return a.residual_df > 0 ? fmt::format("noise variance {} from the least-squares fit, {} residual df: approximate",
+                                         shown(a.noise_variance), a.residual_df)
+                           : fmt::format("noise variance {} given: exact law", shown(a.noise_variance));
+}
+
+std::string adjusted_point_heading(const AdjustedPoint& p) {
+  const auto& a = p.inference;
+  const std::size_t m = a.coefficients.size();
+  return fmt::format("at {} (lambda {}, mu {}; {} active{})", p.choice, shown(a.penalty, 6), shown(p.mu, 6), m,
+                     a.conditioning == Conditioning::steps ? fmt::format(", after {} steps", a.steps) : std::string());
+}
+
+// Selection-adjusted intervals and p-values at the two choices, the
+// entries' sequential p-values and the ForwardStop choice.
+void print_adjusted(std::ostream& out, const Selection& s, const SelectData& data) {
+  if (!s.adjusted) {
+    out << "\ninference after selection: not computed: " << s.adjusted_note << '\n';
+    return;
+  }
+  const auto& names = data.context.predictor_names;
+  const AdjustedSummary& a = *s.adjusted;
+  const AdjustedInference& first = a.points.front().inference;
+  out << fmt::format("\ninference after selection ({:g}% intervals; {}):\n", 100 * first.level,
+                     adjusted_variance_phrase(first));
+  for (const auto& p : a.points) {
+    out << "  " << adjusted_point_heading(p) << ":\n";
+    if (p.inference.coefficients.empty()) {
+      out << "    (no predictor active)\n";
+      continue;
+    }
+    out << fmt::format("    {:<20} {:>11} {:>25} {:>9} {:>25} {:>9}\n", "predictor", "estimate", "adjusted interval",
+                       "p(adj)", "naive interval", "p(naive)");
+    for (const auto& c : p.inference.coefficients)
+      out << fmt::format("    {:<20} {:>11} {:>25} {:>9} {:>25} {:>9}\n", names[static_cast<std::size_t>(c.predictor)],
+                         shown(c.estimate, 5), interval_text(c.lower, c.upper), shown_p_value(c.p_value),
+                         interval_text(c.naive_lower, c.naive_upper), shown_p_value(c.naive_p_value));
+  }
+  out << "  entries, adjusted one-sided p-values (each in the model after its step, in the direction of its sign):\n";
+  out << "   ";
+  for (const auto& e : a.entries)
+    out << fmt::format(" {}{} {}{};", e.step, "", names[static_cast<std::size_t>(e.predictor)] + (e.sign > 0 ? "+" : "-"),
+                       " " + shown_p_value(e.p_value));
+  out << (a.entries_capped ? fmt::format(" (the first {} entries)\n", max_adjusted_entries) : std::string("\n"));
+  const auto& f = a.forward_stop;
+  std::string kept;
+  for (std::size_t i = 0; i < f.chosen; ++i)
+    kept += (i ? ", " : "") + names[static_cast<std::size_t>(a.entries[i].predictor)];
+  out << fmt::format("  ForwardStop at false discovery rate {:g}: keeps the first {} entr{}{}\n", f.alpha, f.chosen,
+                     f.chosen == 1 ? "y" : "ies", f.chosen ? " (" + kept + ")" : std::string());
+  for (const auto& line : adjusted_reading_notes(s)) out << "  " << line << '\n';
+}
+
+charts::ReportTable adjusted_table(const Selection& s, const SelectData& data) {
+  charts::ReportTable t;
+  t.heading = "Inference after selection";
+  t.id = "adjusted-inference";
+  if (!s.adjusted) {
+    t.lead = {"Not computed: " + s.adjusted_note};
+    return t;
+  }
+  const auto& names = data.context.predictor_names;
+  const AdjustedSummary& a = *s.adjusted;
+  const AdjustedInference& first = a.points.front().inference;
+  t.lead = {fmt::format("{:g}% intervals and p-values adjusted for the selection, beside the naive ones that "
+                        "ignore it ({}).",
+                        100 * first.level, adjusted_variance_phrase(first))};
+  t.columns = {"model", "predictor", "estimate", "adjusted interval", "p (adjusted)", "naive interval", "p (naive)"};
+  t.text_columns = {true, true, false, false, false, false, false};
+  for (const auto& p : a.points)
+    for (const auto& c : p.inference.coefficients)
+      t.rows.push_back({adjusted_point_heading(p), names[static_cast<std::size_t>(c.predictor)], shown(c.estimate, 5),
+                        interval_text(c.lower, c.upper), shown_p_value(c.p_value),
+                        interval_text(c.naive_lower, c.naive_upper), shown_p_value(c.naive_p_value)});
+  std::string kept;
+  for (std::size_t i = 0; i < a.forward_stop.chosen; ++i)
+    kept += (i ? ", " : "") + names[static_cast<std::size_t>(a.entries[i].predictor)];
+  t.lead.push_back(fmt::format("ForwardStop at false discovery rate {:g} keeps the first {} entries{}.",
+                               a.forward_stop.alpha, a.forward_stop.chosen, kept.empty() ? "" : " (" + kept + ")"));
+  t.notes = adjusted_reading_notes(s);
+  return t;
+}
+
+json adjusted_json(const Selection& s, const SelectData& data) {
+  if (!s.adjusted) return json{{"note", s.adjusted_note}};
+  const auto& names = data.context.predictor_names;
+  const AdjustedSummary& a = *s.adjusted;
+  json points = json::array();
+  for (const auto& p : a.points) {
+    json coefficients = json::array();
+    for (const auto& c : p.inference.coefficients)
+      coefficients.push_back(json{{"predictor", names[static_cast<std::size_t>(c.predictor)]},
+                                  {"sign", c.sign},
+                                  {"estimate", c.estimate},
+                                  {"standard_error", c.standard_error},
+                                  {"lower", number_or_null(c.lower)},
+                                  {"upper", number_or_null(c.upper)},
+                                  {"p_value", c.p_value},
+                                  {"one_sided_p_value", c.one_sided_p_value},
+                                  {"naive_lower", c.naive_lower},
+                                  {"naive_upper", c.naive_upper},
+                                  {"naive_p_value", c.naive_p_value},
+                                  {"truncation_lower", number_or_null(c.truncation_lower)},
+                                  {"truncation_upper", number_or_null(c.truncation_upper)}});
+    points.push_back(json{{"choice", p.choice},
+                          {"penalty", p.inference.penalty},
+                          {"mu", p.mu},
+                          {"conditioned_on", p.inference.conditioning == Conditioning::penalty
+                                                 ? "active set and signs at the penalty"
+                                                 : "the first steps and their signs"},
+                          {"steps", p.inference.steps},
+                          {"coefficients", coefficients}});
+  }
+  json entries = json::array();
+  for (const auto& e : a.entries)
+    entries.push_back(json{{"step", e.step},
+                           {"predictor", names[static_cast<std::size_t>(e.predictor)]},
+                           {"sign", e.sign},
+                           {"p_value", e.p_value}});
+  const AdjustedInference& first = a.points.front().inference;
+  return json{{"level", first.level},
+              {"noise_variance", first.noise_variance},
+              {"residual_df", first.residual_df},
+              {"exact", first.residual_df == 0},
+              {"unbounded_end", "null: the interval is unbounded on that side"},
+              {"points", points},
+              {"entries", entries},
+              {"entries_capped", a.entries_capped},
+              {"forward_stop", json{{"fdr", a.forward_stop.alpha},
+                                    {"kept_entries", a.forward_stop.chosen},
+                                    {"statistic", a.forward_stop.statistic}}},
+              {"reading", adjusted_reading_notes(s)}};
+}
+
+// Chart 5's data: one panel per choice with active predictors.
+charts::AdjustedIntervals intervals_chart(const Selection& s, const SelectData& data) {
+  charts::AdjustedIntervals chart;
+  if (!s.adjusted) return chart;
+  const auto& names = data.context.predictor_names;
+  chart.level = s.adjusted->points.front().inference.level;
+  for (const auto& p : s.adjusted->points) {
+    if (p.inference.coefficients.empty()) continue;
+    charts::IntervalPanel panel;
+    panel.heading = adjusted_point_heading(p);
+    for (const auto& c : p.inference.coefficients)
+      panel.rows.push_back({names[static_cast<std::size_t>(c.predictor)], c.estimate, c.standard_error, c.lower,
+                            c.upper, c.naive_lower, c.naive_upper, c.p_value, c.naive_p_value});
+    chart.panels.push_back(std::move(panel));
+  }
+  return chart;
+}
+
 // The text select prints.
 void print_selection(std::ostream& out, const Selection& s, const SelectData& data,
                      const SelectArgs& args) {
@@ -618,6 +894,7 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   print_cross_validation(out, s, args);
   print_criteria(out, s);
   print_choice_coefficients(out, s, data);
+  print_adjusted(out, s, data);
   out << '\n';
   for (const auto& line : caution_lines(true)) out << "caution: " << line << '\n';
 }
@@ -719,7 +996,8 @@ charts::ReportTable entry_tests_table(const Selection& s, const SelectData& data
 
 std::vector<charts::ReportTable> report_tables(const Selection& s, const SelectData& data,
                                                const SelectArgs& args) {
-  return {choices_table(s, data, args), criteria_table(s), entry_tests_table(s, data)};
+  return {choices_table(s, data, args), criteria_table(s), entry_tests_table(s, data),
+          adjusted_table(s, data)};
 }
 
 json choice_json(const CurvePoint<double>& c, const Path<double>& path,
@@ -826,6 +1104,7 @@ json selection_document(const Selection& s, const SelectData& data, const Select
     doc["significance"] = json{{"note", s.significance_note}};
   }
   if (s.significance) doc["significance"]["reading"] = test_reading_notes();
+  doc["adjusted_inference"] = adjusted_json(s, data);
   doc["cross_validation"]["one_standard_error_rule"] =
       json{{"threshold", cv.minimum.error + cv.minimum.standard_error},
            {"standard_error_at_minimum", cv.minimum.standard_error}};
@@ -866,7 +1145,8 @@ Selection run_in_precision(SelectData& data, const CrossValidationOptions& cv,
       return Selection{};
     } else {
       const TableData<Scalar> d = table_data<Scalar>(data.text);
-      return run_selection<Scalar>(data, d.x, d.y, d.w, cv, args.noise_variance, !args.no_tests);
+      return run_selection<Scalar>(data, d.x, d.y, d.w, cv, args.noise_variance, !args.no_tests, args.level,
+                                   args.fdr);
     }
   });
 }
@@ -915,7 +1195,19 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
       ->group("Criteria");
   command
       ->add_flag("--no-tests", args->no_tests,
-                 "Skip the covariance and spacing tests of each entry")
+                 "Skip the covariance and spacing tests of each entry and the adjusted inference")
+      ->group("Criteria");
+  command
+      ->add_option("--level", args->level,
+                   "Confidence level of the selection-adjusted and naive intervals, in (0, 1)")
+      ->check(CLI::Range(1e-6, 1 - 1e-6))
+      ->default_str("0.9")
+      ->group("Criteria");
+  command
+      ->add_option("--fdr", args->fdr,
+                   "False discovery rate of the ForwardStop rule over the entries' adjusted p-values")
+      ->check(CLI::Range(1e-6, 1 - 1e-6))
+      ->default_str("0.1")
       ->group("Criteria");
   add_precision_options(*command, args->precision);
   command
@@ -947,7 +1239,7 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     cv.fold_of = data.fold_of;
     cv.threads = args->model.threads;  // --threads: the folds in parallel
     Selection s = in_double ? run_selection<double>(data, data.x, data.y, data.w, cv,
-                                                    args->noise_variance, !args->no_tests)
+                                                    args->noise_variance, !args->no_tests, args->level, args->fdr)
                             : run_in_precision(data, cv, *args);
     require_finite_path(s.cv.full_path);
     std::ostringstream text;
@@ -973,7 +1265,7 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     }
     if (!args->report_dir.empty()) {
       const auto files = write_report_dir(args->report_dir, s.cv.full_path, data.context, &curve,
-                                          report_tables(s, data, *args));
+                                          report_tables(s, data, *args), intervals_chart(s, data));
       std::cout << "wrote " << files.front() << " (HTML report; charts beside it)\n";
     }
     std::cout.flush();

@@ -294,6 +294,44 @@ std::string coefficient_traces_svg(const ChartPath& path, const ChartOptions& op
 /// follows options.log_penalty and options.decreasing_penalty_left_to_right.
 std::string selection_curve_svg(const SelectionCurve& curve, const ChartOptions& options = {});
 
+/// One predictor's intervals in the adjusted-inference chart (original scale).
+struct IntervalRow {
+  std::string name;            ///< the predictor
+  double estimate = 0;         ///< least-squares coefficient on the selected set
+  double standard_error = 0;   ///< its standard error (> 0)
+  double lower = 0;            ///< selection-adjusted interval (ends may be infinite)
+  double upper = 0;            ///< (see lower)
+  double naive_lower = 0;      ///< the interval that ignores the selection
+  double naive_upper = 0;      ///< (see naive_lower)
+  double p_value = 1;          ///< adjusted p-value
+  double naive_p_value = 1;    ///< naive p-value
+};
+
+/// The predictors of one model (a point of the path) in the chart.
+struct IntervalPanel {
+  std::string heading;            ///< e.g. "least CV error, lambda 3.2, 4 active"
+  std::vector<IntervalRow> rows;  ///< one per active predictor
+};
+
+/// Chart 5's data: selection-adjusted intervals beside naive ones, one panel
+/// per model; the selection code fills it.
+struct AdjustedIntervals {
+  double level = 0.90;               ///< confidence level of both kinds of interval
+  std::vector<IntervalPanel> panels;  ///< at least one row in all
+
+  /// Throws invalid_option naming the first problem.
+  void validate() const;
+};
+
+/// Chart 5: selection-adjusted intervals beside the naive ones (SVG 1.1
+/// document text). The predictors have their own units, so each interval is
+/// drawn in units of its estimate's standard error (value / SE): the naive
+/// interval is then estimate/SE -+ z, and the distance of the adjusted one
+/// from it shows what the selection costs. Ends beyond the drawn range, or
+/// infinite, end in an arrow; 0 (no effect) is marked; the original-scale
+/// numbers and both p-values are written beside each row.
+std::string adjusted_intervals_svg(const AdjustedIntervals& intervals, const ChartOptions& options = {});
+
 /// A table of numbers in the HTML report, under its own heading. Plain
 /// data: the caller formats every cell (the report prints them as given),
 /// so a table shows the same digits as the caller's text output.
@@ -341,6 +379,9 @@ struct ReportOptions {
   /// Tables of numbers shown after the charts and before the audit of
   /// events (e.g. a selection's choices, criteria and tests), in this order.
   std::vector<ReportTable> tables;
+  /// Selection-adjusted intervals (chart 5), drawn after the selection
+  /// curve and written as intervals.svg; empty panels: none.
+  AdjustedIntervals adjusted_intervals;
 };
 
 /// Chart 4: the one-page report as XHTML-compatible HTML text: summary,
