@@ -104,8 +104,14 @@ struct ErrorOutcome {
 ErrorOutcome error_outcome(std::exception_ptr error);
 
 /// Adds --read and --block-rows (how the table is read: whole, or a block of
-/// rows at a time into the sufficient statistics) to a command whose
-/// tracing goes through trace_table().
+/// rows at a time) to a command, binding them to `reading` and
+/// `block_rows`; `blocks` and `automatic` say what the command does with a
+/// block and when auto reads in blocks.
+void add_reading_options(CLI::App& command, std::string& reading, std::size_t& block_rows, const std::string& blocks,
+                         const std::string& automatic);
+
+/// add_reading_options() for a command whose tracing goes through
+/// trace_table(): blocks go into the sufficient statistics.
 void add_reading_options(CLI::App& command, ModelArgs& args);
 
 /// The items of a list option's values (--use, --drop, --na, --indicators,

@@ -177,13 +177,19 @@ io::TableReadOptions start_reading(LoadedTable& out, const std::string& table_pa
 
 // What the reports say about the data, and the columns' roles: the
 // predictors are chosen by the library's rule (io::assign_columns).
-void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
-  const io::Table& table = out.table;
+// The columns' roles in a table (or its first block), a refusal of the
+// library becoming a bad-input failure.
+io::ColumnAssignment assigned_columns(const io::Table& table, const io::ColumnRoles& roles) {
   try {
-    out.columns = io::assign_columns(table, roles);
+    return io::assign_columns(table, roles);
   } catch (const invalid_data& e) {
     throw failure(exit_bad_input, e.detail());
   }
+}
+
+void describe_columns(LoadedTable& out, const io::ColumnRoles& roles) {
+  const io::Table& table = out.table;
+  out.columns = assigned_columns(table, roles);
   io::RunContext& context = out.context;
   context.source = table.source;
   context.response = roles.response;
@@ -322,6 +328,16 @@ void refuse_empty_path(const Path<double>& path, const io::RunContext& context,
                 shown_name + ": no predictor can enter the path; every one was left out: " + list);
 }
 
+// The traced table of a loaded one: its path and the reports' context,
+// with a path no predictor can enter refused.
+TracedTable finish_trace(LoadedTable& loaded, Path<double> path) {
+  TracedTable out;
+  out.path = std::move(path);
+  out.context = std::move(loaded.context);
+  refuse_empty_path(out.path, out.context, loaded.shown_name);
+  return out;
+}
+
 // The model arguments prepared for reading one table: the lists split, the
 // penalty scales parsed, the columns' roles and the reader's options, with
 // every contradiction that needs no table refused.
@@ -448,11 +464,7 @@ class BlockReading {
 
   // The first block names the columns: their roles and the trace options.
   void begin(const io::Table& block) {
-    try {
-      columns_ = io::assign_columns(block, plan_.roles);
-    } catch (const invalid_data& e) {
-      throw failure(exit_bad_input, e.detail());
-    }
+    columns_ = assigned_columns(block, plan_.roles);
     loaded_.options = trace_options(plan_.args, plan_.scales, columns_->names);
     loaded_.context.predictor_names = columns_->names;
   }
@@ -460,11 +472,7 @@ class BlockReading {
   // Runs f, naming a bad row of the data by its line in the file.
   template <class F>
   auto with_data_messages(const io::RowLines& lines, F&& f) -> decltype(f()) {
-    try {
-      return f();
-    } catch (const invalid_data& e) {
-      throw failure(exit_bad_input, data_message(e, loaded_.shown_name, columns_->names, lines));
-    }
+    return cli::with_data_messages(loaded_.shown_name, columns_->names, lines, std::forward<F>(f));
   }
 
   void add_to_stream(Piece<Scalar>& piece) {
@@ -514,11 +522,7 @@ TracedTable trace_in_blocks(const std::string& table_path, const ReadPlan& plan,
                                        [&](io::Table& block) { reading.take(block); });
   describe_columns(loaded, plan.roles);  // the context of the reader's whole table
   refuse_nothing_to_trace(reading.spread(), loaded.options, loaded.shown_name, plan.args.response);
-  TracedTable out;
-  out.path = reading.trace();
-  out.context = std::move(loaded.context);
-  refuse_empty_path(out.path, out.context, loaded.shown_name);
-  return out;
+  return finish_trace(loaded, reading.trace());
 }
 
 // ---- Shards: several tables, or the processes of an MPI job ----
@@ -693,33 +697,36 @@ TracedTable trace_shards(const std::vector<std::string>& tables, const ReadPlan&
   loaded.context.block_rows = plan.args.block_rows;
   loaded.context.shards = tables;
   refuse_nothing_to_trace(summary.spread, loaded.options, loaded.shown_name, plan.args.response);
-  TracedTable out;
-  out.path = trace_with_messages(
+  return finish_trace(
       loaded,
-      fmt::format("tracing the path from the statistics ({} rows in {} shards, {} predictors)", rows, count,
-                  loaded.context.predictor_names.size()),
-      [&] { return detail::trace_rows_statistics(*statistics, static_cast<Index>(rows), loaded.options); });
-  out.context = std::move(loaded.context);
-  refuse_empty_path(out.path, out.context, loaded.shown_name);
-  return out;
+      trace_with_messages(
+          loaded,
+          fmt::format("tracing the path from the statistics ({} rows in {} shards, {} predictors)", rows, count,
+                      loaded.context.predictor_names.size()),
+          [&] { return detail::trace_rows_statistics(*statistics, static_cast<Index>(rows), loaded.options); }));
 }
 
 }  // namespace
 
-void add_reading_options(CLI::App& command, ModelArgs& args) {
+void add_reading_options(CLI::App& command, std::string& reading, std::size_t& block_rows, const std::string& blocks,
+                         const std::string& automatic) {
   command
-      .add_option("--read", args.reading,
+      .add_option("--read", reading,
                   "How the table is read: whole (every row in memory), blocks (a block of rows at a "
-                  "time into the sufficient statistics, memory independent of the row count), or "
-                  "auto (blocks once the rows far outnumber the predictors, when that gives the "
-                  "same path as reading whole)")
+                  "time " + blocks + ", memory independent of the row count), or auto (" + automatic + ")")
       ->check(CLI::IsMember({"auto", "whole", "blocks"}))
       ->default_str("auto")
       ->group("Table");
-  command.add_option("--block-rows", args.block_rows, "Rows per block read (--read blocks and auto)")
+  command.add_option("--block-rows", block_rows, "Rows per block read (--read blocks and auto)")
       ->check(CLI::PositiveNumber)
       ->default_str("4096")
       ->group("Table");
+}
+
+void add_reading_options(CLI::App& command, ModelArgs& args) {
+  add_reading_options(command, args.reading, args.block_rows, "into the sufficient statistics",
+                      "blocks once the rows far outnumber the predictors, when that gives the same path as "
+                      "reading whole");
 }
 
 LoadedTable load_table(const std::string& table_path, const ModelArgs& given,
@@ -739,12 +746,9 @@ TracedTable trace_table(const std::string& table_path, const ModelArgs& args,
   ResponseSpread spread;
   spread.add(d.y, d.w);
   refuse_nothing_to_trace(spread, loaded.options, loaded.shown_name, args.response);
-  TracedTable out;
-  out.path = trace_table_data(
-      loaded, d, fmt::format("tracing the path ({} rows, {} predictors)", d.x.rows(), d.x.cols()));
-  out.context = std::move(loaded.context);
-  refuse_empty_path(out.path, out.context, loaded.shown_name);
-  return out;
+  return finish_trace(loaded, trace_table_data(loaded, d,
+                                               fmt::format("tracing the path ({} rows, {} predictors)",
+                                                           d.x.rows(), d.x.cols())));
 }
 
 template <class High>

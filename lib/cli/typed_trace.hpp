@@ -129,20 +129,31 @@ TableData<Scalar> table_data(LoadedTable& loaded) {
   return table_data<Scalar>(loaded.table, loaded.columns, loaded.shown_name);
 }
 
+/// Runs f; the library's refusal of bad data becomes a bad-input failure
+/// that names the row by its line in the file (data_message over `lines`
+/// and the predictors' `names`).
+template <class F>
+auto with_data_messages(const std::string& shown_name, const std::vector<std::string>& names,
+                        const io::RowLines& lines, F&& f) -> decltype(f()) {
+  try {
+    return f();
+  } catch (const invalid_data& e) {
+    throw failure(exit_bad_input, data_message(e, shown_name, names, lines));
+  }
+}
+
 /// Runs `trace` (which returns a Path) with `status` on the loaded table's
 /// progress line; the library's refusals become usage (bad option) and
-/// bad-input (bad data, named through data_message) failures.
+/// bad-input (bad data, with_data_messages) failures.
 template <class Trace>
 auto trace_with_messages(const LoadedTable& loaded, const std::string& status, Trace&& trace)
     -> decltype(trace()) {
   if (loaded.progress) loaded.progress->status(status);
   try {
-    return trace();
+    return with_data_messages(loaded.shown_name, loaded.context.predictor_names, loaded.table.row_lines,
+                              std::forward<Trace>(trace));
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
-  } catch (const invalid_data& e) {
-    throw failure(exit_bad_input,
-                  data_message(e, loaded.shown_name, loaded.context.predictor_names, loaded.table.row_lines));
   }
 }
 
