@@ -186,29 +186,80 @@ void check_magnitude([[maybe_unused]] const Scalar& largest, [[maybe_unused]] co
   }
 }
 
+/// The largest magnitudes check_magnitude() reads, per predictor column,
+/// for the response and for the weights: over every row, and over the rows
+/// of positive weight. Gathered over the rows in pieces of any size (note)
+/// and checked once (check); a maximum does not depend on how the rows were
+/// cut. Only floating types are limited (check_magnitude).
+template <class Scalar>
+struct DataMagnitudes {
+  Vector<Scalar> largest;       ///< per column, over every row
+  Vector<Scalar> largest_used;  ///< per column, over the rows of positive weight
+  Scalar largest_y{0};          ///< the response, over every row
+  Scalar largest_used_y{0};     ///< the response, over the rows of positive weight
+  Scalar largest_w{0};          ///< the weights
+
+  /// Nothing seen yet, for `predictors` columns.
+  explicit DataMagnitudes(Index predictors = 0)
+      : largest(Vector<Scalar>::Zero(predictors)), largest_used(Vector<Scalar>::Zero(predictors)) {}
+
+  /// Takes in the rows of (x, y) with their weights (empty: every row has
+  /// weight 1); the values are finite (check_finite_values).
+  template <class Derived>
+  void note([[maybe_unused]] const Eigen::MatrixBase<Derived>& x, [[maybe_unused]] const Vector<Scalar>& y,
+            [[maybe_unused]] const Vector<Scalar>& weights) {
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      const bool weighted = weights.size() != 0;
+      auto fold = [&](const auto& v, Scalar& top, Scalar& top_used) {
+        for (Index i = 0; i < v.size(); ++i) {
+          const Scalar a = std::abs(v(i));
+          top = std::max(top, a);
+          if (!weighted || weights(i) > Scalar(0)) top_used = std::max(top_used, a);
+        }
+      };
+      for (Index j = 0; j < x.cols(); ++j) fold(x.col(j), largest(j), largest_used(j));
+      fold(y, largest_y, largest_used_y);
+      if (weighted) largest_w = std::max(largest_w, weights.cwiseAbs().maxCoeff());
+    }
+  }
+
+  /// check_magnitude() for every column, the response and (`weighted`) the
+  /// weights.
+  void check(bool weighted) const {
+    for (Index j = 0; j < largest.size(); ++j)
+      check_magnitude(largest(j), largest_used(j), std::string(), static_cast<std::size_t>(j));
+    check_magnitude(largest_y, largest_used_y, std::string("the response"));
+    if (weighted) check_magnitude(largest_w, largest_w, std::string("the weight vector"));
+  }
+};
+
 /// check_magnitude() for every predictor column, the response and the
 /// weights of dense data (`weights` empty: every row has weight 1).
 template <class Scalar, class Derived>
-void check_magnitudes([[maybe_unused]] const Eigen::MatrixBase<Derived>& x, [[maybe_unused]] const Vector<Scalar>& y,
-                      [[maybe_unused]] const Vector<Scalar>& weights) {
-  if constexpr (std::is_floating_point_v<Scalar>) {
-    const bool weighted = weights.size() != 0;
-    auto check = [&](const auto& v, const std::string& what, std::optional<std::size_t> column = std::nullopt) {
-      Scalar largest(0), largest_used(0);
-      for (Index i = 0; i < v.size(); ++i) {
-        const Scalar a = std::abs(v(i));
-        largest = std::max(largest, a);
-        if (!weighted || weights(i) > Scalar(0)) largest_used = std::max(largest_used, a);
-      }
-      check_magnitude(largest, largest_used, what, column);
-    };
-    for (Index j = 0; j < x.cols(); ++j) check(x.col(j), std::string(), static_cast<std::size_t>(j));
-    check(y, std::string("the response"));
-    if (weighted) {
-      const Scalar top = weights.cwiseAbs().maxCoeff();
-      check_magnitude(top, top, std::string("the weight vector"));
-    }
+void check_magnitudes(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights) {
+  DataMagnitudes<Scalar> magnitudes(x.cols());
+  magnitudes.note(x, y, weights);
+  magnitudes.check(weights.size() != 0);
+}
+
+/// Throws invalid_data for the first value of the rows that is not finite,
+/// or weight that is negative: every response and weight first, in row
+/// order, then the design column by column. The rows are named from
+/// `first_row` on (rows handed over in pieces count from the first piece).
+template <class Scalar, class Derived>
+void check_finite_values(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const Vector<Scalar>& weights,
+                         std::size_t first_row = 0) {
+  const Index n = x.rows();
+  const auto row = [&](Index i) { return first_row + static_cast<std::size_t>(i); };
+  for (Index i = 0; i < n; ++i) {
+    if (!is_finite_value(y(i))) throw invalid_data::at_row(row(i), "the response is not finite");
+    if (weights.size() != 0 && (!is_finite_value(weights(i)) || weights(i) < Scalar(0)))
+      throw invalid_data::at_row(row(i), "the weight is negative or not finite");
   }
+  for (Index j = 0; j < x.cols(); ++j)
+    for (Index i = 0; i < n; ++i)
+      if (!is_finite_value(x(i, j)))
+        throw invalid_data::at_row(row(i), "the design value is not finite", static_cast<std::size_t>(j));
 }
 
 /// Checks sizes and finiteness of user data; throws invalid_data naming the place.
@@ -223,17 +274,7 @@ void check_data(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, co
   if (weights.size() != 0 && weights.size() != n)
     throw invalid_data("there are " + std::to_string(weights.size()) + " weights for " +
                        std::to_string(n) + " rows");
-  for (Index i = 0; i < n; ++i) {
-    if (!is_finite_value(y(i)))
-      throw invalid_data::at_row(static_cast<std::size_t>(i), "the response is not finite");
-    if (weights.size() != 0 && (!is_finite_value(weights(i)) || weights(i) < Scalar(0)))
-      throw invalid_data::at_row(static_cast<std::size_t>(i), "the weight is negative or not finite");
-  }
-  for (Index j = 0; j < x.cols(); ++j)
-    for (Index i = 0; i < n; ++i)
-      if (!is_finite_value(x(i, j)))
-        throw invalid_data::at_row(static_cast<std::size_t>(i), "the design value is not finite",
-                                   static_cast<std::size_t>(j));
+  check_finite_values(x, y, weights);
   check_magnitudes(x, y, weights);
 }
 

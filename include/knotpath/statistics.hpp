@@ -347,13 +347,14 @@ struct SufficientStatistics {
 /// rows were cut into pieces. Memory: one block and the p x p comoments,
 /// O(height p + p^2), whatever the number of rows.
 ///
-/// Checks: each row as it arrives (a response or design value that is not
-/// finite, a weight that is negative or not finite: invalid_data::at_row
+/// Checks: the rows of each add() as trace() checks all of its rows
+/// (detail::check_finite_values: a response or design value that is not
+/// finite, a weight that is negative or not finite, invalid_data::at_row
 /// with the row's index counted from the first row ever added), and at
-/// finish() the magnitudes trace() refuses (detail::check_magnitude, the
-/// same messages) and the data with no rows. A stream reports the first
-/// bad row it meets; trace() checks every response before any design value,
-/// so with two faults the two may name different ones.
+/// finish() the magnitudes trace() refuses (detail::DataMagnitudes, the
+/// same messages) and the data with no rows. With two faults in different
+/// add() calls the stream names the earlier call's, which trace() of all
+/// the rows may not (it checks every response before any design value).
 ///
 /// Usage:
 ///     StatisticsAccumulator<double> acc(p, false);
@@ -386,8 +387,7 @@ class StatisticsAccumulator {
         xb_(height_, predictors),
         yb_(height_),
         wb_(height_),
-        largest_(Vector<Scalar>::Zero(predictors)),
-        largest_used_(Vector<Scalar>::Zero(predictors)) {
+        magnitudes_(predictors) {
     if (predictors < 0) throw invalid_data("a negative number of predictors");
     used_.reserve(static_cast<std::size_t>(height_));
   }
@@ -413,16 +413,22 @@ class StatisticsAccumulator {
     if (w.size() != (weighted_ ? x.rows() : 0))
       throw invalid_data(weighted_ ? "weighted statistics need one weight per row added"
                                    : "weights given to statistics made without weights");
-    for (Index i = 0; i < x.rows(); ++i) {
-      check_row(x.row(i), y(i), weighted_ ? w(i) : Scalar(1), added_ + i);
-      note_magnitudes(x.row(i), y(i), weighted_ ? w(i) : Scalar(1));
-    }
-    for (Index i = 0; i < x.rows(); ++i) {
-      xb_.row(filled_) = x.row(i);
-      yb_(filled_) = y(i);
-      wb_(filled_) = weighted_ ? w(i) : Scalar(1);
-      ++added_;
-      if (++filled_ == height_) summarise_block();
+    detail::check_finite_values(x, y, w, static_cast<std::size_t>(added_));
+    magnitudes_.note(x, y, w);
+    // Whole runs of rows into the block (the same values, row for row, as
+    // copying them one at a time: the blocks and their sums do not change).
+    for (Index i = 0; i < x.rows();) {
+      const Index take = std::min(height_ - filled_, x.rows() - i);
+      xb_.middleRows(filled_, take) = x.middleRows(i, take);
+      yb_.segment(filled_, take) = y.segment(i, take);
+      if (weighted_)
+        wb_.segment(filled_, take) = w.segment(i, take);
+      else
+        wb_.segment(filled_, take).setOnes();
+      i += take;
+      added_ += take;
+      filled_ += take;
+      if (filled_ == height_) summarise_block();
     }
   }
 
@@ -437,42 +443,11 @@ class StatisticsAccumulator {
     if (filled_ > 0) summarise_block();
     Statistics::remove_design_shift(statistics_, shift_, sum_x_);
     if (statistics_.rows != 0) response_.finish(statistics_, sum_x_);
-    for (Index j = 0; j < predictors(); ++j)
-      detail::check_magnitude(largest_(j), largest_used_(j), std::string(), static_cast<std::size_t>(j));
-    detail::check_magnitude(largest_y_, largest_used_y_, std::string("the response"));
-    if (weighted_) detail::check_magnitude(largest_w_, largest_w_, std::string("the weight vector"));
+    magnitudes_.check(weighted_);
     return std::move(statistics_);
   }
 
  private:
-  template <class Row>
-  static void check_row(const Row& x, const Scalar& y, const Scalar& w, Index row) {
-    const auto at = static_cast<std::size_t>(row);
-    if (!detail::is_finite_value(y)) throw invalid_data::at_row(at, "the response is not finite");
-    if (!detail::is_finite_value(w) || w < Scalar(0))
-      throw invalid_data::at_row(at, "the weight is negative or not finite");
-    for (Index j = 0; j < x.size(); ++j)
-      if (!detail::is_finite_value(x(j)))
-        throw invalid_data::at_row(at, "the design value is not finite", static_cast<std::size_t>(j));
-  }
-
-  // The largest magnitudes detail::check_magnitudes() reads: over every
-  // row, and over the rows of positive weight.
-  template <class Row>
-  void note_magnitudes(const Row& x, const Scalar& y, const Scalar& w) {
-    if constexpr (std::is_floating_point_v<Scalar>) {
-      const bool used = w > Scalar(0);
-      for (Index j = 0; j < x.size(); ++j) {
-        const Scalar a = std::abs(x(j));
-        largest_(j) = std::max(largest_(j), a);
-        if (used) largest_used_(j) = std::max(largest_used_(j), a);
-      }
-      largest_y_ = std::max(largest_y_, Scalar(std::abs(y)));
-      if (used) largest_used_y_ = std::max(largest_used_y_, Scalar(std::abs(y)));
-      largest_w_ = std::max(largest_w_, Scalar(std::abs(w)));
-    }
-  }
-
   // The block's rows of positive weight, moved up in place (as from_rows()
   // gathers them), then summarised by the design side and the response side.
   void summarise_block() {
@@ -511,8 +486,7 @@ class StatisticsAccumulator {
   Index block_start_ = 0;                      // row index of the block's first row
   Index added_ = 0;                            // rows added
   bool finished_ = false;
-  Vector<Scalar> largest_, largest_used_;      // magnitudes per column (check_magnitude)
-  Scalar largest_y_{0}, largest_used_y_{0}, largest_w_{0};
+  detail::DataMagnitudes<Scalar> magnitudes_;  // what finish() checks (check_magnitude)
 };
 
 }  // namespace knotpath
