@@ -29,6 +29,7 @@
 #include <knotpath/adjusted_inference.hpp>
 #include <knotpath/core.hpp>
 
+#include "tables.hpp"
 #include "timing.hpp"
 
 namespace {
@@ -42,20 +43,8 @@ using knotpath::bench::RatioLog;
 using knotpath::bench::seconds;
 
 // Gaussian design, AR(1) correlation 0.5 between neighbouring columns, and a
-// response on its first twenty columns with unit noise.
-void table(Index n, Index p, Mat& x, Vec& y) {
-  std::mt19937_64 gen(2201);
-  std::normal_distribution<double> normal;
-  x.resize(n, p);
-  y.resize(n);
-  for (Index i = 0; i < n; ++i) {
-    double prev = normal(gen);
-    x(i, 0) = prev;
-    for (Index j = 1; j < p; ++j) x(i, j) = prev = 0.5 * prev + 0.866 * normal(gen);
-    y(i) = normal(gen);
-    for (Index j = 0; j < std::min<Index>(20, p); ++j) y(i) += 0.05 * static_cast<double>(j + 1) * x(i, j);
-  }
-}
+// response on its first 20 columns with unit noise.
+void table(Index n, Index p, Mat& x, Vec& y) { knotpath::bench::ar1_table(n, p, 20, 0.05, 2201, x, y); }
 
 template <bool Steps, bool Gram>
 void adjusted(benchmark::State& state) {

@@ -27,6 +27,7 @@
 #include <knotpath/inference.hpp>
 #include <knotpath/knotpath.hpp>
 
+#include "tables.hpp"
 #include "timing.hpp"
 
 namespace {
@@ -41,20 +42,8 @@ using knotpath::bench::RatioLog;
 using knotpath::bench::seconds;
 
 // Gaussian design, AR(1) correlation 0.5 between neighbouring columns, and a
-// response on its first ten columns with unit noise (every column enters).
-void table(Index n, Index p, Mat& x, Vec& y) {
-  std::mt19937_64 gen(1801);
-  std::normal_distribution<double> normal;
-  x.resize(n, p);
-  y.resize(n);
-  for (Index i = 0; i < n; ++i) {
-    double prev = normal(gen);
-    x(i, 0) = prev;
-    for (Index j = 1; j < p; ++j) x(i, j) = prev = 0.5 * prev + 0.866 * normal(gen);
-    y(i) = normal(gen);
-    for (Index j = 0; j < std::min<Index>(10, p); ++j) y(i) += 0.2 * static_cast<double>(j + 1) * x(i, j);
-  }
-}
+// response on its first 10 columns with unit noise.
+void table(Index n, Index p, Mat& x, Vec& y) { knotpath::bench::ar1_table(n, p, 10, 0.2, 1801, x, y); }
 
 void select(benchmark::State& state) {
   Mat x;

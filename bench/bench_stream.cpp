@@ -30,6 +30,7 @@
 #include <fmt/format.h>
 #include <knotpath/io/table.hpp>
 
+#include "lcg.hpp"
 #include "timing.hpp"
 
 namespace {
@@ -48,11 +49,8 @@ std::filesystem::path table_file(long rows, long predictors) {
   const auto partial = path.string() + ".part";
   std::FILE* out = std::fopen(partial.c_str(), "w");
   if (out == nullptr) throw std::runtime_error("cannot write " + partial);
-  std::uint64_t state = 2026;
-  auto next = [&] {
-    state = state * 6364136223846793005ULL + 1442695040888963407ULL;
-    return static_cast<double>(state >> 11) / 9007199254740992.0;
-  };
+  knotpath::testing::Lcg lcg(2026);
+  auto next = [&] { return lcg.uniform(); };
   std::string line;
   for (long j = 0; j < predictors; ++j) line += fmt::format("x{},", j + 1);
   line += "y\n";

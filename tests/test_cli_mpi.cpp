@@ -24,6 +24,7 @@
 #include <fmt/format.h>
 
 #include "cli_runner.hpp"
+#include "lcg.hpp"
 #include "test_support.hpp"
 
 namespace {
@@ -66,11 +67,8 @@ class Mpi : public knotpath::testing::ProgramTest {
   // Writes `count` shards of `rows` invented rows (a fixed-seed generator;
   // four predictors, weights) and returns their names, space separated.
   std::string write_shards(std::size_t count, int rows) const {
-    std::uint64_t state = 5;
-    auto next = [&] {  // a 64-bit LCG (Knuth's MMIX constants; common practice)
-      state = state * 6364136223846793005ULL + 1442695040888963407ULL;
-      return static_cast<double>(state >> 11) / 9007199254740992.0 - 0.5;
-    };
+    knotpath::testing::Lcg lcg(5);
+    auto next = [&] { return lcg.centred(); };
     std::vector<std::ofstream> files;
     std::string names;
     for (std::size_t s = 0; s < count; ++s) {

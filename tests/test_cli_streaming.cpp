@@ -22,6 +22,7 @@
 #include <nlohmann/json.hpp>
 
 #include "cli_runner.hpp"
+#include "lcg.hpp"
 #include "test_support.hpp"
 
 namespace {
@@ -39,11 +40,8 @@ class Streaming : public knotpath::testing::ProgramTest {
   // missing cell (read with --missing drop) and a blank line follows every
   // 500th, so the kept rows and the file's lines part ways.
   void write_table(const std::string& name, int rows, std::uint64_t seed = 11) const {
-    std::uint64_t state = seed;
-    auto next = [&] {  // a 64-bit LCG (Knuth's MMIX constants; common practice)
-      state = state * 6364136223846793005ULL + 1442695040888963407ULL;
-      return static_cast<double>(state >> 11) / 9007199254740992.0 - 0.5;
-    };
+    knotpath::testing::Lcg lcg(seed);
+    auto next = [&] { return lcg.centred(); };
     std::ofstream out(file(name));
     out << "site,a,b,c,d,e,w,y\n";
     for (int i = 0; i < rows; ++i) {

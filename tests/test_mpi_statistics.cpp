@@ -17,6 +17,8 @@
 #include <knotpath/shards.hpp>
 #include <knotpath/trace.hpp>
 
+#include "lcg.hpp"
+
 namespace {
 
 namespace kp = knotpath;
@@ -30,11 +32,8 @@ struct Shard {
 // Shard s of an invented table: 3 + 17 s mod 41 rows of p predictors with
 // weights 0 to 3 (weight-0 rows included: they count as rows, not in the sums).
 std::vector<Shard> make_shards(std::size_t count, Index p) {
-  std::uint64_t state = 99;
-  auto next = [&] {  // a 64-bit LCG (Knuth's MMIX constants; common practice)
-    state = state * 6364136223846793005ULL + 1442695040888963407ULL;
-    return static_cast<double>(state >> 11) / 9007199254740992.0 - 0.5;
-  };
+  knotpath::testing::Lcg lcg(99);
+  auto next = [&] { return lcg.centred(); };
   std::vector<Shard> shards(count);
   for (std::size_t s = 0; s < count; ++s) {
     const Index m = static_cast<Index>(3 + (17 * s) % 41);

@@ -24,6 +24,8 @@
 #include <knotpath/io/table.hpp>
 #include <knotpath/trace.hpp>
 
+#include "lcg.hpp"
+
 namespace {
 
 using knotpath::io::ColumnAssignment;
@@ -266,11 +268,8 @@ TEST(TableBlocks, BlocksHoldTheRowsTheWholeTableHolds) {
 // bit for bit (fixed block boundaries of the statistics, fixed order).
 TEST(TableBlocks, AStreamedTableTracesTheInMemoryGramPathBitForBit) {
   std::string text = "x1,x2,x3,w,y\n";
-  std::uint64_t state = 7;
-  auto next = [&] {  // a small LCG (common practice); fixed seed
-    state = state * 6364136223846793005ULL + 1442695040888963407ULL;
-    return static_cast<double>(state >> 11) / 9007199254740992.0 - 0.5;
-  };
+  knotpath::testing::Lcg lcg(7);
+  auto next = [&] { return lcg.centred(); };
   for (int i = 0; i < 2500; ++i) {
     const double a = next(), b = next() + 0.5 * a, c = next();
     text += std::to_string(a) + "," + std::to_string(b) + "," + std::to_string(c) + "," +
