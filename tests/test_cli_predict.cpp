@@ -18,6 +18,7 @@
 #include <knotpath/io/saved.hpp>
 
 #include "cli_runner.hpp"
+#include "lcg.hpp"
 
 namespace {
 
@@ -337,6 +338,89 @@ TEST_F(CliPredict, AnExactPathPredictsInFractions) {
   const auto out = lines(ok.out);
   ASSERT_EQ(out.size(), 2u);
   EXPECT_NE(out[1].find('/'), std::string::npos) << out[1];  // an exact fraction
+}
+
+// predict reads its table in blocks (issue 20, point 1: memory independent
+// of the row count): the bytes of every block height equal those of the
+// whole reading, with row keys and without, to standard output and to a
+// file, in double and in 50 digits (each row's prediction is the same
+// product whichever block holds it; common practice for row-wise scoring).
+TEST_F(CliPredict, BlocksOfAnyHeightPredictTheWholeReadingsBytes) {
+  write_training();
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  ASSERT_EQ(run("trace t.csv --response y --precision 50 --save m50.kpath").code, 0);
+  knotpath::testing::Lcg lcg(20);
+  std::ofstream keyed(file("many.csv")), plain(file("plain.csv"));
+  keyed << "c,patient,b,a\n";
+  plain << "a,b,c\n";
+  for (int i = 0; i < 1000; ++i) {
+    const double a = 4 * lcg.centred(), b = 4 * lcg.centred(), c = 4 * lcg.centred();
+    keyed << kp::io::round_trip(c) << ",p" << i << ',' << kp::io::round_trip(b) << ',' << kp::io::round_trip(a)
+          << '\n';
+    plain << kp::io::round_trip(a) << ',' << kp::io::round_trip(b) << ',' << kp::io::round_trip(c) << '\n';
+  }
+  keyed.close();
+  plain.close();
+  for (const char* saved : {"m.kpath", "m50.kpath"})
+    for (const char* table : {"many.csv", "plain.csv"}) {
+      const std::string ask = fmt::format("predict {} {} --mu 0.05", saved, table);
+      const Outcome whole = run(ask + " --read whole");
+      ASSERT_EQ(whole.code, 0) << whole.err;
+      ASSERT_EQ(lines(whole.out).size(), 1001u);
+      for (const char* reading : {"--read blocks --block-rows 7", "--read blocks --block-rows 1000",
+                                  "--block-rows 333", ""}) {
+        const Outcome blocks = run(ask + " " + reading);
+        ASSERT_EQ(blocks.code, 0) << blocks.err;
+        EXPECT_EQ(blocks.out, whole.out) << ask << " " << reading;
+        EXPECT_EQ(blocks.err, whole.err) << ask << " " << reading;
+      }
+      ASSERT_EQ(run(ask + " --read blocks --block-rows 64 --out scores.csv").code, 0);
+      EXPECT_EQ(slurp(file("scores.csv")), whole.out) << ask;
+    }
+}
+
+// A bad row stops the blocks read there: the error names its line; written
+// to a file, nothing is left (the output is atomic); to standard output, the
+// rows of the blocks before it have been written and the status says the
+// output is incomplete (README, "Tables larger than memory").
+TEST_F(CliPredict, ABadRowInALaterBlockEndsTheOutputWithItsLine) {
+  write_training();
+  ASSERT_EQ(run("trace t.csv --response y --save m.kpath").code, 0);
+  std::ofstream table(file("bad.csv"));
+  table << "a,b,c\n";
+  for (int i = 0; i < 50; ++i) table << (i == 30 ? std::string("oops") : std::to_string(0.1 * i)) << ",1,2\n";
+  table.close();
+  const Outcome to_file = run("predict m.kpath bad.csv --mu 0.05 --block-rows 10 --out scores.csv");
+  EXPECT_EQ(to_file.code, 3);
+  EXPECT_NE(to_file.err.find("line 32"), std::string::npos) << to_file.err;
+  EXPECT_FALSE(std::filesystem::exists(file("scores.csv")));
+  const Outcome to_stdout = run("predict m.kpath bad.csv --mu 0.05 --block-rows 10");
+  EXPECT_EQ(to_stdout.code, 3);
+  EXPECT_EQ(lines(to_stdout.out).size(), 31u);  // the header and the first three blocks
+  const Outcome whole = run("predict m.kpath bad.csv --mu 0.05 --read whole");
+  EXPECT_EQ(whole.code, 3);
+  EXPECT_TRUE(whole.out.empty());
+}
+
+// A path with indicator columns checks the new levels over the whole table
+// first: auto reads it whole, and --read blocks is refused as a usage error.
+TEST_F(CliPredict, APathWithIndicatorsIsScoredFromTheWholeTable) {
+  std::ofstream train(file("text.csv"));
+  train << "x,colour,y\n";
+  const char* levels[] = {"blue", "green", "red"};
+  for (int i = 0; i < 24; ++i)
+    train << kp::io::round_trip(std::sin(i * 0.9)) << ',' << levels[i % 3] << ','
+          << kp::io::round_trip(std::cos(i * 1.7) + (i % 3)) << '\n';
+  train.close();
+  ASSERT_EQ(run("trace text.csv --response y --indicators colour --save m.kpath").code, 0);
+  std::ofstream(file("new.csv")) << "colour,x\nred,0.5\nblue,-0.25\nred,1\n";
+  const Outcome automatic = run("predict m.kpath new.csv --mu 0.01 --block-rows 1");
+  ASSERT_EQ(automatic.code, 0) << automatic.err;
+  EXPECT_EQ(automatic.out, run("predict m.kpath new.csv --mu 0.01 --read whole").out);
+  const Outcome blocks = run("predict m.kpath new.csv --mu 0.01 --read blocks");
+  EXPECT_EQ(blocks.code, 2);
+  EXPECT_NE(blocks.err.find("--read blocks cannot score a path traced with indicator columns"), std::string::npos)
+      << blocks.err;
 }
 
 }  // namespace
