@@ -223,6 +223,7 @@ struct SelectionCurve {
   std::string error_name = "mean squared prediction error";
   std::string error_unit;              ///< e.g. "(kg/m2)^2"; empty: "response units squared"
   std::size_t folds = 0;               ///< cross-validation folds (0: unknown)
+  std::size_t repeats = 1;             ///< fold assignments averaged (repeated cross-validation)
   std::vector<SelectionPoint> points;  ///< the curve, any order (sorted when drawn)
   double minimizer = std::numeric_limits<double>::quiet_NaN();      ///< penalty of least mean error
   double minimum_error = std::numeric_limits<double>::quiet_NaN();  ///< the least mean error
@@ -250,7 +251,8 @@ SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
   SelectionCurve out;
   out.penalty_name = "mu";
   out.standardized = cv.full_path.preparation().standardized;
-  out.folds = cv.folds.size();
+  out.folds = cv.folds_per_repeat();
+  out.repeats = cv.repeats;
   auto add = [&](const Scalar& mu) {
     const CurvePoint<Scalar> q = cv.point_at_mu(mu);
     out.points.push_back({to_double(q.mu), to_double(q.error), to_double(q.standard_error)});
