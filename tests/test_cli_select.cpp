@@ -138,6 +138,8 @@ void expect_report(const fs::path& dir, bool with_selection) {
   if (with_selection) want.push_back("selection.svg");
   // select's adjusted intervals (chart 5) when some predictor is active at a choice.
   if (with_selection && fs::exists(dir / "intervals.svg")) want.push_back("intervals.svg");
+  // select --repeats R > 1: the stability chart (chart 6).
+  if (with_selection && fs::exists(dir / "stability.svg")) want.push_back("stability.svg");
   std::sort(want.begin(), want.end());
   std::vector<std::string> have;
   for (const auto& entry : fs::directory_iterator(dir)) have.push_back(entry.path().filename());
@@ -950,6 +952,25 @@ TEST_F(Select, RepeatsAverageTheCurveAndCountActivityOverTheFoldPaths) {
   const std::string html = slurp(file("rep") / "report.html");
   EXPECT_NE(html.find("Stability across folds and seeds"), std::string::npos);
   EXPECT_NE(slurp(file("rep") / "selection.svg").find("averaged over 3 seeds"), std::string::npos);
+  // The stability chart: one row per predictor active somewhere at either
+  // choice, a filled square for each (row, choice) the full path has.
+  expect_report(file("rep"), true);
+  ASSERT_TRUE(fs::exists(file("rep") / "stability.svg"));
+  const std::string svg = slurp(file("rep") / "stability.svg");
+  std::size_t listed = 0, full = 0;
+  for (std::size_t j = 0; j < fx.p.names.size(); ++j) {
+    listed += least.active_in_folds[j] > 0 || lean.active_in_folds[j] > 0 || least.active_in_full_path[j] ||
+              lean.active_in_full_path[j];
+    full += static_cast<std::size_t>(least.active_in_full_path[j]) + static_cast<std::size_t>(lean.active_in_full_path[j]);
+  }
+  auto count = [&](const std::string& needle) {
+    std::size_t n = 0;
+    for (auto at = svg.find(needle); at != std::string::npos; at = svg.find(needle, at + 1)) ++n;
+    return n;
+  };
+  EXPECT_EQ(count("class=\"stability-row\""), listed);
+  EXPECT_EQ(count("class=\"full\""), full);
+  EXPECT_EQ(count("class=\"not-full\""), 2 * listed - full);
 }
 
 // One seed (the default, or --repeats 1) prints and writes what select wrote

@@ -958,6 +958,18 @@ charts::AdjustedIntervals intervals_chart(const Selection& s, const SelectData& 
   return chart;
 }
 
+// The stability chart (chart 6) of a repeated cross-validation: the rows of
+// the printout's listing; no rows with one seed.
+charts::StabilityBars stability_chart(const Selection& s, const SelectData& data) {
+  charts::StabilityBars bars;
+  if (s.cv.repeats < 2) return bars;
+  bars.fold_paths = s.least_activity.fold_paths;
+  bars.seeds = s.cv.repeats;
+  for (const auto& r : activity_rows(s))
+    bars.rows.push_back({data.context.predictor_names[r.predictor], r.least, r.lean, r.least_full, r.lean_full});
+  return bars;
+}
+
 // The text select prints.
 void print_selection(std::ostream& out, const Selection& s, const SelectData& data,
                      const SelectArgs& args) {
@@ -1407,7 +1419,8 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     }
     if (!args->report_dir.empty()) {
       const auto files = write_report_dir(args->report_dir, s.cv.full_path, data.context, &curve,
-                                          report_tables(s, data, *args), intervals_chart(s, data));
+                                          report_tables(s, data, *args), intervals_chart(s, data),
+                                          stability_chart(s, data));
       std::cout << "wrote " << files.front() << " (HTML report; charts beside it)\n";
     }
     std::cout.flush();
