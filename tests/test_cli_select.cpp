@@ -138,6 +138,8 @@ void expect_report(const fs::path& dir, bool with_selection) {
   if (with_selection) want.push_back("selection.svg");
   // select's adjusted intervals (chart 5) when some predictor is active at a choice.
   if (with_selection && fs::exists(dir / "intervals.svg")) want.push_back("intervals.svg");
+  // select --repeats R > 1: the stability chart (chart 6).
+  if (with_selection && fs::exists(dir / "stability.svg")) want.push_back("stability.svg");
   std::sort(want.begin(), want.end());
   std::vector<std::string> have;
   for (const auto& entry : fs::directory_iterator(dir)) have.push_back(entry.path().filename());
@@ -900,4 +902,105 @@ TEST_F(Select, NoTestsSkipsTheEntryTests) {
   Outcome full = run("select t.csv --response y --folds 4 --json f.json");
   ASSERT_EQ(full.code, 0) << full.err;
   EXPECT_EQ(json::parse(slurp(file("f.json")))["cross_validation"], doc["cross_validation"]);
+}
+
+// --repeats R: the curve, its choices and the stability counts are the
+// library's repeated cross-validation (seeds SEED .. SEED + R - 1); the
+// fractions are counts over the R K fold paths, the estimate of a selection
+// probability in Meinshausen & Buhlmann (2010, JRSS B 72(4), section 2.2):
+// the share of resamples (here fold training sets) selecting the predictor.
+TEST_F(Select, RepeatsAverageTheCurveAndCountActivityOverTheFoldPaths) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p, fx.labels);
+  Outcome r = run("select t.csv --response y --drop part --folds 4 --seed 11 --repeats 3 --json s.json --report rep");
+  ASSERT_EQ(r.code, 0) << r.err;
+  const json doc = json::parse(slurp(file("s.json")));
+  knotpath::CrossValidationOptions cv;
+  cv.folds = 4;
+  cv.seed = 11;
+  cv.repeats = 3;
+  const auto lib = knotpath::cross_validate<double>(fx.p.x, fx.p.y, knotpath::TraceOptions{}, cv);
+  const auto& c = doc["cross_validation"];
+  EXPECT_EQ(c["folds"]["count"], 4);
+  EXPECT_EQ(c["folds"]["repeats"], 3);
+  EXPECT_EQ(c["folds"]["seeds"], json::parse("[11, 12, 13]"));
+  EXPECT_LE(relative(c["minimum"]["mu"].get<double>(), lib.minimum.mu), 1e-12);
+  EXPECT_LE(relative(c["minimum"]["cv_error"].get<double>(), lib.minimum.error), 1e-12);
+  EXPECT_LE(relative(c["minimum"]["standard_error"].get<double>(), lib.minimum.standard_error), 1e-12);
+  EXPECT_LE(relative(c["parsimonious"]["mu"].get<double>(), lib.parsimonious.mu), 1e-12);
+  EXPECT_EQ(c["pieces"].get<std::size_t>(), lib.pieces.size());
+  for (const auto& p : c["curve_at_knots"])
+    EXPECT_NEAR(p["spread"].get<double>(), lib.spread_at_mu(p["mu"].get<double>()),
+                1e-9 * lib.minimum.error);
+  const auto& st = c["stability"];
+  EXPECT_EQ(st["fold_paths"], 12);
+  const auto least = knotpath::predictor_activity(lib, lib.minimum.mu);
+  const auto lean = knotpath::predictor_activity(lib, lib.parsimonious.mu);
+  ASSERT_EQ(st["predictors"].size(), fx.p.names.size());
+  for (std::size_t j = 0; j < fx.p.names.size(); ++j) {
+    const auto& e = st["predictors"][j];
+    EXPECT_EQ(e["predictor"], fx.p.names[j]);
+    EXPECT_EQ(e["minimum"]["fold_paths_active"].get<std::size_t>(), least.active_in_folds[j]) << j;
+    EXPECT_EQ(e["parsimonious"]["fold_paths_active"].get<std::size_t>(), lean.active_in_folds[j]) << j;
+    EXPECT_EQ(e["minimum"]["fraction"].get<double>(), static_cast<double>(least.active_in_folds[j]) / 12.0);
+    EXPECT_EQ(e["minimum"]["full_path_active"].get<bool>(), static_cast<bool>(least.active_in_full_path[j]));
+  }
+  for (const char* needle : {"4 folds drawn with each of 3 seeds (11 to 13), the curve averaged over them",
+                             "stability: share of the 12 fold paths (3 seeds x 4 folds)",
+                             "Meinshausen & Buhlmann (2010)", "mean over the 3 seeds"})
+    EXPECT_NE(r.out.find(needle), std::string::npos) << needle << '\n' << r.out;
+  const std::string html = slurp(file("rep") / "report.html");
+  EXPECT_NE(html.find("Stability across folds and seeds"), std::string::npos);
+  EXPECT_NE(slurp(file("rep") / "selection.svg").find("averaged over 3 seeds"), std::string::npos);
+  // The stability chart: one row per predictor active somewhere at either
+  // choice, a filled square for each (row, choice) the full path has.
+  expect_report(file("rep"), true);
+  ASSERT_TRUE(fs::exists(file("rep") / "stability.svg"));
+  const std::string svg = slurp(file("rep") / "stability.svg");
+  std::size_t listed = 0, full = 0;
+  for (std::size_t j = 0; j < fx.p.names.size(); ++j) {
+    listed += least.active_in_folds[j] > 0 || lean.active_in_folds[j] > 0 || least.active_in_full_path[j] ||
+              lean.active_in_full_path[j];
+    full += static_cast<std::size_t>(least.active_in_full_path[j]) + static_cast<std::size_t>(lean.active_in_full_path[j]);
+  }
+  auto count = [&](const std::string& needle) {
+    std::size_t n = 0;
+    for (auto at = svg.find(needle); at != std::string::npos; at = svg.find(needle, at + 1)) ++n;
+    return n;
+  };
+  EXPECT_EQ(count("class=\"stability-row\""), listed);
+  EXPECT_EQ(count("class=\"full\""), full);
+  EXPECT_EQ(count("class=\"not-full\""), 2 * listed - full);
+}
+
+// One seed (the default, or --repeats 1) prints and writes what select wrote
+// before the option existed: no stability listing, no new JSON members
+// (common practice: an option at its default changes nothing).
+TEST_F(Select, OneRepeatChangesNothingAndRepeatsAreRefusedOnFixedFolds) {
+  Fixture fx;
+  write_table(file("t.csv"), fx.p, fx.labels);
+  Outcome plain = run("select t.csv --response y --drop part --folds 4 --json a.json");
+  Outcome once = run("select t.csv --response y --drop part --folds 4 --repeats 1 --json b.json");
+  ASSERT_EQ(plain.code, 0) << plain.err;
+  ASSERT_EQ(once.code, 0) << once.err;
+  std::string a = plain.out, b = once.out;
+  a.replace(a.find("wrote a.json"), 12, "");
+  b.replace(b.find("wrote b.json"), 12, "");
+  EXPECT_EQ(a, b);
+  EXPECT_EQ(slurp(file("a.json")), slurp(file("b.json")));
+  EXPECT_EQ(a.find("stability"), std::string::npos);
+  const json doc = json::parse(slurp(file("a.json")));
+  EXPECT_FALSE(doc["cross_validation"].contains("stability"));
+  EXPECT_FALSE(doc["cross_validation"]["folds"].contains("repeats"));
+  // Usage errors (exit status 2): the folds of a column or of leave-one-out
+  // are the same on every repeat.
+  Outcome loo = run("select t.csv --response y --drop part --leave-one-out --repeats 2");
+  EXPECT_EQ(loo.code, 2);
+  EXPECT_NE(loo.err.find("--leave-one-out gives the same folds every time"), std::string::npos) << loo.err;
+  Outcome col = run("select t.csv --response y --fold-column part --repeats 2");
+  EXPECT_EQ(col.code, 2);
+  EXPECT_NE(col.err.find("--fold-column gives the same folds every time"), std::string::npos) << col.err;
+  EXPECT_EQ(run("select t.csv --response y --drop part --repeats 0").code, 2);
+  EXPECT_EQ(run("select t.csv --response y --fold-column part --repeats 1").code, 0);
+  EXPECT_NE(run("select --help").out.find("--repeats"), std::string::npos);
 }

@@ -7,6 +7,9 @@
 ///  - T. Hastie, R. Tibshirani & J. Friedman, The Elements of Statistical
 ///    Learning (2nd ed., 2009), section 7.10 (K-fold cross-validation, the
 ///    standard error of the fold errors and the one-standard-error rule).
+///  - N. Meinshausen & P. Buhlmann, Stability selection, Journal of the Royal
+///    Statistical Society B 72(4) (2010), 417-473 (the selection probability
+///    of a predictor: how often it is selected across resamples of the data).
 ///
 /// What it computes.
 ///
@@ -35,6 +38,30 @@
 /// The "parsimonious" choice is the largest mu whose CV error does not exceed
 /// CV(mu_min) + SE(mu_min) (the one-standard-error rule of Hastie et al.),
 /// found exactly by solving the quadratic of each interval.
+///
+/// Repeated cross-validation. With CrossValidationOptions::repeats = R > 1
+/// the seeded fold assignment is drawn R times, repeat r from the seed
+/// repeat_seed(seed, r) = seed + r, and each repeat's K folds are traced.
+/// Every repeat holds out every row with positive weight once, so the R
+/// curves have the same total weight W and their mean is
+///     CV(mu) = sum over all R K folds of W_rk e_rk(mu) / (R W),
+/// again one quadratic per interval of the union of every fold's knots: the
+/// pieces, the minimum and the choices below are those of this averaged
+/// curve. Its standard error is the mean over repeats of each repeat's SE
+/// above (the folds of different repeats reuse the same rows, so pooling the
+/// R K fold errors as if independent would understate it); the spread
+/// across repeats is the standard deviation of the R curves CV_r(mu)
+/// (common practice). With R = 1 everything is today's single
+/// cross-validation, computed by the same operations.
+///
+/// Stability counts. predictor_activity() counts, for each predictor, the
+/// fold paths (R K of them) whose coefficient is nonzero at a size-free
+/// penalty mu, and whether the full path's is. This is the cross-validation
+/// fold analogue of Meinshausen & Buhlmann's selection probability (the
+/// fraction of resamples in which a predictor is selected at a penalty): the
+/// resamples here are the training sets of the folds (K - 1 of K parts of
+/// the rows, not their subsamples of half the rows), and no threshold is
+/// applied, so no error bound of theirs is claimed.
 
 #include <algorithm>
 #include <cstdint>
@@ -58,6 +85,12 @@
 
 namespace knotpath {
 
+/// The seed of repeat r of a repeated cross-validation (repeat 0 uses the
+/// base seed itself): base + r, wrapping modulo 2^64.
+inline std::uint64_t repeat_seed(std::uint64_t base, std::size_t r) {
+  return base + static_cast<std::uint64_t>(r);
+}
+
 /// Options of a cross-validation. Plain struct; validate() checks it.
 struct CrossValidationOptions {
   /// Number of folds K >= 2 for folds drawn from the seed. Ignored when
@@ -75,9 +108,19 @@ struct CrossValidationOptions {
   /// Threads that trace folds in parallel (0: the hardware's count). The
   /// results do not depend on it.
   std::size_t threads = 1;
+  /// Repeats R >= 1 of the seeded fold assignment, repeat r drawn from
+  /// repeat_seed(seed, r); the curve is the mean of the R curves (see the
+  /// file comment). Only for folds drawn from the seed: R > 1 is refused
+  /// with fold_of or leave_one_out, whose folds are not random.
+  std::size_t repeats = 1;
 
   /// Checks the fields against the number of rows; throws invalid_option.
   void validate(Index rows) const {
+    if (repeats < 1) throw invalid_option("repeats", "must be >= 1 (got 0)");
+    if (repeats > 1 && (leave_one_out || !fold_of.empty()))
+      throw invalid_option("repeats", std::string("needs folds drawn from the seed; ") +
+                                          (leave_one_out ? "leave_one_out" : "fold_of") +
+                                          " gives the same folds on every repeat");
     if (!fold_of.empty()) {
       if (static_cast<Index>(fold_of.size()) != rows)
         throw invalid_option("fold_of", "has " + std::to_string(fold_of.size()) + " entries for " +
@@ -159,8 +202,10 @@ struct CurvePoint {
 /// The result of cross_validate(): the folds, the exact curve and the choices.
 template <class Scalar>
 struct CrossValidation {
-  std::vector<long> fold_of;        ///< fold of each row (-1: never held out)
-  std::vector<Fold<Scalar>> folds;  ///< in fold order
+  std::vector<long> fold_of;        ///< fold of each row (-1: never held out); of repeat 0 when repeated
+  /// In fold order; with R repeats, repeat r's K folds are folds[r K .. r K + K - 1].
+  std::vector<Fold<Scalar>> folds;
+  std::size_t repeats = 1;          ///< R, the repeats of the fold assignment
   Path<Scalar> full_path;           ///< the path of all the data
   /// The sufficient statistics of all the data when the full path took the
   /// Gram route (choose_storage(): tall tables), from which it was traced;
@@ -190,16 +235,29 @@ struct CrossValidation {
     for (const auto& f : folds) out.push_back(f.error_at_mu(mu));
     return out;
   }
-  /// SE(mu), the weighted standard error of the fold errors.
+  /// SE(mu), the weighted standard error of the fold errors; with repeats,
+  /// the mean over repeats of each repeat's SE (see the file comment). With
+  /// one repeat the same operations as the single formula: sum / 1 is exact.
   Scalar standard_error_at_mu(const Scalar& mu) const {
+    Scalar sum(0);
+    for (std::size_t r = 0; r < repeats; ++r) sum += repeat_point(r, mu).second;
+    return sum / Scalar(static_cast<double>(repeats));
+  }
+  /// Folds per repeat, K.
+  std::size_t folds_per_repeat() const { return folds.size() / repeats; }
+  /// CV_r(mu), the curve of repeat r alone (0 <= r < repeats).
+  Scalar repeat_error_at_mu(std::size_t r, const Scalar& mu) const { return repeat_point(r, mu).first; }
+  /// The spread of the repeats' curves at mu: the standard deviation of
+  /// CV_0(mu), ..., CV_{R-1}(mu) (divisor R - 1); 0 when R = 1.
+  Scalar spread_at_mu(const Scalar& mu) const {
+    if (repeats < 2) return Scalar(0);
     const Scalar mean = error_at_mu(mu);
     Scalar sum(0);
-    for (const auto& f : folds) {
-      const Scalar d = f.error_at_mu(mu) - mean;
-      sum += f.held_out_weight * d * d;
+    for (std::size_t r = 0; r < repeats; ++r) {
+      const Scalar d = repeat_error_at_mu(r, mu) - mean;
+      sum += d * d;
     }
-    const Scalar k(static_cast<double>(folds.size()));
-    return detail::square_root<Scalar>(Scalar(sum / total_weight / (k - Scalar(1))));
+    return detail::square_root<Scalar>(Scalar(sum / Scalar(static_cast<double>(repeats - 1))));
   }
   /// The curve at the merged knots (descending mu): what a chart draws
   /// between exact points.
@@ -224,7 +282,61 @@ struct CrossValidation {
     if (!(mu >= mu_low))
       throw invalid_query("the size-free penalty lies below the cross-validation curve's domain");
   }
+  // Repeat r's CV error and SE at mu: the single-run formulas on its K folds.
+  std::pair<Scalar, Scalar> repeat_point(std::size_t r, const Scalar& mu) const {
+    check(mu);
+    const std::size_t k = folds_per_repeat();
+    const auto first = folds.begin() + static_cast<std::ptrdiff_t>(r * k);
+    Scalar weight(0), sum(0);
+    for (auto f = first; f != first + static_cast<std::ptrdiff_t>(k); ++f) {
+      weight += f->held_out_weight;
+      sum += f->held_out_weight * f->error_at_mu(mu);
+    }
+    const Scalar mean = sum / weight;
+    Scalar squares(0);
+    for (auto f = first; f != first + static_cast<std::ptrdiff_t>(k); ++f) {
+      const Scalar d = f->error_at_mu(mu) - mean;
+      squares += f->held_out_weight * d * d;
+    }
+    const Scalar kk(static_cast<double>(k));
+    return {mean, detail::square_root<Scalar>(Scalar(squares / weight / (kk - Scalar(1))))};
+  }
 };
+
+/// How often each predictor is active at one size-free penalty mu across
+/// the fold paths of a cross-validation (R K of them) and in the full path:
+/// the stability counts of predictor_activity() (see the file comment).
+struct PredictorActivity {
+  std::size_t fold_paths = 0;                 ///< R K, the fold paths counted
+  std::vector<std::size_t> active_in_folds;   ///< per predictor: fold paths with a nonzero coefficient
+  std::vector<bool> active_in_full_path;      ///< per predictor: nonzero in the full path
+  /// The fraction of fold paths in which predictor j is active:
+  /// active_in_folds[j] / fold_paths.
+  double fraction(std::size_t j) const {
+    return static_cast<double>(active_in_folds.at(j)) / static_cast<double>(fold_paths);
+  }
+};
+
+/// The stability counts at the size-free penalty mu (>= cv.mu_low, where
+/// every fold path is defined): each fold path is read at its own penalty
+/// mu * scale and the full path at mu * full_scale (Path::active_at: a
+/// nonzero coefficient). O(R K (log knots + p)). Throws invalid_query below
+/// the curve's domain.
+template <class Scalar>
+PredictorActivity predictor_activity(const CrossValidation<Scalar>& cv, const Scalar& mu) {
+  if (!(mu >= cv.mu_low))
+    throw invalid_query("the size-free penalty lies below the cross-validation curve's domain");
+  const auto p = static_cast<std::size_t>(cv.full_path.preparation().predictors);
+  PredictorActivity out;
+  out.fold_paths = cv.folds.size();
+  out.active_in_folds.assign(p, 0);
+  out.active_in_full_path.assign(p, false);
+  for (const auto& f : cv.folds)
+    for (Index j : f.path.active_at(Scalar(mu * f.scale))) ++out.active_in_folds[static_cast<std::size_t>(j)];
+  for (Index j : cv.full_path.active_at(Scalar(mu * cv.full_scale)))
+    out.active_in_full_path[static_cast<std::size_t>(j)] = true;
+  return out;
+}
 
 namespace detail {
 
@@ -554,7 +666,7 @@ SufficientStatistics<Scalar> training_statistics(const std::vector<SufficientSta
   return training;
 }
 
-/// Traces the k folds of `cv` (its full path and fold_of already set) with
+/// Traces the k folds of the assignment `fold_of` (cv's full path already set) with
 /// `threads` threads (0: the hardware's count); nothing depends on the
 /// count, and the first failure in fold order is rethrown. On the Gram
 /// route the folds are traced from statistics (folds_by_statistics()): the
@@ -564,8 +676,8 @@ SufficientStatistics<Scalar> training_statistics(const std::vector<SufficientSta
 template <class Scalar>
 std::vector<Fold<Scalar>> trace_folds(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                       const Vector<Scalar>& w, const CrossValidation<Scalar>& cv,
-                                      std::size_t k, const TraceOptions& options,
-                                      std::size_t threads) {
+                                      const std::vector<long>& fold_of, std::size_t k,
+                                      const TraceOptions& options, std::size_t threads) {
   std::vector<Fold<Scalar>> folds(k);
   const Scalar full_weight = cv.full_path.preparation().weight_sum;
   threads = std::min(resolve_threads(threads), k);
@@ -573,14 +685,14 @@ std::vector<Fold<Scalar>> trace_folds(const Matrix<Scalar>& x, const Vector<Scal
   if (threads > 1) fold_options.threads = 1;  // folds in parallel: no threads inside a fold
   std::vector<SufficientStatistics<Scalar>> parts;
   if (folds_by_statistics<Scalar>(x.rows(), x.cols(), k, threads, options))
-    parts = fold_statistics(x, y, w, cv.fold_of, k, threads);
+    parts = fold_statistics(x, y, w, fold_of, k, threads);
   detail::for_each_task(k, threads, [&](std::size_t f) {
     if (parts.empty()) {
-      folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options,
+      folds[f] = trace_fold<Scalar>(x, y, w, fold_of, static_cast<long>(f), fold_options,
                                     full_weight, cv.full_scale);
     } else {
       const SufficientStatistics<Scalar> training = training_statistics(parts, f, x.cols());
-      folds[f] = trace_fold<Scalar>(x, y, w, cv.fold_of, static_cast<long>(f), fold_options,
+      folds[f] = trace_fold<Scalar>(x, y, w, fold_of, static_cast<long>(f), fold_options,
                                     full_weight, cv.full_scale, &training, &parts[f]);
     }
   });
@@ -704,7 +816,9 @@ CurvePoint<Scalar> parsimonious_choice(const CrossValidation<Scalar>& cv) {
 /// merge, a trace from statistics and O(p k) per knot for its segments;
 /// otherwise K path traces from the rows (in parallel with cv.threads).
 /// Plus O(K^2 knots) for the curve; memory: the K paths (and K + 1 + T
-/// p x p statistics on the Gram route).
+/// p x p statistics on the Gram route). With cv.repeats = R every fold
+/// cost is paid R times (R K fold paths, R passes for the folds'
+/// statistics) and the curve costs O(R^2 K^2 knots).
 template <class Scalar>
 CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Scalar>& y,
                                        const TraceOptions& options,
@@ -727,7 +841,15 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
   result.fold_of = make_folds<Scalar>(n, cv, weights);
   const Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
   const std::size_t k = detail::checked_fold_count(result.fold_of, w);
-  result.folds = detail::trace_folds(x, y, w, result, k, options, cv.threads);
+  result.folds = detail::trace_folds(x, y, w, result, result.fold_of, k, options, cv.threads);
+  result.repeats = cv.repeats;
+  for (std::size_t r = 1; r < cv.repeats; ++r) {  // repeat r: the folds of seed + r
+    CrossValidationOptions again = cv;
+    again.seed = repeat_seed(cv.seed, r);
+    const std::vector<long> fold_of = make_folds<Scalar>(n, again, weights);
+    std::vector<Fold<Scalar>> more = detail::trace_folds(x, y, w, result, fold_of, k, options, cv.threads);
+    for (auto& f : more) result.folds.push_back(std::move(f));
+  }
   detail::set_domain(result);
   result.pieces =
       detail::curve_pieces(result.folds, result.total_weight, detail::merged_grid(result));

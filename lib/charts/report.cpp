@@ -133,6 +133,13 @@ void write_charts(std::ostringstream& out, const ChartPath& path, const ReportOp
            "Per selected predictor: the interval adjusted for the selection (blue) above the naive one "
            "(grey), in standard errors of the estimate; the numbers on the original scale beside.");
   }
+  if (!options.stability.rows.empty()) {
+    out << "<h2>Stability across folds</h2>\n";
+    co.id_prefix = prefix + "-stability";
+    figure(out, stability_bars_svg(options.stability, co),
+           "Per predictor: the share of fold paths in which it is active at the least CV error (upper bar) "
+           "and at the parsimonious choice (lower bar); a filled square where the path of all rows has it.");
+  }
 }
 
 // One of the caller's tables: heading, lead sentences, header, rows (the
@@ -268,12 +275,14 @@ std::vector<std::filesystem::path> write_report(const std::filesystem::path& dir
   if (selection) chosen = selection_curve_svg(*selection, co);
   const std::string intervals =
       options.adjusted_intervals.panels.empty() ? std::string() : adjusted_intervals_svg(options.adjusted_intervals, co);
+  const std::string stable = options.stability.rows.empty() ? std::string() : stability_bars_svg(options.stability, co);
   save("report.html", html);
   save("activity.svg", activity);
   save("traces.svg", traces);
   if (!budget.empty()) save("budget.svg", budget);
   if (!chosen.empty()) save("selection.svg", chosen);
   if (!intervals.empty()) save("intervals.svg", intervals);
+  if (!stable.empty()) save("stability.svg", stable);
   return written;
 }
 

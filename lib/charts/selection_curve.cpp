@@ -120,7 +120,12 @@ void SelectionChart::draw_heading(const std::string& title) {
   c_.text(16, 24, title, "start", 16, "font-weight=\"bold\"");
   c_.text(16, 43,
           "cross-validated " + curve_.error_name +
-              (curve_.folds ? " (" + std::to_string(curve_.folds) + " folds)" : std::string()) +
+              (curve_.folds ? " (" + std::to_string(curve_.folds) + " folds" +
+                                  (curve_.repeats > 1 ? ", averaged over " +
+                                                            std::to_string(curve_.repeats) + " seeds"
+                                                      : std::string()) +
+                                  ")"
+                            : std::string()) +
               ", with a band of \xC2\xB1" + "1 standard error",
           "start", 12, "fill=\"" + std::string(kMuted) + "\"");
 }

@@ -110,6 +110,7 @@ template <class Scalar>
 CrossValidation<double> double_copy(const CrossValidation<Scalar>& cv) {
   CrossValidation<double> d;
   d.fold_of = cv.fold_of;
+  d.repeats = cv.repeats;
   for (const auto& f : cv.folds) {
     Fold<double> g;
     g.held_out = f.held_out;

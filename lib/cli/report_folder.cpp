@@ -100,11 +100,13 @@ std::vector<std::string> write_report_dir(const fs::path& dir, const Path<double
                                           const io::RunContext& context,
                                           const charts::SelectionCurve* selection,
                                           std::vector<charts::ReportTable> tables,
-                                          charts::AdjustedIntervals intervals) {
+                                          charts::AdjustedIntervals intervals,
+                                          charts::StabilityBars stability) {
   charts::ChartPath chart = charts::chart_path(path, context.predictor_names, context.response);
   charts::ReportOptions options = report_options(path, context, selection != nullptr);
   options.tables = std::move(tables);
   options.adjusted_intervals = std::move(intervals);
+  options.stability = std::move(stability);
   // Everything is written into a fresh folder beside `dir`, then moved in.
   const fs::path target = dir.empty() ? fs::path(".") : dir;
   const fs::path staging = staging_folder(target);

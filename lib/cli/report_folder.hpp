@@ -23,12 +23,14 @@ std::vector<std::string> caution_lines(bool with_selection);
 /// written (report.html first). `tables` are shown in report.html after the
 /// charts (select's choices, criteria and entry tests); `intervals`, when it
 /// has panels, is drawn after the selection curve (select's adjusted
-/// inference, intervals.svg). Throws
+/// inference, intervals.svg); `stability`, when it has rows, after them
+/// (select --repeats, stability.svg). Throws
 /// failure(exit_io) when the file system refuses.
 std::vector<std::string> write_report_dir(const std::filesystem::path& dir,
                                           const Path<double>& path, const io::RunContext& context,
                                           const charts::SelectionCurve* selection,
                                           std::vector<charts::ReportTable> tables = {},
-                                          charts::AdjustedIntervals intervals = {});
+                                          charts::AdjustedIntervals intervals = {},
+                                          charts::StabilityBars stability = {});
 
 }  // namespace knotpath::cli

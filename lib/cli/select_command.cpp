@@ -42,6 +42,7 @@ struct SelectArgs {
   bool leave_one_out = false;
   std::uint64_t seed = CrossValidationOptions{}.seed;
   std::string fold_column;
+  std::size_t repeats = 1;  // fold seeds seed, seed + 1, ...: the curve is their mean
   std::optional<double> noise_variance;
   bool no_tests = false;
   double level = AdjustedInferenceOptions{}.level;  // of the adjusted intervals
@@ -257,6 +258,9 @@ struct Selection {
   std::string significance_note;
   std::optional<AdjustedSummary> adjusted;  // inference after selection (issue 22)
   std::string adjusted_note;                // why there is none
+  // Stability counts at the two choices (predictor_activity), computed in
+  // the run's arithmetic; shown when the folds were drawn more than once.
+  PredictorActivity least_activity, lean_activity;
   // Of the path in the arithmetic of the run (not of its double copy):
   std::string arithmetic;          // empty for double
   json precision;                  // the path document's "precision" member (null for double)
@@ -446,6 +450,8 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
       s.adjusted_note = reason_of(e);
     }
   }
+  s.least_activity = predictor_activity(cv, cv.minimum.mu);
+  s.lean_activity = predictor_activity(cv, cv.parsimonious.mu);
   if constexpr (std::is_same_v<Scalar, double>) {
     s.cv = std::move(cv);
     s.criteria = std::move(criteria);
@@ -589,7 +595,79 @@ std::string folds_phrase(const Selection& s, const SelectArgs& args) {
   if (!args.fold_column.empty())
     return fmt::format("{} folds from column \"{}\"", cv.folds.size(), args.fold_column);
   if (args.leave_one_out) return fmt::format("leave-one-out ({} folds)", cv.folds.size());
+  if (cv.repeats > 1)
+    return fmt::format("{} folds drawn with each of {} seeds ({} to {}), the curve averaged over them",
+                       cv.folds_per_repeat(), cv.repeats, args.seed, repeat_seed(args.seed, cv.repeats - 1));
   return fmt::format("{} folds, seed {}", cv.folds.size(), args.seed);
+}
+
+// How the averaged curve's standard error and spread are read (printout and
+// report), with the spread at the least CV error; empty for one seed.
+std::string repeats_phrase(const Selection& s) {
+  const auto& cv = s.cv;
+  if (cv.repeats < 2) return {};
+  return fmt::format(
+      "standard errors are the mean over the {} seeds of each seed's standard error of its fold errors; "
+      "at the least CV error the seeds' curves spread by {} (their standard deviation)",
+      cv.repeats, shown(cv.spread_at_mu(cv.minimum.mu), 4));
+}
+
+// One row of the stability listing: a predictor's activity at both choices.
+struct ActivityRow {
+  std::size_t predictor = 0;
+  double least = 0, lean = 0;    // fractions of the fold paths
+  bool least_full = false, lean_full = false;  // active in the full path
+};
+
+// The predictors active in some fold path or in the full path at either
+// choice, most stable first (parsimonious fraction, then least-error
+// fraction, then input order).
+std::vector<ActivityRow> activity_rows(const Selection& s) {
+  std::vector<ActivityRow> rows;
+  const auto& a = s.least_activity;
+  const auto& b = s.lean_activity;
+  for (std::size_t j = 0; j < a.active_in_folds.size(); ++j) {
+    if (a.active_in_folds[j] == 0 && b.active_in_folds[j] == 0 && !a.active_in_full_path[j] &&
+        !b.active_in_full_path[j])
+      continue;
+    rows.push_back({j, a.fraction(j), b.fraction(j), a.active_in_full_path[j], b.active_in_full_path[j]});
+  }
+  std::stable_sort(rows.begin(), rows.end(), [](const ActivityRow& x, const ActivityRow& y) {
+    return x.lean != y.lean ? x.lean > y.lean : x.least > y.least;
+  });
+  return rows;
+}
+
+// The sentence that says what the stability fractions count (printout,
+// report and JSON).
+std::string activity_reading(const Selection& s) {
+  return fmt::format(
+      "share of the {} fold paths ({} seeds x {} folds) with a nonzero coefficient at each choice's "
+      "size-free penalty; \"full\" marks a predictor active in the path of all rows there. The "
+      "cross-validation analogue of the selection probability of Meinshausen & Buhlmann (2010): "
+      "training sets of folds instead of half-samples, and no threshold or error bound",
+      s.least_activity.fold_paths, s.cv.repeats, s.cv.folds_per_repeat());
+}
+
+// A fraction as a percentage with one decimal.
+std::string shown_share(double fraction) { return fmt::format("{:.1f}%", 100 * fraction); }
+
+// The stability listing (printout), only with more than one seed.
+void print_activity(std::ostream& out, const Selection& s, const SelectData& data) {
+  if (s.cv.repeats < 2) return;
+  const auto& names = data.context.predictor_names;
+  out << "\nstability: " << activity_reading(s) << '\n';
+  out << fmt::format("  {:<28} {:>19} {:>19}\n", "predictor", "at least CV error", "parsimonious");
+  const auto rows = activity_rows(s);
+  for (const auto& r : rows) {
+    std::string line = fmt::format("  {:<28} {:>13} {:<5} {:>13} {:<4}", names[r.predictor], shown_share(r.least),
+                                   r.least_full ? "full" : "", shown_share(r.lean), r.lean_full ? "full" : "");
+    line.erase(line.find_last_not_of(' ') + 1);
+    out << line << '\n';
+  }
+  if (rows.size() < names.size())
+    out << fmt::format("  ({} more predictors are active in no fold path at either choice)\n",
+                       names.size() - rows.size());
 }
 
 // How the folds were made, the exact curve and the two choices.
@@ -603,6 +681,7 @@ void print_cross_validation(std::ostream& out, const Selection& s, const SelectA
          "prediction error)\n";
   const ChoiceSentences said = choice_sentences(s);
   out << "  " << said.least << "\n  " << said.parsimonious << ",\n    " << said.threshold << '\n';
+  if (cv.repeats > 1) out << "  (" << repeats_phrase(s) << ")\n";
 }
 
 // Where the criteria's noise variance came from (printout and report).
@@ -879,6 +958,18 @@ charts::AdjustedIntervals intervals_chart(const Selection& s, const SelectData& 
   return chart;
 }
 
+// The stability chart (chart 6) of a repeated cross-validation: the rows of
+// the printout's listing; no rows with one seed.
+charts::StabilityBars stability_chart(const Selection& s, const SelectData& data) {
+  charts::StabilityBars bars;
+  if (s.cv.repeats < 2) return bars;
+  bars.fold_paths = s.least_activity.fold_paths;
+  bars.seeds = s.cv.repeats;
+  for (const auto& r : activity_rows(s))
+    bars.rows.push_back({data.context.predictor_names[r.predictor], r.least, r.lean, r.least_full, r.lean_full});
+  return bars;
+}
+
 // The text select prints.
 void print_selection(std::ostream& out, const Selection& s, const SelectData& data,
                      const SelectArgs& args) {
@@ -894,6 +985,7 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
   print_cross_validation(out, s, args);
   print_criteria(out, s);
   print_choice_coefficients(out, s, data);
+  print_activity(out, s, data);
   print_adjusted(out, s, data);
   out << '\n';
   for (const auto& line : caution_lines(true)) out << "caution: " << line << '\n';
@@ -994,10 +1086,31 @@ charts::ReportTable entry_tests_table(const Selection& s, const SelectData& data
   return t;
 }
 
+// The stability counts as a table of the report (only with more than one seed).
+charts::ReportTable stability_table(const Selection& s, const SelectData& data) {
+  charts::ReportTable t;
+  t.heading = "Stability across folds and seeds";
+  t.id = "stability";
+  t.lead = {"Each predictor's " + activity_reading(s) + ".", repeats_phrase(s) + "."};
+  t.columns = {"predictor", "at the least CV error", "in the full path", "parsimonious", "in the full path"};
+  t.text_columns = {true, false, true, false, true};
+  const auto& names = data.context.predictor_names;
+  const auto rows = activity_rows(s);
+  for (const auto& r : rows)
+    t.rows.push_back({names[r.predictor], shown_share(r.least), r.least_full ? "yes" : "no", shown_share(r.lean),
+                      r.lean_full ? "yes" : "no"});
+  if (rows.size() < names.size())
+    t.notes.push_back(fmt::format("{} more predictors are active in no fold path at either choice.",
+                                  names.size() - rows.size()));
+  return t;
+}
+
 std::vector<charts::ReportTable> report_tables(const Selection& s, const SelectData& data,
                                                const SelectArgs& args) {
-  return {choices_table(s, data, args), criteria_table(s), entry_tests_table(s, data),
-          adjusted_table(s, data)};
+  std::vector<charts::ReportTable> tables{choices_table(s, data, args), criteria_table(s),
+                                          entry_tests_table(s, data), adjusted_table(s, data)};
+  if (s.cv.repeats > 1) tables.insert(tables.begin() + 1, stability_table(s, data));
+  return tables;
 }
 
 json choice_json(const CurvePoint<double>& c, const Path<double>& path,
@@ -1017,6 +1130,24 @@ json choice_json(const CurvePoint<double>& c, const Path<double>& path,
               {"coefficients", coefficients}};
 }
 
+// The stability counts of every predictor at both choices (only with more
+// than one seed).
+json stability_json(const Selection& s, const std::vector<std::string>& names) {
+  auto at = [](const PredictorActivity& a, std::size_t j) {
+    return json{{"fraction", a.fraction(j)},
+                {"fold_paths_active", a.active_in_folds[j]},
+                {"full_path_active", static_cast<bool>(a.active_in_full_path[j])}};
+  };
+  json predictors = json::array();
+  for (std::size_t j = 0; j < names.size(); ++j)
+    predictors.push_back(json{{"predictor", names[j]},
+                              {"minimum", at(s.least_activity, j)},
+                              {"parsimonious", at(s.lean_activity, j)}});
+  return json{{"fold_paths", s.least_activity.fold_paths},
+              {"reading", activity_reading(s)},
+              {"predictors", predictors}};
+}
+
 json selection_document(const Selection& s, const SelectData& data, const SelectArgs& args) {
   const Path<double>& path = s.cv.full_path;
   const auto& names = data.context.predictor_names;
@@ -1033,7 +1164,7 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   }
   doc["health"] = s.health;
   doc["audit_notes"] = s.notes;
-  json folds{{"count", cv.folds.size()}};
+  json folds{{"count", cv.folds_per_repeat()}};
   if (!args.fold_column.empty()) {
     folds["from"] = "column";
     folds["column"] = args.fold_column;
@@ -1042,13 +1173,22 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   } else {
     folds["from"] = "seed";
     folds["seed"] = args.seed;
+    if (cv.repeats > 1) {  // members only when repeated: one seed's document is unchanged
+      folds["repeats"] = cv.repeats;
+      json seeds = json::array();
+      for (std::size_t r = 0; r < cv.repeats; ++r) seeds.push_back(repeat_seed(args.seed, r));
+      folds["seeds"] = seeds;
+      folds["averaging"] = repeats_phrase(s);
+    }
   }
   json curve = json::array();
-  for (const auto& p : cv.knot_points())
+  for (const auto& p : cv.knot_points()) {
     curve.push_back(json{{"mu", p.mu},
                          {"penalty", p.lambda},
                          {"cv_error", p.error},
                          {"standard_error", p.standard_error}});
+    if (cv.repeats > 1) curve.back()["spread"] = cv.spread_at_mu(p.mu);
+  }
   doc["cross_validation"] = json{{"folds", folds},
                                  {"mu_high", cv.mu_high},
                                  {"mu_low", cv.mu_low},
@@ -1108,6 +1248,7 @@ json selection_document(const Selection& s, const SelectData& data, const Select
   doc["cross_validation"]["one_standard_error_rule"] =
       json{{"threshold", cv.minimum.error + cv.minimum.standard_error},
            {"standard_error_at_minimum", cv.minimum.standard_error}};
+  if (cv.repeats > 1) doc["cross_validation"]["stability"] = stability_json(s, names);
   doc["cautions"] = caution_lines(true);
   doc["path"] =
       s.path_document.is_null() ? io::path_document(path, data.context) : s.path_document;
@@ -1185,6 +1326,14 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
                        "Column of fold labels (whole numbers; each label >= 0 is a fold, a "
                        "negative label keeps the row in every training set); not a predictor")
           ->group("Cross-validation");
+  command
+      ->add_option("--repeats", args->repeats,
+                   "Draw the folds this many times, from seeds SEED, SEED+1, ...; the curve is their "
+                   "mean and each predictor's share of active fold paths is listed (not with "
+                   "--leave-one-out or --fold-column)")
+      ->check(CLI::Range(std::size_t{1}, std::size_t{10000}))
+      ->default_str("1")
+      ->group("Cross-validation");
   folds->excludes(loo)->excludes(column);
   loo->excludes(column)->excludes(seed);
   column->excludes(seed);
@@ -1231,11 +1380,16 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
   command->callback([args, &global] {
     const bool in_double = args->precision.precision == "double" && args->precision.digits == 0;
     if (!in_double) check_select_precision(*args);
+    if (args->repeats > 1 && (args->leave_one_out || !args->fold_column.empty()))
+      throw failure(exit_usage, std::string("--repeats draws the folds again from other seeds: ") +
+                                    (args->leave_one_out ? "--leave-one-out" : "--fold-column") +
+                                    " gives the same folds every time, so it cannot be repeated");
     SelectData data = read_select_data(*args, global, !in_double);
     CrossValidationOptions cv;
     cv.folds = args->folds;
     cv.leave_one_out = args->leave_one_out;
     cv.seed = args->seed;
+    cv.repeats = args->repeats;
     cv.fold_of = data.fold_of;
     cv.threads = args->model.threads;  // --threads: the folds in parallel
     Selection s = in_double ? run_selection<double>(data, data.x, data.y, data.w, cv,
@@ -1265,7 +1419,8 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     }
     if (!args->report_dir.empty()) {
       const auto files = write_report_dir(args->report_dir, s.cv.full_path, data.context, &curve,
-                                          report_tables(s, data, *args), intervals_chart(s, data));
+                                          report_tables(s, data, *args), intervals_chart(s, data),
+                                          stability_chart(s, data));
       std::cout << "wrote " << files.front() << " (HTML report; charts beside it)\n";
     }
     std::cout.flush();

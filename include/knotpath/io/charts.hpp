@@ -223,6 +223,7 @@ struct SelectionCurve {
   std::string error_name = "mean squared prediction error";
   std::string error_unit;              ///< e.g. "(kg/m2)^2"; empty: "response units squared"
   std::size_t folds = 0;               ///< cross-validation folds (0: unknown)
+  std::size_t repeats = 1;             ///< fold assignments averaged (repeated cross-validation)
   std::vector<SelectionPoint> points;  ///< the curve, any order (sorted when drawn)
   double minimizer = std::numeric_limits<double>::quiet_NaN();      ///< penalty of least mean error
   double minimum_error = std::numeric_limits<double>::quiet_NaN();  ///< the least mean error
@@ -250,7 +251,8 @@ SelectionCurve selection_curve(const CrossValidation<Scalar>& cv,
   SelectionCurve out;
   out.penalty_name = "mu";
   out.standardized = cv.full_path.preparation().standardized;
-  out.folds = cv.folds.size();
+  out.folds = cv.folds_per_repeat();
+  out.repeats = cv.repeats;
   auto add = [&](const Scalar& mu) {
     const CurvePoint<Scalar> q = cv.point_at_mu(mu);
     out.points.push_back({to_double(q.mu), to_double(q.error), to_double(q.standard_error)});
@@ -332,6 +334,34 @@ struct AdjustedIntervals {
 /// numbers and both p-values are written beside each row.
 std::string adjusted_intervals_svg(const AdjustedIntervals& intervals, const ChartOptions& options = {});
 
+/// One predictor of chart 6: its share of active fold paths at the two
+/// choices of a repeated cross-validation.
+struct StabilityRow {
+  std::string name;                ///< the predictor
+  double least = 0;                ///< share of fold paths active at the least CV error, in [0, 1]
+  double parsimonious = 0;         ///< share at the parsimonious choice, in [0, 1]
+  bool least_full = false;         ///< active in the full path at the least CV error
+  bool parsimonious_full = false;  ///< active in the full path at the parsimonious choice
+};
+
+/// Chart 6's data: how often each predictor is active across the fold
+/// paths (cross_validation.hpp, predictor_activity); the selection code fills it.
+struct StabilityBars {
+  std::size_t fold_paths = 0;      ///< R K, the fold paths counted (> 0)
+  std::size_t seeds = 0;           ///< R, the fold assignments
+  std::vector<StabilityRow> rows;  ///< drawn top to bottom in this order (at least one)
+
+  /// Throws invalid_option naming the first problem.
+  void validate() const;
+};
+
+/// Chart 6: one row per predictor with two bars on a 0-100% axis, its
+/// share of active fold paths at the least CV error (upper, blue) and at
+/// the parsimonious choice (lower, orange); a filled square at the bar's
+/// end when the full path has the predictor there, a hollow one when not;
+/// the percentages written at the right (SVG 1.1 document text).
+std::string stability_bars_svg(const StabilityBars& bars, const ChartOptions& options = {});
+
 /// A table of numbers in the HTML report, under its own heading. Plain
 /// data: the caller formats every cell (the report prints them as given),
 /// so a table shows the same digits as the caller's text output.
@@ -382,6 +412,9 @@ struct ReportOptions {
   /// Selection-adjusted intervals (chart 5), drawn after the selection
   /// curve and written as intervals.svg; empty panels: none.
   AdjustedIntervals adjusted_intervals;
+  /// Stability of the predictors across fold paths (chart 6), drawn after
+  /// the intervals and written as stability.svg; no rows: none.
+  StabilityBars stability;
 };
 
 /// Chart 4: the one-page report as XHTML-compatible HTML text: summary,
