@@ -228,11 +228,16 @@ class CholeskyFactor {
   template <class In>
   double gram_product_bound(const In& x) const {
     if (size_ == 0) return 0.0;
+    // Column by column over the contiguous columns of R: z = |R| |x|, then
+    // (|R|^T z)_j = |R_{.j}| . z, no temporary matrix.
     auto z = work_.head(size_);
-    const auto r = r_.topLeftCorner(size_, size_);
-    z = r.cwiseAbs().template triangularView<Eigen::Upper>() * x.cwiseAbs();
-    z = r.cwiseAbs().transpose().template triangularView<Eigen::Lower>() * z;
-    return detail::to_double(Scalar(z.maxCoeff()));
+    z.setZero();
+    for (Index j = 0; j < size_; ++j)
+      z.head(j + 1) += r_.col(j).head(j + 1).cwiseAbs() * detail::abs_value(Scalar(x(j)));
+    Scalar largest(0);
+    for (Index j = 0; j < size_; ++j)
+      largest = std::max<Scalar>(largest, r_.col(j).head(j + 1).cwiseAbs().dot(z.head(j + 1)));
+    return detail::to_double(largest);
   }
 
   /// Health figures of the current factor.
