@@ -468,7 +468,10 @@ TEST_P(RandomSweep, EstimateBoundsTheMeasuredError) {
             << largest_well << " (" << largest_fitted << " without the intercept-only start rows); " << beyond
             << " beyond the first-order limit\n";
   EXPECT_GT(well, 80);
-  EXPECT_GE(within_100, 0.8 * well);
+  // 2026-12-04: 90 of 91 (GCC's order) and 83 of 90 (Clang's) since the
+  // solve's term weighs the factor's backward error by the solution
+  // (Homotopy::solution_condition); 84 and 75 before.
+  EXPECT_GE(within_100, 0.9 * well);
 }
 
 INSTANTIATE_TEST_SUITE_P(HealthCalibration, RandomSweep, ::testing::Values(DrawOrder::gcc, DrawOrder::clang),

@@ -51,6 +51,7 @@
 #include <algorithm>
 #include <cmath>
 #include <span>
+#include <type_traits>
 #include <vector>
 
 #include "design/concept.hpp"
@@ -76,8 +77,10 @@ struct Candidate {
 /// The estimated relative error of each knot's prepared problem
 /// (Knot::prepared_error): the
 /// largest of
-///  - the active factor's condition estimate times the unit roundoff (the
-///    error of the direction),
+///  - the condition of the active system at the knot's solution times the
+///    unit roundoff (the error of the directions summed into it;
+///    Homotopy's solution_condition, at most the factor's condition
+///    estimate),
 ///  - the centring amplification times the unit roundoff (the prepared
 ///    columns carry that error under an intercept; Preparation),
 ///  - the measured drift of the active correlations from their exact value
@@ -100,7 +103,8 @@ class ErrorEstimate {
   void note_drift(double absolute) { drift_ = std::max(drift_, absolute); }
   /// A tie decided on a factor of this condition estimate.
   void note_tie_decision(double condition) { carried_ = std::max(carried_, condition * eps_); }
-  /// The estimate of the next knot, whose factor has this condition estimate.
+  /// The estimate of the next knot, whose active system has this condition
+  /// at its solution.
   double next_knot(double condition) {
     carried_ = std::max({condition * eps_, centring_ * eps_, lambda_scale_ > 0 ? drift_ / lambda_scale_ : 0.0,
                          carried_});
@@ -169,6 +173,7 @@ class Homotopy {
         scale_solution_(q_ + 1),
         rhs_scale_(q_ + 1),
         column_norm_(static_cast<std::size_t>(q_), 0.0),
+        travelled_(static_cast<std::size_t>(q_), 0.0),
         estimate_(detail::to_double(detail::epsilon<Scalar>()), prep.centring_amplification) {
     for (Index k = 0; k < q_; ++k) factor_of_(k) = Scalar(prep.penalty_weights[static_cast<std::size_t>(k)]);
     design.response_correlations(c_);
@@ -316,7 +321,10 @@ class Homotopy {
     Vector<Scalar> c0(m), b0(m);
     for (Index i = 0; i < m; ++i) c0(i) = c_(unpenalized[at(i)]);
     factor_.solve(c0, b0);
-    for (Index i = 0; i < m; ++i) b_(unpenalized[at(i)]) = b0(i);
+    for (Index i = 0; i < m; ++i) {
+      b_(unpenalized[at(i)]) = b0(i);
+      travelled_[at(unpenalized[at(i)])] = std::abs(detail::to_double(b0(i)));
+    }
     // RSS after the fit: ||y||^2 - b.c0 - a2 ||b||^2 (normal equations).
     rss_ -= b0.dot(c0) + ridge_ * b0.squaredNorm();
     design_.direction_correlations(std::span<const Index>(active_), b0, a_);
@@ -425,7 +433,10 @@ class Homotopy {
     const Scalar u_dot_u = d.dot(rhs) - ridge_ * d.squaredNorm();
     rss_ += g * (g * u_dot_u - Scalar(2) * u_dot_r);
     note_penalty_slope(k_active);
-    for (Index i = 0; i < k_active; ++i) b_(active_[at(i)]) += g * d(i);
+    for (Index i = 0; i < k_active; ++i) {
+      b_(active_[at(i)]) += g * d(i);
+      travelled_[at(active_[at(i)])] += std::abs(detail::to_double(Scalar(g * d(i))));
+    }
     c_ -= g * a_;
     lambda_ -= g;
     if (segment.reaches_end && !segment.stop_here) lambda_ = zero_;
@@ -461,7 +472,10 @@ class Homotopy {
   bool apply_events() {
     entered_.clear();
     for (const auto& event : events_)
-      if (event.leave) b_(event.column) = zero_;
+      if (event.leave) {
+        b_(event.column) = zero_;
+        travelled_[at(event.column)] = 0;  // set exactly: its rounding left with it
+      }
     for (const auto& event : events_) {
       if (event.leave) {
         leave(event);
@@ -563,7 +577,7 @@ class Homotopy {
     }
     const FactorHealth health = factor_.health();
     knot.condition_estimate = health.condition_estimate;
-    knot.prepared_error = estimate_.next_knot(knot.condition_estimate);
+    knot.prepared_error = estimate_.next_knot(solution_condition(health));
     knot.estimated_error = reported_scale_error(knot.prepared_error, health.inverse_norm, knot);
     // Once suspect, always suspect: a knot inherits the state of the knots
     // before it (RELIABILITY.md, fuzzing finding 6), even where the error
@@ -571,6 +585,43 @@ class Homotopy {
     knot.suspect =
         knot.estimated_error > options_.suspect_threshold || (!knots_.empty() && knots_.back().suspect);
     knots_.push_back(std::move(knot));
+  }
+
+  // The condition of the active system at the knot's solution, the factor
+  // of the knot's own term in ErrorEstimate. The factor's backward error dG
+  // (|dG| <= gamma |R^T| |R|, Higham 2002, theorem 10.3) moves each
+  // direction d by G^{-1} dG d, and b_A is the sum of the steps g d of the
+  // segments since each column entered (b is never solved afresh), so the
+  // rounding it carries is bounded by
+  //   ||d b_A||_inf <= gamma ||G^{-1}||_1 || |R^T| |R| t ||_inf,
+  // t_k = sum |g d_k| the distance coefficient k travelled (travelled_;
+  // t = |b_A| on a path whose coefficients only grow). Over ||b_A||_inf this
+  // is the condition returned (CholeskyFactor::gram_product_bound; the mixed
+  // condition number of Higham 2002, section 7.2, at t). Where t = |b_A| it
+  // never exceeds the norm-wise ||R||_1 ||R||_inf ||G^{-1}||_1 of
+  // FactorHealth and falls well below it when the solution does not load
+  // the columns of largest |R| sums: the knots with many active columns of
+  // a well-conditioned design, where the norm-wise figure overshot the
+  // measured error by up to 260 (RELIABILITY.md, "Health check
+  // calibration"). Without Hager's estimate (exact and multiprecision
+  // factors), or with no nonzero coefficient, the factor's condition
+  // estimate. O(k^2).
+  double solution_condition(const FactorHealth& health) {
+    if constexpr (!std::is_floating_point_v<Scalar>) {
+      return health.condition_estimate;
+    } else {
+      const Index k_active = active_count();
+      if (!(health.inverse_norm > 0) || k_active == 0) return health.condition_estimate;
+      auto travelled = b_active_.head(k_active);
+      double size = 0;
+      for (Index i = 0; i < k_active; ++i) {
+        const Index k = active_[at(i)];
+        travelled(i) = Scalar(travelled_[at(k)]);
+        size = std::max(size, std::abs(detail::to_double(b_(k))));
+      }
+      if (!(size > 0)) return health.condition_estimate;
+      return health.inverse_norm * factor_.gram_product_bound(travelled) / size;
+    }
   }
 
   // The error estimate on the scale the knot reports (Knot::estimated_error).
@@ -771,6 +822,7 @@ class Homotopy {
   double intercept_slope_ = 0;  // and |v^T d|, the intercept's
   double correlation_noise_ = 0;  // note_correlation_noise()
   std::vector<double> column_norm_;  // ||z_k|| per prepared column (note_correlation_noise)
+  std::vector<double> travelled_;    // sum of |g d_k| over the segments since column k entered
   Scalar rss_{0};                      // residual sum of squares of the prepared problem
   Scalar lambda_{0};                   // current penalty
   std::vector<Knot<Scalar>> knots_;    // recorded so far

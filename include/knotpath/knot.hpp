@@ -79,7 +79,9 @@ struct Knot {
   std::vector<std::pair<Index, Scalar>> coefficients;  ///< nonzero beta_j, ascending j, original scale
   double condition_estimate = 1;  ///< factor health after the event (see FactorHealth)
   /// Estimated error of the prepared problem, relative: the largest of
-  /// condition_estimate * unit roundoff, the correlation drift /
+  /// the active system's condition at this knot's solution * unit roundoff
+  /// (at most condition_estimate * unit roundoff: the solution's own
+  /// coefficients weight the factor's backward error), the correlation drift /
   /// lambda_max, the centring amplification
   /// (Preparation::centring_amplification) * unit roundoff, the condition of
   /// any factor that decided which tied entries stay out * unit roundoff,
