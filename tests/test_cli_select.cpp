@@ -996,10 +996,10 @@ TEST_F(Select, OneRepeatChangesNothingAndRepeatsAreRefusedOnFixedFolds) {
   // are the same on every repeat.
   Outcome loo = run("select t.csv --response y --drop part --leave-one-out --repeats 2");
   EXPECT_EQ(loo.code, 2);
-  EXPECT_NE(loo.err.find("--leave-one-out gives the same folds every time"), std::string::npos) << loo.err;
+  EXPECT_NE(loo.err.find("option 'repeats': needs folds drawn from the seed; leave-one-out gives the same folds on every repeat"), std::string::npos) << loo.err;
   Outcome col = run("select t.csv --response y --fold-column part --repeats 2");
   EXPECT_EQ(col.code, 2);
-  EXPECT_NE(col.err.find("--fold-column gives the same folds every time"), std::string::npos) << col.err;
+  EXPECT_NE(col.err.find("a fold column (fold_of) gives the same folds on every repeat"), std::string::npos) << col.err;
   EXPECT_EQ(run("select t.csv --response y --drop part --repeats 0").code, 2);
   EXPECT_EQ(run("select t.csv --response y --fold-column part --repeats 1").code, 0);
   EXPECT_NE(run("select --help").out.find("--repeats"), std::string::npos);

@@ -114,13 +114,21 @@ struct CrossValidationOptions {
   /// with fold_of or leave_one_out, whose folds are not random.
   std::size_t repeats = 1;
 
+  /// Checks `repeats` alone, before any row is read: R >= 1, and R > 1
+  /// only with folds drawn from the seed (not leave_one_out, and no fold
+  /// column: `fold_column` says one will fill fold_of). validate() calls it
+  /// with !fold_of.empty(); a front end can call it before reading a table.
+  /// Throws invalid_option("repeats").
+  void validate_repeats(bool fold_column) const {
+    if (repeats < 1) throw invalid_option("repeats", "must be >= 1 (got 0)");
+    if (repeats > 1 && (leave_one_out || fold_column))
+      throw invalid_option("repeats", std::string("needs folds drawn from the seed; ") +
+                                          (leave_one_out ? "leave-one-out" : "a fold column (fold_of)") +
+                                          " gives the same folds on every repeat");
+  }
   /// Checks the fields against the number of rows; throws invalid_option.
   void validate(Index rows) const {
-    if (repeats < 1) throw invalid_option("repeats", "must be >= 1 (got 0)");
-    if (repeats > 1 && (leave_one_out || !fold_of.empty()))
-      throw invalid_option("repeats", std::string("needs folds drawn from the seed; ") +
-                                          (leave_one_out ? "leave_one_out" : "fold_of") +
-                                          " gives the same folds on every repeat");
+    validate_repeats(!fold_of.empty());
     if (!fold_of.empty()) {
       if (static_cast<Index>(fold_of.size()) != rows)
         throw invalid_option("fold_of", "has " + std::to_string(fold_of.size()) + " entries for " +
@@ -246,7 +254,9 @@ struct CrossValidation {
   /// Folds per repeat, K.
   std::size_t folds_per_repeat() const { return folds.size() / repeats; }
   /// CV_r(mu), the curve of repeat r alone (0 <= r < repeats).
-  Scalar repeat_error_at_mu(std::size_t r, const Scalar& mu) const { return repeat_point(r, mu).first; }
+  Scalar repeat_error_at_mu(std::size_t r, const Scalar& mu) const {
+    return repeat_mean(r, repeat_errors(r, mu)).second;
+  }
   /// The spread of the repeats' curves at mu: the standard deviation of
   /// CV_0(mu), ..., CV_{R-1}(mu) (divisor R - 1); 0 when R = 1.
   Scalar spread_at_mu(const Scalar& mu) const {
@@ -277,26 +287,42 @@ struct CrossValidation {
   /// CV error at a penalty lambda of the full data.
   Scalar error_at_penalty(const Scalar& lambda) const { return error_at_mu(full_path.mu_of(lambda)); }
 
- private:
+ /// Throws invalid_query when mu lies below the curve's domain (mu <
+  /// mu_low, where a fold path stopped early): every query at mu calls it.
   void check(const Scalar& mu) const {
     if (!(mu >= mu_low))
       throw invalid_query("the size-free penalty lies below the cross-validation curve's domain");
   }
-  // Repeat r's CV error and SE at mu: the single-run formulas on its K folds.
-  std::pair<Scalar, Scalar> repeat_point(std::size_t r, const Scalar& mu) const {
+
+ private:
+  // Repeat r's K held-out errors at mu, each evaluated once (in fold order).
+  std::vector<Scalar> repeat_errors(std::size_t r, const Scalar& mu) const {
     check(mu);
     const std::size_t k = folds_per_repeat();
-    const auto first = folds.begin() + static_cast<std::ptrdiff_t>(r * k);
+    std::vector<Scalar> out;
+    out.reserve(k);
+    for (std::size_t i = r * k; i < r * k + k; ++i) out.push_back(folds[i].error_at_mu(mu));
+    return out;
+  }
+  // Repeat r's held-out weight and weighted mean error CV_r(mu), from its errors.
+  std::pair<Scalar, Scalar> repeat_mean(std::size_t r, const std::vector<Scalar>& errors) const {
+    const std::size_t k = errors.size();
     Scalar weight(0), sum(0);
-    for (auto f = first; f != first + static_cast<std::ptrdiff_t>(k); ++f) {
-      weight += f->held_out_weight;
-      sum += f->held_out_weight * f->error_at_mu(mu);
+    for (std::size_t i = 0; i < k; ++i) {
+      weight += folds[r * k + i].held_out_weight;
+      sum += folds[r * k + i].held_out_weight * errors[i];
     }
-    const Scalar mean = sum / weight;
+    return {weight, sum / weight};
+  }
+  // Repeat r's CV error and SE at mu: the single-run formulas on its K folds.
+  std::pair<Scalar, Scalar> repeat_point(std::size_t r, const Scalar& mu) const {
+    const std::vector<Scalar> errors = repeat_errors(r, mu);
+    const auto [weight, mean] = repeat_mean(r, errors);
+    const std::size_t k = errors.size();
     Scalar squares(0);
-    for (auto f = first; f != first + static_cast<std::ptrdiff_t>(k); ++f) {
-      const Scalar d = f->error_at_mu(mu) - mean;
-      squares += f->held_out_weight * d * d;
+    for (std::size_t i = 0; i < k; ++i) {
+      const Scalar d = errors[i] - mean;
+      squares += folds[r * k + i].held_out_weight * d * d;
     }
     const Scalar kk(static_cast<double>(k));
     return {mean, detail::square_root<Scalar>(Scalar(squares / weight / (kk - Scalar(1))))};
@@ -324,8 +350,7 @@ struct PredictorActivity {
 /// the curve's domain.
 template <class Scalar>
 PredictorActivity predictor_activity(const CrossValidation<Scalar>& cv, const Scalar& mu) {
-  if (!(mu >= cv.mu_low))
-    throw invalid_query("the size-free penalty lies below the cross-validation curve's domain");
+  cv.check(mu);
   const auto p = static_cast<std::size_t>(cv.full_path.preparation().predictors);
   PredictorActivity out;
   out.fold_paths = cv.folds.size();

@@ -649,6 +649,13 @@ std::string activity_reading(const Selection& s) {
       s.least_activity.fold_paths, s.cv.repeats, s.cv.folds_per_repeat());
 }
 
+// The note under the stability listing (printout and report) of the
+// predictors it leaves out; empty when it lists every one.
+std::string unlisted_activity(std::size_t listed, std::size_t predictors) {
+  if (listed >= predictors) return {};
+  return fmt::format("{} more predictors are active in no fold path at either choice", predictors - listed);
+}
+
 // A fraction as a percentage with one decimal.
 std::string shown_share(double fraction) { return fmt::format("{:.1f}%", 100 * fraction); }
 
@@ -665,9 +672,8 @@ void print_activity(std::ostream& out, const Selection& s, const SelectData& dat
     line.erase(line.find_last_not_of(' ') + 1);
     out << line << '\n';
   }
-  if (rows.size() < names.size())
-    out << fmt::format("  ({} more predictors are active in no fold path at either choice)\n",
-                       names.size() - rows.size());
+  if (const std::string more = unlisted_activity(rows.size(), names.size()); !more.empty())
+    out << "  (" << more << ")\n";
 }
 
 // How the folds were made, the exact curve and the two choices.
@@ -1099,9 +1105,8 @@ charts::ReportTable stability_table(const Selection& s, const SelectData& data) 
   for (const auto& r : rows)
     t.rows.push_back({names[r.predictor], shown_share(r.least), r.least_full ? "yes" : "no", shown_share(r.lean),
                       r.lean_full ? "yes" : "no"});
-  if (rows.size() < names.size())
-    t.notes.push_back(fmt::format("{} more predictors are active in no fold path at either choice.",
-                                  names.size() - rows.size()));
+  if (const std::string more = unlisted_activity(rows.size(), names.size()); !more.empty())
+    t.notes.push_back(more + ".");
   return t;
 }
 
@@ -1380,16 +1385,17 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
   command->callback([args, &global] {
     const bool in_double = args->precision.precision == "double" && args->precision.digits == 0;
     if (!in_double) check_select_precision(*args);
-    if (args->repeats > 1 && (args->leave_one_out || !args->fold_column.empty()))
-      throw failure(exit_usage, std::string("--repeats draws the folds again from other seeds: ") +
-                                    (args->leave_one_out ? "--leave-one-out" : "--fold-column") +
-                                    " gives the same folds every time, so it cannot be repeated");
-    SelectData data = read_select_data(*args, global, !in_double);
     CrossValidationOptions cv;
     cv.folds = args->folds;
     cv.leave_one_out = args->leave_one_out;
     cv.seed = args->seed;
     cv.repeats = args->repeats;
+    try {  // a usage error before the table is read
+      cv.validate_repeats(!args->fold_column.empty());
+    } catch (const invalid_option& e) {
+      throw failure(exit_usage, e.what());
+    }
+    SelectData data = read_select_data(*args, global, !in_double);
     cv.fold_of = data.fold_of;
     cv.threads = args->model.threads;  // --threads: the folds in parallel
     Selection s = in_double ? run_selection<double>(data, data.x, data.y, data.w, cv,
