@@ -102,15 +102,9 @@ std::string adjusted_intervals_svg(const AdjustedIntervals& a, const ChartOption
          "estimate",
          "start", 11.5, "fill=\"" + std::string(kMuted) + "\"");
   const auto [lo, hi] = range_of(a);
-  Scale s;
-  s.lo = lo - 0.04 * (hi - lo);
-  s.hi = hi + 0.04 * (hi - lo);
-  s.left = left;
-  s.right = right;
+  const Scale s = linear_scale(lo - 0.04 * (hi - lo), hi + 0.04 * (hi - lo), left, right);
   const double bottom = top + plot_height;
-  AxisText words;
-  words.title = "coefficient / its standard error (0: no effect)";
-  draw_x_axis(c, s, bottom + 6, top, words);
+  draw_x_axis(c, s, bottom + 6, top, {"coefficient / its standard error (0: no effect)", "", ""});
   c.line(s(0), top, s(0), bottom + 6, "class=\"zero\" stroke=\"" + std::string(kInk) + "\" stroke-width=\"1\"");
   c.text(right + 12, top - 6, "original scale: adjusted [naive]", "start", 10.5, "fill=\"" + std::string(kMuted) + "\"");
   // One bar: its ends clipped to the drawn range, an arrow where clipped.

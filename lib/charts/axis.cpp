@@ -217,13 +217,17 @@ Scale penalty_axis_scale(const std::vector<double>& penalties, const ChartOption
   return s;
 }
 
-Scale budget_scale(double max_l1, double left, double right) {
+Scale linear_scale(double lo, double hi, double left, double right) {
   Scale s;
+  s.lo = lo;
+  s.hi = hi;
   s.left = left;
   s.right = right;
-  s.lo = 0;
-  s.hi = max_l1 > 0 ? max_l1 * 1.03 : 1;
   return s;
+}
+
+Scale budget_scale(double max_l1, double left, double right) {
+  return linear_scale(0, max_l1 > 0 ? max_l1 * 1.03 : 1, left, right);
 }
 
 std::string penalty_symbol(PenaltyUnit unit) {

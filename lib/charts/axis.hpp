@@ -41,6 +41,8 @@ struct Scale {
 /// from `left` to `right` pixels, as the options ask (log, direction).
 Scale penalty_axis_scale(const std::vector<double>& penalties, const ChartOptions& o, double left,
                          double right);
+/// A linear scale over [lo, hi] (lo < hi), from `left` to `right` pixels.
+Scale linear_scale(double lo, double hi, double left, double right);
 /// A linear scale over [0, max_l1] (with a little room), left to right.
 Scale budget_scale(double max_l1, double left, double right);
 

@@ -51,15 +51,9 @@ std::string stability_bars_svg(const StabilityBars& b, const ChartOptions& o) {
          "share of the " + std::to_string(b.fold_paths) + " fold paths (" + std::to_string(b.seeds) +
              " seeds) with a nonzero coefficient; blue: at the least CV error, orange: parsimonious",
          "start", 11.5, "fill=\"" + std::string(kMuted) + "\"");
-  Scale s;
-  s.lo = 0;
-  s.hi = 1;
-  s.left = left;
-  s.right = right;
+  const Scale s = linear_scale(0, 1, left, right);
   const double bottom = top + plot_height;
-  AxisText words;
-  words.title = "share of fold paths where the predictor is active (0 to 1)";
-  draw_x_axis(c, s, bottom + 6, top, words);
+  draw_x_axis(c, s, bottom + 6, top, {"share of fold paths where the predictor is active (0 to 1)", "", ""});
   c.text(right + 12, top - 6, "least CV error / parsimonious", "start", 10.5,
          "fill=\"" + std::string(kMuted) + "\"");
   auto bar = [&](double y, double value, bool full, const char* colour, const std::string& cls) {
