@@ -852,7 +852,8 @@ Table in_file_order(Table& table, const std::vector<std::size_t>& slot_position,
 
 // Reads a table from uncompressed text.
 Table read_text_table(CharSource& chars, const std::string& source, const TableReadOptions& options,
-                      std::size_t block_rows = 0, const std::function<void(Table&)>* on_block = nullptr) {
+                      std::size_t block_rows = 0, const std::function<void(Table&)>* on_block = nullptr,
+                      std::size_t lines_before = 0) {
   Table table;
   table.source = source;
   table.delimiter = choose_delimiter(chars, options, source);
@@ -861,6 +862,7 @@ Table read_text_table(CharSource& chars, const std::string& source, const TableR
   std::vector<Field> fields;
   const Header header = read_header(reader, fields, source, options);
   reader.keep_at_most(header.width());
+  reader.skip_line_numbers(lines_before);
   ColumnPlan plan = select_columns(header, options);
   for (std::size_t j = 0; j < header.width(); ++j)
     if (plan.state[j] == ColumnState::skipped) table.skipped_columns.push_back(header.names[j]);
@@ -887,10 +889,10 @@ Table read_text_table(CharSource& chars, const std::string& source, const TableR
 // read_table() and read_table_blocks() (on_block non-null): the input's
 // packing, then the text.
 Table read_any(std::istream& in, const std::string& source, const TableReadOptions& options,
-               std::size_t block_rows, const std::function<void(Table&)>* on_block) {
+               std::size_t block_rows, const std::function<void(Table&)>* on_block, std::size_t lines_before = 0) {
   CharSource chars(in);
   const Packing packing = packing_of(chars);
-  if (packing == Packing::none) return read_text_table(chars, source, options, block_rows, on_block);
+  if (packing == Packing::none) return read_text_table(chars, source, options, block_rows, on_block, lines_before);
 #ifdef KNOTPATH_HAVE_ZLIB
   if (packing == Packing::gzip) {
     GzipBuffer inflated(chars, source);
@@ -922,6 +924,109 @@ void check_block_options(const TableReadOptions& options, std::size_t block_rows
                          "levels are known only after the last row): read the table whole");
 }
 
+// ---- Pieces of one file (table_piece) ----
+
+std::ifstream open_piece_file(const std::string& path) {
+  if (path == "-")
+    throw table_error(Kind::input_output, "<stdin>", 0, 0, "standard input cannot be cut into pieces (give a file)");
+  std::ifstream file(path, std::ios::binary);
+  if (!file) throw table_error(Kind::input_output, path, 0, 0, std::string("cannot open the file: ") + std::strerror(errno));
+  return file;
+}
+
+std::uint64_t file_size(std::ifstream& file, const std::string& path) {
+  file.seekg(0, std::ios::end);
+  const std::streamoff size = file.tellg();
+  if (size < 0) throw table_error(Kind::input_output, path, 0, 0, "cannot tell the file's size (not a regular file?)");
+  file.seekg(0);
+  return static_cast<std::uint64_t>(size);
+}
+
+// The byte after the header line's line break: blank lines (spaces, tabs,
+// carriage returns) before the header are skipped as the reader skips them.
+// Compressed files are refused: their bytes have no line breaks to cut at.
+std::uint64_t header_end(std::ifstream& file, const std::string& path) {
+  std::istream& in = file;
+  CharSource chars(in);
+  if (packing_of(chars) != Packing::none)
+    throw table_error(Kind::content, path, 0, 0,
+                      "a compressed table cannot be cut into pieces (its bytes are not lines): decompress it, "
+                      "or give the pieces as separate tables");
+  std::uint64_t at = 0;
+  bool blank_so_far = true;
+  for (int c; (c = chars.get()) != detail::end_of_input;) {
+    ++at;
+    if (c == '\n') {
+      if (!blank_so_far) return at;
+      continue;
+    }
+    if (c != ' ' && c != '\t' && c != '\r') blank_so_far = false;
+  }
+  return at;  // no line break after the header: no data lines
+}
+
+// The first line start at or after byte `from` (a line starts at 0 and after
+// every '\n'), or `size` when none does.
+std::uint64_t line_start_at_or_after(std::ifstream& file, const std::string& path, std::uint64_t from,
+                                     std::uint64_t size) {
+  if (from == 0) return 0;
+  file.clear();
+  file.seekg(static_cast<std::streamoff>(from - 1));
+  std::vector<char> buffer(1u << 12);
+  for (std::uint64_t at = from - 1; at < size;) {
+    file.read(buffer.data(), static_cast<std::streamsize>(buffer.size()));
+    const std::streamsize got = file.gcount();
+    if (got <= 0) throw table_error(Kind::input_output, path, 0, 0, "read error (the file shrank?)");
+    const char* begin = buffer.data();
+    const char* end = begin + got;
+    if (const char* hit = std::find(begin, end, '\n'); hit != end)
+      return at + static_cast<std::uint64_t>(hit - buffer.data()) + 1;
+    at += static_cast<std::uint64_t>(got);
+  }
+  return size;
+}
+
+// A stream buffer over byte ranges of one file, one after another (the
+// header line, then a piece's lines).
+class PieceBuffer : public std::streambuf {
+ public:
+  PieceBuffer(const std::string& path, std::vector<std::pair<std::uint64_t, std::uint64_t>> ranges)
+      : file_(open_piece_file(path)), path_(path), ranges_(std::move(ranges)), buffer_(1u << 16) {
+    start_range();
+  }
+
+ protected:
+  int_type underflow() override {
+    while (range_ < ranges_.size() && at_ == ranges_[range_].second) {
+      ++range_;
+      start_range();
+    }
+    if (range_ == ranges_.size()) return traits_type::eof();
+    const auto want = static_cast<std::streamsize>(std::min<std::uint64_t>(ranges_[range_].second - at_, buffer_.size()));
+    file_.read(buffer_.data(), want);
+    const std::streamsize got = file_.gcount();
+    if (got <= 0) throw table_error(Kind::input_output, path_, 0, 0, "read error (the file shrank?)");
+    at_ += static_cast<std::uint64_t>(got);
+    setg(buffer_.data(), buffer_.data(), buffer_.data() + got);
+    return traits_type::to_int_type(buffer_[0]);
+  }
+
+ private:
+  void start_range() {
+    if (range_ == ranges_.size()) return;
+    at_ = ranges_[range_].first;
+    file_.clear();
+    file_.seekg(static_cast<std::streamoff>(at_));
+  }
+
+  std::ifstream file_;
+  std::string path_;
+  std::vector<std::pair<std::uint64_t, std::uint64_t>> ranges_;
+  std::size_t range_ = 0;
+  std::uint64_t at_ = 0;
+  std::vector<char> buffer_;
+};
+
 }  // namespace
 
 Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options) {
@@ -943,6 +1048,55 @@ Table read_table_blocks(const std::string& path, const TableReadOptions& options
   return read_file(path, [&](std::istream& in, const std::string& source) {
     return read_table_blocks(in, source, options, block_rows, on_block);
   });
+}
+
+TablePiece table_piece(const std::string& path, std::size_t index, std::size_t count) {
+  if (count == 0) throw invalid_option("pieces", "must be at least 1");
+  if (index >= count)
+    throw invalid_option("pieces", "piece " + std::to_string(index) + " of " + std::to_string(count) + " does not exist");
+  std::ifstream file = open_piece_file(path);
+  TablePiece piece;
+  piece.index = index;
+  piece.count = count;
+  const std::uint64_t size = file_size(file, path);
+  piece.header_end = header_end(file, path);
+  const std::uint64_t data = size - piece.header_end;
+  // H + floor(data i / count) without overflow: data / count and data % count apart.
+  auto nominal = [&](std::size_t i) {
+    return piece.header_end + data / count * i + data % count * i / count;
+  };
+  auto line_start = [&](std::size_t i) {
+    return i == 0 ? piece.header_end : line_start_at_or_after(file, path, nominal(i), size);
+  };
+  piece.begin = line_start(index);
+  piece.end = index + 1 == count ? size : line_start(index + 1);
+  return piece;
+}
+
+std::size_t lines_before_piece(const std::string& path, const TablePiece& piece) {
+  std::ifstream file = open_piece_file(path);
+  file.seekg(static_cast<std::streamoff>(piece.header_end));
+  std::vector<char> buffer(1u << 16);
+  std::size_t lines = 0;
+  for (std::uint64_t left = piece.begin - piece.header_end; left > 0;) {
+    const auto want = static_cast<std::streamsize>(std::min<std::uint64_t>(left, buffer.size()));
+    file.read(buffer.data(), want);
+    const std::streamsize got = file.gcount();
+    if (got <= 0) throw table_error(Kind::input_output, path, 0, 0, "read error (the file shrank?)");
+    lines += static_cast<std::size_t>(std::count(buffer.data(), buffer.data() + got, '\n'));
+    left -= static_cast<std::uint64_t>(got);
+  }
+  return lines;
+}
+
+Table read_table_piece_blocks(const std::string& path, const TablePiece& piece, std::size_t lines_before,
+                              const TableReadOptions& options, std::size_t block_rows,
+                              const std::function<void(Table&)>& on_block) {
+  check_block_options(options, block_rows);
+  PieceBuffer buffer(path, {{0, piece.header_end}, {piece.begin, piece.end}});
+  std::istream in(&buffer);
+  in.exceptions(std::ios::badbit);  // the buffer's read errors reach the caller
+  return read_any(in, path, options, block_rows, &on_block, lines_before);
 }
 
 std::string indicator_name(const std::string& column, const std::string& level) {

@@ -86,6 +86,9 @@ class RecordReader {
   // Fields past this many are parsed and counted but not kept (their text
   // goes to one scratch field), so a huge row costs no memory per field.
   void keep_at_most(std::size_t fields) { keep_ = fields; }
+  // Counts `lines` more into the line numbers from here on (lines of the
+  // file that this input leaves out: a piece of a file after its header).
+  void skip_line_numbers(std::size_t lines) { line_ += lines; }
 
   // Reads the next non-blank record into fields[0 .. min(count, keep)); false
   // at the end. count is the record's full number of fields.

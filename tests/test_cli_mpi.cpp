@@ -170,4 +170,32 @@ TEST_F(Mpi, AFailureOnAnyProcessStopsEveryProcessWithOneMessage) {
   EXPECT_NE(select.err.find("select runs in one process"), std::string::npos) << select.err;
 }
 
+TEST_F(Mpi, PiecesOfOneFileGiveTheSamePathBitForBitOnOneTwoAndFourProcesses) {
+  // One file, cut into 5 pieces at line breaks: the pieces, not the
+  // processes, fix the merge tree, so every process count gives the bits of
+  // the program alone.
+  const std::string shards = write_shards(1, 1500);
+  const std::string options = " --response y --weights w --pieces 5 --block-rows 64 --knots k.csv --json p.json";
+  const Outcome alone = run("trace" + shards + options);
+  ASSERT_EQ(alone.code, 0) << alone.err;
+  const std::string knots = slurp(file("k.csv")), json = slurp(file("p.json"));
+  ASSERT_FALSE(knots.empty());
+  for (int processes : {1, 2, 4}) {
+    SCOPED_TRACE(fmt::format("{} processes", processes));
+    std::filesystem::remove(file("k.csv"));
+    std::filesystem::remove(file("p.json"));
+    const Outcome r = run_mpi(processes, "trace" + shards + options);
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_EQ(r.out, alone.out);
+    EXPECT_EQ(slurp(file("k.csv")), knots);
+    EXPECT_EQ(slurp(file("p.json")), json);
+  }
+  // A bad cell in the last piece (read by the second process of two)
+  // stops every process with one message naming the file's line.
+  std::ofstream(file("shard0.csv"), std::ios::app) << "1,2,x,4,1,5\n";
+  const Outcome bad = run_mpi(2, "trace shard0.csv --response y --weights w --pieces 5");
+  EXPECT_EQ(bad.code, 3) << bad.err;
+  EXPECT_NE(bad.err.find("shard0.csv, line 1502, column 3"), std::string::npos) << bad.err;
+}
+
 }  // namespace

@@ -319,4 +319,66 @@ TEST_F(Streaming, SeveralTablesAreTracedAsTheShardsOfOne) {
   EXPECT_NE(bad.err.find("bad.csv, line 3"), std::string::npos) << bad.err;
 }
 
+// The rule of io::TablePiece, written again here from its comment: piece i
+// of `count` starts at the first line start at or after
+// H + floor((S - H) i / count) and ends where piece i + 1 starts.
+std::vector<std::string> pieces_by_the_rule(const std::string& text, std::size_t count) {
+  const std::size_t header_end = text.find('\n') + 1, data = text.size() - header_end;
+  std::vector<std::size_t> starts;
+  for (std::size_t i = 0; i < count; ++i) {
+    const std::size_t nominal = header_end + data * i / count;
+    starts.push_back(i == 0 ? header_end : std::min(text.find('\n', nominal - 1), text.size() - 1) + 1);
+  }
+  starts.push_back(text.size());
+  std::vector<std::string> out;
+  for (std::size_t i = 0; i < count; ++i)
+    out.push_back(text.substr(0, header_end) + text.substr(starts[i], starts[i + 1] - starts[i]));
+  return out;
+}
+
+TEST_F(Streaming, OneTableCutIntoPiecesIsTracedAsTheShardsTheCutMakes) {
+  write_table("t.csv", 2400);
+  const std::string text = slurp(file("t.csv"));
+  const std::vector<std::string> parts = pieces_by_the_rule(text, 3);
+  std::string names;
+  for (std::size_t s = 0; s < parts.size(); ++s) {
+    std::ofstream(file(fmt::format("piece{}.csv", s))) << parts[s];
+    names += fmt::format(" piece{}.csv", s);
+  }
+  // The same rows in the same shards, blocks and merge tree: the same bits.
+  const Traced files = trace(names, "--block-rows 100");
+  const Traced pieces = trace("t.csv", "--pieces 3 --block-rows 100");
+  EXPECT_EQ(pieces.knots, files.knots);
+  EXPECT_EQ(pieces.json["knots"], files.json["knots"]);
+  EXPECT_EQ(pieces.json["events"], files.json["events"]);
+  EXPECT_EQ(pieces.json["data"]["rows_read"], files.json["data"]["rows_read"]);
+  EXPECT_EQ(pieces.json["data"]["shards"][1], "t.csv (piece 2 of 3)");
+  EXPECT_NE(pieces.audit.find("table read from 3 shards"), std::string::npos) << pieces.audit;
+  EXPECT_NE(pieces.audit.find("t.csv (3 pieces)"), std::string::npos) << pieces.audit;
+  // One piece is the table read in blocks as one shard: the rows' statistics unmerged.
+  const Traced one = trace("t.csv", "--pieces 1 --block-rows 100");
+  const Traced blocks = trace("t.csv", "--read blocks --block-rows 100");
+  EXPECT_EQ(one.knots, blocks.knots);
+  // A bad cell in the last piece is named by the file's own line, on every
+  // route (the pieces count the earlier lines only when one fails).
+  std::ofstream(file("t.csv"), std::ios::app) << "north,1,2,3,oops,5,1,6\n";
+  const std::size_t bad_line = static_cast<std::size_t>(std::count(text.begin(), text.end(), '\n')) + 1;
+  for (const char* how : {"--pieces 4", "--read whole"}) {
+    const Outcome bad = run(fmt::format("trace t.csv --response y --weights w --missing drop {}", how));
+    EXPECT_EQ(bad.code, 3) << how << "\n" << bad.err;
+    EXPECT_NE(bad.err.find(fmt::format("t.csv, line {}, column 5", bad_line)), std::string::npos) << how << "\n"
+                                                                                                  << bad.err;
+  }
+  // Refusals (usage, status 2): several tables, standard input, --read whole,
+  // another arithmetic, more pieces than lines.
+  EXPECT_EQ(run("trace piece0.csv piece1.csv --response y --pieces 2").code, 2);
+  EXPECT_EQ(run("trace - --response y --pieces 2").code, 2);
+  EXPECT_EQ(run("trace t.csv --response y --pieces 2 --read whole").code, 2);
+  EXPECT_EQ(run("trace t.csv --response y --pieces 2 --precision 50").code, 2);
+  std::ofstream(file("small.csv")) << "a,b,y\n1,2,3\n2,1,5\n3,3,4\n";
+  const Outcome many = run("trace small.csv --response y --pieces 5");
+  EXPECT_EQ(many.code, 2) << many.err;
+  EXPECT_NE(many.err.find("piece 3 of 5 holds no line"), std::string::npos) << many.err;
+}
+
 }  // namespace

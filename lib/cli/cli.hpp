@@ -89,6 +89,7 @@ struct ModelArgs {
   std::size_t threads = 1;           // TraceOptions::threads (select: also the folds)
   std::string reading = "auto";      // --read: auto, whole or blocks (commands that stream)
   std::size_t block_rows = 4096;     // --block-rows: rows per block read
+  std::size_t pieces = 0;            // --pieces: the one table cut into this many shards (0: not cut)
 };
 
 /// The exit status and message of a run stopped by an exception.
@@ -113,6 +114,10 @@ void add_reading_options(CLI::App& command, std::string& reading, std::size_t& b
 /// add_reading_options() for a command whose tracing goes through
 /// trace_table(): blocks go into the sufficient statistics.
 void add_reading_options(CLI::App& command, ModelArgs& args);
+
+/// Adds --pieces (one table cut at line breaks into shards, trace_tables())
+/// to trace and at.
+void add_pieces_option(CLI::App& command, ModelArgs& args);
 
 /// The items of a list option's values (--use, --drop, --na, --indicators,
 /// --nonnegative, --nonpositive, --penalty-scale, --unpenalized, ...), the one home of the
@@ -219,7 +224,8 @@ TracedTable trace_table(const std::string& table, const ModelArgs& args, const G
 
 /// trace_table() for the tables of trace and at: one table as trace_table()
 /// reads it (on rank 0 of an MPI job; the other processes end quietly), or
-/// several as the shards of one table, each read in blocks into its
+/// several as the shards of one table (or one table cut into
+/// ModelArgs::pieces pieces at line breaks, io::table_piece), each read in blocks into its
 /// statistics by the process that owns it (shards.hpp), the statistics
 /// merged in the shard tree and traced on rank 0: the same path for any
 /// number of processes. Processes other than rank 0 end with quiet_exit.

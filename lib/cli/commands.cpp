@@ -101,6 +101,9 @@ void refuse_blocks_with_precision(const ModelArgs& model) {
   if (model.reading == "blocks")
     throw failure(exit_usage, "--read blocks traces in double precision: with --precision the table is "
                               "read whole (--read whole or auto)");
+  if (model.pieces != 0)
+    throw failure(exit_usage, "--pieces reads the pieces in blocks, in double precision: with --precision the "
+                              "table is read whole");
 }
 
 }  // namespace
@@ -116,6 +119,7 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
       ->required();
   add_model_options(*command, args->model);
   add_reading_options(*command, args->model);
+  add_pieces_option(*command, args->model);
   add_precision_options(*command, args->precision);
   command->add_option("--knots", args->knots_file, "Write the knot table (CSV) to this file")
       ->group("Output");
@@ -176,6 +180,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
       ->group("Saved path");
   add_model_options(*command, args->model);
   add_reading_options(*command, args->model);
+  add_pieces_option(*command, args->model);
   command->get_option("--response")->required(false);  // required with TABLE (checked below)
   add_precision_options(*command, args->precision);
   add_point_options(*command, args->point);

@@ -525,7 +525,20 @@ TracedTable trace_in_blocks(const std::string& table_path, const ReadPlan& plan,
   return finish_trace(loaded, reading.trace());
 }
 
-// ---- Shards: several tables, or the processes of an MPI job ----
+// ---- Shards: several tables, pieces of one, or the processes of an MPI job ----
+
+// One shard: a whole table file, or piece `piece` of `pieces` of one
+// (io::table_piece: cut at line breaks).
+struct ShardSource {
+  std::string path;
+  std::size_t piece = 0;
+  std::size_t pieces = 0;  // 0: the whole file
+
+  // How the audit and the messages name it.
+  std::string name() const {
+    return pieces == 0 ? path : fmt::format("{} (piece {} of {})", path, piece + 1, pieces);
+  }
+};
 
 // One table read by this process as a shard: its statistics (every row
 // streamed, block by block) and the record rank 0 needs besides them.
@@ -534,12 +547,26 @@ struct ShardRead {
   nlohmann::json record;
 };
 
-ShardRead read_shard(const std::string& path, const ReadPlan& plan, const Global& global) {
+// Reads one shard; a piece's lines are numbered from `lines_before` (see
+// read_shard_named).
+ShardRead read_shard(const ShardSource& source, const ReadPlan& plan, const Global& global,
+                     std::size_t lines_before = 0) {
   LoadedTable loaded;
+  const std::string& path = source.path;
   const io::TableReadOptions read = start_reading(loaded, path, plan.read, global);
   BlockReading<double> reading(plan, true, loaded);
-  loaded.table = io::read_table_blocks(path, read, plan.args.block_rows,
-                                       [&](io::Table& block) { reading.take(block); });
+  const auto take = [&](io::Table& block) { reading.take(block); };
+  if (source.pieces == 0) {
+    loaded.table = io::read_table_blocks(path, read, plan.args.block_rows, take);
+  } else {
+    const io::TablePiece piece = io::table_piece(path, source.piece, source.pieces);
+    if (piece.begin == piece.end)
+      throw failure(exit_usage, fmt::format("{}: piece {} of {} holds no line (the table has too few data lines "
+                                            "for {} pieces): ask for fewer --pieces",
+                                            path, source.piece + 1, source.pieces, source.pieces));
+    loaded.table = io::read_table_piece_blocks(path, piece, lines_before, read, plan.args.block_rows, take);
+    loaded.table.source = source.name();
+  }
   ShardRead out;
   out.statistics = reading.finish_stream();
   const io::Table& table = loaded.table;
@@ -580,24 +607,25 @@ void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shar
 }
 
 // The shards' sources as the reports name the table they make.
-std::string shards_source(const std::vector<nlohmann::json>& records) {
+std::string shards_source(const std::vector<ShardSource>& sources) {
+  if (sources.front().pieces != 0) return fmt::format("{} ({} pieces)", sources.front().path, sources.size());
   std::string list;
-  for (std::size_t s = 0; s < records.size(); ++s) {
-    if (records.size() > 4 && s == 2) {
+  for (std::size_t s = 0; s < sources.size(); ++s) {
+    if (sources.size() > 4 && s == 2) {
       list += ", ...";
-      s = records.size() - 1;
+      s = sources.size() - 1;
     }
-    list += (list.empty() ? "" : ", ") + records[s]["source"].get<std::string>();
+    list += (list.empty() ? "" : ", ") + sources[s].path;
   }
-  return fmt::format("{} ({} shards)", list, records.size());
+  return fmt::format("{} ({} shards)", list, sources.size());
 }
 
 // Rank 0's reading of the gathered records: the error of the first shard
 // that failed (the same for any number of processes: each process stops at
 // its first failure, and shards are spread in order), shards whose columns
 // differ, else the summary.
-ShardSummary summarise_shards(const std::vector<std::string>& texts, std::size_t count) {
-  std::vector<nlohmann::json> records(count);
+ShardSummary summarise_shards(const std::vector<std::string>& texts, const std::vector<ShardSource>& sources) {
+  std::vector<nlohmann::json> records(sources.size());
   for (const auto& text : texts)
     for (auto& record : nlohmann::json::parse(text)) {
       const auto index = record["index"].get<std::size_t>();
@@ -613,7 +641,7 @@ ShardSummary summarise_shards(const std::vector<std::string>& texts, std::size_t
   ShardSummary out;
   const nlohmann::json& first = records.front();
   io::Table& table = out.table;
-  table.source = shards_source(records);
+  table.source = shards_source(sources);
   table.names = first["names"].get<std::vector<std::string>>();
   table.text_columns = first["text_columns"].get<std::vector<std::string>>();
   table.skipped_columns = first["skipped_columns"].get<std::vector<std::string>>();
@@ -642,23 +670,46 @@ ShardSummary summarise_shards(const std::vector<std::string>& texts, std::size_t
 // process with its message and status), the statistics are merged in the
 // shard tree (the same bits for any number of processes), and rank 0
 // traces; the other processes end quietly (quiet_exit).
-TracedTable trace_shards(const std::vector<std::string>& tables, const ReadPlan& plan, const Global& global) {
+// read_shard(), and for a piece after the first that fails, the same piece
+// read again with its lines counted from the file's start: the reading
+// stops at the same place with the same error, now naming the file's line
+// (counting costs a pass over the earlier pieces' bytes, so only a failure
+// pays it).
+ShardRead read_shard_named(const ShardSource& source, const ReadPlan& plan, const Global& global) {
+  try {
+    return read_shard(source, plan, global);
+  } catch (const failure&) {
+    throw;  // the CLI's own refusals name no line
+  } catch (...) {
+    if (source.pieces == 0 || source.piece == 0) throw;
+  }
+  const io::TablePiece piece = io::table_piece(source.path, source.piece, source.pieces);
+  return read_shard(source, plan, global, io::lines_before_piece(source.path, piece));
+}
+
+TracedTable trace_shards(const std::vector<ShardSource>& sources, const ReadPlan& plan, const Global& global) {
+  const bool cut = sources.front().pieces != 0;
+  const char* what = cut ? "the pieces of one table" : "several tables (shards)";
   if (plan.args.reading == "whole")
-    throw failure(exit_usage, "several tables are read as the shards of one, each in blocks into its statistics: "
-                              "--read whole reads one table");
+    throw failure(exit_usage, fmt::format("{} are read in blocks into their statistics: --read whole reads one "
+                                          "table as one",
+                                          what));
   if (plan.args.indicators_all || !plan.args.indicators.empty())
-    throw failure(exit_usage, "several tables (shards) cannot expand --indicators: a text column's levels would "
-                              "have to agree across them (read one table with --read whole)");
-  for (const auto& table : tables)
-    if (table == "-") throw failure(exit_usage, "standard input (-) cannot be one of several tables");
+    throw failure(exit_usage, fmt::format("{} cannot expand --indicators: a text column's levels would have to agree "
+                                          "across them (read one table with --read whole)",
+                                          what));
+  for (const auto& source : sources)
+    if (source.path == "-")
+      throw failure(exit_usage, cut ? "standard input (-) cannot be cut into pieces (give a file)"
+                                    : "standard input (-) cannot be one of several tables");
   const Ranks& ranks = Ranks::world();
-  const std::size_t count = tables.size();
+  const std::size_t count = sources.size();
   std::vector<std::pair<std::size_t, SufficientStatistics<double>>> mine;
   nlohmann::json records = nlohmann::json::array();
   for (std::size_t s = 0; s < count; ++s) {
     if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
     try {
-      ShardRead shard = read_shard(tables[s], plan, global);
+      ShardRead shard = read_shard_named(sources[s], plan, global);
       shard.record["index"] = s;
       records.push_back(std::move(shard.record));
       mine.emplace_back(s, std::move(shard.statistics));
@@ -673,7 +724,7 @@ TracedTable trace_shards(const std::vector<std::string>& tables, const ReadPlan&
   ErrorOutcome verdict;
   if (ranks.rank() == 0) {
     try {
-      summary = summarise_shards(texts, count);
+      summary = summarise_shards(texts, sources);
     } catch (...) {
       verdict = error_outcome(std::current_exception());
     }
@@ -695,7 +746,7 @@ TracedTable trace_shards(const std::vector<std::string>& tables, const ReadPlan&
   describe_columns(loaded, plan.roles);
   loaded.options = trace_options(plan.args, plan.scales, loaded.context.predictor_names);
   loaded.context.block_rows = plan.args.block_rows;
-  loaded.context.shards = tables;
+  for (const auto& source : sources) loaded.context.shards.push_back(source.name());
   refuse_nothing_to_trace(summary.spread, loaded.options, loaded.shown_name, plan.args.response);
   return finish_trace(
       loaded,
@@ -783,12 +834,28 @@ template TracedTwice<float50> trace_twice<float50>(const std::string&, const Mod
 template TracedTwice<mpfr_float> trace_twice<mpfr_float>(const std::string&, const ModelArgs&, const Global&);
 #endif
 
+void add_pieces_option(CLI::App& command, ModelArgs& args) {
+  command
+      .add_option("--pieces", args.pieces,
+                  "Cut the one TABLE at line breaks into this many pieces of about equal bytes, read as its "
+                  "shards (under mpirun, spread over the processes: the same path for any number of them)")
+      ->check(CLI::Range(std::size_t{1}, std::size_t{1} << 20))
+      ->group("Table");
+}
+
 TracedTable trace_tables(const std::vector<std::string>& tables, const ModelArgs& args, const Global& global) {
-  if (tables.size() == 1) {
+  std::vector<ShardSource> sources;
+  if (args.pieces != 0) {
+    if (tables.size() != 1)
+      throw failure(exit_usage, "--pieces cuts one table; several tables are already the shards of one");
+    for (std::size_t i = 0; i < args.pieces; ++i) sources.push_back({tables.front(), i, args.pieces});
+  } else if (tables.size() == 1) {
     if (Ranks::world().rank() != 0) throw quiet_exit{0};  // one table: rank 0 reads it
     return trace_table(tables.front(), args, global);
+  } else {
+    for (const auto& table : tables) sources.push_back({table});
   }
-  return trace_shards(tables, plan_reading(args, false), global);
+  return trace_shards(sources, plan_reading(args, false), global);
 }
 
 }  // namespace knotpath::cli

@@ -38,6 +38,7 @@
 
 #include <algorithm>
 #include <cstddef>
+#include <cstdint>
 #include <functional>
 #include <istream>
 #include <memory>
@@ -322,6 +323,44 @@ Table read_table_blocks(const std::string& path, const TableReadOptions& options
 /// read_table_blocks() from a stream; `source` names it in error messages.
 Table read_table_blocks(std::istream& in, const std::string& source, const TableReadOptions& options,
                         std::size_t block_rows, const std::function<void(Table&)>& on_block);
+
+/// Where piece `index` of `count` of a table file lies: the data lines of
+/// the file (those after the header line) cut into `count` runs of
+/// consecutive lines at line breaks, by bytes. With H the offset just past
+/// the header line and S the file's size, piece i starts at the first line
+/// that starts at or after H + floor((S - H) i / count) and ends where piece
+/// i + 1 starts (the last at S). Every data line falls in exactly one piece,
+/// in file order; a piece may hold no line when lines are long or few.
+struct TablePiece {
+  std::size_t index = 0;        ///< 0-based, < count
+  std::size_t count = 1;        ///< pieces of the file, >= 1
+  std::uint64_t header_end = 0; ///< H: the byte after the header line's line break
+  std::uint64_t begin = 0;      ///< first byte of the piece's lines
+  std::uint64_t end = 0;        ///< one past the last byte
+};
+
+/// The bytes of piece `index` of `count` of the table file at `path` (see
+/// TablePiece): reads the header line and two short stretches of the file,
+/// not the piece. Throws table_error (input_output: the file cannot be read;
+/// content: it is compressed, which has no line breaks to cut at) and
+/// invalid_option for count = 0 or index >= count.
+TablePiece table_piece(const std::string& path, std::size_t index, std::size_t count);
+/// Physical lines of the file between the header line and the piece's first
+/// line (a pass over those bytes: a reader of one piece counts them only to
+/// name the line of an error).
+std::size_t lines_before_piece(const std::string& path, const TablePiece& piece);
+/// read_table_blocks() over one piece of a table file: the header line, then
+/// the piece's lines, as if they were the whole table (its rows, errors and
+/// Table::row_lines). `lines_before` (lines_before_piece(), or 0 when not
+/// counted) is added to the line number of every line after the header, so
+/// that with it every line is named as in the file. A quoted cell that
+/// holds a line break may be cut between two pieces: the earlier piece then
+/// ends in an unterminated quoted field (an error, never a silent cut).
+/// Throws as read_table_blocks(), and table_error for a piece with no data
+/// row.
+Table read_table_piece_blocks(const std::string& path, const TablePiece& piece, std::size_t lines_before,
+                              const TableReadOptions& options, std::size_t block_rows,
+                              const std::function<void(Table&)>& on_block);
 /// Reads a table from a stream; `source` names it in error messages.
 Table read_table(std::istream& in, const std::string& source, const TableReadOptions& options = {});
 
