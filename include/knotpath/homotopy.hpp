@@ -133,7 +133,8 @@ struct TracedKnots {
 /// Build it, call run() once. Cost per knot: one
 /// design.direction_correlations (O(n q) dense) plus O(k^2) for the factor
 /// and O(q) for the step search; nothing is allocated per knot beyond the
-/// knot's own record. It writes the design's scratch space (see trace_design()).
+/// knot's own record (and the factor's room, doubled when full: a few times
+/// in a path). It writes the design's scratch space (see trace_design()).
 template <DesignOperator Design>
 class Homotopy {
  public:
