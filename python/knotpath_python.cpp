@@ -596,9 +596,10 @@ py::dict cross_validation(const py::array& x, const py::object& y, const py::obj
   d["folds_per_repeat"] = result->folds_per_repeat();
   d["mu_high"] = result->mu_high;
   d["mu_low"] = result->mu_low;
-  PathHandle full{std::shared_ptr<const kp::Path<double>>(result, &result->full_path), response,
-                  {{"least-error", result->minimum.lambda},
-                   {"parsimonious", result->parsimonious.lambda}}};
+  PathHandle full{
+      std::shared_ptr<const kp::Path<double>>(result, &result->full_path),
+      response,
+      {{"least-error", result->minimum.lambda}, {"parsimonious", result->parsimonious.lambda}}};
   d["path"] = full;
   d["native"] = CrossValidationHandle{std::move(result)};
   return d;
@@ -839,7 +840,8 @@ PYBIND11_MODULE(_core, m) {
         py::arg("options"), py::arg("response"), "Traces a compressed-column sparse matrix");
   m.def("load", &load, py::arg("file"), "Reads a saved path");
   py::class_<CrossValidationHandle>(
-      m, "CrossValidation", "A finished cross-validation (knotpath::CrossValidation<double>); immutable")
+      m, "CrossValidation",
+      "A finished cross-validation (knotpath::CrossValidation<double>); immutable")
       .def("curve_at", &curve_at, py::arg("kind"), py::arg("values"),
            "The averaged curve and each repeat's at points of one kind (penalty or mu)")
       .def("activity_at", &activity_at, py::arg("kind"), py::arg("value"),
