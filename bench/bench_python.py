@@ -11,8 +11,10 @@ response a sparse combination of 10 columns plus noise (invented). Both sides
 trace with storage "view" (what automatic picks at this shape) and
 max_knots = K. The two sides alternate, each timing the median of its
 repeats; the ratio is of the medians. Memory is measured in a fresh Python
-process: its peak resident size (VmHWM) over the array's bytes, and the
-growth of the peak during the trace (the peak reset just before it)."""
+process: its peak resident size (VmHWM) over the array's bytes, the growth
+of the peak during the trace (the peak reset just before it), and what is
+resident before any data: the interpreter, numpy's import and the module's
+(the growth of VmRSS at each import)."""
 
 import os
 import statistics
@@ -25,12 +27,15 @@ import numpy as np
 
 MEMORY_PROBE = """
 import sys
-import numpy as np
-import knotpath
-n, p, k = map(int, sys.argv[1:4])
 def status(field):
     with open("/proc/self/status") as f:
         return next(int(line.split()[1]) * 1024 for line in f if line.startswith(field + ":"))
+interpreter = status("VmRSS")
+import numpy as np
+with_numpy = status("VmRSS")
+import knotpath
+with_module = status("VmRSS")
+n, p, k = map(int, sys.argv[1:4])
 rng = np.random.default_rng(21)
 x = rng.standard_normal((p, n)).T  # Fortran-ordered, made in place
 y = x[:, :10] @ np.linspace(1.0, 0.1, 10) + rng.standard_normal(n)
@@ -38,7 +43,7 @@ with open("/proc/self/clear_refs", "w") as f:
     f.write("5")
 before = status("VmRSS")
 knotpath.trace(x, y, storage="view", max_knots=k)
-print(status("VmHWM"), before, x.nbytes)
+print(status("VmHWM"), before, x.nbytes, interpreter, with_numpy - interpreter, with_module - with_numpy)
 """
 
 
@@ -72,13 +77,17 @@ def main():
             assert int(out[1]) == knots, (out, knots)
     probe = subprocess.run([sys.executable, "-c", MEMORY_PROBE, str(n), str(p), str(k)], capture_output=True,
                            text=True, check=True).stdout.split()
-    peak, before, nbytes = (float(v) for v in probe)
+    peak, before, nbytes, interpreter, numpy_import, module_import = (float(v) for v in probe)
     py, cpp = statistics.median(python_times), statistics.median(cpp_times)
     print(f"n={n} p={p} K={k} knots={knots} repeats={repeats}")
     print(f"python_s={py:.4f} cpp_s={cpp:.4f} ratio={py / cpp:.3f} "
           f"(python {min(python_times):.4f}-{max(python_times):.4f}, cpp {min(cpp_times):.4f}-{max(cpp_times):.4f})")
     print(f"peak_over_array={peak / nbytes:.3f} before_trace_over_array={before / nbytes:.3f} "
           f"trace_growth_over_array={(peak - before) / nbytes:.3f}")
+    # what is resident before the array: the interpreter, `import numpy` and
+    # `import knotpath` (each the growth of VmRSS, over the array's bytes)
+    print(f"interpreter_over_array={interpreter / nbytes:.3f} numpy_import_over_array={numpy_import / nbytes:.3f} "
+          f"module_import_over_array={module_import / nbytes:.3f}")
 
 
 if __name__ == "__main__":

@@ -1,8 +1,10 @@
 /// \file knotpath_python.cpp
 /// \brief knotpath._core, the compiled part of the Python module: a thin
 /// pybind11 binding over the library (trace(), trace_sparse(), Path and its
-/// queries, the audit, saved paths, cross_validate(), information_criteria(),
-/// entry_significance(), cross_check()). It implements no method of its own;
+/// queries, the audit, saved paths, cross_validate() with its repeats and the
+/// queries of its kept result (the curves and predictor_activity() at any
+/// point), information_criteria(), entry_significance(), cross_check()). It
+/// implements no method of its own;
 /// the pure-Python layer (knotpath/__init__.py) turns DataFrames, names and
 /// sparse matrices into the arrays taken here, and words into options.
 ///
@@ -444,52 +446,162 @@ py::dict point_dict(const kp::CurvePoint<double>& point) {
   return d;
 }
 
+/// A finished cross-validation kept for the queries that follow it: the
+/// curve, the repeats' curves and the stability counts at any penalty. The
+/// full path's PathHandle shares it (an aliasing pointer to its full_path:
+/// no copy), so the fold paths live as long as either.
+struct CrossValidationHandle {
+  std::shared_ptr<const kp::CrossValidation<double>> cv;  ///< immutable, shared with the full path
+
+  const kp::CrossValidation<double>& operator*() const { return *cv; }
+  const kp::CrossValidation<double>* operator->() const { return cv.get(); }
+};
+
+/// The size-free penalty of a point named by its kind: "mu" as it is,
+/// "penalty" (the full data's lambda) through full_path.mu_of, the one
+/// conversion cross_validation.hpp uses.
+double mu_of_point(const kp::CrossValidation<double>& cv, const std::string& kind, double value) {
+  if (kind == "mu") return value;
+  if (kind == "penalty") return cv.full_path.mu_of(value);
+  throw kp::invalid_query("no cross-validation query at a \"" + kind + "\" (penalty or mu)");
+}
+
+/// The averaged curve at m points and each repeat's curve there:
+/// error (CV), standard_error (the mean of the repeats' SEs), spread (the
+/// standard deviation of the repeats' curves), repeat_error (repeats x m).
+py::dict curve_at(const CrossValidationHandle& handle, const std::string& kind,
+                  const py::object& values) {
+  const kp::CrossValidation<double>& cv = *handle;
+  const kp::Vector<double> points = vector_of(values, kind.c_str());
+  const auto m = static_cast<py::ssize_t>(points.size());
+  const auto repeats = static_cast<py::ssize_t>(cv.repeats);
+  py::array_t<double> mu(m), penalty(m), error(m), standard_error(m), spread(m),
+      repeat_error({repeats, m});
+  auto per_repeat = repeat_error.mutable_unchecked<2>();
+  for (py::ssize_t i = 0; i < m; ++i) {
+    const kp::CurvePoint<double> point = cv.point_at_mu(mu_of_point(cv, kind, points(i)));
+    mu.mutable_at(i) = point.mu;
+    penalty.mutable_at(i) = point.lambda;
+    error.mutable_at(i) = point.error;
+    standard_error.mutable_at(i) = point.standard_error;
+    spread.mutable_at(i) = cv.spread_at_mu(point.mu);
+    for (py::ssize_t r = 0; r < repeats; ++r)
+      per_repeat(r, i) = cv.repeat_error_at_mu(static_cast<std::size_t>(r), point.mu);
+  }
+  py::dict d;
+  d["mu"] = mu;
+  d["penalty"] = penalty;
+  d["error"] = error;
+  d["standard_error"] = standard_error;
+  d["spread"] = spread;
+  d["repeat_error"] = repeat_error;
+  return d;
+}
+
+/// The stability counts at one point (predictor_activity()): per predictor,
+/// the fold paths with a nonzero coefficient there, their fraction, and
+/// whether the full path's coefficient is nonzero.
+py::dict activity_at(const CrossValidationHandle& handle, const std::string& kind, double value) {
+  const kp::CrossValidation<double>& cv = *handle;
+  const double mu = mu_of_point(cv, kind, value);
+  const kp::PredictorActivity activity = kp::predictor_activity(cv, mu);
+  const auto p = static_cast<py::ssize_t>(activity.active_in_folds.size());
+  py::array_t<long long> in_folds(p);
+  py::array_t<double> fraction(p);
+  py::array_t<bool> in_full_path(p);
+  for (py::ssize_t j = 0; j < p; ++j) {
+    const auto k = static_cast<std::size_t>(j);
+    in_folds.mutable_at(j) = static_cast<long long>(activity.active_in_folds[k]);
+    fraction.mutable_at(j) = activity.fraction(k);
+    in_full_path.mutable_at(j) = activity.active_in_full_path[k];
+  }
+  py::dict d;
+  d["mu"] = mu;
+  d["penalty"] = mu * cv.full_scale;
+  d["fold_paths"] = activity.fold_paths;
+  d["active_in_folds"] = in_folds;
+  d["fraction"] = fraction;
+  d["active_in_full_path"] = in_full_path;
+  return d;
+}
+
+/// The fold of each row in each repeat (repeats x rows; -1: never held
+/// out), from the folds' held-out rows (repeat r's K folds are folds[r K ..]).
+py::array_t<long long> repeat_fold_of(const kp::CrossValidation<double>& cv) {
+  const auto rows = static_cast<py::ssize_t>(cv.fold_of.size());
+  const std::size_t k = cv.folds_per_repeat();
+  py::array_t<long long> out({static_cast<py::ssize_t>(cv.repeats), rows});
+  auto view = out.mutable_unchecked<2>();
+  for (py::ssize_t r = 0; r < view.shape(0); ++r)
+    for (py::ssize_t i = 0; i < rows; ++i) view(r, i) = -1;
+  for (std::size_t f = 0; f < cv.folds.size(); ++f)
+    for (kp::Index i : cv.folds[f].held_out)
+      view(static_cast<py::ssize_t>(f / k), i) = static_cast<long long>(f % k);
+  return out;
+}
+
 /// Exact cross-validation (cross_validate()) as plain objects: the two
-/// choices, the curve at the merged knots, the folds and the full path.
+/// choices, the curve at the merged knots, the folds, the full path, and the
+/// kept result for later queries (CrossValidationHandle). `repeats` is
+/// signed so that a negative count reaches the message of
+/// CrossValidationOptions::validate's kind, not a conversion error.
 py::dict cross_validation(const py::array& x, const py::object& y, const py::object& weights,
                           const py::dict& given, std::size_t folds, bool leave_one_out,
                           std::uint64_t seed, const py::object& fold_of, std::size_t threads,
-                          const std::string& response) {
+                          long long repeats, const std::string& response) {
   const kp::TraceOptions options = options_of(given);
+  if (repeats < 0)
+    throw kp::invalid_option("repeats", "must be >= 1 (got " + std::to_string(repeats) + ")");
   kp::CrossValidationOptions cv;
   cv.folds = folds;
   cv.leave_one_out = leave_one_out;
   cv.seed = seed;
   cv.threads = threads;
+  cv.repeats = static_cast<std::size_t>(repeats);
   if (!fold_of.is_none()) cv.fold_of = fold_of.cast<std::vector<long>>();
   const kp::Vector<double> response_values = vector_of(y, "response");
   const kp::Vector<double> w = vector_of(weights, "weights");
   const kp::Matrix<double> design = matrix_of(x);  // cross_validate() takes a Matrix
-  kp::CrossValidation<double> result;
+  auto result = std::make_shared<kp::CrossValidation<double>>();
   {
     py::gil_scoped_release release;
     cv.validate(design.rows());
-    result = kp::cross_validate<double>(design, response_values, options, cv, w);
+    *result = kp::cross_validate<double>(design, response_values, options, cv, w);
   }
   py::dict d;
-  d["least_error"] = point_dict(result.minimum);
-  d["parsimonious"] = point_dict(result.parsimonious);
-  std::vector<double> mu, penalty, error, standard_error;
-  for (const auto& point : result.knot_points()) {
+  py::dict least = point_dict(result->minimum), parsimonious = point_dict(result->parsimonious);
+  least["spread"] = result->spread_at_mu(result->minimum.mu);
+  parsimonious["spread"] = result->spread_at_mu(result->parsimonious.mu);
+  d["least_error"] = least;
+  d["parsimonious"] = parsimonious;
+  std::vector<double> mu, penalty, error, standard_error, spread;
+  for (const auto& point : result->knot_points()) {
     mu.push_back(point.mu);
     penalty.push_back(point.lambda);
     error.push_back(point.error);
     standard_error.push_back(point.standard_error);
+    spread.push_back(result->spread_at_mu(point.mu));
   }
   py::dict curve;
   curve["mu"] = py::array(py::cast(mu));
   curve["penalty"] = py::array(py::cast(penalty));
   curve["error"] = py::array(py::cast(error));
   curve["standard_error"] = py::array(py::cast(standard_error));
+  curve["spread"] = py::array(py::cast(spread));
   d["curve"] = curve;
-  d["fold_of"] = py::array(py::cast(result.fold_of));
-  d["fold_count"] = result.folds.size();
-  d["mu_high"] = result.mu_high;
-  d["mu_low"] = result.mu_low;
-  PathHandle full = handle_of(std::move(result.full_path), response);
-  full.choices = {{"least-error", result.minimum.lambda},
-                  {"parsimonious", result.parsimonious.lambda}};
+  d["fold_of"] = py::array(py::cast(result->fold_of));
+  d["repeat_fold_of"] = repeat_fold_of(*result);
+  d["fold_count"] = result->folds.size();
+  d["repeats"] = result->repeats;
+  d["folds_per_repeat"] = result->folds_per_repeat();
+  d["mu_high"] = result->mu_high;
+  d["mu_low"] = result->mu_low;
+  PathHandle full{
+      std::shared_ptr<const kp::Path<double>>(result, &result->full_path),
+      response,
+      {{"least-error", result->minimum.lambda}, {"parsimonious", result->parsimonious.lambda}}};
   d["path"] = full;
+  d["native"] = CrossValidationHandle{std::move(result)};
   return d;
 }
 
@@ -727,9 +839,16 @@ PYBIND11_MODULE(_core, m) {
         py::arg("starts"), py::arg("rows"), py::arg("cols"), py::arg("y"), py::arg("weights"),
         py::arg("options"), py::arg("response"), "Traces a compressed-column sparse matrix");
   m.def("load", &load, py::arg("file"), "Reads a saved path");
+  py::class_<CrossValidationHandle>(
+      m, "CrossValidation",
+      "A finished cross-validation (knotpath::CrossValidation<double>); immutable")
+      .def("curve_at", &curve_at, py::arg("kind"), py::arg("values"),
+           "The averaged curve and each repeat's at points of one kind (penalty or mu)")
+      .def("activity_at", &activity_at, py::arg("kind"), py::arg("value"),
+           "The stability counts (predictor_activity) at one point (penalty or mu)");
   m.def("cross_validation", &cross_validation, py::arg("x"), py::arg("y"), py::arg("weights"),
         py::arg("options"), py::arg("folds"), py::arg("leave_one_out"), py::arg("seed"),
-        py::arg("fold_of"), py::arg("threads"), py::arg("response"));
+        py::arg("fold_of"), py::arg("threads"), py::arg("repeats"), py::arg("response"));
   m.def("criteria", &criteria, py::arg("path"), py::arg("x"), py::arg("y"), py::arg("weights"),
         py::arg("noise_variance"), py::arg("cross_validated_penalty"));
   m.def("entry_tests", &entry_tests, py::arg("path"), py::arg("x"), py::arg("y"),

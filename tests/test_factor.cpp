@@ -201,3 +201,55 @@ TEST(CholeskyFactor, GramProductBoundIsTheComponentwiseBackwardErrorScale) {
   EXPECT_LT(f.gram_product_bound(e),
             0.5 * r.cwiseAbs().colwise().sum().maxCoeff() * r.cwiseAbs().rowwise().sum().maxCoeff());
 }
+
+// The tracer starts the factor small and lets it grow (Homotopy's
+// make_factor_room), so a path must not depend on the factor's room: a
+// factor that grows from 3 columns and one reserved for 5000 (a column
+// stride past Eigen's 32000-byte switch of its row-major product kernel)
+// give the same bits after every addition and removal, in the triangle,
+// the solves, the health figures and the product bound (common practice:
+// the leading block alone is read, in an order set by its size).
+TEST(CholeskyFactor, ValuesDoNotDependOnItsRoom) {
+  std::mt19937_64 gen(21);
+  std::normal_distribution<double> normal;
+  const Index n = 300, p = 160;
+  Mat z(n, p);
+  for (Index i = 0; i < n; ++i)
+    for (Index j = 0; j < p; ++j) z(i, j) = normal(gen) + (j > 0 ? 0.5 * z(i, j - 1) : 0.0);
+  CholeskyFactor<double> small(3), large(5000);
+  std::vector<Index> order, pool(static_cast<std::size_t>(p));
+  for (Index j = 0; j < p; ++j) pool[static_cast<std::size_t>(j)] = j;
+  std::shuffle(pool.begin(), pool.end(), gen);
+  for (int op = 0; op < 260; ++op) {
+    const bool remove = !order.empty() && (pool.empty() || gen() % 4 == 0);
+    if (remove) {
+      const std::size_t pos = gen() % order.size();
+      small.remove(static_cast<Index>(pos));
+      large.remove(static_cast<Index>(pos));
+      pool.push_back(order[pos]);
+      order.erase(order.begin() + static_cast<std::ptrdiff_t>(pos));
+    } else {
+      const Index j = pool.back();
+      pool.pop_back();
+      ASSERT_TRUE(add_column(small, z, order, j));
+      ASSERT_TRUE(add_column(large, z, order, j));
+      order.push_back(j);
+    }
+    const Index k = static_cast<Index>(order.size());
+    ASSERT_EQ(small.triangle(), large.triangle()) << "after operation " << op;
+    if (k == 0) continue;
+    Vec rhs(k);
+    for (Index i = 0; i < k; ++i) rhs(i) = normal(gen);
+    Vec x_small(k), x_large(k);
+    small.solve(rhs, x_small);
+    large.solve(rhs, x_large);
+    ASSERT_EQ(x_small, x_large) << "after operation " << op;
+    ASSERT_EQ(small.gram_product_bound(rhs), large.gram_product_bound(rhs));
+    const knotpath::FactorHealth hs = small.health(), hl = large.health();
+    ASSERT_EQ(hs.condition_estimate, hl.condition_estimate);
+    ASSERT_EQ(hs.inverse_norm, hl.inverse_norm);
+    ASSERT_EQ(hs.smallest_pivot_ratio, hl.smallest_pivot_ratio);
+  }
+  EXPECT_GE(small.capacity(), 100);  // it grew past the panels of the blocked solves
+  EXPECT_EQ(large.capacity(), 5000);
+}

@@ -102,6 +102,8 @@ class CholeskyFactor {
 
   /// Number of columns currently factored.
   Index size() const noexcept { return size_; }
+  /// Columns the factor has room for before add() must grow it.
+  Index capacity() const noexcept { return r_.rows(); }
 
   /// Makes room for `capacity` columns, keeping the current factor.
   void reserve(Index capacity) {
@@ -306,6 +308,8 @@ class LdltFactor {
 
   /// Number of columns currently factored.
   Index size() const noexcept { return size_; }
+  /// Columns the factor has room for before add() must grow it.
+  Index capacity() const noexcept { return l_.rows(); }
 
   /// Makes room for `capacity` columns, keeping the current factor.
   void reserve(Index capacity) {

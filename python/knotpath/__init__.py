@@ -9,6 +9,8 @@ numbers are the library's, bit for bit the ones the knotpath program prints.
     path.coefficients_at(penalty=2.5)            # exact, anywhere on the path; arrays of points too
     path.predict(new_rows, mu=[0.1, 0.01])
     print(path.audit())
+    cv = knotpath.cross_validate(x, y, folds=10, repeats=5)   # exact curve, averaged over 5 fold draws
+    cv.curve_at(mu=0.5), cv.activity_at(mu=0.5)  # the curves and the stability counts anywhere
 
 The objective, for every penalty lambda >= 0 (the library's TraceOptions):
 
@@ -45,7 +47,7 @@ from ._core import InvalidData, InvalidOption, InvalidQuery, KnotpathError, Save
 __version__ = _core.version
 
 __all__ = [
-    "trace", "load", "Path", "cross_validate", "criteria", "entry_tests", "verify",
+    "trace", "load", "Path", "cross_validate", "CrossValidation", "criteria", "entry_tests", "verify",
     "KnotpathError", "InvalidOption", "InvalidData", "InvalidQuery", "SavedPathError",
 ]
 
@@ -419,22 +421,85 @@ def _data_for(path, x, response, weights=None):
     return _Data(x, response, weights, only=only)
 
 
+class CrossValidation(dict):
+    """The result of cross_validate(): a dict of plain objects (see
+    cross_validate) that also answers queries at any point of the curve.
+
+    The fold paths are kept for these queries (and the full path shares
+    them), so the result holds R K paths until it and its path are dropped."""
+
+    def __init__(self, fields, native):
+        super().__init__(fields)
+        self._native = native
+
+    def curve_at(self, penalty=None, *, mu=None):
+        """The exact curve at one point or an array of points, named by
+        penalty (the full data's lambda) or mu (size-free): a dict of mu,
+        penalty, error (the curve, averaged over the repeats), standard_error
+        (the mean of the repeats' standard errors), spread (the standard
+        deviation of the repeats' curves, divisor R - 1; 0 for one repeat) and
+        repeat_error (each repeat's own curve: a row per repeat). Numbers for
+        one point, arrays for many. Raises InvalidQuery below the curve's domain."""
+        kind, values, scalar = _curve_point(penalty, mu)
+        out = self._native.curve_at(kind, values)
+        if scalar:
+            out = {key: (value[:, 0] if key == "repeat_error" else value[0].item()) for key, value in out.items()}
+        return out
+
+    def activity_at(self, penalty=None, *, mu=None):
+        """How often each predictor is active at one point (named by penalty
+        or mu) across the R K fold paths, and in the full path (the library's
+        predictor_activity): a dict of mu, penalty, fold_paths (R K),
+        active_in_folds (per predictor: fold paths with a nonzero coefficient
+        there), fraction (active_in_folds / fold_paths), active_in_full_path
+        (booleans) and predictor (the names, in column order)."""
+        kind, values, scalar = _curve_point(penalty, mu)
+        if not scalar:
+            raise InvalidQuery("knotpath: activity_at takes one point (call it once per point)")
+        out = self._native.activity_at(kind, float(values[0]))
+        out["predictor"] = self["path"].predictor_names
+        return out
+
+
+def _curve_point(penalty, mu):
+    """(kind, values as a 1-D float64 array, whether one number was given) of
+    a point of the cross-validation curve, named by penalty or mu."""
+    given = [(k, v) for k, v in (("penalty", penalty), ("mu", mu)) if v is not None]
+    if len(given) != 1:
+        raise InvalidQuery("knotpath: name exactly one of penalty or mu")
+    kind, value = given[0]
+    return kind, np.atleast_1d(np.asarray(value, dtype=np.float64)), np.ndim(value) == 0
+
+
 def cross_validate(x, response, *, weights=None, predictor_names=None, folds=10, leave_one_out=False, seed=None,
-                   fold_of=None, fold_threads=1, **options):
+                   fold_of=None, fold_threads=1, repeats=1, **options):
     """Exact K-fold cross-validation of the path (the library's cross_validate):
-    the curve is exact between knots. Returns a dict: least_error and
-    parsimonious (the largest mu within one standard error of the least
-    error), each {mu, penalty, error, standard_error}; curve (arrays at the
-    merged knots); fold_of (each row's fold); fold_count; path (the full
-    data's Path, its choices named "least-error" and "parsimonious")."""
+    the curve is exact between knots.
+
+    repeats: R >= 1 draws of the seeded folds, repeat r from seed + r; the
+       curve is the mean of the R curves and its standard error the mean of
+       theirs (the library's CrossValidationOptions::repeats). R > 1 needs
+       folds drawn from the seed: it is refused with fold_of or leave_one_out
+       (InvalidOption).
+
+    Returns a CrossValidation, a dict: least_error and parsimonious (the
+    largest mu within one standard error of the least error), each {mu,
+    penalty, error, standard_error, spread}; curve (arrays at the merged
+    knots: mu, penalty, error, standard_error, spread); fold_of (each row's
+    fold in repeat 0; -1: never held out); repeat_fold_of (repeats x rows);
+    repeats; folds_per_repeat (K); fold_count (R K fold paths); mu_high,
+    mu_low (the curve's domain); path (the full data's Path, its choices named
+    "least-error" and "parsimonious"). Its methods curve_at and activity_at
+    answer at any penalty or mu."""
     _split_options(options)
     data = _Data(x, response, weights, predictor_names)
     result = _core.cross_validation(data.dense(), data.y, data.weights, _trace_options(data, options), int(folds),
                                     bool(leave_one_out), _core.default_seed if seed is None else int(seed),
                                     None if fold_of is None else [int(f) for f in fold_of], int(fold_threads),
-                                    data.response_name)
+                                    int(repeats), data.response_name)
+    native = result.pop("native")
     result["path"] = Path(result["path"], data.from_frame)
-    return result
+    return CrossValidation(result, native)
 
 
 def criteria(path, x=None, response=None, *, weights=None, noise_variance=None, cross_validated_penalty=None):
