@@ -26,6 +26,7 @@
 #include <knotpath/detail/random.hpp>
 
 #include "test_support.hpp"
+#include "uniformity.hpp"
 
 namespace kp = knotpath;
 using kp::Index;
@@ -43,23 +44,7 @@ bool scipy_available() {
   return std::system(cmd.c_str()) == 0;
 }
 
-/// Kolmogorov-Smirnov p-value of a sample against U(0, 1), with Stephens'
-/// (1970, JRSS B 32, 115-122) small-sample correction of the asymptotic
-/// Kolmogorov distribution (formula from memory; tests/test_inference.cpp
-/// uses the same).
-double ks_uniform_p_value(std::vector<double> sample) {
-  std::sort(sample.begin(), sample.end());
-  const double n = static_cast<double>(sample.size());
-  double d = 0;
-  for (std::size_t i = 0; i < sample.size(); ++i) {
-    const double f = std::clamp(sample[i], 0.0, 1.0);
-    d = std::max({d, (static_cast<double>(i) + 1) / n - f, f - static_cast<double>(i) / n});
-  }
-  const double lambda = (std::sqrt(n) + 0.12 + 0.11 / std::sqrt(n)) * d;
-  double q = 0;
-  for (int k = 1; k <= 100; ++k) q += 2.0 * ((k % 2) ? 1.0 : -1.0) * std::exp(-2.0 * k * k * lambda * lambda);
-  return std::clamp(q, 0.0, 1.0);
-}
+using kp::testing::ks_uniform_p_value;
 
 /// A fixed design: n rows, p columns of standard normals with pairwise
 /// correlation about rho (a shared factor), from a fixed seed.

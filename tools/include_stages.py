@@ -29,7 +29,8 @@ STAGES = [
     ("trace front end", ["trace.hpp", "solver.hpp"]),
     ("front door", ["core.hpp"]),
     ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
-                                         "inference.hpp", "adjusted_inference.hpp", "precision.hpp"]),
+                                         "inference.hpp", "adjusted_inference.hpp", "first_step_t.hpp",
+                                         "precision.hpp"]),
     ("io", ["io/table.hpp", "io/roles.hpp", "io/report.hpp", "io/charts.hpp", "io/saved.hpp"]),
     ("umbrella", ["knotpath.hpp"]),
 ]

@@ -24,6 +24,7 @@
 #include "design/sparse.hpp"
 #include "errors.hpp"
 #include "factor.hpp"
+#include "first_step_t.hpp"
 #include "homotopy.hpp"
 #include "inference.hpp"
 #include "knot.hpp"

@@ -21,6 +21,7 @@
 #include <knotpath/criteria.hpp>
 #include <knotpath/cross_validation.hpp>
 #include <knotpath/adjusted_inference.hpp>
+#include <knotpath/first_step_t.hpp>
 #include <knotpath/inference.hpp>
 
 #include "double_copy.hpp"
@@ -256,6 +257,11 @@ struct Selection {
   std::string criteria_note;  // why there are none
   std::optional<Significance> significance;
   std::string significance_note;
+  // The first step tested with the noise variance unknown (first_step_t.hpp):
+  // computed beside the entry tests, also when they fail for want of a
+  // variance estimate (more predictors than rows).
+  std::optional<FirstStepT> first_step;
+  std::string first_step_note;  // why there is none (empty: not asked for)
   std::optional<AdjustedSummary> adjusted;  // inference after selection (issue 22)
   std::string adjusted_note;                // why there is none
   // Stability counts at the two choices (predictor_activity), computed in
@@ -331,6 +337,24 @@ Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
     return entry_significance(detail::prepare_for(x, y, path, Vector<Scalar>()).design, path,
                               sigma2, df);
   }
+}
+
+// The first step tested with the noise variance unknown: one Gram column
+// and Z^T y, from the statistics when there are some (else the dense
+// route); the statistics' columns may differ from the path's (a column
+// constant only up to rounding): then the dense route, as entry_tests does.
+// Unweighted data only (the caller checks).
+template <class Scalar>
+FirstStepT first_step_test(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
+                           const std::optional<SufficientStatistics<Scalar>>& statistics) {
+  if (statistics) {
+    try {
+      return first_step_t_test(*statistics, path);
+    } catch (const invalid_query&) {
+      // the dense route below
+    }
+  }
+  return first_step_t_test<Scalar>(x, y, path);
 }
 
 // Runs on the prepared Gram problem of the data (the statistics the path
@@ -437,6 +461,13 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
     } catch (const invalid_query& e) {
       s.significance_note = reason_of(e);
     }
+    try {
+      s.first_step = first_step_test<Scalar>(x, y, path, statistics);
+    } catch (const invalid_option& e) {
+      s.first_step_note = reason_of(e);
+    } catch (const invalid_query& e) {
+      s.first_step_note = reason_of(e);
+    }
   }
   if (!s.significance) {
     s.adjusted_note = "needs the entry tests: " + s.significance_note;
@@ -533,9 +564,26 @@ std::string tests_phrase(const Significance& sig) {
       shown(sig.noise_variance), sig.residual_df > 0 ? "least-squares fit" : "given");
 }
 
+// The first-step t-test in one sentence (printout, report), empty when it
+// was not asked for (no tests, weights).
+std::string first_step_phrase(const Selection& s, const SelectData& data) {
+  const std::string head = "first step, noise variance unknown: ";
+  if (!s.first_step) return s.first_step_note.empty() ? std::string() : head + "not computed: " + s.first_step_note;
+  const FirstStepT& f = *s.first_step;
+  if (f.predictor < 0 || !f.note.empty()) return head + "not computed: " + f.note;
+  return head +
+         fmt::format("{} ({}) t = {} on {} degrees of freedom, truncated to [{}, {}], p {} (exact under "
+                     "the global null that no predictor matters; sigma is not estimated)",
+                     data.context.predictor_names[static_cast<std::size_t>(f.predictor)], f.sign > 0 ? "+" : "-",
+                     shown(f.statistic, 4), f.degrees_of_freedom, shown(f.lower, 4),
+                     std::isinf(f.upper) ? std::string("inf") : shown(f.upper, 4),
+                     f.p_value < 1e-10 ? shown_p_value(f.p_value) : "= " + shown_p_value(f.p_value));
+}
+
 // The reference distribution of the tests and their notes, each once with
 // the steps it applies to.
-void print_test_notes(std::ostream& out, const Selection& s) {
+void print_test_notes(std::ostream& out, const Selection& s, const SelectData& data) {
+  const std::string first_step = first_step_phrase(s, data);
   if (s.significance) {
     std::vector<std::pair<std::string, std::string>> grouped;  // note, steps
     for (const auto& e : s.significance->entries) {
@@ -552,10 +600,12 @@ void print_test_notes(std::ostream& out, const Selection& s) {
       notes += fmt::format("  note (step{} {}): {}\n",
                            steps.find(',') == std::string::npos ? "" : "s", steps, note);
     out << "tests: " << tests_phrase(*s.significance) << '\n';
+    if (!first_step.empty()) out << "  " << first_step << '\n';
     for (const auto& line : test_reading_notes()) out << "  " << line << '\n';
     out << notes;
   } else {
     out << "tests: not computed: " << s.significance_note << '\n';
+    if (!first_step.empty()) out << "  " << first_step << '\n';
   }
 }
 
@@ -987,7 +1037,7 @@ void print_selection(std::ostream& out, const Selection& s, const SelectData& da
                      prep.used_observations, data.context.source);
   print_audit_with_tests(out, s, data);
   print_health_and_notes(out, s);
-  print_test_notes(out, s);
+  print_test_notes(out, s, data);
   print_cross_validation(out, s, args);
   print_criteria(out, s);
   print_choice_coefficients(out, s, data);
@@ -1072,13 +1122,17 @@ charts::ReportTable entry_tests_table(const Selection& s, const SelectData& data
   charts::ReportTable t;
   t.heading = "Entry tests";
   t.id = "entry-tests";
+  std::string first_step = first_step_phrase(s, data);
+  if (!first_step.empty()) first_step[0] = 'F';
   if (!s.significance) {
     t.lead = {"Not computed: " + s.significance_note};
+    if (!first_step.empty()) t.lead.push_back(first_step + ".");
     return t;
   }
   const auto& sig = *s.significance;
   const auto& names = data.context.predictor_names;
   t.lead = {"Each entry of the path: " + tests_phrase(sig) + "."};
+  if (!first_step.empty()) t.lead.push_back(first_step + ".");
   t.columns = {"step",           "predictor",   "sign", "lambda", "mu", "covariance statistic",
                "p (covariance)", "p (spacing)", "note"};
   t.text_columns = {false, true, false, false, false, false, false, false, true};
@@ -1249,6 +1303,21 @@ json selection_document(const Selection& s, const SelectData& data, const Select
     doc["significance"] = json{{"note", s.significance_note}};
   }
   if (s.significance) doc["significance"]["reading"] = test_reading_notes();
+  if (s.first_step) {
+    const FirstStepT& f = *s.first_step;
+    doc["significance"]["first_step_unknown_variance"] = json{
+        {"predictor", f.predictor >= 0 ? json(names[static_cast<std::size_t>(f.predictor)]) : json(nullptr)},
+        {"sign", f.sign},
+        {"t_statistic", number_or_null(f.statistic)},
+        {"degrees_of_freedom", number_or_null(f.degrees_of_freedom)},
+        {"truncation_lower", number_or_null(f.lower)},
+        {"truncation_upper", number_or_null(f.upper)},
+        {"p_value", number_or_null(f.p_value)},
+        {"null_hypothesis", "no predictor matters (E y constant); Gaussian errors, fixed design; sigma unknown"},
+        {"note", f.note}};
+  } else if (!s.first_step_note.empty()) {
+    doc["significance"]["first_step_unknown_variance"] = json{{"note", s.first_step_note}};
+  }
   doc["adjusted_inference"] = adjusted_json(s, data);
   doc["cross_validation"]["one_standard_error_rule"] =
       json{{"threshold", cv.minimum.error + cv.minimum.standard_error},
