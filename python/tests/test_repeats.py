@@ -122,9 +122,9 @@ def test_repeats_are_refused_with_the_librarys_message(diabetes):
         knotpath.cross_validate(x, y, folds=FOLDS, repeats=0)
     with pytest.raises(knotpath.InvalidOption, match=r"option 'repeats': must be >= 1 \(got -3\)"):
         knotpath.cross_validate(x, y, folds=FOLDS, repeats=-3)
-    with pytest.raises(ValueError, match="option 'repeats': needs folds drawn from the seed; leave_one_out gives"):
+    with pytest.raises(ValueError, match="option 'repeats': needs folds drawn from the seed; leave-one-out gives"):
         knotpath.cross_validate(x, y, leave_one_out=True, repeats=2)
-    with pytest.raises(ValueError, match="option 'repeats': needs folds drawn from the seed; fold_of gives"):
+    with pytest.raises(ValueError, match=r"option 'repeats': needs folds drawn from the seed; a fold column \(fold_of\) gives"):
         knotpath.cross_validate(x, y, fold_of=np.arange(len(y)) % 4, repeats=2)
     # one repeat stays allowed with the user's folds
     given = knotpath.cross_validate(x, y, fold_of=np.arange(len(y)) % 4, repeats=1)
