@@ -37,26 +37,9 @@ namespace fs = std::filesystem;
 namespace {
 
 constexpr double inf = std::numeric_limits<double>::infinity();
-const char* kPython = "/usr/bin/python3";
-
-bool scipy_available() {
-  const std::string cmd = std::string(kPython) + " -c \"import scipy.stats, scipy.optimize\" > /dev/null 2>&1";
-  return std::system(cmd.c_str()) == 0;
-}
-
+using kp::testing::equicorrelated_design;
 using kp::testing::ks_uniform_p_value;
-
-/// A fixed design: n rows, p columns of standard normals with pairwise
-/// correlation about rho (a shared factor), from a fixed seed.
-Matrix<double> design(Index n, Index p, double rho, std::uint64_t seed) {
-  kp::detail::SplitMix64 rng(seed);
-  Matrix<double> x(n, p);
-  for (Index i = 0; i < n; ++i) {
-    const double shared = rng.normal();
-    for (Index j = 0; j < p; ++j) x(i, j) = std::sqrt(rho) * shared + std::sqrt(1 - rho) * rng.normal();
-  }
-  return x;
-}
+using kp::testing::python_has;
 
 /// The projected coefficients of mu on the intercept and the columns
 /// `active` of x (original scale), by Householder QR: an independent route
@@ -142,7 +125,7 @@ std::pair<double, double> big_tails(double x, double mean, double sd, double low
 // out, widths of 1e-4 sd, the observed value next to a limit, one-sided and
 // reflected truncation. tests/truncnorm_reference.py runs SciPy.
 TEST(TruncatedNormal, TailsAndIntervalsMatchScipyAtStressedPoints) {
-  if (!scipy_available())
+  if (!python_has("scipy.stats, scipy.optimize"))
     GTEST_SKIP() << "/usr/bin/python3 cannot import scipy (install the Debian package python3-scipy); "
                     "the external truncated-normal check is skipped";
   struct Case {
@@ -166,7 +149,7 @@ TEST(TruncatedNormal, TailsAndIntervalsMatchScipyAtStressedPoints) {
     f.precision(17);
     for (const Case& c : cases) f << c.x << ' ' << c.mean << ' ' << c.sd << ' ' << c.lower << ' ' << c.upper << ' ' << c.level << '\n';
   }
-  const std::string cmd = std::string(kPython) + " \"" + KNOTPATH_SOURCE_DIR + "/tests/truncnorm_reference.py\" \"" +
+  const std::string cmd = std::string(kp::testing::reference_python) + " \"" + KNOTPATH_SOURCE_DIR + "/tests/truncnorm_reference.py\" \"" +
                           in.string() + "\" \"" + out.string() + "\"";
   ASSERT_EQ(std::system(cmd.c_str()), 0) << cmd;
   std::ifstream g(out);
@@ -237,7 +220,7 @@ TEST(TruncatedNormal, IntervalIsTheNaiveOneWithoutTruncationAndUnboundedOnALimit
 // just outside it does not (Lee et al. 2016: the event is exactly the
 // polyhedron).
 TEST(AdjustedInference, FixedPenaltyLimitsAreWhereTheSignedSupportChanges) {
-  const Matrix<double> x = design(40, 8, 0.3, 11);
+  const Matrix<double> x = equicorrelated_design(40, 8, 0.3, 11);
   kp::detail::SplitMix64 rng(5);
   Vector<double> y(40);
   for (Index i = 0; i < 40; ++i) y(i) = 1.5 * x(i, 0) - 1.0 * x(i, 3) + 0.7 * x(i, 5) + rng.normal();
@@ -279,7 +262,7 @@ TEST(AdjustedInference, FixedPenaltyLimitsAreWhereTheSignedSupportChanges) {
 // At penalty 0 the lasso is the least-squares fit on every predictor: no
 // selection, so the adjusted interval and p-value are the naive ones.
 TEST(AdjustedInference, AtPenaltyZeroNothingIsConditionedOn) {
-  const Matrix<double> x = design(40, 5, 0.3, 8);
+  const Matrix<double> x = equicorrelated_design(40, 5, 0.3, 8);
   kp::detail::SplitMix64 rng(3);
   Vector<double> y(40);
   for (Index i = 0; i < 40; ++i) y(i) = 0.5 * x(i, 0) + rng.normal();
@@ -301,7 +284,7 @@ TEST(AdjustedInference, AtPenaltyZeroNothingIsConditionedOn) {
 // inside the event), and just past a finite limit they differ (it is the
 // event: no extra conditioning); on a lasso path with a leave event.
 TEST(AdjustedInference, StepLimitsAreWhereTheFirstEventsChange) {
-  const Matrix<double> x = design(30, 10, 0.6, 18);  // a design whose path has a leave at row 7
+  const Matrix<double> x = equicorrelated_design(30, 10, 0.6, 18);  // a design whose path has a leave at row 7
   kp::detail::SplitMix64 rng(9);
   Vector<double> y(30);
   for (Index i = 0; i < 30; ++i) y(i) = 1.0 * x(i, 1) + 0.8 * x(i, 2) - 0.6 * x(i, 7) + 0.8 * rng.normal();
@@ -340,7 +323,7 @@ TEST(AdjustedInference, StepLimitsAreWhereTheFirstEventsChange) {
 // p-value (inference.hpp): at step 1 the least-angle polyhedron is the
 // spacing test's event and the contrasts coincide (Tibshirani et al. 2016).
 TEST(AdjustedInference, FirstEntryPValueEqualsTheSpacingTest) {
-  const Matrix<double> x = design(50, 12, 0.4, 31);
+  const Matrix<double> x = equicorrelated_design(50, 12, 0.4, 31);
   for (std::uint64_t seed : {1u, 2u, 3u}) {
     kp::detail::SplitMix64 rng(seed);
     Vector<double> y(50);
@@ -364,7 +347,7 @@ TEST(AdjustedInference, FirstEntryPValueEqualsTheSpacingTest) {
 // the 1% level over 2000 draws; so are the fixed-penalty p-values of the
 // first active predictor (Lee et al. 2016). Fixed seed.
 TEST(AdjustedInference, PValuesAreUniformUnderTheGlobalNull) {
-  const Matrix<double> x = design(25, 6, 0.3, 77);
+  const Matrix<double> x = equicorrelated_design(25, 6, 0.3, 77);
   kp::detail::SplitMix64 rng(2016);
   const kp::TraceOptions trace_options;
   std::vector<double> first_entry, fixed_penalty;
@@ -393,7 +376,7 @@ TEST(AdjustedInference, PValuesAreUniformUnderTheGlobalNull) {
 // clearly less in the same draws. Fixed seed.
 TEST(AdjustedInference, IntervalsCoverTheProjectedCoefficientAndNaiveOnesDoNot) {
   const Index n = 30, p = 6;
-  const Matrix<double> x = design(n, p, 0.3, 101);
+  const Matrix<double> x = equicorrelated_design(n, p, 0.3, 101);
   Vector<double> beta = Vector<double>::Zero(p);
   beta(0) = 0.5;
   beta(1) = -0.35;
@@ -461,7 +444,7 @@ TEST(AdjustedInference, ForwardStopKeepsTheLongestPrefixUnderAlpha) {
 // and ForwardStop at 0.1 keeps at least those three, and not every entry
 // (G'Sell et al. 2016: the rule stops once the null p-values accumulate).
 TEST(AdjustedInference, ForwardStopOnTheEntriesKeepsTheStrongPredictors) {
-  const Matrix<double> x = design(80, 10, 0.2, 41);
+  const Matrix<double> x = equicorrelated_design(80, 10, 0.2, 41);
   kp::detail::SplitMix64 rng(12);
   Vector<double> y(80);
   for (Index i = 0; i < 80; ++i) y(i) = 1.2 * x(i, 2) - 1.0 * x(i, 5) + 0.9 * x(i, 8) + rng.normal();
@@ -486,7 +469,7 @@ TEST(AdjustedInference, ForwardStopOnTheEntriesKeepsTheStrongPredictors) {
 
 // Unsupported settings are refused with the option named.
 TEST(AdjustedInference, UnsupportedSettingsAreRefused) {
-  const Matrix<double> x = design(30, 5, 0.2, 3);
+  const Matrix<double> x = equicorrelated_design(30, 5, 0.2, 3);
   Vector<double> y = x.col(0) + x.col(1);
   kp::TraceOptions lar;
   lar.variant = kp::Variant::least_angle;

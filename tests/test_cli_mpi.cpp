@@ -64,6 +64,26 @@ class Mpi : public knotpath::testing::ProgramTest {
 #endif
   }
 
+  // Runs `command` (writing k.csv and p.json) alone and under 1, 2 and 4
+  // processes: the printout (the audit, printed once, by rank 0) and both
+  // files must be the same bytes every time.
+  void expect_the_same_bits_on_any_process_count(const std::string& command) const {
+    const Outcome alone = run(command);
+    ASSERT_EQ(alone.code, 0) << alone.err;
+    const std::string knots = slurp(file("k.csv")), json = slurp(file("p.json"));
+    ASSERT_FALSE(knots.empty());
+    for (int processes : {1, 2, 4}) {
+      SCOPED_TRACE(fmt::format("{} processes", processes));
+      std::filesystem::remove(file("k.csv"));
+      std::filesystem::remove(file("p.json"));
+      const Outcome r = run_mpi(processes, command);
+      ASSERT_EQ(r.code, 0) << r.err;
+      EXPECT_EQ(r.out, alone.out);
+      EXPECT_EQ(slurp(file("k.csv")), knots);
+      EXPECT_EQ(slurp(file("p.json")), json);
+    }
+  }
+
   // Writes `count` shards of `rows` invented rows (a fixed-seed generator;
   // four predictors, weights) and returns their names, space separated.
   std::string write_shards(std::size_t count, int rows) const {
@@ -88,20 +108,7 @@ class Mpi : public knotpath::testing::ProgramTest {
 TEST_F(Mpi, TheShardsGiveTheSamePathBitForBitOnOneTwoAndFourProcesses) {
   const std::string shards = write_shards(7, 1500);
   const std::string options = " --response y --weights w --block-rows 64 --knots k.csv --json p.json";
-  const Outcome alone = run("trace" + shards + options);
-  ASSERT_EQ(alone.code, 0) << alone.err;
-  const std::string knots = slurp(file("k.csv")), json = slurp(file("p.json"));
-  ASSERT_FALSE(knots.empty());
-  for (int processes : {1, 2, 4}) {
-    SCOPED_TRACE(fmt::format("{} processes", processes));
-    std::filesystem::remove(file("k.csv"));
-    std::filesystem::remove(file("p.json"));
-    const Outcome r = run_mpi(processes, "trace" + shards + options);
-    ASSERT_EQ(r.code, 0) << r.err;
-    EXPECT_EQ(r.out, alone.out);  // the audit, printed once (by rank 0)
-    EXPECT_EQ(slurp(file("k.csv")), knots);
-    EXPECT_EQ(slurp(file("p.json")), json);
-  }
+  expect_the_same_bits_on_any_process_count("trace" + shards + options);
   // `at` too.
   const std::string ask = "at" + shards + " --response y --weights w --relative-budget 0.5 --csv";
   const Outcome at_alone = run(ask);
@@ -176,20 +183,7 @@ TEST_F(Mpi, PiecesOfOneFileGiveTheSamePathBitForBitOnOneTwoAndFourProcesses) {
   // the program alone.
   const std::string shards = write_shards(1, 1500);
   const std::string options = " --response y --weights w --pieces 5 --block-rows 64 --knots k.csv --json p.json";
-  const Outcome alone = run("trace" + shards + options);
-  ASSERT_EQ(alone.code, 0) << alone.err;
-  const std::string knots = slurp(file("k.csv")), json = slurp(file("p.json"));
-  ASSERT_FALSE(knots.empty());
-  for (int processes : {1, 2, 4}) {
-    SCOPED_TRACE(fmt::format("{} processes", processes));
-    std::filesystem::remove(file("k.csv"));
-    std::filesystem::remove(file("p.json"));
-    const Outcome r = run_mpi(processes, "trace" + shards + options);
-    ASSERT_EQ(r.code, 0) << r.err;
-    EXPECT_EQ(r.out, alone.out);
-    EXPECT_EQ(slurp(file("k.csv")), knots);
-    EXPECT_EQ(slurp(file("p.json")), json);
-  }
+  expect_the_same_bits_on_any_process_count("trace" + shards + options);
   // A bad cell in the last piece (read by the second process of two)
   // stops every process with one message naming the file's line.
   std::ofstream(file("shard0.csv"), std::ios::app) << "1,2,x,4,1,5\n";

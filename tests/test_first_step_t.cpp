@@ -28,30 +28,14 @@ namespace kp = knotpath;
 using kp::Index;
 using kp::Matrix;
 using kp::Vector;
+using kp::testing::equicorrelated_design;
 using kp::testing::ks_uniform_p_value;
+using kp::testing::python_has;
 namespace fs = std::filesystem;
 
 namespace {
 
 constexpr double inf = std::numeric_limits<double>::infinity();
-const char* kPython = "/usr/bin/python3";
-
-bool scipy_available() {
-  const std::string cmd = std::string(kPython) + " -c \"import scipy.stats, scipy.integrate\" > /dev/null 2>&1";
-  return std::system(cmd.c_str()) == 0;
-}
-
-/// n x p standard normals with pairwise correlation about rho, fixed seed.
-Matrix<double> design(Index n, Index p, double rho, std::uint64_t seed) {
-  kp::detail::SplitMix64 rng(seed);
-  Matrix<double> x(n, p);
-  for (Index i = 0; i < n; ++i) {
-    const double shared = rng.normal();
-    for (Index j = 0; j < p; ++j) x(i, j) = std::sqrt(rho) * shared + std::sqrt(1 - rho) * rng.normal();
-  }
-  return x;
-}
-
 /// First-step t p-values of `draws` responses y = m + sigma * noise (the
 /// global null: m a constant, 0 without an intercept), sigma alternating
 /// between 0.3 and 7 so that no single noise level could be what makes the
@@ -89,7 +73,7 @@ std::vector<double> null_p_values(const Matrix<double>& x, bool intercept, int d
 // over a limit whose tail does not underflow,
 // where doubles underflow, intervals 1e-3 wide, a point next to a limit.
 TEST(TruncatedT, UpperTailMatchesScipyAtStressedPoints) {
-  if (!scipy_available())
+  if (!python_has("scipy.stats, scipy.integrate"))
     GTEST_SKIP() << "/usr/bin/python3 cannot import scipy (install the Debian package python3-scipy); "
                     "the external truncated-t check is skipped";
   struct Case {
@@ -111,7 +95,7 @@ TEST(TruncatedT, UpperTailMatchesScipyAtStressedPoints) {
     f.precision(17);
     for (const Case& c : cases) f << c.t << ' ' << c.lower << ' ' << c.upper << ' ' << c.nu << '\n';
   }
-  const std::string cmd = std::string(kPython) + " \"" + KNOTPATH_SOURCE_DIR + "/tests/truncated_t_reference.py\" \"" +
+  const std::string cmd = std::string(kp::testing::reference_python) + " \"" + KNOTPATH_SOURCE_DIR + "/tests/truncated_t_reference.py\" \"" +
                           in.string() + "\" \"" + out.string() + "\"";
   ASSERT_EQ(std::system(cmd.c_str()), 0) << cmd;
   std::ifstream g(out);
@@ -151,7 +135,7 @@ TEST(TruncatedT, ContinuedFractionAgreesWithBoostWhereBothHold) {
 // p = P(t_nu >= T) / P(t_nu >= L) (Student t tails by Boost.Math).
 TEST(FirstStepT, OrthonormalColumnsMatchTheHandDerivation) {
   const Index n = 12, p = 4;
-  Matrix<double> raw = design(n, p, 0.0, 5);
+  Matrix<double> raw = equicorrelated_design(n, p, 0.0, 5);
   raw.rowwise() -= raw.colwise().mean();
   const Matrix<double> q = Eigen::HouseholderQR<Matrix<double>>(raw).householderQ() * Matrix<double>::Identity(n, p);
   kp::detail::SplitMix64 rng(9);
@@ -185,7 +169,7 @@ TEST(FirstStepT, OrthonormalColumnsMatchTheHandDerivation) {
 // Z^T y and one Gram column give the knot the homotopy found; p > n too.
 TEST(FirstStepT, TruncationIsTheSecondKnot) {
   for (const auto& [n, p] : {std::pair<Index, Index>{20, 5}, {8, 12}}) {
-    const Matrix<double> x = design(n, p, 0.4, 31 + static_cast<std::uint64_t>(p));
+    const Matrix<double> x = equicorrelated_design(n, p, 0.4, 31 + static_cast<std::uint64_t>(p));
     kp::detail::SplitMix64 rng(12);
     for (int r = 0; r < 10; ++r) {
       Vector<double> y(n);
@@ -220,9 +204,9 @@ TEST(FirstStepT, TruncationIsTheSecondKnot) {
 // p = 12 (more columns than rows) and n = 10, p = 4 without an intercept.
 // sigma alternates between 0.3 and 7 and is never given. Fixed seeds.
 TEST(FirstStepT, PValuesAreUniformUnderTheGlobalNullWithUnknownVariance) {
-  EXPECT_GT(ks_uniform_p_value(null_p_values(design(20, 5, 0.3, 77), true, 2000, 2014)), 0.01);
-  EXPECT_GT(ks_uniform_p_value(null_p_values(design(8, 12, 0.3, 78), true, 2000, 2018)), 0.01);
-  EXPECT_GT(ks_uniform_p_value(null_p_values(design(10, 4, 0.2, 79), false, 2000, 755)), 0.01);
+  EXPECT_GT(ks_uniform_p_value(null_p_values(equicorrelated_design(20, 5, 0.3, 77), true, 2000, 2014)), 0.01);
+  EXPECT_GT(ks_uniform_p_value(null_p_values(equicorrelated_design(8, 12, 0.3, 78), true, 2000, 2018)), 0.01);
+  EXPECT_GT(ks_uniform_p_value(null_p_values(equicorrelated_design(10, 4, 0.2, 79), false, 2000, 755)), 0.01);
 }
 
 // For contrast, in the same kind of draws with few rows (n = 10, p = 5: the
@@ -234,7 +218,7 @@ TEST(FirstStepT, PValuesAreUniformUnderTheGlobalNullWithUnknownVariance) {
 // contrast is claimed there.)
 TEST(FirstStepT, PlugInSpacingPValueIsNotUniformWithFewRowsButTheTTestIs) {
   std::vector<double> spacing;
-  const std::vector<double> t = null_p_values(design(10, 5, 0.3, 80), true, 2000, 2016, &spacing);
+  const std::vector<double> t = null_p_values(equicorrelated_design(10, 5, 0.3, 80), true, 2000, 2016, &spacing);
   EXPECT_GT(ks_uniform_p_value(t), 0.01);
   EXPECT_LT(ks_uniform_p_value(spacing), 1e-6);
 }
@@ -245,7 +229,7 @@ TEST(FirstStepT, PlugInSpacingPValueIsNotUniformWithFewRowsButTheTTestIs) {
 // that cannot tell signal from noise, or has its tail reversed, fails here.
 TEST(FirstStepT, DetectsAStrongFirstEntry) {
   const Index n = 20, p = 5;
-  const Matrix<double> x = design(n, p, 0.3, 81);
+  const Matrix<double> x = equicorrelated_design(n, p, 0.3, 81);
   kp::detail::SplitMix64 rng(4);
   int small = 0;
   for (int r = 0; r < 200; ++r) {
