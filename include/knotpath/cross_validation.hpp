@@ -68,6 +68,7 @@
 #include <exception>
 #include <limits>
 #include <optional>
+#include <span>
 #include <string>
 #include <utility>
 #include <vector>
@@ -114,13 +115,18 @@ struct CrossValidationOptions {
   /// with fold_of or leave_one_out, whose folds are not random.
   std::size_t repeats = 1;
 
+  /// Checks a repeat count as a front end received it (signed, before it is
+  /// stored in `repeats`): R >= 1. Throws invalid_option("repeats").
+  static void validate_repeat_count(long long count) {
+    if (count < 1) throw invalid_option("repeats", "must be >= 1 (got " + std::to_string(count) + ")");
+  }
   /// Checks `repeats` alone, before any row is read: R >= 1, and R > 1
   /// only with folds drawn from the seed (not leave_one_out, and no fold
   /// column: `fold_column` says one will fill fold_of). validate() calls it
   /// with !fold_of.empty(); a front end can call it before reading a table.
   /// Throws invalid_option("repeats").
   void validate_repeats(bool fold_column) const {
-    if (repeats < 1) throw invalid_option("repeats", "must be >= 1 (got 0)");
+    if (repeats < 1) validate_repeat_count(0);
     if (repeats > 1 && (leave_one_out || fold_column))
       throw invalid_option("repeats", std::string("needs folds drawn from the seed; ") +
                                           (leave_one_out ? "leave-one-out" : "a fold column (fold_of)") +
@@ -207,6 +213,15 @@ struct CurvePoint {
   Scalar standard_error{0};  ///< SE(mu), the standard error of the fold errors
 };
 
+/// The curve at one penalty with the repeats' own curves there
+/// (CrossValidation::detail_at_mu()).
+template <class Scalar>
+struct CurveDetail {
+  CurvePoint<Scalar> point;          ///< the (averaged) curve and its standard error
+  Scalar spread{0};                  ///< standard deviation of the repeats' curves (0 for one repeat)
+  std::vector<Scalar> repeat_error;  ///< CV_r(mu) of each repeat r = 0 .. R - 1
+};
+
 /// The result of cross_validate(): the folds, the exact curve and the choices.
 template <class Scalar>
 struct CrossValidation {
@@ -229,12 +244,7 @@ struct CrossValidation {
   CurvePoint<Scalar> parsimonious;         ///< largest mu with CV <= CV(min) + SE(min)
 
   /// CV(mu) for mu >= mu_low (constant above mu_high). Throws invalid_query below the domain.
-  Scalar error_at_mu(const Scalar& mu) const {
-    check(mu);
-    Scalar sum(0);
-    for (const auto& f : folds) sum += f.held_out_weight * f.error_at_mu(mu);
-    return sum / total_weight;
-  }
+  Scalar error_at_mu(const Scalar& mu) const { return weighted_error(fold_errors_at_mu(mu)); }
   /// Held-out mean squared error of each fold at mu.
   std::vector<Scalar> fold_errors_at_mu(const Scalar& mu) const {
     check(mu);
@@ -246,41 +256,67 @@ struct CrossValidation {
   /// SE(mu), the weighted standard error of the fold errors; with repeats,
   /// the mean over repeats of each repeat's SE (see the file comment). With
   /// one repeat the same operations as the single formula: sum / 1 is exact.
-  Scalar standard_error_at_mu(const Scalar& mu) const {
-    Scalar sum(0);
-    for (std::size_t r = 0; r < repeats; ++r) sum += repeat_point(r, mu).second;
-    return sum / Scalar(static_cast<double>(repeats));
-  }
+  Scalar standard_error_at_mu(const Scalar& mu) const { return detail_at_mu(mu).point.standard_error; }
   /// Folds per repeat, K.
   std::size_t folds_per_repeat() const { return folds.size() / repeats; }
   /// CV_r(mu), the curve of repeat r alone (0 <= r < repeats).
   Scalar repeat_error_at_mu(std::size_t r, const Scalar& mu) const {
-    return repeat_mean(r, repeat_errors(r, mu)).second;
+    check(mu);
+    const std::size_t k = folds_per_repeat();
+    std::vector<Scalar> errors;
+    errors.reserve(k);
+    for (std::size_t i = r * k; i < r * k + k; ++i) errors.push_back(folds[i].error_at_mu(mu));
+    return repeat_point(r, errors).first;
   }
   /// The spread of the repeats' curves at mu: the standard deviation of
   /// CV_0(mu), ..., CV_{R-1}(mu) (divisor R - 1); 0 when R = 1.
-  Scalar spread_at_mu(const Scalar& mu) const {
-    if (repeats < 2) return Scalar(0);
-    const Scalar mean = error_at_mu(mu);
-    Scalar sum(0);
+  Scalar spread_at_mu(const Scalar& mu) const { return detail_at_mu(mu).spread; }
+  /// The curve at mu, its standard error, the repeats' curves and their
+  /// spread, from each fold's error evaluated once: the numbers of
+  /// point_at_mu(), spread_at_mu() and repeat_error_at_mu(), bit for bit
+  /// (they are computed here).
+  CurveDetail<Scalar> detail_at_mu(const Scalar& mu) const {
+    const std::vector<Scalar> errors = fold_errors_at_mu(mu);
+    const std::size_t k = folds_per_repeat();
+    CurveDetail<Scalar> out;
+    out.point.mu = mu;
+    out.point.lambda = mu * full_scale;
+    out.point.error = weighted_error(errors);
+    Scalar standard_errors(0);
     for (std::size_t r = 0; r < repeats; ++r) {
-      const Scalar d = repeat_error_at_mu(r, mu) - mean;
-      sum += d * d;
+      const auto [mean, standard_error] =
+          repeat_point(r, std::span<const Scalar>(errors).subspan(r * k, k));
+      out.repeat_error.push_back(mean);
+      standard_errors += standard_error;
     }
-    return detail::square_root<Scalar>(Scalar(sum / Scalar(static_cast<double>(repeats - 1))));
+    out.point.standard_error = standard_errors / Scalar(static_cast<double>(repeats));
+    if (repeats > 1) {
+      Scalar sum(0);
+      for (const Scalar& e : out.repeat_error) {
+        const Scalar d = e - out.point.error;
+        sum += d * d;
+      }
+      out.spread = detail::square_root<Scalar>(Scalar(sum / Scalar(static_cast<double>(repeats - 1))));
+    }
+    return out;
+  }
+  /// The size-free penalties of the merged knots (descending): the ends of
+  /// the curve's pieces.
+  std::vector<Scalar> knot_mus() const {
+    std::vector<Scalar> out;
+    for (const auto& piece : pieces) out.push_back(piece.mu_high);
+    if (!pieces.empty()) out.push_back(pieces.back().mu_low);
+    return out;
   }
   /// The curve at the merged knots (descending mu): what a chart draws
   /// between exact points.
   std::vector<CurvePoint<Scalar>> knot_points() const {
     std::vector<CurvePoint<Scalar>> out;
-    for (const auto& piece : pieces) out.push_back(point_at_mu(piece.mu_high));
-    if (!pieces.empty()) out.push_back(point_at_mu(pieces.back().mu_low));
+    for (const Scalar& mu : knot_mus()) out.push_back(point_at_mu(mu));
     return out;
   }
   /// The curve at one size-free penalty mu.
-  CurvePoint<Scalar> point_at_mu(const Scalar& mu) const {
-    return {mu, Scalar(mu * full_scale), error_at_mu(mu), standard_error_at_mu(mu)};
-  }
+  CurvePoint<Scalar> point_at_mu(const Scalar& mu) const { return detail_at_mu(mu).point; }
   /// The curve at a penalty lambda of the full data (converted by
   /// full_path.mu_of(), the one conversion).
   CurvePoint<Scalar> point_at_penalty(const Scalar& lambda) const { return point_at_mu(full_path.mu_of(lambda)); }
@@ -295,30 +331,22 @@ struct CrossValidation {
   }
 
  private:
-  // Repeat r's K held-out errors at mu, each evaluated once (in fold order).
-  std::vector<Scalar> repeat_errors(std::size_t r, const Scalar& mu) const {
-    check(mu);
-    const std::size_t k = folds_per_repeat();
-    std::vector<Scalar> out;
-    out.reserve(k);
-    for (std::size_t i = r * k; i < r * k + k; ++i) out.push_back(folds[i].error_at_mu(mu));
-    return out;
+  // CV(mu) from the folds' errors at mu (in fold order).
+  Scalar weighted_error(const std::vector<Scalar>& errors) const {
+    Scalar sum(0);
+    for (std::size_t f = 0; f < folds.size(); ++f) sum += folds[f].held_out_weight * errors[f];
+    return sum / total_weight;
   }
-  // Repeat r's held-out weight and weighted mean error CV_r(mu), from its errors.
-  std::pair<Scalar, Scalar> repeat_mean(std::size_t r, const std::vector<Scalar>& errors) const {
+  // Repeat r's CV error CV_r(mu) and SE at mu from its K fold errors: the
+  // single-run formulas on its folds.
+  std::pair<Scalar, Scalar> repeat_point(std::size_t r, std::span<const Scalar> errors) const {
     const std::size_t k = errors.size();
     Scalar weight(0), sum(0);
     for (std::size_t i = 0; i < k; ++i) {
       weight += folds[r * k + i].held_out_weight;
       sum += folds[r * k + i].held_out_weight * errors[i];
     }
-    return {weight, sum / weight};
-  }
-  // Repeat r's CV error and SE at mu: the single-run formulas on its K folds.
-  std::pair<Scalar, Scalar> repeat_point(std::size_t r, const Scalar& mu) const {
-    const std::vector<Scalar> errors = repeat_errors(r, mu);
-    const auto [weight, mean] = repeat_mean(r, errors);
-    const std::size_t k = errors.size();
+    const Scalar mean = sum / weight;
     Scalar squares(0);
     for (std::size_t i = 0; i < k; ++i) {
       const Scalar d = errors[i] - mean;

@@ -1241,12 +1241,14 @@ json selection_document(const Selection& s, const SelectData& data, const Select
     }
   }
   json curve = json::array();
-  for (const auto& p : cv.knot_points()) {
+  for (const double mu : cv.knot_mus()) {
+    const CurveDetail<double> detail = cv.detail_at_mu(mu);
+    const CurvePoint<double>& p = detail.point;
     curve.push_back(json{{"mu", p.mu},
                          {"penalty", p.lambda},
                          {"cv_error", p.error},
                          {"standard_error", p.standard_error}});
-    if (cv.repeats > 1) curve.back()["spread"] = cv.spread_at_mu(p.mu);
+    if (cv.repeats > 1) curve.back()["spread"] = detail.spread;
   }
   doc["cross_validation"] = json{{"folds", folds},
                                  {"mu_high", cv.mu_high},
