@@ -3,7 +3,8 @@
 /// pybind11 binding over the library (trace(), trace_sparse(), Path and its
 /// queries, the audit, saved paths, cross_validate() with its repeats and the
 /// queries of its kept result (the curves and predictor_activity() at any
-/// point), information_criteria(), entry_significance(), cross_check()). It
+/// point), information_criteria(), entry_significance(), first_step_t_test(),
+/// cross_check()). It
 /// implements no method of its own;
 /// the pure-Python layer (knotpath/__init__.py) turns DataFrames, names and
 /// sparse matrices into the arrays taken here, and words into options.
@@ -479,14 +480,14 @@ py::dict curve_at(const CrossValidationHandle& handle, const std::string& kind,
       repeat_error({repeats, m});
   auto per_repeat = repeat_error.mutable_unchecked<2>();
   for (py::ssize_t i = 0; i < m; ++i) {
-    const kp::CurvePoint<double> point = cv.point_at_mu(mu_of_point(cv, kind, points(i)));
-    mu.mutable_at(i) = point.mu;
-    penalty.mutable_at(i) = point.lambda;
-    error.mutable_at(i) = point.error;
-    standard_error.mutable_at(i) = point.standard_error;
-    spread.mutable_at(i) = cv.spread_at_mu(point.mu);
+    const kp::CurveDetail<double> detail = cv.detail_at_mu(mu_of_point(cv, kind, points(i)));
+    mu.mutable_at(i) = detail.point.mu;
+    penalty.mutable_at(i) = detail.point.lambda;
+    error.mutable_at(i) = detail.point.error;
+    standard_error.mutable_at(i) = detail.point.standard_error;
+    spread.mutable_at(i) = detail.spread;
     for (py::ssize_t r = 0; r < repeats; ++r)
-      per_repeat(r, i) = cv.repeat_error_at_mu(static_cast<std::size_t>(r), point.mu);
+      per_repeat(r, i) = detail.repeat_error[static_cast<std::size_t>(r)];
   }
   py::dict d;
   d["mu"] = mu;
@@ -543,15 +544,14 @@ py::array_t<long long> repeat_fold_of(const kp::CrossValidation<double>& cv) {
 /// Exact cross-validation (cross_validate()) as plain objects: the two
 /// choices, the curve at the merged knots, the folds, the full path, and the
 /// kept result for later queries (CrossValidationHandle). `repeats` is
-/// signed so that a negative count reaches the message of
-/// CrossValidationOptions::validate's kind, not a conversion error.
+/// signed so that a negative count reaches the library's message
+/// (CrossValidationOptions::validate_repeat_count), not a conversion error.
 py::dict cross_validation(const py::array& x, const py::object& y, const py::object& weights,
                           const py::dict& given, std::size_t folds, bool leave_one_out,
                           std::uint64_t seed, const py::object& fold_of, std::size_t threads,
                           long long repeats, const std::string& response) {
   const kp::TraceOptions options = options_of(given);
-  if (repeats < 0)
-    throw kp::invalid_option("repeats", "must be >= 1 (got " + std::to_string(repeats) + ")");
+  kp::CrossValidationOptions::validate_repeat_count(repeats);
   kp::CrossValidationOptions cv;
   cv.folds = folds;
   cv.leave_one_out = leave_one_out;
@@ -575,12 +575,13 @@ py::dict cross_validation(const py::array& x, const py::object& y, const py::obj
   d["least_error"] = least;
   d["parsimonious"] = parsimonious;
   std::vector<double> mu, penalty, error, standard_error, spread;
-  for (const auto& point : result->knot_points()) {
-    mu.push_back(point.mu);
-    penalty.push_back(point.lambda);
-    error.push_back(point.error);
-    standard_error.push_back(point.standard_error);
-    spread.push_back(result->spread_at_mu(point.mu));
+  for (const double at : result->knot_mus()) {
+    const kp::CurveDetail<double> detail = result->detail_at_mu(at);
+    mu.push_back(detail.point.mu);
+    penalty.push_back(detail.point.lambda);
+    error.push_back(detail.point.error);
+    standard_error.push_back(detail.point.standard_error);
+    spread.push_back(detail.spread);
   }
   py::dict curve;
   curve["mu"] = py::array(py::cast(mu));
@@ -705,6 +706,29 @@ py::dict entry_tests(const PathHandle& handle, const py::array& x, const py::obj
   d["entries"] = entries;
   d["noise_variance"] = s.noise_variance;
   d["residual_df"] = s.residual_df;
+  return d;
+}
+
+/// The first least-angle step tested with the noise variance unknown
+/// (first_step_t_test()): the exact selective t-test of the global null.
+py::dict first_step_t(const PathHandle& handle, const py::array& x, const py::object& y) {
+  const kp::Matrix<double> design = matrix_of(x);
+  const kp::Vector<double> response_values = vector_of(y, "response");
+  kp::FirstStepT f;
+  {
+    py::gil_scoped_release release;
+    f = kp::first_step_t_test<double>(design, response_values, *handle);
+  }
+  py::dict d;
+  d["predictor"] = f.predictor >= 0 ? py::object(py::str(handle->predictor_name(f.predictor))) : py::none();
+  d["predictor_index"] = f.predictor;
+  d["sign"] = f.sign;
+  d["statistic"] = f.statistic;
+  d["degrees_of_freedom"] = f.degrees_of_freedom;
+  d["lower"] = f.lower;
+  d["upper"] = f.upper;
+  d["p_value"] = f.p_value;
+  d["note"] = f.note;
   return d;
 }
 
@@ -853,6 +877,7 @@ PYBIND11_MODULE(_core, m) {
         py::arg("noise_variance"), py::arg("cross_validated_penalty"));
   m.def("entry_tests", &entry_tests, py::arg("path"), py::arg("x"), py::arg("y"),
         py::arg("noise_variance"));
+  m.def("first_step_t_test", &first_step_t, py::arg("path"), py::arg("x"), py::arg("y"));
   m.def("verify", &verify, py::arg("x"), py::arg("y"), py::arg("weights"), py::arg("options"),
         py::arg("response"));
   m.attr("default_seed") = kp::CrossValidationOptions{}.seed;

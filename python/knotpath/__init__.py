@@ -28,8 +28,9 @@ to a Fortran-ordered float64 copy. A DataFrame is turned into one array by
 DataFrame.to_numpy (a view when it needs no conversion, else one copy). A
 scipy.sparse matrix is converted to CSC (no copy when it already is one with
 sorted, unique indices) and its arrays copied once into the library's sparse
-matrix. Selection (cross_validate, criteria, entry_tests, verify) copies a
-dense design once: the library's entry points take their own matrix type.
+matrix. Selection (cross_validate, criteria, entry_tests, first_step_t_test,
+verify) copies a dense design once: the library's entry points take their own
+matrix type.
 
 Errors: bad options, data and queries raise ValueError (the subclasses
 InvalidOption, InvalidData, InvalidQuery; a damaged saved file SavedPathError),
@@ -47,7 +48,8 @@ from ._core import InvalidData, InvalidOption, InvalidQuery, KnotpathError, Save
 __version__ = _core.version
 
 __all__ = [
-    "trace", "load", "Path", "cross_validate", "CrossValidation", "criteria", "entry_tests", "verify",
+    "trace", "load", "Path", "cross_validate", "CrossValidation", "criteria", "entry_tests", "first_step_t_test",
+    "verify",
     "KnotpathError", "InvalidOption", "InvalidData", "InvalidQuery", "SavedPathError",
 ]
 
@@ -521,6 +523,20 @@ def entry_tests(path, x, response, *, noise_variance=None):
     noise_variance, residual_df}."""
     data = _data_for(path, x, response)
     return _core.entry_tests(path._native, data.dense(), data.y, -1.0 if noise_variance is None else float(noise_variance))
+
+
+def first_step_t_test(path, x, response):
+    """The first entry of an unweighted path tested with the noise variance
+    unknown (the library's first_step_t_test): the exact selective t-test of
+    the global null (no predictor matters; Gaussian errors, fixed design),
+    conditioned on the first entry, its sign and the direction of the
+    response orthogonal to its column. Needs no variance estimate, so it
+    works with more predictors than rows. Returns a dict: predictor (name),
+    predictor_index, sign, statistic (T), degrees_of_freedom, lower and
+    upper (T's truncation interval; upper is inf for unit-length columns),
+    p_value, and note (why a value is NaN; empty otherwise)."""
+    data = _data_for(path, x, response)
+    return _core.first_step_t_test(path._native, data.dense(), data.y)
 
 
 def verify(x, response, *, weights=None, predictor_names=None, **options):

@@ -2,6 +2,8 @@
 the library's answers as plain objects, checked against the program, SciPy
 and NumPy's LAPACK, and published reference values."""
 
+import json
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -108,6 +110,31 @@ def test_entry_tests_refer_the_covariance_statistic_to_scipys_f_distribution(dia
     # the first two entries are strongly significant on this data (Lockhart et
     # al. 2014, Table 2: p < 0.001 for bmi and s5; from memory)
     assert entries[0]["covariance_p_value"] < 1e-3 and entries[1]["covariance_p_value"] < 1e-3
+
+
+def test_first_step_t_test_is_the_programs_and_scipys_truncated_t(diabetes, diabetes_file, program, tmp_path):
+    names, x, y = diabetes
+    path = knotpath.trace(x, y, predictor_names=names)
+    f = knotpath.first_step_t_test(path, x, y)
+    assert f["note"] == "" and f["predictor"] == "bmi" and f["sign"] == 1
+    assert f["degrees_of_freedom"] == len(y) - 2  # d - 1 with d = n - 1 (intercept)
+    # The program's select prints the same test (its JSON); it traces the
+    # Gram route of this table, so the numbers agree to rounding.
+    report = tmp_path / "select.json"
+    program("select", diabetes_file, "--response", "progression", "--folds", "5", "--json", report)
+    theirs = json.loads(report.read_text())["significance"]["first_step_unknown_variance"]
+    assert theirs["predictor"] == f["predictor"] and theirs["sign"] == f["sign"]
+    assert theirs["t_statistic"] == pytest.approx(f["statistic"], rel=1e-10)
+    assert theirs["truncation_lower"] == pytest.approx(f["lower"], rel=1e-10)
+    assert theirs["truncation_upper"] is None and f["upper"] == np.inf
+    assert theirs["p_value"] == pytest.approx(f["p_value"], rel=1e-8)
+    # SciPy's Student t (a general-purpose reference): P(T' >= T | T' >= L)
+    # = sf(T) / sf(L) for T' ~ t_nu.
+    t = scipy.stats.t(f["degrees_of_freedom"])
+    assert f["p_value"] == pytest.approx(t.sf(f["statistic"]) / t.sf(f["lower"]), rel=1e-6)
+    weighted = knotpath.trace(x, y, predictor_names=names, weights=np.linspace(1, 2, len(y)))
+    with pytest.raises(ValueError, match="weights"):  # the unweighted data are not the path's problem
+        knotpath.first_step_t_test(weighted, x, y)
 
 
 def test_verify_cross_checks_the_longley_path_which_meets_nists_certified_values():
