@@ -942,27 +942,35 @@ std::uint64_t file_size(std::ifstream& file, const std::string& path) {
   return static_cast<std::uint64_t>(size);
 }
 
-// The byte after the header line's line break: blank lines (spaces, tabs,
-// carriage returns) before the header are skipped as the reader skips them.
-// Compressed files are refused: their bytes have no line breaks to cut at.
-std::uint64_t header_end(std::ifstream& file, const std::string& path) {
+// The byte after the header record's line end, found by the reader itself:
+// the delimiter chosen and the lines before the header skipped as
+// read_text_table() does (so a piece's header range [0, H) reads as the
+// whole file's header), and a quoted name may span lines. Refused:
+// compressed files (their bytes have no line breaks to cut at) and a header
+// ending in a carriage return alone (pieces are cut at line feeds, which
+// such a file lacks).
+std::uint64_t header_end(std::ifstream& file, const std::string& path, const TableReadOptions& options) {
   std::istream& in = file;
   CharSource chars(in);
   if (packing_of(chars) != Packing::none)
     throw table_error(Kind::content, path, 0, 0,
                       "a compressed table cannot be cut into pieces (its bytes are not lines): decompress it, "
                       "or give the pieces as separate tables");
-  std::uint64_t at = 0;
-  bool blank_so_far = true;
-  for (int c; (c = chars.get()) != detail::end_of_input;) {
-    ++at;
-    if (c == '\n') {
-      if (!blank_so_far) return at;
-      continue;
-    }
-    if (c != ' ' && c != '\t' && c != '\r') blank_so_far = false;
+  RecordReader reader(chars, path, choose_delimiter(chars, options, path));
+  reader.keep_at_most(0);  // the fields are not needed, only where the record ends
+  std::vector<Field> fields;
+  std::size_t count = 0;
+  (void)reader.next(fields, count);
+  const auto end = static_cast<std::uint64_t>(chars.consumed());
+  if (end > 0) {
+    file.clear();
+    file.seekg(static_cast<std::streamoff>(end - 1));
+    if (file.get() == '\r')
+      throw table_error(Kind::content, path, reader.record_line(), 0,
+                        "the lines end in a carriage return alone, and pieces are cut at line feeds: convert "
+                        "the line ends to cut this table into pieces");
   }
-  return at;  // no line break after the header: no data lines
+  return end;
 }
 
 // The first line start at or after byte `from` (a line starts at 0 and after
@@ -1050,7 +1058,8 @@ Table read_table_blocks(const std::string& path, const TableReadOptions& options
   });
 }
 
-TablePiece table_piece(const std::string& path, std::size_t index, std::size_t count) {
+TablePiece table_piece(const std::string& path, std::size_t index, std::size_t count,
+                       const TableReadOptions& options) {
   if (count == 0) throw invalid_option("pieces", "must be at least 1");
   if (index >= count)
     throw invalid_option("pieces", "piece " + std::to_string(index) + " of " + std::to_string(count) + " does not exist");
@@ -1059,7 +1068,7 @@ TablePiece table_piece(const std::string& path, std::size_t index, std::size_t c
   piece.index = index;
   piece.count = count;
   const std::uint64_t size = file_size(file, path);
-  piece.header_end = header_end(file, path);
+  piece.header_end = header_end(file, path, options);
   const std::uint64_t data = size - piece.header_end;
   // H + floor(data i / count) without overflow: data / count and data % count apart.
   auto nominal = [&](std::size_t i) {

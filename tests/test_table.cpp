@@ -416,7 +416,7 @@ std::string bytes_of(const std::string& text, std::uint64_t begin, std::uint64_t
 // in TablePiece's comment).
 TEST(TablePieces, PiecesCutTheDataLinesAtLineBreaksAndCoverEachOnce) {
   knotpath::testing::Lcg lcg(5);
-  std::string text = "\n  \r\nid,a,y\r\n";  // blank lines before a CRLF header
+  std::string text = "\n\r\nid,a,y\r\n";  // empty lines (LF, CRLF) before a CRLF header
   for (int i = 0; i < 60; ++i) {
     if (i % 11 == 4) text += "\n";  // blank lines among the rows
     text += "r" + std::to_string(i) + "," + std::to_string(lcg.centred()).substr(0, 3 + i % 9) + "," +
@@ -448,6 +448,37 @@ TEST(TablePieces, PiecesCutTheDataLinesAtLineBreaksAndCoverEachOnce) {
   }
   EXPECT_THROW((void)knotpath::io::table_piece(path, 3, 3), knotpath::invalid_option);
   EXPECT_THROW((void)knotpath::io::table_piece(path, 0, 0), knotpath::invalid_option);
+}
+
+// Reference: read_table() of the whole file (the header it finds). The
+// header ends where the reader's header record ends: lines of blanks before
+// it are skipped only when the fields are separated by whitespace (in a
+// comma table such a line is a record), and a quoted name may span lines.
+// A header ending in a carriage return alone is refused (no line feeds to
+// cut at).
+TEST(TablePieces, TheHeaderEndsWhereTheReaderEndsTheHeaderRecord) {
+  const std::string data = "1 2\n3 4\n5 6\n";
+  knotpath::io::TableReadOptions spaces;
+  spaces.delimiter = ' ';
+  const std::string blank_first = temp_file("blank_first.txt", " \t \n  a  y\n" + data);
+  EXPECT_EQ(knotpath::io::read_table(blank_first, spaces).names, (std::vector<std::string>{"a", "y"}));
+  EXPECT_EQ(knotpath::io::table_piece(blank_first, 0, 2, spaces).header_end, 11u);
+
+  const std::string quoted = "\"first\nname\",y\r\n1,2\r\n3,4\r\n";
+  const std::string quoted_path = temp_file("quoted_header.csv", quoted);
+  EXPECT_EQ(knotpath::io::read_table(quoted_path).names, (std::vector<std::string>{"first\nname", "y"}));
+  const knotpath::io::TablePiece first = knotpath::io::table_piece(quoted_path, 0, 2);
+  EXPECT_EQ(first.header_end, quoted.find("1,2"));
+  const knotpath::io::TablePiece second = knotpath::io::table_piece(quoted_path, 1, 2);
+  EXPECT_EQ(bytes_of(quoted, first.begin, second.end), "1,2\r\n3,4\r\n");
+
+  const std::string carriage = temp_file("carriage.csv", "a,y\r1,2\r3,4\r");
+  try {
+    (void)knotpath::io::table_piece(carriage, 0, 2);
+    FAIL() << "a table of lone carriage returns was cut";
+  } catch (const table_error& e) {
+    EXPECT_NE(std::string(e.what()).find("carriage return alone"), std::string::npos) << e.what();
+  }
 }
 
 // Reference: read_table() of the whole text. The pieces, read one by one,

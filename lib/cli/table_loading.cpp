@@ -548,9 +548,10 @@ struct ShardRead {
 };
 
 // Reads one shard; a piece's lines are numbered from `lines_before` (see
-// read_shard_named).
+// read_shard_named). `piece` holds the piece's bytes once found
+// (io::table_piece), so that a second reading of it does not cut again.
 ShardRead read_shard(const ShardSource& source, const ReadPlan& plan, const Global& global,
-                     std::size_t lines_before = 0) {
+                     std::optional<io::TablePiece>& piece, std::size_t lines_before = 0) {
   LoadedTable loaded;
   const std::string& path = source.path;
   const io::TableReadOptions read = start_reading(loaded, path, plan.read, global);
@@ -559,12 +560,12 @@ ShardRead read_shard(const ShardSource& source, const ReadPlan& plan, const Glob
   if (source.pieces == 0) {
     loaded.table = io::read_table_blocks(path, read, plan.args.block_rows, take);
   } else {
-    const io::TablePiece piece = io::table_piece(path, source.piece, source.pieces);
-    if (piece.begin == piece.end)
+    if (!piece) piece = io::table_piece(path, source.piece, source.pieces, read);
+    if (piece->begin == piece->end)
       throw failure(exit_usage, fmt::format("{}: piece {} of {} holds no line (the table has too few data lines "
                                             "for {} pieces): ask for fewer --pieces",
                                             path, source.piece + 1, source.pieces, source.pieces));
-    loaded.table = io::read_table_piece_blocks(path, piece, lines_before, read, plan.args.block_rows, take);
+    loaded.table = io::read_table_piece_blocks(path, *piece, lines_before, read, plan.args.block_rows, take);
     loaded.table.source = source.name();
   }
   ShardRead out;
@@ -676,15 +677,17 @@ ShardSummary summarise_shards(const std::vector<std::string>& texts, const std::
 // (counting costs a pass over the earlier pieces' bytes, so only a failure
 // pays it).
 ShardRead read_shard_named(const ShardSource& source, const ReadPlan& plan, const Global& global) {
+  std::optional<io::TablePiece> piece;
   try {
-    return read_shard(source, plan, global);
+    return read_shard(source, plan, global, piece);
   } catch (const failure&) {
     throw;  // the CLI's own refusals name no line
   } catch (...) {
-    if (source.pieces == 0 || source.piece == 0) throw;
+    // A whole file, the first piece (its lines are the file's) or a failure
+    // before the piece was found (no line of it was read) has nothing to renumber.
+    if (source.pieces == 0 || source.piece == 0 || !piece) throw;
   }
-  const io::TablePiece piece = io::table_piece(source.path, source.piece, source.pieces);
-  return read_shard(source, plan, global, io::lines_before_piece(source.path, piece));
+  return read_shard(source, plan, global, piece, io::lines_before_piece(source.path, *piece));
 }
 
 TracedTable trace_shards(const std::vector<ShardSource>& sources, const ReadPlan& plan, const Global& global) {

@@ -325,26 +325,33 @@ Table read_table_blocks(std::istream& in, const std::string& source, const Table
                         std::size_t block_rows, const std::function<void(Table&)>& on_block);
 
 /// Where piece `index` of `count` of a table file lies: the data lines of
-/// the file (those after the header line) cut into `count` runs of
-/// consecutive lines at line breaks, by bytes. With H the offset just past
-/// the header line and S the file's size, piece i starts at the first line
-/// that starts at or after H + floor((S - H) i / count) and ends where piece
-/// i + 1 starts (the last at S). Every data line falls in exactly one piece,
-/// in file order; a piece may hold no line when lines are long or few.
+/// the file (those after the header record) cut into `count` runs of
+/// consecutive lines at line feeds, by bytes. With H the offset just past
+/// the header record's line end (as read_table() finds the header: blank
+/// lines before it skipped by the reader's rule) and S the file's size,
+/// piece i starts at the first line that starts at or after
+/// H + floor((S - H) i / count) (a line starts after every '\n') and ends
+/// where piece i + 1 starts (the last at S). Every data line falls in
+/// exactly one piece, in file order; a piece may hold no line when lines
+/// are long or few.
 struct TablePiece {
   std::size_t index = 0;        ///< 0-based, < count
   std::size_t count = 1;        ///< pieces of the file, >= 1
-  std::uint64_t header_end = 0; ///< H: the byte after the header line's line break
+  std::uint64_t header_end = 0; ///< H: the byte after the header record's line end
   std::uint64_t begin = 0;      ///< first byte of the piece's lines
   std::uint64_t end = 0;        ///< one past the last byte
 };
 
 /// The bytes of piece `index` of `count` of the table file at `path` (see
-/// TablePiece): reads the header line and two short stretches of the file,
+/// TablePiece), the header found with `options` (its delimiter) as the
+/// reader finds it: reads the header and two short stretches of the file,
 /// not the piece. Throws table_error (input_output: the file cannot be read;
-/// content: it is compressed, which has no line breaks to cut at) and
-/// invalid_option for count = 0 or index >= count.
-TablePiece table_piece(const std::string& path, std::size_t index, std::size_t count);
+/// content: it is compressed, which has no line breaks to cut at, or its
+/// header ends in a carriage return alone, which has no line feeds to cut
+/// at), and invalid_option for count = 0 or index >= count or a bad
+/// delimiter option.
+TablePiece table_piece(const std::string& path, std::size_t index, std::size_t count,
+                       const TableReadOptions& options = {});
 /// Physical lines of the file between the header line and the piece's first
 /// line (a pass over those bytes: a reader of one piece counts them only to
 /// name the line of an error).
