@@ -120,6 +120,48 @@ void tall(benchmark::State& state) {
   state.counters["knots"] = static_cast<double>(knots);
 }
 
+// statistics: the sufficient statistics alone (SufficientStatistics::
+// from_rows: the shift, a symmetric rank-k update per block of rows, the
+// response's products), the formation that the tall trace starts with,
+// against the machine's rate for the same kernel on the same matrix: one
+// symmetric rank-k update of all the rows at once (Eigen's
+// selfadjointView().rankUpdate(), the kernel from_rows calls per block),
+// with no blocking, shift or response. Rates count n p (p + 1) flops (the
+// lower triangle's multiply-adds, two flops each). Counters: gflops and
+// kernel_gflops (from the medians), ratio = the formation's rate over the
+// kernel's, share = the formation's time over a Gram-mode trace's.
+void statistics(benchmark::State& state) {
+  const Dense d = ar1(state.range(0), state.range(1), 0.5, 11);
+  const double n = static_cast<double>(d.x.rows()), p = static_cast<double>(d.x.cols());
+  kp::TraceOptions options;
+  options.storage = kp::Storage::gram;
+  std::vector<double> formation, kernel, trace;
+  for (auto _ : state) {
+    const double t_statistics = seconds([&] {
+      const auto s = kp::SufficientStatistics<double>::from_rows(d.x, d.y);
+      benchmark::DoNotOptimize(s.comoments.data());
+    });
+    Mat gram = Mat::Zero(d.x.cols(), d.x.cols());
+    const double t_kernel = seconds([&] { gram.selfadjointView<Eigen::Lower>().rankUpdate(d.x.transpose()); });
+    benchmark::DoNotOptimize(gram.data());
+    const double t_trace = seconds([&] {
+      const auto path = kp::trace<double>(d.x, d.y, options);
+      benchmark::DoNotOptimize(path.knots().data());
+    });
+    formation.push_back(t_statistics);
+    kernel.push_back(t_kernel);
+    trace.push_back(t_trace);
+    state.SetIterationTime(t_statistics);
+  }
+  const double flops = n * p * (p + 1.0);
+  state.counters["gflops"] = flops / median(formation) / 1e9;
+  state.counters["kernel_gflops"] = flops / median(kernel) / 1e9;
+  state.counters["ratio"] = median(kernel) / median(formation);
+  state.counters["share"] = median(formation) / median(trace);
+  state.counters["statistics_s"] = median(formation);
+  state.counters["trace_s"] = median(trace);
+}
+
 // Median time of one X^T v with a fresh v each time.
 template <class X>
 double one_product(const X& x, int repeats) {
@@ -391,6 +433,8 @@ void memory_wide(benchmark::State& state) {
 // Sizes: quick (CI, a few seconds in all) and full (the table).
 BENCHMARK(tall)->Name("tall/quick")->Args({2000, 50})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(tall)->Name("tall/full")->Args({20000, 500})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(statistics)->Name("statistics/quick")->Args({2000, 50})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(statistics)->Name("statistics/full")->Args({20000, 500})->Iterations(5)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(wide)->Name("wide/quick")->Args({200, 2000, 50, 1})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(wide)->Name("wide/full")->Args({1000, 20000, 300, 1})->Iterations(3)->UseManualTime()->Unit(benchmark::kMillisecond);
 BENCHMARK(wide)->Name("wide_2threads/quick")->Args({200, 2000, 50, 2})->Iterations(1)->UseManualTime()->Unit(benchmark::kMillisecond);
