@@ -132,8 +132,12 @@ bool blank(char c) {
 
 // The delimiter of a header row: the most frequent of comma, semicolon and
 // tab outside quotes (comma on a tie); whitespace when there is none of them
-// but blanks separate two names.
+// but blanks separate two names. Lines of blanks before the header row are
+// passed over: they hold no name to separate.
 char detect_delimiter(std::string_view head) {
+  for (std::size_t end; (end = head.find_first_of("\r\n")) != std::string_view::npos &&
+                        head.substr(0, end).find_first_not_of(" \t") == std::string_view::npos;)
+    head.remove_prefix(end + 1);
   std::size_t comma = 0, semicolon = 0, tab = 0;
   bool quoted = false, gap_between_names = false, seen_name = false, in_gap = false;
   for (char c : head) {

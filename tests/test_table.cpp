@@ -80,6 +80,20 @@ TEST(TableReader, DetectsSemicolonAndTab) {
   EXPECT_EQ(t.columns[1][0], 2.0);
 }
 
+// Blank lines before the header are skipped by the reader, so detection
+// passes over them too: it used to read the first physical line, so an empty
+// first line made every table comma-separated and a line of blanks holding a
+// tab made a whitespace table tab-separated.
+TEST(TableReader, DetectionLooksAtTheHeaderRowNotTheBlankLinesBeforeIt) {
+  Table s = read_text("\r\n\n a;b\n1;2\n");
+  EXPECT_EQ(s.delimiter, ';');
+  EXPECT_EQ(s.names, (std::vector<std::string>{"a", "b"}));
+  Table w = read_text(" \t \nx  y\n1 2\n");
+  EXPECT_EQ(w.delimiter, ' ');
+  EXPECT_EQ(w.names, (std::vector<std::string>{"x", "y"}));
+  EXPECT_EQ(w.columns[1][0], 2.0);
+}
+
 TEST(TableReader, GivenDelimiterOverridesDetection) {
   TableReadOptions options;
   options.delimiter = ';';
