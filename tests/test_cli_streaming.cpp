@@ -474,3 +474,28 @@ TEST_F(Streaming, SelectReadsAutomaticallyInBlocksOnlyWhatItCanStream) {
                                    file("f.csv").string());
   EXPECT_EQ(piped_column.code, 0) << piped_column.err;
 }
+
+// Where the whole reading builds a fold's held-out error from its rows (a
+// near-exact fit: residuals of 1e-9 against a response of size 1e3, whose
+// statistics cancel; CrossValidationFromParts.RefusesWhereItWouldNeedTheRows)
+// the reading in blocks has none and refuses with status 3, naming the fold
+// and the way out; the whole reading cross-validates.
+TEST_F(Streaming, SelectInBlocksRefusesAFoldWhoseErrorNeedsItsRows) {
+  knotpath::testing::Lcg lcg(31);
+  {
+    std::ofstream out(file("exact.csv"));
+    out.precision(17);
+    out << "a,b,c,y\n";
+    for (int i = 0; i < 3000; ++i) {
+      const double a = lcg.centred(), b = lcg.centred(), c = lcg.centred();
+      out << a << ',' << b << ',' << c << ',' << 1000 * (a + 2 * b + 3 * c) + 1e-9 * lcg.centred() << '\n';
+    }
+  }
+  const Outcome blocks = run("select exact.csv --response y --read blocks");
+  EXPECT_EQ(blocks.code, 3) << blocks.err;
+  EXPECT_NE(blocks.err.find("fold 0: its held-out error cannot be formed from its statistics"), std::string::npos)
+      << blocks.err;
+  EXPECT_NE(blocks.err.find("--read whole"), std::string::npos) << blocks.err;
+  const Outcome whole = run("select exact.csv --response y --read whole");
+  EXPECT_EQ(whole.code, 0) << whole.err;
+}

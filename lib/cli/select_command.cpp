@@ -699,7 +699,9 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   } catch (const invalid_data& e) {
-    throw failure(exit_bad_input, data_message(e, data.shown_name, data.context.predictor_names, data.row_lines));
+    const std::string message = data_message(e, data.shown_name, data.context.predictor_names, data.row_lines);
+    // From statistics alone: a fold whose error needs its rows (cross_validate of FoldParts).
+    throw failure(exit_bad_input, parts ? message + " (read the table whole: --read whole)" : message);
   }
   const Path<Scalar>& path = cv.full_path;
   if (path.preparation().columns.empty())
