@@ -281,8 +281,9 @@ SelectData read_select_data(const SelectArgs& args, const Global& global, bool k
 // bit). Seeded folds need the number of rows first (the shuffle of
 // make_folds() is over all of them): a first pass counts the rows that
 // survive --missing and reads the weights, make_folds() draws the very
-// assignment of --read whole (one fold number per row kept: O(n) memory of a
-// few bytes a row, against the table's 8 (p + 2)), and a second pass
+// assignment of --read whole (its shuffle is over all the rows: up to 40
+// bytes a row while drawn, one 8-byte fold number a row kept after, against
+// the table's 8 (p + 2)), and a second pass
 // accumulates; standard input cannot be read twice and is refused.
 // Leave-one-out (K = n sets of statistics), --repeats (R K sets) and
 // --precision other than double read the table whole.
