@@ -382,3 +382,120 @@ TEST_F(Streaming, OneTableCutIntoPiecesIsTracedAsTheShardsTheCutMakes) {
 }
 
 }  // namespace
+
+// ---- select: exact cross-validation from one set of statistics per fold ----
+
+namespace {
+
+// A tall table of invented rows for select: five predictors, a fold column
+// "part" whose labels (9, 2, 7, 4; -1 for rows never held out) are not in
+// row order, a weight column and a response from three predictors plus
+// noise.
+void write_fold_table(const std::filesystem::path& path, int rows) {
+  knotpath::testing::Lcg lcg(29);
+  auto next = [&] { return lcg.centred(); };
+  std::ofstream out(path);
+  out << "a,b,c,d,e,part,w,y\n";
+  const int labels[] = {9, 2, 7, 4};
+  for (int i = 0; i < rows; ++i) {
+    const double a = next(), b = 0.6 * a + next(), c = next(), d = next(), e = next();
+    const double y = 3 * a - 2 * c + 0.5 * e + 0.8 * next();
+    out << a << ',' << b << ',' << c << ',' << d << ',' << e << ',' << (i % 11 == 3 ? -1 : labels[(i * 7) % 4])
+        << ',' << 1 + i % 3 << ',' << y << '\n';
+  }
+}
+
+}  // namespace
+
+// The statistics of each fold, accumulated a block at a time, are those the
+// whole reading forms from its rows (FoldStatisticsAccumulator), so select
+// prints the very same selection, byte for byte, apart from the audit line
+// that says the table was read in blocks: with a fold column (one pass),
+// with seeded folds (two passes drawing make_folds()'s assignment), and
+// with weights (the tests are then refused by both readings alike).
+TEST_F(Streaming, SelectFromFoldStatisticsPrintsTheWholeReadingsSelection) {
+  write_fold_table(file("f.csv"), 3000);
+  for (const std::string model : {"--fold-column part --drop w", "--drop part,w --folds 5 --seed 3",
+                                  "--fold-column part --weights w"}) {
+    SCOPED_TRACE(model);
+    const std::string ask = "select f.csv --response y " + model;
+    const Outcome whole = run(ask + " --read whole --json s.json");
+    ASSERT_EQ(whole.code, 0) << whole.err;
+    const nlohmann::json whole_doc = nlohmann::json::parse(slurp(file("s.json")));
+    EXPECT_EQ(whole_doc["path"]["data"]["reading"], "whole");
+    for (const std::string height : {"97", "1000"}) {
+      const Outcome blocks = run(ask + " --read blocks --block-rows " + height + " --json s.json");
+      ASSERT_EQ(blocks.code, 0) << blocks.err;
+      EXPECT_NE(blocks.out.find("table read in blocks of " + height + " rows"), std::string::npos) << blocks.out;
+      EXPECT_EQ(without_block_note(blocks.out), whole.out);
+      nlohmann::json doc = nlohmann::json::parse(slurp(file("s.json")));
+      EXPECT_EQ(doc["path"]["data"]["reading"], "blocks");
+      doc["path"] = without_reading(doc["path"]);
+      nlohmann::json notes = nlohmann::json::array();  // the audit's notes without the block note
+      for (const auto& note : doc["audit_notes"])
+        if (note.get<std::string>().find("table read in blocks of") == std::string::npos) notes.push_back(note);
+      EXPECT_EQ(notes.size() + 1, doc["audit_notes"].size());
+      doc["audit_notes"] = notes;
+      nlohmann::json expected = whole_doc;
+      expected["path"] = without_reading(expected["path"]);
+      EXPECT_TRUE(doc == expected) << "the JSON documents differ";
+    }
+  }
+}
+
+// --read auto streams a tall table as trace would (more rows than a block,
+// on the Gram route) and reads whole what select cannot stream; --read
+// blocks refuses those with the reason: leave-one-out (a set of statistics
+// per row), --repeats (R K sets), seeded folds from standard input (read
+// twice).
+TEST_F(Streaming, SelectReadsAutomaticallyInBlocksOnlyWhatItCanStream) {
+  write_fold_table(file("f.csv"), 3000);
+  const std::string ask = "select f.csv --response y --drop part,w --folds 4 --json s.json";
+  auto reading = [&](const std::string& options) {
+    const Outcome r = run(ask + " " + options);
+    EXPECT_EQ(r.code, 0) << options << "\n" << r.err;
+    return nlohmann::json::parse(slurp(file("s.json")))["path"]["data"]["reading"];
+  };
+  EXPECT_EQ(reading("--block-rows 200"), "blocks");
+  EXPECT_EQ(reading("--block-rows 4000"), "whole");  // one block: read whole
+  EXPECT_EQ(reading("--block-rows 200 --repeats 2"), "whole");
+  EXPECT_EQ(reading("--block-rows 200 --precision 50 --no-tests"), "whole");
+  for (const auto& [options, reason] :
+       std::vector<std::pair<std::string, std::string>>{{"--repeats 2", "--repeats needs"},
+                                                         {"--leave-one-out", "leave-one-out needs"}}) {
+    const Outcome refused = run("select f.csv --response y --drop part,w --read blocks " + options);
+    EXPECT_EQ(refused.code, 2) << options;
+    EXPECT_NE(refused.err.find(reason), std::string::npos) << refused.err;
+  }
+  const Outcome piped = run("select - --response y --drop part,w --read blocks", file("f.csv").string());
+  EXPECT_EQ(piped.code, 2);
+  EXPECT_NE(piped.err.find("standard input can be read only once"), std::string::npos) << piped.err;
+  const Outcome piped_column = run("select - --response y --fold-column part --drop w --read blocks",
+                                   file("f.csv").string());
+  EXPECT_EQ(piped_column.code, 0) << piped_column.err;
+}
+
+// Where the whole reading builds a fold's held-out error from its rows (a
+// near-exact fit: residuals of 1e-9 against a response of size 1e3, whose
+// statistics cancel; CrossValidationFromParts.RefusesWhereItWouldNeedTheRows)
+// the reading in blocks has none and refuses with status 3, naming the fold
+// and the way out; the whole reading cross-validates.
+TEST_F(Streaming, SelectInBlocksRefusesAFoldWhoseErrorNeedsItsRows) {
+  knotpath::testing::Lcg lcg(31);
+  {
+    std::ofstream out(file("exact.csv"));
+    out.precision(17);
+    out << "a,b,c,y\n";
+    for (int i = 0; i < 3000; ++i) {
+      const double a = lcg.centred(), b = lcg.centred(), c = lcg.centred();
+      out << a << ',' << b << ',' << c << ',' << 1000 * (a + 2 * b + 3 * c) + 1e-9 * lcg.centred() << '\n';
+    }
+  }
+  const Outcome blocks = run("select exact.csv --response y --read blocks");
+  EXPECT_EQ(blocks.code, 3) << blocks.err;
+  EXPECT_NE(blocks.err.find("fold 0: its held-out error cannot be formed from its statistics"), std::string::npos)
+      << blocks.err;
+  EXPECT_NE(blocks.err.find("--read whole"), std::string::npos) << blocks.err;
+  const Outcome whole = run("select exact.csv --response y --read whole");
+  EXPECT_EQ(whole.code, 0) << whole.err;
+}

@@ -9,6 +9,7 @@
 #include <cstdio>
 #include <limits>
 #include <optional>
+#include <string>
 #include <vector>
 
 #include <Eigen/Eigenvalues>
@@ -850,6 +851,158 @@ TEST(CrossValidation, NearExactFitBuildsSegmentsFromTheRows) {
   EXPECT_NEAR(result.minimum.error, by_rows.minimum.error, 1e-2 * by_rows.minimum.error);
   const double mu = 1e-4 * result.mu_high;  // on the path's last segments, where the fit is exact
   EXPECT_NEAR(result.error_at_mu(mu), by_rows.error_at_mu(mu), 1e-2 * by_rows.error_at_mu(mu));
+}
+
+namespace {
+
+// The parts of a cross-validation streamed in uneven pieces of `piece`
+// rows through FoldStatisticsAccumulator, each row with its fold number.
+kp::FoldParts<double> streamed_parts(const Matrix<double>& x, const Vector<double>& y, const Vector<double>& w,
+                                     const std::vector<long>& fold_of, Index piece) {
+  kp::FoldStatisticsAccumulator<double> acc(x.cols(), w.size() != 0);
+  for (Index start = 0; start < x.rows(); start += piece) {
+    const Index m = std::min(piece, x.rows() - start);
+    const std::vector<long> folds(fold_of.begin() + start, fold_of.begin() + start + m);
+    acc.add(x.middleRows(start, m), Vector<double>(y.segment(start, m)),
+            w.size() != 0 ? Vector<double>(w.segment(start, m)) : Vector<double>(), folds);
+  }
+  return acc.finish();
+}
+
+// Two cross-validations made by the same operations: every fold's knots,
+// the curve's pieces and both choices equal to the last bit.
+void expect_identical(const kp::CrossValidation<double>& a, const kp::CrossValidation<double>& b) {
+  ASSERT_EQ(a.folds.size(), b.folds.size());
+  for (std::size_t f = 0; f < a.folds.size(); ++f) {
+    EXPECT_EQ(a.folds[f].held_out_weight, b.folds[f].held_out_weight) << f;
+    EXPECT_EQ(a.folds[f].scale, b.folds[f].scale) << f;
+    ASSERT_EQ(a.folds[f].path.knots().size(), b.folds[f].path.knots().size()) << f;
+    for (std::size_t j = 0; j < a.folds[f].path.knots().size(); ++j)
+      EXPECT_EQ(a.folds[f].path.knots()[j].penalty, b.folds[f].path.knots()[j].penalty) << f << " " << j;
+    ASSERT_EQ(a.folds[f].segments.size(), b.folds[f].segments.size()) << f;
+    for (std::size_t j = 0; j < a.folds[f].segments.size(); ++j) {
+      EXPECT_EQ(a.folds[f].segments[j].a, b.folds[f].segments[j].a) << f << " " << j;
+      EXPECT_EQ(a.folds[f].segments[j].c, b.folds[f].segments[j].c) << f << " " << j;
+    }
+  }
+  ASSERT_EQ(a.full_path.knots().size(), b.full_path.knots().size());
+  ASSERT_EQ(a.pieces.size(), b.pieces.size());
+  for (std::size_t i = 0; i < a.pieces.size(); ++i) {
+    EXPECT_EQ(a.pieces[i].mu_high, b.pieces[i].mu_high) << i;
+    EXPECT_EQ(a.pieces[i].constant, b.pieces[i].constant) << i;
+    EXPECT_EQ(a.pieces[i].linear, b.pieces[i].linear) << i;
+    EXPECT_EQ(a.pieces[i].quadratic, b.pieces[i].quadratic) << i;
+  }
+  EXPECT_EQ(a.minimum.mu, b.minimum.mu);
+  EXPECT_EQ(a.minimum.error, b.minimum.error);
+  EXPECT_EQ(a.minimum.standard_error, b.minimum.standard_error);
+  EXPECT_EQ(a.parsimonious.mu, b.parsimonious.mu);
+}
+
+}  // namespace
+
+// Skipped rows count as rows of weight 0: the statistics equal from_rows()
+// with those rows weighing 0, bit for bit, across several blocks (height 16
+// here, so the skips cross block boundaries).
+TEST(CrossValidationFromParts, SkippedRowsAreRowsOfWeightZero) {
+  const auto prob = kp::testing::ar1_problem(100, 4, 0.4, 3, 3, 1.0);
+  Vector<double> mask = Vector<double>::Zero(100);
+  kp::StatisticsAccumulator<double> acc(4, true, 16);
+  for (Index i = 0; i < 100; ++i) {
+    if (i % 7 == 2 || (i >= 40 && i < 58)) {
+      mask(i) = 1.0 + 0.01 * static_cast<double>(i);
+      acc.add(prob.x.middleRows(i, 1), Vector<double>(prob.y.segment(i, 1)), Vector<double>(mask.segment(i, 1)));
+    } else {
+      acc.skip(1);
+    }
+  }
+  const auto streamed = acc.finish();
+  const auto direct = kp::SufficientStatistics<double>::from_rows(prob.x, prob.y, mask, 16);
+  EXPECT_EQ(streamed.weight_sum, direct.weight_sum);
+  EXPECT_EQ(streamed.rows, direct.rows);
+  EXPECT_EQ(streamed.means, direct.means);
+  EXPECT_EQ(streamed.comoments, direct.comoments);
+  EXPECT_EQ(streamed.cross, direct.cross);
+  EXPECT_EQ(streamed.response_comoment, direct.response_comoment);
+  kp::StatisticsAccumulator<double> unweighted(4, false);
+  EXPECT_THROW(unweighted.skip(1), kp::invalid_query);
+}
+
+// Cross-validation from the streamed fold statistics alone against the
+// rows route of cross_validate() on a tall table (the Gram route, where
+// the rows route too traces every fold from fold_statistics()): the same
+// operations on the same parts, so without weights every fold path, the
+// curve and both choices agree bit for bit, with the intercept and the
+// standardization on and off, seeded folds and a fold column with rows
+// never held out.
+TEST(CrossValidationFromParts, UnweightedEqualsTheRowsRouteBitForBit) {
+  const auto prob = kp::testing::ar1_problem(600, 8, 0.5, 5, 4, 1.0);
+  for (bool intercept : {true, false})
+    for (bool standardize : {true, false}) {
+      kp::TraceOptions options;
+      options.with_intercept = intercept;
+      options.standardize = standardize;
+      ASSERT_TRUE(kp::detail::folds_by_statistics<double>(600, 8, 6, 1, options));
+      kp::CrossValidationOptions seeded;
+      seeded.folds = 6;
+      kp::CrossValidationOptions column;
+      column.fold_of.resize(600);
+      for (std::size_t i = 0; i < 600; ++i) column.fold_of[i] = i % 11 == 0 ? -1 : static_cast<long>((i / 3) % 4);
+      for (const auto* cv : {&seeded, &column}) {
+        const auto by_rows = kp::cross_validate<double>(prob.x, prob.y, options, *cv);
+        const auto parts = streamed_parts(prob.x, prob.y, Vector<double>(), by_rows.fold_of, 37);
+        const auto by_parts = kp::cross_validate<double>(parts, options);
+        SCOPED_TRACE(::testing::Message() << intercept << standardize << (cv == &column));
+        expect_identical(by_parts, by_rows);
+        EXPECT_TRUE(by_parts.fold_of.empty());
+      }
+    }
+}
+
+// With weights the folds' weight sums are added in another order (blocks
+// of the statistics, not the rows one by one), so the two routes agree to
+// rounding: the curve and both choices within 1e-10 relative.
+TEST(CrossValidationFromParts, WeightedAgreesWithTheRowsRouteToRounding) {
+  const auto prob = kp::testing::ar1_problem(500, 7, 0.5, 9, 4, 1.0);
+  kp::detail::SplitMix64 rng(21);
+  Vector<double> w(500);
+  for (Index i = 0; i < 500; ++i) w(i) = i % 13 == 0 ? 0.0 : 0.25 + 2.0 * rng.uniform();
+  for (bool standardize : {true, false}) {
+    kp::TraceOptions options;
+    options.standardize = standardize;
+    kp::CrossValidationOptions cv;
+    cv.folds = 5;
+    const auto by_rows = kp::cross_validate<double>(prob.x, prob.y, options, cv, w);
+    const auto by_parts = kp::cross_validate<double>(streamed_parts(prob.x, prob.y, w, by_rows.fold_of, 64), options);
+    expect_same_curve(by_parts, by_rows, 1e-10);
+    ASSERT_EQ(by_parts.folds.size(), by_rows.folds.size());
+    for (std::size_t f = 0; f < by_rows.folds.size(); ++f) {
+      EXPECT_NEAR(by_parts.folds[f].held_out_weight, by_rows.folds[f].held_out_weight,
+                  1e-12 * by_rows.folds[f].held_out_weight);
+      ASSERT_EQ(by_parts.folds[f].path.knots().size(), by_rows.folds[f].path.knots().size());
+    }
+  }
+}
+
+// Where the rows route builds a fold's segments from its held-out rows
+// (the statistics' sums cancel: a near-exact fit, as in
+// NearExactFitBuildsSegmentsFromTheRows) the statistics route has no rows
+// and refuses, naming the fold; one fold is refused too.
+TEST(CrossValidationFromParts, RefusesWhereItWouldNeedTheRows) {
+  const auto prob = kp::testing::ar1_problem(200, 6, 0.3, 6, 6, 1.0);
+  kp::detail::SplitMix64 rng(11);
+  Vector<double> y = 1000.0 * (prob.x * Vector<double>::LinSpaced(6, 1.0, 6.0));
+  for (Index i = 0; i < y.size(); ++i) y(i) += 1e-9 * (rng.uniform() - 0.5);
+  const std::vector<long> fold_of = kp::make_folds<double>(200, kp::CrossValidationOptions{});
+  try {
+    (void)kp::cross_validate<double>(streamed_parts(prob.x, y, Vector<double>(), fold_of, 50), {});
+    ADD_FAILURE() << "no refusal";
+  } catch (const kp::invalid_data& e) {
+    EXPECT_NE(std::string(e.what()).find("cross-validate from the rows"), std::string::npos) << e.what();
+  }
+  const std::vector<long> one(200, 0);
+  EXPECT_THROW((void)kp::cross_validate<double>(streamed_parts(prob.x, prob.y, Vector<double>(), one, 50), {}),
+               kp::invalid_option);
 }
 
 // The criteria from the table's statistics (least-squares fit by the

@@ -67,6 +67,7 @@
 #include <cstdint>
 #include <exception>
 #include <limits>
+#include <map>
 #include <optional>
 #include <span>
 #include <string>
@@ -536,6 +537,28 @@ struct FoldPlan {
   TraceOptions options;
 };
 
+/// Sets fold k's training weight and scale and returns the options its
+/// path is traced with (the size-free rescaling of the file comment): the
+/// one home of that rescaling for the rows route (plan_fold) and the
+/// statistics route (cross_validate of FoldParts). Throws invalid_data when
+/// the training rows weigh nothing.
+template <class Scalar>
+TraceOptions fold_trace_options(Fold<Scalar>& fold, long k, const Scalar& training_weight,
+                                const TraceOptions& options, const Scalar& full_weight,
+                                const Scalar& full_scale) {
+  TraceOptions out = options;
+  fold.training_weight = training_weight;
+  if (!(fold.training_weight > Scalar(0)))
+    throw invalid_data("fold " + std::to_string(k) +
+                       " leaves no training row with positive weight");
+  fold.scale = penalty_scale<Scalar>(options.standardize, fold.training_weight);
+  if (!options.standardize && options.ridge != 0.0)
+    out.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
+  if (options.min_penalty != 0.0)
+    out.min_penalty = options.min_penalty * to_double(Scalar(fold.scale / full_scale));
+  return out;
+}
+
 template <class Scalar>
 FoldPlan<Scalar> plan_fold(const Vector<Scalar>& w, const std::vector<long>& fold_of, long k,
                            const TraceOptions& options, const Scalar& full_weight,
@@ -550,15 +573,7 @@ FoldPlan<Scalar> plan_fold(const Vector<Scalar>& w, const std::vector<long>& fol
         fold.held_out_weight += w(i);
       }
     }
-  fold.training_weight = plan.training.sum();
-  if (!(fold.training_weight > Scalar(0)))
-    throw invalid_data("fold " + std::to_string(k) +
-                       " leaves no training row with positive weight");
-  fold.scale = penalty_scale<Scalar>(options.standardize, fold.training_weight);
-  if (!options.standardize && options.ridge != 0.0)
-    plan.options.ridge = options.ridge * to_double(Scalar(fold.training_weight / full_weight));
-  if (options.min_penalty != 0.0)
-    plan.options.min_penalty = options.min_penalty * to_double(Scalar(fold.scale / full_scale));
+  plan.options = fold_trace_options(fold, k, plan.training.sum(), options, full_weight, full_scale);
   return plan;
 }
 
@@ -858,6 +873,16 @@ CurvePoint<Scalar> parsimonious_choice(const CrossValidation<Scalar>& cv) {
   return cv.minimum;
 }
 
+/// Once the full path and the folds are set: the domain, the exact curve,
+/// its minimum and the parsimonious choice (both routes of cross_validate).
+template <class Scalar>
+void finish_curve(CrossValidation<Scalar>& cv) {
+  set_domain(cv);
+  cv.pieces = curve_pieces(cv.folds, cv.total_weight, merged_grid(cv));
+  cv.minimum = curve_minimum(cv);
+  cv.parsimonious = parsimonious_choice(cv);
+}
+
 }  // namespace detail
 
 /// Exact K-fold cross-validation of the path of y on x (see the file
@@ -903,11 +928,174 @@ CrossValidation<Scalar> cross_validate(const Matrix<Scalar>& x, const Vector<Sca
     std::vector<Fold<Scalar>> more = detail::trace_folds(x, y, w, result, fold_of, k, options, cv.threads);
     for (auto& f : more) result.folds.push_back(std::move(f));
   }
-  detail::set_domain(result);
-  result.pieces =
-      detail::curve_pieces(result.folds, result.total_weight, detail::merged_grid(result));
-  result.minimum = detail::curve_minimum(result);
-  result.parsimonious = detail::parsimonious_choice(result);
+  detail::finish_curve(result);
+  return result;
+}
+
+/// The statistics a cross-validation needs, with no row kept: those of each
+/// fold's rows, of the rows never held out, and (optionally) of all the
+/// rows. FoldStatisticsAccumulator makes them from rows streamed once.
+template <class Scalar>
+struct FoldParts {
+  /// Statistics of each fold's rows, folds 0..K-1 (K >= 2).
+  std::vector<SufficientStatistics<Scalar>> folds;
+  /// Statistics of the rows never held out (weight_sum 0 when there are none).
+  SufficientStatistics<Scalar> never_held_out;
+  /// Statistics of all the rows as trace() forms them (one accumulator over
+  /// every row); empty: the parts merged in order (folds, then the rows
+  /// never held out), which rounds differently.
+  std::optional<SufficientStatistics<Scalar>> full;
+  /// Rows of the table, weight-0 rows included (Preparation::observations).
+  Index observations = 0;
+};
+
+/// The per-fold statistics of rows streamed in pieces of any size (one
+/// pass, memory independent of the number of rows: K + 2 accumulators of
+/// one block and p x p each). Each row goes to its fold's accumulator; the
+/// other parts skip it (StatisticsAccumulator::skip), so every part's blocks
+/// have the boundaries of the whole table and finish() returns, bit for
+/// bit, what fold_statistics() forms from the rows in memory (each part is
+/// from_rows() with the other rows weighing 0), and `full` what trace()
+/// forms from all of them. Fold numbers are any whole numbers: those >= 0
+/// are the folds, in ascending order (a fold column's labels), negative
+/// ones the rows never held out. Not thread-safe.
+template <class Scalar>
+class FoldStatisticsAccumulator {
+ public:
+  /// Rows with `predictors` columns; `weighted`: each add() gives weights.
+  FoldStatisticsAccumulator(Index predictors, bool weighted)
+      : predictors_(predictors), weighted_(weighted), full_(predictors, weighted) {}
+
+  /// Adds rows x (m x p), responses y and (weighted) weights w, with each
+  /// row's fold number in `fold` (m entries). Throws invalid_data as
+  /// StatisticsAccumulator::add does.
+  template <class Derived>
+  void add(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& y, const Vector<Scalar>& w,
+           const std::vector<long>& fold) {
+    if (static_cast<Index>(fold.size()) != x.rows())
+      throw invalid_data("fold numbers for " + std::to_string(fold.size()) + " rows added with " +
+                         std::to_string(x.rows()));
+    full_.add(x, y, w);  // checks the values and the sizes first
+    for (Index i = 0; i < x.rows();) {  // runs of rows of one fold
+      Index j = i + 1;
+      while (j < x.rows() && fold[static_cast<std::size_t>(j)] == fold[static_cast<std::size_t>(i)]) ++j;
+      const long f = fold[static_cast<std::size_t>(i)];
+      Part& part = part_of(f < 0 ? -1 : f);
+      part.statistics.skip(rows_ + i - part.seen);
+      const Vector<Scalar> weights = weighted_ ? Vector<Scalar>(w.segment(i, j - i))
+                                               : Vector<Scalar>(Vector<Scalar>::Ones(j - i));
+      part.statistics.add(x.middleRows(i, j - i), y.segment(i, j - i), weights);
+      part.seen = rows_ + j;
+      i = j;
+    }
+    rows_ += x.rows();
+  }
+
+  /// Number of folds seen so far (fold numbers >= 0).
+  std::size_t folds() const { return parts_.size() - parts_.count(-1); }
+
+  /// The parts of every row added; the accumulator takes no rows after it.
+  /// Throws invalid_data for no rows or the magnitudes trace() refuses.
+  FoldParts<Scalar> finish() {
+    FoldParts<Scalar> out;
+    out.full = full_.finish();
+    out.observations = static_cast<Index>(rows_);
+    out.never_held_out = SufficientStatistics<Scalar>::empty(predictors_);
+    for (auto& [f, part] : parts_) {  // ascending fold number: the folds' order
+      part.statistics.skip(rows_ - part.seen);
+      if (f < 0)
+        out.never_held_out = finish_part(part);
+      else
+        out.folds.push_back(finish_part(part));
+    }
+    return out;
+  }
+
+ private:
+  struct Part {
+    StatisticsAccumulator<Scalar> statistics;
+    Index seen = 0;  // rows added or skipped
+  };
+
+  Part& part_of(long f) {
+    auto it = parts_.find(f);
+    if (it == parts_.end()) it = parts_.emplace(f, Part{StatisticsAccumulator<Scalar>(predictors_, true), 0}).first;
+    return it->second;
+  }
+
+  // A part's statistics without the whole data's magnitude checks (full_
+  // made them; a part's rows are some of its rows). A part whose rows all
+  // weigh 0 is empty, as from_rows() gives it.
+  SufficientStatistics<Scalar> finish_part(Part& part) {
+    try {
+      return part.statistics.finish();
+    } catch (const invalid_data&) {
+      return SufficientStatistics<Scalar>::empty(predictors_);
+    }
+  }
+
+  Index predictors_;
+  bool weighted_;
+  StatisticsAccumulator<Scalar> full_;
+  std::map<long, Part> parts_;
+  Index rows_ = 0;
+};
+
+/// Exact cross-validation from statistics alone (FoldParts: no row is
+/// read). The full path is traced from parts.full (else from the parts
+/// merged in order), fold f's path from every part but f merged in
+/// ascending order (training_statistics()) and its segments from part f
+/// (build_segments_from_statistics()), with the rescaled options of the
+/// rows route: given the parts fold_statistics() forms, the result is the
+/// rows route's on the Gram route (folds_by_statistics()) bit for bit when
+/// every weight is 1 (the weight sums are then exact in either order); with
+/// other weights the folds' weights are summed in another order, so the
+/// result agrees to rounding. Where the rows route builds a fold's segments
+/// from its held-out rows (their sums from the statistics lose
+/// segment_sum_tolerance: held-out residuals tiny against the response's
+/// spread) this route has no rows and refuses: invalid_data naming the
+/// fold. The folds hold no row indices (Fold::held_out and
+/// CrossValidation::fold_of are empty); one assignment only (repeats = 1).
+/// Throws invalid_option for fewer than two folds or a fold of no positive
+/// weight. Cost: O(K^2 p^2) merges, K + 1 traces from statistics, O(p k)
+/// per knot; no O(n) term.
+template <class Scalar>
+CrossValidation<Scalar> cross_validate(const FoldParts<Scalar>& parts, const TraceOptions& options,
+                                       std::size_t threads = 1) {
+  static_assert(!detail::is_exact_v<Scalar>,
+                "cross-validation needs square roots (the size-free penalty): use a floating type");
+  const std::size_t k = parts.folds.size();
+  if (k < 2) throw invalid_option("fold_of", "needs at least two folds (numbers 0 and 1)");
+  for (std::size_t f = 0; f < k; ++f)
+    if (!(parts.folds[f].weight_sum > Scalar(0)))
+      throw invalid_option("fold_of", "fold " + std::to_string(f) + " holds no row with positive weight");
+  const Index p = parts.folds.front().predictors();
+  std::vector<SufficientStatistics<Scalar>> all = parts.folds;  // K + 1 parts, as fold_statistics()
+  all.push_back(parts.never_held_out);
+  options.validate(static_cast<std::size_t>(p));
+  CrossValidation<Scalar> result;
+  result.statistics = parts.full ? *parts.full : detail::training_statistics(all, all.size(), p);
+  result.full_path = detail::trace_rows_statistics(*result.statistics, parts.observations, options);
+  result.full_scale = penalty_scale(result.full_path.preparation());
+  const Scalar full_weight = result.full_path.preparation().weight_sum;
+  result.folds.resize(k);
+  threads = std::min(detail::resolve_threads(threads), k);
+  TraceOptions fold_options = options;
+  if (threads > 1) fold_options.threads = 1;  // folds in parallel: no threads inside a fold
+  detail::for_each_task(k, threads, [&](std::size_t f) {
+    Fold<Scalar>& fold = result.folds[f];
+    const SufficientStatistics<Scalar> training = detail::training_statistics(all, f, p);
+    const TraceOptions traced = detail::fold_trace_options(fold, static_cast<long>(f), training.weight_sum,
+                                                           fold_options, full_weight, result.full_scale);
+    fold.held_out_weight = parts.folds[f].weight_sum;
+    fold.path = detail::trace_rows_statistics(training, parts.observations, traced);
+    if (!detail::build_segments_from_statistics(fold, parts.folds[f]))
+      throw invalid_data("fold " + std::to_string(f) +
+                         ": its held-out error cannot be formed from its statistics to the "
+                         "tolerance the rows route keeps (the held-out residuals are tiny against the "
+                         "response's spread); cross-validate from the rows");
+  });
+  detail::finish_curve(result);
   return result;
 }
 

@@ -432,6 +432,26 @@ class StatisticsAccumulator {
     }
   }
 
+  /// Counts `count` rows of weight 0 without their values (a weighted
+  /// accumulator only): the blocks keep the boundaries they would have had
+  /// had those rows been added with weight 0, so the statistics stay bit
+  /// for bit those of from_rows() on every row with the skipped ones
+  /// weighing 0 (the per-fold parts of a streamed cross-validation,
+  /// FoldStatisticsAccumulator). O(count / block height). Throws
+  /// invalid_query for an unweighted accumulator or after finish().
+  void skip(Index count) {
+    if (finished_) throw invalid_query("rows skipped in statistics already finished");
+    if (!weighted_) throw invalid_query("only weighted statistics can skip rows (as rows of weight 0)");
+    while (count > 0) {
+      const Index take = std::min(height_ - filled_, count);
+      wb_.segment(filled_, take).setZero();
+      filled_ += take;
+      added_ += take;
+      count -= take;
+      if (filled_ == height_) summarise_block();
+    }
+  }
+
   /// The statistics of every row added. Summarises the last, partial block,
   /// removes the shifts and checks the magnitudes; the accumulator takes no
   /// rows after it. Throws invalid_data for no rows, or values whose squares

@@ -249,6 +249,20 @@ struct LoadedTable {
 LoadedTable load_table(const std::string& table, const ModelArgs& args, const Global& global,
                        bool keep_decimal_text);
 
+/// Whether --read (with the options that rule blocks out: --indicators,
+/// refused with --read blocks) lets a command read the table a block at a
+/// time; select decides further (select_command.cpp).
+bool streams_rows(const ModelArgs& args);
+
+/// Reads the table a block at a time for a command that keeps its own
+/// statistics of the rows (select: one set per fold): `take(block, loaded)`
+/// sees each block of --block-rows rows with `loaded.columns` and
+/// `loaded.options` set from the first block (the roles and options
+/// trace_table gives the table). Returns the table without values (names,
+/// counts, every row's line) with its context, as trace_table reads it.
+LoadedTable read_in_blocks(const std::string& table, const ModelArgs& args, const Global& global,
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take);
+
 /// A table traced in double and in a higher precision (verify).
 template <class High>
 struct TracedTwice {

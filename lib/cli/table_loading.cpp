@@ -5,6 +5,7 @@
 // sufficient statistics (--read, issue of tables larger than memory).
 
 #include <algorithm>
+#include <functional>
 #include <cmath>
 #include <memory>
 #include <optional>
@@ -781,6 +782,27 @@ void add_reading_options(CLI::App& command, ModelArgs& args) {
   add_reading_options(command, args.reading, args.block_rows, "into the sufficient statistics",
                       "blocks once the rows far outnumber the predictors, when that gives the same path as "
                       "reading whole");
+}
+
+bool streams_rows(const ModelArgs& args) { return !reads_whole(with_lists_split(args)); }
+
+LoadedTable read_in_blocks(const std::string& table_path, const ModelArgs& args, const Global& global,
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take) {
+  const ReadPlan plan = plan_reading(args, false);
+  LoadedTable loaded;
+  const io::TableReadOptions read = start_reading(loaded, table_path, plan.read, global);
+  bool begun = false;
+  loaded.table = io::read_table_blocks(table_path, read, plan.args.block_rows, [&](io::Table& block) {
+    if (!begun) {  // the first block names the columns, as BlockReading::begin
+      loaded.columns = assigned_columns(block, plan.roles);
+      loaded.options = trace_options(plan.args, plan.scales, loaded.columns.names);
+      loaded.context.predictor_names = loaded.columns.names;
+      begun = true;
+    }
+    take(block, loaded);
+  });
+  describe_columns(loaded, plan.roles);  // the context of the reader's whole table
+  return loaded;
 }
 
 LoadedTable load_table(const std::string& table_path, const ModelArgs& given,

@@ -15,10 +15,14 @@ int main() {
   knotpath::CrossValidationOptions folds;
   folds.folds = 5;
   const auto cv = knotpath::cross_validate<double>(data.x, data.y, {}, folds);
+  // The same from statistics streamed per fold (FoldStatisticsAccumulator).
+  knotpath::FoldStatisticsAccumulator<double> parts(data.x.cols(), false);
+  parts.add(data.x, data.y, knotpath::Vector<double>(), cv.fold_of);
+  const auto streamed = knotpath::cross_validate<double>(parts.finish(), {});
   const auto criteria = knotpath::information_criteria<double>(data.x, data.y, path);
   const auto significance = knotpath::entry_significance<double>(data.x, data.y, path);
 
-  const double total = cv.minimum.mu + cv.error_at_mu(cv.parsimonious.mu) + criteria.noise_variance +
+  const double total = cv.minimum.mu + streamed.minimum.mu + cv.error_at_mu(cv.parsimonious.mu) + criteria.noise_variance +
                        significance.noise_variance + static_cast<double>(significance.entries.size());
   return total != total ? 1 : 0;
 }
