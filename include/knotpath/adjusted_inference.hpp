@@ -478,7 +478,20 @@ class StepPolyhedron {
     const Index q = design_.cols(), u = static_cast<Index>(ever_.size());
     ever_position_.assign(static_cast<std::size_t>(q), -1);
     for (Index i = 0; i < u; ++i) ever_position_[static_cast<std::size_t>(ever_[static_cast<std::size_t>(i)])] = i;
-    form_gram_columns();
+    gram_columns_.resize(q, u);
+    if constexpr (has_dense_columns<Design>) {
+      form_dense_gram_columns();
+    } else {
+      // z_col^T Z by the design's cross products into a vector of the final
+      // size (no reallocation inside the design's call).
+      std::vector<Index> all(static_cast<std::size_t>(q));
+      for (Index j = 0; j < q; ++j) all[static_cast<std::size_t>(j)] = j;
+      Vector<Scalar> column(q);
+      for (Index i = 0; i < u; ++i) {
+        design_.cross_products(ever_[static_cast<std::size_t>(i)], std::span<const Index>(all), column);
+        gram_columns_.col(i) = column;
+      }
+    }
     design_.response_correlations(correlations_);
     std::vector<std::pair<Index, int>> active;
     for (const StepEvent& e : events_) apply(active, e);
@@ -524,33 +537,24 @@ class StepPolyhedron {
   }
 
  private:
-  /// gram_columns_ = Z^T Z_E for the columns E ever active. On dense
-  /// columns (has_dense_columns) as the symmetric block Z_E^T Z_E
-  /// (gram_block) and one matrix product Z_R^T Z_E for the others R:
+  /// gram_columns_ (sized q x u) = Z^T Z_E for the columns E ever active,
+  /// on dense columns (has_dense_columns): the symmetric block Z_E^T Z_E
+  /// (gram_block) and one matrix product Z_R^T Z_E for the others R,
   /// O(n (u^2 / 2 + (q - u) u)) at BLAS-3 speed, against u products Z^T z_e
   /// of O(n q) each, which read the whole design u times (issue 22's
-  /// measurements, bench/README.md). Otherwise one product per column.
-  void form_gram_columns() {
+  /// measurements, bench/README.md). Other designs: one product per column
+  /// (the constructor).
+  void form_dense_gram_columns() {
     const Index q = design_.cols(), u = static_cast<Index>(ever_.size());
-    gram_columns_.resize(q, u);
-    if constexpr (has_dense_columns<Design>) {
-      const Matrix<Scalar> inner = gram_block(design_, ever_);
-      for (Index i = 0; i < u; ++i) gram_columns_.row(ever_[static_cast<std::size_t>(i)]) = inner.row(i);
-      std::vector<Index> rest;  // columns never active
-      for (Index j = 0; j < q; ++j)
-        if (ever_position_[static_cast<std::size_t>(j)] < 0) rest.push_back(j);
-      if (rest.empty() || u == 0) return;
-      const Matrix<Scalar>& z = design_.columns();
-      const Matrix<Scalar> cross = z(Eigen::all, rest).transpose() * z(Eigen::all, ever_);
-      for (std::size_t r = 0; r < rest.size(); ++r) gram_columns_.row(rest[r]) = cross.row(static_cast<Index>(r));
-    } else {
-      Vector<Scalar> unit = Vector<Scalar>::Ones(1), column(q);
-      for (Index i = 0; i < u; ++i) {
-        const Index col = ever_[static_cast<std::size_t>(i)];
-        design_.direction_correlations(std::span<const Index>(&col, 1), unit, column);
-        gram_columns_.col(i) = column;
-      }
-    }
+    const Matrix<Scalar> inner = gram_block(design_, ever_);
+    for (Index i = 0; i < u; ++i) gram_columns_.row(ever_[static_cast<std::size_t>(i)]) = inner.row(i);
+    std::vector<Index> rest;  // columns never active
+    for (Index j = 0; j < q; ++j)
+      if (ever_position_[static_cast<std::size_t>(j)] < 0) rest.push_back(j);
+    if (rest.empty() || u == 0) return;
+    const Matrix<Scalar>& z = design_.columns();
+    const Matrix<Scalar> cross = z(Eigen::all, rest).transpose() * z(Eigen::all, ever_);
+    for (std::size_t r = 0; r < rest.size(); ++r) gram_columns_.row(rest[r]) = cross.row(static_cast<Index>(r));
   }
 
   Index ever_index(Index column) const {
