@@ -23,6 +23,7 @@
 #include <Eigen/QR>
 
 #include <knotpath/adjusted_inference.hpp>
+#include <knotpath/precision.hpp>
 #include <knotpath/detail/random.hpp>
 
 #include "test_support.hpp"
@@ -479,4 +480,64 @@ TEST(AdjustedInference, UnsupportedSettingsAreRefused) {
   EXPECT_NO_THROW(kp::adjusted_inference_after_steps(prepared.design, path, 2, 0.9, 1.0));
   EXPECT_THROW(kp::adjusted_inference_after_steps(prepared.design, path, 2, 1.5, 1.0), kp::invalid_option);
   EXPECT_THROW(kp::adjusted_inference_after_steps(prepared.design, path, 99, 0.9, 1.0), kp::invalid_query);
+}
+
+// The steps polyhedron's limits in doubles (the branch-free block reduction
+// of Limits::tighten_rows) against the same construction in 50-digit
+// floats (the row-by-row tighten() of the generic scalar): the two routes
+// give the same limits to the doubles' rounding, on designs whose paths
+// leave as well as join (lasso) and on a least-angle path. Common practice:
+// a second arithmetic as the reference of the first.
+TEST(AdjustedInference, StepLimitsInDoublesMatchFiftyDigits) {
+  struct Case {
+    Index n, p;
+    double rho;
+    std::uint64_t seed, noise_seed;
+    kp::Variant variant;
+  };
+  // The first: StepLimitsAreWhereTheFirstEventsChange's data (a leave at
+  // row 7); the others have more than 64 candidate rows per step (several
+  // chunks of tighten_rows).
+  for (const Case& c : {Case{30, 10, 0.6, 18, 9, kp::Variant::lasso}, Case{80, 40, 0.3, 5, 6, kp::Variant::lasso},
+                        Case{80, 40, 0.3, 5, 6, kp::Variant::least_angle}}) {
+    const Matrix<double> x = equicorrelated_design(c.n, c.p, c.rho, c.seed);
+    kp::detail::SplitMix64 rng(c.noise_seed);
+    Vector<double> y(c.n);
+    for (Index i = 0; i < c.n; ++i) y(i) = x(i, 1) + 0.8 * x(i, 2) - 0.6 * x(i, 7) + 0.8 * rng.normal();
+    kp::TraceOptions options;
+    options.variant = c.variant;
+    const kp::Path<double> path = kp::trace<double>(x, y, options);
+    const Matrix<kp::float50> x50 = x.cast<kp::float50>();
+    const Vector<kp::float50> y50 = y.cast<kp::float50>();
+    const kp::Path<kp::float50> path50 = kp::trace<kp::float50>(x50, y50, options);
+    const auto prepared = kp::prepare_dense<double>(x, y, path.options());
+    const auto prepared50 = kp::prepare_dense<kp::float50>(x50, y50, path50.options());
+    ASSERT_EQ(path.knots().size(), path50.knots().size());
+    const Index rows = std::min<Index>(static_cast<Index>(path.knots().size()) - 1, 30);
+    Index compared = 0;
+    for (Index k = 1; k <= rows; ++k) {
+      kp::AdjustedInference r, r50;
+      try {
+        r = kp::adjusted_inference_after_steps(prepared.design, path, k, 0.9, 0.64);
+      } catch (const kp::invalid_query&) {
+        continue;  // a row the polyhedra do not cover (tie, stop)
+      }
+      r50 = kp::adjusted_inference_after_steps(prepared50.design, path50, k, 0.9, 0.64);
+      ASSERT_EQ(r.coefficients.size(), r50.coefficients.size());
+      for (std::size_t i = 0; i < r.coefficients.size(); ++i) {
+        const auto &a = r.coefficients[i], &b = r50.coefficients[i];
+        ASSERT_EQ(a.predictor, b.predictor);
+        for (auto [u, v] : {std::pair{a.truncation_lower, b.truncation_lower},
+                            std::pair{a.truncation_upper, b.truncation_upper}}) {
+          if (std::isinf(u) || std::isinf(v)) {
+            EXPECT_EQ(u, v) << "k = " << k << ", predictor " << a.predictor;
+          } else {
+            EXPECT_NEAR(u, v, 1e-9 * std::max(1.0, std::abs(v))) << "k = " << k << ", predictor " << a.predictor;
+          }
+        }
+      }
+      ++compared;
+    }
+    EXPECT_GE(compared, 5) << "seed " << c.seed;
+  }
 }

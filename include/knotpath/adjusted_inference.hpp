@@ -101,9 +101,12 @@
 
 #include <algorithm>
 #include <cmath>
+#include <concepts>
 #include <limits>
 #include <span>
 #include <string>
+#include <type_traits>
+#include <utility>
 #include <vector>
 
 #include <Eigen/Cholesky>
@@ -232,13 +235,72 @@ struct Limits {
       has_upper = true;
     }
   }
+
+  /// Adds the constraints L_r(y) >= 0 for every row r of a block, L_r(y) =
+  /// `values`(r) and L_r(c) = `slopes`(r): the same limits as tighten() row
+  /// by row (the same quotients; a minimum and maximum do not depend on the
+  /// order). In binary floating point the quotients are formed in chunks by
+  /// packed division, then reduced without branches (the slopes' signs as
+  /// masks: a zero slope masks both sides, its quotient unused); otherwise
+  /// (exact or multiprecision scalars) tighten() per row.
+  template <class Values, class Slopes>
+  void tighten_rows(const Values& values, const Slopes& slopes, const Scalar& x) {
+    const Index rows = values.size();
+    if constexpr (std::is_floating_point_v<Scalar>) {
+      constexpr Scalar inf = std::numeric_limits<Scalar>::infinity();
+      constexpr Index chunk = 64;
+      Eigen::Array<Scalar, chunk, 1> bounds;
+      Scalar low = -inf, high = inf;
+      bool any_low = false, any_high = false;
+      for (Index start = 0; start < rows; start += chunk) {
+        const Index length = std::min(chunk, rows - start);
+        bounds.head(length) = x - values.segment(start, length).array() / slopes.segment(start, length).array();
+        for (Index r = 0; r < length; ++r) {
+          const Scalar slope = slopes(start + r), bound = bounds(r);
+          const bool rises = slope > Scalar(0), falls = slope < Scalar(0);
+          low = std::max(low, rises ? bound : -inf);
+          high = std::min(high, falls ? bound : inf);
+          any_low |= rises;
+          any_high |= falls;
+        }
+      }
+      if (any_low) {
+        lower = has_lower ? std::max(lower, low) : low;
+        has_lower = true;
+      }
+      if (any_high) {
+        upper = has_upper ? std::min(upper, high) : high;
+        has_upper = true;
+      }
+    } else {
+      for (Index r = 0; r < rows; ++r) tighten(values(r), slopes(r), x);
+    }
+  }
 };
 
-/// The Gram block Z_S^T Z_S of prepared columns S.
+/// Whether the design holds its prepared columns as one dense matrix of a
+/// binary floating-point type (DenseDesign::columns()): then blocks of its
+/// Gram matrix are formed by blocked matrix products over the rows (BLAS-3
+/// speed through Eigen) instead of one product per column.
+template <class Design>
+constexpr bool has_dense_columns = std::is_floating_point_v<typename Design::Scalar> && requires(const Design& d) {
+  { d.columns() } -> std::convertible_to<const Matrix<typename Design::Scalar>&>;
+};
+
+/// The Gram block Z_S^T Z_S of prepared columns S. On dense columns
+/// (has_dense_columns) one symmetric rank-n update of the gathered columns,
+/// O(n m^2 / 2) at BLAS-3 speed; otherwise the design's cross products.
 template <DesignOperator Design>
 Matrix<typename Design::Scalar> gram_block(const Design& design, const std::vector<Index>& columns) {
   using Scalar = typename Design::Scalar;
   const Index m = static_cast<Index>(columns.size());
+  if constexpr (has_dense_columns<Design>) {
+    const Matrix<Scalar> gathered = design.columns()(Eigen::all, columns);
+    Matrix<Scalar> gram = Matrix<Scalar>::Zero(m, m);
+    gram.template selfadjointView<Eigen::Lower>().rankUpdate(gathered.transpose());
+    gram.template triangularView<Eigen::StrictlyUpper>() = gram.transpose();
+    return gram;
+  }
   Matrix<Scalar> gram(m, m);
   Vector<Scalar> cross(m);
   for (Index a = 0; a < m; ++a) {
@@ -417,11 +479,18 @@ class StepPolyhedron {
     ever_position_.assign(static_cast<std::size_t>(q), -1);
     for (Index i = 0; i < u; ++i) ever_position_[static_cast<std::size_t>(ever_[static_cast<std::size_t>(i)])] = i;
     gram_columns_.resize(q, u);
-    Vector<Scalar> unit = Vector<Scalar>::Ones(1), column(q);
-    for (Index i = 0; i < u; ++i) {
-      const Index col = ever_[static_cast<std::size_t>(i)];
-      design_.direction_correlations(std::span<const Index>(&col, 1), unit, column);
-      gram_columns_.col(i) = column;
+    if constexpr (has_dense_columns<Design>) {
+      form_dense_gram_columns();
+    } else {
+      // z_col^T Z by the design's cross products into a vector of the final
+      // size (no reallocation inside the design's call).
+      std::vector<Index> all(static_cast<std::size_t>(q));
+      for (Index j = 0; j < q; ++j) all[static_cast<std::size_t>(j)] = j;
+      Vector<Scalar> column(q);
+      for (Index i = 0; i < u; ++i) {
+        design_.cross_products(ever_[static_cast<std::size_t>(i)], std::span<const Index>(all), column);
+        gram_columns_.col(i) = column;
+      }
     }
     design_.response_correlations(correlations_);
     std::vector<std::pair<Index, int>> active;
@@ -468,6 +537,26 @@ class StepPolyhedron {
   }
 
  private:
+  /// gram_columns_ (sized q x u) = Z^T Z_E for the columns E ever active,
+  /// on dense columns (has_dense_columns): the symmetric block Z_E^T Z_E
+  /// (gram_block) and one matrix product Z_R^T Z_E for the others R,
+  /// O(n (u^2 / 2 + (q - u) u)) at BLAS-3 speed, against u products Z^T z_e
+  /// of O(n q) each, which read the whole design u times (issue 22's
+  /// measurements, bench/README.md). Other designs: one product per column
+  /// (the constructor).
+  void form_dense_gram_columns() {
+    const Index q = design_.cols(), u = static_cast<Index>(ever_.size());
+    const Matrix<Scalar> inner = gram_block(design_, ever_);
+    for (Index i = 0; i < u; ++i) gram_columns_.row(ever_[static_cast<std::size_t>(i)]) = inner.row(i);
+    std::vector<Index> rest;  // columns never active
+    for (Index j = 0; j < q; ++j)
+      if (ever_position_[static_cast<std::size_t>(j)] < 0) rest.push_back(j);
+    if (rest.empty() || u == 0) return;
+    const Matrix<Scalar>& z = design_.columns();
+    const Matrix<Scalar> cross = z(Eigen::all, rest).transpose() * z(Eigen::all, ever_);
+    for (std::size_t r = 0; r < rest.size(); ++r) gram_columns_.row(rest[r]) = cross.row(static_cast<Index>(r));
+  }
+
   Index ever_index(Index column) const {
     return static_cast<Index>(std::find(ever_.begin(), ever_.end(), column) - ever_.begin());
   }
@@ -496,6 +585,9 @@ class StepPolyhedron {
     bool have_previous = false;
     Index entered_last = -1, left_last = -1;
     int left_sign = 0;
+    std::vector<std::pair<Index, Scalar>> joins, leaves;  // candidate rows of a step: (row of the source, divisor)
+    Matrix<Scalar> block(2 * q, width);                   // their constraint rows, reused across steps
+    Vector<Scalar> divisors(2 * q);                       // their divisors, in the rows' order
     for (const StepEvent& event : events_) {
       const auto& order = projection.order;
       const Index a = static_cast<Index>(order.size());
@@ -518,7 +610,12 @@ class StepPolyhedron {
       if (have_previous) add(Row(previous - winner));  // lambda_l <= lambda_{l-1}
       // A candidate that could fire before lambda_{l-1} (see the file
       // comment: the sign of s * delta says so on the event) must not beat
-      // the winner; lambda_l > 0 covers its times <= 0.
+      // the winner; lambda_l > 0 covers its times <= 0. Each is the row
+      // winner - source.row(r) / divisor with the source the residual
+      // correlations (joins) or the fit (leaves): listed first, then
+      // formed as one block and reduced per contrast (tighten_rows).
+      joins.clear();
+      leaves.clear();
       for (Index j = 0; j < q; ++j) {
         if (sign_of[static_cast<std::size_t>(j)] != 0) continue;
         for (int s : {1, -1}) {
@@ -526,7 +623,7 @@ class StepPolyhedron {
           if (j == left_last && s == left_sign) continue;  // joins at lambda_{l-1} exactly
           const Scalar denominator = Scalar(s) - equiangular(j);
           if (!(Scalar(s) * denominator > Scalar(0))) continue;  // its time is >= lambda_{l-1}
-          add(Row(winner - residual.row(j) / denominator));
+          joins.push_back({j, denominator});
         }
       }
       if (lasso_)
@@ -535,8 +632,24 @@ class StepPolyhedron {
           if ((!event.enter && col == event.column) || col == entered_last) continue;  // winner; leaves at lambda_{l-1}
           // b_a(lambda) = d_a (t - lambda) keeps the sign s_a down to lambda_{l-1}: t < lambda_{l-1} iff s_a d_a < 0.
           if (!(Scalar(sign_of[static_cast<std::size_t>(col)]) * direction(i) < Scalar(0))) continue;
-          add(Row(winner - fit.row(i) / direction(i)));
+          leaves.push_back({i, direction(i)});
         }
+      const Index n_joins = static_cast<Index>(joins.size()), rows = n_joins + static_cast<Index>(leaves.size());
+      if (block.rows() < rows) {
+        block.resize(rows, width);
+        divisors.resize(rows);
+      }
+      for (Index r = 0; r < rows; ++r)
+        divisors(r) = r < n_joins ? joins[static_cast<std::size_t>(r)].second
+                                  : leaves[static_cast<std::size_t>(r - n_joins)].second;
+      for (Index c = 0; c < width; ++c) {
+        auto target = block.col(c).head(rows);
+        for (Index r = 0; r < n_joins; ++r) target(r) = residual(joins[static_cast<std::size_t>(r)].first, c);
+        for (Index r = n_joins; r < rows; ++r) target(r) = fit(leaves[static_cast<std::size_t>(r - n_joins)].first, c);
+        target.array() = winner(c) - target.array() / divisors.head(rows).array();
+      }
+      for (Index i = 0; i + 1 < width; ++i)
+        out[static_cast<std::size_t>(i)].tighten_rows(block.col(0).head(rows), block.col(i + 1).head(rows), x(i));
       previous = winner;
       have_previous = true;
       entered_last = event.enter ? event.column : -1;
