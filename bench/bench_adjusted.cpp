@@ -12,7 +12,8 @@
 // Two conditionings: `penalty` (the fixed-penalty lasso, Lee et al. 2016:
 // the m x m Gram block of the active set, O(n m^2 + m^3)) and `steps` (the
 // path's first k events, Tibshirani et al. 2016: one Gram column per
-// predictor ever active, O(n p k), then O(p m^2) per step). Counters
+// predictor ever active, O(n p k), formed on dense columns as blocked
+// matrix products, then O(p m^2) per step). Counters
 // (medians): ratio = path / reference (goal of issue 22: <= 1 at n = 5000,
 // p = 200), path_s, reference_s, active. Args: n, p, k (the point lies
 // halfway between knot rows k and k + 1 of the full path).
