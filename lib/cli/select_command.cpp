@@ -323,7 +323,7 @@ std::vector<long> seeded_folds_of_table(const SelectArgs& args, const ModelArgs&
   Index rows = 0;
   std::vector<double> weights;
   bool weighted = false;
-  read_in_blocks(args.table, model, global, [&](io::Table& block, const LoadedTable& loaded) {
+  const LoadedTable table = read_in_blocks(args.table, model, global, [&](io::Table& block, const LoadedTable& loaded) {
     rows += static_cast<Index>(block.rows);
     weighted = loaded.columns.weights >= 0;
     if (weighted) {
@@ -331,10 +331,17 @@ std::vector<long> seeded_folds_of_table(const SelectArgs& args, const ModelArgs&
       weights.insert(weights.end(), w.data(), w.data() + w.size());
     }
   });
+  const Vector<double> w = weighted ? Vector<double>(Eigen::Map<const Vector<double>>(
+                                          weights.data(), static_cast<Index>(weights.size())))
+                                    : Vector<double>();
+  // A bad weight is the data's fault, named by its line, before the folds
+  // are drawn from the weights (the library's rule, as the whole reading
+  // reports it: regression test BadInput.RowProblemsNameTheLineOfTheFile).
+  if (weighted)
+    with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
+                       [&] { (void)detail::used_rows<double>(w, rows, TraceOptions{}); });
   try {
-    return make_folds<double>(rows, cv, weighted ? Vector<double>(Eigen::Map<const Vector<double>>(
-                                                       weights.data(), static_cast<Index>(weights.size())))
-                                                 : Vector<double>());
+    return make_folds<double>(rows, cv, w);
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   }
