@@ -928,6 +928,39 @@ TEST(CrossValidationFromParts, SkippedRowsAreRowsOfWeightZero) {
   EXPECT_THROW(unweighted.skip(1), kp::invalid_query);
 }
 
+// A fold's part is finished without the whole table's magnitude checks
+// (the whole accumulator makes them): a column whose values are tiny on
+// one fold's rows only (below check_magnitude's 2^-256, while the column
+// as a whole is not) gives that fold its statistics, those of from_rows()
+// with the other rows weighing 0, and a fold whose rows all weigh 0 is
+// empty. (Regression: every refusal of a part's finish() was read as "no
+// row of positive weight", so such a fold came back empty.)
+TEST(CrossValidationFromParts, AColumnTinyOnOneFoldsRowsKeepsThatFoldsStatistics) {
+  auto prob = kp::testing::ar1_problem(120, 4, 0.3, 5, 2, 1.0);
+  std::vector<long> fold_of(120);
+  for (std::size_t i = 0; i < 120; ++i) fold_of[i] = static_cast<long>(i % 3);
+  Vector<double> on_fold0 = Vector<double>::Zero(120);
+  for (Index i = 0; i < 120; i += 3) {
+    prob.x(i, 1) *= 1e-80;
+    on_fold0(i) = 1.0;
+  }
+  const auto parts = streamed_parts(prob.x, prob.y, Vector<double>(), fold_of, 25);
+  ASSERT_EQ(parts.folds.size(), 3u);
+  const auto direct = kp::SufficientStatistics<double>::from_rows(prob.x, prob.y, on_fold0);
+  EXPECT_EQ(parts.folds[0].rows, 40);
+  EXPECT_EQ(parts.folds[0].weight_sum, direct.weight_sum);
+  EXPECT_EQ(parts.folds[0].means, direct.means);
+  EXPECT_EQ(parts.folds[0].comoments, direct.comoments);
+  EXPECT_EQ(parts.folds[0].cross, direct.cross);
+
+  // Every row of fold 2 weighs 0: that part is empty.
+  Vector<double> w = Vector<double>::Ones(120);
+  for (Index i = 2; i < 120; i += 3) w(i) = 0.0;
+  const auto weighted = streamed_parts(prob.x, prob.y, w, fold_of, 25);
+  EXPECT_EQ(weighted.folds[2].rows, 0);
+  EXPECT_EQ(weighted.folds[2].weight_sum, 0.0);
+}
+
 // Cross-validation from the streamed fold statistics alone against the
 // rows route of cross_validate() on a tall table (the Gram route, where
 // the rows route too traces every fold from fold_statistics()): the same

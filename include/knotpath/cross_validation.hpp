@@ -1024,14 +1024,13 @@ class FoldStatisticsAccumulator {
   }
 
   // A part's statistics without the whole data's magnitude checks (full_
-  // made them; a part's rows are some of its rows). A part whose rows all
-  // weigh 0 is empty, as from_rows() gives it.
+  // made them; a part's rows are some of its rows, and a column tiny on
+  // them alone is no reason to refuse). A part whose rows all weigh 0 is
+  // empty, as from_rows() gives it; any other refusal propagates.
   SufficientStatistics<Scalar> finish_part(Part& part) {
-    try {
-      return part.statistics.finish();
-    } catch (const invalid_data&) {
-      return SufficientStatistics<Scalar>::empty(predictors_);
-    }
+    SufficientStatistics<Scalar> s = part.statistics.finish_part_of_checked_whole();
+    if (s.rows == 0) return SufficientStatistics<Scalar>::empty(predictors_);
+    return s;
   }
 
   Index predictors_;

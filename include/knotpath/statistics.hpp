@@ -457,17 +457,33 @@ class StatisticsAccumulator {
   /// rows after it. Throws invalid_data for no rows, or values whose squares
   /// would overflow or underflow (as trace() does).
   Statistics finish() {
+    finish_sums();
+    magnitudes_.check(weighted_);
+    return std::move(statistics_);
+  }
+
+  /// finish() without the magnitude checks, for rows that are part of a
+  /// whole whose own accumulator makes them (a fold's part: a column whose
+  /// largest value on the fold's rows is tiny is not refused when the
+  /// whole column is not). Throws invalid_data for no rows and
+  /// invalid_query after finish().
+  Statistics finish_part_of_checked_whole() {
+    finish_sums();
+    return std::move(statistics_);
+  }
+
+ private:
+  // The sums of finish(): the last, partial block summarised, the shifts
+  // removed; the accumulator takes no rows after it.
+  void finish_sums() {
     if (finished_) throw invalid_query("statistics already finished");
     finished_ = true;
     if (added_ == 0) throw invalid_data("the data have no rows");
     if (filled_ > 0) summarise_block();
     Statistics::remove_design_shift(statistics_, shift_, sum_x_);
     if (statistics_.rows != 0) response_.finish(statistics_, sum_x_);
-    magnitudes_.check(weighted_);
-    return std::move(statistics_);
   }
 
- private:
   // The block's rows of positive weight, moved up in place (as from_rows()
   // gathers them), then summarised by the design side and the response side.
   void summarise_block() {
