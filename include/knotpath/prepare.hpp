@@ -242,6 +242,15 @@ void check_magnitudes(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>&
   magnitudes.check(weights.size() != 0);
 }
 
+/// The weight rule of every storage and route: a row's weight is finite
+/// and >= 0 (0: the row is kept but takes no part in the fit). Throws
+/// invalid_data naming the row (numbered from 0) otherwise.
+template <class Scalar>
+void check_weight(const Scalar& weight, std::size_t row) {
+  if (!is_finite_value(weight) || weight < Scalar(0))
+    throw invalid_data::at_row(row, "the weight is negative or not finite");
+}
+
 /// Throws invalid_data for the first value of the rows that is not finite,
 /// or weight that is negative: every response and weight first, in row
 /// order, then the design column by column. The rows are named from
@@ -253,8 +262,7 @@ void check_finite_values(const Eigen::MatrixBase<Derived>& x, const Vector<Scala
   const auto row = [&](Index i) { return first_row + static_cast<std::size_t>(i); };
   for (Index i = 0; i < n; ++i) {
     if (!is_finite_value(y(i))) throw invalid_data::at_row(row(i), "the response is not finite");
-    if (weights.size() != 0 && (!is_finite_value(weights(i)) || weights(i) < Scalar(0)))
-      throw invalid_data::at_row(row(i), "the weight is negative or not finite");
+    if (weights.size() != 0) check_weight(weights(i), row(i));
   }
   for (Index j = 0; j < x.cols(); ++j)
     for (Index i = 0; i < n; ++i)
@@ -352,8 +360,7 @@ UsedRows<Scalar> used_rows(const Vector<Scalar>& weights, Index n, const TraceOp
   const Vector<Scalar> w = weights.size() == 0 ? Vector<Scalar>(Vector<Scalar>::Ones(n)) : weights;
   UsedRows<Scalar> used;
   for (Index i = 0; i < n; ++i) {
-    if (!is_finite_value(w(i)) || w(i) < Scalar(0))
-      throw invalid_data::at_row(static_cast<std::size_t>(i), "the weight is negative or not finite");
+    check_weight(w(i), static_cast<std::size_t>(i));
     if (w(i) > Scalar(0)) used.rows.push_back(i);
   }
   if (used.rows.empty()) throw invalid_data("no observation has a positive weight");

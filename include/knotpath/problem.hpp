@@ -205,8 +205,7 @@ PreparedSparse<Scalar, StorageIndex> prepare_sparse(const SparseMatrix<Scalar, S
   // (detail::check_magnitude, the rule every storage applies).
   Scalar top_y(0), top_y_used(0);
   for (Index i = 0; i < n; ++i) {
-    if (!detail::is_finite_value(w(i)) || w(i) < Scalar(0))
-      throw invalid_data::at_row(static_cast<std::size_t>(i), "the weight is negative or not finite");
+    detail::check_weight(w(i), static_cast<std::size_t>(i));
     if (!detail::is_finite_value(y(i)))
       throw invalid_data::at_row(static_cast<std::size_t>(i), "the response is not finite");
     used += w(i) > Scalar(0);

@@ -94,7 +94,8 @@ struct SufficientStatistics {
   /// `block(xm, used, wm)` sees the block's shifted rows (scaled by sqrt(w)
   /// for floating types with weights), the user's indices of its rows and
   /// their weights: what the response side (ResponsePass) needs. Throws
-  /// invalid_data for a weight that is negative or NaN and for a design
+  /// invalid_data for a weight that is negative or not finite
+  /// (detail::check_weight, naming its row) and for a design
   /// value that is not finite (naming its row and column).
   template <class Derived, class Block>
   static void design_pass(const Eigen::MatrixBase<Derived>& x, const Vector<Scalar>& weights, Index block_rows,
@@ -103,8 +104,7 @@ struct SufficientStatistics {
       throw invalid_data("weights length differs from the design's rows");
     const Index n = x.rows(), p = x.cols();
     const bool weighted = weights.size() != 0;
-    for (Index i = 0; weighted && i < n; ++i)
-      if (!(weights(i) >= Scalar(0))) throw invalid_data("a weight is negative or not a number");
+    for (Index i = 0; weighted && i < n; ++i) detail::check_weight(weights(i), static_cast<std::size_t>(i));
     block_rows = block_height(n, p, block_rows);
     Matrix<Scalar> xb(block_rows, p);  // shifted (and sqrt(w)-scaled) rows of a block
     Vector<Scalar> wb(block_rows);
