@@ -684,6 +684,15 @@ std::size_t checked_fold_count(const std::vector<long>& fold_of, const Vector<Sc
 /// K + 1 parts and one training set per thread, p x p each.
 inline constexpr double fold_statistics_budget = 1073741824.0;
 
+/// Bytes the fold statistics of K folds take while they are formed and
+/// traced on `threads` threads: K + 1 parts and one training set per
+/// thread, p x p each (the measure fold_statistics_budget bounds).
+template <class Scalar>
+double fold_statistics_bytes(std::size_t k, std::size_t threads, Index p) {
+  const double matrices = static_cast<double>(k + 1 + threads);
+  return matrices * static_cast<double>(p) * static_cast<double>(p) * static_cast<double>(sizeof(Scalar));
+}
+
 /// Whether the folds are traced from statistics (fold_statistics()): when
 /// trace() would take the Gram route on the whole table (choose_storage(),
 /// the same choice for every fold: the folds keep every row, with weight 0
@@ -694,10 +703,8 @@ inline constexpr double fold_statistics_budget = 1073741824.0;
 template <class Scalar>
 bool folds_by_statistics(Index n, Index p, std::size_t k, std::size_t threads,
                          const TraceOptions& options) {
-  const double matrices = static_cast<double>(k + 1 + threads);
-  const double bytes = matrices * static_cast<double>(p) * static_cast<double>(p) *
-                       static_cast<double>(sizeof(Scalar));
-  return choose_storage<Scalar>(n, p, options) == Storage::gram && bytes <= fold_statistics_budget;
+  return choose_storage<Scalar>(n, p, options) == Storage::gram &&
+         fold_statistics_bytes<Scalar>(k, threads, p) <= fold_statistics_budget;
 }
 
 /// The statistics of each fold's rows (parts 0..K-1) and of the rows never

@@ -29,6 +29,7 @@
 #include "path_checks.hpp"
 #include "report_folder.hpp"
 #include "saved_file.hpp"
+#include "select_data.hpp"
 #include "typed_trace.hpp"
 
 namespace knotpath::cli {
@@ -36,24 +37,6 @@ namespace knotpath::cli {
 namespace {
 
 using json = nlohmann::ordered_json;
-
-struct SelectArgs {
-  std::string table;
-  ModelArgs model;
-  std::size_t folds = 10;
-  bool leave_one_out = false;
-  std::uint64_t seed = CrossValidationOptions{}.seed;
-  std::string fold_column;
-  std::size_t repeats = 1;  // fold seeds seed, seed + 1, ...: the curve is their mean
-  std::optional<double> noise_variance;
-  bool no_tests = false;
-  double level = AdjustedInferenceOptions{}.level;  // of the adjusted intervals
-  double fdr = 0.10;                                // ForwardStop's target
-  PrecisionArgs precision;
-  std::string json_file;
-  std::string report_dir;
-  std::string save_file;
-};
 
 // A number that is finite, else JSON null (NaN marks "not defined").
 json number_or_null(double v) {
@@ -90,416 +73,6 @@ std::vector<std::string> test_reading_notes() {
 json whole_or_fraction(double v) {
   if (v == std::floor(v) && std::fabs(v) < 9e15) return json(static_cast<long long>(v));
   return json(v);
-}
-
-// The user's fold column: distinct labels >= 0 become folds 0..K-1 in
-// ascending order of the label; a negative label keeps the row in every
-// training set.
-// Refuses a fold label that is not a whole number; `row` counts the
-// table's kept rows from 0.
-void check_fold_label(double v, std::size_t row, const std::string& name, const std::string& source) {
-  if (v != std::floor(v) || std::fabs(v) > 1e15)
-    throw failure(exit_bad_input,
-                  fmt::format("{}: data row {}: fold column \"{}\" holds {:.17g}, not a whole "
-                              "number",
-                              source, row + 1, name, v));
-}
-
-std::vector<long> folds_from_column(const Vector<double>& labels, const std::string& name,
-                                    const std::string& source) {
-  std::map<double, long> fold_of_label;
-  for (Index i = 0; i < labels.size(); ++i) {
-    const double v = labels(i);
-    check_fold_label(v, static_cast<std::size_t>(i), name, source);
-    if (v >= 0) fold_of_label.emplace(v, 0);
-  }
-  long next = 0;
-  for (auto& [label, fold] : fold_of_label) fold = next++;
-  std::vector<long> out(static_cast<std::size_t>(labels.size()), -1);
-  for (Index i = 0; i < labels.size(); ++i)
-    if (labels(i) >= 0) out[static_cast<std::size_t>(i)] = fold_of_label.at(labels(i));
-  return out;
-}
-
-// The data of a select run, read like trace reads them.
-struct SelectData {
-  Matrix<double> x;
-  Vector<double> y, w;
-  std::vector<long> fold_of;  // empty: folds from the seed
-  /// The table read in blocks (--read blocks, or auto on a tall table):
-  /// the statistics of each fold, x, y and w empty (no row is kept).
-  std::optional<FoldParts<double>> parts;
-  TraceOptions options;
-  io::RunContext context;
-  std::string shown_name;
-  io::RowLines row_lines;  // where the table's kept rows start (data_message)
-  std::shared_ptr<Progress> progress;
-  /// For --precision other than double: the table with its cells' decimal
-  /// text and the columns' roles (fold column set aside), parsed into the
-  /// arithmetic by table_data(); unused for double.
-  LoadedTable text;
-};
-
-// Reads the fold labels of --fold-column and takes the fold column out of
-// the predictors (their positions and names, and the options' per-predictor
-// lists), which must keep at least one.
-// The fold column's position in the table (or a block of it), refused
-// when absent or not numeric.
-Index fold_column_position(const io::Table& table, const std::string& fold_name, const std::string& shown_name) {
-  const Index at = table.find(fold_name);
-  if (at < 0) {
-    const auto& text = table.text_columns;
-    if (std::find(text.begin(), text.end(), fold_name) != text.end())
-      throw failure(exit_bad_input,
-                    shown_name + ": the fold column \"" + fold_name + "\" is not numeric");
-    throw failure(exit_bad_input,
-                  shown_name + ": no column named \"" + fold_name + "\" (--fold-column)");
-  }
-  return at;
-}
-
-// The fold column (at `at`) is no predictor: takes it out of the columns
-// and of out's names and options, which must keep at least one predictor.
-void take_fold_column_out(SelectData& out, io::ColumnAssignment& columns, Index at);
-
-void set_folds_aside(SelectData& out, io::ColumnAssignment& columns, const io::Table& table,
-                     const std::string& fold_name) {
-  const Index at = fold_column_position(table, fold_name, out.shown_name);
-  out.fold_of = folds_from_column(table.column_vector(at), fold_name, out.shown_name);
-  take_fold_column_out(out, columns, at);
-}
-
-void take_fold_column_out(SelectData& out, io::ColumnAssignment& columns, Index at) {
-  auto& positions = columns.predictors;
-  const auto k = static_cast<std::size_t>(std::find(positions.begin(), positions.end(), at) -
-                                          positions.begin());
-  if (k < positions.size()) {
-    const auto at_k = static_cast<std::ptrdiff_t>(k);
-    positions.erase(positions.begin() + at_k);
-    columns.names.erase(columns.names.begin() + at_k);
-    auto& names = out.context.predictor_names;
-    names.erase(names.begin() + at_k);
-    auto& scales = out.options.penalty_scales;
-    if (scales.size() == names.size() + 1) scales.erase(scales.begin() + at_k);
-    for (auto* list : {&out.options.unpenalized, &out.options.left_out}) {
-      std::erase(*list, k);
-      for (auto& j : *list)
-        if (j > k) --j;
-    }
-    auto& signs = out.options.sign_constraints;
-    if (signs.size() == names.size() + 1) signs.erase(signs.begin() + at_k);
-  }
-  if (positions.empty())
-    throw failure(
-        exit_bad_input,
-        out.shown_name + ": no numeric predictor columns besides the response and the folds");
-  try {
-    out.options.validate(positions.size());
-  } catch (const invalid_option& e) {
-    throw failure(exit_usage, e.what());
-  }
-}
-
-// As trace: data with nothing to trace are refused. Rows of positive
-// weight added a block at a time; refuse() after the last.
-struct ResponseConstancy {
-  Index used = 0;
-  bool constant = true;
-  double first = 0;
-
-  void add(const Vector<double>& y, const Vector<double>& w) {
-    for (Index i = 0; i < y.size(); ++i) {
-      if (w.size() != 0 && !(w(i) > 0)) continue;
-      if (used++ == 0)
-        first = y(i);
-      else if (y(i) != first)
-        constant = false;
-    }
-  }
-  void refuse(const SelectData& out, const std::string& response) const {
-    if (out.options.with_intercept && used > 1 && constant)
-      throw failure(exit_bad_input,
-                    fmt::format("{}: the response \"{}\" is constant (every row holds "
-                                "{:.17g}); there is nothing to select",
-                                out.shown_name, response, first));
-  }
-};
-
-// The model arguments of select's table: the fold column read (with --use)
-// and refused as the response, the weights or a dropped column.
-ModelArgs select_model_args(const SelectArgs& args) {
-  ModelArgs model = args.model;
-  const std::string& fold_name = args.fold_column;
-  if (!fold_name.empty()) {
-    if (fold_name == model.response || fold_name == model.weights)
-      throw failure(exit_usage,
-                    "the fold column \"" + fold_name + "\" is also the response or the weights");
-    const std::vector<std::string> dropped = split_list(model.drop, "--drop");  // names may hold commas
-    if (std::find(dropped.begin(), dropped.end(), fold_name) != dropped.end())
-      throw failure(exit_usage, "the fold column \"" + fold_name + "\" is listed in --drop");
-    if (!model.use.empty())
-      model.use.push_back(quoted_list_item(fold_name));  // read it; removed from the predictors below
-  }
-  return model;
-}
-
-SelectData read_select_data(const SelectArgs& args, const Global& global, bool keep_text) {
-  const ModelArgs model = select_model_args(args);
-  const std::string& fold_name = args.fold_column;
-  LoadedTable loaded = load_table(args.table, model, global, keep_text);
-  SelectData out;
-  out.shown_name = loaded.shown_name;
-  out.row_lines = loaded.table.row_lines;
-  out.progress = loaded.progress;
-  io::Table& table = loaded.table;
-  out.options = loaded.options;
-  out.context = std::move(loaded.context);
-  io::ColumnAssignment columns = loaded.columns;
-
-  if (!fold_name.empty()) set_folds_aside(out, columns, table, fold_name);
-  loaded.columns = columns;
-  io::TableSplit split = io::split_table(table, std::move(columns));
-  out.y = std::move(split.y);
-  out.w = std::move(split.weights);
-  out.x = std::move(split.x);
-  if (keep_text)
-    out.text = std::move(loaded);  // the decimal text stays (split_table took the numbers)
-  else
-    table = io::Table();
-
-  ResponseConstancy constancy;
-  constancy.add(out.y, out.w);
-  constancy.refuse(out, model.response);
-  return out;
-}
-
-// ---- select --read blocks: one set of statistics per fold, no row kept ----
-//
-// A fold column needs one pass: each block's rows go to their fold's
-// statistics (FoldStatisticsAccumulator: every part keeps the whole table's
-// block boundaries, so the parts are those the rows route forms, bit for
-// bit). Seeded folds need the number of rows first (the shuffle of
-// make_folds() is over all of them): a first pass counts the rows that
-// survive --missing and reads the weights, make_folds() draws the very
-// assignment of --read whole (its shuffle is over all the rows: up to 40
-// bytes a row while drawn, one 8-byte fold number a row kept after, against
-// the table's 8 (p + 2)), and a second pass
-// accumulates; standard input cannot be read twice and is refused.
-// Leave-one-out (K = n sets of statistics), --repeats (R K sets) and
-// --precision other than double read the table whole.
-//
-// --read auto keeps the blocks until the rows read make the full path take
-// the Gram route at this and every larger row count (gram_for_more_rows,
-// trace's rule) with the folds' statistics within
-// detail::fold_statistics_budget for the folds seen so far, and another
-// block follows; then it streams. A table that never qualifies is
-// cross-validated from its kept rows, as --read whole would.
-
-// Why select must read this table whole (empty: it may stream).
-std::string needs_whole_table(const SelectArgs& args, bool in_double) {
-  if (args.leave_one_out) return "leave-one-out needs one set of statistics per row";
-  if (args.repeats > 1) return "--repeats needs every repeat's folds (R K sets of statistics)";
-  if (!in_double) return "--precision parses the table's decimal text, kept whole";
-  if (args.fold_column.empty() && args.table == "-")
-    return "seeded folds read the table twice (the rows are counted before the folds are drawn) and "
-           "standard input can be read only once (give a file, or --fold-column)";
-  return {};
-}
-
-// Whether select reads its table in blocks: --read blocks (refused with a
-// reason when it must read whole), or auto when nothing rules it out.
-bool select_reads_blocks(const SelectArgs& args, bool in_double) {
-  if (!streams_rows(select_model_args(args))) return false;
-  const std::string reason = needs_whole_table(args, in_double);
-  if (args.model.reading == "blocks" && !reason.empty())
-    throw failure(exit_usage, "select --read blocks: " + reason + " (use --read whole)");
-  return reason.empty();
-}
-
-// Pass 1 for seeded folds: the rows kept and their weights, then the
-// assignment make_folds() draws for them (that of --read whole).
-std::vector<long> seeded_folds_of_table(const SelectArgs& args, const ModelArgs& model,
-                                        const CrossValidationOptions& cv, const Global& global) {
-  Index rows = 0;
-  std::vector<double> weights;
-  bool weighted = false;
-  const LoadedTable table = read_in_blocks(args.table, model, global, [&](io::Table& block, const LoadedTable& loaded) {
-    rows += static_cast<Index>(block.rows);
-    weighted = loaded.columns.weights >= 0;
-    if (weighted) {
-      const Vector<double> w = block.column_vector(loaded.columns.weights);
-      weights.insert(weights.end(), w.data(), w.data() + w.size());
-    }
-  });
-  const Vector<double> w = weighted ? Vector<double>(Eigen::Map<const Vector<double>>(
-                                          weights.data(), static_cast<Index>(weights.size())))
-                                    : Vector<double>();
-  // A bad weight is the data's fault, named by its line, before the folds
-  // are drawn from the weights (the library's rule, as the whole reading
-  // reports it: regression test BadInput.RowProblemsNameTheLineOfTheFile).
-  if (weighted)
-    with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
-                       [&] { (void)detail::used_rows<double>(w, rows, TraceOptions{}); });
-  try {
-    return make_folds<double>(rows, cv, w);
-  } catch (const invalid_option& e) {
-    throw failure(exit_usage, e.what());
-  }
-}
-
-// A block kept until the reading streams (or to the end): its data, fold
-// labels (fold column) and where its rows lie in the file.
-struct SelectPiece {
-  TableData<double> data;
-  std::vector<double> labels;
-  std::size_t first_row = 0;
-  io::RowLines lines;
-};
-
-// Pass 2 (or the one pass of a fold column): the blocks into the folds'
-// statistics, or kept (auto, before the table qualifies).
-class SelectBlocks {
- public:
-  SelectBlocks(const SelectArgs& args, bool forced, const std::vector<long>& seeded)
-      : args_(args), forced_(forced), seeded_(seeded) {}
-
-  void take(io::Table& block, const LoadedTable& loaded) {
-    if (!begun_) begin(block, loaded);
-    SelectPiece piece;
-    piece.first_row = block.first_row;
-    if (fold_at_ >= 0) {
-      const Vector<double> labels = block.column_vector(fold_at_);
-      for (Index i = 0; i < labels.size(); ++i)
-        check_fold_label(labels(i), block.first_row + static_cast<std::size_t>(i), args_.fold_column, loaded.shown_name);
-      piece.labels.assign(labels.data(), labels.data() + labels.size());
-    }
-    piece.data = table_data<double>(block, data_columns_, loaded.shown_name);
-    piece.lines = block.row_lines;
-    for (auto& mark : piece.lines.marks) mark.first += block.first_row;
-    constancy_.add(piece.data.y, piece.data.w);
-    const Index p = static_cast<Index>(data_columns_.predictors.size());
-    if (!stream_ && (forced_ || (rows_ > 0 && gram_for_more_rows<double>(static_cast<Index>(rows_), p, loaded.options) &&
-                                 within_budget(p)))) {
-      stream_.emplace(p, data_columns_.weights >= 0);
-    }
-    rows_ += block.rows;
-    kept_.push_back(std::move(piece));
-    if (stream_) {
-      for (SelectPiece& kept : kept_) add_to_stream(kept, loaded);
-      kept_.clear();
-    }
-  }
-
-  // After the last block: the select data, streamed (parts) or kept (x, y, w).
-  SelectData finish(LoadedTable& loaded) {
-    SelectData out;
-    out.shown_name = loaded.shown_name;
-    out.row_lines = loaded.table.row_lines;
-    out.progress = loaded.progress;
-    out.options = loaded.options;
-    out.context = std::move(loaded.context);
-    io::ColumnAssignment columns = loaded.columns;
-    if (fold_at_ >= 0) take_fold_column_out(out, columns, fold_at_);
-    constancy_.refuse(out, args_.model.response);
-    if (stream_) {
-      out.parts = with_data_messages(out.shown_name, out.context.predictor_names, out.row_lines,
-                                     [&] { return stream_->finish(); });
-      out.context.block_rows = args_.model.block_rows;  // the audit says the table was read in blocks
-      return out;
-    }
-    join_kept(out);
-    return out;
-  }
-
- private:
-  void begin(const io::Table& block, const LoadedTable& loaded) {
-    begun_ = true;
-    data_columns_ = loaded.columns;
-    if (args_.fold_column.empty()) return;
-    fold_at_ = fold_column_position(block, args_.fold_column, loaded.shown_name);
-    auto& positions = data_columns_.predictors;
-    const auto k = std::find(positions.begin(), positions.end(), fold_at_);
-    if (k != positions.end()) {
-      data_columns_.names.erase(data_columns_.names.begin() + (k - positions.begin()));
-      positions.erase(k);
-    }
-  }
-
-  // The rows route would trace the folds from statistics too (the budget of
-  // detail::folds_by_statistics for the folds seen so far, or K of --folds).
-  bool within_budget(Index p) const {
-    const std::size_t k = fold_at_ >= 0 ? std::max<std::size_t>(2, seen_labels()) : args_.folds;
-    const std::size_t threads = std::min(detail::resolve_threads(args_.model.threads), k);
-    const double pp = static_cast<double>(p) * static_cast<double>(p);
-    return static_cast<double>(k + 1 + threads) * pp * sizeof(double) <= detail::fold_statistics_budget;
-  }
-  std::size_t seen_labels() const {
-    std::set<double> labels;
-    for (const auto& piece : kept_)
-      for (double v : piece.labels)
-        if (v >= 0) labels.insert(v);
-    return labels.size();
-  }
-
-  // One block's rows into their folds' statistics, each with its fold
-  // number: the label itself (ascending labels are the folds' order, as
-  // folds_from_column numbers them) or the seeded fold; negative: never held out.
-  void add_to_stream(SelectPiece& piece, const LoadedTable& loaded) {
-    const std::size_t m = static_cast<std::size_t>(piece.data.y.size());
-    std::vector<long> folds(m);
-    for (std::size_t i = 0; i < m; ++i)
-      folds[i] = fold_at_ >= 0 ? (piece.labels[i] >= 0 ? static_cast<long>(piece.labels[i]) : -1L)
-                               : seeded_[piece.first_row + i];
-    with_data_messages(loaded.shown_name, data_columns_.names, piece.lines, [&] {
-      stream_->add(piece.data.x, piece.data.y, piece.data.w, folds);
-      return 0;
-    });
-    piece = SelectPiece();
-  }
-
-  // The kept blocks joined into one table in memory (--read whole's data).
-  void join_kept(SelectData& out) {
-    const Index n = static_cast<Index>(rows_), p = static_cast<Index>(data_columns_.predictors.size());
-    const bool weighted = data_columns_.weights >= 0;
-    out.x.resize(n, p);
-    out.y.resize(n);
-    if (weighted) out.w.resize(n);
-    Vector<double> labels(fold_at_ >= 0 ? n : 0);
-    Index at = 0;
-    for (SelectPiece& piece : kept_) {
-      const Index m = piece.data.y.size();
-      out.x.middleRows(at, m) = piece.data.x;
-      out.y.segment(at, m) = piece.data.y;
-      if (weighted) out.w.segment(at, m) = piece.data.w;
-      for (Index i = 0; i < static_cast<Index>(piece.labels.size()); ++i) labels(at + i) = piece.labels[static_cast<std::size_t>(i)];
-      at += m;
-      piece = SelectPiece();
-    }
-    kept_.clear();
-    if (fold_at_ >= 0) out.fold_of = folds_from_column(labels, args_.fold_column, out.shown_name);
-  }
-
-  const SelectArgs& args_;
-  const bool forced_;
-  const std::vector<long>& seeded_;
-  bool begun_ = false;
-  io::ColumnAssignment data_columns_;  // the roles with the fold column out of the predictors
-  Index fold_at_ = -1;                 // the fold column's position (-1: seeded folds)
-  std::vector<SelectPiece> kept_;
-  std::optional<FoldStatisticsAccumulator<double>> stream_;
-  ResponseConstancy constancy_;
-  std::size_t rows_ = 0;
-};
-
-// select's table read a block at a time (select_reads_blocks()).
-SelectData read_select_blocks(const SelectArgs& args, const CrossValidationOptions& cv, const Global& global) {
-  const ModelArgs model = select_model_args(args);
-  std::vector<long> seeded;
-  if (args.fold_column.empty()) seeded = seeded_folds_of_table(args, model, cv, global);
-  SelectBlocks blocks(args, args.model.reading == "blocks", seeded);
-  LoadedTable loaded = read_in_blocks(args.table, model, global,
-                                      [&](io::Table& block, const LoadedTable& l) { blocks.take(block, l); });
-  return blocks.finish(loaded);
 }
 
 // Inference after selection at the two choices (adjusted_inference.hpp):
@@ -562,9 +135,25 @@ std::string reason_of(const std::exception& e) {
 constexpr const char* without_rows =
     " (the table was read in blocks, so there are no rows to compute it from instead: --read whole)";
 
+// The rows a result falls back to when the statistics cannot give it: the
+// table's rows in memory, or none (`kept` false: read in blocks).
 template <class Scalar>
-InformationCriteria<Scalar> criteria_for(const Matrix<Scalar>& x, const Vector<Scalar>& y,
-                                         const Vector<Scalar>& w, const Path<Scalar>& path,
+struct SelectRows {
+  const Matrix<Scalar>& x;
+  const Vector<Scalar>& y;
+  const Vector<Scalar>& w;
+  bool kept;
+};
+
+// Refuses with `refusal` and why there is no fallback when no row is kept;
+// returns when the rows can take over.
+template <class Scalar>
+void need_rows(const SelectRows<Scalar>& rows, const std::string& refusal) {
+  if (!rows.kept) throw invalid_query(refusal + without_rows);
+}
+
+template <class Scalar>
+InformationCriteria<Scalar> criteria_for(const SelectRows<Scalar>& rows, const Path<Scalar>& path,
                                          const CriteriaOptions& co,
                                          const std::optional<SufficientStatistics<Scalar>>& statistics) {
   if (statistics) {
@@ -572,10 +161,10 @@ InformationCriteria<Scalar> criteria_for(const Matrix<Scalar>& x, const Vector<S
       return information_criteria(*statistics, path, co);
     } catch (const invalid_query& e) {
       // ill-conditioned, rank-deficient or no residual degree of freedom: the data decide
-      if (x.rows() == 0) throw invalid_query(std::string(e.what()) + without_rows);
+      need_rows(rows, e.what());
     }
   }
-  return information_criteria<Scalar>(x, y, path, co, w);
+  return information_criteria<Scalar>(rows.x, rows.y, path, co, rows.w);
 }
 
 // The covariance and spacing tests. Their reduced paths and omega need only
@@ -590,8 +179,7 @@ InformationCriteria<Scalar> criteria_for(const Matrix<Scalar>& x, const Vector<S
 // (tests/test_inference.cpp, EntryTestsFromStatistics). Unweighted data only
 // (the caller checks), so `statistics` are those of x and y.
 template <class Scalar>
-Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
-                         const Path<Scalar>& path,
+Significance entry_tests(const SelectRows<Scalar>& rows, const Path<Scalar>& path,
                          const std::optional<InformationCriteria<Scalar>>& criteria,
                          std::optional<double> noise_variance,
                          const std::optional<SufficientStatistics<Scalar>>& statistics) {
@@ -604,21 +192,19 @@ Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
     sigma2 = as_double(criteria->noise_variance);
     df = static_cast<Index>(as_double(criteria->residual_df));
   } else {
-    if (x.rows() == 0)
-      throw invalid_query(std::string("the tests need the noise variance: give --noise-variance, or a "
-                                      "least-squares estimate the criteria could not make") +
-                          without_rows);
+    need_rows(rows, "the tests need the noise variance: give --noise-variance, or a least-squares "
+                    "estimate the criteria could not make");
     InferenceOptions io;
-    return entry_significance<Scalar>(x, y, path, io);
+    return entry_significance<Scalar>(rows.x, rows.y, path, io);
   }
   try {
     return statistics ? entry_significance(*statistics, path, sigma2, df)
-                      : entry_significance(SufficientStatistics<Scalar>::from_rows(x, y), path, sigma2, df);
+                      : entry_significance(SufficientStatistics<Scalar>::from_rows(rows.x, rows.y), path, sigma2, df);
   } catch (const invalid_query& e) {
     // The statistics kept other columns than the path (a column constant
     // only up to rounding): the dense route, on the path's own preparation.
-    if (x.rows() == 0) throw invalid_query(std::string(e.what()) + without_rows);
-    return entry_significance(detail::prepare_for(x, y, path, Vector<Scalar>()).design, path,
+    need_rows(rows, e.what());
+    return entry_significance(detail::prepare_for(rows.x, rows.y, path, Vector<Scalar>()).design, path,
                               sigma2, df);
   }
 }
@@ -629,17 +215,16 @@ Significance entry_tests(const Matrix<Scalar>& x, const Vector<Scalar>& y,
 // constant only up to rounding): then the dense route, as entry_tests does.
 // Unweighted data only (the caller checks).
 template <class Scalar>
-FirstStepT first_step_test(const Matrix<Scalar>& x, const Vector<Scalar>& y, const Path<Scalar>& path,
+FirstStepT first_step_test(const SelectRows<Scalar>& rows, const Path<Scalar>& path,
                            const std::optional<SufficientStatistics<Scalar>>& statistics) {
   if (statistics) {
     try {
       return first_step_t_test(*statistics, path);
     } catch (const invalid_query& e) {
-      // the dense route below
-      if (x.rows() == 0) throw invalid_query(std::string(e.what()) + without_rows);
+      need_rows(rows, e.what());  // else the dense route below
     }
   }
-  return first_step_t_test<Scalar>(x, y, path);
+  return first_step_t_test<Scalar>(rows.x, rows.y, path);
 }
 
 // Runs on the prepared Gram problem of the data (the statistics the path
@@ -727,9 +312,10 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
   // statistics: the criteria and the entry tests reuse them (each then
   // independent of the number of rows).
   const std::optional<SufficientStatistics<Scalar>>& statistics = cv.statistics;
+  const SelectRows<Scalar> rows{x, y, w, parts == nullptr};
   std::optional<InformationCriteria<Scalar>> criteria;
   try {
-    criteria = criteria_for(x, y, w, path, co, statistics);
+    criteria = criteria_for(rows, path, co, statistics);
   } catch (const invalid_option& e) {
     s.criteria_note = reason_of(e);
   } catch (const invalid_query& e) {
@@ -744,14 +330,14 @@ Selection run_selection(const SelectData& data, const Matrix<Scalar>& x, const V
       data.progress->status(fmt::format("entry tests (covariance and spacing) of {} knots",
                                         path.knots().size()));
     try {
-      s.significance = entry_tests<Scalar>(x, y, path, criteria, noise_variance, statistics);
+      s.significance = entry_tests<Scalar>(rows, path, criteria, noise_variance, statistics);
     } catch (const invalid_option& e) {
       s.significance_note = reason_of(e);
     } catch (const invalid_query& e) {
       s.significance_note = reason_of(e);
     }
     try {
-      s.first_step = first_step_test<Scalar>(x, y, path, statistics);
+      s.first_step = first_step_test<Scalar>(rows, path, statistics);
     } catch (const invalid_option& e) {
       s.first_step_note = reason_of(e);
     } catch (const invalid_query& e) {
