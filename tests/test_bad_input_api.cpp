@@ -162,6 +162,33 @@ TEST(BadInputApi, SizesNonFiniteValuesAndWeightsThrowInvalidData) {
   EXPECT_THROW(kp::trace_sparse<double>(sx, p.y), kp::invalid_data);
 }
 
+// The weight rule has one home (detail::check_weight): every route refuses
+// a negative, NaN or infinite weight and names its row, the statistics of
+// rows and an accumulator included. (Regression: the statistics' own copy
+// of the rule let an infinite weight through, into non-finite sums.)
+TEST(BadInputApi, EveryRouteRefusesAnInfiniteWeightNamingItsRow) {
+  const auto p = kp::testing::ar1_problem(30, 4, 0.3, 5);
+  Vector<double> w = Vector<double>::Ones(30);
+  w(6) = std::numeric_limits<double>::infinity();
+  auto names_row_6 = [](auto&& call) {
+    try {
+      call();
+      ADD_FAILURE() << "no refusal";
+    } catch (const kp::invalid_data& e) {
+      ASSERT_TRUE(e.row().has_value()) << e.what();
+      EXPECT_EQ(*e.row(), 6u) << e.what();
+      EXPECT_NE(std::string(e.what()).find("the weight is negative or not finite"), std::string::npos) << e.what();
+    }
+  };
+  names_row_6([&] { (void)kp::SufficientStatistics<double>::from_rows(p.x, p.y, w); });
+  names_row_6([&] {
+    kp::StatisticsAccumulator<double> acc(4, true);
+    acc.add(p.x, p.y, w);
+  });
+  for (kp::Storage s : kStorages) names_row_6([&] { (void)kp::trace<double>(p.x, p.y, with_storage(s), w); });
+  names_row_6([&] { (void)kp::trace_sparse<double>(Eigen::SparseMatrix<double>(p.x.sparseView()), p.y, {}, w); });
+}
+
 TEST(BadInputApi, OptionsAndQueriesThrowTheirTypes) {
   const auto p = kp::testing::ar1_problem(30, 4, 0.3, 5);
   kp::TraceOptions o;
