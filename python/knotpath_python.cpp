@@ -235,8 +235,24 @@ std::vector<std::string> names_of(const kp::Path<double>& path) {
   return names;
 }
 
+/// The coefficients of every knot, knots x p (dense: 8 k p bytes, built
+/// only when asked for; the Python side's Path.knots["coefficients"]).
+py::array_t<double> knot_coefficients(const PathHandle& handle) {
+  const kp::Path<double>& path = *handle;
+  const auto& knots = path.knots();
+  const auto k = static_cast<py::ssize_t>(knots.size());
+  py::array_t<double> coefficients({k, static_cast<py::ssize_t>(path.predictor_count())});
+  auto beta = coefficients.mutable_unchecked<2>();
+  for (py::ssize_t i = 0; i < k; ++i) {
+    for (py::ssize_t j = 0; j < beta.shape(1); ++j) beta(i, j) = 0.0;
+    for (const auto& [j, value] : knots[static_cast<std::size_t>(i)].coefficients) beta(i, j) = value;
+  }
+  return coefficients;
+}
+
 /// The knot table as columns (the CSV's columns, DESIGN.md, plus the rows'
-/// health and both L1 norms): numpy arrays, events and names as lists.
+/// health and both L1 norms): numpy arrays, events and names as lists; the
+/// coefficients apart (knot_coefficients()).
 py::dict knot_columns(const PathHandle& handle) {
   const kp::Path<double>& path = *handle;
   const auto& knots = path.knots();
@@ -245,8 +261,6 @@ py::dict knot_columns(const PathHandle& handle) {
   py::array_t<double> penalty(k), mu(k), penalized_l1(k), plain_l1(k), r_squared(k), intercept(k),
       rss(k), estimated_error(k);
   py::array_t<bool> suspect(k);
-  py::array_t<double> coefficients({k, static_cast<py::ssize_t>(path.predictor_count())});
-  auto beta = coefficients.mutable_unchecked<2>();
   std::vector<std::string> events, names;
   for (py::ssize_t i = 0; i < k; ++i) {
     const kp::Knot<double>& knot = knots[static_cast<std::size_t>(i)];
@@ -263,8 +277,6 @@ py::dict knot_columns(const PathHandle& handle) {
     rss.mutable_at(i) = knot.rss;
     estimated_error.mutable_at(i) = knot.estimated_error;
     suspect.mutable_at(i) = knot.suspect;
-    for (py::ssize_t j = 0; j < beta.shape(1); ++j) beta(i, j) = 0.0;
-    for (const auto& [j, value] : knot.coefficients) beta(i, j) = value;
     events.push_back(kp::io::event_word(path, knot));
     names.push_back(knot.predictor >= 0 ? path.predictor_name(knot.predictor) : std::string());
   }
@@ -283,7 +295,6 @@ py::dict knot_columns(const PathHandle& handle) {
   d["rss"] = rss;
   d["estimated_error"] = estimated_error;
   d["suspect"] = suspect;
-  d["coefficients"] = coefficients;
   return d;
 }
 
@@ -813,7 +824,8 @@ PYBIND11_MODULE(_core, m) {
   register_errors(m);
 
   py::class_<PathHandle>(m, "Path", "A traced path (knotpath::Path<double>); immutable")
-      .def("knot_columns", &knot_columns, "The knot table as columns")
+      .def("knot_columns", &knot_columns, "The knot table as columns (without the coefficients)")
+      .def("knot_coefficients", &knot_coefficients, "The coefficients of every knot (knots x p)")
       .def("solutions", &solutions, py::arg("kind"), py::arg("values"),
            "Solutions at points of one kind (penalty, mu, budget, relative_budget)")
       .def("predictions", &predictions, py::arg("new_rows"), py::arg("kind"), py::arg("values"),

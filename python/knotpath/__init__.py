@@ -38,6 +38,7 @@ with the library's message. Ctrl-C stops a long trace (KeyboardInterrupt).
 The GIL is released while the library works.
 """
 
+import collections.abc
 import sys
 
 import numpy as np
@@ -261,6 +262,44 @@ def _point(penalty, mu, budget, relative_budget):
     return kind, np.atleast_1d(np.asarray(value, dtype=np.float64)), scalar
 
 
+
+class _KnotColumns(collections.abc.Mapping):
+    """Path.knots: the knot table's columns, read-only numpy arrays. The
+    dense coefficient table (knots x p, 8 bytes each) is built on its first
+    use: on a wide path it can outweigh the design itself."""
+
+    _KEYS = ("step", "penalty", "mu", "event", "predictor", "predictor_index", "active_count", "penalized_l1",
+             "plain_l1", "r_squared", "intercept", "rss", "estimated_error", "suspect", "coefficients")
+
+    def __init__(self, native):
+        self._native = native
+        columns = native.knot_columns()
+        columns["event"] = np.array(columns["event"], dtype=object)
+        columns["predictor"] = np.array(columns["predictor"], dtype=object)
+        for value in columns.values():
+            value.setflags(write=False)
+        self._values = columns
+
+    def __getitem__(self, key):
+        if key == "coefficients" and key not in self._values:
+            coefficients = self._native.knot_coefficients()
+            coefficients.setflags(write=False)
+            self._values[key] = coefficients
+        return self._values[key]
+
+    def __contains__(self, key):
+        return key in self._KEYS  # without building the coefficients
+
+    def __iter__(self):
+        return iter(self._KEYS)
+
+    def __len__(self):
+        return len(self._KEYS)
+
+    def __repr__(self):
+        return "KnotColumns(" + ", ".join(self._KEYS) + ")"
+
+
 class Path:
     """A traced path (immutable). Knots, exact queries anywhere on the path,
     predictions, the audit, saving."""
@@ -336,14 +375,10 @@ class Path:
         """The knot table as a dict of numpy arrays: step, penalty, mu, event,
         predictor (names, "" for none), predictor_index (-1 for none),
         active_count, penalized_l1, plain_l1, r_squared (NaN when undefined),
-        intercept, rss, estimated_error, suspect, coefficients (knots x p)."""
+        intercept, rss, estimated_error, suspect, coefficients (knots x p:
+        built on first use, since it holds every predictor of every knot)."""
         if self._columns is None:
-            columns = self._native.knot_columns()
-            columns["event"] = np.array(columns["event"], dtype=object)
-            columns["predictor"] = np.array(columns["predictor"], dtype=object)
-            for value in columns.values():
-                value.setflags(write=False)
-            self._columns = columns
+            self._columns = _KnotColumns(self._native)
         return self._columns
 
     def knot_table(self):

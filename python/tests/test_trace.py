@@ -43,6 +43,28 @@ def assert_same_knots(path, rows, names):
             assert float(row[name]) == k["coefficients"][i, j], (i, name)
 
 
+def test_knot_coefficients_are_built_on_first_use_and_equal_the_solutions_there(diabetes):
+    """Path.knots holds the dense knots x p coefficient table only once it
+    is read (on a wide path it can outweigh the design); the other columns,
+    the key list and `in` do not build it. Its rows are the exact solutions
+    at the knots' penalties."""
+    names, x, y = diabetes
+    path = knotpath.trace(x, y, predictor_names=names)
+    k = path.knots
+    assert list(k) == ["step", "penalty", "mu", "event", "predictor", "predictor_index", "active_count",
+                       "penalized_l1", "plain_l1", "r_squared", "intercept", "rss", "estimated_error",
+                       "suspect", "coefficients"]
+    assert len(k["penalty"]) == len(k["step"]) and "coefficients" in k and "nothing" not in k
+    assert "coefficients" not in k._values  # white box: not built yet
+    beta = k["coefficients"]
+    assert beta is k["coefficients"] and not beta.flags.writeable
+    assert beta.shape == (len(k["step"]), len(names))
+    at_knots = path.coefficients_at(penalty=k["penalty"])
+    assert np.array_equal(beta, at_knots)
+    with pytest.raises(KeyError):
+        k["nothing"]
+
+
 def test_diabetes_path_equals_the_programs_knot_table_bit_for_bit(diabetes, diabetes_file, program, tmp_path):
     names, x, y = diabetes
     rows = program_knot_table(program, diabetes_file, tmp_path)
