@@ -676,13 +676,15 @@ class Homotopy {
   // the knot penalty carries the rounding of the entry step's numerator,
   // lambda f_k - s c_k, divided by f_k - s a_k: near collinear entries make
   // that denominator small and the knot penalty moves by far more than the
-  // rounding of lambda (GCC's sweep design 176: 100 u of lambda_max). Both
+  // rounding of lambda (GCC's sweep design 176: 200 u of lambda_max). Both
   // paths then run along different directions between the two knot
   // penalties, d_old and d_new, and the difference there is
-  // |dg| |d_new - d_old|. At an entry d_new - d_old = (f_k - s a_k) / S
-  // times G^{-1} e_k S (S the Schur complement of the new column; the last
-  // column of the bordered inverse is (-w, 1) / S), so the denominator
-  // cancels: the difference is the numerator's rounding times G^{-1} e_k,
+  // |dg| |d_new - d_old|. At an entry d_new - d_old = s (f_k - s a_k)
+  // G^{-1} e_k (d_old padded with a zero; the new column's direction is
+  // s (f_k - s a_k) / S and the bordered inverse's last column is
+  // (-w, 1) / S, S the Schur complement of the new column), so the
+  // denominator cancels: the difference is the numerator's rounding times
+  // G^{-1} e_k,
   // a perturbation of the entering correlation seen through the new
   // factor, carried to the reported scale like the others (its
   // coefficients over their scales, v^T G^{-1} e_k for the intercept).
@@ -806,10 +808,9 @@ class Homotopy {
   // the terms' magnitudes, which overshot the knot penalties' measured
   // error 4 to 180 times on weak signals. Without the sqrt(n) the bound
   // then failed where knot penalties moved more than u ||z|| ||y|| (GCC's
-  // sweep design 203: entries 20 to 40 u of lambda_max apart from the exact
-  // ones), a rounding amplified by 1 / (f_k - s a_k), which the entry term
-  // of reported_scale_error now carries (RELIABILITY.md, "Health check
-  // calibration").
+  // sweep design 203: entries up to 70 u of lambda_max apart from the exact
+  // ones); with the entry term of reported_scale_error it holds there
+  // (RELIABILITY.md, "Health check calibration").
   // Also keeps ||z_k|| per column for means_rounding().
   void note_correlation_noise() {
     double column = 0;
