@@ -597,7 +597,12 @@ class Homotopy {
     const FactorHealth health = factor_.health();
     knot.condition_estimate = health.condition_estimate;
     knot.prepared_error = estimate_.next_knot(solution_condition(health));
-    knot.estimated_error = reported_scale_error(knot.prepared_error, health.inverse_norm, knot);
+    const Index entering =
+        kind == EventKind::enter && column >= 0
+            ? static_cast<Index>(std::find(active_.begin(), active_.end(), column) - active_.begin())
+            : -1;
+    knot.estimated_error = reported_scale_error(knot.prepared_error, health.inverse_norm, knot,
+                                                entering < active_count() ? entering : -1);
     // Once suspect, always suspect: a knot inherits the state of the knots
     // before it (RELIABILITY.md, fuzzing finding 6), even where the error
     // they left is small against this knot's larger coefficients.
@@ -665,8 +670,31 @@ class Homotopy {
   // prepare.hpp), as the cross-check measures them (compare_paths); the
   // estimate is the larger of the two. Without a Hager estimate (exact
   // and multiprecision factors) every ||G^{-1} x||_1 is bounded by
-  // ||G^{-1}||_1 ||x||_1. Cost: two solves, O(k^2).
-  double reported_scale_error(double prepared, double inverse_norm, const Knot<Scalar>& knot) {
+  // ||G^{-1}||_1 ||x||_1.
+  //
+  // At an entry (`entering`: the new column's factor position k, else -1)
+  // the knot penalty carries the rounding of the entry step's numerator,
+  // lambda f_k - s c_k, divided by f_k - s a_k: near collinear entries make
+  // that denominator small and the knot penalty moves by far more than the
+  // rounding of lambda (GCC's sweep design 176: 200 u of lambda_max). Both
+  // paths then run along different directions between the two knot
+  // penalties, d_old and d_new, and the difference there is
+  // |dg| |d_new - d_old|. At an entry d_new - d_old = s (f_k - s a_k)
+  // G^{-1} e_k (d_old padded with a zero; the new column's direction is
+  // s (f_k - s a_k) / S and the bordered inverse's last column is
+  // (-w, 1) / S, S the Schur complement of the new column), so the
+  // denominator cancels: the difference is the numerator's rounding times
+  // G^{-1} e_k,
+  // a perturbation of the entering correlation seen through the new
+  // factor, carried to the reported scale like the others (its
+  // coefficients over their scales, v^T G^{-1} e_k for the intercept).
+  // Not at a row without a nonzero coefficient (the first entry, whose
+  // denominator is f_k: a = 0 there): its coefficients have no size of
+  // their own, and the cross-check measures such a row against the
+  // segment that leaves zero, whose slope the next row's penalty term
+  // carries.
+  // Cost: two solves, three at an entry, O(k^2) each.
+  double reported_scale_error(double prepared, double inverse_norm, const Knot<Scalar>& knot, Index entering) {
     const double top = solution_size(knot);
     if (!(top > 0)) return prepared;
     const Index k_active = active_count();
@@ -711,8 +739,20 @@ class Homotopy {
       coefficient_error = std::max(coefficient_error, forward * aligned(e) / smallest_scale);
     }
     const double eps = detail::to_double(detail::epsilon<Scalar>());
-    const double intercept_error = prep_.intercept ? forward * aligned(v) + means_rounding(k_active) : 0.0;
+    double intercept_error = prep_.intercept ? forward * aligned(v) + means_rounding(k_active) : 0.0;
     const double penalty_error = eps * penalty_scale_ + correlation_noise_;
+    if (entering >= 0 && b_size > 0) {
+      auto e = rhs_scale_.head(k_active);
+      e.setZero();
+      e(entering) = Scalar(1);
+      factor_.solve(e, w);
+      double moved = 0;
+      for (Index i = 0; i < k_active; ++i)
+        moved = std::max(moved, std::abs(detail::to_double(w(i))) /
+                                    detail::to_double(prep_.scales(prep_.columns[at(active_[at(i)])])));
+      coefficient_error += penalty_error * moved;
+      if (prep_.intercept) intercept_error += penalty_error * std::abs(detail::to_double(Scalar(v.dot(w))));
+    }
     const double reported =
         std::max((coefficient_error + penalty_error * penalty_slope_) / top,
                  (intercept_error + penalty_error * intercept_slope_) / std::max(top, response_spread(prep_)));
@@ -750,12 +790,27 @@ class Homotopy {
            eps * (spread_y + spread_shift) / std::sqrt(weight);
   }
 
-  // The rounding of one correlation z_k^T r, an n-term inner product:
-  // u sqrt(n) max_k ||z_k|| ||y|| (the statistical form of the inner
-  // product's bound gamma_n |z|^T |r|, Higham 2002, sections 2.8 and 3.1).
+  // The rounding of one correlation z_k^T y, an n-term inner product. Its
+  // i-th addition rounds by about u |S_i|, S_i the partial sum, and those
+  // roundings add like independent errors (the statistical form of the
+  // inner product's bound, Higham 2002, sections 2.8 and 3.1): about
+  // u sqrt(sum_i S_i^2). The partial sums are a drift (i / n) z_k^T y plus
+  // a random walk of the terms' fluctuations, of spread about
+  // sqrt(i / n) ||z_k|| ||y||; summed over i, u (||z_k|| ||y|| / sqrt(2) +
+  // sqrt(n / 3) |z_k^T y|), bounded here by
+  //   e (max_k ||z_k|| ||y|| + sqrt(n) max_k |z_k^T y|),
+  // e = epsilon<Scalar> (twice the unit roundoff, as everywhere in this
+  // estimate).
   // It sets how well lambda_max and every knot penalty are known, and how
   // far the active correlations may be off when they are small against
-  // ||y|| (a weak signal, a heavy ridge).
+  // ||y|| (a weak signal, a heavy ridge). Until 2026-12-05 it was
+  // u sqrt(n) ||z|| ||y||, the partial sums taken as large as the sum of
+  // the terms' magnitudes, which overshot the knot penalties' measured
+  // error 4 to 180 times on weak signals. Without the sqrt(n) the bound
+  // then failed where knot penalties moved more than u ||z|| ||y|| (GCC's
+  // sweep design 203: entries up to 70 u of lambda_max apart from the exact
+  // ones); with the entry term of reported_scale_error it holds there
+  // (RELIABILITY.md, "Health check calibration").
   // Also keeps ||z_k|| per column for means_rounding().
   void note_correlation_noise() {
     double column = 0;
@@ -765,8 +820,11 @@ class Homotopy {
       column = std::max(column, squared);
     }
     const double n = static_cast<double>(std::max<Index>(prep_.used_observations, 1));
-    correlation_noise_ = detail::to_double(detail::epsilon<Scalar>()) * std::sqrt(n) * std::sqrt(column) *
-                         std::sqrt(std::max(detail::to_double(rss_), 0.0));
+    double largest = 0;
+    for (Index k = 0; k < q_; ++k) largest = std::max(largest, std::abs(detail::to_double(c_(k))));
+    correlation_noise_ = detail::to_double(detail::epsilon<Scalar>()) *
+                         (std::sqrt(column) * std::sqrt(std::max(detail::to_double(rss_), 0.0)) +
+                          std::sqrt(n) * largest);
   }
 
   // The slope of the reported solution along the segment just taken:

@@ -25,9 +25,11 @@
 /// both penalties), the largest relative knot-penalty difference over the
 /// common prefix, the largest coefficient difference along the path (at the
 /// union of both paths' knot penalties, relative to the largest coefficient
-/// or intercept of the high-precision solution over the segment that holds
-/// the penalty: detail::segment_size; the intercept's difference relative
-/// to at least the response's spread, response_spread()), and the double
+/// or intercept of the high-precision solution at that penalty, as
+/// Knot::estimated_error promises; for a row without a nonzero coefficient
+/// over the segments that meet there: detail::segment_size; the intercept's
+/// difference relative to at least the response's spread,
+/// response_spread()), and the double
 /// factor's worst
 /// condition estimate. Verdict thresholds:
 ///  - wrong:       the event sequences differ, or a coefficient differs by more
@@ -233,11 +235,12 @@ std::vector<double> knot_sizes(const Path<Scalar>& path) {
 
 /// The largest solution size over the knots of `path` that bracket the
 /// penalty `lambda` (knots are in decreasing penalty): the last knot above
-/// it, every knot at it, and the first knot below it. A difference is
-/// measured relative to the solution over its segment, not at the point:
-/// just below a knot where a coefficient enters, the exact solution is as
-/// small as the distance to the knot, and a knot penalty that is off by one
-/// rounding would otherwise read as a relative error of 1.
+/// it, every knot at it, and the first knot below it. The size a row
+/// without a nonzero coefficient (the start, the first entry) is measured
+/// against: just below the knot where the first coefficient enters, the
+/// exact solution is as small as the distance to the knot, and a knot
+/// penalty that is off by one rounding would otherwise read as a relative
+/// error of 1.
 template <class Scalar>
 double segment_size(const Path<Scalar>& path, const std::vector<double>& sizes, double lambda) {
   const auto& knots = path.knots();
@@ -304,24 +307,37 @@ CrossCheck compare_paths(const Path<double>& low, const Path<High>& high) {
     d.high_penalty = low_longer ? 0.0 : detail::to_double(b[common].penalty);
     out.first_difference = d;
   }
-  // Coefficients at the union of both paths' knot penalties, relative to
-  // the size of the high-precision solution over the segment that holds
-  // the penalty (detail::segment_size).
-  std::vector<double> penalties;
-  for (const auto& k : a) penalties.push_back(k.penalty);
-  for (const auto& k : b) penalties.push_back(detail::to_double(k.penalty));
+  // Coefficients at the union of both paths' knot penalties. A knot's row
+  // promises the error of its printed coefficients relative to the largest
+  // of them (Knot::estimated_error), so a row with a nonzero coefficient is
+  // measured against the high-precision solution at its own penalty. A row
+  // without one (the start, the first entry) has no such size: there the
+  // difference is a knot penalty's rounding seen through the slope of the
+  // solution that leaves zero, and it is measured against the solution over
+  // the segments at the penalty (detail::segment_size). Before 2026-12-05
+  // every row was measured against the segments, so an early knot whose
+  // solution is small against the next knot's read up to 5 times below its
+  // own relative error (RELIABILITY.md, "Health check calibration").
+  struct Row {
+    double penalty;
+    bool zero;  // no nonzero coefficient printed
+  };
+  std::vector<Row> rows;
+  for (const auto& k : a) rows.push_back({k.penalty, k.coefficients.empty()});
+  for (const auto& k : b) rows.push_back({detail::to_double(k.penalty), k.coefficients.empty()});
   // The intercept's difference is relative to at least the response's
   // spread (response_spread(), prepare.hpp).
   const std::vector<double> knot_size = detail::knot_sizes(high);
   const double spread = response_spread(high.preparation());
-  for (double lambda : penalties) {
+  for (const auto& [lambda, zero] : rows) {
     const auto sl = low.at_penalty(lambda);
     const auto sh = high.at_penalty(High(lambda));
     const double intercept_diff = std::abs(sl.intercept - detail::to_double(sh.intercept));
     double diff = 0;
     for (Index j = 0; j < sl.coefficients.size(); ++j)
       diff = std::max(diff, std::abs(sl.coefficients(j) - detail::to_double(sh.coefficients(j))));
-    const double top = std::max(detail::solution_size(sh), detail::segment_size(high, knot_size, lambda));
+    const double own = detail::solution_size(sh);
+    const double top = zero ? std::max(own, detail::segment_size(high, knot_size, lambda)) : own;
     const double measured = std::max(top > 0 ? diff / top : diff,
                                      std::max(top, spread) > 0 ? intercept_diff / std::max(top, spread)
                                                                : intercept_diff);

@@ -105,8 +105,9 @@ std::string comparison_text(const Comparison& c, const RunFacts& run) {
                              : check.double_knots);
   out += fmt::format(
       "largest coefficient difference: {:.3g} (relative to the largest high-precision "
-      "coefficient or intercept on the segment there, the intercept's at least to the "
-      "response's spread; at every knot of both paths)\n",
+      "coefficient or intercept at the knot, over the segments there for a row without "
+      "coefficients, the intercept's at least to the response's spread; at every knot of "
+      "both paths)\n",
       check.max_coefficient_difference);
   out += fmt::format("condition estimate (double):    {:.3g} (worst along the path)\n",
                      check.condition_estimate);
