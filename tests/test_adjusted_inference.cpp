@@ -535,8 +535,8 @@ TEST(AdjustedInference, StepLimitsInDoublesMatchFiftyDigits) {
     kp::Variant variant;
   };
   // The first: StepLimitsAreWhereTheFirstEventsChange's data (a leave at
-  // row 7); the others have more than 64 candidate rows per step (several
-  // chunks of tighten_rows).
+  // row 7); the others have dozens of candidate rows per step, reduced by
+  // their ratios (Limits::tighten_by_ratios).
   for (const Case& c : {Case{30, 10, 0.6, 18, 9, kp::Variant::lasso}, Case{80, 40, 0.3, 5, 6, kp::Variant::lasso},
                         Case{80, 40, 0.3, 5, 6, kp::Variant::least_angle}}) {
     const Matrix<double> x = equicorrelated_design(c.n, c.p, c.rho, c.seed);
