@@ -718,9 +718,9 @@ class StepPolyhedron {
       return static_cast<Index>(std::find(order.begin(), order.end(), col) - order.begin());
     }
     /// Z^T (I - P_A) z_col = Z^T z_col - Z^T Z_A pi, for pi the fit of z_col
-    /// on A, on the rows `outside` (the others, 0 on A, are not formed).
+    /// on A, on the rows `outside` (the others, 0 on A, are left 0).
     Vector<Scalar> projected_column(Index col, const Vector<Scalar>& pi) const {
-      Vector<Scalar> f(owner.gram_columns_.rows());
+      Vector<Scalar> f = Vector<Scalar>::Zero(owner.gram_columns_.rows());
       const auto source = owner.column(col);
       for (Index j : outside) f(j) = source(j);
       for (std::size_t k = 0; k < order.size(); ++k) {

@@ -36,7 +36,7 @@ inline int mills_fraction_terms(double x) { return 8 + static_cast<int>(std::cei
 /// few units in the last place of R (1e-16 absolute in log R).
 ///  - x >= 5: the continued fraction R(x) = 1/(x + 1/(x + 2/(x + 3/(x + ...))))
 ///    evaluated backward with mills_fraction_terms(x) terms (Laplace's
-///    fraction; e.g. Abramowitz & Stegun 26.2.14).
+///    fraction; Abramowitz & Stegun 26.2.14, number from memory).
 ///  - 0 <= x < 5: R = erfc(x/sqrt2) sqrt(pi/2) exp(x^2/2), a product (no
 ///    cancellation). The rounding of x/sqrt2 to z would cost x^2 ulps
 ///    (d log Q / dx = -1/R): it is put back to first order, R(x) = R' +
