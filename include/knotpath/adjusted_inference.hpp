@@ -236,44 +236,22 @@ struct Limits {
     }
   }
 
-  /// Adds the constraints L_r(y) >= 0 for every row r of a block, L_r(y) =
-  /// `values`(r) and L_r(c) = `slopes`(r): the same limits as tighten() row
-  /// by row (the same quotients; a minimum and maximum do not depend on the
-  /// order). In binary floating point the quotients are formed in chunks by
-  /// packed division, then reduced without branches (the slopes' signs as
-  /// masks: a zero slope masks both sides, its quotient unused); otherwise
-  /// (exact or multiprecision scalars) tighten() per row.
-  template <class Values, class Slopes>
-  void tighten_rows(const Values& values, const Slopes& slopes, const Scalar& x) {
-    const Index rows = values.size();
-    if constexpr (std::is_floating_point_v<Scalar>) {
-      constexpr Scalar inf = std::numeric_limits<Scalar>::infinity();
-      constexpr Index chunk = 64;
-      Eigen::Array<Scalar, chunk, 1> bounds;
-      Scalar low = -inf, high = inf;
-      bool any_low = false, any_high = false;
-      for (Index start = 0; start < rows; start += chunk) {
-        const Index length = std::min(chunk, rows - start);
-        bounds.head(length) = x - values.segment(start, length).array() / slopes.segment(start, length).array();
-        for (Index r = 0; r < length; ++r) {
-          const Scalar slope = slopes(start + r), bound = bounds(r);
-          const bool rises = slope > Scalar(0), falls = slope < Scalar(0);
-          low = std::max(low, rises ? bound : -inf);
-          high = std::min(high, falls ? bound : inf);
-          any_low |= rises;
-          any_high |= falls;
-        }
-      }
-      if (any_low) {
-        lower = has_lower ? std::max(lower, low) : low;
-        has_lower = true;
-      }
-      if (any_high) {
-        upper = has_upper ? std::min(upper, high) : high;
-        has_upper = true;
-      }
-    } else {
-      for (Index r = 0; r < rows; ++r) tighten(values(r), slopes(r), x);
+  /// Adds the constraints L_r(y) >= 0 of a block of rows r, all with
+  /// L_r(y) > 0, given through the extremes of their ratios slope / value:
+  /// `most` = max_r L_r(c) / L_r(y) and `least` = min_r (0 when no row has a
+  /// slope of that sign). A row with a positive slope bounds from below at
+  /// x - L_r(y) / L_r(c), tightest where L_r(c) / L_r(y) is largest; one with
+  /// a negative slope from above, tightest where it is smallest.
+  void tighten_by_ratios(const Scalar& most, const Scalar& least, const Scalar& x) {
+    if (most > Scalar(0)) {
+      const Scalar bound = x - Scalar(1) / most;
+      if (!has_lower || bound > lower) lower = bound;
+      has_lower = true;
+    }
+    if (least < Scalar(0)) {
+      const Scalar bound = x - Scalar(1) / least;
+      if (!has_upper || bound < upper) upper = bound;
+      has_upper = true;
     }
   }
 };
@@ -514,21 +492,36 @@ class StepPolyhedron {
     const Index m = static_cast<Index>(final_.size()), t = static_cast<Index>(targets.size());
     const Index q = design_.cols();
     Vector<Scalar> final_correlations(m);
-    Matrix<Scalar> final_gram(q, m);
+    std::vector<bool> in_final(static_cast<std::size_t>(q), false);
     for (Index a = 0; a < m; ++a) {
       final_correlations(a) = correlations_(final_[static_cast<std::size_t>(a)].first);
-      final_gram.col(a) = gram_columns_.col(ever_index(final_[static_cast<std::size_t>(a)].first));
+      in_final[static_cast<std::size_t>(final_[static_cast<std::size_t>(a)].first)] = true;
     }
     estimates = inverse_ * final_correlations;
     // Z^T [y, c_1, ..., c_t], c_i = Z_M (Z_M^T Z_M)^{-1} e_i / (Z_M^T Z_M)^{-1}_ii.
-    Matrix<Scalar> weights(m, t);
+    // On the rows of M that is e_i / (Z_M^T Z_M)^{-1}_ii; the product is
+    // formed for the other rows only, O((q - m) m t) instead of O(q m t).
+    std::vector<Index> others;
+    for (Index j = 0; j < q; ++j)
+      if (!in_final[static_cast<std::size_t>(j)]) others.push_back(j);
+    Matrix<Scalar> weights(m, t), others_gram(static_cast<Index>(others.size()), m);
     for (Index i = 0; i < t; ++i) {
       const Index target = targets[static_cast<std::size_t>(i)];
       weights.col(i) = inverse_.col(target) / inverse_(target, target);
     }
-    Matrix<Scalar> projected(q, t + 1);
+    for (Index a = 0; a < m; ++a) {
+      const auto column = gram_columns_.col(ever_index(final_[static_cast<std::size_t>(a)].first));
+      for (std::size_t r = 0; r < others.size(); ++r) others_gram(static_cast<Index>(r), a) = column(others[r]);
+    }
+    const Matrix<Scalar> others_projected = others_gram * weights;
+    Matrix<Scalar> projected = Matrix<Scalar>::Zero(q, t + 1);
     projected.col(0) = correlations_;
-    projected.rightCols(t) = final_gram * weights;
+    for (std::size_t r = 0; r < others.size(); ++r)
+      projected.row(others[r]).tail(t) = others_projected.row(static_cast<Index>(r));
+    for (Index i = 0; i < t; ++i) {
+      const Index target = targets[static_cast<std::size_t>(i)];
+      projected(final_[static_cast<std::size_t>(target)].first, i + 1) = Scalar(1) / inverse_(target, target);
+    }
     Vector<Scalar> x(t);
     for (Index i = 0; i < t; ++i) x(i) = estimates(targets[static_cast<std::size_t>(i)]);
     std::vector<Limits<Scalar>> out(static_cast<std::size_t>(t));
@@ -585,19 +578,26 @@ class StepPolyhedron {
     bool have_previous = false;
     Index entered_last = -1, left_last = -1;
     int left_sign = 0;
-    std::vector<std::pair<Index, Scalar>> joins, leaves;  // candidate rows of a step: (row of the source, divisor)
-    Matrix<Scalar> block(2 * q, width);                   // their constraint rows, reused across steps
-    Vector<Scalar> divisors(2 * q);                       // their divisors, in the rows' order
+    const Index t = width - 1;  // targets
+    // Binary floating point: the extremes of each target's slope / value
+    // over the candidate rows of a step (see candidate below), and one row's ratios.
+    Eigen::Array<Scalar, 1, Eigen::Dynamic> most(t), least(t), ratios(t);
     for (const StepEvent& event : events_) {
       const auto& order = projection.order;
       const Index a = static_cast<Index>(order.size());
       Vector<Scalar> signs(a);
       for (Index i = 0; i < a; ++i) signs(i) = Scalar(sign_of[static_cast<std::size_t>(order[static_cast<std::size_t>(i)])]);
-      const Vector<Scalar> direction = projection.inverse * signs;  // (Z_A^T Z_A)^{-1} s_A
-      Vector<Scalar> equiangular = Vector<Scalar>::Zero(q);         // Z^T Z_A (Z_A^T Z_A)^{-1} s_A
-      for (Index i = 0; i < a; ++i) equiangular += column(order[static_cast<std::size_t>(i)]) * direction(i);
-      const Matrix<Scalar>& fit = projection.fit;            // (Z_A^T Z_A)^{-1} Z_A^T [y, c]
-      const Matrix<Scalar>& residual = projection.residual;  // Z^T (I - P_A) [y, c]
+      const Vector<Scalar> direction = projection.inverse() * signs;  // (Z_A^T Z_A)^{-1} s_A
+      // Z^T Z_A (Z_A^T Z_A)^{-1} s_A on the inactive columns (the only ones read).
+      Vector<Scalar> equiangular(q);
+      for (Index j : projection.outside) equiangular(j) = Scalar(0);
+      for (Index i = 0; i < a; ++i) {
+        const auto source = column(order[static_cast<std::size_t>(i)]);
+        const Scalar weight = direction(i);
+        for (Index j : projection.outside) equiangular(j) += source(j) * weight;
+      }
+      const auto fit = projection.fit();                // (Z_A^T Z_A)^{-1} Z_A^T [y, c]
+      const RowMatrix& residual = projection.residual;  // Z^T (I - P_A) [y, c]
       // The winner's time.
       Row winner(width);
       if (event.enter) {
@@ -611,11 +611,34 @@ class StepPolyhedron {
       // A candidate that could fire before lambda_{l-1} (see the file
       // comment: the sign of s * delta says so on the event) must not beat
       // the winner; lambda_l > 0 covers its times <= 0. Each is the row
-      // winner - source.row(r) / divisor with the source the residual
-      // correlations (joins) or the fit (leaves): listed first, then
-      // formed as one block and reduced per contrast (tighten_rows).
-      joins.clear();
-      leaves.clear();
+      // winner - source / divisor with the source a row of the residual
+      // correlations (joins) or of the fit (leaves). In binary floating
+      // point a row whose value v at y is positive (every row on the event,
+      // but for rounding) enters each target's limits through its ratio
+      // slope / v alone (Limits::tighten_by_ratios): the ratios of a row are
+      // winner * (1/v) - source * (1/(v divisor)), one packed multiply-add
+      // per target with no division and no branch, and each target keeps
+      // their maximum and minimum over the step's rows. The bounds are the
+      // same quotients to rounding. Other rows, and other scalars, tighten
+      // row by row.
+      if constexpr (std::is_floating_point_v<Scalar>) {
+        most.setZero();
+        least.setZero();
+      }
+      auto candidate = [&](const auto& source, const Scalar& divisor) {
+        const Scalar value = winner(0) - source(0) / divisor;
+        if constexpr (std::is_floating_point_v<Scalar>) {
+          const Scalar reciprocal = Scalar(1) / value, scaled = -reciprocal / divisor;
+          if (value > Scalar(0) && std::isfinite(reciprocal) && std::isfinite(scaled)) {
+            ratios = winner.tail(t).array() * reciprocal + source.tail(t).array() * scaled;
+            most = most.max(ratios);
+            least = least.min(ratios);
+            return;
+          }
+        }
+        for (Index i = 0; i < t; ++i)
+          out[static_cast<std::size_t>(i)].tighten(value, Scalar(winner(i + 1) - source(i + 1) / divisor), x(i));
+      };
       for (Index j = 0; j < q; ++j) {
         if (sign_of[static_cast<std::size_t>(j)] != 0) continue;
         for (int s : {1, -1}) {
@@ -623,7 +646,7 @@ class StepPolyhedron {
           if (j == left_last && s == left_sign) continue;  // joins at lambda_{l-1} exactly
           const Scalar denominator = Scalar(s) - equiangular(j);
           if (!(Scalar(s) * denominator > Scalar(0))) continue;  // its time is >= lambda_{l-1}
-          joins.push_back({j, denominator});
+          candidate(residual.row(j), denominator);
         }
       }
       if (lasso_)
@@ -632,24 +655,10 @@ class StepPolyhedron {
           if ((!event.enter && col == event.column) || col == entered_last) continue;  // winner; leaves at lambda_{l-1}
           // b_a(lambda) = d_a (t - lambda) keeps the sign s_a down to lambda_{l-1}: t < lambda_{l-1} iff s_a d_a < 0.
           if (!(Scalar(sign_of[static_cast<std::size_t>(col)]) * direction(i) < Scalar(0))) continue;
-          leaves.push_back({i, direction(i)});
+          candidate(fit.row(i), direction(i));
         }
-      const Index n_joins = static_cast<Index>(joins.size()), rows = n_joins + static_cast<Index>(leaves.size());
-      if (block.rows() < rows) {
-        block.resize(rows, width);
-        divisors.resize(rows);
-      }
-      for (Index r = 0; r < rows; ++r)
-        divisors(r) = r < n_joins ? joins[static_cast<std::size_t>(r)].second
-                                  : leaves[static_cast<std::size_t>(r - n_joins)].second;
-      for (Index c = 0; c < width; ++c) {
-        auto target = block.col(c).head(rows);
-        for (Index r = 0; r < n_joins; ++r) target(r) = residual(joins[static_cast<std::size_t>(r)].first, c);
-        for (Index r = n_joins; r < rows; ++r) target(r) = fit(leaves[static_cast<std::size_t>(r - n_joins)].first, c);
-        target.array() = winner(c) - target.array() / divisors.head(rows).array();
-      }
-      for (Index i = 0; i + 1 < width; ++i)
-        out[static_cast<std::size_t>(i)].tighten_rows(block.col(0).head(rows), block.col(i + 1).head(rows), x(i));
+      if constexpr (std::is_floating_point_v<Scalar>)
+        for (Index i = 0; i < t; ++i) out[static_cast<std::size_t>(i)].tighten_by_ratios(most(i), least(i), x(i));
       previous = winner;
       have_previous = true;
       entered_last = event.enter ? event.column : -1;
@@ -665,6 +674,10 @@ class StepPolyhedron {
     }
   }
 
+  /// Row-major: the walk reads the fit and the residual correlations by rows
+  /// (one candidate row across every target).
+  using RowMatrix = Eigen::Matrix<Scalar, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
+
   /// Z^T z_col (a column ever active).
   auto column(Index col) const { return gram_columns_.col(ever_position_[static_cast<std::size_t>(col)]); }
 
@@ -677,41 +690,68 @@ class StepPolyhedron {
   struct Projection {
     const StepPolyhedron& owner;
     std::vector<Index> order;  ///< active prepared columns, in the order of the rows below
-    Matrix<Scalar> inverse;    ///< (Z_A^T Z_A)^{-1}
-    Matrix<Scalar> fit;        ///< (Z_A^T Z_A)^{-1} Z_A^T [y, c]
-    Matrix<Scalar> residual;   ///< Z^T (I - P_A) [y, c]
+    /// (Z_A^T Z_A)^{-1} and the fit in the leading a rows (and columns) of
+    /// storage for every column ever active: updated in place, not copied.
+    Matrix<Scalar> inverse_store;
+    RowMatrix fit_store;
+    RowMatrix residual;  ///< Z^T (I - P_A) [y, c]
+
+    /// Inactive prepared columns (ascending): the only rows of `residual`
+    /// the walk reads. The rows of the active columns are 0 (exactly, not
+    /// to rounding) and are not updated: Z_A^T (I - P_A) = 0.
+    std::vector<Index> outside;
 
     Projection(const StepPolyhedron& o, const Matrix<Scalar>& projected)
-        : owner(o), inverse(0, 0), fit(0, projected.cols()), residual(projected) {}
+        : owner(o),
+          inverse_store(static_cast<Index>(o.ever_.size()), static_cast<Index>(o.ever_.size())),
+          fit_store(static_cast<Index>(o.ever_.size()), projected.cols()),
+          residual(projected) {
+      for (Index j = 0; j < projected.rows(); ++j) outside.push_back(j);
+    }
 
+    Index active() const { return static_cast<Index>(order.size()); }
+    /// (Z_A^T Z_A)^{-1}
+    auto inverse() const { return inverse_store.topLeftCorner(active(), active()); }
+    /// (Z_A^T Z_A)^{-1} Z_A^T [y, c]
+    auto fit() const { return fit_store.topRows(active()); }
     Index position(Index col) const {
       return static_cast<Index>(std::find(order.begin(), order.end(), col) - order.begin());
     }
-    /// Z^T (I - P_A) z_col = Z^T z_col - Z^T Z_A pi, for pi the fit of z_col on A.
+    /// Z^T (I - P_A) z_col = Z^T z_col - Z^T Z_A pi, for pi the fit of z_col
+    /// on A, on the rows `outside` (the others, 0 on A, are left 0).
     Vector<Scalar> projected_column(Index col, const Vector<Scalar>& pi) const {
-      Vector<Scalar> f = owner.column(col);
-      for (std::size_t k = 0; k < order.size(); ++k) f -= owner.column(order[k]) * pi(static_cast<Index>(k));
+      Vector<Scalar> f = Vector<Scalar>::Zero(owner.gram_columns_.rows());
+      const auto source = owner.column(col);
+      for (Index j : outside) f(j) = source(j);
+      for (std::size_t k = 0; k < order.size(); ++k) {
+        const auto other = owner.column(order[k]);
+        const Scalar weight = pi(static_cast<Index>(k));
+        for (Index j : outside) f(j) -= other(j) * weight;
+      }
       return f;
+    }
+    /// residual += f * gamma on the rows `outside`.
+    void update_residual(const Vector<Scalar>& f, const Eigen::Matrix<Scalar, 1, Eigen::Dynamic>& gamma) {
+      for (Index j : outside) residual.row(j) += f(j) * gamma;
     }
     void enter(Index col) {
       const Index a = static_cast<Index>(order.size());
       Vector<Scalar> g(a);  // Z_A^T z_col
       for (Index k = 0; k < a; ++k) g(k) = owner.column(col)(order[static_cast<std::size_t>(k)]);
-      const Vector<Scalar> pi = inverse * g;
+      const Vector<Scalar> pi = inverse() * g;
       const Vector<Scalar> f = projected_column(col, pi);
       const Scalar h = f(col);  // ||(I - P_A) z_col||^2
       const Eigen::Matrix<Scalar, 1, Eigen::Dynamic> gamma = residual.row(col) / h;
-      residual.noalias() -= f * gamma;
-      Matrix<Scalar> next_fit(a + 1, fit.cols());
-      next_fit.topRows(a) = fit - pi * gamma;
-      next_fit.row(a) = gamma;
-      Matrix<Scalar> next_inverse(a + 1, a + 1);
-      next_inverse.topLeftCorner(a, a) = inverse + pi * pi.transpose() / h;
-      next_inverse.topRightCorner(a, 1) = -pi / h;
-      next_inverse.bottomLeftCorner(1, a) = -pi.transpose() / h;
-      next_inverse(a, a) = Scalar(1) / h;
-      fit = std::move(next_fit);
-      inverse = std::move(next_inverse);
+      outside.erase(std::find(outside.begin(), outside.end(), col));
+      update_residual(-f, gamma);
+      residual.row(col).setZero();
+      fit_store.topRows(a).noalias() -= pi * gamma;
+      fit_store.row(a) = gamma;
+      const Vector<Scalar> scaled = pi / h;
+      inverse_store.topLeftCorner(a, a).noalias() += pi * scaled.transpose();
+      inverse_store.block(0, a, a, 1) = -scaled;
+      inverse_store.block(a, 0, 1, a) = -scaled.transpose();
+      inverse_store(a, a) = Scalar(1) / h;
       order.push_back(col);
     }
     void leave(Index col) {
@@ -721,7 +761,10 @@ class StepPolyhedron {
         if (k != i) keep.push_back(k);
       const Index b = a - 1;
       Vector<Scalar> pi(b);  // the fit of z_col on the others: -inverse_{-i,i} / inverse_ii
-      Matrix<Scalar> next_inverse(b, b), next_fit(b, fit.cols());
+      const auto inverse = this->inverse();
+      const auto fit = this->fit();
+      Matrix<Scalar> next_inverse(b, b);
+      RowMatrix next_fit(b, fit.cols());
       const Eigen::Matrix<Scalar, 1, Eigen::Dynamic> gamma = fit.row(i);
       for (Index r = 0; r < b; ++r) {
         const Index kr = keep[static_cast<std::size_t>(r)];
@@ -733,9 +776,10 @@ class StepPolyhedron {
       }
       for (Index r = 0; r < b; ++r) next_fit.row(r) = fit.row(keep[static_cast<std::size_t>(r)]) + pi(r) * gamma;
       order.erase(order.begin() + i);
-      inverse = std::move(next_inverse);
-      fit = std::move(next_fit);
-      residual.noalias() += projected_column(col, pi) * gamma;
+      inverse_store.topLeftCorner(b, b) = next_inverse;
+      fit_store.topRows(b) = next_fit;
+      outside.insert(std::lower_bound(outside.begin(), outside.end(), col), col);
+      update_residual(projected_column(col, pi), gamma);  // the row of col was 0
     }
   };
 
