@@ -263,6 +263,31 @@ bool streams_rows(const ModelArgs& args);
 LoadedTable read_in_blocks(const std::string& table, const ModelArgs& args, const Global& global,
                            const std::function<void(io::Table& block, const LoadedTable& loaded)>& take);
 
+/// One shard of a table: a whole table file, or piece `piece` (0-based) of
+/// `pieces` of one, cut at line breaks (io::table_piece).
+struct ShardSource {
+  std::string path;         ///< the file
+  std::size_t piece = 0;    ///< which piece (pieces > 0)
+  std::size_t pieces = 0;   ///< 0: the whole file
+  /// How the audit and the messages name it.
+  std::string name() const;
+};
+
+/// The shards of a command's TABLE arguments: each table, or the one table
+/// cut into `pieces` (--pieces; refused with several tables).
+std::vector<ShardSource> shard_sources(const std::vector<std::string>& tables, std::size_t pieces);
+
+/// The shards' sources as the reports name the table they make.
+std::string shards_source(const std::vector<ShardSource>& sources);
+
+/// read_in_blocks() over one shard. A piece after the first that fails is
+/// read again with its lines counted from the file's start, so that the
+/// error names the file's line: `restart()` is called before each reading
+/// (the caller forgets what `take` saw).
+LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, const Global& global,
+                           const std::function<void()>& restart,
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take);
+
 /// A table traced in double and in a higher precision (verify).
 template <class High>
 struct TracedTwice {
