@@ -17,6 +17,7 @@
 #include <vector>
 
 #include <CLI/CLI.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include <knotpath/io/report.hpp>
 #include <knotpath/io/roles.hpp>
@@ -279,6 +280,11 @@ std::vector<ShardSource> shard_sources(const std::vector<std::string>& tables, s
 
 /// The shards' sources as the reports name the table they make.
 std::string shards_source(const std::vector<ShardSource>& sources);
+
+/// Refuses (exit 3) a shard whose list `what` ("names", "predictors") in its
+/// record differs from the first shard's: the shards of a table must have
+/// the same columns. The records name their shard in "source".
+[[noreturn]] void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what);
 
 /// read_in_blocks() over one shard. A piece after the first that fails is
 /// read again with its lines counted from the file's start, so that the

@@ -538,20 +538,6 @@ std::vector<SufficientStatistics<double>> parts_in_order(ShardParts& shard, cons
   return out;
 }
 
-// The shards' records agree on the columns (the names read, the predictors
-// kept), as the shards of one table must.
-void check_like_first(const nlohmann::json& first, const nlohmann::json& record) {
-  for (const char* what : {"names", "predictors"})
-    if (record[what] != first[what])
-      throw failure(exit_bad_input,
-                    fmt::format("{}: its {} ({}) differ from those of {}, the first table ({}): the shards of a "
-                                "table must have the same columns",
-                                record["source"].get<std::string>(), what,
-                                quoted_names(record[what].get<std::vector<std::string>>()),
-                                first["source"].get<std::string>(),
-                                quoted_names(first[what].get<std::vector<std::string>>())));
-}
-
 }  // namespace
 
 bool select_reads_shards(const SelectArgs& args) { return args.tables.size() > 1 || args.model.pieces != 0; }
@@ -615,7 +601,8 @@ SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptio
     std::set<long long> labels;
     ResponseConstancy constancy;
     for (const auto& record : records) {
-      check_like_first(records.front(), record);
+      for (const char* what : {"names", "predictors"})
+        if (record[what] != records.front()[what]) refuse_unlike_shard(records.front(), record, what);
       for (long long f : record["folds"]) labels.insert(f);
       ResponseConstancy part;
       part.used = record["constancy"]["used"].get<Index>();

@@ -610,19 +610,6 @@ struct ShardSummary {
   long long predictors = 0;
 };
 
-// The first table's list differs from another's: shards must share columns.
-void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what) {
-  const auto list = [](const nlohmann::json& names) {
-    std::vector<std::string> items = names.get<std::vector<std::string>>();
-    return quoted_names(items);
-  };
-  throw failure(exit_bad_input,
-                fmt::format("{}: its {} ({}) differ from those of {}, the first table ({}): the shards of a "
-                            "table must have the same columns",
-                            shard["source"].get<std::string>(), what, list(shard[what]),
-                            first["source"].get<std::string>(), list(first[what])));
-}
-
 // Rank 0's reading of the gathered records: the error of the first shard
 // that failed (the same for any number of processes: each process stops at
 // its first failure, and shards are spread in order), shards whose columns
@@ -774,6 +761,18 @@ void add_reading_options(CLI::App& command, ModelArgs& args) {
 }
 
 bool streams_rows(const ModelArgs& args) { return !reads_whole(with_lists_split(args)); }
+
+void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what) {
+  const auto list = [](const nlohmann::json& names) {
+    std::vector<std::string> items = names.get<std::vector<std::string>>();
+    return quoted_names(items);
+  };
+  throw failure(exit_bad_input,
+                fmt::format("{}: its {} ({}) differ from those of {}, the first table ({}): the shards of a "
+                            "table must have the same columns",
+                            shard["source"].get<std::string>(), what, list(shard[what]),
+                            first["source"].get<std::string>(), list(first[what])));
+}
 
 std::string ShardSource::name() const {
   return pieces == 0 ? path : fmt::format("{} (piece {} of {})", path, piece + 1, pieces);
