@@ -499,3 +499,136 @@ TEST_F(Streaming, SelectInBlocksRefusesAFoldWhoseErrorNeedsItsRows) {
   const Outcome whole = run("select exact.csv --response y --read whole");
   EXPECT_EQ(whole.code, 0) << whole.err;
 }
+
+// ---- select over shards: several tables, --pieces ----
+
+namespace {
+
+// The selection of a select --json document: the choices and the curve
+// (what must be the same bits whoever reads the shards), without the data
+// part that names the files.
+nlohmann::json selection_of(const nlohmann::json& doc) {
+  nlohmann::json out = doc;
+  out.erase("path");
+  out.erase("audit_notes");
+  return out;
+}
+
+// Numbers of two JSON values equal to `tolerance` relative (strings, bools
+// and the shape exactly).
+void expect_close(const nlohmann::json& a, const nlohmann::json& b, double tolerance, const std::string& where) {
+  ASSERT_EQ(a.type(), b.type()) << where;
+  if (a.is_object()) {
+    ASSERT_EQ(a.size(), b.size()) << where;
+    for (auto it = a.begin(); it != a.end(); ++it) {
+      ASSERT_TRUE(b.contains(it.key())) << where << "/" << it.key();
+      expect_close(it.value(), b[it.key()], tolerance, where + "/" + it.key());
+    }
+  } else if (a.is_array()) {
+    ASSERT_EQ(a.size(), b.size()) << where;
+    for (std::size_t i = 0; i < a.size(); ++i) expect_close(a[i], b[i], tolerance, where + "/" + std::to_string(i));
+  } else if (a.is_number_float()) {
+    const double x = a.get<double>(), y = b.get<double>();
+    EXPECT_LE(std::abs(x - y), tolerance * std::max(1.0, std::abs(x))) << where;
+  } else {
+    EXPECT_EQ(a, b) << where;
+  }
+}
+
+}  // namespace
+
+// select over three shard files is select over the three pieces of the one
+// file cut at the same lines, byte for byte (the same rows, blocks and
+// merge tree), with a fold column (labels united over the shards) and with
+// seeded folds (drawn over all the rows in shard order, as for the one
+// table); and it agrees with the one table read whole to 1e-9 relative (the
+// parts merged in the shard tree round differently: common practice for a
+// reordered sum of well-conditioned data).
+TEST_F(Streaming, SelectOverShardsIsSelectOverThePiecesOfTheOneTable) {
+  write_fold_table(file("f.csv"), 3000);
+  const std::vector<std::string> parts = pieces_by_the_rule(slurp(file("f.csv")), 3);
+  for (std::size_t s = 0; s < parts.size(); ++s) std::ofstream(file(fmt::format("s{}.csv", s))) << parts[s];
+  for (const std::string model : {"--fold-column part --drop w", "--drop part,w --folds 5 --seed 3",
+                                  "--fold-column part --weights w --no-tests"}) {
+    SCOPED_TRACE(model);
+    const std::string ask = " --response y " + model + " --block-rows 200 --json s.json";
+    const Outcome files = run("select s0.csv s1.csv s2.csv" + ask);
+    ASSERT_EQ(files.code, 0) << files.err;
+    const nlohmann::json files_doc = nlohmann::json::parse(slurp(file("s.json")));
+    const Outcome pieces = run("select f.csv --pieces 3" + ask);
+    ASSERT_EQ(pieces.code, 0) << pieces.err;
+    const nlohmann::json pieces_doc = nlohmann::json::parse(slurp(file("s.json")));
+    EXPECT_EQ(selection_of(pieces_doc).dump(), selection_of(files_doc).dump());
+    EXPECT_EQ(pieces_doc["path"]["data"]["rows_read"], 3000);
+    EXPECT_EQ(pieces_doc["path"]["data"]["shards"][2], "f.csv (piece 3 of 3)");
+    const Outcome whole = run("select f.csv --read whole" + ask);
+    ASSERT_EQ(whole.code, 0) << whole.err;
+    expect_close(selection_of(files_doc), selection_of(nlohmann::json::parse(slurp(file("s.json")))), 1e-9, "");
+  }
+}
+
+// A fold label found in one shard only is the same fold as in the one
+// table (the shards' labels are united before the parts are merged).
+TEST_F(Streaming, SelectOverShardsUnitesTheFoldLabelsOfTheShards) {
+  write_fold_table(file("f.csv"), 2000);
+  const std::string text = slurp(file("f.csv"));
+  const std::size_t header_end = text.find('\n') + 1;
+  // Rows by label: shard 0 takes labels 2 and 9 (and the rows never held
+  // out), shard 1 labels 4 and 7: no shard holds every fold.
+  std::ofstream first(file("low.csv")), second(file("high.csv")), joined(file("joined.csv"));
+  for (auto* out : {&first, &second, &joined}) *out << text.substr(0, header_end);
+  std::string later;
+  for (std::size_t at = header_end; at < text.size();) {
+    const std::size_t end = text.find('\n', at);
+    const std::string line = text.substr(at, end - at + 1);
+    at = end + 1;
+    std::size_t field = 0;  // the sixth cell, "part"
+    for (int k = 0; k < 5; ++k) field = line.find(',', field) + 1;
+    const std::string label = line.substr(field, line.find(',', field) - field);
+    if (label == "4" || label == "7") {
+      second << line;
+      later += line;
+    } else {
+      first << line;
+      joined << line;
+    }
+  }
+  joined << later;
+  for (auto* out : {&first, &second, &joined}) out->close();
+  const std::string ask = " --response y --fold-column part --drop w --block-rows 150 --json s.json";
+  const Outcome shards = run("select low.csv high.csv" + ask);
+  ASSERT_EQ(shards.code, 0) << shards.err;
+  const nlohmann::json shards_doc = nlohmann::json::parse(slurp(file("s.json")));
+  const Outcome whole = run("select joined.csv --read whole" + ask);
+  ASSERT_EQ(whole.code, 0) << whole.err;
+  expect_close(selection_of(shards_doc), selection_of(nlohmann::json::parse(slurp(file("s.json")))), 1e-9, "");
+}
+
+// What select cannot do over shards is refused with the reason (usage,
+// status 2); a bad cell in the second shard is named by its file and line.
+TEST_F(Streaming, SelectOverShardsRefusesWhatItCannotDoAndNamesABadLine) {
+  write_fold_table(file("f.csv"), 600);
+  const std::vector<std::string> parts = pieces_by_the_rule(slurp(file("f.csv")), 2);
+  for (std::size_t s = 0; s < parts.size(); ++s) std::ofstream(file(fmt::format("s{}.csv", s))) << parts[s];
+  for (const auto& [options, reason] : std::vector<std::pair<std::string, std::string>>{
+           {"--leave-one-out", "leave-one-out needs"},
+           {"--repeats 2", "--repeats needs"},
+           {"--precision 50", "--precision parses"},
+           {"--read whole", "--read whole reads one table"}}) {
+    const Outcome refused = run("select s0.csv s1.csv --response y --drop part,w " + options);
+    EXPECT_EQ(refused.code, 2) << options << "\n" << refused.err;
+    EXPECT_NE(refused.err.find(reason), std::string::npos) << refused.err;
+  }
+  const Outcome piped = run("select - s1.csv --response y --drop part,w", file("s0.csv").string());
+  EXPECT_EQ(piped.code, 2) << piped.err;
+  EXPECT_NE(piped.err.find("standard input"), std::string::npos) << piped.err;
+  const Outcome cut_many = run("select s0.csv s1.csv --response y --drop part,w --pieces 2");
+  EXPECT_EQ(cut_many.code, 2) << cut_many.err;
+  std::ofstream(file("s1.csv"), std::ios::app) << "1,2,3,oops,5,2,1,6\n";
+  const std::size_t bad_line = static_cast<std::size_t>(std::count(parts[1].begin(), parts[1].end(), '\n')) + 1;
+  for (const std::string folds : {"--fold-column part --drop w", "--drop part,w --folds 3"}) {
+    const Outcome bad = run("select s0.csv s1.csv --response y " + folds);
+    EXPECT_EQ(bad.code, 3) << bad.err;
+    EXPECT_NE(bad.err.find(fmt::format("s1.csv, line {}, column 4", bad_line)), std::string::npos) << bad.err;
+  }
+}

@@ -17,6 +17,7 @@
 #include <vector>
 
 #include <CLI/CLI.hpp>
+#include <nlohmann/json_fwd.hpp>
 
 #include <knotpath/io/report.hpp>
 #include <knotpath/io/roles.hpp>
@@ -261,6 +262,36 @@ bool streams_rows(const ModelArgs& args);
 /// trace_table gives the table). Returns the table without values (names,
 /// counts, every row's line) with its context, as trace_table reads it.
 LoadedTable read_in_blocks(const std::string& table, const ModelArgs& args, const Global& global,
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take);
+
+/// One shard of a table: a whole table file, or piece `piece` (0-based) of
+/// `pieces` of one, cut at line breaks (io::table_piece).
+struct ShardSource {
+  std::string path;         ///< the file
+  std::size_t piece = 0;    ///< which piece (pieces > 0)
+  std::size_t pieces = 0;   ///< 0: the whole file
+  /// How the audit and the messages name it.
+  std::string name() const;
+};
+
+/// The shards of a command's TABLE arguments: each table, or the one table
+/// cut into `pieces` (--pieces; refused with several tables).
+std::vector<ShardSource> shard_sources(const std::vector<std::string>& tables, std::size_t pieces);
+
+/// The shards' sources as the reports name the table they make.
+std::string shards_source(const std::vector<ShardSource>& sources);
+
+/// Refuses (exit 3) a shard whose list `what` ("names", "predictors") in its
+/// record differs from the first shard's: the shards of a table must have
+/// the same columns. The records name their shard in "source".
+[[noreturn]] void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what);
+
+/// read_in_blocks() over one shard. A piece after the first that fails is
+/// read again with its lines counted from the file's start, so that the
+/// error names the file's line: `restart()` is called before each reading
+/// (the caller forgets what `take` saw).
+LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, const Global& global,
+                           const std::function<void()>& restart,
                            const std::function<void(io::Table& block, const LoadedTable& loaded)>& take);
 
 /// A table traced in double and in a higher precision (verify).

@@ -73,7 +73,7 @@ int main(int argc, char** argv) {
   route_dash_outputs(app);
   add_predict_command(app, global);
   for (CLI::App* command : app.get_subcommands({}))
-    if (command->get_name() != "trace" && command->get_name() != "at")
+    if (command->get_name() != "trace" && command->get_name() != "at" && command->get_name() != "select")
       command->preparse_callback(
           [name = command->get_name()](std::size_t) { Ranks::world().require_one_process(name); });
   try {

@@ -122,8 +122,8 @@ std::optional<SufficientStatistics<double>> Ranks::reduce(
 
 void Ranks::require_one_process(const std::string& command) const {
   if (size_ > 1)
-    throw failure(exit_usage, command + " runs in one process: under mpirun only trace and at read a table's "
-                                        "shards (run it without mpirun)");
+    throw failure(exit_usage, command + " runs in one process: under mpirun only trace, at and select read a "
+                                        "table's shards (run it without mpirun)");
 }
 
 }  // namespace knotpath::cli

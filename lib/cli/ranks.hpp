@@ -46,7 +46,7 @@ class Ranks {
       Index predictors) const;
 
   /// Refuses, on a run of several processes, a command that runs in one
-  /// (only trace and at read shards).
+  /// (only trace, at and select read shards).
   void require_one_process(const std::string& command) const;
 
  private:

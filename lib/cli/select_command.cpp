@@ -27,6 +27,7 @@
 
 #include "double_copy.hpp"
 #include "path_checks.hpp"
+#include "ranks.hpp"
 #include "report_folder.hpp"
 #include "saved_file.hpp"
 #include "select_data.hpp"
@@ -1258,9 +1259,13 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
   CLI::App* command = app.add_subcommand("select",
                                          "Choose a penalty by exact cross-validation, compare "
                                          "Cp/AIC/BIC, and test each entry of the path");
-  command->add_option("TABLE", args->table, "Delimited text table with a header row; - reads stdin")
+  command
+      ->add_option("TABLE", args->tables,
+                   "Delimited text table with a header row; - reads stdin. Several tables are read as the shards "
+                   "of one (the same columns), each in blocks into its folds' statistics")
       ->required();
   add_model_options(*command, args->model);
+  add_pieces_option(*command, args->model);
   auto* folds =
       command->add_option("--folds", args->folds, "Number of cross-validation folds (>= 2)")
           ->check(CLI::Range(std::size_t{2}, std::size_t{1000000}))
@@ -1331,7 +1336,14 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
       "Example:\n"
       "  knotpath select patients.csv --response progression --folds 10 --seed 7 --json "
       "selection.json "
-      "--report report\n");
+      "--report report\n"
+      "  knotpath select part1.csv part2.csv part3.csv --response progression --fold-column fold --json "
+      "selection.json\n"
+      "  mpirun -n 4 knotpath select patients.csv --pieces 8 --response progression --json selection.json\n"
+      "Several tables (or --pieces) are the shards of one: each is read in blocks into its folds' statistics and\n"
+      "the shards' statistics are merged in one fixed tree, so under mpirun (each process reading its own\n"
+      "shards) the choices are the same bits for any number of processes. Seeded folds are drawn over all the\n"
+      "rows in shard order (a first pass counts them), as for the one table of the same rows.\n");
   command->callback([args, &global] {
     const bool in_double = args->precision.precision == "double" && args->precision.digits == 0;
     if (!in_double) check_select_precision(*args);
@@ -1345,8 +1357,14 @@ CLI::App* add_select_command(CLI::App& app, Global& global) {
     } catch (const invalid_option& e) {
       throw failure(exit_usage, e.what());
     }
-    SelectData data = select_reads_blocks(*args, in_double) ? read_select_blocks(*args, cv, global)
-                                                             : read_select_data(*args, global, !in_double);
+    const bool shards = select_reads_shards(*args);
+    if (!shards) {
+      if (Ranks::world().rank() != 0) throw quiet_exit{0};  // one table: rank 0 reads it
+      args->table = args->tables.front();
+    }
+    SelectData data = shards                                  ? read_select_shards(*args, cv, global, in_double)
+                      : select_reads_blocks(*args, in_double) ? read_select_blocks(*args, cv, global)
+                                                              : read_select_data(*args, global, !in_double);
     cv.fold_of = data.fold_of;
     cv.threads = args->model.threads;  // --threads: the folds in parallel
     Selection s = in_double ? run_selection<double>(data, data.x, data.y, data.w, cv, args->noise_variance,

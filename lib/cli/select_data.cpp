@@ -7,10 +7,16 @@
 #include <algorithm>
 #include <cmath>
 #include <map>
+#include <functional>
 #include <set>
 
 #include <fmt/format.h>
 
+#include <nlohmann/json.hpp>
+
+#include <knotpath/shards.hpp>
+
+#include "ranks.hpp"
 #include "typed_trace.hpp"
 
 namespace knotpath::cli {
@@ -128,6 +134,13 @@ struct ResponseConstancy {
         constant = false;
     }
   }
+  // Adds the rows of the next shard (`other`), as if read after these.
+  void merge(const ResponseConstancy& other) {
+    if (other.used == 0) return;
+    constant = used == 0 ? other.constant : constant && other.constant && other.first == first;
+    if (used == 0) first = other.first;
+    used += other.used;
+  }
   void refuse(const SelectData& out, const std::string& response) const {
     if (out.options.with_intercept && used > 1 && constant)
       throw failure(exit_bad_input,
@@ -188,35 +201,56 @@ std::string needs_whole_table(const SelectArgs& args, bool in_double) {
   return {};
 }
 
-// Pass 1 for seeded folds: the rows kept and their weights, then the
-// assignment make_folds() draws for them (that of --read whole).
-std::vector<long> seeded_folds_of_table(const SelectArgs& args, const ModelArgs& model,
-                                        const CrossValidationOptions& cv, const Global& global) {
+// Pass 1 for seeded folds over one table or shard: the rows kept (those
+// --missing leaves) and their weights (empty: unweighted).
+struct CountedRows {
+  Index rows = 0;
+  Vector<double> weights;
+};
+
+CountedRows count_rows(const ShardSource& source, const ModelArgs& model, const Global& global) {
   Index rows = 0;
   std::vector<double> weights;
   bool weighted = false;
-  const LoadedTable table = read_in_blocks(args.table, model, global, [&](io::Table& block, const LoadedTable& loaded) {
-    rows += static_cast<Index>(block.rows);
-    weighted = loaded.columns.weights >= 0;
-    if (weighted) {
-      const Vector<double> w = block.column_vector(loaded.columns.weights);
-      weights.insert(weights.end(), w.data(), w.data() + w.size());
-    }
-  });
-  const Vector<double> w = weighted ? Vector<double>(Eigen::Map<const Vector<double>>(
-                                          weights.data(), static_cast<Index>(weights.size())))
-                                    : Vector<double>();
+  const auto restart = [&] {
+    rows = 0;
+    weights.clear();
+  };
+  const LoadedTable table =
+      read_in_blocks(source, model, global, restart, [&](io::Table& block, const LoadedTable& loaded) {
+        rows += static_cast<Index>(block.rows);
+        weighted = loaded.columns.weights >= 0;
+        if (weighted) {
+          const Vector<double> w = block.column_vector(loaded.columns.weights);
+          weights.insert(weights.end(), w.data(), w.data() + w.size());
+        }
+      });
+  CountedRows out;
+  out.rows = rows;
+  if (weighted) out.weights = Eigen::Map<const Vector<double>>(weights.data(), static_cast<Index>(weights.size()));
   // A bad weight is the data's fault, named by its line, before the folds
   // are drawn from the weights (the library's rule, as the whole reading
   // reports it: regression test BadInput.RowProblemsNameTheLineOfTheFile).
   if (weighted)
     with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
-                       [&] { (void)detail::used_rows<double>(w, rows, TraceOptions{}); });
+                       [&] { (void)detail::used_rows<double>(out.weights, rows, TraceOptions{}); });
+  return out;
+}
+
+// The assignment make_folds() draws for `rows` rows of these weights (that
+// of --read whole).
+std::vector<long> drawn_folds(Index rows, const CrossValidationOptions& cv, const Vector<double>& weights) {
   try {
-    return make_folds<double>(rows, cv, w);
+    return make_folds<double>(rows, cv, weights);
   } catch (const invalid_option& e) {
     throw failure(exit_usage, e.what());
   }
+}
+
+std::vector<long> seeded_folds_of_table(const SelectArgs& args, const ModelArgs& model,
+                                        const CrossValidationOptions& cv, const Global& global) {
+  const CountedRows counted = count_rows(ShardSource{args.table}, model, global);
+  return drawn_folds(counted.rows, cv, counted.weights);
 }
 
 // A block kept until the reading streams (or to the end): its data, fold
@@ -265,8 +299,10 @@ class SelectBlocks {
     }
   }
 
-  // After the last block: the select data, streamed (parts) or kept (x, y, w).
-  SelectData finish(LoadedTable& loaded) {
+  // After the last block: the select data, streamed (parts) or kept (x, y,
+  // w). `whole`: the table is all the rows (a shard's constant response is
+  // refused only once the shards are merged, ResponseConstancy::merge).
+  SelectData finish(LoadedTable& loaded, bool whole = true) {
     SelectData out;
     out.shown_name = loaded.shown_name;
     out.row_lines = loaded.table.row_lines;
@@ -275,7 +311,7 @@ class SelectBlocks {
     out.context = std::move(loaded.context);
     io::ColumnAssignment columns = loaded.columns;
     if (fold_at_ >= 0) take_fold_column_out(out, columns, fold_at_);
-    constancy_.refuse(out, args_.model.response);
+    if (whole) constancy_.refuse(out, args_.model.response);
     if (stream_) {
       out.parts = with_data_messages(out.shown_name, out.context.predictor_names, out.row_lines,
                                      [&] { return stream_->finish(); });
@@ -285,6 +321,11 @@ class SelectBlocks {
     join_kept(out);
     return out;
   }
+
+  // The responses of the rows of positive weight read.
+  const ResponseConstancy& constancy() const { return constancy_; }
+  // The fold numbers >= 0 of the rows streamed: the parts' folds, in order.
+  const std::set<long>& folds_streamed() const { return folds_streamed_; }
 
  private:
   void begin(const io::Table& block, const LoadedTable& loaded) {
@@ -312,6 +353,8 @@ class SelectBlocks {
     for (std::size_t i = 0; i < m; ++i)
       folds[i] = fold_at_ >= 0 ? (piece.labels[i] >= 0 ? static_cast<long>(piece.labels[i]) : -1L)
                                : seeded_[piece.first_row + i];
+    for (long f : folds)
+      if (f >= 0) folds_streamed_.insert(f);
     with_data_messages(loaded.shown_name, data_columns_.names, piece.lines, [&] {
       stream_->add(piece.data.x, piece.data.y, piece.data.w, folds);
       return 0;
@@ -351,10 +394,263 @@ class SelectBlocks {
   std::optional<FoldStatisticsAccumulator<double>> stream_;
   ResponseConstancy constancy_;
   std::set<double> labels_seen_;  // fold labels >= 0 of kept_'s blocks (until the reading streams)
+  std::set<long> folds_streamed_;  // fold numbers >= 0 given to stream_
   std::size_t rows_ = 0;
 };
 
+// ---- select over shards: several tables, --pieces, the ranks of an MPI job ----
+//
+// Each shard is read in blocks by the process that owns it (shard_owner)
+// into its own FoldParts (SelectBlocks, streaming from the first block).
+// Every part (the full statistics, each fold, the rows never held out) is
+// then merged over the shard tree of shards.hpp (Ranks::reduce, one
+// reduction per part, in that order), so the merged parts, and the whole
+// selection, are the same bits for any number of processes.
+//
+// Fold numbers must mean the same in every shard before the merge. A fold
+// column: each shard streams its rows with the label itself as fold number
+// (FoldStatisticsAccumulator keeps its parts in ascending label order) and
+// reports the labels it saw; rank 0 unites them, and every shard puts its
+// parts at their label's place among the united labels (an empty part for a
+// label it lacks): the folds folds_from_column() numbers on the one table.
+// Seeded folds: a first pass counts every shard's rows and which weigh
+// more than 0, rank 0 draws make_folds() over all of them in shard order
+// (the assignment of the one table of the same rows) and every process
+// receives it (8 bytes a row), each shard streaming with its slice.
+//
+// Every step that may fail on a shard is a record gathered on rank 0; rank
+// 0 decides for all (the first failure in shard order stops every process
+// with its message and status, decide_for_all()).
+
+// `step(s)` for each shard this process owns, in order, stopping at its
+// first failure; the records (the step's, or the failure's "error" and
+// "code") gathered on rank 0 in shard order (empty elsewhere).
+std::vector<nlohmann::json> gather_shard_steps(const Ranks& ranks, std::size_t count,
+                                               const std::function<nlohmann::json(std::size_t)>& step) {
+  nlohmann::json records = nlohmann::json::array();
+  for (std::size_t s = 0; s < count; ++s) {
+    if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
+    try {
+      nlohmann::json record = step(s);
+      record["index"] = s;
+      records.push_back(std::move(record));
+    } catch (...) {
+      const ErrorOutcome error = error_outcome(std::current_exception());
+      records.push_back({{"index", s}, {"error", error.message}, {"code", error.code}});
+      break;  // this process reads no further shard
+    }
+  }
+  const std::vector<std::string> texts = ranks.gather(records.dump());
+  std::vector<nlohmann::json> out;
+  if (ranks.rank() != 0) return out;
+  out.resize(count);
+  for (const auto& text : texts)
+    for (auto& record : nlohmann::json::parse(text)) {
+      const auto index = record["index"].get<std::size_t>();  // before the move (C++17 evaluates it first)
+      out.at(index) = std::move(record);
+    }
+  return out;
+}
+
+// Rank 0 decides from the records: the first failure in shard order (a
+// missing record follows an earlier failure of its process, which owns a
+// run of shards), else `decide()`'s values or refusal. Every process gets
+// the values; a failure ends rank 0 with it and the others quietly with its
+// status.
+std::vector<long long> decide_for_all(const Ranks& ranks, const std::vector<nlohmann::json>& records,
+                                      const std::function<std::vector<long long>()>& decide) {
+  ErrorOutcome verdict;
+  std::vector<long long> values;
+  if (ranks.rank() == 0) {
+    try {
+      for (const auto& record : records)
+        if (!record.is_null() && record.contains("error"))
+          throw failure(static_cast<ExitCode>(record["code"].get<int>()), record["error"].get<std::string>());
+      for (const auto& record : records)
+        if (record.is_null()) throw failure(exit_internal, "internal error: a shard was read by no process");
+      values = decide();
+    } catch (...) {
+      verdict = error_outcome(std::current_exception());
+    }
+  }
+  const std::vector<long long> head = ranks.broadcast({verdict.code, static_cast<long long>(values.size())});
+  if (head[0] != 0) {
+    if (ranks.rank() == 0) throw failure(static_cast<ExitCode>(verdict.code), verdict.message);
+    throw quiet_exit{static_cast<int>(head[0])};
+  }
+  values.resize(static_cast<std::size_t>(head[1]));
+  return ranks.broadcast(std::move(values));
+}
+
+// Seeded folds over shards: [offsets of the S shards' first rows and the
+// total (S + 1 values), then the fold of every row] on every process.
+std::vector<long long> seeded_folds_of_shards(const std::vector<ShardSource>& sources, const ModelArgs& model,
+                                              const CrossValidationOptions& cv, const Global& global) {
+  const Ranks& ranks = Ranks::world();
+  const auto records = gather_shard_steps(ranks, sources.size(), [&](std::size_t s) {
+    const CountedRows counted = count_rows(sources[s], model, global);
+    std::string usable;  // '1' a row of positive weight, '0' another (empty: unweighted)
+    for (Index i = 0; i < counted.weights.size(); ++i) usable += counted.weights(i) > 0 ? '1' : '0';
+    return nlohmann::json{{"rows", counted.rows}, {"usable", usable}};
+  });
+  return decide_for_all(ranks, records, [&] {
+    std::vector<long long> out{0};
+    bool weighted = false;
+    for (const auto& record : records) {
+      out.push_back(out.back() + record["rows"].get<long long>());
+      weighted = weighted || !record["usable"].get<std::string>().empty();
+    }
+    const Index rows = static_cast<Index>(out.back());
+    Vector<double> weights(weighted ? rows : 0);
+    if (weighted)
+      for (std::size_t s = 0; s < records.size(); ++s) {
+        const std::string usable = records[s]["usable"].get<std::string>();
+        for (Index i = 0; i < out[s + 1] - out[s]; ++i)
+          weights(out[s] + i) = usable.empty() || usable[static_cast<std::size_t>(i)] == '1' ? 1.0 : 0.0;
+      }
+    for (long f : drawn_folds(rows, cv, weights)) out.push_back(f);
+    return out;
+  });
+}
+
+// One shard's parts as this process read them, with the fold numbers of
+// its folds (ascending, parts.folds' order).
+struct ShardParts {
+  FoldParts<double> parts;
+  std::vector<long> folds;
+};
+
+// A shard's parts spread over the K folds of the united `labels`: the full
+// statistics, fold 0..K-1 (empty where the shard has no row of it), the
+// rows never held out: K + 2 parts, the order of the reductions.
+std::vector<SufficientStatistics<double>> parts_in_order(ShardParts& shard, const std::vector<long long>& labels,
+                                                         Index p) {
+  std::vector<SufficientStatistics<double>> out;
+  out.push_back(std::move(*shard.parts.full));
+  std::size_t next = 0;
+  for (long long label : labels) {
+    if (next < shard.folds.size() && shard.folds[next] == label)
+      out.push_back(std::move(shard.parts.folds[next++]));
+    else
+      out.push_back(SufficientStatistics<double>::empty(p));
+  }
+  out.push_back(std::move(shard.parts.never_held_out));
+  return out;
+}
+
 }  // namespace
+
+bool select_reads_shards(const SelectArgs& args) { return args.tables.size() > 1 || args.model.pieces != 0; }
+
+SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptions& cv, const Global& global,
+                              bool in_double) {
+  const std::vector<ShardSource> sources = shard_sources(args.tables, args.model.pieces);
+  const char* what = args.model.pieces != 0 ? "the pieces of one table" : "several tables (shards)";
+  if (args.model.reading == "whole")
+    throw failure(exit_usage, fmt::format("select reads {} in blocks into each fold's statistics: --read whole "
+                                          "reads one table as one",
+                                          what));
+  if (!streams_rows(select_model_args(args)))
+    throw failure(exit_usage, fmt::format("select cannot expand --indicators over {}: a text column's levels would "
+                                          "have to agree across them (read one table with --read whole)",
+                                          what));
+  for (const auto& source : sources)
+    if (source.path == "-")
+      throw failure(exit_usage, "standard input (-) cannot be a shard of select (give files)");
+  if (const std::string reason = needs_whole_table(args, in_double); !reason.empty())
+    throw failure(exit_usage, fmt::format("select over {}: {} (select one table with --read whole)", what, reason));
+
+  const ModelArgs model = select_model_args(args);
+  const Ranks& ranks = Ranks::world();
+  const std::size_t count = sources.size();
+  const std::vector<long long> seeded = args.fold_column.empty() ? seeded_folds_of_shards(sources, model, cv, global)
+                                                                 : std::vector<long long>();
+
+  // Pass 2 (the one pass of a fold column): each shard into its parts.
+  std::vector<std::pair<std::size_t, ShardParts>> mine;
+  std::optional<SelectData> first;  // shard 0's data (context, options), on rank 0
+  const auto records = gather_shard_steps(ranks, count, [&](std::size_t s) {
+    std::vector<long> slice;
+    if (!seeded.empty())
+      for (long long i = seeded[s]; i < seeded[s + 1]; ++i)
+        slice.push_back(static_cast<long>(seeded[count + 1 + static_cast<std::size_t>(i)]));
+    std::optional<SelectBlocks> blocks;
+    LoadedTable loaded = read_in_blocks(
+        sources[s], model, global, [&] { blocks.emplace(args, true, slice); },
+        [&](io::Table& block, const LoadedTable& l) { blocks->take(block, l); });
+    if (loaded.table.rows == 0) throw failure(exit_bad_input, sources[s].name() + ": the table holds no data row");
+    SelectData data = blocks->finish(loaded, false);
+    const ResponseConstancy& constancy = blocks->constancy();
+    const std::set<long>& folds = blocks->folds_streamed();
+    nlohmann::json record{{"source", sources[s].name()},
+                          {"rows", loaded.table.rows},
+                          {"dropped", loaded.table.dropped_rows},
+                          {"names", loaded.table.names},
+                          {"predictors", data.context.predictor_names},
+                          {"folds", folds},
+                          {"observations", data.parts->observations},
+                          {"constancy", {{"used", constancy.used}, {"constant", constancy.constant},
+                                         {"first", constancy.first}}}};
+    mine.emplace_back(s, ShardParts{std::move(*data.parts), {folds.begin(), folds.end()}});
+    data.parts.reset();
+    if (s == 0) first = std::move(data);
+    return record;
+  });
+  // Rank 0: [p, K, the united fold numbers] for every process.
+  const std::vector<long long> united = decide_for_all(ranks, records, [&] {
+    std::set<long long> labels;
+    ResponseConstancy constancy;
+    for (const auto& record : records) {
+      for (const char* what : {"names", "predictors"})
+        if (record[what] != records.front()[what]) refuse_unlike_shard(records.front(), record, what);
+      for (long long f : record["folds"]) labels.insert(f);
+      ResponseConstancy part;
+      part.used = record["constancy"]["used"].get<Index>();
+      part.constant = record["constancy"]["constant"].get<bool>();
+      part.first = record["constancy"]["first"].get<double>();
+      constancy.merge(part);
+    }
+    first->shown_name = shards_source(sources);
+    constancy.refuse(*first, args.model.response);
+    std::vector<long long> out{static_cast<long long>(records.front()["predictors"].size()),
+                               static_cast<long long>(labels.size())};
+    out.insert(out.end(), labels.begin(), labels.end());
+    return out;
+  });
+  const Index p = static_cast<Index>(united[0]);
+  const std::vector<long long> labels(united.begin() + 2, united.end());
+
+  // The K + 2 parts merged, part by part, over the shard tree.
+  std::vector<std::vector<SufficientStatistics<double>>> ordered;
+  for (auto& [s, shard] : mine) ordered.push_back(parts_in_order(shard, labels, p));
+  std::vector<std::optional<SufficientStatistics<double>>> merged;
+  for (std::size_t j = 0; j < labels.size() + 2; ++j) {
+    std::vector<std::pair<std::size_t, SufficientStatistics<double>>> part;
+    for (std::size_t m = 0; m < mine.size(); ++m) part.emplace_back(mine[m].first, std::move(ordered[m][j]));
+    merged.push_back(ranks.reduce(std::move(part), count, p));
+  }
+  if (ranks.rank() != 0) throw quiet_exit{0};
+
+  SelectData out = std::move(*first);
+  FoldParts<double> parts;
+  parts.full = std::move(*merged.front());
+  for (std::size_t j = 1; j <= labels.size(); ++j) parts.folds.push_back(std::move(*merged[j]));
+  parts.never_held_out = std::move(*merged.back());
+  std::size_t rows = 0, dropped = 0;
+  for (const auto& record : records) {
+    parts.observations += record["observations"].get<Index>();
+    rows += record["rows"].get<std::size_t>();
+    dropped += record["dropped"].get<std::size_t>();
+  }
+  out.parts = std::move(parts);
+  out.context.source = out.shown_name;
+  out.context.rows_read = rows;
+  out.context.rows_dropped = dropped;
+  out.context.block_rows = args.model.block_rows;
+  for (const auto& source : sources) out.context.shards.push_back(source.name());
+  out.row_lines = io::RowLines();  // no row is kept: the parts name none
+  return out;
+}
 
 SelectData read_select_data(const SelectArgs& args, const Global& global, bool keep_text) {
   const ModelArgs model = select_model_args(args);

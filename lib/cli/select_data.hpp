@@ -19,7 +19,8 @@ namespace knotpath::cli {
 
 /// The arguments of `knotpath select` (add_select_command() fills them).
 struct SelectArgs {
-  std::string table;
+  std::vector<std::string> tables;  // TABLE: one, or the shards of one
+  std::string table;                // the one table (tables' only one)
   ModelArgs model;
   std::size_t folds = 10;
   bool leave_one_out = false;
@@ -69,5 +70,18 @@ bool select_reads_blocks(const SelectArgs& args, bool in_double);
 /// once the table qualifies (or at once for --read blocks), else its rows
 /// kept and joined as read_select_data() gives them.
 SelectData read_select_blocks(const SelectArgs& args, const CrossValidationOptions& cv, const Global& global);
+
+/// Whether select reads its tables as shards: several tables, or --pieces.
+bool select_reads_shards(const SelectArgs& args);
+
+/// select over shards (several tables, or one cut into --pieces; under an
+/// MPI job each process reads its own): each shard read in blocks into its
+/// folds' statistics, the parts merged over the shard tree (shards.hpp),
+/// the same bits for any number of processes. Returns the data (parts set)
+/// on rank 0; the other processes end with quiet_exit. Refuses (exit 2)
+/// --read whole, --indicators, --leave-one-out, --repeats, --precision other
+/// than double (`in_double` false) and standard input.
+SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptions& cv, const Global& global,
+                              bool in_double);
 
 }  // namespace knotpath::cli

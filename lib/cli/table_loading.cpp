@@ -528,18 +528,37 @@ TracedTable trace_in_blocks(const std::string& table_path, const ReadPlan& plan,
 
 // ---- Shards: several tables, pieces of one, or the processes of an MPI job ----
 
-// One shard: a whole table file, or piece `piece` of `pieces` of one
-// (io::table_piece: cut at line breaks).
-struct ShardSource {
-  std::string path;
-  std::size_t piece = 0;
-  std::size_t pieces = 0;  // 0: the whole file
+// The bytes of a piece of a table (io::table_piece), refused when it holds
+// no line.
+io::TablePiece find_piece(const ShardSource& source, const io::TableReadOptions& read) {
+  io::TablePiece piece = io::table_piece(source.path, source.piece, source.pieces, read);
+  if (piece.begin == piece.end)
+    throw failure(exit_usage, fmt::format("{}: piece {} of {} holds no line (the table has too few data lines "
+                                          "for {} pieces): ask for fewer --pieces",
+                                          source.path, source.piece + 1, source.pieces, source.pieces));
+  return piece;
+}
 
-  // How the audit and the messages name it.
-  std::string name() const {
-    return pieces == 0 ? path : fmt::format("{} (piece {} of {})", path, piece + 1, pieces);
+// `read(piece, lines_before)` reads a shard; for a piece after the first
+// that fails, the same piece is read again with its lines counted from the
+// file's start: the reading stops at the same place with the same error,
+// now naming the file's line (counting costs a pass over the earlier
+// pieces' bytes, so only a failure pays it). `piece` holds the piece's
+// bytes once found, so that the second reading does not cut again.
+template <class Read>
+auto read_naming_lines(const ShardSource& source, Read read) {
+  std::optional<io::TablePiece> piece;
+  try {
+    return read(piece, std::size_t{0});
+  } catch (const failure&) {
+    throw;  // the CLI's own refusals name no line
+  } catch (...) {
+    // A whole file, the first piece (its lines are the file's) or a failure
+    // before the piece was found (no line of it was read) has nothing to renumber.
+    if (source.pieces == 0 || source.piece == 0 || !piece) throw;
   }
-};
+  return read(piece, io::lines_before_piece(source.path, *piece));
+}
 
 // One table read by this process as a shard: its statistics (every row
 // streamed, block by block) and the record rank 0 needs besides them.
@@ -561,11 +580,7 @@ ShardRead read_shard(const ShardSource& source, const ReadPlan& plan, const Glob
   if (source.pieces == 0) {
     loaded.table = io::read_table_blocks(path, read, plan.args.block_rows, take);
   } else {
-    if (!piece) piece = io::table_piece(path, source.piece, source.pieces, read);
-    if (piece->begin == piece->end)
-      throw failure(exit_usage, fmt::format("{}: piece {} of {} holds no line (the table has too few data lines "
-                                            "for {} pieces): ask for fewer --pieces",
-                                            path, source.piece + 1, source.pieces, source.pieces));
+    if (!piece) piece = find_piece(source, read);
     loaded.table = io::read_table_piece_blocks(path, *piece, lines_before, read, plan.args.block_rows, take);
     loaded.table.source = source.name();
   }
@@ -594,33 +609,6 @@ struct ShardSummary {
   ResponseSpread spread;
   long long predictors = 0;
 };
-
-// The first table's list differs from another's: shards must share columns.
-void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what) {
-  const auto list = [](const nlohmann::json& names) {
-    std::vector<std::string> items = names.get<std::vector<std::string>>();
-    return quoted_names(items);
-  };
-  throw failure(exit_bad_input,
-                fmt::format("{}: its {} ({}) differ from those of {}, the first table ({}): the shards of a "
-                            "table must have the same columns",
-                            shard["source"].get<std::string>(), what, list(shard[what]),
-                            first["source"].get<std::string>(), list(first[what])));
-}
-
-// The shards' sources as the reports name the table they make.
-std::string shards_source(const std::vector<ShardSource>& sources) {
-  if (sources.front().pieces != 0) return fmt::format("{} ({} pieces)", sources.front().path, sources.size());
-  std::string list;
-  for (std::size_t s = 0; s < sources.size(); ++s) {
-    if (sources.size() > 4 && s == 2) {
-      list += ", ...";
-      s = sources.size() - 1;
-    }
-    list += (list.empty() ? "" : ", ") + sources[s].path;
-  }
-  return fmt::format("{} ({} shards)", list, sources.size());
-}
 
 // Rank 0's reading of the gathered records: the error of the first shard
 // that failed (the same for any number of processes: each process stops at
@@ -672,23 +660,11 @@ ShardSummary summarise_shards(const std::vector<std::string>& texts, const std::
 // process with its message and status), the statistics are merged in the
 // shard tree (the same bits for any number of processes), and rank 0
 // traces; the other processes end quietly (quiet_exit).
-// read_shard(), and for a piece after the first that fails, the same piece
-// read again with its lines counted from the file's start: the reading
-// stops at the same place with the same error, now naming the file's line
-// (counting costs a pass over the earlier pieces' bytes, so only a failure
-// pays it).
+// read_shard(), a failed piece's lines named as in the file (read_naming_lines).
 ShardRead read_shard_named(const ShardSource& source, const ReadPlan& plan, const Global& global) {
-  std::optional<io::TablePiece> piece;
-  try {
-    return read_shard(source, plan, global, piece);
-  } catch (const failure&) {
-    throw;  // the CLI's own refusals name no line
-  } catch (...) {
-    // A whole file, the first piece (its lines are the file's) or a failure
-    // before the piece was found (no line of it was read) has nothing to renumber.
-    if (source.pieces == 0 || source.piece == 0 || !piece) throw;
-  }
-  return read_shard(source, plan, global, piece, io::lines_before_piece(source.path, *piece));
+  return read_naming_lines(source, [&](std::optional<io::TablePiece>& piece, std::size_t lines_before) {
+    return read_shard(source, plan, global, piece, lines_before);
+  });
 }
 
 TracedTable trace_shards(const std::vector<ShardSource>& sources, const ReadPlan& plan, const Global& global) {
@@ -786,23 +762,81 @@ void add_reading_options(CLI::App& command, ModelArgs& args) {
 
 bool streams_rows(const ModelArgs& args) { return !reads_whole(with_lists_split(args)); }
 
-LoadedTable read_in_blocks(const std::string& table_path, const ModelArgs& args, const Global& global,
+void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what) {
+  const auto list = [](const nlohmann::json& names) {
+    std::vector<std::string> items = names.get<std::vector<std::string>>();
+    return quoted_names(items);
+  };
+  throw failure(exit_bad_input,
+                fmt::format("{}: its {} ({}) differ from those of {}, the first table ({}): the shards of a "
+                            "table must have the same columns",
+                            shard["source"].get<std::string>(), what, list(shard[what]),
+                            first["source"].get<std::string>(), list(first[what])));
+}
+
+std::string ShardSource::name() const {
+  return pieces == 0 ? path : fmt::format("{} (piece {} of {})", path, piece + 1, pieces);
+}
+
+std::string shards_source(const std::vector<ShardSource>& sources) {
+  if (sources.front().pieces != 0) return fmt::format("{} ({} pieces)", sources.front().path, sources.size());
+  std::string list;
+  for (std::size_t s = 0; s < sources.size(); ++s) {
+    if (sources.size() > 4 && s == 2) {
+      list += ", ...";
+      s = sources.size() - 1;
+    }
+    list += (list.empty() ? "" : ", ") + sources[s].path;
+  }
+  return fmt::format("{} ({} shards)", list, sources.size());
+}
+
+std::vector<ShardSource> shard_sources(const std::vector<std::string>& tables, std::size_t pieces) {
+  std::vector<ShardSource> sources;
+  if (pieces != 0) {
+    if (tables.size() != 1)
+      throw failure(exit_usage, "--pieces cuts one table; several tables are already the shards of one");
+    for (std::size_t i = 0; i < pieces; ++i) sources.push_back({tables.front(), i, pieces});
+  } else {
+    for (const auto& table : tables) sources.push_back({table});
+  }
+  return sources;
+}
+
+LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, const Global& global,
+                           const std::function<void()>& restart,
                            const std::function<void(io::Table& block, const LoadedTable& loaded)>& take) {
   const ReadPlan plan = plan_reading(args, false);
-  LoadedTable loaded;
-  const io::TableReadOptions read = start_reading(loaded, table_path, plan.read, global);
-  bool begun = false;
-  loaded.table = io::read_table_blocks(table_path, read, plan.args.block_rows, [&](io::Table& block) {
-    if (!begun) {  // the first block names the columns, as BlockReading::begin
-      loaded.columns = assigned_columns(block, plan.roles);
-      loaded.options = trace_options(plan.args, plan.scales, loaded.columns.names);
-      loaded.context.predictor_names = loaded.columns.names;
-      begun = true;
+  return read_naming_lines(source, [&](std::optional<io::TablePiece>& piece, std::size_t lines_before) {
+    restart();
+    LoadedTable loaded;
+    const io::TableReadOptions read = start_reading(loaded, source.path, plan.read, global);
+    bool begun = false;
+    const auto on_block = [&](io::Table& block) {
+      if (!begun) {  // the first block names the columns, as BlockReading::begin
+        loaded.columns = assigned_columns(block, plan.roles);
+        loaded.options = trace_options(plan.args, plan.scales, loaded.columns.names);
+        loaded.context.predictor_names = loaded.columns.names;
+        begun = true;
+      }
+      take(block, loaded);
+    };
+    if (source.pieces == 0) {
+      loaded.table = io::read_table_blocks(source.path, read, plan.args.block_rows, on_block);
+    } else {
+      if (!piece) piece = find_piece(source, read);
+      loaded.table = io::read_table_piece_blocks(source.path, *piece, lines_before, read, plan.args.block_rows,
+                                                 on_block);
+      loaded.table.source = source.name();
     }
-    take(block, loaded);
+    describe_columns(loaded, plan.roles);  // the context of the reader's whole table
+    return loaded;
   });
-  describe_columns(loaded, plan.roles);  // the context of the reader's whole table
-  return loaded;
+}
+
+LoadedTable read_in_blocks(const std::string& table_path, const ModelArgs& args, const Global& global,
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take) {
+  return read_in_blocks(ShardSource{table_path}, args, global, [] {}, take);
 }
 
 LoadedTable load_table(const std::string& table_path, const ModelArgs& given,
@@ -869,18 +903,11 @@ void add_pieces_option(CLI::App& command, ModelArgs& args) {
 }
 
 TracedTable trace_tables(const std::vector<std::string>& tables, const ModelArgs& args, const Global& global) {
-  std::vector<ShardSource> sources;
-  if (args.pieces != 0) {
-    if (tables.size() != 1)
-      throw failure(exit_usage, "--pieces cuts one table; several tables are already the shards of one");
-    for (std::size_t i = 0; i < args.pieces; ++i) sources.push_back({tables.front(), i, args.pieces});
-  } else if (tables.size() == 1) {
+  if (args.pieces == 0 && tables.size() == 1) {
     if (Ranks::world().rank() != 0) throw quiet_exit{0};  // one table: rank 0 reads it
     return trace_table(tables.front(), args, global);
-  } else {
-    for (const auto& table : tables) sources.push_back({table});
   }
-  return trace_shards(sources, plan_reading(args, false), global);
+  return trace_shards(shard_sources(tables, args.pieces), plan_reading(args, false), global);
 }
 
 }  // namespace knotpath::cli
