@@ -538,13 +538,8 @@ std::vector<SufficientStatistics<double>> parts_in_order(ShardParts& shard, cons
   return out;
 }
 
-}  // namespace
-
-bool select_reads_shards(const SelectArgs& args) { return args.tables.size() > 1 || args.model.pieces != 0; }
-
-SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptions& cv, const Global& global,
-                              bool in_double) {
-  const std::vector<ShardSource> sources = shard_sources(args.tables, args.model.pieces);
+// The refusals of select over shards (exit 2, with the reason).
+void refuse_what_shards_cannot_do(const SelectArgs& args, const std::vector<ShardSource>& sources, bool in_double) {
   const char* what = args.model.pieces != 0 ? "the pieces of one table" : "several tables (shards)";
   if (args.model.reading == "whole")
     throw failure(exit_usage, fmt::format("select reads {} in blocks into each fold's statistics: --read whole "
@@ -559,17 +554,23 @@ SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptio
       throw failure(exit_usage, "standard input (-) cannot be a shard of select (give files)");
   if (const std::string reason = needs_whole_table(args, in_double); !reason.empty())
     throw failure(exit_usage, fmt::format("select over {}: {} (select one table with --read whole)", what, reason));
+}
 
-  const ModelArgs model = select_model_args(args);
-  const Ranks& ranks = Ranks::world();
-  const std::size_t count = sources.size();
-  const std::vector<long long> seeded = args.fold_column.empty() ? seeded_folds_of_shards(sources, model, cv, global)
-                                                                 : std::vector<long long>();
-
-  // Pass 2 (the one pass of a fold column): each shard into its parts.
+// Pass 2 (the one pass of a fold column): the shards this process owns,
+// each into its parts (`mine`, with the shard's index; shard 0's data, its
+// context and options, in `first`, on rank 0), and every shard's record
+// on rank 0 (gather_shard_steps).
+struct ReadShards {
   std::vector<std::pair<std::size_t, ShardParts>> mine;
-  std::optional<SelectData> first;  // shard 0's data (context, options), on rank 0
-  const auto records = gather_shard_steps(ranks, count, [&](std::size_t s) {
+  std::optional<SelectData> first;
+  std::vector<nlohmann::json> records;
+};
+
+ReadShards read_shard_parts(const SelectArgs& args, const std::vector<ShardSource>& sources, const ModelArgs& model,
+                            const std::vector<long long>& seeded, const Global& global) {
+  const std::size_t count = sources.size();
+  ReadShards out;
+  out.records = gather_shard_steps(Ranks::world(), count, [&](std::size_t s) {
     std::vector<long> slice;
     if (!seeded.empty())
       for (long long i = seeded[s]; i < seeded[s + 1]; ++i)
@@ -591,13 +592,21 @@ SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptio
                           {"observations", data.parts->observations},
                           {"constancy", {{"used", constancy.used}, {"constant", constancy.constant},
                                          {"first", constancy.first}}}};
-    mine.emplace_back(s, ShardParts{std::move(*data.parts), {folds.begin(), folds.end()}});
+    out.mine.emplace_back(s, ShardParts{std::move(*data.parts), {folds.begin(), folds.end()}});
     data.parts.reset();
-    if (s == 0) first = std::move(data);
+    if (s == 0) out.first = std::move(data);
     return record;
   });
-  // Rank 0: [p, K, the united fold numbers] for every process.
-  const std::vector<long long> united = decide_for_all(ranks, records, [&] {
+  return out;
+}
+
+// Rank 0 checks the shards' records (the same columns; the response not
+// constant over all of them) and unites their fold numbers; every process
+// gets [p, K, the united fold numbers] (decide_for_all).
+std::vector<long long> unite_shards(const std::vector<ShardSource>& sources, ReadShards& read,
+                                    const std::string& response) {
+  const auto& records = read.records;
+  return decide_for_all(Ranks::world(), records, [&] {
     std::set<long long> labels;
     ResponseConstancy constancy;
     for (const auto& record : records) {
@@ -610,34 +619,42 @@ SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptio
       part.first = record["constancy"]["first"].get<double>();
       constancy.merge(part);
     }
-    first->shown_name = shards_source(sources);
-    constancy.refuse(*first, args.model.response);
+    read.first->shown_name = shards_source(sources);
+    constancy.refuse(*read.first, response);
     std::vector<long long> out{static_cast<long long>(records.front()["predictors"].size()),
                                static_cast<long long>(labels.size())};
     out.insert(out.end(), labels.begin(), labels.end());
     return out;
   });
-  const Index p = static_cast<Index>(united[0]);
-  const std::vector<long long> labels(united.begin() + 2, united.end());
+}
 
-  // The K + 2 parts merged, part by part, over the shard tree.
+// The K + 2 parts merged, part by part, over the shard tree (on rank 0;
+// empty elsewhere): the full statistics, folds 0..K-1, the rows never held out.
+std::vector<std::optional<SufficientStatistics<double>>> merge_shard_parts(ReadShards& read, std::size_t count,
+                                                                           const std::vector<long long>& labels,
+                                                                           Index p) {
   std::vector<std::vector<SufficientStatistics<double>>> ordered;
-  for (auto& [s, shard] : mine) ordered.push_back(parts_in_order(shard, labels, p));
+  for (auto& [s, shard] : read.mine) ordered.push_back(parts_in_order(shard, labels, p));
   std::vector<std::optional<SufficientStatistics<double>>> merged;
   for (std::size_t j = 0; j < labels.size() + 2; ++j) {
     std::vector<std::pair<std::size_t, SufficientStatistics<double>>> part;
-    for (std::size_t m = 0; m < mine.size(); ++m) part.emplace_back(mine[m].first, std::move(ordered[m][j]));
-    merged.push_back(ranks.reduce(std::move(part), count, p));
+    for (std::size_t m = 0; m < read.mine.size(); ++m) part.emplace_back(read.mine[m].first, std::move(ordered[m][j]));
+    merged.push_back(Ranks::world().reduce(std::move(part), count, p));
   }
-  if (ranks.rank() != 0) throw quiet_exit{0};
+  return merged;
+}
 
-  SelectData out = std::move(*first);
+// Rank 0's select data: shard 0's context and options, the merged parts,
+// and the audit's counts over every shard.
+SelectData shards_select_data(const SelectArgs& args, const std::vector<ShardSource>& sources, ReadShards& read,
+                              std::vector<std::optional<SufficientStatistics<double>>>& merged) {
+  SelectData out = std::move(*read.first);
   FoldParts<double> parts;
   parts.full = std::move(*merged.front());
-  for (std::size_t j = 1; j <= labels.size(); ++j) parts.folds.push_back(std::move(*merged[j]));
+  for (std::size_t j = 1; j + 1 < merged.size(); ++j) parts.folds.push_back(std::move(*merged[j]));
   parts.never_held_out = std::move(*merged.back());
   std::size_t rows = 0, dropped = 0;
-  for (const auto& record : records) {
+  for (const auto& record : read.records) {
     parts.observations += record["observations"].get<Index>();
     rows += record["rows"].get<std::size_t>();
     dropped += record["dropped"].get<std::size_t>();
@@ -650,6 +667,26 @@ SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptio
   for (const auto& source : sources) out.context.shards.push_back(source.name());
   out.row_lines = io::RowLines();  // no row is kept: the parts name none
   return out;
+}
+
+}  // namespace
+
+bool select_reads_shards(const SelectArgs& args) { return args.tables.size() > 1 || args.model.pieces != 0; }
+
+SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptions& cv, const Global& global,
+                              bool in_double) {
+  const std::vector<ShardSource> sources = shard_sources(args.tables, args.model.pieces);
+  refuse_what_shards_cannot_do(args, sources, in_double);
+  const ModelArgs model = select_model_args(args);
+  const std::vector<long long> seeded = args.fold_column.empty() ? seeded_folds_of_shards(sources, model, cv, global)
+                                                                 : std::vector<long long>();
+  ReadShards read = read_shard_parts(args, sources, model, seeded, global);
+  const std::vector<long long> united = unite_shards(sources, read, args.model.response);
+  const Index p = static_cast<Index>(united[0]);
+  const std::vector<long long> labels(united.begin() + 2, united.end());
+  std::vector<std::optional<SufficientStatistics<double>>> merged = merge_shard_parts(read, sources.size(), labels, p);
+  if (Ranks::world().rank() != 0) throw quiet_exit{0};
+  return shards_select_data(args, sources, read, merged);
 }
 
 SelectData read_select_data(const SelectArgs& args, const Global& global, bool keep_text) {
