@@ -223,7 +223,10 @@ struct Limits {
   bool has_lower = false, has_upper = false;
 
   /// Adds the constraint L(y) >= 0 with L(y) = `value` and L(c) = `slope`
-  /// for the contrast whose observed value is `x`.
+  /// for the contrast whose observed value is `x`. The rule has a second,
+  /// packed form for blocks of rows in doubles (tighten_by_ratios, the same
+  /// bounds to rounding): a change here changes both (test
+  /// AdjustedInference.StepLimitsInDoublesMatchFiftyDigits ties them).
   void tighten(const Scalar& value, const Scalar& slope, const Scalar& x) {
     if (slope == Scalar(0)) return;
     const Scalar bound = x - value / slope;

@@ -9,9 +9,10 @@
 // value, the truncation limits and the mean tens or thousands of standard
 // deviations apart; the Gaussian tails there underflow (Q(x) < 1e-308 beyond
 // x = 38) and their differences cancel. Everything is therefore computed as
-// log Q, with the Mills ratio R(x) = Q(x) / phi(x) by its continued fraction
-// for x >= 5, and a difference of tails as a log tail plus log(1 - ratio):
-// no 0/0, and no subtraction of nearly equal numbers.
+// log Q, with the Mills ratio R(x) = Q(x) / phi(x) (log_mills_ratio: its
+// continued fraction for x >= 5, an erfc product below, a log sum for
+// x < 0), and a difference of tails as a log tail plus log(1 - ratio): no
+// 0/0, and no subtraction of nearly equal numbers.
 
 #include <algorithm>
 #include <cmath>
