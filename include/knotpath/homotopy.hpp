@@ -47,11 +47,22 @@
 /// inside the boundary once it is out. So one column at a time may be kept
 /// out (or made to leave) on that sign test; several at once carry no such
 /// guarantee, which is why they go one per row.
+///
+/// Columns over processes (a SharedColumnDesign, mpi_columns.hpp): every
+/// process runs this same homotopy on replicated state; only the search for
+/// entries runs over the process's own columns, and three reductions join
+/// the processes: the largest start level (lambda_max), the smallest step
+/// (the min-location of the next knot) and the entry candidates tied with
+/// it, gathered in process order, which is column order. The events, and
+/// their documented order, are those of one process holding every column.
 
 #include <algorithm>
 #include <cmath>
+#include <cstring>
 #include <span>
+#include <tuple>
 #include <type_traits>
+#include <utility>
 #include <vector>
 
 #include "design/concept.hpp"
@@ -176,6 +187,7 @@ class Homotopy {
         column_norm_(static_cast<std::size_t>(q_), 0.0),
         travelled_(static_cast<std::size_t>(q_), 0.0),
         estimate_(detail::to_double(detail::epsilon<Scalar>()), prep.centring_amplification) {
+    if constexpr (SharedColumnDesign<Design>) std::tie(own_begin_, own_end_) = design.own_columns();
     for (Index k = 0; k < q_; ++k) factor_of_(k) = Scalar(prep.penalty_weights[static_cast<std::size_t>(k)]);
     design.response_correlations(c_);
     rss_ = design.response_squared_norm();
@@ -355,7 +367,7 @@ class Homotopy {
   // the start knot. Held-out notes made before it carry that penalty.
   void start() {
     const std::size_t held_at_start = held_out_.size();
-    for (Index k = 0; k < q_; ++k) {
+    for (Index k = own_begin_; k < own_end_; ++k) {
       if (is_active_[at(k)] || blocked_[at(k)]) continue;
       for (int s : {+1, -1}) {
         if (!may_enter_with(k, s)) continue;
@@ -363,6 +375,7 @@ class Homotopy {
         if (level > lambda_) lambda_ = level;
       }
     }
+    if constexpr (SharedColumnDesign<Design>) lambda_ = design_.largest_everywhere(lambda_);
     for (std::size_t i = 0; i < held_at_start; ++i) held_out_[i].penalty = lambda_;
     estimate_.set_penalty_scale(detail::to_double(lambda_));
     penalty_scale_ = detail::to_double(lambda_);
@@ -380,7 +393,7 @@ class Homotopy {
   // gives g = (lambda f_k - s c_k) / (f_k - s a_k), approached only when
   // f_k - s a_k > 0.
   void entry_candidates() {
-    for (Index k = 0; k < q_; ++k) {
+    for (Index k = own_begin_; k < own_end_; ++k) {
       if (is_active_[at(k)] || blocked_[at(k)]) continue;
       for (int s : {+1, -1}) {
         if (!may_enter_with(k, s)) continue;
@@ -423,10 +436,13 @@ class Homotopy {
     if (stuck >= 0) candidates_.push_back({zero_, true, stuck, sign_[at(stuck)]});
   }
 
+  // Without candidates the nearest step is lambda itself, which reaches the
+  // end (every candidate's step is below lambda).
   Segment next_knot() const {
     Segment segment{lambda_, lambda_, false, false};
     for (const auto& candidate : candidates_) segment.nearest = std::min<Scalar>(segment.nearest, candidate.step);
-    segment.reaches_end = !(segment.nearest < lambda_ - tie_tol_ * lambda_) || candidates_.empty();
+    if constexpr (SharedColumnDesign<Design>) segment.nearest = design_.smallest_everywhere(segment.nearest);
+    segment.reaches_end = !(segment.nearest < lambda_ - tie_tol_ * lambda_);
     segment.step = segment.reaches_end ? lambda_ : segment.nearest;
     if (lambda_ - segment.step < Scalar(options_.min_penalty)) {
       segment.step = lambda_ - Scalar(options_.min_penalty);
@@ -477,10 +493,38 @@ class Homotopy {
     events_.clear();
     for (const auto& candidate : candidates_)
       if (candidate.step <= nearest + tie_tol_ * (lambda_ + nearest)) events_.push_back(candidate);
+    if constexpr (SharedColumnDesign<Design>) gather_tied_entries();
     std::sort(events_.begin(), events_.end(), [](const auto& x, const auto& y) {
       if (x.leave != y.leave) return x.leave;
       return x.column < y.column;
     });
+  }
+
+  // Columns over processes: the tied entries of every process, in process
+  // (= column) order, then the leave events, which every process found
+  // alike on the replicated active set: the order in which one process
+  // holding every column lists them, so the sort below orders them alike.
+  void gather_tied_entries() {
+    static_assert(std::is_trivially_copyable_v<detail::Candidate<Scalar>>,
+                  "columns over processes need a scalar type that is sent as bytes");
+    using Candidate = detail::Candidate<Scalar>;
+    std::vector<char> mine;
+    for (const auto& event : events_)
+      if (!event.leave) {
+        const auto* bytes = reinterpret_cast<const char*>(&event);
+        mine.insert(mine.end(), bytes, bytes + sizeof(Candidate));
+      }
+    const std::vector<char> all = design_.gather_everywhere(mine);
+    std::vector<Candidate> leaves;
+    for (const auto& event : events_)
+      if (event.leave) leaves.push_back(event);
+    events_.clear();
+    for (std::size_t at = 0; at + sizeof(Candidate) <= all.size(); at += sizeof(Candidate)) {
+      Candidate event;
+      std::memcpy(&event, all.data() + at, sizeof(Candidate));
+      events_.push_back(event);
+    }
+    events_.insert(events_.end(), leaves.begin(), leaves.end());
   }
 
   // Applies the events of this knot; true when a stopping rule ended the path.
@@ -874,6 +918,7 @@ class Homotopy {
   const Preparation<Scalar>& prep_;    // means, scales, factors and constraints per column
   const TraceOptions& options_;        // validated options
   const Index q_;                      // number of prepared columns
+  Index own_begin_ = 0, own_end_ = q_;  // the columns whose entries this process searches
   const bool lasso_;                   // lasso (leave events) or least angle
   const Scalar zero_{0};
   const Scalar ridge_;                 // a2

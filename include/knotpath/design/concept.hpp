@@ -18,6 +18,8 @@
 
 #include <concepts>
 #include <span>
+#include <utility>
+#include <vector>
 
 #include "../detail/scalar.hpp"
 
@@ -37,5 +39,28 @@ concept DesignOperator = requires(const D& design, Index j, std::span<const Inde
   design.cross_products(j, active, out);
   design.direction_correlations(active, coefficients, out);
 };
+
+/// A design operator whose columns are spread over the processes of a job
+/// (mpi_columns.hpp), each process holding a contiguous block of them. The
+/// homotopy runs on every process with the same replicated state (active
+/// set, factor, coefficients) and needs, beyond DesignOperator:
+///  - own_columns(): the prepared columns [begin, end) this process holds;
+///    the direction correlations a_j and the correlations c_j it is asked
+///    about are current only there and on the active set;
+///  - largest_everywhere(x) / smallest_everywhere(x): x reduced over the
+///    processes (exact: a maximum or minimum rounds nothing);
+///  - gather_everywhere(bytes): every process's bytes, concatenated in
+///    process order, on every process.
+/// Each is collective: every process calls it at the same point of the
+/// trace, which the replicated state guarantees. A design without these
+/// members is traced as one process holding every column.
+template <class D>
+concept SharedColumnDesign =
+    DesignOperator<D> && requires(const D& design, const typename D::Scalar& x, const std::vector<char>& bytes) {
+      { design.own_columns() } -> std::convertible_to<std::pair<Index, Index>>;
+      { design.largest_everywhere(x) } -> std::convertible_to<typename D::Scalar>;
+      { design.smallest_everywhere(x) } -> std::convertible_to<typename D::Scalar>;
+      { design.gather_everywhere(bytes) } -> std::convertible_to<std::vector<char>>;
+    };
 
 }  // namespace knotpath
