@@ -26,7 +26,7 @@ STAGES = [
     ("prepared problem", ["problem.hpp"]),
     ("homotopy", ["knot.hpp", "homotopy.hpp"]),
     ("path", ["path.hpp"]),
-    ("trace front end", ["trace.hpp", "solver.hpp"]),
+    ("trace front end", ["trace.hpp", "solver.hpp", "mpi_columns.hpp"]),
     ("front door", ["core.hpp"]),
     ("selection, inference, precision", ["detail/least_squares.hpp", "cross_validation.hpp", "criteria.hpp",
                                          "inference.hpp", "adjusted_inference.hpp", "first_step_t.hpp",
