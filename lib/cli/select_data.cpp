@@ -420,67 +420,8 @@ class SelectBlocks {
 //
 // Every step that may fail on a shard is a record gathered on rank 0; rank
 // 0 decides for all (the first failure in shard order stops every process
-// with its message and status, decide_for_all()).
-
-// `step(s)` for each shard this process owns, in order, stopping at its
-// first failure; the records (the step's, or the failure's "error" and
-// "code") gathered on rank 0 in shard order (empty elsewhere).
-std::vector<nlohmann::json> gather_shard_steps(const Ranks& ranks, std::size_t count,
-                                               const std::function<nlohmann::json(std::size_t)>& step) {
-  nlohmann::json records = nlohmann::json::array();
-  for (std::size_t s = 0; s < count; ++s) {
-    if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
-    try {
-      nlohmann::json record = step(s);
-      record["index"] = s;
-      records.push_back(std::move(record));
-    } catch (...) {
-      const ErrorOutcome error = error_outcome(std::current_exception());
-      records.push_back({{"index", s}, {"error", error.message}, {"code", error.code}});
-      break;  // this process reads no further shard
-    }
-  }
-  const std::vector<std::string> texts = ranks.gather(records.dump());
-  std::vector<nlohmann::json> out;
-  if (ranks.rank() != 0) return out;
-  out.resize(count);
-  for (const auto& text : texts)
-    for (auto& record : nlohmann::json::parse(text)) {
-      const auto index = record["index"].get<std::size_t>();  // before the move (C++17 evaluates it first)
-      out.at(index) = std::move(record);
-    }
-  return out;
-}
-
-// Rank 0 decides from the records: the first failure in shard order (a
-// missing record follows an earlier failure of its process, which owns a
-// run of shards), else `decide()`'s values or refusal. Every process gets
-// the values; a failure ends rank 0 with it and the others quietly with its
-// status.
-std::vector<long long> decide_for_all(const Ranks& ranks, const std::vector<nlohmann::json>& records,
-                                      const std::function<std::vector<long long>()>& decide) {
-  ErrorOutcome verdict;
-  std::vector<long long> values;
-  if (ranks.rank() == 0) {
-    try {
-      for (const auto& record : records)
-        if (!record.is_null() && record.contains("error"))
-          throw failure(static_cast<ExitCode>(record["code"].get<int>()), record["error"].get<std::string>());
-      for (const auto& record : records)
-        if (record.is_null()) throw failure(exit_internal, "internal error: a shard was read by no process");
-      values = decide();
-    } catch (...) {
-      verdict = error_outcome(std::current_exception());
-    }
-  }
-  const std::vector<long long> head = ranks.broadcast({verdict.code, static_cast<long long>(values.size())});
-  if (head[0] != 0) {
-    if (ranks.rank() == 0) throw failure(static_cast<ExitCode>(verdict.code), verdict.message);
-    throw quiet_exit{static_cast<int>(head[0])};
-  }
-  values.resize(static_cast<std::size_t>(head[1]));
-  return ranks.broadcast(std::move(values));
-}
+// with its message and status): gather_shard_steps() and decide_for_all()
+// (ranks.hpp), the rule trace and at follow too.
 
 // Seeded folds over shards: [offsets of the S shards' first rows and the
 // total (S + 1 values), then the fold of every row] on every process.
