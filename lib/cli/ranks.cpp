@@ -106,6 +106,33 @@ std::vector<long long> Ranks::broadcast(std::vector<long long> values) const {
   return values;
 }
 
+std::string Ranks::scatter(const std::string& bytes, const std::vector<std::size_t>& sizes) const {
+  if (rank_ == 0 && (sizes.size() != static_cast<std::size_t>(size_)))
+    throw failure(exit_internal, "internal error: a scatter needs one size a process");
+  if (size_ == 1) return bytes;
+#ifdef KNOTPATH_HAVE_MPI
+  std::vector<int> counts(static_cast<std::size_t>(size_)), offsets(static_cast<std::size_t>(size_));
+  if (rank_ == 0) {
+    std::size_t total = 0;
+    for (std::size_t r = 0; r < sizes.size(); ++r) {
+      offsets[r] = static_cast<int>(total);
+      counts[r] = static_cast<int>(sizes[r]);
+      total += sizes[r];
+    }
+    if (total != bytes.size()) throw failure(exit_internal, "internal error: a scatter's sizes miss its bytes");
+  }
+  int mine = 0;
+  check(MPI_Scatter(counts.data(), 1, MPI_INT, &mine, 1, MPI_INT, 0, MPI_COMM_WORLD), "scatter sizes");
+  std::string out(static_cast<std::size_t>(mine), '\0');
+  check(MPI_Scatterv(bytes.data(), counts.data(), offsets.data(), MPI_CHAR, out.data(), mine, MPI_CHAR, 0,
+                     MPI_COMM_WORLD),
+        "scatter the folds");
+  return out;
+#else
+  return bytes;
+#endif
+}
+
 std::optional<SufficientStatistics<double>> Ranks::reduce(
     std::vector<std::pair<std::size_t, SufficientStatistics<double>>> mine, std::size_t shards,
     Index predictors) const {

@@ -49,6 +49,12 @@ class Ranks {
   std::vector<std::string> gather(const std::string& text) const;
   /// Rank 0's values on every process.
   std::vector<long long> broadcast(std::vector<long long> values) const;
+  /// Rank 0's `bytes` handed out in rank order: the first `sizes[0]` bytes
+  /// stay on rank 0, the next `sizes[1]` go to rank 1, and so on; returns
+  /// this process's share. `bytes` and `sizes` (one size a process, summing
+  /// to bytes.size()) are read on rank 0 only. Unlike broadcast(), no
+  /// process but rank 0 holds more than its own share.
+  std::string scatter(const std::string& bytes, const std::vector<std::size_t>& sizes) const;
   /// The statistics of every shard merged in the shard tree (shards.hpp),
   /// on rank 0 (nullopt elsewhere); `mine` holds this process's shards.
   std::optional<SufficientStatistics<double>> reduce(
