@@ -16,6 +16,8 @@
 
 #ifdef KNOTPATH_HAVE_MPI
 #include <knotpath/mpi_statistics.hpp>
+
+#include "chunked_transfer.hpp"
 #endif
 
 namespace knotpath::cli {
@@ -70,28 +72,13 @@ void Ranks::finish() {
 #endif
 }
 
+// Counts beyond INT_MAX (MPI's int) go in chunks: chunked_transfer.hpp.
+
 std::vector<std::string> Ranks::gather(const std::string& text) const {
   if (size_ == 1) return {text};
 #ifdef KNOTPATH_HAVE_MPI
-  int length = static_cast<int>(text.size());
-  std::vector<int> lengths(static_cast<std::size_t>(size_)), offsets(static_cast<std::size_t>(size_));
-  check(MPI_Gather(&length, 1, MPI_INT, lengths.data(), 1, MPI_INT, 0, MPI_COMM_WORLD), "gather sizes");
-  std::string all;
-  if (rank_ == 0) {
-    int total = 0;
-    for (std::size_t r = 0; r < lengths.size(); ++r) {
-      offsets[r] = total;
-      total += lengths[r];
-    }
-    all.resize(static_cast<std::size_t>(total));
-  }
-  check(MPI_Gatherv(text.data(), length, MPI_CHAR, all.data(), lengths.data(), offsets.data(), MPI_CHAR, 0,
-                    MPI_COMM_WORLD),
-        "gather the shards' records");
   std::vector<std::string> out;
-  if (rank_ == 0)
-    for (std::size_t r = 0; r < lengths.size(); ++r)
-      out.push_back(all.substr(static_cast<std::size_t>(offsets[r]), static_cast<std::size_t>(lengths[r])));
+  check(gather_in_chunks(text, out, MPI_COMM_WORLD), "gather the shards' records");
   return out;
 #else
   return {text};
@@ -100,34 +87,24 @@ std::vector<std::string> Ranks::gather(const std::string& text) const {
 
 std::vector<long long> Ranks::broadcast(std::vector<long long> values) const {
 #ifdef KNOTPATH_HAVE_MPI
-  if (size_ > 1)
-    check(MPI_Bcast(values.data(), static_cast<int>(values.size()), MPI_LONG_LONG, 0, MPI_COMM_WORLD), "broadcast");
+  if (size_ > 1) check(broadcast_in_chunks(values.data(), values.size(), MPI_LONG_LONG, MPI_COMM_WORLD), "broadcast");
 #endif
   return values;
 }
 
 std::string Ranks::scatter(const std::string& bytes, const std::vector<std::size_t>& sizes) const {
-  if (rank_ == 0 && (sizes.size() != static_cast<std::size_t>(size_)))
-    throw failure(exit_internal, "internal error: a scatter needs one size a process");
-  if (size_ == 1) return bytes;
-#ifdef KNOTPATH_HAVE_MPI
-  std::vector<int> counts(static_cast<std::size_t>(size_)), offsets(static_cast<std::size_t>(size_));
   if (rank_ == 0) {
+    if (sizes.size() != static_cast<std::size_t>(size_))
+      throw failure(exit_internal, "internal error: a scatter needs one size a process");
     std::size_t total = 0;
-    for (std::size_t r = 0; r < sizes.size(); ++r) {
-      offsets[r] = static_cast<int>(total);
-      counts[r] = static_cast<int>(sizes[r]);
-      total += sizes[r];
-    }
+    for (std::size_t size : sizes) total += size;
     if (total != bytes.size()) throw failure(exit_internal, "internal error: a scatter's sizes miss its bytes");
   }
-  int mine = 0;
-  check(MPI_Scatter(counts.data(), 1, MPI_INT, &mine, 1, MPI_INT, 0, MPI_COMM_WORLD), "scatter sizes");
-  std::string out(static_cast<std::size_t>(mine), '\0');
-  check(MPI_Scatterv(bytes.data(), counts.data(), offsets.data(), MPI_CHAR, out.data(), mine, MPI_CHAR, 0,
-                     MPI_COMM_WORLD),
-        "scatter the folds");
-  return out;
+  if (size_ == 1) return bytes;
+#ifdef KNOTPATH_HAVE_MPI
+  std::string mine;
+  check(scatter_in_chunks(bytes, sizes, mine, MPI_COMM_WORLD), "scatter the folds");
+  return mine;
 #else
   return bytes;
 #endif

@@ -45,7 +45,9 @@ class Ranks {
   /// Number of processes.
   int size() const { return size_; }
 
-  /// Every process's text, in rank order, on rank 0; empty elsewhere.
+  /// Every process's text, in rank order, on rank 0; empty elsewhere. The
+  /// collective steps below send counts beyond INT_MAX in chunks
+  /// (chunked_transfer.hpp).
   std::vector<std::string> gather(const std::string& text) const;
   /// Rank 0's values on every process.
   std::vector<long long> broadcast(std::vector<long long> values) const;
