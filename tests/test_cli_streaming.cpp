@@ -634,3 +634,44 @@ TEST_F(Streaming, SelectOverShardsRefusesWhatItCannotDoAndNamesABadLine) {
     EXPECT_NE(bad.err.find(fmt::format("s1.csv, line {}, column 4", bad_line)), std::string::npos) << bad.err;
   }
 }
+
+// A bad value met by the statistics, not by the reader, while a piece's
+// rows are added (a negative weight: the reader reads the number, the
+// statistics refuse it) is named by the file's line, not by its line inside
+// the piece, in trace and at and in select over --pieces (seeded folds:
+// found in the counting pass; a fold column: in the one pass). Regression:
+// the piece's own line was named (RELIABILITY.md, "Found in review").
+TEST_F(Streaming, ABadValueInAPieceIsNamedByTheFilesLine) {
+  write_fold_table(file("f.csv"), 900);
+  std::string text = slurp(file("f.csv"));
+  const std::size_t bad_line = 452;  // the header, then row 450 (no blank line)
+  std::size_t at = 0;
+  for (std::size_t line = 1; line < bad_line; ++line) at = text.find('\n', at) + 1;
+  const std::size_t end = text.find('\n', at);
+  std::vector<std::string> cells;
+  std::istringstream fields(text.substr(at, end - at));
+  for (std::string cell; std::getline(fields, cell, ',');) cells.push_back(cell);
+  ASSERT_EQ(cells.size(), 8u);
+  cells[6] = "-2";  // the weight w
+  std::string row;
+  for (const auto& cell : cells) row += (row.empty() ? "" : ",") + cell;
+  text.replace(at, end - at, row);
+  std::ofstream(file("f.csv")) << text;
+  // The bad row lies in piece 2 of 3 (the cut of io::table_piece).
+  const std::vector<std::string> parts = pieces_by_the_rule(text, 3);
+  const auto rows_of = [](const std::string& piece) {
+    return static_cast<std::size_t>(std::count(piece.begin(), piece.end(), '\n')) - 1;
+  };
+  ASSERT_GT(bad_line - 1, rows_of(parts[0]));
+  ASSERT_LE(bad_line - 1, rows_of(parts[0]) + rows_of(parts[1]));
+  const std::string expected = fmt::format("knotpath: f.csv, line {}: the weight is negative", bad_line);
+  for (const std::string command :
+       {"trace f.csv --response y --weights w --drop part", "at f.csv --response y --weights w --drop part --relative-budget 0.5",
+        "select f.csv --response y --weights w --drop part --folds 3",
+        "select f.csv --response y --weights w --fold-column part"}) {
+    SCOPED_TRACE(command);
+    const Outcome bad = run(command + " --pieces 3 --block-rows 64");
+    EXPECT_EQ(bad.code, 3) << bad.err;  // exit_bad_input
+    EXPECT_NE(bad.err.find(expected), std::string::npos) << bad.err;
+  }
+}

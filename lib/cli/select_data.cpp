@@ -218,24 +218,27 @@ CountedRows count_rows(const ShardSource& source, const ModelArgs& model, const 
     rows = 0;
     weights.clear();
   };
-  const LoadedTable table =
-      read_in_blocks(source, model, global, restart, [&](io::Table& block, const LoadedTable& loaded) {
-        rows += static_cast<Index>(block.rows);
-        weighted = loaded.columns.weights >= 0;
-        if (weighted) {
-          const Vector<double> w = block.column_vector(loaded.columns.weights);
-          weights.insert(weights.end(), w.data(), w.data() + w.size());
-        }
-      });
   CountedRows out;
-  out.rows = rows;
-  if (weighted) out.weights = Eigen::Map<const Vector<double>>(weights.data(), static_cast<Index>(weights.size()));
+  const auto take = [&](io::Table& block, const LoadedTable& loaded) {
+    rows += static_cast<Index>(block.rows);
+    weighted = loaded.columns.weights >= 0;
+    if (weighted) {
+      const Vector<double> w = block.column_vector(loaded.columns.weights);
+      weights.insert(weights.end(), w.data(), w.data() + w.size());
+    }
+  };
   // A bad weight is the data's fault, named by its line, before the folds
   // are drawn from the weights (the library's rule, as the whole reading
-  // reports it: regression test BadInput.RowProblemsNameTheLineOfTheFile).
-  if (weighted)
-    with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
-                       [&] { (void)detail::used_rows<double>(out.weights, rows, TraceOptions{}); });
+  // reports it: regression test BadInput.RowProblemsNameTheLineOfTheFile);
+  // checked within read_in_blocks, so that a piece names the file's line.
+  const auto check_weights = [&](LoadedTable& table) {
+    out.rows = rows;
+    if (weighted) out.weights = Eigen::Map<const Vector<double>>(weights.data(), static_cast<Index>(weights.size()));
+    if (weighted)
+      with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
+                         [&] { (void)detail::used_rows<double>(out.weights, rows, TraceOptions{}); });
+  };
+  (void)read_in_blocks(source, model, global, restart, take, check_weights);
   return out;
 }
 
@@ -587,11 +590,14 @@ ReadShards read_shard_parts(const SelectArgs& args, const std::vector<ShardSourc
   out.records = gather_shard_steps(Ranks::world(), count, [&](std::size_t s) {
     const std::vector<long> slice = seeded ? seeded->folds(s) : std::vector<long>();
     std::optional<SelectBlocks> blocks;
+    SelectData data;
     LoadedTable loaded = read_in_blocks(
         sources[s], model, global, [&] { blocks.emplace(args, true, slice); },
-        [&](io::Table& block, const LoadedTable& l) { blocks->take(block, l); });
-    if (loaded.table.rows == 0) throw failure(exit_bad_input, sources[s].name() + ": the table holds no data row");
-    SelectData data = blocks->finish(loaded, false);
+        [&](io::Table& block, const LoadedTable& l) { blocks->take(block, l); },
+        [&](LoadedTable& l) {  // within the reading: a bad row found at the end names the file's line
+          if (l.table.rows == 0) throw failure(exit_bad_input, sources[s].name() + ": the table holds no data row");
+          data = blocks->finish(l, false);
+        });
     const ResponseConstancy& constancy = blocks->constancy();
     const std::set<long>& folds = blocks->folds_streamed();
     nlohmann::json record{{"source", sources[s].name()},

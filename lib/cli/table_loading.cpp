@@ -540,9 +540,10 @@ io::TablePiece find_piece(const ShardSource& source, const io::TableReadOptions&
 }
 
 // `read(piece, lines_before)` reads a shard; for a piece after the first
-// that fails, the same piece is read again with its lines counted from the
-// file's start: the reading stops at the same place with the same error,
-// now naming the file's line (counting costs a pass over the earlier
+// that fails (an error of the reader, or a bad row met by the statistics:
+// data_failure), the same piece is read again with its lines counted from
+// the file's start: the reading stops at the same place with the same
+// error, now naming the file's line (counting costs a pass over the earlier
 // pieces' bytes, so only a failure pays it). `piece` holds the piece's
 // bytes once found, so that the second reading does not cut again.
 template <class Read>
@@ -550,6 +551,9 @@ auto read_naming_lines(const ShardSource& source, Read read) {
   std::optional<io::TablePiece> piece;
   try {
     return read(piece, std::size_t{0});
+  } catch (const data_failure&) {
+    // a bad row met by the statistics names the piece's line: renumber below
+    if (source.pieces == 0 || source.piece == 0 || !piece) throw;
   } catch (const failure&) {
     throw;  // the CLI's own refusals name no line
   } catch (...) {
@@ -773,7 +777,8 @@ std::vector<ShardSource> shard_sources(const std::vector<std::string>& tables, s
 
 LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, const Global& global,
                            const std::function<void()>& restart,
-                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take) {
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take,
+                           const std::function<void(LoadedTable& loaded)>& finish) {
   const ReadPlan plan = plan_reading(args, false);
   return read_naming_lines(source, [&](std::optional<io::TablePiece>& piece, std::size_t lines_before) {
     restart();
@@ -798,6 +803,7 @@ LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, con
       loaded.table.source = source.name();
     }
     describe_columns(loaded, plan.roles);  // the context of the reader's whole table
+    if (finish) finish(loaded);            // within the renumbering: its bad rows name the file's lines
     return loaded;
   });
 }
