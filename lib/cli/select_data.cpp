@@ -233,10 +233,10 @@ CountedRows count_rows(const ShardSource& source, const ModelArgs& model, const 
   // checked within read_in_blocks, so that a piece names the file's line.
   const auto check_weights = [&](LoadedTable& table) {
     out.rows = rows;
-    if (weighted) out.weights = Eigen::Map<const Vector<double>>(weights.data(), static_cast<Index>(weights.size()));
-    if (weighted)
-      with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
-                         [&] { (void)detail::used_rows<double>(out.weights, rows, TraceOptions{}); });
+    if (!weighted) return;
+    out.weights = Eigen::Map<const Vector<double>>(weights.data(), static_cast<Index>(weights.size()));
+    with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
+                       [&] { (void)detail::used_rows<double>(out.weights, rows, TraceOptions{}); });
   };
   (void)read_in_blocks(source, model, global, restart, take, check_weights);
   return out;
