@@ -177,6 +177,32 @@ TEST_F(Mpi, AFailureOnAnyProcessStopsEveryProcessWithOneMessage) {
   EXPECT_NE(verify.err.find("verify runs in one process"), std::string::npos) << verify.err;
 }
 
+// trace and select share one rule for failures (gather_shard_steps and
+// decide_for_all, lib/cli/ranks.hpp): with bad cells in two shards, read by
+// different processes (both report a failure) or by the one process of the
+// program alone (it stops at the first), the run stops with the message of
+// the first in shard order.
+TEST_F(Mpi, TraceAndSelectReportTheFirstFailureInShardOrderOnAnyProcessCount) {
+  const std::string shards = write_shards(4, 400);
+  std::ofstream(file("shard1.csv"), std::ios::app) << "1,2,first,4,1,5\n";
+  std::ofstream(file("shard3.csv"), std::ios::app) << "1,2,later,4,1,5\n";
+  for (const std::string& command :
+       {"trace" + shards + " --response y --weights w", "select" + shards + " --response y --weights w --folds 3"}) {
+    SCOPED_TRACE(command);
+    const std::string expected = "knotpath: shard1.csv, line 102, column 3: cell \"first\"";
+    const Outcome alone = run(command);
+    EXPECT_EQ(alone.code, 3) << alone.err;
+    EXPECT_NE(alone.err.find(expected), std::string::npos) << alone.err;
+    for (int processes : {2, 4}) {  // shards 1 and 3 read by ranks 0 and 1, or 1 and 3
+      SCOPED_TRACE(fmt::format("{} processes", processes));
+      const Outcome r = run_mpi(processes, command);
+      EXPECT_EQ(r.code, 3) << r.err;  // exit_bad_input
+      EXPECT_NE(r.err.find(expected), std::string::npos) << r.err;
+      EXPECT_EQ(r.err.find("later"), std::string::npos) << r.err;
+    }
+  }
+}
+
 TEST_F(Mpi, PiecesOfOneFileGiveTheSamePathBitForBitOnOneTwoAndFourProcesses) {
   // One file, cut into 5 pieces at line breaks: the pieces, not the
   // processes, fix the merge tree, so every process count gives the bits of

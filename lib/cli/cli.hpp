@@ -49,6 +49,15 @@ class failure : public std::runtime_error {
   ExitCode code_;
 };
 
+/// A bad row of the data met by the statistics, not by the reader
+/// (with_data_messages: e.g. a negative weight), named by its line in what
+/// was read. A piece of a file (--pieces) read with its lines counted from
+/// its own start is read again to name the file's line (read_in_blocks).
+class data_failure : public failure {
+ public:
+  using failure::failure;
+};
+
 /// Settings shared by every command.
 struct Global {
   bool quiet = false;
@@ -286,13 +295,17 @@ std::string shards_source(const std::vector<ShardSource>& sources);
 /// the same columns. The records name their shard in "source".
 [[noreturn]] void refuse_unlike_shard(const nlohmann::json& first, const nlohmann::json& shard, const char* what);
 
-/// read_in_blocks() over one shard. A piece after the first that fails is
-/// read again with its lines counted from the file's start, so that the
-/// error names the file's line: `restart()` is called before each reading
-/// (the caller forgets what `take` saw).
+/// read_in_blocks() over one shard, then `finish(loaded)` (when given) on
+/// the table read. A piece after the first whose reading or `finish` fails
+/// with an error of the reader or a data_failure is read again with its
+/// lines counted from the file's start, so that the error names the file's
+/// line: `restart()` is called before each reading (the caller forgets what
+/// `take` saw). A check of the rows that names their lines belongs in
+/// `take` or `finish`, not after the call (its lines would be the piece's).
 LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, const Global& global,
                            const std::function<void()>& restart,
-                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take);
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take,
+                           const std::function<void(LoadedTable& loaded)>& finish = {});
 
 /// A table traced in double and in a higher precision (verify).
 template <class High>

@@ -8,12 +8,16 @@
 
 #include <cstdlib>
 
+#include <nlohmann/json.hpp>
+
 #include <knotpath/shards.hpp>
 
 #include "cli.hpp"
 
 #ifdef KNOTPATH_HAVE_MPI
 #include <knotpath/mpi_statistics.hpp>
+
+#include "chunked_transfer.hpp"
 #endif
 
 namespace knotpath::cli {
@@ -68,28 +72,13 @@ void Ranks::finish() {
 #endif
 }
 
+// Counts beyond INT_MAX (MPI's int) go in chunks: chunked_transfer.hpp.
+
 std::vector<std::string> Ranks::gather(const std::string& text) const {
   if (size_ == 1) return {text};
 #ifdef KNOTPATH_HAVE_MPI
-  int length = static_cast<int>(text.size());
-  std::vector<int> lengths(static_cast<std::size_t>(size_)), offsets(static_cast<std::size_t>(size_));
-  check(MPI_Gather(&length, 1, MPI_INT, lengths.data(), 1, MPI_INT, 0, MPI_COMM_WORLD), "gather sizes");
-  std::string all;
-  if (rank_ == 0) {
-    int total = 0;
-    for (std::size_t r = 0; r < lengths.size(); ++r) {
-      offsets[r] = total;
-      total += lengths[r];
-    }
-    all.resize(static_cast<std::size_t>(total));
-  }
-  check(MPI_Gatherv(text.data(), length, MPI_CHAR, all.data(), lengths.data(), offsets.data(), MPI_CHAR, 0,
-                    MPI_COMM_WORLD),
-        "gather the shards' records");
   std::vector<std::string> out;
-  if (rank_ == 0)
-    for (std::size_t r = 0; r < lengths.size(); ++r)
-      out.push_back(all.substr(static_cast<std::size_t>(offsets[r]), static_cast<std::size_t>(lengths[r])));
+  check(gather_in_chunks(text, out, MPI_COMM_WORLD), "gather the shards' records");
   return out;
 #else
   return {text};
@@ -98,10 +87,27 @@ std::vector<std::string> Ranks::gather(const std::string& text) const {
 
 std::vector<long long> Ranks::broadcast(std::vector<long long> values) const {
 #ifdef KNOTPATH_HAVE_MPI
-  if (size_ > 1)
-    check(MPI_Bcast(values.data(), static_cast<int>(values.size()), MPI_LONG_LONG, 0, MPI_COMM_WORLD), "broadcast");
+  if (size_ > 1) check(broadcast_in_chunks(values.data(), values.size(), MPI_LONG_LONG, MPI_COMM_WORLD), "broadcast");
 #endif
   return values;
+}
+
+std::string Ranks::scatter(const std::string& bytes, const std::vector<std::size_t>& sizes) const {
+  if (rank_ == 0) {
+    if (sizes.size() != static_cast<std::size_t>(size_))
+      throw failure(exit_internal, "internal error: a scatter needs one size a process");
+    std::size_t total = 0;
+    for (std::size_t size : sizes) total += size;
+    if (total != bytes.size()) throw failure(exit_internal, "internal error: a scatter's sizes miss its bytes");
+  }
+  if (size_ == 1) return bytes;
+#ifdef KNOTPATH_HAVE_MPI
+  std::string mine;
+  check(scatter_in_chunks(bytes, sizes, mine, MPI_COMM_WORLD), "scatter the folds");
+  return mine;
+#else
+  return bytes;
+#endif
 }
 
 std::optional<SufficientStatistics<double>> Ranks::reduce(
@@ -124,6 +130,58 @@ void Ranks::require_one_process(const std::string& command) const {
   if (size_ > 1)
     throw failure(exit_usage, command + " runs in one process: under mpirun only trace, at and select read a "
                                         "table's shards (run it without mpirun)");
+}
+
+std::vector<nlohmann::json> gather_shard_steps(const Ranks& ranks, std::size_t count,
+                                               const std::function<nlohmann::json(std::size_t)>& step) {
+  nlohmann::json records = nlohmann::json::array();
+  for (std::size_t s = 0; s < count; ++s) {
+    if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
+    try {
+      nlohmann::json record = step(s);
+      record["index"] = s;
+      records.push_back(std::move(record));
+    } catch (...) {
+      const ErrorOutcome error = error_outcome(std::current_exception());
+      records.push_back({{"index", s}, {"error", error.message}, {"code", error.code}});
+      break;  // this process reads no further shard
+    }
+  }
+  const std::vector<std::string> texts = ranks.gather(records.dump());
+  std::vector<nlohmann::json> out;
+  if (ranks.rank() != 0) return out;
+  out.resize(count);
+  for (const auto& text : texts)
+    for (auto& record : nlohmann::json::parse(text)) {
+      const auto index = record["index"].get<std::size_t>();  // before the move (C++17 evaluates it first)
+      out.at(index) = std::move(record);
+    }
+  return out;
+}
+
+std::vector<long long> decide_for_all(const Ranks& ranks, const std::vector<nlohmann::json>& records,
+                                      const std::function<std::vector<long long>()>& decide) {
+  ErrorOutcome verdict;
+  std::vector<long long> values;
+  if (ranks.rank() == 0) {
+    try {
+      for (const auto& record : records)
+        if (!record.is_null() && record.contains("error"))
+          throw failure(static_cast<ExitCode>(record["code"].get<int>()), record["error"].get<std::string>());
+      for (const auto& record : records)
+        if (record.is_null()) throw failure(exit_internal, "internal error: a shard was read by no process");
+      values = decide();
+    } catch (...) {
+      verdict = error_outcome(std::current_exception());
+    }
+  }
+  const std::vector<long long> head = ranks.broadcast({verdict.code, static_cast<long long>(values.size())});
+  if (head[0] != 0) {
+    if (ranks.rank() == 0) throw failure(static_cast<ExitCode>(verdict.code), verdict.message);
+    throw quiet_exit{static_cast<int>(head[0])};
+  }
+  values.resize(static_cast<std::size_t>(head[1]));
+  return ranks.broadcast(std::move(values));
 }
 
 }  // namespace knotpath::cli

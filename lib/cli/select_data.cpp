@@ -6,9 +6,11 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdint>
 #include <map>
 #include <functional>
 #include <set>
+#include <string>
 
 #include <fmt/format.h>
 
@@ -216,24 +218,27 @@ CountedRows count_rows(const ShardSource& source, const ModelArgs& model, const 
     rows = 0;
     weights.clear();
   };
-  const LoadedTable table =
-      read_in_blocks(source, model, global, restart, [&](io::Table& block, const LoadedTable& loaded) {
-        rows += static_cast<Index>(block.rows);
-        weighted = loaded.columns.weights >= 0;
-        if (weighted) {
-          const Vector<double> w = block.column_vector(loaded.columns.weights);
-          weights.insert(weights.end(), w.data(), w.data() + w.size());
-        }
-      });
   CountedRows out;
-  out.rows = rows;
-  if (weighted) out.weights = Eigen::Map<const Vector<double>>(weights.data(), static_cast<Index>(weights.size()));
+  const auto take = [&](io::Table& block, const LoadedTable& loaded) {
+    rows += static_cast<Index>(block.rows);
+    weighted = loaded.columns.weights >= 0;
+    if (weighted) {
+      const Vector<double> w = block.column_vector(loaded.columns.weights);
+      weights.insert(weights.end(), w.data(), w.data() + w.size());
+    }
+  };
   // A bad weight is the data's fault, named by its line, before the folds
   // are drawn from the weights (the library's rule, as the whole reading
-  // reports it: regression test BadInput.RowProblemsNameTheLineOfTheFile).
-  if (weighted)
+  // reports it: regression test BadInput.RowProblemsNameTheLineOfTheFile);
+  // checked within read_in_blocks, so that a piece names the file's line.
+  const auto check_weights = [&](LoadedTable& table) {
+    out.rows = rows;
+    if (!weighted) return;
+    out.weights = Eigen::Map<const Vector<double>>(weights.data(), static_cast<Index>(weights.size()));
     with_data_messages(table.shown_name, table.context.predictor_names, table.table.row_lines,
                        [&] { (void)detail::used_rows<double>(out.weights, rows, TraceOptions{}); });
+  };
+  (void)read_in_blocks(source, model, global, restart, take, check_weights);
   return out;
 }
 
@@ -415,102 +420,114 @@ class SelectBlocks {
 // label it lacks): the folds folds_from_column() numbers on the one table.
 // Seeded folds: a first pass counts every shard's rows and which weigh
 // more than 0, rank 0 draws make_folds() over all of them in shard order
-// (the assignment of the one table of the same rows) and every process
-// receives it (8 bytes a row), each shard streaming with its slice.
+// (the assignment of the one table of the same rows) and sends each
+// process the slices of its own shards only (1 to 8 bytes a row, the
+// fewest that hold K; seeded_folds_of_shards), each shard streaming with
+// its slice.
 //
 // Every step that may fail on a shard is a record gathered on rank 0; rank
 // 0 decides for all (the first failure in shard order stops every process
-// with its message and status, decide_for_all()).
+// with its message and status): gather_shard_steps() and decide_for_all()
+// (ranks.hpp), the rule trace and at follow too.
 
-// `step(s)` for each shard this process owns, in order, stopping at its
-// first failure; the records (the step's, or the failure's "error" and
-// "code") gathered on rank 0 in shard order (empty elsewhere).
-std::vector<nlohmann::json> gather_shard_steps(const Ranks& ranks, std::size_t count,
-                                               const std::function<nlohmann::json(std::size_t)>& step) {
-  nlohmann::json records = nlohmann::json::array();
-  for (std::size_t s = 0; s < count; ++s) {
-    if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
-    try {
-      nlohmann::json record = step(s);
-      record["index"] = s;
-      records.push_back(std::move(record));
-    } catch (...) {
-      const ErrorOutcome error = error_outcome(std::current_exception());
-      records.push_back({{"index", s}, {"error", error.message}, {"code", error.code}});
-      break;  // this process reads no further shard
+// Seeded folds over shards as each process holds them: the fold numbers of
+// the rows of its own shards, `width` bytes a row (the fewest of 1, 2, 4, 8
+// that hold every number, -1 included: fold_width), little-endian two's
+// complement (the same bytes on any machine), one string a shard it owns
+// (empty for the others).
+struct SeededShare {
+  std::size_t width = 0;
+  std::vector<std::string> of_shard;
+
+  // Shard s's fold numbers, one a row (a shard of this process).
+  std::vector<long> folds(std::size_t s) const {
+    const std::string& bytes = of_shard.at(s);
+    std::vector<long> out(bytes.size() / width);
+    for (std::size_t i = 0; i < out.size(); ++i) {
+      std::uint64_t bits = 0;
+      for (std::size_t b = 0; b < width; ++b)
+        bits |= std::uint64_t{static_cast<unsigned char>(bytes[i * width + b])} << (8 * b);
+      if (width < 8 && (bits >> (8 * width - 1)) != 0) bits |= ~std::uint64_t{0} << (8 * width);  // sign
+      out[i] = static_cast<long>(static_cast<std::int64_t>(bits));
     }
+    return out;
   }
-  const std::vector<std::string> texts = ranks.gather(records.dump());
-  std::vector<nlohmann::json> out;
-  if (ranks.rank() != 0) return out;
-  out.resize(count);
-  for (const auto& text : texts)
-    for (auto& record : nlohmann::json::parse(text)) {
-      const auto index = record["index"].get<std::size_t>();  // before the move (C++17 evaluates it first)
-      out.at(index) = std::move(record);
-    }
-  return out;
+};
+
+// The fewest bytes (1, 2, 4 or 8) that hold fold numbers -1..top.
+std::size_t fold_width(long top) {
+  for (const std::size_t width : {std::size_t{1}, std::size_t{2}, std::size_t{4}})
+    if (top < (1L << (8 * width - 1))) return width;
+  return 8;
 }
 
-// Rank 0 decides from the records: the first failure in shard order (a
-// missing record follows an earlier failure of its process, which owns a
-// run of shards), else `decide()`'s values or refusal. Every process gets
-// the values; a failure ends rank 0 with it and the others quietly with its
-// status.
-std::vector<long long> decide_for_all(const Ranks& ranks, const std::vector<nlohmann::json>& records,
-                                      const std::function<std::vector<long long>()>& decide) {
-  ErrorOutcome verdict;
-  std::vector<long long> values;
-  if (ranks.rank() == 0) {
-    try {
-      for (const auto& record : records)
-        if (!record.is_null() && record.contains("error"))
-          throw failure(static_cast<ExitCode>(record["code"].get<int>()), record["error"].get<std::string>());
-      for (const auto& record : records)
-        if (record.is_null()) throw failure(exit_internal, "internal error: a shard was read by no process");
-      values = decide();
-    } catch (...) {
-      verdict = error_outcome(std::current_exception());
-    }
+// Appends `folds`, `width` bytes each (SeededShare's code), to `out`.
+void append_folds(const std::vector<long>& folds, std::size_t width, std::string& out) {
+  for (long f : folds) {
+    const auto bits = static_cast<std::uint64_t>(static_cast<std::int64_t>(f));
+    for (std::size_t b = 0; b < width; ++b) out.push_back(static_cast<char>((bits >> (8 * b)) & 0xff));
   }
-  const std::vector<long long> head = ranks.broadcast({verdict.code, static_cast<long long>(values.size())});
-  if (head[0] != 0) {
-    if (ranks.rank() == 0) throw failure(static_cast<ExitCode>(verdict.code), verdict.message);
-    throw quiet_exit{static_cast<int>(head[0])};
-  }
-  values.resize(static_cast<std::size_t>(head[1]));
-  return ranks.broadcast(std::move(values));
 }
 
-// Seeded folds over shards: [offsets of the S shards' first rows and the
-// total (S + 1 values), then the fold of every row] on every process.
-std::vector<long long> seeded_folds_of_shards(const std::vector<ShardSource>& sources, const ModelArgs& model,
-                                              const CrossValidationOptions& cv, const Global& global) {
+// Seeded folds over shards. A first pass counts every shard's rows and
+// which weigh more than 0 (gather_shard_steps); rank 0 draws make_folds()
+// over all of them in shard order (the assignment of the one table of the
+// same rows), and each process receives only the slices of its own shards
+// (Ranks::scatter: the processes own runs of shards in rank order, so the
+// assignment in shard order is already cut by process), so that memory
+// beyond rank 0 follows the rows of the process's own shards.
+SeededShare seeded_folds_of_shards(const std::vector<ShardSource>& sources, const ModelArgs& model,
+                                   const CrossValidationOptions& cv, const Global& global) {
   const Ranks& ranks = Ranks::world();
-  const auto records = gather_shard_steps(ranks, sources.size(), [&](std::size_t s) {
+  const std::size_t count = sources.size();
+  std::vector<Index> rows_of(count, 0);  // this process's shards' rows
+  const auto records = gather_shard_steps(ranks, count, [&](std::size_t s) {
     const CountedRows counted = count_rows(sources[s], model, global);
+    rows_of[s] = counted.rows;
     std::string usable;  // '1' a row of positive weight, '0' another (empty: unweighted)
     for (Index i = 0; i < counted.weights.size(); ++i) usable += counted.weights(i) > 0 ? '1' : '0';
     return nlohmann::json{{"rows", counted.rows}, {"usable", usable}};
   });
-  return decide_for_all(ranks, records, [&] {
-    std::vector<long long> out{0};
+  std::string assignment;                                        // rank 0: every row's fold, coded
+  std::vector<std::size_t> shares(static_cast<std::size_t>(ranks.size()), 0);  // rank 0: bytes a process
+  const std::vector<long long> width = decide_for_all(ranks, records, [&] {
+    std::vector<Index> first{0};
     bool weighted = false;
     for (const auto& record : records) {
-      out.push_back(out.back() + record["rows"].get<long long>());
+      first.push_back(first.back() + record["rows"].get<Index>());
       weighted = weighted || !record["usable"].get<std::string>().empty();
     }
-    const Index rows = static_cast<Index>(out.back());
+    const Index rows = first.back();
     Vector<double> weights(weighted ? rows : 0);
     if (weighted)
-      for (std::size_t s = 0; s < records.size(); ++s) {
+      for (std::size_t s = 0; s < count; ++s) {
         const std::string usable = records[s]["usable"].get<std::string>();
-        for (Index i = 0; i < out[s + 1] - out[s]; ++i)
-          weights(out[s] + i) = usable.empty() || usable[static_cast<std::size_t>(i)] == '1' ? 1.0 : 0.0;
+        for (Index i = 0; i < first[s + 1] - first[s]; ++i)
+          weights(first[s] + i) = usable.empty() || usable[static_cast<std::size_t>(i)] == '1' ? 1.0 : 0.0;
       }
-    for (long f : drawn_folds(rows, cv, weights)) out.push_back(f);
-    return out;
+    const std::vector<long> folds = drawn_folds(rows, cv, weights);
+    const std::size_t bytes = fold_width(*std::max_element(folds.begin(), folds.end()));
+    append_folds(folds, bytes, assignment);
+    for (std::size_t s = 0; s < count; ++s)
+      shares[static_cast<std::size_t>(shard_owner(s, count, ranks.size()))] +=
+          static_cast<std::size_t>(first[s + 1] - first[s]) * bytes;
+    return std::vector<long long>{static_cast<long long>(bytes)};
   });
+  SeededShare out;
+  out.width = static_cast<std::size_t>(width.at(0));
+  out.of_shard.resize(count);
+  const std::string mine = ranks.scatter(assignment, shares);
+  assignment = std::string();
+  std::size_t at = 0;
+  for (std::size_t s = 0; s < count; ++s) {
+    if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
+    const std::size_t length = static_cast<std::size_t>(rows_of[s]) * out.width;
+    if (at + length > mine.size()) throw failure(exit_internal, "internal error: a shard's folds are missing");
+    out.of_shard[s] = mine.substr(at, length);
+    at += length;
+  }
+  if (at != mine.size()) throw failure(exit_internal, "internal error: folds of no shard of this process");
+  return out;
 }
 
 // One shard's parts as this process read them, with the fold numbers of
@@ -567,20 +584,20 @@ struct ReadShards {
 };
 
 ReadShards read_shard_parts(const SelectArgs& args, const std::vector<ShardSource>& sources, const ModelArgs& model,
-                            const std::vector<long long>& seeded, const Global& global) {
+                            const std::optional<SeededShare>& seeded, const Global& global) {
   const std::size_t count = sources.size();
   ReadShards out;
   out.records = gather_shard_steps(Ranks::world(), count, [&](std::size_t s) {
-    std::vector<long> slice;
-    if (!seeded.empty())
-      for (long long i = seeded[s]; i < seeded[s + 1]; ++i)
-        slice.push_back(static_cast<long>(seeded[count + 1 + static_cast<std::size_t>(i)]));
+    const std::vector<long> slice = seeded ? seeded->folds(s) : std::vector<long>();
     std::optional<SelectBlocks> blocks;
+    SelectData data;
     LoadedTable loaded = read_in_blocks(
         sources[s], model, global, [&] { blocks.emplace(args, true, slice); },
-        [&](io::Table& block, const LoadedTable& l) { blocks->take(block, l); });
-    if (loaded.table.rows == 0) throw failure(exit_bad_input, sources[s].name() + ": the table holds no data row");
-    SelectData data = blocks->finish(loaded, false);
+        [&](io::Table& block, const LoadedTable& l) { blocks->take(block, l); },
+        [&](LoadedTable& l) {  // within the reading: a bad row found at the end names the file's line
+          if (l.table.rows == 0) throw failure(exit_bad_input, sources[s].name() + ": the table holds no data row");
+          data = blocks->finish(l, false);
+        });
     const ResponseConstancy& constancy = blocks->constancy();
     const std::set<long>& folds = blocks->folds_streamed();
     nlohmann::json record{{"source", sources[s].name()},
@@ -678,9 +695,10 @@ SelectData read_select_shards(const SelectArgs& args, const CrossValidationOptio
   const std::vector<ShardSource> sources = shard_sources(args.tables, args.model.pieces);
   refuse_what_shards_cannot_do(args, sources, in_double);
   const ModelArgs model = select_model_args(args);
-  const std::vector<long long> seeded = args.fold_column.empty() ? seeded_folds_of_shards(sources, model, cv, global)
-                                                                 : std::vector<long long>();
+  std::optional<SeededShare> seeded;
+  if (args.fold_column.empty()) seeded = seeded_folds_of_shards(sources, model, cv, global);
   ReadShards read = read_shard_parts(args, sources, model, seeded, global);
+  seeded.reset();
   const std::vector<long long> united = unite_shards(sources, read, args.model.response);
   const Index p = static_cast<Index>(united[0]);
   const std::vector<long long> labels(united.begin() + 2, united.end());

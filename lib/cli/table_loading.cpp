@@ -540,9 +540,10 @@ io::TablePiece find_piece(const ShardSource& source, const io::TableReadOptions&
 }
 
 // `read(piece, lines_before)` reads a shard; for a piece after the first
-// that fails, the same piece is read again with its lines counted from the
-// file's start: the reading stops at the same place with the same error,
-// now naming the file's line (counting costs a pass over the earlier
+// that fails (an error of the reader, or a bad row met by the statistics:
+// data_failure), the same piece is read again with its lines counted from
+// the file's start: the reading stops at the same place with the same
+// error, now naming the file's line (counting costs a pass over the earlier
 // pieces' bytes, so only a failure pays it). `piece` holds the piece's
 // bytes once found, so that the second reading does not cut again.
 template <class Read>
@@ -550,6 +551,9 @@ auto read_naming_lines(const ShardSource& source, Read read) {
   std::optional<io::TablePiece> piece;
   try {
     return read(piece, std::size_t{0});
+  } catch (const data_failure&) {
+    // a bad row met by the statistics names the piece's line: renumber below
+    if (source.pieces == 0 || source.piece == 0 || !piece) throw;
   } catch (const failure&) {
     throw;  // the CLI's own refusals name no line
   } catch (...) {
@@ -610,24 +614,10 @@ struct ShardSummary {
   long long predictors = 0;
 };
 
-// Rank 0's reading of the gathered records: the error of the first shard
-// that failed (the same for any number of processes: each process stops at
-// its first failure, and shards are spread in order), shards whose columns
-// differ, else the summary.
-ShardSummary summarise_shards(const std::vector<std::string>& texts, const std::vector<ShardSource>& sources) {
-  std::vector<nlohmann::json> records(sources.size());
-  for (const auto& text : texts)
-    for (auto& record : nlohmann::json::parse(text)) {
-      const auto index = record["index"].get<std::size_t>();
-      records.at(index) = std::move(record);
-    }
-  for (const auto& record : records) {
-    if (record.is_null()) continue;  // after an earlier failure of its process
-    if (record.contains("error"))
-      throw failure(static_cast<ExitCode>(record["code"].get<int>()), record["error"].get<std::string>());
-  }
-  for (const auto& record : records)
-    if (record.is_null()) throw failure(exit_internal, "internal error: a shard was read by no process");
+// Rank 0's reading of the shards' records (gather_shard_steps, none
+// failed: decide_for_all checked): shards whose columns differ are
+// refused, else the summary.
+ShardSummary summarise_shards(const std::vector<nlohmann::json>& records, const std::vector<ShardSource>& sources) {
   ShardSummary out;
   const nlohmann::json& first = records.front();
   io::Table& table = out.table;
@@ -653,13 +643,6 @@ ShardSummary summarise_shards(const std::vector<std::string>& texts, const std::
   return out;
 }
 
-// Several tables read as the shards of one (or any table under an MPI job
-// of several processes, trace_tables()): shard s is read by process
-// shard_owner(s), each into its own statistics in blocks; rank 0 gathers
-// the shards' records and decides for all (the first failure stops every
-// process with its message and status), the statistics are merged in the
-// shard tree (the same bits for any number of processes), and rank 0
-// traces; the other processes end quietly (quiet_exit).
 // read_shard(), a failed piece's lines named as in the file (read_naming_lines).
 ShardRead read_shard_named(const ShardSource& source, const ReadPlan& plan, const Global& global) {
   return read_naming_lines(source, [&](std::optional<io::TablePiece>& piece, std::size_t lines_before) {
@@ -667,6 +650,14 @@ ShardRead read_shard_named(const ShardSource& source, const ReadPlan& plan, cons
   });
 }
 
+// Several tables read as the shards of one (or any table under an MPI job
+// of several processes, trace_tables()): shard s is read by process
+// shard_owner(s), each into its own statistics in blocks; rank 0 gathers
+// the shards' records and decides for all (gather_shard_steps and
+// decide_for_all, ranks.hpp: the first failure in shard order stops every
+// process with its message and status), the statistics are merged in the
+// shard tree (the same bits for any number of processes), and rank 0
+// traces; the other processes end quietly (quiet_exit).
 TracedTable trace_shards(const std::vector<ShardSource>& sources, const ReadPlan& plan, const Global& global) {
   const bool cut = sources.front().pieces != 0;
   const char* what = cut ? "the pieces of one table" : "several tables (shards)";
@@ -685,37 +676,18 @@ TracedTable trace_shards(const std::vector<ShardSource>& sources, const ReadPlan
   const Ranks& ranks = Ranks::world();
   const std::size_t count = sources.size();
   std::vector<std::pair<std::size_t, SufficientStatistics<double>>> mine;
-  nlohmann::json records = nlohmann::json::array();
-  for (std::size_t s = 0; s < count; ++s) {
-    if (shard_owner(s, count, ranks.size()) != ranks.rank()) continue;
-    try {
-      ShardRead shard = read_shard_named(sources[s], plan, global);
-      shard.record["index"] = s;
-      records.push_back(std::move(shard.record));
-      mine.emplace_back(s, std::move(shard.statistics));
-    } catch (...) {
-      const ErrorOutcome error = error_outcome(std::current_exception());
-      records.push_back({{"index", s}, {"error", error.message}, {"code", error.code}});
-      break;  // this process reads no further shard
-    }
-  }
-  const std::vector<std::string> texts = ranks.gather(records.dump());
+  const std::vector<nlohmann::json> records = gather_shard_steps(ranks, count, [&](std::size_t s) {
+    ShardRead shard = read_shard_named(sources[s], plan, global);
+    mine.emplace_back(s, std::move(shard.statistics));
+    return std::move(shard.record);
+  });
   ShardSummary summary;
-  ErrorOutcome verdict;
-  if (ranks.rank() == 0) {
-    try {
-      summary = summarise_shards(texts, sources);
-    } catch (...) {
-      verdict = error_outcome(std::current_exception());
-    }
-  }
-  const std::vector<long long> shared = ranks.broadcast({verdict.code, summary.predictors});
-  if (shared[0] != 0) {
-    if (ranks.rank() == 0) throw failure(static_cast<ExitCode>(verdict.code), verdict.message);
-    throw quiet_exit{static_cast<int>(shared[0])};
-  }
+  const std::vector<long long> predictors = decide_for_all(ranks, records, [&] {
+    summary = summarise_shards(records, sources);
+    return std::vector<long long>{summary.predictors};
+  });
   std::optional<SufficientStatistics<double>> statistics =
-      ranks.reduce(std::move(mine), count, static_cast<Index>(shared[1]));
+      ranks.reduce(std::move(mine), count, static_cast<Index>(predictors.at(0)));
   if (ranks.rank() != 0) throw quiet_exit{0};
 
   LoadedTable loaded;
@@ -805,7 +777,8 @@ std::vector<ShardSource> shard_sources(const std::vector<std::string>& tables, s
 
 LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, const Global& global,
                            const std::function<void()>& restart,
-                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take) {
+                           const std::function<void(io::Table& block, const LoadedTable& loaded)>& take,
+                           const std::function<void(LoadedTable& loaded)>& finish) {
   const ReadPlan plan = plan_reading(args, false);
   return read_naming_lines(source, [&](std::optional<io::TablePiece>& piece, std::size_t lines_before) {
     restart();
@@ -830,6 +803,7 @@ LoadedTable read_in_blocks(const ShardSource& source, const ModelArgs& args, con
       loaded.table.source = source.name();
     }
     describe_columns(loaded, plan.roles);  // the context of the reader's whole table
+    if (finish) finish(loaded);            // within the renumbering: its bad rows name the file's lines
     return loaded;
   });
 }

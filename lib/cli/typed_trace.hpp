@@ -129,16 +129,16 @@ TableData<Scalar> table_data(LoadedTable& loaded) {
   return table_data<Scalar>(loaded.table, loaded.columns, loaded.shown_name);
 }
 
-/// Runs f; the library's refusal of bad data becomes a bad-input failure
-/// that names the row by its line in the file (data_message over `lines`
-/// and the predictors' `names`).
+/// Runs f; the library's refusal of bad data becomes a bad-input
+/// data_failure that names the row by its line in the file (data_message
+/// over `lines` and the predictors' `names`).
 template <class F>
 auto with_data_messages(const std::string& shown_name, const std::vector<std::string>& names,
                         const io::RowLines& lines, F&& f) -> decltype(f()) {
   try {
     return f();
   } catch (const invalid_data& e) {
-    throw failure(exit_bad_input, data_message(e, shown_name, names, lines));
+    throw data_failure(exit_bad_input, data_message(e, shown_name, names, lines));
   }
 }
 
