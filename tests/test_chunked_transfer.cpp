@@ -16,6 +16,8 @@
 
 #include "../lib/cli/chunked_transfer.hpp"
 
+#include "mpi_test_main.hpp"
+
 namespace {
 
 using knotpath::cli::Chunk;
@@ -105,16 +107,4 @@ TEST(ChunkedTransfer, ScatterInChunksOfThreeHandsEachProcessItsShare) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  MPI_Init(&argc, &argv);
-  testing::InitGoogleTest(&argc, argv);
-  if (rank_of_world() != 0) {  // one report: the other processes' listeners stay silent
-    auto& listeners = testing::UnitTest::GetInstance()->listeners();
-    delete listeners.Release(listeners.default_result_printer());
-  }
-  const int failed = RUN_ALL_TESTS();
-  int any = 0;
-  MPI_Allreduce(&failed, &any, 1, MPI_INT, MPI_MAX, MPI_COMM_WORLD);
-  MPI_Finalize();
-  return any;
-}
+int main(int argc, char** argv) { return knotpath::testing::run_tests_on_every_process(argc, argv); }

@@ -17,6 +17,7 @@
 #include <knotpath/mpi_columns.hpp>
 #include <knotpath/trace.hpp>
 
+#include "mpi_test_main.hpp"
 #include "test_support.hpp"
 
 namespace {
@@ -269,18 +270,4 @@ TEST(MpiColumns, ColumnBlocksTileTheColumnsEvenly) {
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  MPI_Init(&argc, &argv);
-  testing::InitGoogleTest(&argc, argv);
-  int rank = 0;
-  MPI_Comm_rank(MPI_COMM_WORLD, &rank);
-  if (rank != 0) {  // one report: the other processes' listeners stay silent
-    auto& listeners = testing::UnitTest::GetInstance()->listeners();
-    delete listeners.Release(listeners.default_result_printer());
-  }
-  const int failed = RUN_ALL_TESTS();
-  int any = 0;
-  MPI_Allreduce(&failed, &any, 1, MPI_INT, MPI_MAX, MPI_COMM_WORLD);
-  MPI_Finalize();
-  return any;
-}
+int main(int argc, char** argv) { return knotpath::testing::run_tests_on_every_process(argc, argv); }
