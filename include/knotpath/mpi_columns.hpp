@@ -84,10 +84,12 @@ inline void check_call(int code) {
   if (code != MPI_SUCCESS) throw std::runtime_error("knotpath: an MPI call failed while tracing columns over processes");
 }
 
-/// Every process's bytes, concatenated in process order, on every process.
-/// Collective. Throws invalid_data beyond 2^31 - 1 bytes in all (MPI's int
-/// counts): the per-column records of more than about 250 million columns.
-inline std::vector<char> all_gather_bytes(MPI_Comm comm, const std::vector<char>& mine) {
+/// Every process's bytes, concatenated in process order, on every process;
+/// each process's count into `counts` when given. Collective. Throws
+/// invalid_data beyond 2^31 - 1 bytes in all (MPI's int counts): the
+/// per-column records of more than about 250 million columns.
+inline std::vector<char> all_gather_bytes(MPI_Comm comm, const std::vector<char>& mine,
+                                          std::vector<int>* counts_out = nullptr) {
   int size = 1;
   check_call(MPI_Comm_size(comm, &size));
   if (mine.size() > static_cast<std::size_t>(std::numeric_limits<int>::max()))
@@ -104,6 +106,7 @@ inline std::vector<char> all_gather_bytes(MPI_Comm comm, const std::vector<char>
   if (total > std::numeric_limits<int>::max()) throw invalid_data("columns over processes: too much to gather");
   std::vector<char> all(static_cast<std::size_t>(total));
   check_call(MPI_Allgatherv(mine.data(), count, MPI_CHAR, all.data(), counts.data(), offsets.data(), MPI_CHAR, comm));
+  if (counts_out != nullptr) *counts_out = std::move(counts);
   return all;
 }
 
@@ -166,10 +169,8 @@ void on_every_process(MPI_Comm comm, Step step) {
     mine.push_back(1);
     mine.insert(mine.end(), message.begin(), message.end());
   }
-  int rank = 0;
-  check_call(MPI_Comm_rank(comm, &rank));
-  const std::vector<int> sizes = all_gather_values(comm, std::vector<int>{static_cast<int>(mine.size())});
-  const std::vector<char> all = all_gather_bytes(comm, mine);
+  std::vector<int> sizes;
+  const std::vector<char> all = all_gather_bytes(comm, mine, &sizes);
   std::size_t at = 0;
   for (std::size_t r = 0; r < sizes.size(); ++r) {
     const auto length = static_cast<std::size_t>(sizes[r]);
@@ -415,6 +416,65 @@ class ColumnBlockDesign {
 template <class Scalar>
 using PreparedColumnBlock = PreparedProblem<ColumnBlockDesign<Scalar>>;
 
+namespace detail {
+
+/// Every process's exclusions, in process order, renumbered from each
+/// block's first predictor (`first`) to the whole design's. Collective.
+inline std::vector<ExcludedPredictor> gather_excluded(MPI_Comm comm, const std::vector<ExcludedPredictor>& mine,
+                                                      Index first) {
+  std::vector<char> bytes;
+  auto put = [&](const auto& value) {
+    const auto* at = reinterpret_cast<const char*>(&value);
+    bytes.insert(bytes.end(), at, at + sizeof value);
+  };
+  for (const ExcludedPredictor& e : mine) {
+    put(Index{e.predictor + first});
+    put(static_cast<Index>(e.reason.size()));
+    bytes.insert(bytes.end(), e.reason.begin(), e.reason.end());
+  }
+  const std::vector<char> all = all_gather_bytes(comm, bytes);
+  std::vector<ExcludedPredictor> out;
+  for (std::size_t at = 0; at < all.size();) {
+    Index j = 0, length = 0;
+    std::memcpy(&j, all.data() + at, sizeof j);
+    std::memcpy(&length, all.data() + at + sizeof j, sizeof length);
+    at += sizeof j + sizeof length;
+    out.push_back({j, std::string(all.data() + at, static_cast<std::size_t>(length))});
+    at += static_cast<std::size_t>(length);
+  }
+  return out;
+}
+
+/// The whole design's preparation record from every process's record of
+/// its block (`local`, whose block starts at predictor `first`): the
+/// blocks' columns, means, scales, weights, constraints and exclusions in
+/// process order, the largest centring amplification. The same on every
+/// process. Collective.
+template <class Scalar>
+Preparation<Scalar> whole_design_record(MPI_Comm comm, const Preparation<Scalar>& local, Index first,
+                                        Index predictors) {
+  Preparation<Scalar> prep = local;
+  prep.predictors = predictors;
+  auto gathered = [&](const Vector<Scalar>& mine) {
+    const std::vector<Scalar> all =
+        all_gather_values(comm, std::vector<Scalar>(mine.data(), mine.data() + mine.size()));
+    return Vector<Scalar>(Eigen::Map<const Vector<Scalar>>(all.data(), static_cast<Index>(all.size())));
+  };
+  prep.means = gathered(local.means);
+  prep.scales = gathered(local.scales);
+  std::vector<Index> columns = local.columns;
+  for (Index& j : columns) j += first;
+  prep.columns = all_gather_values(comm, columns);
+  prep.penalty_weights = all_gather_values(comm, local.penalty_weights);
+  prep.constraints = all_gather_values(comm, local.constraints);
+  prep.excluded = gather_excluded(comm, local.excluded, first);
+  check_call(MPI_Allreduce(&local.centring_amplification, &prep.centring_amplification, 1, MPI_DOUBLE, MPI_MAX,
+                           comm));
+  return prep;
+}
+
+}  // namespace detail
+
 /// Collective. Prepares this process's block of a dense design: `x` holds
 /// predictors [first_predictor, first_predictor + x.cols()) of `predictors`
 /// (the processes' blocks contiguous, in process order; column_block() cuts
@@ -457,44 +517,7 @@ PreparedColumnBlock<Scalar> prepare_column_block(MPI_Comm comm, const Eigen::Mat
     }
   });
 
-  // The whole design's record: the processes' columns in process order.
-  Preparation<Scalar> prep = local;
-  prep.predictors = predictors;
-  auto gathered = [&](const Vector<Scalar>& mine) {
-    std::vector<Scalar> values(mine.data(), mine.data() + mine.size());
-    std::vector<Scalar> all = detail::all_gather_values(comm, values);
-    return Vector<Scalar>(Eigen::Map<const Vector<Scalar>>(all.data(), static_cast<Index>(all.size())));
-  };
-  prep.means = gathered(local.means);
-  prep.scales = gathered(local.scales);
-  std::vector<Index> columns = local.columns;
-  for (Index& j : columns) j += first_predictor;
-  prep.columns = detail::all_gather_values(comm, columns);
-  prep.penalty_weights = detail::all_gather_values(comm, local.penalty_weights);
-  prep.constraints = detail::all_gather_values(comm, local.constraints);
-  std::vector<char> excluded;
-  for (const ExcludedPredictor& e : local.excluded) {
-    const Index j = e.predictor + first_predictor;
-    const auto length = static_cast<Index>(e.reason.size());
-    excluded.insert(excluded.end(), reinterpret_cast<const char*>(&j), reinterpret_cast<const char*>(&j) + sizeof j);
-    excluded.insert(excluded.end(), reinterpret_cast<const char*>(&length),
-                    reinterpret_cast<const char*>(&length) + sizeof length);
-    excluded.insert(excluded.end(), e.reason.begin(), e.reason.end());
-  }
-  const std::vector<char> all_excluded = detail::all_gather_bytes(comm, excluded);
-  prep.excluded.clear();
-  for (std::size_t at = 0; at < all_excluded.size();) {
-    Index j = 0, length = 0;
-    std::memcpy(&j, all_excluded.data() + at, sizeof j);
-    std::memcpy(&length, all_excluded.data() + at + sizeof j, sizeof length);
-    at += sizeof j + sizeof length;
-    prep.excluded.push_back({j, std::string(all_excluded.data() + at, static_cast<std::size_t>(length))});
-    at += static_cast<std::size_t>(length);
-  }
-  double amplification = local.centring_amplification;
-  detail::check_call(MPI_Allreduce(&local.centring_amplification, &amplification, 1, MPI_DOUBLE, MPI_MAX, comm));
-  prep.centring_amplification = amplification;
-
+  Preparation<Scalar> prep = detail::whole_design_record(comm, local, first_predictor, predictors);
   const std::vector<Index> kept = detail::all_gather_values(comm, std::vector<Index>{z.cols()});
   int rank = 0;
   detail::check_call(MPI_Comm_rank(comm, &rank));
