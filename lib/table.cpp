@@ -1049,6 +1049,41 @@ Table read_table(const std::string& path, const TableReadOptions& options) {
   return read_file(path, [&](std::istream& in, const std::string& source) { return read_table(in, source, options); });
 }
 
+namespace {
+
+// The header's names from a stream, through its packing as read_any()
+// reads it (the delimiter chosen, blank lines before the header skipped).
+std::vector<std::string> header_names(std::istream& in, const std::string& source, const TableReadOptions& options) {
+  CharSource chars(in);
+  const Packing packing = packing_of(chars);
+  if (packing == Packing::none) {
+    RecordReader reader(chars, source, choose_delimiter(chars, options, source));
+    reader.keep_at_most(options.max_columns);
+    std::vector<Field> fields;
+    return read_header(reader, fields, source, options).names;
+  }
+#ifdef KNOTPATH_HAVE_ZLIB
+  if (packing == Packing::gzip) {
+    GzipBuffer inflated(chars, source);
+    std::istream text(&inflated);
+    text.exceptions(std::ios::badbit);  // the buffer's errors reach the caller
+    return header_names(text, source, options);
+  }
+#endif
+  refuse_packing(packing, source);
+}
+
+}  // namespace
+
+std::vector<std::string> read_table_header(const std::string& path, const TableReadOptions& options) {
+  std::vector<std::string> names;
+  read_file(path, [&](std::istream& in, const std::string& source) {
+    names = header_names(in, source, options);
+    return Table();
+  });
+  return names;
+}
+
 Table read_table_blocks(std::istream& in, const std::string& source, const TableReadOptions& options,
                         std::size_t block_rows, const std::function<void(Table&)>& on_block) {
   check_block_options(options, block_rows);

@@ -945,6 +945,47 @@ TEST(TableCompressed, GzipIsReadDirectlyOrRefusedByName) {
 #endif
 }
 
+// read_table_header (issue 20, columns over processes): reference:
+// read_table() of the same file, whose names are the header's when every
+// column is numeric; the header rules (RFC 4180 quoting, a name spanning
+// lines, blank lines before a whitespace header, the byte order mark) are
+// those the reader's tests above check. The names come without reading the
+// rows: a file whose rows are broken still yields its header.
+TEST(TableHeader, TheHeaderIsReadAsReadTableReadsItWithoutTheRows) {
+  knotpath::io::TableReadOptions spaces;
+  spaces.delimiter = ' ';
+  const std::string blank_first = temp_file("header_blank_first.txt", " \t \n  a  y\n1 2\n3 4\n");
+  EXPECT_EQ(knotpath::io::read_table_header(blank_first, spaces), read_table(blank_first, spaces).names);
+  const std::string quoted = temp_file("header_quoted.csv", "\xEF\xBB\xBF\"first\nname\",\"b,c\",y\r\n1,2,3\r\n");
+  EXPECT_EQ(knotpath::io::read_table_header(quoted), (std::vector<std::string>{"first\nname", "b,c", "y"}));
+  EXPECT_EQ(knotpath::io::read_table_header(quoted), read_table(quoted).names);
+  const std::string semicolons = temp_file("header_semicolons.csv", "u;v;w\n1;2;3\n");
+  EXPECT_EQ(knotpath::io::read_table_header(semicolons), (std::vector<std::string>{"u", "v", "w"}));
+  // A text column is a header name like any other (read_table lists it apart).
+  const std::string broken_rows = temp_file("header_broken_rows.csv", "id,a,y\nr1,1\n");
+  EXPECT_EQ(knotpath::io::read_table_header(broken_rows), (std::vector<std::string>{"id", "a", "y"}));
+  EXPECT_THROW((void)read_table(broken_rows), table_error);
+  // The header's own faults are the reader's errors.
+  const auto header_error = [](const std::string& path, const TableReadOptions& options = {}) {
+    try {
+      (void)knotpath::io::read_table_header(path, options);
+    } catch (const table_error& e) {
+      return std::string(e.what());
+    }
+    return std::string("no error");
+  };
+  EXPECT_TRUE(contains(header_error(temp_file("header_twice.csv", "a,b,a\n1,2,3\n")), "duplicate column name"));
+  EXPECT_TRUE(contains(header_error(temp_file("header_empty.csv", "")), "no header row"));
+  TableReadOptions narrow;
+  narrow.max_columns = 2;
+  EXPECT_TRUE(contains(header_error(semicolons, narrow), "more than the limit of 2"));
+  EXPECT_TRUE(contains(header_error("/nonexistent/folder/table.csv"), "cannot open"));
+#ifdef KNOTPATH_HAVE_ZLIB
+  const std::string gz = temp_file("header_packed.csv.gz", gzip_bytes());
+  EXPECT_EQ(knotpath::io::read_table_header(gz), (std::vector<std::string>{"a", "y"}));
+#endif
+}
+
 TEST(TableIndicators, AListedColumnGetsOneColumnPerLevelButTheReference) {
   TableReadOptions options;
   options.indicators.columns = {"smoker", "region"};

@@ -307,6 +307,13 @@ inline Vector<double> Table::take_vector(Index j) {
 /// invalid_option when options.delimiter is not 0, ',', ';', a tab or ' ',
 /// or is ',' with a decimal comma.
 Table read_table(const std::string& path, const TableReadOptions& options = {});
+/// The column names of a table's header row, read without its data rows:
+/// the same names, delimiter rule and header checks (an empty or duplicate
+/// name, more than TableReadOptions::max_columns) as read_table(), which a
+/// front end uses to plan what to read before reading it (e.g. a block of
+/// the columns per process). A gzip file is read through its header only.
+/// Throws as read_table() (table_error, invalid_option).
+std::vector<std::string> read_table_header(const std::string& path, const TableReadOptions& options = {});
 /// Reads a table a block of rows at a time, for tables larger than memory:
 /// `on_block(block)` receives each run of `block_rows` kept rows (the last
 /// run may be shorter) as a Table of those rows alone (every column read,
