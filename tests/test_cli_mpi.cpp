@@ -3,7 +3,11 @@
 // table read by the processes of a job give the path of the program run
 // without MPI on the same shards, bit for bit; NIST StRD Longley spread over
 // processes reproduces its certified least-squares fit; a failure on any
-// process stops them all with one message. Skipped with a message when the
+// process stops them all with one message. With --column-blocks the
+// processes hold blocks of the predictors' columns instead (issue 20, point
+// 3): the same events as the table traced whole by one process, knots to
+// rounding; Longley's certified fit again, its predictors spread over three
+// processes. Skipped with a message when the
 // build has no MPI. CI runs as root, which Open MPI refuses unless
 // OMPI_ALLOW_RUN_AS_ROOT and OMPI_ALLOW_RUN_AS_ROOT_CONFIRM are set: the
 // runs below set them.
@@ -12,6 +16,7 @@
 
 #include <sys/wait.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <cstdlib>
@@ -31,6 +36,28 @@ namespace {
 
 using knotpath::testing::Outcome;
 using knotpath::testing::slurp;
+
+// `at ... --penalty 0 --csv`'s printout of NIST StRD Longley: the end of
+// the path is the least-squares fit, NIST's certified values (15 digits)
+// with at least 7 correct digits in double, as for the table read whole
+// (test_external_reference.cpp).
+void expect_certified_longley_fit(const std::string& printed, const std::filesystem::path& cert) {
+  const auto certified = knotpath::testing::read_reference_values(cert);
+  std::istringstream lines(printed);
+  std::string line;
+  std::getline(lines, line);  // "# point: ..."
+  std::getline(lines, line);  // predictor,coefficient
+  int checked = 0;
+  while (std::getline(lines, line)) {
+    const std::string name = line.substr(0, line.find(','));
+    const double value = std::stod(line.substr(line.find(',') + 1));
+    const std::string key = name == "(intercept)" ? "B0" : "B" + name.substr(1);
+    const double reference = certified.at(key);
+    EXPECT_LE(std::abs(value - reference), 1e-7 * std::abs(reference)) << name << " = " << value;
+    ++checked;
+  }
+  EXPECT_EQ(checked, 7) << printed;
+}
 
 class Mpi : public knotpath::testing::ProgramTest {
  protected:
@@ -137,23 +164,7 @@ TEST_F(Mpi, LongleySpreadOverProcessesReproducesTheCertifiedFit) {
   }
   const Outcome r = run_mpi(3, "at" + shards + " --response y --penalty 0 --csv");
   ASSERT_EQ(r.code, 0) << r.err;
-  // The end of the path is the least-squares fit: NIST's certified values
-  // (15 digits) with at least 7 correct digits in double, as for the table
-  // read whole (test_external_reference.cpp).
-  const auto certified = knotpath::testing::read_reference_values(cert);
-  std::istringstream lines(r.out);
-  std::getline(lines, line);  // "# point: ..."
-  std::getline(lines, line);  // predictor,coefficient
-  int checked = 0;
-  while (std::getline(lines, line)) {
-    const std::string name = line.substr(0, line.find(','));
-    const double value = std::stod(line.substr(line.find(',') + 1));
-    const std::string key = name == "(intercept)" ? "B0" : "B" + name.substr(1);
-    const double reference = certified.at(key);
-    EXPECT_LE(std::abs(value - reference), 1e-7 * std::abs(reference)) << name << " = " << value;
-    ++checked;
-  }
-  EXPECT_EQ(checked, 7) << r.out;
+  expect_certified_longley_fit(r.out, cert);
 }
 
 TEST_F(Mpi, AFailureOnAnyProcessStopsEveryProcessWithOneMessage) {
@@ -277,6 +288,191 @@ TEST_F(Mpi, SelectOverShardsStopsEveryProcessOnAnError) {
   for (std::size_t at = bad.err.find("knotpath: "); at != std::string::npos; at = bad.err.find("knotpath: ", at + 1))
     ++messages;
   EXPECT_EQ(messages, 1u) << bad.err;
+}
+
+// ---- Columns over processes (--column-blocks) ----
+
+// A wide invented table (fixed seed): a text identifier first, then 90
+// predictors with the response among them, a text column "tag" among the
+// predictors, a copy of g4 (held out as collinear) and weights last. Row
+// `bad_row` (0-based; -1: none) holds the text "oops" in g89.
+void write_wide_table(const std::filesystem::path& path, int bad_row = -1) {
+  knotpath::testing::Lcg lcg(11);
+  std::ofstream out(path);
+  out << "id";
+  for (int j = 0; j < 90; ++j) out << (j == 45 ? ",y" : "") << (j == 60 ? ",tag" : "") << ",g" << j;
+  out << ",g4copy,w\n";
+  for (int i = 0; i < 40; ++i) {
+    std::vector<double> x(90);
+    for (double& v : x) v = lcg.centred();
+    const double y = 2 * x[3] - 1.5 * x[70] + x[88] + 0.4 * lcg.centred();
+    out << "row" << i;
+    for (int j = 0; j < 90; ++j) {
+      if (j == 45) out << ',' << y;
+      if (j == 60) out << ",t" << i % 3;
+      if (i == bad_row && j == 89)
+        out << ",oops";
+      else
+        out << ',' << x[static_cast<std::size_t>(j)];
+    }
+    out << ',' << x[4] << ',' << 1 + i % 3 << '\n';
+  }
+}
+
+// The rows of a knot table (--knots): text fields and numbers apart.
+struct KnotRows {
+  std::vector<std::vector<std::string>> text;  // step, event, predictor, active
+  std::vector<std::vector<double>> numbers;    // every other field
+};
+
+KnotRows read_knot_rows(const std::string& csv) {
+  KnotRows rows;
+  std::istringstream lines(csv);
+  std::string line;
+  std::getline(lines, line);  // header
+  while (std::getline(lines, line)) {
+    std::vector<std::string> fields;
+    std::istringstream cells(line);
+    for (std::string cell; std::getline(cells, cell, ',');) fields.push_back(cell);
+    rows.text.push_back({fields.at(0), fields.at(3), fields.at(4), fields.at(5)});
+    std::vector<double> numbers;
+    for (std::size_t k = 1; k < fields.size(); ++k)
+      if (k < 3 || k > 5) numbers.push_back(std::stod(fields[k]));
+    rows.numbers.push_back(numbers);
+  }
+  return rows;
+}
+
+// The printout without the line that names the blocks.
+std::string without_block_note(const std::string& text) {
+  std::istringstream lines(text);
+  std::string out, line;
+  while (std::getline(lines, line))
+    if (line.find("(--column-blocks)") == std::string::npos) out += line + '\n';
+  return out;
+}
+
+// Reference: the program alone on the table read whole (no option). The
+// same events (kind, predictor, active count) and, to rounding, the same
+// knots, coefficients and fits on 1, 2 and 4 processes, with every
+// per-predictor option given by name (a penalty scale, an unpenalized
+// predictor, a sign constraint, a dropped column) spread over the blocks;
+// the columns left out (the identifier, the text column, the copy held out)
+// are reported as for the table read whole. The lasso's events on this
+// design include leaves (p > n: the path saturates).
+TEST_F(Mpi, ColumnBlocksGiveTheEventsAndKnotsOfTheTableReadWhole) {
+  write_wide_table(file("wide.csv"));
+  const std::string command =
+      "trace wide.csv --response y --weights w --penalty-scale g80=2 --unpenalized g12 --nonnegative g3 --drop g50 "
+      "--knots k.csv";
+  const Outcome alone = run(command);
+  ASSERT_EQ(alone.code, 0) << alone.err;
+  const KnotRows whole = read_knot_rows(slurp(file("k.csv")));
+  ASSERT_GT(whole.text.size(), 20u);
+  EXPECT_TRUE(std::any_of(whole.text.begin(), whole.text.end(), [](const auto& row) { return row[1] == "leave"; }));
+  const double scale = whole.numbers.front().front();  // lambda_max
+  for (int processes : {1, 2, 4}) {
+    SCOPED_TRACE(fmt::format("{} processes", processes));
+    std::filesystem::remove(file("k.csv"));
+    const Outcome r = run_mpi(processes, command + " --column-blocks");
+    ASSERT_EQ(r.code, 0) << r.err;
+    EXPECT_NE(r.out.find(fmt::format("read in {} block{}, one per process", processes, processes == 1 ? "" : "s")),
+              std::string::npos)
+        << r.out;
+    const KnotRows blocks = read_knot_rows(slurp(file("k.csv")));
+    ASSERT_EQ(blocks.text, whole.text);
+    for (std::size_t k = 0; k < whole.numbers.size(); ++k)
+      for (std::size_t c = 0; c < whole.numbers[k].size(); ++c)
+        EXPECT_NEAR(blocks.numbers[k][c], whole.numbers[k][c], 1e-9 * std::max(1.0, std::abs(whole.numbers[k][c])))
+            << "knot " << k << ", field " << c << " (lambda_max " << scale << ")";
+    // The audit's other lines (the columns left out, the stop) are the same.
+    const std::string printed = without_block_note(r.out);
+    for (const char* line : {"text columns skipped: id, tag", "stop: end"})
+      EXPECT_EQ(printed.find(line) == std::string::npos, alone.out.find(line) == std::string::npos) << line;
+    EXPECT_EQ(printed.substr(0, printed.find('\n')), alone.out.substr(0, alone.out.find('\n')));
+  }
+  // `at`, and --use naming a few predictors.
+  for (const std::string& ask : {std::string("at wide.csv --response y --relative-budget 0.5 --csv"),
+                                 std::string("at wide.csv --response y --use g3,g70,g88,g89,g2 --penalty 0 --csv")}) {
+    SCOPED_TRACE(ask);
+    const Outcome one = run(ask);
+    const Outcome two = run_mpi(2, ask + " --column-blocks");
+    ASSERT_EQ(one.code, 0) << one.err;
+    ASSERT_EQ(two.code, 0) << two.err;
+    std::istringstream a(one.out), b(two.out);
+    std::string line_a, line_b;
+    int compared = 0;
+    std::getline(a, line_a);  // "# point: ..."
+    std::getline(b, line_b);
+    while (std::getline(a, line_a) && std::getline(b, line_b)) {
+      const auto comma = line_a.find(',');
+      ASSERT_EQ(line_a.substr(0, comma), line_b.substr(0, line_b.find(',')));
+      if (compared++ == 0) continue;  // predictor,coefficient
+      const double x = std::stod(line_a.substr(comma + 1)), y = std::stod(line_b.substr(line_b.find(',') + 1));
+      EXPECT_NEAR(y, x, 1e-9 * std::max(1.0, std::abs(x))) << line_a;
+    }
+    EXPECT_GT(compared, 5);
+  }
+}
+
+TEST_F(Mpi, LongleyWithItsPredictorsOverThreeOrEightProcessesReproducesTheCertifiedFit) {
+  KNOTPATH_REQUIRE_REFERENCE(data, "strd/longley.csv");
+  KNOTPATH_REQUIRE_REFERENCE(cert, "strd/longley.certified");
+  // NIST StRD Longley: six predictors, two a process on three, and on eight
+  // processes one on six of them and none on two.
+  for (int processes : {3, 8}) {
+    SCOPED_TRACE(fmt::format("{} processes", processes));
+    const Outcome r = run_mpi(processes, "at '" + data.string() + "' --response y --penalty 0 --csv --column-blocks");
+    ASSERT_EQ(r.code, 0) << r.err;
+    expect_certified_longley_fit(r.out, cert);
+  }
+}
+
+// A bad cell in a column of the last process's block stops every process
+// with the message of the table read whole (file, line, column), once; an
+// unknown column, a constant response and what the layout cannot do are
+// refused alike on any process count.
+TEST_F(Mpi, ColumnBlocksStopEveryProcessWithTheMessageOfTheTableReadWhole) {
+  write_wide_table(file("wide.csv"));
+  write_wide_table(file("bad.csv"), 6);
+  const std::string bad = "trace bad.csv --response y --weights w";
+  const Outcome alone = run(bad);
+  ASSERT_EQ(alone.code, 3) << alone.err;
+  ASSERT_NE(alone.err.find("cell \"oops\""), std::string::npos) << alone.err;
+  for (int processes : {2, 4}) {
+    SCOPED_TRACE(fmt::format("{} processes", processes));
+    const Outcome r = run_mpi(processes, bad + " --column-blocks");
+    EXPECT_EQ(r.code, 3) << r.err;
+    EXPECT_NE(r.err.find(alone.err.substr(0, alone.err.find('\n'))), std::string::npos) << r.err;
+    std::size_t messages = 0;
+    for (std::size_t at = r.err.find("knotpath: "); at != std::string::npos; at = r.err.find("knotpath: ", at + 1))
+      ++messages;
+    EXPECT_EQ(messages, 1u) << r.err;
+  }
+  // Refusals that need no reading are made by every process alike before
+  // any collective step: one process shows them (the option works without
+  // mpirun too: one process holds the one block).
+  const auto refused = [&](const std::string& args, int code, const std::string& fragment, int processes = 0) {
+    SCOPED_TRACE(args);
+    const std::string command = args + " --column-blocks";
+    const Outcome r = processes == 0 ? run(command) : run_mpi(processes, command);
+    EXPECT_EQ(r.code, code) << r.err;
+    EXPECT_NE(r.err.find(fragment), std::string::npos) << r.err;
+  };
+  // The reader's own message, from rank 0, whose block does not hold the name.
+  refused("trace wide.csv --response y --use g1,nowhere", 3,
+          "wide.csv, line 1: unknown column \"nowhere\" (the header has: id, g0,", 2);
+  refused("trace wide.csv wide.csv --response y", 2, "cuts the columns of one table");
+  refused("trace wide.csv --response y --pieces 2", 2, "--pieces");
+  refused("trace wide.csv --response y --missing drop", 2, "--missing drop");
+  refused("trace wide.csv --response y --read blocks", 2, "--read blocks");
+  refused("trace wide.csv --response y --indicators tag", 2, "--indicators");
+  refused("trace wide.csv --response y --precision 50", 2, "--column-blocks traces in double precision");
+  {
+    std::ofstream out(file("flat.csv"));
+    out << "a,b,y\n1,2,5\n3,1,5\n2,2,5\n";
+  }
+  refused("trace flat.csv --response y", 3, "the response \"y\" is constant", 2);
 }
 
 }  // namespace

@@ -100,6 +100,7 @@ struct ModelArgs {
   std::string reading = "auto";      // --read: auto, whole or blocks (commands that stream)
   std::size_t block_rows = 4096;     // --block-rows: rows per block read
   std::size_t pieces = 0;            // --pieces: the one table cut into this many shards (0: not cut)
+  bool column_blocks = false;        // --column-blocks: the processes hold blocks of the predictors
 };
 
 /// The exit status and message of a run stopped by an exception.
@@ -128,6 +129,10 @@ void add_reading_options(CLI::App& command, ModelArgs& args);
 /// Adds --pieces (one table cut at line breaks into shards, trace_tables())
 /// to trace and at.
 void add_pieces_option(CLI::App& command, ModelArgs& args);
+
+/// Adds --column-blocks (the processes of an MPI job each read and hold a
+/// block of the predictors' columns, trace_tables()) to trace and at.
+void add_column_blocks_option(CLI::App& command, ModelArgs& args);
 
 /// The items of a list option's values (--use, --drop, --na, --indicators,
 /// --nonnegative, --nonpositive, --penalty-scale, --unpenalized, ...), the one home of the
@@ -238,7 +243,11 @@ TracedTable trace_table(const std::string& table, const ModelArgs& args, const G
 /// ModelArgs::pieces pieces at line breaks, io::table_piece), each read in blocks into its
 /// statistics by the process that owns it (shards.hpp), the statistics
 /// merged in the shard tree and traced on rank 0: the same path for any
-/// number of processes. Processes other than rank 0 end with quiet_exit.
+/// number of processes. With ModelArgs::column_blocks, one table whose
+/// predictors' columns are cut into one block per process, each read and
+/// held by its process, the path traced by all of them together (the same
+/// events for any number of processes, knots to rounding). Processes other
+/// than rank 0 end with quiet_exit.
 TracedTable trace_tables(const std::vector<std::string>& tables, const ModelArgs& args, const Global& global);
 
 class Progress;

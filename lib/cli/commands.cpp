@@ -104,6 +104,9 @@ void refuse_blocks_with_precision(const ModelArgs& model) {
   if (model.pieces != 0)
     throw failure(exit_usage, "--pieces reads the pieces in blocks, in double precision: with --precision the "
                               "table is read whole");
+  if (model.column_blocks)
+    throw failure(exit_usage, "--column-blocks traces in double precision: with --precision one process reads "
+                              "the table whole");
 }
 
 }  // namespace
@@ -120,6 +123,7 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
   add_model_options(*command, args->model);
   add_reading_options(*command, args->model);
   add_pieces_option(*command, args->model);
+  add_column_blocks_option(*command, args->model);
   add_precision_options(*command, args->precision);
   command->add_option("--knots", args->knots_file, "Write the knot table (CSV) to this file")
       ->group("Output");
@@ -136,7 +140,8 @@ CLI::App* add_trace_command(CLI::App& app, Global& global) {
   command->footer(
       "Example:\n"
       "  knotpath trace patients.csv --response progression --knots knots.csv --json path.json\n"
-      "  knotpath trace patients.csv --response progression --save model.kpath\n");
+      "  knotpath trace patients.csv --response progression --save model.kpath\n"
+      "  mpirun -n 4 knotpath trace expression.csv --response outcome --column-blocks --json path.json\n");
   command->callback([args, &global] {
     if (args->precision.precision != "double" || args->precision.digits != 0) {
       refuse_blocks_with_precision(args->model);
@@ -181,6 +186,7 @@ CLI::App* add_at_command(CLI::App& app, Global& global) {
   add_model_options(*command, args->model);
   add_reading_options(*command, args->model);
   add_pieces_option(*command, args->model);
+  add_column_blocks_option(*command, args->model);
   command->get_option("--response")->required(false);  // required with TABLE (checked below)
   add_precision_options(*command, args->precision);
   add_point_options(*command, args->point);

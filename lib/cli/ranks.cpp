@@ -11,10 +11,12 @@
 #include <nlohmann/json.hpp>
 
 #include <knotpath/shards.hpp>
+#include <knotpath/trace.hpp>
 
 #include "cli.hpp"
 
 #ifdef KNOTPATH_HAVE_MPI
+#include <knotpath/mpi_columns.hpp>
 #include <knotpath/mpi_statistics.hpp>
 
 #include "chunked_transfer.hpp"
@@ -92,6 +94,16 @@ std::vector<long long> Ranks::broadcast(std::vector<long long> values) const {
   return values;
 }
 
+std::string Ranks::broadcast_text(std::string text) const {
+  if (size_ == 1) return text;
+  const std::vector<long long> length = broadcast({static_cast<long long>(text.size())});
+  text.resize(static_cast<std::size_t>(length.at(0)));
+#ifdef KNOTPATH_HAVE_MPI
+  check(broadcast_in_chunks(text.data(), text.size(), MPI_CHAR, MPI_COMM_WORLD), "broadcast");
+#endif
+  return text;
+}
+
 std::string Ranks::scatter(const std::string& bytes, const std::vector<std::size_t>& sizes) const {
   if (rank_ == 0) {
     if (sizes.size() != static_cast<std::size_t>(size_))
@@ -124,6 +136,17 @@ std::optional<SufficientStatistics<double>> Ranks::reduce(
   }
   if (all.size() != shards) throw failure(exit_internal, "internal error: a shard is missing");
   return merge_shard_tree(std::move(all));
+}
+
+Path<double> Ranks::trace_columns(const Matrix<double>& block, Index first, Index predictors,
+                                  const Vector<double>& y, const TraceOptions& options,
+                                  const Vector<double>& weights) const {
+#ifdef KNOTPATH_HAVE_MPI
+  if (joined_) return mpi::trace_column_block<double>(MPI_COMM_WORLD, block, first, predictors, y, options, weights);
+#endif
+  if (first != 0 || block.cols() != predictors)
+    throw failure(exit_internal, "internal error: one process holds a block of the predictors");
+  return trace<double>(block, y, options, weights);
 }
 
 void Ranks::require_one_process(const std::string& command) const {

@@ -22,6 +22,7 @@
 
 #include <nlohmann/json_fwd.hpp>
 
+#include <knotpath/path.hpp>
 #include <knotpath/statistics.hpp>
 
 namespace knotpath::cli {
@@ -51,6 +52,8 @@ class Ranks {
   std::vector<std::string> gather(const std::string& text) const;
   /// Rank 0's values on every process.
   std::vector<long long> broadcast(std::vector<long long> values) const;
+  /// Rank 0's text on every process (`text` is read on rank 0 only).
+  std::string broadcast_text(std::string text) const;
   /// Rank 0's `bytes` handed out in rank order: the first `sizes[0]` bytes
   /// stay on rank 0, the next `sizes[1]` go to rank 1, and so on; returns
   /// this process's share. `bytes` and `sizes` (one size a process, summing
@@ -62,6 +65,16 @@ class Ranks {
   std::optional<SufficientStatistics<double>> reduce(
       std::vector<std::pair<std::size_t, SufficientStatistics<double>>> mine, std::size_t shards,
       Index predictors) const;
+
+  /// The path of a dense design whose predictors are spread over the
+  /// processes (--column-blocks): this process holds `block`, predictors
+  /// [first, first + block.cols()) of `predictors`, and every process the
+  /// whole `y`, `weights` and `options`. In an MPI job (of any size) the
+  /// processes trace it together (mpi::trace_column_block); a process that
+  /// is not part of one holds every predictor and traces them itself.
+  /// Collective; the same Path on every process.
+  Path<double> trace_columns(const Matrix<double>& block, Index first, Index predictors, const Vector<double>& y,
+                             const TraceOptions& options, const Vector<double>& weights) const;
 
   /// Refuses, on a run of several processes, a command that runs in one
   /// (only trace, at and select read shards).

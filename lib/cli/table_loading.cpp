@@ -11,6 +11,7 @@
 #include <optional>
 #include <string>
 #include <type_traits>
+#include <unordered_set>
 #include <utility>
 #include <vector>
 
@@ -709,6 +710,229 @@ TracedTable trace_shards(const std::vector<ShardSource>& sources, const ReadPlan
           [&] { return detail::trace_rows_statistics(*statistics, static_cast<Index>(rows), loaded.options); }));
 }
 
+// ---- Columns over processes (--column-blocks) ----
+//
+// One table whose candidate predictors (the header's columns the roles may
+// use) are cut into contiguous blocks, one per process, by the shard cut of
+// shards.hpp (shard_owner: process r holds candidates [ceil(r C / R),
+// ceil((r + 1) C / R))). Every process reads the header, then the file with
+// only its block, the response and the weights (TableReadOptions::only);
+// rank 0 gathers what each found (its numeric predictors, its text columns)
+// and decides for all (gather_shard_steps, decide_for_all: the first
+// failure in process order stops every process with its message); the
+// predictors' names reach every process, which builds the same trace
+// options by name; the processes trace together (Ranks::trace_columns) and
+// rank 0 writes. The predictors are those of reading the table whole, in
+// the same order (rank 0 checks it).
+
+// The header's candidate predictors, in header order: every column but the
+// response, the weights and the dropped ones; with --use, only the listed
+// and referenced ones (the rule of io::assign_columns, which then keeps
+// the numeric ones).
+std::vector<std::string> candidate_columns(const std::vector<std::string>& header, const io::ColumnRoles& roles) {
+  std::unordered_set<std::string> chosen(roles.use.begin(), roles.use.end());
+  chosen.insert(roles.referenced.begin(), roles.referenced.end());
+  const std::unordered_set<std::string> dropped(roles.drop.begin(), roles.drop.end());
+  std::vector<std::string> out;
+  for (const auto& name : header) {
+    if (name == roles.response || name == roles.weights || dropped.count(name) != 0) continue;
+    if (!roles.use.empty() && chosen.count(name) == 0) continue;
+    out.push_back(name);
+  }
+  return out;
+}
+
+// How a process reads its block: the reader's options and the roles
+// within the block. The reader skips every column of the header outside
+// the block but the response and the weights (TableReadOptions::skip: a
+// text column of the block is then found as reading the whole table finds
+// it, which TableReadOptions::only, asking for numbers, would refuse); the
+// block's listed columns are required numeric. Names the roles need that
+// the header lacks are kept by rank 0, whose reader then names them as
+// reading the whole table would ("unknown column").
+struct BlockPlan {
+  io::TableReadOptions read;
+  io::ColumnRoles roles;
+};
+
+BlockPlan block_plan(const ReadPlan& plan, const std::vector<std::string>& header,
+                     const std::vector<std::string>& block, int rank) {
+  const io::ColumnRoles& roles = plan.roles;
+  const std::unordered_set<std::string> mine(block.begin(), block.end()), known(header.begin(), header.end());
+  const auto keep = [&](const std::vector<std::string>& names, std::vector<std::string>& into) {
+    for (const auto& name : names)
+      if (mine.count(name) != 0 || name == roles.response || name == roles.weights ||
+          (rank == 0 && known.count(name) == 0))
+        into.push_back(name);
+  };
+  BlockPlan out;
+  out.roles.response = roles.response;
+  out.roles.weights = roles.weights;
+  out.roles.drop = roles.drop;
+  keep(roles.use, out.roles.use);
+  keep(roles.referenced, out.roles.referenced);
+  out.read = plan.read;
+  out.read.required.clear();
+  out.read.only.clear();
+  keep(plan.read.required, out.read.required);
+  keep(plan.read.only, out.read.only);
+  for (const auto& name : header)
+    if (mine.count(name) == 0 && name != roles.response && name != roles.weights) out.read.skip.push_back(name);
+  return out;
+}
+
+// The predictors of a block read (io::assign_columns), or none when the
+// block holds no numeric column besides the response and the weights (a
+// block of text columns, or more processes than candidates).
+io::ColumnAssignment block_columns(const io::Table& table, const io::ColumnRoles& roles) {
+  const bool any = std::any_of(table.names.begin(), table.names.end(), [&](const std::string& name) {
+    return name != roles.response && name != roles.weights;
+  });
+  if (any) return assigned_columns(table, roles);
+  io::ColumnAssignment none;
+  none.response = table.find(roles.response);
+  if (!roles.weights.empty()) none.weights = table.find(roles.weights);
+  return none;
+}
+
+// This process's share of the table: its block read and split, and what
+// rank 0 needs of it.
+struct ColumnBlock {
+  LoadedTable loaded;
+  TableData<double> data;
+  nlohmann::json record;
+};
+
+ColumnBlock read_column_block(const std::string& path, const ReadPlan& plan, const Ranks& ranks,
+                              const Global& global) {
+  ColumnBlock out;
+  const std::vector<std::string> header = io::read_table_header(path, plan.read);
+  const std::vector<std::string> candidates = candidate_columns(header, plan.roles);
+  std::vector<std::string> block;
+  for (std::size_t c = 0; c < candidates.size(); ++c)
+    if (shard_owner(c, candidates.size(), ranks.size()) == ranks.rank()) block.push_back(candidates[c]);
+  const BlockPlan reading = block_plan(plan, header, block, ranks.rank());
+  LoadedTable& loaded = out.loaded;
+  loaded.table = io::read_table(path, start_reading(loaded, path, reading.read, global));
+  io::Table& table = loaded.table;
+  loaded.columns = block_columns(table, reading.roles);
+  out.record = {{"header", ranks.rank() == 0 ? header : std::vector<std::string>()},
+                {"predictors", loaded.columns.names},
+                {"read", table.names},
+                {"text_columns", table.text_columns},
+                {"decimal_comma_columns", table.decimal_comma_columns},
+                {"rows", table.rows}};
+  out.data = table_data<double>(table, loaded.columns, loaded.shown_name);
+  return out;
+}
+
+// Rank 0's table of the blocks' records (names, counts; no values), as
+// reading it whole would describe it: the columns read, text and skipped
+// in header order.
+io::Table table_of_blocks(const std::vector<nlohmann::json>& records, const std::string& source) {
+  std::unordered_set<std::string> read, text, comma;
+  const auto rows = records.front()["rows"].get<std::size_t>();
+  for (const auto& record : records) {
+    for (const auto& name : record["read"]) read.insert(name.get<std::string>());
+    for (const auto& name : record["text_columns"]) text.insert(name.get<std::string>());
+    for (const auto& name : record["decimal_comma_columns"]) comma.insert(name.get<std::string>());
+    if (record["rows"].get<std::size_t>() != rows)
+      throw failure(exit_internal, "internal error: the processes read different rows of one table");
+  }
+  io::Table table;
+  table.source = source;
+  table.rows = rows;
+  for (const auto& item : records.front()["header"]) {
+    const std::string name = item.get<std::string>();
+    if (read.count(name) != 0)
+      table.names.push_back(name);
+    else if (text.count(name) != 0)
+      table.text_columns.push_back(name);
+    else
+      table.skipped_columns.push_back(name);
+    if (comma.count(name) != 0) table.decimal_comma_columns.push_back(name);
+  }
+  return table;
+}
+
+// What --column-blocks cannot do (exit 2, with the reason), refused by every
+// process alike before any reading.
+void refuse_what_column_blocks_cannot_do(const std::vector<std::string>& tables, const ModelArgs& args) {
+  const auto refuse = [](const std::string& why) { throw failure(exit_usage, "--column-blocks " + why); };
+  if (tables.size() != 1) refuse("cuts the columns of one table (several tables are the shards of one by rows)");
+  if (args.pieces != 0) refuse("cuts the table by columns and --pieces by rows: give one of them");
+  if (tables.front() == "-") refuse("needs a file every process can read: standard input (-) cannot be");
+  if (args.indicators_all || !args.indicators.empty())
+    refuse("cannot expand --indicators (the levels of a text column would be known only to its block)");
+  if (args.missing == "drop")
+    refuse("needs every process to keep the same rows: --missing drop would drop a row only in the block "
+           "whose cell is missing");
+  if (args.reading == "blocks")
+    refuse("reads each block of columns over all rows: --read blocks reads blocks of rows");
+}
+
+// Rank 0's decision once every block was read: the whole table's
+// description and trace options (the predictors must be those of reading
+// the table whole, in the same order), the refusal of a response with
+// nothing to trace; returns the predictors per process.
+std::vector<long long> decide_column_blocks(const std::vector<nlohmann::json>& records, const ReadPlan& plan,
+                                            const TableData<double>& own, LoadedTable& whole) {
+  whole.table = table_of_blocks(records, whole.shown_name);
+  describe_columns(whole, plan.roles);
+  std::vector<std::string> names;
+  std::vector<long long> counts;
+  for (const auto& record : records) {
+    for (const auto& name : record["predictors"]) names.push_back(name.get<std::string>());
+    counts.push_back(static_cast<long long>(record["predictors"].size()));
+  }
+  if (names != whole.context.predictor_names)
+    throw failure(exit_internal, "internal error: the blocks' predictors are not the table's");
+  whole.options = trace_options(plan.args, plan.scales, names);
+  ResponseSpread spread;
+  spread.add(own.y, own.w);
+  refuse_nothing_to_trace(spread, whole.options, whole.shown_name, plan.args.response);
+  return counts;
+}
+
+// trace_tables() with --column-blocks (see above).
+TracedTable trace_column_blocks(const std::vector<std::string>& tables, const ReadPlan& plan, const Global& global) {
+  refuse_what_column_blocks_cannot_do(tables, plan.args);
+  const Ranks& ranks = Ranks::world();
+  const std::string& path = tables.front();
+  std::optional<ColumnBlock> mine;
+  const std::vector<nlohmann::json> records =
+      gather_shard_steps(ranks, static_cast<std::size_t>(ranks.size()), [&](std::size_t) {
+        mine.emplace(read_column_block(path, plan, ranks, global));
+        return mine->record;
+      });
+  ColumnBlock& block = *mine;
+  LoadedTable& loaded = block.loaded;
+  io::RowLines lines = std::move(loaded.table.row_lines);  // the same rows on every process
+  const std::vector<long long> counts =
+      decide_for_all(ranks, records, [&] { return decide_column_blocks(records, plan, block.data, loaded); });
+  // Every process builds the trace options from the predictors' names.
+  std::string names_text = ranks.rank() == 0 ? nlohmann::json(loaded.context.predictor_names).dump() : "";
+  const auto names = nlohmann::json::parse(ranks.broadcast_text(std::move(names_text))).get<std::vector<std::string>>();
+  loaded.context.predictor_names = names;
+  loaded.options = trace_options(plan.args, plan.scales, names);
+  loaded.table.row_lines = std::move(lines);
+  Index first = 0;
+  for (int r = 0; r < ranks.rank(); ++r) first += static_cast<Index>(counts.at(static_cast<std::size_t>(r)));
+  const auto p = static_cast<Index>(names.size());
+  if (ranks.rank() == 0)
+    loaded.context.table_notes.push_back(fmt::format(
+        "the predictors' columns were read in {} block{}, one per process (--column-blocks)", ranks.size(),
+        ranks.size() == 1 ? "" : "s"));
+  const TableData<double>& d = block.data;
+  Path<double> path_traced = trace_with_messages(
+      loaded,
+      fmt::format("tracing the path over {} block{} of columns ({} rows, {} predictors)", ranks.size(),
+                  ranks.size() == 1 ? "" : "s", d.y.size(), p),
+      [&] { return ranks.trace_columns(d.x, first, p, d.y, loaded.options, d.w); });
+  if (ranks.rank() != 0) throw quiet_exit{0};
+  return finish_trace(loaded, std::move(path_traced));
+}
+
 }  // namespace
 
 void add_reading_options(CLI::App& command, std::string& reading, std::size_t& block_rows, const std::string& blocks,
@@ -867,6 +1091,15 @@ template TracedTwice<float50> trace_twice<float50>(const std::string&, const Mod
 template TracedTwice<mpfr_float> trace_twice<mpfr_float>(const std::string&, const ModelArgs&, const Global&);
 #endif
 
+void add_column_blocks_option(CLI::App& command, ModelArgs& args) {
+  command
+      .add_flag("--column-blocks", args.column_blocks,
+                "Under mpirun, cut the predictors' columns into one block per process: each process reads and "
+                "holds its block (over all rows) and the processes trace the path together, for tables with far "
+                "more columns than rows (the same events for any number of processes, knots to rounding)")
+      ->group("Table");
+}
+
 void add_pieces_option(CLI::App& command, ModelArgs& args) {
   command
       .add_option("--pieces", args.pieces,
@@ -877,6 +1110,7 @@ void add_pieces_option(CLI::App& command, ModelArgs& args) {
 }
 
 TracedTable trace_tables(const std::vector<std::string>& tables, const ModelArgs& args, const Global& global) {
+  if (args.column_blocks) return trace_column_blocks(tables, plan_reading(args, false), global);
   if (args.pieces == 0 && tables.size() == 1) {
     if (Ranks::world().rank() != 0) throw quiet_exit{0};  // one table: rank 0 reads it
     return trace_table(tables.front(), args, global);
