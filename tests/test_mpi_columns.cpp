@@ -222,8 +222,10 @@ TEST(MpiColumns, TheTraceExchangesAtMostOneColumnAndAStepPerKnot) {
   }
 }
 
-// A bad value in one process's block stops every process with one error:
-// the process holding it says what it found, the others name that process.
+// A bad value in one process's block stops every process with one error,
+// the same on every process: the place in the whole design's terms (row
+// and predictor column), which a front end names in its own (a file's line
+// and a column's name).
 TEST(MpiColumns, ABadValueInOneBlockStopsEveryProcess) {
   const World world;
   kt::Problem prob = kt::ar1_problem(12, 9, 0.2, 17, 3);
@@ -234,11 +236,22 @@ TEST(MpiColumns, ABadValueInOneBlockStopsEveryProcess) {
   } catch (const kp::invalid_data& e) {
     const std::string message = e.what();
     // The place in the whole design's terms: row 4, predictor column 8.
-    EXPECT_NE(message.find("row 4, column 8: "), std::string::npos) << message;
-    if (world.rank == world.size - 1)
-      EXPECT_EQ(message.find("process "), std::string::npos) << message;
-    else
-      EXPECT_NE(message.find("process " + std::to_string(world.size - 1) + ": "), std::string::npos) << message;
+    EXPECT_EQ(message.rfind("knotpath: row 4, column 8: ", 0), 0u) << message;
+    EXPECT_EQ(e.row(), std::optional<std::size_t>(4));
+    EXPECT_EQ(e.column(), std::optional<std::size_t>(8));
+    EXPECT_EQ(message.find("process "), std::string::npos) << message;
+  }
+  // A whole column's problem (values whose squares overflow) is named as
+  // that predictor's on every process.
+  prob = kt::ar1_problem(12, 9, 0.2, 17, 3);
+  prob.x(2, 7) = 1e308;
+  try {
+    (void)trace_over_processes(prob.x, prob.y, kp::TraceOptions{});
+    ADD_FAILURE() << "no error on process " << world.rank;
+  } catch (const kp::invalid_data& e) {
+    EXPECT_TRUE(e.whole_column()) << e.what();
+    EXPECT_EQ(e.column(), std::optional<std::size_t>(7)) << e.what();
+    EXPECT_EQ(std::string(e.what()).rfind("knotpath: predictor column 7", 0), 0u) << e.what();
   }
 }
 

@@ -47,9 +47,11 @@
 #include <mpi.h>
 
 #include <algorithm>
+#include <cstdint>
 #include <cstring>
 #include <exception>
 #include <limits>
+#include <optional>
 #include <span>
 #include <stdexcept>
 #include <string>
@@ -150,24 +152,68 @@ inline void check_tiling(const std::vector<long long>& layout, Index columns) {
                        std::to_string(columns));
 }
 
+/// A failure of one process as the others receive it: an invalid_data
+/// that names a place (a row, a predictor column of the whole design) is
+/// sent with that place, so that every process throws the same error,
+/// which a front end can name in its own terms; any other failure as its
+/// message.
+struct ProcessFailure {
+  std::uint8_t has_row = 0;       ///< 1 when the error names a row
+  std::uint8_t has_column = 0;    ///< 1 when it names a predictor column
+  std::uint8_t whole_column = 0;  ///< 1 for a problem of the whole column (invalid_data::of_predictor)
+  std::uint64_t row = 0;          ///< the row, when named
+  std::uint64_t column = 0;       ///< the predictor column of the whole design, when named
+
+  /// A failing process's message to the others: a flag byte, the place,
+  /// then the text (the detail of a placed invalid_data, else what()
+  /// without its "knotpath: " prefix).
+  static std::vector<char> encode(const std::exception& e) {
+    ProcessFailure head;
+    std::string text = e.what();
+    if (text.rfind("knotpath: ", 0) == 0) text.erase(0, 10);
+    const auto* data = dynamic_cast<const invalid_data*>(&e);
+    if (data != nullptr && (data->row() || (data->whole_column() && data->column()))) {
+      head.has_row = data->row().has_value();
+      head.has_column = data->column().has_value();
+      head.whole_column = data->whole_column();
+      head.row = data->row().value_or(0);
+      head.column = data->column().value_or(0);
+      text = data->detail();
+    }
+    std::vector<char> out(1 + sizeof head + text.size());  // a flag, the place, the text
+    out[0] = 1;
+    std::memcpy(out.data() + 1, &head, sizeof head);
+    if (!text.empty()) std::memcpy(out.data() + 1 + sizeof head, text.data(), text.size());
+    return out;
+  }
+
+  /// Throws, on a process that did not fail, the failure `process` sent
+  /// (`length` bytes of encode()).
+  [[noreturn]] static void rethrow(const char* bytes, std::size_t length, std::size_t process) {
+    ProcessFailure head;
+    std::memcpy(&head, bytes + 1, sizeof head);
+    const std::string text(bytes + 1 + sizeof head, length - 1 - sizeof head);
+    const auto column = head.has_column ? std::optional<std::size_t>(head.column) : std::nullopt;
+    if (head.whole_column) throw invalid_data::of_predictor(static_cast<std::size_t>(head.column), text);
+    if (head.has_row) throw invalid_data::at_row(static_cast<std::size_t>(head.row), text, column);
+    throw invalid_data("process " + std::to_string(process) + ": " + text);
+  }
+};
+
 /// Runs `step` on every process; when it throws on any, it throws on every
-/// process: the failing process rethrows its own exception, the others an
-/// invalid_data naming the first failing process and its message. Collective.
+/// process: the failing process rethrows its own exception, the others the
+/// first failing process's failure (ProcessFailure: the same invalid_data
+/// when it names a row or a predictor column, else an invalid_data naming
+/// the process and its message). Collective.
 template <class Step>
 void on_every_process(MPI_Comm comm, Step step) {
   std::exception_ptr failure;
-  std::string message;
+  std::vector<char> mine;
   try {
     step();
   } catch (const std::exception& e) {
     failure = std::current_exception();
-    message = e.what();
-    if (message.rfind("knotpath: ", 0) == 0) message.erase(0, 10);
-  }
-  std::vector<char> mine;
-  if (failure) {
-    mine.push_back(1);
-    mine.insert(mine.end(), message.begin(), message.end());
+    mine = ProcessFailure::encode(e);
   }
   std::vector<int> sizes;
   const std::vector<char> all = all_gather_bytes(comm, mine, &sizes);
@@ -176,7 +222,7 @@ void on_every_process(MPI_Comm comm, Step step) {
     const auto length = static_cast<std::size_t>(sizes[r]);
     if (length > 0) {
       if (failure) std::rethrow_exception(failure);
-      throw invalid_data("process " + std::to_string(r) + ": " + std::string(all.data() + at + 1, length - 1));
+      ProcessFailure::rethrow(all.data() + at, length, r);
     }
     at += length;
   }
