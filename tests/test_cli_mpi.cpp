@@ -295,8 +295,8 @@ TEST_F(Mpi, SelectOverShardsStopsEveryProcessOnAnError) {
 // A wide invented table (fixed seed): a text identifier first, then 90
 // predictors with the response among them, a text column "tag" among the
 // predictors, a copy of g4 (held out as collinear) and weights last. Row
-// `bad_row` (0-based; -1: none) holds the text "oops" in g89.
-void write_wide_table(const std::filesystem::path& path, int bad_row = -1) {
+// `bad_row` (0-based; -1: none) holds `bad_cell` in g89.
+void write_wide_table(const std::filesystem::path& path, int bad_row = -1, const char* bad_cell = "oops") {
   knotpath::testing::Lcg lcg(11);
   std::ofstream out(path);
   out << "id";
@@ -311,7 +311,7 @@ void write_wide_table(const std::filesystem::path& path, int bad_row = -1) {
       if (j == 45) out << ',' << y;
       if (j == 60) out << ",t" << i % 3;
       if (i == bad_row && j == 89)
-        out << ",oops";
+        out << ',' << bad_cell;
       else
         out << ',' << x[static_cast<std::size_t>(j)];
     }
@@ -439,19 +439,26 @@ TEST_F(Mpi, LongleyWithItsPredictorsOverThreeOrEightProcessesReproducesTheCertif
 TEST_F(Mpi, ColumnBlocksStopEveryProcessWithTheMessageOfTheTableReadWhole) {
   write_wide_table(file("wide.csv"));
   write_wide_table(file("bad.csv"), 6);
-  const std::string bad = "trace bad.csv --response y --weights w";
-  const Outcome alone = run(bad);
-  ASSERT_EQ(alone.code, 3) << alone.err;
-  ASSERT_NE(alone.err.find("cell \"oops\""), std::string::npos) << alone.err;
-  for (int processes : {2, 4}) {
-    SCOPED_TRACE(fmt::format("{} processes", processes));
-    const Outcome r = run_mpi(processes, bad + " --column-blocks");
-    EXPECT_EQ(r.code, 3) << r.err;
-    EXPECT_NE(r.err.find(alone.err.substr(0, alone.err.find('\n'))), std::string::npos) << r.err;
-    std::size_t messages = 0;
-    for (std::size_t at = r.err.find("knotpath: "); at != std::string::npos; at = r.err.find("knotpath: ", at + 1))
-      ++messages;
-    EXPECT_EQ(messages, 1u) << r.err;
+  // A value whose square overflows is found by the library's preparation on
+  // the process holding it; every process stops with the same error, named
+  // by rank 0 as the predictor of the whole table.
+  write_wide_table(file("huge.csv"), 6, "1e308");
+  for (const auto& [table, fragment] : {std::pair<std::string, std::string>{"bad.csv", "cell \"oops\""},
+                                        std::pair<std::string, std::string>{"huge.csv", "predictor \"g89\""}}) {
+    const std::string bad = "trace " + table + " --response y --weights w";
+    const Outcome alone = run(bad);
+    ASSERT_EQ(alone.code, 3) << alone.err;
+    ASSERT_NE(alone.err.find(fragment), std::string::npos) << alone.err;
+    for (int processes : {2, 4}) {
+      SCOPED_TRACE(fmt::format("{}, {} processes", table, processes));
+      const Outcome r = run_mpi(processes, bad + " --column-blocks");
+      EXPECT_EQ(r.code, 3) << r.err;
+      EXPECT_NE(r.err.find(alone.err.substr(0, alone.err.find('\n'))), std::string::npos) << r.err;
+      std::size_t messages = 0;
+      for (std::size_t at = r.err.find("knotpath: "); at != std::string::npos; at = r.err.find("knotpath: ", at + 1))
+        ++messages;
+      EXPECT_EQ(messages, 1u) << r.err;
+    }
   }
   // Refusals that need no reading are made by every process alike before
   // any collective step: one process shows them (the option works without

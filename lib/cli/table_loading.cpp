@@ -877,7 +877,9 @@ void refuse_what_column_blocks_cannot_do(const std::vector<std::string>& tables,
 // nothing to trace; returns the predictors per process.
 std::vector<long long> decide_column_blocks(const std::vector<nlohmann::json>& records, const ReadPlan& plan,
                                             const TableData<double>& own, LoadedTable& whole) {
+  io::RowLines lines = std::move(whole.table.row_lines);  // the same rows on every process
   whole.table = table_of_blocks(records, whole.shown_name);
+  whole.table.row_lines = std::move(lines);  // data_message names rows by their lines
   describe_columns(whole, plan.roles);
   std::vector<std::string> names;
   std::vector<long long> counts;
@@ -905,17 +907,17 @@ TracedTable trace_column_blocks(const std::vector<std::string>& tables, const Re
         mine.emplace(read_column_block(path, plan, ranks, global));
         return mine->record;
       });
+  // decide_for_all stops every process when a block failed (its process
+  // holds no block), so the block is read on every process past it.
+  const std::vector<long long> counts =
+      decide_for_all(ranks, records, [&] { return decide_column_blocks(records, plan, mine->data, mine->loaded); });
   ColumnBlock& block = *mine;
   LoadedTable& loaded = block.loaded;
-  io::RowLines lines = std::move(loaded.table.row_lines);  // the same rows on every process
-  const std::vector<long long> counts =
-      decide_for_all(ranks, records, [&] { return decide_column_blocks(records, plan, block.data, loaded); });
   // Every process builds the trace options from the predictors' names.
   std::string names_text = ranks.rank() == 0 ? nlohmann::json(loaded.context.predictor_names).dump() : "";
   const auto names = nlohmann::json::parse(ranks.broadcast_text(std::move(names_text))).get<std::vector<std::string>>();
   loaded.context.predictor_names = names;
   loaded.options = trace_options(plan.args, plan.scales, names);
-  loaded.table.row_lines = std::move(lines);
   Index first = 0;
   for (int r = 0; r < ranks.rank(); ++r) first += static_cast<Index>(counts.at(static_cast<std::size_t>(r)));
   const auto p = static_cast<Index>(names.size());
